@@ -1,0 +1,174 @@
+/**
+ * The report contract of `tidemark scan --format json` ("tidemark.report/1"), as one zod schema.
+ * CLI, server (ingest validation) and portal read the types inferred here; the shipped JSON Schema
+ * (shared/schema/report.schema.json) is generated from it. Change it only through an issue.
+ * Quiet values (−Infinity dB) are written as null, hence the nullable dB fields.
+ */
+import { z } from "zod";
+
+export const REPORT_SCHEMA_ID = "tidemark.report/1" as const;
+
+export const VERDICTS = ["pass", "warn", "fail", "error"] as const;
+export const SEVERITIES = ["info", "warn", "fail"] as const;
+
+/** Stable, kebab-case finding codes (messages are free text). */
+export const FINDING_CODES = [
+  "clipping",
+  "near-clip",
+  "true-peak-over",
+  "dc-offset",
+  "lead-silence",
+  "tail-silence",
+  "silent-gap",
+  "dead-channel",
+  "dropout",
+  "stuck-samples",
+  "band-limited",
+  "upsampled",
+  "hum",
+  "polarity-inverted",
+  "dual-mono",
+  "channel-imbalance",
+  "padded-bit-depth",
+  "loudness-off-target",
+  "format-mismatch",
+  "fixity-changed",
+  "unreadable",
+  "truncated",
+  "non-finite-samples",
+  "possible-duplicate",
+] as const;
+
+const db = z.number().nullable();
+
+export const findingSchema = z.object({
+  code: z.enum(FINDING_CODES),
+  severity: z.enum(SEVERITIES),
+  /** 0-based channel index, or null when the finding concerns the whole file. */
+  channel: z.number().int().min(0).nullable(),
+  startSeconds: z.number().min(0).nullable(),
+  endSeconds: z.number().min(0).nullable(),
+  message: z.string().max(2000),
+});
+
+export const audioFormatSchema = z.object({
+  container: z.enum(["wav", "bwf", "rf64"]),
+  encoding: z.enum(["pcm", "float"]),
+  sampleRateHz: z.number().int().positive(),
+  bitDepth: z.number().int().positive(),
+  channels: z.number().int().positive(),
+  durationSeconds: z.number().min(0),
+});
+
+/** BWF `bext` chunk fields (EBU Tech 3285). */
+export const bextSchema = z.object({
+  description: z.string(),
+  originator: z.string(),
+  originatorReference: z.string(),
+  originationDate: z.string(),
+  originationTime: z.string(),
+  timeReference: z.number(),
+  version: z.number().int(),
+  umid: z.string().nullable(),
+  codingHistory: z.string(),
+});
+
+export const fileMetadataSchema = z.object({
+  bext: bextSchema.optional(),
+  /** RIFF INFO list entries (e.g. INAM, ICMT). */
+  info: z.record(z.string(), z.string()).optional(),
+  /** iXML text, bounded in size. */
+  ixml: z.string().optional(),
+});
+
+export const bandLevelSchema = z.object({ centerHz: z.number().positive(), db });
+
+export const bandEnergiesSchema = z.object({
+  octave: z.array(bandLevelSchema),
+  third: z.array(bandLevelSchema),
+});
+
+export const channelMetricsSchema = z.object({
+  samplePeakDbfs: db,
+  truePeakDbtp: db,
+  rmsDbfs: db,
+  dcOffsetPercent: z.number().min(0),
+  clippedSamples: z.number().int().min(0),
+});
+
+export const fileMetricsSchema = z.object({
+  samplePeakDbfs: db,
+  truePeakDbtp: db,
+  /** Max over channels. */
+  rmsDbfs: db,
+  integratedLufs: db,
+  loudnessRangeLu: z.number().min(0).nullable(),
+  maxMomentaryLufs: db,
+  maxShortTermLufs: db,
+  clippedSamples: z.number().int().min(0),
+  clipEvents: z.number().int().min(0),
+  /** Largest |DC| over channels, as % of full scale. */
+  dcOffsetPercent: z.number().min(0),
+  bandwidthHz: z.number().min(0).nullable(),
+  dominantFrequencyHz: z.number().min(0).nullable(),
+  noiseFloorDbfs: db,
+  /** Null for mono. */
+  stereoCorrelation: z.number().min(-1).max(1).nullable(),
+  /** Null for float files. */
+  effectiveBitDepth: z.number().int().min(0).nullable(),
+  bands: bandEnergiesSchema,
+  channels: z.array(channelMetricsSchema),
+});
+
+export const reportErrorSchema = z.object({ code: z.string(), message: z.string() });
+
+export const fileReportSchema = z.object({
+  /** As given, relative to the scanned root, with forward slashes. */
+  path: z.string().min(1).max(4096),
+  sizeBytes: z.number().int().min(0),
+  sha256: z.string().regex(/^[0-9a-f]{64}$/).nullable(),
+  format: audioFormatSchema.nullable(),
+  metadata: fileMetadataSchema,
+  metrics: fileMetricsSchema.nullable(),
+  findings: z.array(findingSchema),
+  verdict: z.enum(VERDICTS),
+  error: reportErrorSchema.nullable(),
+  /** Path of the spectrogram PNG as written by --spectrograms, or null. */
+  spectrogram: z.string().nullable(),
+});
+
+export const reportSummarySchema = z.object({
+  files: z.number().int().min(0),
+  pass: z.number().int().min(0),
+  warn: z.number().int().min(0),
+  fail: z.number().int().min(0),
+  error: z.number().int().min(0),
+});
+
+export const scanReportSchema = z.object({
+  schema: z.literal(REPORT_SCHEMA_ID),
+  tool: z.object({ name: z.string(), version: z.string() }),
+  profile: z.object({ name: z.string(), hash: z.string().optional() }),
+  startedAt: z.iso.datetime(),
+  finishedAt: z.iso.datetime(),
+  summary: reportSummarySchema,
+  files: z.array(fileReportSchema),
+});
+
+export type Verdict = (typeof VERDICTS)[number];
+export type Severity = (typeof SEVERITIES)[number];
+export type FindingCode = (typeof FINDING_CODES)[number];
+export type Finding = z.infer<typeof findingSchema>;
+export type AudioFormat = z.infer<typeof audioFormatSchema>;
+export type Container = AudioFormat["container"];
+export type Encoding = AudioFormat["encoding"];
+export type BextMetadata = z.infer<typeof bextSchema>;
+export type FileMetadata = z.infer<typeof fileMetadataSchema>;
+export type BandLevel = z.infer<typeof bandLevelSchema>;
+export type BandEnergies = z.infer<typeof bandEnergiesSchema>;
+export type ChannelMetrics = z.infer<typeof channelMetricsSchema>;
+export type FileMetrics = z.infer<typeof fileMetricsSchema>;
+export type ReportError = z.infer<typeof reportErrorSchema>;
+export type FileReport = z.infer<typeof fileReportSchema>;
+export type ReportSummary = z.infer<typeof reportSummarySchema>;
+export type ScanReport = z.infer<typeof scanReportSchema>;
