@@ -1,0 +1,39 @@
+/** The BWF broadcast extension chunk `bext`, laid out per EBU Tech 3285 (v2), section 2.3. */
+import type { BextMetadata } from "../types/report.ts";
+import { decodeTextField, readUint16, readUint32 } from "./bytes.ts";
+
+/** Fixed part before CodingHistory: 256+32+32+10+8+8+2+64+10+180 bytes (EBU Tech 3285, 2.3). */
+export const BEXT_FIXED_BYTES = 602;
+/** Through the Version field; anything shorter is not a usable bext chunk. */
+const BEXT_MIN_BYTES = 348;
+
+/** Hex of the UMID (SMPTE 330M): 32 bytes for a basic UMID, 64 for extended, null when unset. */
+function umidHex(bytes: Uint8Array): string | null {
+  let used = 0;
+  for (let i = 0; i < bytes.length; i++) if (bytes[i] !== 0) used = i + 1;
+  if (used === 0) return null;
+  const length = used <= 32 ? 32 : 64;
+  let out = "";
+  for (let i = 0; i < length; i++) out += bytes[i].toString(16).padStart(2, "0");
+  return out;
+}
+
+/** Parses a bext body (possibly cut at the reader's bound); null when too short to hold the fixed fields. */
+export function parseBextChunk(body: Uint8Array): BextMetadata | null {
+  if (body.length < BEXT_MIN_BYTES) return null;
+  const version = readUint16(body, 346);
+  // TimeReference: sample count since midnight, low then high 32 bits (EBU Tech 3285, 2.3).
+  const timeReference = readUint32(body, 338) + readUint32(body, 342) * 0x100000000;
+  return {
+    description: decodeTextField(body.subarray(0, 256)),
+    originator: decodeTextField(body.subarray(256, 288)),
+    originatorReference: decodeTextField(body.subarray(288, 320)),
+    originationDate: decodeTextField(body.subarray(320, 330)),
+    originationTime: decodeTextField(body.subarray(330, 338)),
+    timeReference,
+    version,
+    // The UMID field exists from version 1 on; version 0 writers left it reserved.
+    umid: version >= 1 && body.length >= 412 ? umidHex(body.subarray(348, 412)) : null,
+    codingHistory: body.length > BEXT_FIXED_BYTES ? decodeTextField(body.subarray(BEXT_FIXED_BYTES)) : "",
+  };
+}

@@ -1,0 +1,50 @@
+/**
+ * Findings about the file itself rather than its audio: a data chunk shorter than claimed, and float
+ * samples that were NaN/±Inf. The reader reports the facts; callers add these to the file's findings.
+ */
+import type { Finding } from "../types/report.ts";
+import type { WavLayout } from "./wavLayout.ts";
+
+export interface NonFiniteCount {
+  nonFiniteSamples: number;
+  firstNonFiniteFrame: number | null;
+  lastNonFiniteFrame: number | null;
+}
+
+const seconds = (frames: number, rateHz: number): number => frames / rateHz;
+
+export function readerFindings(
+  layout: Pick<WavLayout, "isTruncated" | "claimedDataBytes" | "dataBytes" | "totalFrames" | "sampleRateHz" | "blockAlign">,
+  decoded: NonFiniteCount,
+): Finding[] {
+  const findings: Finding[] = [];
+  if (layout.isTruncated) {
+    const claimedFrames = Math.floor(layout.claimedDataBytes / layout.blockAlign);
+    const presentSeconds = seconds(layout.totalFrames, layout.sampleRateHz);
+    findings.push({
+      code: "truncated",
+      severity: "fail",
+      channel: null,
+      startSeconds: presentSeconds,
+      endSeconds: seconds(claimedFrames, layout.sampleRateHz),
+      message:
+        `data chunk claims ${layout.claimedDataBytes} bytes but the file holds ${layout.dataBytes}: ` +
+        `${presentSeconds.toFixed(3)} s of ${seconds(claimedFrames, layout.sampleRateHz).toFixed(3)} s present, measured on what is there`,
+    });
+  }
+  if (decoded.nonFiniteSamples > 0) {
+    const first = decoded.firstNonFiniteFrame ?? 0;
+    const last = decoded.lastNonFiniteFrame ?? first;
+    findings.push({
+      code: "non-finite-samples",
+      severity: "fail",
+      channel: null,
+      startSeconds: seconds(first, layout.sampleRateHz),
+      endSeconds: seconds(last + 1, layout.sampleRateHz),
+      message:
+        `${decoded.nonFiniteSamples} float sample(s) were NaN, ±Infinity or beyond float range, replaced by 0 ` +
+        `(first at ${seconds(first, layout.sampleRateHz).toFixed(3)} s, last at ${seconds(last, layout.sampleRateHz).toFixed(3)} s)`,
+    });
+  }
+  return findings;
+}

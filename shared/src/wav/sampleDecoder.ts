@@ -1,0 +1,245 @@
+/**
+ * Interleaved little-endian sample bytes → planar Float32 at full scale ±1.0: integers divided by
+ * 2^(bits−1) of the container (WAVE_FORMAT_EXTENSIBLE left-justifies valid bits, so that is exact),
+ * 8-bit unsigned re-centred on 128. Float NaN/±Inf (and float64 values beyond float32 range) become 0
+ * and are counted. Hot loops index typed arrays directly; aligned 16/32-bit and float data are read
+ * through typed-array views of the caller's bytes, 24-bit by byte assembly.
+ */
+import type { Encoding } from "../types/report.ts";
+
+export interface SampleFormat {
+  encoding: Encoding;
+  /** Container bits per sample. */
+  bitDepth: number;
+  channels: number;
+}
+
+export interface SampleDecoder {
+  /**
+   * Decodes `frames` whole frames from `bytes[byteOffset…]` into `out[c][outOffset…]`.
+   * `firstFrame` is the file frame index of the first one (used to locate non-finite samples).
+   */
+  decode(bytes: Uint8Array, byteOffset: number, frames: number, out: Float32Array[], outOffset: number, firstFrame: number): void;
+  /** NaN/±Inf samples replaced by 0 so far. */
+  readonly nonFiniteSamples: number;
+  /** File frame index of the first and last replaced sample, or null. */
+  readonly firstNonFiniteFrame: number | null;
+  readonly lastNonFiniteFrame: number | null;
+}
+
+const IS_LITTLE_ENDIAN = new Uint8Array(new Uint16Array([1]).buffer)[0] === 1;
+
+export function createSampleDecoder(format: SampleFormat): SampleDecoder {
+  const { encoding, bitDepth, channels } = format;
+  const supported = encoding === "float" ? bitDepth === 32 || bitDepth === 64 : [8, 16, 24, 32].includes(bitDepth);
+  if (!supported || !Number.isInteger(channels) || channels < 1) {
+    throw new Error(`cannot decode ${channels} channel(s) of ${bitDepth}-bit ${encoding}; expected PCM 8/16/24/32 or float 32/64`);
+  }
+  return new InterleavedDecoder(encoding, bitDepth, channels);
+}
+
+class InterleavedDecoder implements SampleDecoder {
+  nonFiniteSamples = 0;
+  firstNonFiniteFrame: number | null = null;
+  lastNonFiniteFrame: number | null = null;
+  private readonly bytesPerSample: number;
+  private readonly blockAlign: number;
+  /** Aligned copy for float data that sits at an odd address in the caller's buffer. */
+  private scratch = new Uint8Array(0);
+
+  constructor(
+    private readonly encoding: Encoding,
+    private readonly bitDepth: number,
+    private readonly channels: number,
+  ) {
+    this.bytesPerSample = bitDepth / 8;
+    this.blockAlign = this.bytesPerSample * channels;
+  }
+
+  decode(bytes: Uint8Array, byteOffset: number, frames: number, out: Float32Array[], outOffset: number, firstFrame: number): void {
+    if (frames <= 0) return;
+    const byteLength = frames * this.blockAlign;
+    if (byteOffset < 0 || byteOffset + byteLength > bytes.length) {
+      throw new Error(`decode needs ${byteLength} bytes at ${byteOffset}; the buffer holds ${bytes.length}`);
+    }
+    if (this.encoding === "float") {
+      this.decodeFloat(bytes, byteOffset, frames, out, outOffset, firstFrame);
+      return;
+    }
+    const address = bytes.byteOffset + byteOffset;
+    switch (this.bitDepth) {
+      case 8:
+        decodeUint8(bytes, byteOffset, frames, this.channels, out, outOffset);
+        return;
+      case 16:
+        if (IS_LITTLE_ENDIAN && (address & 1) === 0) {
+          decodeInt16View(new Int16Array(bytes.buffer, address, frames * this.channels), frames, this.channels, out, outOffset);
+        } else decodeInt16Bytes(bytes, byteOffset, frames, this.channels, out, outOffset);
+        return;
+      case 24:
+        decodeInt24Bytes(bytes, byteOffset, frames, this.channels, out, outOffset);
+        return;
+      default:
+        if (IS_LITTLE_ENDIAN && (address & 3) === 0) {
+          decodeInt32View(new Int32Array(bytes.buffer, address, frames * this.channels), frames, this.channels, out, outOffset);
+        } else decodeInt32Bytes(bytes, byteOffset, frames, this.channels, out, outOffset);
+    }
+  }
+
+  private decodeFloat(bytes: Uint8Array, byteOffset: number, frames: number, out: Float32Array[], outOffset: number, firstFrame: number): void {
+    const byteLength = frames * this.blockAlign;
+    const align = this.bytesPerSample;
+    let source = bytes;
+    let offset = byteOffset;
+    if (!IS_LITTLE_ENDIAN) {
+      source = this.scratchCopy(bytes, byteOffset, byteLength);
+      swapBytes(source, byteLength, align);
+      offset = 0;
+    } else if ((bytes.byteOffset + byteOffset) % align !== 0) {
+      source = this.scratchCopy(bytes, byteOffset, byteLength);
+      offset = 0;
+    }
+    const count = frames * this.channels;
+    const address = source.byteOffset + offset;
+    const replaced =
+      align === 4
+        ? decodeFloatView(new Float32Array(source.buffer, address, count), frames, this.channels, out, outOffset)
+        : decodeFloatView(new Float64Array(source.buffer, address, count), frames, this.channels, out, outOffset);
+    if (replaced > 0) this.recordNonFinite(out, outOffset, frames, firstFrame, replaced);
+  }
+
+  /** Rare path: finds where the replaced samples were (they were written as NaN markers, then zeroed). */
+  private recordNonFinite(out: Float32Array[], outOffset: number, frames: number, firstFrame: number, replaced: number): void {
+    this.nonFiniteSamples += replaced;
+    for (let i = 0; i < frames; i++) {
+      let hit = false;
+      for (let c = 0; c < this.channels; c++) {
+        const x = out[c][outOffset + i];
+        if (x - x !== 0) {
+          out[c][outOffset + i] = 0;
+          hit = true;
+        }
+      }
+      if (hit) {
+        if (this.firstNonFiniteFrame === null) this.firstNonFiniteFrame = firstFrame + i;
+        this.lastNonFiniteFrame = firstFrame + i;
+      }
+    }
+  }
+
+  private scratchCopy(bytes: Uint8Array, byteOffset: number, byteLength: number): Uint8Array {
+    if (this.scratch.length < byteLength) this.scratch = new Uint8Array(byteLength);
+    this.scratch.set(bytes.subarray(byteOffset, byteOffset + byteLength));
+    return this.scratch;
+  }
+}
+
+const SCALE_8 = 1 / 128;
+const SCALE_16 = 1 / 32768;
+const SCALE_24 = 1 / 8388608;
+const SCALE_32 = 1 / 2147483648;
+
+function decodeUint8(b: Uint8Array, at: number, frames: number, channels: number, out: Float32Array[], o: number): void {
+  for (let c = 0; c < channels; c++) {
+    const dst = out[c];
+    let j = at + c;
+    for (let i = 0; i < frames; i++, j += channels) dst[o + i] = (b[j] - 128) * SCALE_8;
+  }
+}
+
+function decodeInt16View(v: Int16Array, frames: number, channels: number, out: Float32Array[], o: number): void {
+  if (channels === 1) {
+    const dst = out[0];
+    for (let i = 0; i < frames; i++) dst[o + i] = v[i] * SCALE_16;
+    return;
+  }
+  if (channels === 2) {
+    const l = out[0];
+    const r = out[1];
+    for (let i = 0, k = 0; i < frames; i++, k += 2) {
+      l[o + i] = v[k] * SCALE_16;
+      r[o + i] = v[k + 1] * SCALE_16;
+    }
+    return;
+  }
+  for (let c = 0; c < channels; c++) {
+    const dst = out[c];
+    for (let i = 0, k = c; i < frames; i++, k += channels) dst[o + i] = v[k] * SCALE_16;
+  }
+}
+
+function decodeInt16Bytes(b: Uint8Array, at: number, frames: number, channels: number, out: Float32Array[], o: number): void {
+  const stride = 2 * channels;
+  for (let c = 0; c < channels; c++) {
+    const dst = out[c];
+    let j = at + 2 * c;
+    for (let i = 0; i < frames; i++, j += stride) dst[o + i] = (((b[j] | (b[j + 1] << 8)) << 16) >> 16) * SCALE_16;
+  }
+}
+
+function decodeInt24Bytes(b: Uint8Array, at: number, frames: number, channels: number, out: Float32Array[], o: number): void {
+  const stride = 3 * channels;
+  if (channels === 2) {
+    const l = out[0];
+    const r = out[1];
+    let j = at;
+    for (let i = 0; i < frames; i++, j += 6) {
+      l[o + i] = (((b[j] | (b[j + 1] << 8) | (b[j + 2] << 16)) << 8) >> 8) * SCALE_24;
+      r[o + i] = (((b[j + 3] | (b[j + 4] << 8) | (b[j + 5] << 16)) << 8) >> 8) * SCALE_24;
+    }
+    return;
+  }
+  for (let c = 0; c < channels; c++) {
+    const dst = out[c];
+    let j = at + 3 * c;
+    for (let i = 0; i < frames; i++, j += stride) {
+      dst[o + i] = (((b[j] | (b[j + 1] << 8) | (b[j + 2] << 16)) << 8) >> 8) * SCALE_24;
+    }
+  }
+}
+
+function decodeInt32View(v: Int32Array, frames: number, channels: number, out: Float32Array[], o: number): void {
+  for (let c = 0; c < channels; c++) {
+    const dst = out[c];
+    for (let i = 0, k = c; i < frames; i++, k += channels) dst[o + i] = v[k] * SCALE_32;
+  }
+}
+
+function decodeInt32Bytes(b: Uint8Array, at: number, frames: number, channels: number, out: Float32Array[], o: number): void {
+  const stride = 4 * channels;
+  for (let c = 0; c < channels; c++) {
+    const dst = out[c];
+    let j = at + 4 * c;
+    for (let i = 0; i < frames; i++, j += stride) {
+      dst[o + i] = (b[j] | (b[j + 1] << 8) | (b[j + 2] << 16) | (b[j + 3] << 24)) * SCALE_32;
+    }
+  }
+}
+
+/** Copies float samples; returns how many were non-finite (left as NaN for the caller to locate and zero). */
+function decodeFloatView(v: Float32Array | Float64Array, frames: number, channels: number, out: Float32Array[], o: number): number {
+  let bad = 0;
+  for (let c = 0; c < channels; c++) {
+    const dst = out[c];
+    for (let i = 0, k = c; i < frames; i++, k += channels) {
+      dst[o + i] = v[k];
+      const y = dst[o + i];
+      // y − y is 0 for every finite value and NaN for NaN/±Inf (also catches float64 overflowing float32).
+      if (y - y !== 0) {
+        dst[o + i] = NaN;
+        bad++;
+      }
+    }
+  }
+  return bad;
+}
+
+function swapBytes(b: Uint8Array, length: number, width: number): void {
+  for (let i = 0; i < length; i += width) {
+    for (let lo = i, hi = i + width - 1; lo < hi; lo++, hi--) {
+      const t = b[lo];
+      b[lo] = b[hi];
+      b[hi] = t;
+    }
+  }
+}

@@ -1,0 +1,257 @@
+/**
+ * Walks the RIFF / RF64 chunk list of a WAV, BWF or RF64 file through positioned reads and returns where the
+ * audio is and how it is encoded. Never reads the data chunk, never trusts a size before checking it
+ * against the file size, and turns every malformed header into a WavFormatError with a stable code.
+ */
+import type { Container, Encoding, FileMetadata } from "../types/report.ts";
+import type { ByteSource } from "./byteSource.ts";
+import { createHeaderReader } from "./byteSource.ts";
+import { parseBextChunk, BEXT_FIXED_BYTES } from "./bextChunk.ts";
+import { describeFourCC, decodeUtf8OrLatin1, isPrintableFourCC, readFourCC, readUint32 } from "./bytes.ts";
+import { parseDs64Chunk, type Ds64Chunk } from "./ds64Chunk.ts";
+import { WavFormatError } from "./errors.ts";
+import { parseFmtChunk, type FmtChunk } from "./fmtChunk.ts";
+import { parseListInfoChunk } from "./listInfoChunk.ts";
+
+export interface WavChunkInfo {
+  id: string;
+  /** Offset of the chunk header in the file. */
+  offset: number;
+  /** Body size as claimed (64-bit from ds64 where the 32-bit field is 0xFFFFFFFF). */
+  sizeBytes: number;
+}
+
+export interface WavLayout {
+  container: Container;
+  encoding: Encoding;
+  /** The fmt tag as written: 0x0001 PCM, 0x0003 float, 0xFFFE extensible. */
+  formatTag: number;
+  sampleRateHz: number;
+  /** Container bits per sample (8, 16, 24, 32, 64). */
+  bitDepth: number;
+  /** Significant bits per sample (from WAVE_FORMAT_EXTENSIBLE; else equals bitDepth). */
+  validBits: number;
+  channels: number;
+  /** Bytes per frame (all channels). */
+  blockAlign: number;
+  /** File offset of the first sample byte. */
+  dataOffset: number;
+  /** Bytes of the data chunk present in the file (claimed size clamped to the file). */
+  dataBytes: number;
+  /** Data chunk size the header claims. */
+  claimedDataBytes: number;
+  /** Whole frames present: floor(dataBytes / blockAlign). */
+  totalFrames: number;
+  /** The data chunk is shorter in the file than its header claims. */
+  isTruncated: boolean;
+  /** dwChannelMask of WAVE_FORMAT_EXTENSIBLE, else null. */
+  channelMask: number | null;
+  fileSizeBytes: number;
+  metadata: FileMetadata;
+  /** The chunks walked, in file order (bounded by MAX_CHUNKS). */
+  chunks: WavChunkInfo[];
+}
+
+/** The first read covers typical headers (fmt, bext with coding history, LIST, iXML) in one I/O. */
+const HEAD_READ_BYTES = 64 * 1024;
+/** A file with more chunks than this is damaged or hostile; the walk stops there. */
+export const MAX_CHUNKS = 4096;
+/** Bounds on metadata kept in memory and in reports. */
+export const MAX_IXML_BYTES = 64 * 1024;
+export const MAX_LIST_BYTES = 64 * 1024;
+export const MAX_CODING_HISTORY_BYTES = 64 * 1024;
+/** Only the fields Tidemark reads; the rest of a large fmt (extra codec data) is skipped. */
+const FMT_READ_BYTES = 40;
+/** RF64 (EBU Tech 3306) marks sizes kept in ds64 with 0xFFFFFFFF. */
+const SIZE_IN_DS64 = 0xffffffff;
+
+interface WalkState {
+  fmt: FmtChunk | null;
+  ds64: Ds64Chunk | null;
+  data: { offset: number; claimedBytes: number } | null;
+  hasBext: boolean;
+  metadata: FileMetadata;
+  info: Record<string, string>;
+  chunks: WavChunkInfo[];
+}
+
+/** Reads the header of a WAV/BWF/RF64 file. Throws WavFormatError (never a RangeError) on malformed input. */
+export async function readWavLayout(source: ByteSource): Promise<WavLayout> {
+  const fileSize = source.sizeBytes;
+  if (!Number.isSafeInteger(fileSize) || fileSize < 0) {
+    throw new WavFormatError("bad-chunk", `file size ${fileSize} is not a byte count`);
+  }
+  if (fileSize === 0) throw new WavFormatError("empty-file", "file is empty (0 bytes)");
+  const reader = await createHeaderReader(source, HEAD_READ_BYTES);
+  const riff = await reader.readAt(0, 12);
+  const isRf64 = startsWith(riff, "RF64") || startsWith(riff, "BW64");
+  if (riff.length < 4 || !(startsWith(riff, "RIFF") || isRf64)) {
+    if (startsWith(riff, "RIFX")) {
+      throw new WavFormatError("unsupported-container", 'big-endian "RIFX" files are not supported; "RIFF" expected');
+    }
+    if (riff.length < 4 && (isPrefixOf(riff, "RIFF") || isPrefixOf(riff, "RF64"))) {
+      throw new WavFormatError("truncated", `file ends after ${fileSize} bytes, inside the RIFF header`);
+    }
+    throw new WavFormatError("not-riff", `not a RIFF file: starts with ${describeStart(riff)}; "RIFF" or "RF64" expected`);
+  }
+  if (riff.length < 12) {
+    throw new WavFormatError("truncated", `file ends after ${fileSize} bytes, inside the RIFF header`);
+  }
+  if (readFourCC(riff, 8) !== "WAVE") {
+    throw new WavFormatError("not-wave", `RIFF form type is ${describeFourCC(riff, 8)}; "WAVE" expected`);
+  }
+
+  const state: WalkState = {
+    fmt: null,
+    ds64: null,
+    data: null,
+    hasBext: false,
+    metadata: {},
+    info: {},
+    chunks: [],
+  };
+  await walkChunks(reader, fileSize, isRf64, state);
+
+  if (!state.fmt) {
+    throw new WavFormatError("no-fmt-chunk", `no "fmt " chunk among ${state.chunks.length} chunks`);
+  }
+  if (!state.data) {
+    throw new WavFormatError("no-data-chunk", `no "data" chunk among ${state.chunks.length} chunks`);
+  }
+  if (Object.keys(state.info).length > 0) state.metadata.info = state.info;
+  const fmt = state.fmt;
+  const available = fileSize - state.data.offset;
+  const dataBytes = Math.min(state.data.claimedBytes, available);
+  return {
+    container: isRf64 ? "rf64" : state.hasBext ? "bwf" : "wav",
+    encoding: fmt.encoding,
+    formatTag: fmt.formatTag,
+    sampleRateHz: fmt.sampleRateHz,
+    bitDepth: fmt.bitDepth,
+    validBits: fmt.validBits,
+    channels: fmt.channels,
+    blockAlign: fmt.blockAlign,
+    dataOffset: state.data.offset,
+    dataBytes,
+    claimedDataBytes: state.data.claimedBytes,
+    totalFrames: Math.floor(dataBytes / fmt.blockAlign),
+    isTruncated: state.data.claimedBytes > available,
+    channelMask: fmt.channelMask,
+    fileSizeBytes: fileSize,
+    metadata: state.metadata,
+    chunks: state.chunks,
+  };
+}
+
+async function walkChunks(reader: ByteSource, fileSize: number, isRf64: boolean, state: WalkState): Promise<void> {
+  let at = 12;
+  while (at + 8 <= fileSize && state.chunks.length < MAX_CHUNKS) {
+    const header = await reader.readAt(at, 8);
+    if (!isPrintableFourCC(header, 0)) {
+      // Past the audio, trailing garbage is common (tools append padding); before it, the header is broken.
+      if (state.data && state.fmt) return;
+      throw new WavFormatError("bad-chunk", `unreadable chunk id ${describeFourCC(header, 0)} at byte ${at}`);
+    }
+    const id = readFourCC(header, 0);
+    const sizeField = readUint32(header, 4);
+    const bodyOffset = at + 8;
+    if (isRf64 && state.chunks.length === 0 && id !== "ds64") {
+      throw new WavFormatError("bad-ds64", `RF64 file's first chunk is "${id}"; "ds64" expected (EBU Tech 3306)`);
+    }
+    const size = isRf64 && sizeField === SIZE_IN_DS64 ? sizeFromDs64(id, state.ds64) : sizeField;
+    state.chunks.push({ id, offset: at, sizeBytes: size });
+    const remaining = fileSize - bodyOffset;
+
+    if (id === "data") {
+      if (!state.data) state.data = { offset: bodyOffset, claimedBytes: size };
+      // A truncated data chunk is measured on what is there; nothing can follow it.
+      if (size > remaining) return;
+    } else if (size > remaining) {
+      if (id === "fmt " && !state.fmt) {
+        throw new WavFormatError("bad-fmt-chunk", `fmt chunk claims ${size} bytes; only ${remaining} remain in the file`);
+      }
+      if (id === "ds64") {
+        throw new WavFormatError("bad-ds64", `ds64 chunk claims ${size} bytes; only ${remaining} remain in the file`);
+      }
+      if (state.data && state.fmt) return;
+      throw new WavFormatError(
+        "truncated",
+        `file ends inside the "${id}" chunk at byte ${at} (claims ${size} bytes, ${remaining} remain)`,
+      );
+    } else {
+      await readChunkBody(reader, id, bodyOffset, size, state);
+    }
+    at = await nextChunkOffset(reader, fileSize, bodyOffset, size);
+  }
+}
+
+function sizeFromDs64(id: string, ds64: Ds64Chunk | null): number {
+  if (!ds64) throw new WavFormatError("bad-ds64", `"${id}" defers its size to a ds64 chunk the file lacks`);
+  if (id === "data") return ds64.dataSizeBytes;
+  const size = ds64.chunkSizes.get(id);
+  if (size === undefined) throw new WavFormatError("bad-ds64", `"${id}" defers its size to ds64, whose table has no entry for it`);
+  return size;
+}
+
+async function readChunkBody(reader: ByteSource, id: string, offset: number, size: number, state: WalkState): Promise<void> {
+  switch (id) {
+    case "ds64":
+      if (!state.ds64) state.ds64 = parseDs64Chunk(await reader.readAt(offset, Math.min(size, 4096)), size);
+      return;
+    case "fmt ":
+      if (!state.fmt) state.fmt = parseFmtChunk(await reader.readAt(offset, Math.min(size, FMT_READ_BYTES)));
+      return;
+    case "bext": {
+      if (state.hasBext) return;
+      const bext = parseBextChunk(await reader.readAt(offset, Math.min(size, BEXT_FIXED_BYTES + MAX_CODING_HISTORY_BYTES)));
+      if (bext) {
+        state.metadata.bext = bext;
+        state.hasBext = true;
+      }
+      return;
+    }
+    case "LIST":
+      parseListInfoChunk(await reader.readAt(offset, Math.min(size, MAX_LIST_BYTES)), state.info);
+      return;
+    case "iXML": {
+      if (state.metadata.ixml !== undefined) return;
+      const bytes = await reader.readAt(offset, Math.min(size, MAX_IXML_BYTES));
+      let end = bytes.length;
+      while (end > 0 && bytes[end - 1] === 0) end--;
+      state.metadata.ixml = decodeUtf8OrLatin1(bytes.subarray(0, end));
+      return;
+    }
+    default:
+      return;
+  }
+}
+
+/**
+ * Chunks are word-aligned: an odd size is followed by a pad byte (RIFF specification). Some writers omit it;
+ * when the padded position holds no chunk id but the unpadded one does, the unpadded one is taken.
+ */
+async function nextChunkOffset(reader: ByteSource, fileSize: number, bodyOffset: number, size: number): Promise<number> {
+  const unpadded = bodyOffset + size;
+  if ((size & 1) === 0) return unpadded;
+  const padded = unpadded + 1;
+  if (unpadded + 8 > fileSize) return padded;
+  const probe = await reader.readAt(unpadded, 5);
+  if (probe.length === 5 && !isPrintableFourCC(probe, 1) && isPrintableFourCC(probe, 0)) return unpadded;
+  return padded;
+}
+
+function startsWith(bytes: Uint8Array, text: string): boolean {
+  if (bytes.length < text.length) return false;
+  for (let i = 0; i < text.length; i++) if (bytes[i] !== text.charCodeAt(i)) return false;
+  return true;
+}
+
+function isPrefixOf(bytes: Uint8Array, text: string): boolean {
+  for (let i = 0; i < bytes.length; i++) if (bytes[i] !== text.charCodeAt(i)) return false;
+  return true;
+}
+
+function describeStart(bytes: Uint8Array): string {
+  if (bytes.length >= 4) return describeFourCC(bytes, 0);
+  return Array.from(bytes, (b) => b.toString(16).padStart(2, "0")).join(" ");
+}
