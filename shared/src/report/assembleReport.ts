@@ -1,0 +1,38 @@
+/** Builds the "tidemark.report/1" document from file results: stable file order and the verdict summary. */
+import { REPORT_SCHEMA_ID, type FileReport, type ReportSummary, type ScanReport } from "../types/report.ts";
+
+export interface ReportHeader {
+  tool: { name: string; version: string };
+  profile: { name: string; hash?: string };
+  startedAt: string;
+  finishedAt: string;
+}
+
+/** Code-point order, so the same files sort the same on every machine and locale. */
+export function compareReportPaths(a: string, b: string): number {
+  return a < b ? -1 : a > b ? 1 : 0;
+}
+
+export function summarizeVerdicts(files: readonly FileReport[]): ReportSummary {
+  const summary: ReportSummary = { files: files.length, pass: 0, warn: 0, fail: 0, error: 0 };
+  for (const f of files) summary[f.verdict] += 1;
+  return summary;
+}
+
+export function assembleReport(header: ReportHeader, files: readonly FileReport[]): ScanReport {
+  const sorted = [...files].sort((a, b) => compareReportPaths(a.path, b.path));
+  return {
+    schema: REPORT_SCHEMA_ID,
+    tool: header.tool,
+    profile: header.profile,
+    startedAt: header.startedAt,
+    finishedAt: header.finishedAt,
+    summary: summarizeVerdicts(sorted),
+    files: sorted,
+  };
+}
+
+/** True when any file failed its profile or could not be read (exit code 1). */
+export function hasFailures(summary: ReportSummary): boolean {
+  return summary.fail > 0 || summary.error > 0;
+}
