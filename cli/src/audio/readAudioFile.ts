@@ -1,0 +1,190 @@
+/**
+ * Reads one WAV/BWF/RF64 file for analysis: walks the header with small positioned reads, then reads the
+ * whole file once, sequentially, into two reusable buffers (the next read runs while the current buffer is
+ * hashed and decoded). Every byte feeds one SHA-256; the data chunk is decoded from the same buffers into
+ * reused planar blocks. Memory stays flat whatever the file length; positions go up to 2^53 (RF64 > 4 GB).
+ */
+import { createHash } from "node:crypto";
+import { open, stat, type FileHandle } from "node:fs/promises";
+import { performance } from "node:perf_hooks";
+import type { AudioBlock, StreamFormat } from "@tidemark/shared/types/analysis";
+import type { AudioFormat, FileMetadata } from "@tidemark/shared/types/report";
+import { createDataChunkDecoder, type DataChunkDecoder } from "@tidemark/shared/wav/dataChunkDecoder";
+import { WavFormatError } from "@tidemark/shared/wav/errors";
+import { readWavLayout, type WavLayout } from "@tidemark/shared/wav/wavLayout";
+import { AudioFileError, audioFileErrorFromSystem } from "./errors.ts";
+import { fileByteSource } from "./fileByteSource.ts";
+
+export interface AudioFileInfo {
+  layout: WavLayout;
+  format: AudioFormat;
+  stream: StreamFormat;
+  metadata: FileMetadata;
+}
+
+export interface AudioFileResult {
+  info: AudioFileInfo;
+  /** Lowercase hex SHA-256 of every byte of the file. */
+  sha256: string;
+  sizeBytes: number;
+  /** Float samples that were NaN/±Inf and were replaced by 0 (0 when no block consumer was given). */
+  nonFiniteSamples: number;
+  /** Index of the first and last frame holding a replaced sample, or null. */
+  firstNonFiniteFrame: number | null;
+  lastNonFiniteFrame: number | null;
+  /** The data chunk is shorter than its header claims; the blocks cover what is there. */
+  isTruncated: boolean;
+  /** Time spent waiting for reads, decoding (excluding the block consumer) and hashing. */
+  timings: { readMs: number; decodeMs: number; hashMs: number };
+}
+
+export interface ReadAudioFileOptions {
+  /** Frames per block handed to the consumer (default 65536). */
+  blockFrames?: number;
+  signal?: AbortSignal;
+  /**
+   * Called once the header is read. Return a block consumer to have the audio decoded; it gets every block
+   * in order, and the block's arrays are reused afterwards (copy what you keep). Return nothing to only hash.
+   */
+  onOpen?: (info: AudioFileInfo) => ((block: AudioBlock) => void) | void;
+}
+
+export const DEFAULT_BLOCK_FRAMES = 65536;
+/** Large sequential reads amortise syscalls; two of them stay well inside the per-worker memory budget. */
+const READ_BUFFER_BYTES = 4 * 1024 * 1024;
+
+export function describeAudioFile(layout: WavLayout): AudioFileInfo {
+  const format: AudioFormat = {
+    container: layout.container,
+    encoding: layout.encoding,
+    sampleRateHz: layout.sampleRateHz,
+    bitDepth: layout.bitDepth,
+    channels: layout.channels,
+    durationSeconds: layout.totalFrames / layout.sampleRateHz,
+  };
+  const stream: StreamFormat = {
+    sampleRateHz: layout.sampleRateHz,
+    channels: layout.channels,
+    bitDepth: layout.bitDepth,
+    encoding: layout.encoding,
+    totalFrames: layout.totalFrames,
+  };
+  return { layout, format, stream, metadata: layout.metadata };
+}
+
+export async function readAudioFile(path: string, opts: ReadAudioFileOptions = {}): Promise<AudioFileResult> {
+  const blockFrames = opts.blockFrames ?? DEFAULT_BLOCK_FRAMES;
+  if (!Number.isInteger(blockFrames) || blockFrames < 1) {
+    throw new Error(`blockFrames must be a positive integer, got ${blockFrames}`);
+  }
+  opts.signal?.throwIfAborted();
+  // Checked before opening: opening a FIFO for reading would block until a writer appears.
+  const before = await stat(path).catch((error: unknown) => {
+    throw audioFileErrorFromSystem(error, path);
+  });
+  if (before.isDirectory()) throw new AudioFileError("is-directory", `${path}: is a directory, not an audio file`);
+  if (!before.isFile()) throw new AudioFileError("not-a-file", `${path}: not a regular file (device, FIFO or socket)`);
+  let handle: FileHandle;
+  try {
+    handle = await open(path, "r");
+  } catch (error) {
+    throw audioFileErrorFromSystem(error, path);
+  }
+  try {
+    return await readOpenFile(path, handle, blockFrames, opts);
+  } finally {
+    await handle.close().catch(() => undefined);
+  }
+}
+
+async function readOpenFile(
+  path: string,
+  handle: FileHandle,
+  blockFrames: number,
+  opts: ReadAudioFileOptions,
+): Promise<AudioFileResult> {
+  const opened = await handle.stat().catch((error: unknown) => {
+    throw audioFileErrorFromSystem(error, path);
+  });
+  if (!opened.isFile()) throw new AudioFileError("not-a-file", `${path}: changed into a non-regular file while opening`);
+  const sizeBytes = opened.size;
+
+  const layout = await readWavLayout(fileByteSource(handle, sizeBytes)).catch((error: unknown) => {
+    if (error instanceof WavFormatError) throw error;
+    throw audioFileErrorFromSystem(error, path);
+  });
+  const info = describeAudioFile(layout);
+  const consumer = opts.onOpen?.(info) ?? undefined;
+
+  let consumerMs = 0;
+  const decoder: DataChunkDecoder | null = consumer
+    ? createDataChunkDecoder(layout, blockFrames, (block) => {
+        const t = performance.now();
+        consumer(block);
+        consumerMs += performance.now() - t;
+      })
+    : null;
+  const hash = createHash("sha256");
+  const timings = { readMs: 0, decodeMs: 0, hashMs: 0 };
+  const bufferBytes = Math.max(1, Math.min(READ_BUFFER_BYTES, sizeBytes));
+  const buffers = [new Uint8Array(bufferBytes), new Uint8Array(bufferBytes)];
+
+  const readInto = (buffer: Uint8Array, position: number) =>
+    handle.read(buffer, 0, Math.min(buffer.length, sizeBytes - position), position).then(
+      (r) => r.bytesRead,
+      (error: unknown) => {
+        throw audioFileErrorFromSystem(error, path);
+      },
+    );
+
+  let position = 0;
+  let current = 0;
+  let pending: Promise<number> | null = sizeBytes > 0 ? readInto(buffers[0], 0) : null;
+  try {
+    while (pending) {
+      const t0 = performance.now();
+      const bytesRead = await pending;
+      timings.readMs += performance.now() - t0;
+      pending = null;
+      if (bytesRead === 0) {
+        throw new AudioFileError("io-error", `${path}: file shrank while being read (${position} of ${sizeBytes} bytes)`);
+      }
+      const chunk = buffers[current].subarray(0, bytesRead);
+      const chunkOffset = position;
+      position += bytesRead;
+      opts.signal?.throwIfAborted();
+      // Start the next read into the other buffer before working on this one.
+      if (position < sizeBytes) pending = readInto(buffers[1 - current], position);
+      const t1 = performance.now();
+      hash.update(chunk);
+      const t2 = performance.now();
+      timings.hashMs += t2 - t1;
+      if (decoder) {
+        const before = consumerMs;
+        decoder.push(chunk, chunkOffset);
+        timings.decodeMs += performance.now() - t2 - (consumerMs - before);
+      }
+      current = 1 - current;
+    }
+  } finally {
+    // Never close the file under an in-flight read.
+    if (pending) await pending.catch(() => undefined);
+  }
+  if (decoder) {
+    const before = consumerMs;
+    const t = performance.now();
+    decoder.finish();
+    timings.decodeMs += performance.now() - t - (consumerMs - before);
+  }
+  const samples = decoder?.samples;
+  return {
+    info,
+    sha256: hash.digest("hex"),
+    sizeBytes,
+    nonFiniteSamples: samples?.nonFiniteSamples ?? 0,
+    firstNonFiniteFrame: samples?.firstNonFiniteFrame ?? null,
+    lastNonFiniteFrame: samples?.lastNonFiniteFrame ?? null,
+    isTruncated: layout.isTruncated,
+    timings,
+  };
+}
