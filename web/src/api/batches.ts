@@ -1,0 +1,36 @@
+import { keepPreviousData, queryOptions, useQuery } from "@tanstack/react-query";
+import type { BatchDto, BatchQuery, CollectionDto, Page } from "@tidemark/shared/types/api";
+import { getJson, withQuery } from "./client.ts";
+import { batchKeys, collectionKeys } from "./keys.ts";
+
+export const batchListOptions = (query: BatchQuery) =>
+  queryOptions({
+    queryKey: batchKeys.list(query),
+    queryFn: ({ signal }) => getJson<Page<BatchDto>>(withQuery("/api/batches", query), { signal }),
+    placeholderData: keepPreviousData,
+  });
+
+export const batchDetailOptions = (id: number) =>
+  queryOptions({
+    queryKey: batchKeys.detail(id),
+    queryFn: ({ signal }) => getJson<BatchDto>(`/api/batches/${id}`, { signal }),
+  });
+
+export const collectionListOptions = () =>
+  queryOptions({
+    queryKey: collectionKeys.list(),
+    queryFn: ({ signal }) => getJson<CollectionDto[]>("/api/collections", { signal }),
+    staleTime: 5 * 60_000,
+  });
+
+export function useBatches(query: BatchQuery) {
+  return useQuery(batchListOptions(query));
+}
+
+export function useBatch(id: number | undefined) {
+  return useQuery({ ...batchDetailOptions(id ?? 0), enabled: id !== undefined });
+}
+
+export function useCollections() {
+  return useQuery(collectionListOptions());
+}

@@ -1,0 +1,90 @@
+import { keepPreviousData, queryOptions, useMutation, useQuery, useQueryClient } from "@tanstack/react-query";
+import type {
+  BulkReviewChangeRequest,
+  CommentDto,
+  FileDetailDto,
+  FileQuery,
+  FileSummaryDto,
+  Page,
+  ReviewChangeRequest,
+} from "@tidemark/shared/types/api";
+import { getJson, sendJson, withQuery } from "./client.ts";
+import { auditKeys, fileKeys } from "./keys.ts";
+
+export const fileListOptions = (query: FileQuery) =>
+  queryOptions({
+    queryKey: fileKeys.list(query),
+    queryFn: ({ signal }) => getJson<Page<FileSummaryDto>>(withQuery("/api/files", query), { signal }),
+    placeholderData: keepPreviousData,
+  });
+
+export const fileDetailOptions = (id: number) =>
+  queryOptions({
+    queryKey: fileKeys.detail(id),
+    queryFn: ({ signal }) => getJson<FileDetailDto>(`/api/files/${id}`, { signal }),
+  });
+
+export function useFiles(query: FileQuery) {
+  return useQuery(fileListOptions(query));
+}
+
+export function useFile(id: number) {
+  return useQuery({ ...fileDetailOptions(id), enabled: Number.isInteger(id) && id > 0 });
+}
+
+/**
+ * Review state of one file, optimistic: the new state shows at once and is rolled back if the server
+ * refuses. Lists and the audit trail are refreshed afterwards because both show review state or writes.
+ */
+export function useSaveReview(id: number) {
+  const client = useQueryClient();
+  const detailKey = fileDetailOptions(id).queryKey;
+  return useMutation({
+    mutationFn: (body: ReviewChangeRequest) => sendJson<FileDetailDto | FileSummaryDto>("PATCH", `/api/files/${id}`, body),
+    onMutate: async (body) => {
+      // Cancel in-flight reads so they do not overwrite the optimistic state.
+      await client.cancelQueries({ queryKey: detailKey });
+      const previous = client.getQueryData(detailKey);
+      if (previous) client.setQueryData(detailKey, { ...previous, reviewState: body.reviewState });
+      return { previous };
+    },
+    onError: (_error, _body, context) => {
+      if (context?.previous) client.setQueryData(detailKey, context.previous);
+    },
+    onSettled: () =>
+      Promise.all([
+        client.invalidateQueries({ queryKey: detailKey }),
+        client.invalidateQueries({ queryKey: fileKeys.lists() }),
+        client.invalidateQueries({ queryKey: auditKeys.all }),
+      ]),
+  });
+}
+
+export function useBulkReview() {
+  const client = useQueryClient();
+  return useMutation({
+    mutationFn: (body: BulkReviewChangeRequest) => sendJson<unknown>("POST", "/api/files/review", body),
+    onSettled: (_data, _error, body) =>
+      Promise.all([
+        client.invalidateQueries({ queryKey: fileKeys.lists() }),
+        ...body.ids.map((id) => client.invalidateQueries({ queryKey: fileKeys.detail(id) })),
+        client.invalidateQueries({ queryKey: auditKeys.all }),
+      ]),
+  });
+}
+
+/** The thread lives inside the file detail; the new comment is appended at once, then re-read. */
+export function useAddComment(fileId: number) {
+  const client = useQueryClient();
+  const detailKey = fileDetailOptions(fileId).queryKey;
+  return useMutation({
+    mutationFn: (body: { body: string }) => sendJson<CommentDto>("POST", `/api/files/${fileId}/comments`, body),
+    onSuccess: (comment) => {
+      client.setQueryData(detailKey, (detail) =>
+        detail && !detail.comments.some((c) => c.id === comment.id) ? { ...detail, comments: [...detail.comments, comment] } : detail,
+      );
+    },
+    onSettled: () =>
+      Promise.all([client.invalidateQueries({ queryKey: detailKey }), client.invalidateQueries({ queryKey: auditKeys.all })]),
+  });
+}

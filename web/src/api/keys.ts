@@ -1,0 +1,56 @@
+/**
+ * Query-key factories: the only place key arrays are written. Each level spreads the one above it, so
+ * invalidating `fileKeys.lists()` reaches every filtered page and `fileKeys.all` reaches everything files.
+ */
+import type { BatchQuery, FileQuery } from "@tidemark/shared/types/api";
+
+export interface AuditQuery {
+  actor?: string;
+  action?: string;
+  from?: string;
+  to?: string;
+  page?: number;
+  pageSize?: number;
+}
+
+export const sessionKeys = {
+  all: ["session"] as const,
+  current: () => [...sessionKeys.all, "current"] as const,
+};
+
+export const fileKeys = {
+  all: ["files"] as const,
+  lists: () => [...fileKeys.all, "list"] as const,
+  list: (query: FileQuery) => [...fileKeys.lists(), query] as const,
+  details: () => [...fileKeys.all, "detail"] as const,
+  detail: (id: number) => [...fileKeys.details(), id] as const,
+};
+
+export const batchKeys = {
+  all: ["batches"] as const,
+  lists: () => [...batchKeys.all, "list"] as const,
+  list: (query: BatchQuery) => [...batchKeys.lists(), query] as const,
+  details: () => [...batchKeys.all, "detail"] as const,
+  detail: (id: number) => [...batchKeys.details(), id] as const,
+};
+
+export const collectionKeys = {
+  all: ["collections"] as const,
+  list: () => [...collectionKeys.all, "list"] as const,
+};
+
+export const tokenKeys = {
+  all: ["tokens"] as const,
+  mine: () => [...tokenKeys.all, "mine"] as const,
+};
+
+export const userKeys = {
+  all: ["users"] as const,
+  list: () => [...userKeys.all, "list"] as const,
+};
+
+export const auditKeys = {
+  all: ["audit"] as const,
+  lists: () => [...auditKeys.all, "list"] as const,
+  list: (query: AuditQuery) => [...auditKeys.lists(), query] as const,
+};

@@ -1,0 +1,79 @@
+import { queryOptions, useMutation, useQuery, useQueryClient, type QueryClient } from "@tanstack/react-query";
+import type { SessionDto, UserDto } from "@tidemark/shared/types/api";
+import { getJson, isUnauthorized, sendJson } from "./client.ts";
+import { sessionKeys } from "./keys.ts";
+
+/** `expired` is set when a request was refused with 401 while the portal believed it was signed in. */
+export type SessionState = { user: UserDto; expired?: undefined } | { user: null; expired: boolean };
+
+export const sessionOptions = () =>
+  queryOptions({
+    queryKey: sessionKeys.current(),
+    queryFn: async ({ signal }): Promise<SessionState> => {
+      try {
+        const session = await getJson<SessionDto>("/api/session", { signal });
+        return { user: session.user };
+      } catch (e) {
+        // Not being signed in is an answer, not an error.
+        if (isUnauthorized(e)) return { user: null, expired: false };
+        throw e;
+      }
+    },
+    staleTime: 5 * 60_000,
+  });
+
+export function useSession() {
+  return useQuery(sessionOptions());
+}
+
+/** Marks the session as ended; the route guard then sends the user to sign-in and back afterwards. */
+export function markSessionExpired(client: QueryClient): void {
+  const current = client.getQueryData(sessionOptions().queryKey);
+  if (current && current.user === null) return;
+  client.setQueryData(sessionOptions().queryKey, { user: null, expired: true });
+}
+
+/** Data of the previous user must not leak into the next one's screens. */
+function forgetEverythingButSession(client: QueryClient): void {
+  client.removeQueries({ predicate: (query) => query.queryKey[0] !== sessionKeys.all[0] });
+}
+
+export interface SignInRequest {
+  email: string;
+  password: string;
+}
+
+export function useSignIn() {
+  const client = useQueryClient();
+  return useMutation({
+    mutationFn: (body: SignInRequest) => sendJson<SessionDto>("POST", "/api/session", body),
+    meta: { isSignIn: true },
+    onSuccess: (session) => {
+      forgetEverythingButSession(client);
+      client.setQueryData(sessionOptions().queryKey, { user: session.user });
+    },
+  });
+}
+
+export function useSignOut() {
+  const client = useQueryClient();
+  return useMutation({
+    mutationFn: () => sendJson<void>("DELETE", "/api/session"),
+    onSettled: () => {
+      forgetEverythingButSession(client);
+      client.setQueryData(sessionOptions().queryKey, { user: null, expired: false });
+    },
+  });
+}
+
+export function useRequestPasswordReset() {
+  return useMutation({
+    mutationFn: (body: { email: string }) => sendJson<void>("POST", "/api/password-reset", body),
+  });
+}
+
+export function useConfirmPasswordReset() {
+  return useMutation({
+    mutationFn: (body: { token: string; password: string }) => sendJson<void>("POST", "/api/password-reset/confirm", body),
+  });
+}

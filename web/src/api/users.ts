@@ -1,0 +1,51 @@
+import { queryOptions, useMutation, useQuery, useQueryClient } from "@tanstack/react-query";
+import type { Role, UserDto } from "@tidemark/shared/types/api";
+import { getJson, sendJson } from "./client.ts";
+import { auditKeys, userKeys } from "./keys.ts";
+
+export interface NewUserRequest {
+  email: string;
+  name: string;
+  role: Role;
+  password: string;
+}
+
+export interface UserChangeRequest {
+  role?: Role;
+  disabled?: boolean;
+}
+
+export const userListOptions = () =>
+  queryOptions({
+    queryKey: userKeys.list(),
+    queryFn: ({ signal }) => getJson<UserDto[]>("/api/users", { signal }),
+  });
+
+export function useUsers() {
+  return useQuery(userListOptions());
+}
+
+function useInvalidateUsers() {
+  const client = useQueryClient();
+  return () =>
+    Promise.all([
+      client.invalidateQueries({ queryKey: userListOptions().queryKey }),
+      client.invalidateQueries({ queryKey: auditKeys.all }),
+    ]);
+}
+
+export function useCreateUser() {
+  const invalidate = useInvalidateUsers();
+  return useMutation({
+    mutationFn: (body: NewUserRequest) => sendJson<UserDto>("POST", "/api/users", body),
+    onSettled: invalidate,
+  });
+}
+
+export function useUpdateUser() {
+  const invalidate = useInvalidateUsers();
+  return useMutation({
+    mutationFn: ({ id, change }: { id: number; change: UserChangeRequest }) => sendJson<UserDto>("PATCH", `/api/users/${id}`, change),
+    onSettled: invalidate,
+  });
+}

@@ -1,0 +1,159 @@
+import { useState, type CSSProperties } from "react";
+import type { FindingDto } from "@tidemark/shared/types/api";
+import type { Severity } from "@tidemark/shared/types/report";
+import { formatTimestamp } from "../../format/units.ts";
+import {
+  LOCAL_SPECTROGRAM_PLOT_MARGINS_PX,
+  LOCAL_WAVEFORM_PLOT_MARGINS_PX,
+  markerSpan,
+  plotAreaInset,
+  type NaturalSize,
+  type PlotMarginsPx,
+} from "./plotGeometry.ts";
+
+const MARKER_FILL: Record<Severity, string> = {
+  fail: "var(--color-marker-fail)",
+  warn: "var(--color-marker-warn)",
+  info: "var(--color-marker-info)",
+};
+
+interface MarkerLayerProps {
+  findings: FindingDto[];
+  durationSeconds: number;
+  selectedId: number | null;
+  onSelect: (id: number) => void;
+  /** Only one layer carries focusable markers; the other repeats them for the eye. */
+  interactive: boolean;
+}
+
+function MarkerLayer({ findings, durationSeconds, selectedId, onSelect, interactive }: MarkerLayerProps) {
+  return (
+    <>
+      {findings.map((finding) => {
+        if (finding.startSeconds === null) return null;
+        const { leftPercent, widthPercent } = markerSpan(finding.startSeconds, finding.endSeconds, durationSeconds);
+        const isSelected = finding.id === selectedId;
+        const label = `${finding.code} at ${formatTimestamp(finding.startSeconds)}${finding.channel !== null ? `, channel ${finding.channel + 1}` : ""} (${finding.severity})`;
+        const style = {
+          left: `${leftPercent}%`,
+          width: `max(${widthPercent}%, ${isSelected ? 4 : 3}px)`,
+          "--marker": isSelected ? "var(--color-marker-selected)" : MARKER_FILL[finding.severity],
+        } as CSSProperties;
+        const className = `absolute inset-y-0 -translate-x-px border-x-2 border-[var(--marker)] ${
+          isSelected ? "z-10 bg-white/30 outline-2 outline-black" : "bg-[color-mix(in_srgb,var(--marker)_22%,transparent)]"
+        }`;
+        if (!interactive) return <span key={finding.id} aria-hidden="true" className={className} style={style} />;
+        return (
+          <button
+            key={finding.id}
+            type="button"
+            aria-label={label}
+            aria-pressed={isSelected}
+            data-finding-marker={finding.id}
+            title={label}
+            onClick={() => onSelect(finding.id)}
+            className={`${className} cursor-pointer focus-visible:outline-[var(--color-marker-selected)]`}
+            style={style}
+          />
+        );
+      })}
+    </>
+  );
+}
+
+interface PlotImageProps {
+  src: string;
+  alt: string;
+  margins: PlotMarginsPx;
+  markers: Omit<MarkerLayerProps, "interactive">;
+  interactive: boolean;
+  missingText: string;
+}
+
+function PlotImage({ src, alt, margins, markers, interactive, missingText }: PlotImageProps) {
+  const [size, setSize] = useState<NaturalSize | null>(null);
+  const [failed, setFailed] = useState(false);
+  if (failed) {
+    return <p role="alert" className="rounded bg-fail-soft px-3 py-2 text-sm text-fail">{missingText}</p>;
+  }
+  return (
+    <div className="relative">
+      <img
+        src={src}
+        alt={alt}
+        className="block h-auto w-full rounded bg-[#101418]"
+        onLoad={(e) => setSize({ width: e.currentTarget.naturalWidth, height: e.currentTarget.naturalHeight })}
+        onError={() => setFailed(true)}
+      />
+      {size && size.width > 0 && size.height > 0 && markers.durationSeconds > 0 && (
+        <div className="absolute" style={plotAreaInset(margins, size)} data-plot-area>
+          <MarkerLayer {...markers} interactive={interactive} />
+        </div>
+      )}
+    </div>
+  );
+}
+
+interface SpectrogramViewProps {
+  spectrogramUrl: string | null;
+  waveformUrl: string | null;
+  path: string;
+  durationSeconds: number | null;
+  findings: FindingDto[];
+  selectedId: number | null;
+  onSelect: (id: number) => void;
+}
+
+/** The server's spectrogram with its waveform strip below, both with finding markers on the same time axis. */
+export function SpectrogramView({ spectrogramUrl, waveformUrl, path, durationSeconds, findings, selectedId, onSelect }: SpectrogramViewProps) {
+  const markers = { findings, durationSeconds: durationSeconds ?? 0, selectedId, onSelect };
+  if (!spectrogramUrl && !waveformUrl) {
+    return (
+      <p className="rounded-md border border-dashed border-line-strong bg-surface px-4 py-6 text-center text-ink-muted">
+        No spectrogram was uploaded for this file. Scan with <code className="font-mono">--spectrograms</code> to get one.
+      </p>
+    );
+  }
+  return (
+    <figure className="rounded-md border border-line bg-[#101418] p-2">
+      <div className="space-y-1">
+        {spectrogramUrl && (
+          <PlotImage
+            src={spectrogramUrl}
+            alt={`Spectrogram of ${path}: frequency against time, with ${findings.length} finding markers`}
+            margins={LOCAL_SPECTROGRAM_PLOT_MARGINS_PX}
+            markers={markers}
+            interactive
+            missingText="The spectrogram image could not be loaded. It may have been removed from storage; reload to try again."
+          />
+        )}
+        {waveformUrl && (
+          <PlotImage
+            src={waveformUrl}
+            alt={`Waveform of ${path}`}
+            margins={LOCAL_WAVEFORM_PLOT_MARGINS_PX}
+            markers={markers}
+            interactive={!spectrogramUrl}
+            missingText="The waveform image could not be loaded; reload to try again."
+          />
+        )}
+      </div>
+      <figcaption className="mt-2 flex flex-wrap gap-x-4 gap-y-1 px-1 text-xs text-white/85">
+        <span>Markers:</span>
+        <LegendSwatch color="var(--color-marker-fail)" label="fail" />
+        <LegendSwatch color="var(--color-marker-warn)" label="warn" />
+        <LegendSwatch color="var(--color-marker-info)" label="info" />
+        <LegendSwatch color="var(--color-marker-selected)" label="selected" />
+      </figcaption>
+    </figure>
+  );
+}
+
+function LegendSwatch({ color, label }: { color: string; label: string }) {
+  return (
+    <span className="inline-flex items-center gap-1">
+      <span aria-hidden="true" className="inline-block h-3 w-1.5 rounded-sm" style={{ backgroundColor: color }} />
+      {label}
+    </span>
+  );
+}

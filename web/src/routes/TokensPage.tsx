@@ -1,0 +1,118 @@
+import { useState, type FormEvent } from "react";
+import type { CreatedTokenDto, TokenDto } from "@tidemark/shared/types/api";
+import { describeError } from "../api/client.ts";
+import { useCreateToken, useMyTokens, useRevokeToken } from "../api/tokens.ts";
+import { CopyButton } from "../components/CopyButton.tsx";
+import { PageHeader } from "../components/PageHeader.tsx";
+import { buttonClass, TextField } from "../components/fields.tsx";
+import { EmptyState, ErrorState, InlineError, LoadingState } from "../components/states.tsx";
+import { formatDateTime } from "../format/units.ts";
+
+/** The secret exists in the browser only until this box is dismissed; the server keeps just a hash. */
+function NewTokenNotice({ token, onDismiss }: { token: CreatedTokenDto; onDismiss: () => void }) {
+  return (
+    <section aria-label="New token" className="mb-4 rounded-md border-2 border-harbour bg-harbour-soft p-4">
+      <h2 className="text-lg">Token “{token.name}” created</h2>
+      <p className="mt-1 text-sm">
+        Copy it now: it is shown only this once. Use it with <code className="font-mono">tidemark login</code> or as <code className="font-mono">TIDEMARK_TOKEN</code>.
+      </p>
+      <p className="mt-2 rounded border border-line-strong bg-surface px-2 py-1.5 font-mono text-sm break-all select-all" data-testid="new-token">
+        {token.token}
+      </p>
+      <div className="mt-2 flex flex-wrap items-center gap-3">
+        <CopyButton text={token.token} label="Copy token" />
+        <button type="button" className={buttonClass.secondary} onClick={onDismiss}>
+          I have saved it
+        </button>
+      </div>
+    </section>
+  );
+}
+
+function CreateTokenForm({ onCreated }: { onCreated: (token: CreatedTokenDto) => void }) {
+  const [name, setName] = useState("");
+  const create = useCreateToken();
+  function submit(event: FormEvent) {
+    event.preventDefault();
+    create.mutate({ name: name.trim() }, { onSuccess: (token) => { setName(""); onCreated(token); } });
+  }
+  return (
+    <form onSubmit={submit} aria-label="Create a token" className="mb-4 rounded-md border border-line bg-surface p-3">
+      <div className="flex flex-wrap items-end gap-3">
+        <TextField label="Token name" hint="(where it will be used)" placeholder="e.g. transfer-station-2" required maxLength={100} value={name} onChange={(e) => setName(e.target.value)} className="w-72" />
+        <button type="submit" className={buttonClass.primary} disabled={create.isPending || !name.trim()}>
+          {create.isPending ? "Creating…" : "Create token"}
+        </button>
+      </div>
+      {create.isError && <InlineError message={`The token was not created: ${describeError(create.error)}`} />}
+    </form>
+  );
+}
+
+function TokenRow({ token }: { token: TokenDto }) {
+  const revoke = useRevokeToken();
+  const [confirming, setConfirming] = useState(false);
+  const isRevoked = token.revokedAt !== null;
+  return (
+    <tr className="border-b border-line last:border-b-0">
+      <td className="px-2 py-1.5 font-medium">{token.name}</td>
+      <td className="px-2 py-1.5 font-mono text-xs">{token.id}</td>
+      <td className="px-2 py-1.5">{formatDateTime(token.createdAt)}</td>
+      <td className="px-2 py-1.5">{token.lastUsedAt ? formatDateTime(token.lastUsedAt) : <span className="text-ink-muted">never</span>}</td>
+      <td className="px-2 py-1.5">
+        {isRevoked ? (
+          <span className="text-ink-muted">revoked {formatDateTime(token.revokedAt)}</span>
+        ) : confirming ? (
+          <span className="flex flex-wrap items-center gap-2">
+            <button type="button" className={buttonClass.danger} disabled={revoke.isPending} onClick={() => revoke.mutate(token.id)}>
+              {revoke.isPending ? "Revoking…" : `Yes, revoke “${token.name}”`}
+            </button>
+            <button type="button" className={buttonClass.secondary} onClick={() => setConfirming(false)}>
+              Keep it
+            </button>
+          </span>
+        ) : (
+          <button type="button" className={buttonClass.danger} onClick={() => setConfirming(true)}>
+            Revoke
+          </button>
+        )}
+        {revoke.isError && <InlineError message={`Not revoked: ${describeError(revoke.error)}`} />}
+      </td>
+    </tr>
+  );
+}
+
+export function TokensPage() {
+  const tokens = useMyTokens();
+  const [created, setCreated] = useState<CreatedTokenDto | null>(null);
+  return (
+    <>
+      <PageHeader title="API tokens">Tokens let the tidemark CLI upload batches in your name. Revoke one as soon as it is no longer needed.</PageHeader>
+      {created && <NewTokenNotice token={created} onDismiss={() => setCreated(null)} />}
+      <CreateTokenForm onCreated={setCreated} />
+      {tokens.isPending && <LoadingState label="Loading your tokens" />}
+      {tokens.isError && <ErrorState title="Your tokens could not load" message={describeError(tokens.error)} onRetry={() => void tokens.refetch()} />}
+      {tokens.data && tokens.data.length === 0 && <EmptyState title="No tokens yet">Create one above for each machine that uploads.</EmptyState>}
+      {tokens.data && tokens.data.length > 0 && (
+        <div className="overflow-x-auto rounded-md border border-line bg-surface">
+          <table className="w-full min-w-[640px] text-sm">
+            <thead className="border-b border-line bg-sunken">
+              <tr>
+                {["Name", "Id", "Created", "Last used", "Status"].map((h) => (
+                  <th key={h} scope="col" className="px-2 py-2 text-left font-semibold">
+                    {h}
+                  </th>
+                ))}
+              </tr>
+            </thead>
+            <tbody>
+              {tokens.data.map((token) => (
+                <TokenRow key={token.id} token={token} />
+              ))}
+            </tbody>
+          </table>
+        </div>
+      )}
+    </>
+  );
+}
