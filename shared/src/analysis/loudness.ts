@@ -1,0 +1,177 @@
+/**
+ * Streaming loudness per ITU-R BS.1770-4 and EBU Tech 3341/3342: K-weighting, mean square per 100 ms
+ * sub-block, 400 ms momentary blocks and 3 s short-term blocks every 100 ms (75 % / 96.7 % overlap),
+ * integrated loudness with the absolute and relative gates, and loudness range from the short-term blocks.
+ */
+import { FrameGrid, Float64Series } from "./frameGrid.ts";
+import { kWeightingHighPass, kWeightingShelf } from "./kWeighting.ts";
+import { integratedLoudnessLufs, loudnessRangeLu, powerToLufs } from "./loudnessGating.ts";
+
+export interface LoudnessResult {
+  integratedLufs: number;
+  maxMomentaryLufs: number;
+  maxShortTermLufs: number;
+  /** Null when no short-term block passes the gates (e.g. files under 3 s). */
+  loudnessRangeLu: number | null;
+  /** Frame at the start of the loudest momentary block, or null. */
+  maxMomentaryFrame: number | null;
+}
+
+export interface LoudnessMeter {
+  push(channels: Float32Array[], frames: number): void;
+  finish(): LoudnessResult;
+}
+
+/** Gating blocks advance by 100 ms: 75 % overlap of 400 ms (BS.1770-4, Annex 1) and ≥ 10 Hz short-term (EBU Tech 3342). */
+const SUB_BLOCK_SECONDS = 0.1;
+/** 400 ms momentary = 4 sub-blocks (EBU Tech 3341, 2.1); 3 s short-term = 30 (EBU Tech 3341, 2.1). */
+const MOMENTARY_SUB_BLOCKS = 4;
+const SHORT_TERM_SUB_BLOCKS = 30;
+/** Filter states this small are flushed to zero so long silences do not run on subnormal arithmetic. */
+const SUBNORMAL_GUARD = 1e-150;
+
+/**
+ * Channel weights G_i of BS.1770-4, Annex 1, Table 3, assuming the WAVE default speaker order
+ * (L R C LFE Ls Rs for six channels): surrounds 1.41, LFE excluded. Other layouts weigh every channel 1.0.
+ */
+export function loudnessChannelWeights(channels: number): Float64Array {
+  if (channels === 5) return Float64Array.from([1, 1, 1, 1.41, 1.41]);
+  if (channels === 6) return Float64Array.from([1, 1, 1, 0, 1.41, 1.41]);
+  return new Float64Array(channels).fill(1);
+}
+
+export function createLoudnessMeter(sampleRateHz: number, channels: number, weights = loudnessChannelWeights(channels)): LoudnessMeter {
+  if (weights.length !== channels) {
+    throw new Error(`loudness needs one weight per channel: ${channels} channels, ${weights.length} weights`);
+  }
+  return new KWeightedLoudnessMeter(sampleRateHz, channels, weights);
+}
+
+class KWeightedLoudnessMeter implements LoudnessMeter {
+  private readonly shelf;
+  private readonly highPass;
+  /** Per channel: shelf s1, s2, high-pass t1, t2 (transposed direct form II). */
+  private readonly state: Float64Array;
+  /** Per channel Σy² of the current sub-block, carried across blocks so any block size sums alike. */
+  private readonly channelSums: Float64Array;
+  private readonly grid: FrameGrid;
+  private readonly ringEnergy = new Float64Array(SHORT_TERM_SUB_BLOCKS);
+  private readonly ringFrames = new Float64Array(SHORT_TERM_SUB_BLOCKS);
+  private completed = 0;
+  private position = 0;
+  private subBlockStart = 0;
+  private subBlockEnd: number;
+  private readonly momentary = new Float64Series();
+  private readonly shortTerm = new Float64Series();
+  private maxMomentary = 0;
+  private maxMomentaryFrame: number | null = null;
+  private maxShortTerm = 0;
+
+  constructor(
+    sampleRateHz: number,
+    private readonly channels: number,
+    private readonly weights: Float64Array,
+  ) {
+    this.shelf = kWeightingShelf(sampleRateHz);
+    this.highPass = kWeightingHighPass(sampleRateHz);
+    this.state = new Float64Array(channels * 4);
+    this.channelSums = new Float64Array(channels);
+    this.grid = new FrameGrid(sampleRateHz, SUB_BLOCK_SECONDS);
+    this.subBlockEnd = this.grid.boundary(1);
+  }
+
+  push(input: Float32Array[], frames: number): void {
+    let at = 0;
+    while (at < frames) {
+      const n = Math.min(frames - at, this.subBlockEnd - this.position);
+      for (let c = 0; c < this.channels; c++) this.filterSegment(c, input[c], at, n);
+      at += n;
+      this.position += n;
+      if (this.position === this.subBlockEnd) this.completeSubBlock();
+    }
+  }
+
+  /** Both K-weighting stages over x[from, from+n), adding y² into the channel's sub-block sum. */
+  private filterSegment(c: number, x: Float32Array, from: number, n: number): void {
+    const { b0, b1, b2, a1, a2 } = this.shelf;
+    const ha1 = this.highPass.a1;
+    const ha2 = this.highPass.a2;
+    const st = this.state;
+    const o = c * 4;
+    let s1 = st[o];
+    let s2 = st[o + 1];
+    let t1 = st[o + 2];
+    let t2 = st[o + 3];
+    let sum = this.channelSums[c];
+    const end = from + n;
+    for (let i = from; i < end; i++) {
+      const v = x[i];
+      const y1 = b0 * v + s1;
+      s1 = b1 * v - a1 * y1 + s2;
+      s2 = b2 * v - a2 * y1;
+      // Stage 2 numerator is 1, −2, 1.
+      const y2 = y1 + t1;
+      t1 = -2 * y1 - ha1 * y2 + t2;
+      t2 = y1 - ha2 * y2;
+      sum += y2 * y2;
+    }
+    st[o] = s1;
+    st[o + 1] = s2;
+    st[o + 2] = t1;
+    st[o + 3] = t2;
+    this.channelSums[c] = sum;
+  }
+
+  private completeSubBlock(): void {
+    let energy = 0;
+    for (let c = 0; c < this.channels; c++) {
+      energy += this.weights[c] * this.channelSums[c];
+      this.channelSums[c] = 0;
+    }
+    // Flushed on the absolute 100 ms grid, so the result does not depend on block size.
+    const st = this.state;
+    for (let i = 0; i < st.length; i++) if (st[i] < SUBNORMAL_GUARD && st[i] > -SUBNORMAL_GUARD) st[i] = 0;
+    const slot = this.completed % SHORT_TERM_SUB_BLOCKS;
+    this.ringEnergy[slot] = energy;
+    this.ringFrames[slot] = this.subBlockEnd - this.subBlockStart;
+    this.completed++;
+    this.subBlockStart = this.subBlockEnd;
+    this.subBlockEnd = this.grid.boundary(this.completed + 1);
+    if (this.completed >= MOMENTARY_SUB_BLOCKS) {
+      const power = this.windowPower(MOMENTARY_SUB_BLOCKS);
+      this.momentary.push(power);
+      if (power > this.maxMomentary) {
+        this.maxMomentary = power;
+        this.maxMomentaryFrame = this.grid.boundary(this.completed - MOMENTARY_SUB_BLOCKS);
+      }
+    }
+    if (this.completed >= SHORT_TERM_SUB_BLOCKS) {
+      const power = this.windowPower(SHORT_TERM_SUB_BLOCKS);
+      this.shortTerm.push(power);
+      if (power > this.maxShortTerm) this.maxShortTerm = power;
+    }
+  }
+
+  /** Mean weighted power over the last `count` sub-blocks (summed oldest first, for reproducibility). */
+  private windowPower(count: number): number {
+    let energy = 0;
+    let frames = 0;
+    for (let k = this.completed - count; k < this.completed; k++) {
+      const slot = k % SHORT_TERM_SUB_BLOCKS;
+      energy += this.ringEnergy[slot];
+      frames += this.ringFrames[slot];
+    }
+    return energy / frames;
+  }
+
+  finish(): LoudnessResult {
+    // A trailing partial sub-block cannot complete a 400 ms block (BS.1770-4 gates whole blocks only).
+    return {
+      integratedLufs: integratedLoudnessLufs(this.momentary.values()),
+      maxMomentaryLufs: powerToLufs(this.maxMomentary),
+      maxShortTermLufs: powerToLufs(this.maxShortTerm),
+      loudnessRangeLu: loudnessRangeLu(this.shortTerm.values()),
+      maxMomentaryFrame: this.maxMomentaryFrame,
+    };
+  }
+}
