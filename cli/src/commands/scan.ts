@@ -1,0 +1,138 @@
+/**
+ * `tidemark scan`: crawl, measure on the worker pool, judge, report, and optionally upload.
+ * Returns the exit code; nothing here exits the process.
+ */
+import { mkdir, rename, stat, writeFile } from "node:fs/promises";
+import path from "node:path";
+import { assembleReport, hasFailures } from "@tidemark/shared/report/assembleReport";
+import { reportToJson } from "@tidemark/shared/report/jsonReport";
+import { reportWriters, type ReportFormat } from "@tidemark/shared/report/reportFormats";
+import type { FileReport, ScanReport } from "@tidemark/shared/types/report";
+import { resolveCredentials } from "../config/storedLogin.ts";
+import { EXIT_CODES, UsageError } from "../errors.ts";
+import type { CliIo } from "../io.ts";
+import type { ScanOptions, UploadTarget } from "../options.ts";
+import { loadProfile } from "../profiles/loadProfile.ts";
+import { errorReport, type ScanContext } from "../scan/analyseFile.ts";
+import { crawlFiles } from "../scan/crawlFiles.ts";
+import { watchInterrupts } from "../scan/interruption.ts";
+import { createScanProgress } from "../scan/progress.ts";
+import { openResumeState, type ResumeState } from "../scan/resumeState.ts";
+import { runScan } from "../scan/runScan.ts";
+import { toolInfo } from "../toolInfo.ts";
+import { defaultBatchKey, deliverBatch, describeDelivered } from "../upload/deliverBatch.ts";
+import { collectReportImages } from "../upload/reportImages.ts";
+
+const FORMAT_BY_EXTENSION: Record<string, ReportFormat> = { ".json": "json", ".csv": "csv", ".xml": "junit", ".txt": "table" };
+
+export function chooseFormat(options: Pick<ScanOptions, "format" | "out">, stdoutIsTty: boolean): ReportFormat {
+  if (options.format) return options.format;
+  if (options.out) return FORMAT_BY_EXTENSION[path.extname(options.out).toLowerCase()] ?? "json";
+  return stdoutIsTty ? "table" : "json";
+}
+
+/** Fails before hours of measuring, not after, when the report could not be written. */
+async function checkOutputFolder(out: string, cwd: string): Promise<string> {
+  const abs = path.resolve(cwd, out);
+  const dir = await stat(path.dirname(abs)).catch(() => null);
+  if (!dir?.isDirectory()) throw new UsageError(`cannot write --out ${out}: folder ${path.dirname(out) || "."} does not exist`);
+  const existing = await stat(abs).catch(() => null);
+  if (existing?.isDirectory()) throw new UsageError(`cannot write --out ${out}: it is a folder`);
+  return abs;
+}
+
+async function writeAtomically(file: string, text: string): Promise<void> {
+  const temp = `${file}.${process.pid}.tmp`;
+  await writeFile(temp, text);
+  await rename(temp, file);
+}
+
+async function uploadReport(report: ScanReport, target: UploadTarget, defaultCollection: string, io: CliIo): Promise<number> {
+  const log = (line: string): void => void io.stderr.write(`tidemark: ${line}\n`);
+  const { server, token } = await resolveCredentials(target.server, io.env);
+  const reportJson = reportToJson(report);
+  const { images, missing } = await collectReportImages(report, [io.cwd]);
+  for (const m of missing) log(`warning: image ${m} not found, not uploaded`);
+  const batch = { reportJson, collection: target.collection ?? defaultCollection, batchKey: target.batchKey ?? defaultBatchKey(reportJson), images };
+  const outcome = await deliverBatch(server, token, batch, { env: io.env, log, spoolWhenRejected: true });
+  if (outcome.kind === "delivered") {
+    log(describeDelivered(server, outcome.result));
+    return EXIT_CODES.ok;
+  }
+  if (outcome.kind === "spooled") {
+    log(`${outcome.reason}`);
+    log(`the batch is kept in ${outcome.dir}; send it later with: tidemark upload --spool`);
+    return EXIT_CODES.ok;
+  }
+  log(outcome.reason);
+  if (outcome.spooledDir) log(`the batch is kept in ${outcome.spooledDir}; fix the cause, then: tidemark upload --spool`);
+  return EXIT_CODES.usage;
+}
+
+export async function scanCommand(paths: string[], options: ScanOptions, io: CliIo): Promise<number> {
+  const startedAt = new Date().toISOString();
+  const loaded = await loadProfile(options.profile, io.cwd);
+  const format = chooseFormat(options, io.stdout.isTTY === true);
+  const outAbs = options.out ? await checkOutputFolder(options.out, io.cwd) : null;
+  if (options.upload) await resolveCredentials(options.upload.server, io.env);
+
+  const crawl = await crawlFiles(paths, { include: options.include, exclude: options.exclude, cwd: io.cwd });
+  let spectrograms: ScanContext["spectrograms"] = null;
+  if (options.spectrograms) {
+    const dirAbs = path.resolve(io.cwd, options.spectrograms);
+    await mkdir(dirAbs, { recursive: true }).catch((error: { code?: string }) => {
+      throw new UsageError(`cannot create --spectrograms folder ${options.spectrograms}: ${error.code ?? String(error)}`);
+    });
+    spectrograms = { dirAbs, dirShown: options.spectrograms.split(path.sep).join("/").replace(/\/+$/, "") || "." };
+  }
+  const context: ScanContext = { profile: loaded.profile, settings: loaded.settings, spectrograms };
+
+  let resume: ResumeState | null = null;
+  if (options.resume) {
+    resume = openResumeState(path.resolve(io.cwd, options.resume), {
+      profileName: loaded.profile.name,
+      profileHash: loaded.hash,
+      spectrogramDir: spectrograms?.dirShown ?? null,
+    });
+  }
+
+  const progress = createScanProgress({ total: crawl.files.length, alreadyDone: 0, stream: io.stderr as NodeJS.WritableStream, enabled: !options.quiet });
+  for (const p of crawl.problems) progress.note(`tidemark: ${p.code}: ${p.message}`);
+  if (crawl.files.length === 0 && crawl.problems.length === 0) {
+    progress.note(`tidemark: warning: no files matching ${options.include.join(" ")} under ${paths.join(" ")}`);
+  }
+  const interruption = watchInterrupts(() =>
+    progress.note("tidemark: interrupted: finishing the files in progress, then writing the partial report (Ctrl-C again to stop now)"),
+  );
+
+  let result;
+  try {
+    result = await runScan({ files: crawl.files, workers: options.workers, context, resume, progress, interruption });
+  } finally {
+    interruption.dispose();
+    progress.stop();
+    resume?.close();
+  }
+
+  const problemReports: FileReport[] = crawl.problems.map((p) => errorReport(p.relPath, 0, { code: p.code, message: p.message }));
+  const report = assembleReport(
+    { tool: toolInfo(), profile: { name: loaded.profile.name, hash: loaded.hash }, startedAt, finishedAt: new Date().toISOString() },
+    [...result.reports, ...problemReports],
+  );
+  const text = reportWriters[format](report);
+  if (outAbs) await writeAtomically(outAbs, text);
+  else io.stdout.write(text);
+
+  if (result.interrupted) {
+    const left = crawl.files.length - result.reports.length;
+    const resumeHint = options.resume ? `; run the same command to resume` : "; add --resume STATE_FILE next time to continue after an interruption";
+    io.stderr.write(`tidemark: interrupted: ${result.reports.length} of ${crawl.files.length} file(s) done, ${left} left${resumeHint}\n`);
+    return EXIT_CODES.interrupted;
+  }
+  if (!options.quiet && result.reused > 0) io.stderr.write(`tidemark: ${result.reused} unchanged file(s) taken from ${options.resume}\n`);
+
+  let uploadCode: number = EXIT_CODES.ok;
+  if (options.upload) uploadCode = await uploadReport(report, options.upload, path.basename(crawl.rootDir) || "archive", io);
+  if (uploadCode !== EXIT_CODES.ok) return uploadCode;
+  return hasFailures(report.summary) ? EXIT_CODES.failed : EXIT_CODES.ok;
+}

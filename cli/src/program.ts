@@ -1,0 +1,181 @@
+/**
+ * The command tree. createProgram() only declares: each action normalises its options and calls a plain
+ * async function (lazy-imported), which returns an exit code. Tests pass their own actions.
+ */
+import { Command, Option } from "commander";
+import { DEFAULT_PROFILE_NAME } from "@tidemark/shared/profiles/builtinProfiles";
+import { EXIT_CODES_HELP, ExitError, UsageError } from "./errors.ts";
+import { processIo, type CliIo } from "./io.ts";
+import {
+  collect,
+  DEFAULT_INCLUDE_GLOBS,
+  defaultWorkerCount,
+  parseBatchKey,
+  parseCollectionName,
+  parseServerUrl,
+  parseToken,
+  parseWorkerCount,
+  REPORT_FORMATS,
+  type LoginOptions,
+  type ProfilesOptions,
+  type ReportFormat,
+  type ScanOptions,
+  type UploadOptions,
+  type VerifyOptions,
+} from "./options.ts";
+import { toolInfo } from "./toolInfo.ts";
+
+/** What each command does once its arguments are parsed; resolves to the exit code. */
+export interface CommandActions {
+  scan(paths: string[], options: ScanOptions, io: CliIo): Promise<number>;
+  verify(paths: string[], options: VerifyOptions, io: CliIo): Promise<number>;
+  upload(reportPath: string | null, options: UploadOptions, io: CliIo): Promise<number>;
+  profiles(name: string | null, options: ProfilesOptions, io: CliIo): Promise<number>;
+  login(options: LoginOptions, io: CliIo): Promise<number>;
+}
+
+const defaultActions: CommandActions = {
+  scan: async (...args) => (await import("./commands/scan.ts")).scanCommand(...args),
+  verify: async (...args) => (await import("./commands/verify.ts")).verifyCommand(...args),
+  upload: async (...args) => (await import("./commands/upload.ts")).uploadCommand(...args),
+  profiles: async (...args) => (await import("./commands/profiles.ts")).profilesCommand(...args),
+  login: async (...args) => (await import("./commands/login.ts")).loginCommand(...args),
+};
+
+async function finish(code: Promise<number>): Promise<void> {
+  const exitCode = await code;
+  if (exitCode !== 0) throw new ExitError(exitCode);
+}
+
+function globOptions(cmd: Command): Command {
+  return cmd
+    .option("--include <glob>", `file names to scan, repeatable (default: ${DEFAULT_INCLUDE_GLOBS.join(" ")}; case-insensitive)`, collect, [])
+    .option("--exclude <glob>", "files or folders to skip, repeatable (matched against the name or the relative path)", collect, []);
+}
+
+const orDefaultGlobs = (globs: string[]): string[] => (globs.length > 0 ? globs : [...DEFAULT_INCLUDE_GLOBS]);
+
+export function createProgram(actions: Partial<CommandActions> = {}, io: () => CliIo = processIo): Command {
+  const run: CommandActions = { ...defaultActions, ...actions };
+  const program = new Command("tidemark")
+    .description("Batch spectral quality control for sound archive transfers (WAV, BWF, RF64).")
+    .version(toolInfo().version, "-V, --version", "print the version")
+    .helpOption("-h, --help", "show help")
+    .showHelpAfterError("(run with --help for usage)")
+    .exitOverride()
+    .addHelpText("after", EXIT_CODES_HELP);
+
+  const scan = program
+    .command("scan")
+    .description("measure every audio file under the given files and folders, judge each against a profile, and report")
+    .argument("<paths...>", "files and folders to scan (folders recursively)")
+    .option("-p, --profile <name|file>", "built-in profile name or a profile JSON file", DEFAULT_PROFILE_NAME)
+    .addOption(new Option("-f, --format <format>", "report format (default: table on a terminal, else json)").choices(REPORT_FORMATS))
+    .option("-o, --out <file>", "write the report to a file instead of stdout (format from its extension if --format is not given)")
+    .option("--spectrograms <dir>", "write a spectrogram PNG (and a waveform strip) for each file, mirroring the folder tree")
+    .option("-w, --workers <n>", "parallel workers (default: number of cores)", parseWorkerCount)
+    .option("--resume <state-file>", "record progress there, and skip files already measured and unchanged")
+    .option("-q, --quiet", "no progress display", false)
+    .option("--upload", "upload the report and PNGs to the server after the scan", false)
+    .option("--server <url>", "server for --upload (default: the one stored by tidemark login)", parseServerUrl)
+    .option("--collection <name>", "collection to file the batch under (default: the scanned folder's name)", parseCollectionName)
+    .option("--batch-key <key>", "idempotency key: the same key uploaded twice is one batch (default: SHA-256 of the report)", parseBatchKey);
+  globOptions(scan).action(async (paths: string[], o: Record<string, unknown>) => {
+    const wantsUpload = o.upload === true;
+    for (const flag of ["server", "collection", "batchKey"] as const) {
+      if (o[flag] !== undefined && !wantsUpload) {
+        throw new UsageError(`--${flag === "batchKey" ? "batch-key" : flag} is only used with --upload; add --upload or drop it`);
+      }
+    }
+    const options: ScanOptions = {
+      profile: String(o.profile),
+      format: (o.format as ReportFormat | undefined) ?? null,
+      out: (o.out as string | undefined) ?? null,
+      spectrograms: (o.spectrograms as string | undefined) ?? null,
+      workers: (o.workers as number | undefined) ?? defaultWorkerCount(),
+      include: orDefaultGlobs(o.include as string[]),
+      exclude: o.exclude as string[],
+      resume: (o.resume as string | undefined) ?? null,
+      quiet: o.quiet === true,
+      upload: wantsUpload
+        ? {
+            server: (o.server as string | undefined) ?? null,
+            collection: (o.collection as string | undefined) ?? null,
+            batchKey: (o.batchKey as string | undefined) ?? null,
+          }
+        : null,
+    };
+    await finish(run.scan(paths, options, io()));
+  });
+
+  const verify = program
+    .command("verify")
+    .description("recompute SHA-256 of the files and compare with an earlier report: list changed, missing and new files")
+    .argument("<paths...>", "files and folders scanned for that report")
+    .requiredOption("--against <report.json>", "the earlier JSON report")
+    .option("--json", "print the comparison as JSON", false);
+  globOptions(verify).action(async (paths: string[], o: Record<string, unknown>) => {
+    const options: VerifyOptions = {
+      against: String(o.against),
+      include: orDefaultGlobs(o.include as string[]),
+      exclude: o.exclude as string[],
+      json: o.json === true,
+    };
+    await finish(run.verify(paths, options, io()));
+  });
+
+  program
+    .command("upload")
+    .description("upload an existing JSON report (and its PNGs) to the server, or send the spooled batches")
+    .argument("[report]", "a JSON report written by tidemark scan")
+    .option("--spool", "send the batches spooled while the server was unreachable", false)
+    .option("--server <url>", "server (default: the one stored by tidemark login)", parseServerUrl)
+    .option("--collection <name>", "collection to file the batch under (required with a report)", parseCollectionName)
+    .option("--batch-key <key>", "idempotency key (default: SHA-256 of the report)", parseBatchKey)
+    .action(async (report: string | undefined, o: Record<string, unknown>) => {
+      const spool = o.spool === true;
+      if (spool === (report !== undefined)) {
+        throw new UsageError(spool ? "give either a report file or --spool, not both" : "expected a report file to upload (or --spool to send spooled batches)");
+      }
+      const options: UploadOptions = {
+        spool,
+        server: (o.server as string | undefined) ?? null,
+        collection: (o.collection as string | undefined) ?? null,
+        batchKey: (o.batchKey as string | undefined) ?? null,
+      };
+      await finish(run.upload(report ?? null, options, io()));
+    });
+
+  program
+    .command("profiles")
+    .description("list the built-in profiles, or print one as JSON (a starting point for a custom profile file)")
+    .argument("[name|file]", "a built-in profile name, or a profile JSON file to check")
+    .option("--json", "list the profiles as JSON", false)
+    .action(async (name: string | undefined, o: Record<string, unknown>) => {
+      await finish(run.profiles(name ?? null, { json: o.json === true }, io()));
+    });
+
+  program
+    .command("login")
+    .description("sign in to a server and store an API token for upload (in the config dir, mode 0600)")
+    .requiredOption("--server <url>", "server URL", parseServerUrl)
+    .option("--token <id:secret>", "store this API token instead of signing in", parseToken)
+    .option("--email <email>", "account e-mail (asked for on a terminal when missing)")
+    .option("--password-stdin", "read the password from stdin", false)
+    .option("--token-name <name>", "name of the token created on the server (default: tidemark-cli on <host>)")
+    .action(async (o: Record<string, unknown>) => {
+      const options: LoginOptions = {
+        server: String(o.server),
+        token: (o.token as string | undefined) ?? null,
+        email: (o.email as string | undefined) ?? null,
+        passwordStdin: o.passwordStdin === true,
+        tokenName: (o.tokenName as string | undefined) ?? null,
+      };
+      if (options.token && (options.email || options.passwordStdin)) {
+        throw new UsageError("give either --token or --email/--password-stdin, not both");
+      }
+      await finish(run.login(options, io()));
+    });
+
+  return program;
+}

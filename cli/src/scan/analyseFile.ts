@@ -1,0 +1,178 @@
+/**
+ * Measures one file: a single read that hashes and decodes (readAudioFile), both analysers fed from it,
+ * the profile's judgement, and the PNGs when asked for. Never throws for a bad file: the report says
+ * `error` with the reader's stable code and a one-line message instead.
+ */
+import { mkdir, writeFile } from "node:fs/promises";
+import path from "node:path";
+import { createFileAnalysis, type FileAnalysisResult } from "@tidemark/shared/engine/fileAnalysis";
+import { judge } from "@tidemark/shared/profiles/judge";
+import type { Profile } from "@tidemark/shared/profiles/profileSchema";
+import { renderSpectrogramImage } from "@tidemark/shared/render/spectrogramImage";
+import { renderWaveformImage } from "@tidemark/shared/render/waveformImage";
+import type { BlockAnalyser } from "@tidemark/shared/types/analysis";
+import type { FileReport, Finding, ReportError } from "@tidemark/shared/types/report";
+import type { AnalysisSettings } from "@tidemark/shared/types/settings";
+import { readerFindings } from "@tidemark/shared/wav/readerFindings";
+import { readAudioFile, type AudioFileResult } from "../audio/readAudioFile.ts";
+import { encodePng } from "../render/encodePng.ts";
+import { oneLine } from "../errors.ts";
+
+export interface SpectrogramTarget {
+  /** Where PNGs are written. */
+  dirAbs: string;
+  /** The folder as the user gave it (forward slashes): the report's `spectrogram` paths start with it. */
+  dirShown: string;
+}
+
+export interface ScanContext {
+  profile: Profile;
+  settings: AnalysisSettings;
+  spectrograms: SpectrogramTarget | null;
+}
+
+export interface AnalyseTask {
+  absPath: string;
+  relPath: string;
+  /** Size seen by the crawl, reported when the file cannot be opened at all. */
+  sizeBytes: number;
+}
+
+export interface AnalysedFile {
+  report: FileReport;
+  audioSeconds: number;
+  /** Set when the PNGs could not be written (the measurements still stand). */
+  imageError: string | null;
+  timingsMs: { read: number; decode: number; hash: number; analyse: number; render: number };
+}
+
+/** Height of the overview waveform strip, px (its width follows the spectrogram's). */
+export const WAVEFORM_HEIGHT_PX = 120;
+
+export function spectrogramPaths(target: SpectrogramTarget, relPath: string): { png: string; waveform: string; shown: string } {
+  const png = path.join(target.dirAbs, ...relPath.split("/")) + ".png";
+  return { png, waveform: png.replace(/\.png$/, ".waveform.png"), shown: `${target.dirShown}/${relPath}.png` };
+}
+
+export function errorReport(relPath: string, sizeBytes: number, error: ReportError, findings: Finding[] = []): FileReport {
+  return {
+    path: relPath,
+    sizeBytes,
+    sha256: null,
+    format: null,
+    metadata: {},
+    metrics: null,
+    findings: [
+      ...findings,
+      { code: "unreadable", severity: "fail", channel: null, startSeconds: null, endSeconds: null, message: error.message },
+    ],
+    verdict: "error",
+    error,
+    spectrogram: null,
+  };
+}
+
+/** Stable code of a reader error (AudioFileError / WavFormatError), or a generic one for anything else. */
+function reportErrorOf(error: unknown, task: AnalyseTask, fallbackCode: string): ReportError {
+  const code = (error as { code?: unknown } | null)?.code;
+  const isTyped = typeof code === "string" && /^[a-z][a-z0-9-]*$/.test(code);
+  // Messages name the file as the report does (relative), not by its absolute path.
+  const message = oneLine(error).split(task.absPath).join(task.relPath);
+  return { code: isTyped ? code : fallbackCode, message: isTyped || message.startsWith(task.relPath) ? message : `${task.relPath}: ${message}` };
+}
+
+async function writeImages(
+  analysed: FileAnalysisResult,
+  findings: Finding[],
+  target: SpectrogramTarget,
+  task: AnalyseTask,
+  settings: AnalysisSettings,
+): Promise<string> {
+  const paths = spectrogramPaths(target, task.relPath);
+  const { width, height } = settings.spectrogram;
+  const markers = findings.filter((f) => f.startSeconds !== null && f.severity !== "info");
+  await mkdir(path.dirname(paths.png), { recursive: true });
+  await writeFile(paths.png, encodePng(renderSpectrogramImage(analysed.spectrogram, { width, height, markers, title: task.relPath })));
+  await writeFile(paths.waveform, encodePng(renderWaveformImage(analysed.waveform, { width, height: WAVEFORM_HEIGHT_PX, markers })));
+  if (analysed.channelSpectrograms) {
+    for (const [c, grid] of analysed.channelSpectrograms.entries()) {
+      const title = `${task.relPath} (channel ${c + 1})`;
+      await writeFile(paths.png.replace(/\.png$/, `.ch${c + 1}.png`), encodePng(renderSpectrogramImage(grid, { width, height, markers, title })));
+    }
+  }
+  return paths.shown;
+}
+
+export async function analyseFile(task: AnalyseTask, ctx: ScanContext): Promise<AnalysedFile> {
+  const timingsMs = { read: 0, decode: 0, hash: 0, analyse: 0, render: 0 };
+  let analysis: BlockAnalyser<FileAnalysisResult> | null = null;
+  let analyseMs = 0;
+  let read: AudioFileResult;
+  try {
+    read = await readAudioFile(task.absPath, {
+      onOpen: (info) => {
+        const a = createFileAnalysis(info.stream, ctx.settings);
+        analysis = a;
+        return (block) => {
+          const t = performance.now();
+          a.push(block);
+          analyseMs += performance.now() - t;
+        };
+      },
+    });
+  } catch (error) {
+    const code = analysis ? "analysis-failed" : "unreadable";
+    return { report: errorReport(task.relPath, task.sizeBytes, reportErrorOf(error, task, code)), audioSeconds: 0, imageError: null, timingsMs };
+  }
+  timingsMs.read = read.timings.readMs;
+  timingsMs.decode = read.timings.decodeMs;
+  timingsMs.hash = read.timings.hashMs;
+
+  let analysed: FileAnalysisResult;
+  try {
+    const t = performance.now();
+    analysed = (analysis as BlockAnalyser<FileAnalysisResult> | null)?.finish() ?? failNoAnalysis();
+    analyseMs += performance.now() - t;
+  } catch (error) {
+    return { report: errorReport(task.relPath, read.sizeBytes, reportErrorOf(error, task, "analysis-failed")), audioSeconds: 0, imageError: null, timingsMs };
+  }
+  timingsMs.analyse = analyseMs;
+
+  const { format, metadata, layout } = read.info;
+  const findings = [...analysed.findings, ...readerFindings(layout, read)];
+  const judged = judge(ctx.profile, { format, metrics: analysed.metrics, findings, error: null });
+
+  let spectrogram: string | null = null;
+  let imageError: string | null = null;
+  if (ctx.spectrograms) {
+    const t = performance.now();
+    try {
+      spectrogram = await writeImages(analysed, judged.findings, ctx.spectrograms, task, ctx.settings);
+    } catch (error) {
+      imageError = `${task.relPath}: spectrogram not written (${oneLine(error)})`;
+    }
+    timingsMs.render = performance.now() - t;
+  }
+
+  return {
+    report: {
+      path: task.relPath,
+      sizeBytes: read.sizeBytes,
+      sha256: read.sha256,
+      format,
+      metadata,
+      metrics: analysed.metrics,
+      findings: judged.findings,
+      verdict: judged.verdict,
+      error: null,
+      spectrogram,
+    },
+    audioSeconds: format.durationSeconds,
+    imageError,
+    timingsMs,
+  };
+}
+
+function failNoAnalysis(): never {
+  throw new Error("the reader finished without opening the audio stream");
+}

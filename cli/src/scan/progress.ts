@@ -1,0 +1,72 @@
+/**
+ * Scan progress on stderr: an ora spinner with file n/total, the current file and the realtime factor
+ * (seconds of audio measured per second of wall time). Only on a terminal, and never with --quiet.
+ */
+import ora, { type Ora } from "ora";
+
+export interface ScanProgress {
+  fileStarted(relPath: string): void;
+  fileDone(relPath: string, audioSeconds: number): void;
+  /** Prints a line above the spinner (warnings), or plainly when there is no spinner. */
+  note(line: string): void;
+  stop(): void;
+}
+
+export interface ProgressOptions {
+  total: number;
+  /** Files skipped by --resume count as done from the start. */
+  alreadyDone: number;
+  stream: NodeJS.WritableStream & { isTTY?: boolean };
+  enabled: boolean;
+}
+
+export function realtimeFactor(audioSeconds: number, wallSeconds: number): number {
+  return wallSeconds > 0 ? audioSeconds / wallSeconds : 0;
+}
+
+export function progressText(done: number, total: number, current: string | null, factor: number): string {
+  const rate = factor > 0 ? `  ${factor >= 10 ? factor.toFixed(0) : factor.toFixed(1)}x realtime` : "";
+  return `${done}/${total}${current ? `  ${current}` : ""}${rate}`;
+}
+
+export function createScanProgress(options: ProgressOptions): ScanProgress {
+  const startedMs = performance.now();
+  let done = options.alreadyDone;
+  let audioSeconds = 0;
+  const inFlight: string[] = [];
+  const spinner: Ora | null =
+    options.enabled && options.stream.isTTY ? ora({ stream: options.stream, discardStdin: false, hideCursor: true }).start() : null;
+
+  const refresh = (): void => {
+    if (!spinner) return;
+    const factor = realtimeFactor(audioSeconds, (performance.now() - startedMs) / 1000);
+    spinner.text = progressText(done, options.total, inFlight[0] ?? null, factor);
+  };
+  refresh();
+
+  return {
+    fileStarted(relPath) {
+      inFlight.push(relPath);
+      refresh();
+    },
+    fileDone(relPath, seconds) {
+      const i = inFlight.indexOf(relPath);
+      if (i >= 0) inFlight.splice(i, 1);
+      done += 1;
+      audioSeconds += seconds;
+      refresh();
+    },
+    note(line) {
+      if (spinner) {
+        spinner.clear();
+        options.stream.write(`${line}\n`);
+        spinner.render();
+      } else {
+        options.stream.write(`${line}\n`);
+      }
+    },
+    stop() {
+      spinner?.stop();
+    },
+  };
+}

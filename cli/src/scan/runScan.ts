@@ -1,0 +1,120 @@
+/**
+ * Runs the measurements of a scan on the worker pool, `workers` files at a time, in sorted order.
+ * With a resume state, a file whose size and mtime match its record is hashed first and its earlier
+ * result reused when the SHA-256 matches too; every newly finished file is appended to the state at once.
+ */
+import { access } from "node:fs/promises";
+import type { FileReport } from "@tidemark/shared/types/report";
+import { oneLine } from "../errors.ts";
+import { errorReport, spectrogramPaths, type ScanContext } from "./analyseFile.ts";
+import type { CrawledFile } from "./crawlFiles.ts";
+import type { Interruption } from "./interruption.ts";
+import type { ScanProgress } from "./progress.ts";
+import type { ResumeRecord, ResumeState } from "./resumeState.ts";
+import type { ScanTask, ScanTaskResult } from "./scanWorker.ts";
+import { createWorkerPool, WorkerCrashError, type WorkerPool } from "./workerPool.ts";
+
+export interface RunScanOptions {
+  files: readonly CrawledFile[];
+  workers: number;
+  context: ScanContext;
+  resume: ResumeState | null;
+  progress: ScanProgress;
+  interruption: Interruption;
+}
+
+export interface RunScanResult {
+  /** Finished files (all of them unless interrupted). */
+  reports: FileReport[];
+  /** Files measured in this run (not taken from the resume state). */
+  measured: number;
+  reused: number;
+  audioSeconds: number;
+  interrupted: boolean;
+}
+
+/** Per-worker V8 heap cap: far above what one file needs (#8), low enough to stop a runaway. */
+const WORKER_HEAP_LIMIT_MB = 1024;
+
+async function exists(file: string): Promise<boolean> {
+  return access(file).then(
+    () => true,
+    () => false,
+  );
+}
+
+/** The earlier result may stand only if nothing it depends on has changed. */
+async function reusable(record: ResumeRecord | undefined, file: CrawledFile, context: ScanContext): Promise<boolean> {
+  if (!record || record.sizeBytes !== file.sizeBytes || record.mtimeMs !== file.mtimeMs) return false;
+  if (record.report.sha256 === null) return false;
+  if (context.spectrograms) {
+    if (!record.report.spectrogram) return false;
+    if (!(await exists(spectrogramPaths(context.spectrograms, file.relPath).png))) return false;
+  }
+  return true;
+}
+
+export async function runScan(options: RunScanOptions): Promise<RunScanResult> {
+  const { files, context, resume, progress, interruption } = options;
+  const reports: FileReport[] = [];
+  let measured = 0;
+  let reused = 0;
+  let audioSeconds = 0;
+  if (files.length === 0) return { reports, measured, reused, audioSeconds, interrupted: interruption.requested };
+
+  const pool: WorkerPool<ScanTask, ScanTaskResult> = createWorkerPool({
+    size: Math.min(options.workers, files.length),
+    script: new URL("./scanWorker.ts", import.meta.url),
+    workerData: context,
+    maxOldGenerationSizeMb: WORKER_HEAP_LIMIT_MB,
+  });
+  interruption.onImmediate(() => void pool.terminate());
+
+  const measure = async (file: CrawledFile): Promise<{ report: FileReport; seconds: number } | null> => {
+    try {
+      const result = await pool.run({ kind: "analyse", absPath: file.absPath, relPath: file.relPath, sizeBytes: file.sizeBytes });
+      if (result.kind !== "analysed") throw new Error(`expected a measurement, got ${result.kind}`);
+      if (result.file.imageError) progress.note(`tidemark: warning: ${result.file.imageError}`);
+      return { report: result.file.report, seconds: result.file.audioSeconds };
+    } catch (error) {
+      // Stopped on purpose: the file is simply not done.
+      if (interruption.immediate) return null;
+      const code = error instanceof WorkerCrashError ? "worker-crashed" : "analysis-failed";
+      return { report: errorReport(file.relPath, file.sizeBytes, { code, message: `${file.relPath}: measurement stopped (${oneLine(error)})` }), seconds: 0 };
+    }
+  };
+
+  const processFile = async (file: CrawledFile): Promise<void> => {
+    progress.fileStarted(file.relPath);
+    const record = resume?.records.get(file.relPath);
+    if (record && (await reusable(record, file, context))) {
+      const hashed = await pool.run({ kind: "hash", absPath: file.absPath }).catch(() => null);
+      if (hashed?.kind === "hashed" && hashed.sha256 === record.report.sha256) {
+        reports.push(record.report);
+        reused += 1;
+        progress.fileDone(file.relPath, 0);
+        return;
+      }
+      if (interruption.immediate) return;
+    }
+    const done = await measure(file);
+    if (!done) return;
+    reports.push(done.report);
+    measured += 1;
+    audioSeconds += done.seconds;
+    resume?.append({ kind: "file", relPath: file.relPath, sizeBytes: file.sizeBytes, mtimeMs: file.mtimeMs, report: done.report });
+    progress.fileDone(file.relPath, done.seconds);
+  };
+
+  let next = 0;
+  const lane = async (): Promise<void> => {
+    while (!interruption.requested && next < files.length) await processFile(files[next++]);
+  };
+  try {
+    await Promise.all(Array.from({ length: pool.size }, lane));
+  } finally {
+    if (interruption.immediate) await pool.terminate();
+    else await pool.close();
+  }
+  return { reports, measured, reused, audioSeconds, interrupted: interruption.requested };
+}

@@ -1,0 +1,139 @@
+/**
+ * A fixed pool of worker threads, one task at a time each. The workers are TypeScript run through tsx,
+ * so each is started with tsx's loader. A worker that dies mid-task (crash, out of memory) fails only
+ * that task with WorkerCrashError and is replaced; the pool carries on.
+ */
+import { Worker } from "node:worker_threads";
+
+export class WorkerCrashError extends Error {
+  constructor(message: string) {
+    super(message);
+    this.name = "WorkerCrashError";
+  }
+}
+
+export interface WorkerPool<Task, Result> {
+  readonly size: number;
+  /** Runs the task on the next free worker (queued while all are busy). */
+  run(task: Task): Promise<Result>;
+  /** Waits for running tasks, then stops the workers; queued tasks are rejected. */
+  close(): Promise<void>;
+  /** Stops the workers now; running and queued tasks are rejected. */
+  terminate(): Promise<void>;
+}
+
+export interface WorkerPoolOptions {
+  size: number;
+  script: URL;
+  workerData?: unknown;
+  /** Old-space limit per worker, so one hostile file cannot take the machine's memory. */
+  maxOldGenerationSizeMb?: number;
+}
+
+/** What a worker posts back for each task. */
+export type WorkerReply<Result> = { id: number; ok: true; result: Result } | { id: number; ok: false; message: string };
+
+interface Job<Task, Result> {
+  id: number;
+  task: Task;
+  resolve(result: Result): void;
+  reject(error: Error): void;
+}
+
+interface Slot<Task, Result> {
+  worker: Worker;
+  job: Job<Task, Result> | null;
+}
+
+const tsxLoader = (): string => import.meta.resolve("tsx");
+
+export function createWorkerPool<Task, Result>(options: WorkerPoolOptions): WorkerPool<Task, Result> {
+  const queue: Job<Task, Result>[] = [];
+  const slots: Slot<Task, Result>[] = [];
+  let nextId = 1;
+  let closing = false;
+  let idleWaiters: (() => void)[] = [];
+
+  const spawn = (): Slot<Task, Result> => {
+    const worker = new Worker(options.script, {
+      workerData: options.workerData,
+      execArgv: ["--import", tsxLoader()],
+      resourceLimits: options.maxOldGenerationSizeMb ? { maxOldGenerationSizeMb: options.maxOldGenerationSizeMb } : undefined,
+      stdout: false,
+      stderr: false,
+    });
+    const slot: Slot<Task, Result> = { worker, job: null };
+    worker.on("message", (reply: WorkerReply<Result>) => {
+      const job = slot.job;
+      if (!job || job.id !== reply.id) return;
+      slot.job = null;
+      if (reply.ok) job.resolve(reply.result);
+      else job.reject(new Error(reply.message));
+      dispatch();
+    });
+    const lost = (why: string): void => {
+      const job = slot.job;
+      slot.job = null;
+      const index = slots.indexOf(slot);
+      if (index >= 0) slots.splice(index, 1);
+      job?.reject(new WorkerCrashError(why));
+      if (!closing) slots.push(spawn());
+      dispatch();
+    };
+    worker.on("error", (error) => lost(`worker failed: ${error.message.split("\n")[0]}`));
+    worker.on("exit", (code) => {
+      if (slots.includes(slot)) lost(`worker exited with code ${code}`);
+    });
+    return slot;
+  };
+
+  const dispatch = (): void => {
+    for (const slot of slots) {
+      if (slot.job || queue.length === 0) continue;
+      const job = queue.shift()!;
+      slot.job = job;
+      slot.worker.postMessage({ id: job.id, task: job.task });
+    }
+    if (slots.every((s) => !s.job) && queue.length === 0) {
+      const waiters = idleWaiters;
+      idleWaiters = [];
+      for (const w of waiters) w();
+    }
+  };
+
+  for (let i = 0; i < options.size; i++) slots.push(spawn());
+
+  const stopAll = async (): Promise<void> => {
+    closing = true;
+    const workers = slots.splice(0).map((s) => {
+      s.job?.reject(new WorkerCrashError("worker stopped"));
+      s.job = null;
+      return s.worker;
+    });
+    await Promise.all(workers.map((w) => w.terminate()));
+  };
+
+  const rejectQueued = (): void => {
+    for (const job of queue.splice(0)) job.reject(new WorkerCrashError("pool closed before the task started"));
+  };
+
+  return {
+    size: options.size,
+    run(task) {
+      if (closing) return Promise.reject(new WorkerCrashError("pool is closed"));
+      return new Promise<Result>((resolve, reject) => {
+        queue.push({ id: nextId++, task, resolve, reject });
+        dispatch();
+      });
+    },
+    async close() {
+      rejectQueued();
+      if (slots.some((s) => s.job)) await new Promise<void>((resolve) => idleWaiters.push(resolve));
+      await stopAll();
+    },
+    async terminate() {
+      rejectQueued();
+      await stopAll();
+    },
+  };
+}

@@ -1,0 +1,81 @@
+/**
+ * Batches that could not be delivered wait in the spool folder (one subfolder each: batch.json, the
+ * report, the PNGs) until `tidemark upload --spool` sends them. A batch is written to a temporary folder
+ * and renamed into place, so a crash never leaves half a batch to send.
+ */
+import { mkdir, readdir, readFile, rename, rm, writeFile } from "node:fs/promises";
+import path from "node:path";
+import type { ImagePart, IngestBatch } from "./ingestClient.ts";
+
+export interface SpooledBatch {
+  /** The batch's folder. */
+  dir: string;
+  server: string;
+  spooledAt: string;
+  batch: IngestBatch;
+}
+
+interface SpoolManifest {
+  kind: "tidemark.spool/1";
+  server: string;
+  collection: string;
+  batchKey: string;
+  spooledAt: string;
+  images: { field: ImagePart["field"]; fileIndex: number; file: string }[];
+}
+
+const safeName = (s: string): string => s.replace(/[^A-Za-z0-9._-]+/g, "_").slice(0, 64);
+
+export async function spoolBatch(spoolRoot: string, server: string, batch: IngestBatch, now = new Date()): Promise<string> {
+  await mkdir(spoolRoot, { recursive: true, mode: 0o700 });
+  const name = `${now.toISOString().replace(/[:.]/g, "-")}-${safeName(batch.batchKey)}`;
+  const temp = path.join(spoolRoot, `.incoming-${name}-${process.pid}`);
+  await mkdir(temp, { recursive: true });
+  const images = batch.images.map((image) => ({ field: image.field, fileIndex: image.fileIndex, file: `${image.field}-${image.fileIndex}.png` }));
+  for (const [i, image] of batch.images.entries()) await writeFile(path.join(temp, images[i].file), image.bytes);
+  await writeFile(path.join(temp, "report.json"), batch.reportJson);
+  const manifest: SpoolManifest = {
+    kind: "tidemark.spool/1",
+    server,
+    collection: batch.collection,
+    batchKey: batch.batchKey,
+    spooledAt: now.toISOString(),
+    images,
+  };
+  await writeFile(path.join(temp, "batch.json"), `${JSON.stringify(manifest, null, 2)}\n`);
+  const target = path.join(spoolRoot, name);
+  await rm(target, { recursive: true, force: true });
+  await rename(temp, target);
+  return target;
+}
+
+/** Spooled batches, oldest first; folders that are not complete batches are left alone. */
+export async function listSpooled(spoolRoot: string): Promise<string[]> {
+  const entries = await readdir(spoolRoot, { withFileTypes: true }).catch((error: { code?: string }) => {
+    if (error.code === "ENOENT") return [];
+    throw error;
+  });
+  return entries
+    .filter((e) => e.isDirectory() && !e.name.startsWith("."))
+    .map((e) => path.join(spoolRoot, e.name))
+    .sort();
+}
+
+export async function loadSpooled(dir: string): Promise<SpooledBatch> {
+  const manifest = JSON.parse(await readFile(path.join(dir, "batch.json"), "utf8")) as SpoolManifest;
+  if (manifest.kind !== "tidemark.spool/1") throw new Error(`${dir}: not a spooled tidemark batch`);
+  const images: ImagePart[] = [];
+  for (const image of manifest.images) {
+    images.push({ field: image.field, fileIndex: image.fileIndex, bytes: await readFile(path.join(dir, image.file)) });
+  }
+  return {
+    dir,
+    server: manifest.server,
+    spooledAt: manifest.spooledAt,
+    batch: { reportJson: await readFile(path.join(dir, "report.json"), "utf8"), collection: manifest.collection, batchKey: manifest.batchKey, images },
+  };
+}
+
+export async function removeSpooled(dir: string): Promise<void> {
+  await rm(dir, { recursive: true, force: true });
+}
