@@ -7,12 +7,13 @@ import "@fontsource/source-serif-4/400.css";
 import "@fontsource/source-serif-4/600.css";
 import "./index.css";
 import { createQueryClient } from "./api/queryClient.ts";
-import { router } from "./router.tsx";
+import { createAppRouter } from "./router.tsx";
 
 const root = document.getElementById("root");
 if (!root) throw new Error("index.html has no #root element");
 
 const queryClient = createQueryClient();
+const router = createAppRouter();
 
 createRoot(root).render(
   <StrictMode>

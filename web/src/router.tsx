@@ -73,4 +73,7 @@ export const routes: RouteObject[] = [
   },
 ];
 
-export const router = createBrowserRouter(routes);
+/** Built on demand so importing the routes (tests, tools) does not start a browser router. */
+export function createAppRouter() {
+  return createBrowserRouter(routes);
+}

@@ -1,0 +1,74 @@
+import { afterEach, describe, expect, it, vi } from "vitest";
+import { fireEvent, screen, waitFor, within } from "@testing-library/react";
+import type { TokenDto } from "@tidemark/shared/types/api";
+import { stubFetch } from "./fetchStub.ts";
+import { user } from "./fixtures.ts";
+import { renderApp } from "./renderApp.tsx";
+
+afterEach(() => vi.unstubAllGlobals());
+
+function token(id: string, name: string): TokenDto {
+  return { id, name, createdAt: "2026-11-02T08:00:00.000Z", lastUsedAt: null, revokedAt: null };
+}
+
+describe("API tokens", () => {
+  it("shows a new token once, copies it, and forgets it when dismissed", async () => {
+    const tokens: TokenDto[] = [token("tk1", "station-1")];
+    const stub = stubFetch()
+      .on("GET", "/api/session", { body: { user: user("technician") } })
+      .on("GET", "/api/tokens", () => ({ body: tokens }))
+      .on("POST", "/api/tokens", (req) => {
+        const { name } = req.body as { name: string };
+        tokens.push(token("tk2", name));
+        return { status: 201, body: { id: "tk2", name, token: "tk2:s3cr3t-value" } };
+      });
+    const writeText = vi.fn(async () => undefined);
+    vi.stubGlobal("navigator", { ...navigator, clipboard: { writeText } });
+    renderApp("/tokens");
+    await screen.findByText("station-1");
+
+    fireEvent.change(screen.getByLabelText(/Token name/), { target: { value: "transfer-station-2" } });
+    fireEvent.click(screen.getByRole("button", { name: "Create token" }));
+    const notice = await screen.findByRole("region", { name: "New token" });
+    expect(within(notice).getByText("tk2:s3cr3t-value")).toBeTruthy();
+    expect(stub.requests("POST", "/api/tokens")[0].body).toEqual({ name: "transfer-station-2" });
+    await screen.findByText("transfer-station-2");
+
+    fireEvent.click(within(notice).getByRole("button", { name: "Copy token" }));
+    await within(notice).findByText("Copied.");
+    expect(writeText).toHaveBeenCalledWith("tk2:s3cr3t-value");
+
+    fireEvent.click(within(notice).getByRole("button", { name: "I have saved it" }));
+    expect(screen.queryByText("tk2:s3cr3t-value")).toBeNull();
+  });
+
+  it("revokes only after a confirmation and re-reads the list", async () => {
+    const tokens: TokenDto[] = [token("tk1", "station-1")];
+    const stub = stubFetch()
+      .on("GET", "/api/session", { body: { user: user("supervisor") } })
+      .on("GET", "/api/tokens", () => ({ body: tokens }))
+      .on("DELETE", "/api/tokens/tk1", () => {
+        tokens[0] = { ...tokens[0], revokedAt: "2026-11-03T08:00:00.000Z" };
+        return { status: 204 };
+      });
+    renderApp("/tokens");
+    fireEvent.click(await screen.findByRole("button", { name: "Revoke" }));
+    expect(stub.requests("DELETE", "/api/tokens/tk1")).toHaveLength(0);
+    fireEvent.click(screen.getByRole("button", { name: "Yes, revoke “station-1”" }));
+    await screen.findByText(/^revoked/);
+    expect(stub.requests("DELETE", "/api/tokens/tk1")[0].headers.get("x-tidemark-request")).toBe("1");
+    await waitFor(() => expect(stub.requests("GET", "/api/tokens")).toHaveLength(2));
+  });
+
+  it("explains a failed creation in plain words", async () => {
+    stubFetch()
+      .on("GET", "/api/session", { body: { user: user("admin") } })
+      .on("GET", "/api/tokens", { body: [] })
+      .on("POST", "/api/tokens", { status: 422, body: { error: { code: "invalid", message: "A token with this name already exists." } } });
+    renderApp("/tokens");
+    expect(await screen.findByText("No tokens yet")).toBeTruthy();
+    fireEvent.change(screen.getByLabelText(/Token name/), { target: { value: "dup" } });
+    fireEvent.click(screen.getByRole("button", { name: "Create token" }));
+    expect((await screen.findByRole("alert")).textContent).toBe("The token was not created: A token with this name already exists.");
+  });
+});
