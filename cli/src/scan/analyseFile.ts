@@ -17,13 +17,8 @@ import { readerFindings } from "@tidemark/shared/wav/readerFindings";
 import { readAudioFile, type AudioFileResult } from "../audio/readAudioFile.ts";
 import { encodePng } from "../render/encodePng.ts";
 import { oneLine } from "../errors.ts";
-
-export interface SpectrogramTarget {
-  /** Where PNGs are written. */
-  dirAbs: string;
-  /** The folder as the user gave it (forward slashes): the report's `spectrogram` paths start with it. */
-  dirShown: string;
-}
+import { errorReport } from "./errorReport.ts";
+import { spectrogramPaths, type SpectrogramTarget } from "./spectrogramPaths.ts";
 
 export interface ScanContext {
   profile: Profile;
@@ -48,29 +43,6 @@ export interface AnalysedFile {
 
 /** Height of the overview waveform strip, px (its width follows the spectrogram's). */
 export const WAVEFORM_HEIGHT_PX = 120;
-
-export function spectrogramPaths(target: SpectrogramTarget, relPath: string): { png: string; waveform: string; shown: string } {
-  const png = path.join(target.dirAbs, ...relPath.split("/")) + ".png";
-  return { png, waveform: png.replace(/\.png$/, ".waveform.png"), shown: `${target.dirShown}/${relPath}.png` };
-}
-
-export function errorReport(relPath: string, sizeBytes: number, error: ReportError, findings: Finding[] = []): FileReport {
-  return {
-    path: relPath,
-    sizeBytes,
-    sha256: null,
-    format: null,
-    metadata: {},
-    metrics: null,
-    findings: [
-      ...findings,
-      { code: "unreadable", severity: "fail", channel: null, startSeconds: null, endSeconds: null, message: error.message },
-    ],
-    verdict: "error",
-    error,
-    spectrogram: null,
-  };
-}
 
 /** Stable code of a reader error (AudioFileError / WavFormatError), or a generic one for anything else. */
 function reportErrorOf(error: unknown, task: AnalyseTask, fallbackCode: string): ReportError {

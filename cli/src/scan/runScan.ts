@@ -6,7 +6,9 @@
 import { access } from "node:fs/promises";
 import type { FileReport } from "@tidemark/shared/types/report";
 import { oneLine } from "../errors.ts";
-import { errorReport, spectrogramPaths, type ScanContext } from "./analyseFile.ts";
+import type { ScanContext } from "./analyseFile.ts";
+import { errorReport } from "./errorReport.ts";
+import { spectrogramPaths } from "./spectrogramPaths.ts";
 import type { CrawledFile } from "./crawlFiles.ts";
 import type { Interruption } from "./interruption.ts";
 import type { ScanProgress } from "./progress.ts";
