@@ -47,7 +47,7 @@ describe("session", () => {
       })
       .on("GET", "/api/collections", { body: [] })
       .on("GET", "/api/batches", { body: page([]) })
-      .on("GET", "/api/files", (req) => (expired ? unauthorized : { body: page([fileSummary(1)], 1, 1) }));
+      .on("GET", "/api/files", () => (expired ? unauthorized : { body: page([fileSummary(1)], 1, 1) }));
     const { router } = renderApp("/batches");
     await screen.findByText("No batches yet");
 
