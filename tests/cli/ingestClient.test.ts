@@ -35,7 +35,7 @@ function recordingServer(answers: { status: number; body: unknown }[]): Promise<
 
 /** Parses a recorded multipart body with the platform's own parser (undici's Response.formData). */
 async function formOf(r: Recorded): Promise<FormData> {
-  return new Response(r.body, { headers: { "content-type": String(r.headers["content-type"]) } }).formData();
+  return new Response(new Uint8Array(r.body), { headers: { "content-type": String(r.headers["content-type"]) } }).formData();
 }
 
 const PNG_MAGIC = Uint8Array.from([0x89, 0x50, 0x4e, 0x47, 0x0d, 0x0a, 0x1a, 0x0a]);

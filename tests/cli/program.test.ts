@@ -1,3 +1,4 @@
+import { readFileSync } from "node:fs";
 import { availableParallelism } from "node:os";
 import { CommanderError } from "commander";
 import { describe, expect, it } from "vitest";
@@ -131,7 +132,7 @@ describe("createProgram argv table", () => {
 
   // Exit codes as fixed by shared/README.md (0 / 1 / 2) and issue #5 (130 interrupted).
   it("prints the version from cli/package.json and lists the exit codes in --help", async () => {
-    const pkg = (await import("../../cli/package.json", { with: { type: "json" } })).default as { version: string };
+    const pkg = JSON.parse(readFileSync(new URL("../../cli/package.json", import.meta.url), "utf8")) as { version: string };
     const version = await parse(["--version"]);
     expect(version.output.trim()).toBe(pkg.version);
     expect(exitCodeFor(version.error)).toBe(0);
