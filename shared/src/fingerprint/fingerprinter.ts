@@ -1,0 +1,163 @@
+/**
+ * Streaming spectral fingerprint (issue #11) after "An Industrial-Strength Audio Search Algorithm"
+ * (Wang, 2003). Channels are mixed to mono and resampled to one internal rate, so the
+ * time–frequency grid is the same in seconds and hertz for every input rate; only 300 Hz–4 kHz is
+ * looked at, so a lossy-style low-pass, an upsampled copy or a different transfer rate changes
+ * nothing the fingerprint sees.
+ */
+import type { AudioBlock, BlockAnalyser, StreamFormat } from "../types/analysis.ts";
+import { createFramePowerSpectrum } from "./fftFrames.ts";
+import { createPeakPicker, hashLandmarks } from "./landmarks.ts";
+import { createStreamingResampler } from "./resampler.ts";
+import type { Fingerprint } from "./types.ts";
+
+/** Bump whenever anything below changes the hashes: fingerprints of other versions don't compare. */
+export const FINGERPRINT_VERSION = 1;
+
+const ANALYSIS_RATE_HZ = 11025;
+const FFT_SIZE = 1024; // 92.9 ms window, 10.77 Hz bins
+const HOP_SIZE = 256; // 23.2 ms
+const BAND_LOW_HZ = 300;
+const BAND_HIGH_HZ = 4000;
+const FIRST_BIN = Math.ceil((BAND_LOW_HZ * FFT_SIZE) / ANALYSIS_RATE_HZ);
+const LAST_BIN = Math.floor((BAND_HIGH_HZ * FFT_SIZE) / ANALYSIS_RATE_HZ);
+const BAND_BINS = LAST_BIN - FIRST_BIN + 1;
+
+/** Hard ceiling of the issue: at most this many hashes per second of audio, on average. */
+export const MAX_HASHES_PER_SECOND = 20;
+
+const PEAKS = {
+  bins: BAND_BINS,
+  freqRadiusBins: 10, // ±108 Hz
+  timeRadiusFrames: 3, // ±70 ms
+  // A full-scale sine peaks at 20·log10(N/4) dB in a Hann-windowed bin; ignore 100 dB below that.
+  floorDb: 20 * Math.log10(FFT_SIZE / 4) - 100,
+  peaksPerWindow: 6,
+  rankRadiusFrames: 42, // any 43 frames (≈ 1 s) hold ≤ 6 kept peaks
+};
+const PAIRS = { fanOut: 3, minDeltaFrames: 1, maxDeltaFrames: 63, maxDeltaBins: BAND_BINS - 1 };
+
+/** The fixed analysis grid, for callers that reason in frames (index, tests, server docs). */
+export const FINGERPRINT_GRID = {
+  version: FINGERPRINT_VERSION,
+  analysisRateHz: ANALYSIS_RATE_HZ,
+  fftSize: FFT_SIZE,
+  hopSize: HOP_SIZE,
+  hopSeconds: HOP_SIZE / ANALYSIS_RATE_HZ,
+  bandLowHz: (FIRST_BIN * ANALYSIS_RATE_HZ) / FFT_SIZE,
+  bandHighHz: (LAST_BIN * ANALYSIS_RATE_HZ) / FFT_SIZE,
+  bandBins: BAND_BINS,
+  peaks: PEAKS,
+  pairs: PAIRS,
+} as const;
+
+/** Anchor time of frame k: the centre of its window. */
+export function frameTimeSeconds(frame: number): number {
+  return (frame * HOP_SIZE + FFT_SIZE / 2) / ANALYSIS_RATE_HZ;
+}
+
+export const MIN_SAMPLE_RATE_HZ = 8000;
+export const MAX_SAMPLE_RATE_HZ = 384000;
+
+export function createFingerprinter(format: StreamFormat): BlockAnalyser<Fingerprint> {
+  const { sampleRateHz, channels } = format;
+  if (!Number.isFinite(sampleRateHz) || sampleRateHz < MIN_SAMPLE_RATE_HZ || sampleRateHz > MAX_SAMPLE_RATE_HZ) {
+    throw new RangeError(`fingerprint: sampleRateHz must be in [${MIN_SAMPLE_RATE_HZ}, ${MAX_SAMPLE_RATE_HZ}], got ${sampleRateHz}`);
+  }
+  if (!Number.isInteger(channels) || channels < 1) {
+    throw new RangeError(`fingerprint: channels must be an integer ≥ 1, got ${channels}`);
+  }
+
+  const resampler = createStreamingResampler({
+    inputRateHz: sampleRateHz,
+    outputRateHz: ANALYSIS_RATE_HZ,
+    passbandHz: BAND_HIGH_HZ,
+    // Anything above (internal rate − 4 kHz) would fold back into the band; between that and 4 kHz may leak.
+    stopbandHz: ANALYSIS_RATE_HZ - BAND_HIGH_HZ,
+  });
+  const spectrum = createFramePowerSpectrum(FFT_SIZE);
+  const picker = createPeakPicker(PEAKS);
+
+  let mono = new Float32Array(0);
+  const resampled = new Float32Array(4096);
+  const frame = new Float32Array(FFT_SIZE);
+  let frameFill = 0;
+  const bandDb = new Float32Array(BAND_BINS);
+  const inverseChannels = 1 / channels;
+  let framesPushed = 0;
+  let finished = false;
+
+  function drain(): void {
+    for (let n = resampler.read(resampled); n > 0; n = resampler.read(resampled)) {
+      let at = 0;
+      while (at < n) {
+        const take = Math.min(n - at, FFT_SIZE - frameFill);
+        frame.set(resampled.subarray(at, at + take), frameFill);
+        frameFill += take;
+        at += take;
+        if (frameFill === FFT_SIZE) {
+          spectrum.powerDb(frame, FIRST_BIN, bandDb);
+          picker.pushFrame(bandDb);
+          frame.copyWithin(0, HOP_SIZE);
+          frameFill = FFT_SIZE - HOP_SIZE;
+        }
+      }
+    }
+  }
+
+  return {
+    push(block: AudioBlock) {
+      if (finished) throw new Error("fingerprint: push() after finish()");
+      const { frames } = block;
+      if (block.channels.length !== channels) {
+        throw new RangeError(`fingerprint: block has ${block.channels.length} channels, format says ${channels}`);
+      }
+      if (!Number.isInteger(frames) || frames < 0) throw new RangeError(`fingerprint: block frames must be an integer ≥ 0, got ${frames}`);
+      if (block.startFrame !== framesPushed) {
+        throw new RangeError(`fingerprint: blocks must arrive in order: expected startFrame ${framesPushed}, got ${block.startFrame}`);
+      }
+      for (let c = 0; c < channels; c++) {
+        if (block.channels[c].length < frames) {
+          throw new RangeError(`fingerprint: channel ${c} holds ${block.channels[c].length} samples, block says ${frames}`);
+        }
+      }
+      if (mono.length < frames) mono = new Float32Array(frames);
+      const m = mono;
+      const first = block.channels[0];
+      if (channels === 1) {
+        // Non-finite samples (reported elsewhere) would smear NaN over a kernel's length: treat as silence.
+        for (let i = 0; i < frames; i++) {
+          const x = first[i];
+          m[i] = x - x === 0 ? x : 0;
+        }
+      } else {
+        m.set(first.subarray(0, frames));
+        for (let c = 1; c < channels; c++) {
+          const ch = block.channels[c];
+          for (let i = 0; i < frames; i++) m[i] += ch[i];
+        }
+        for (let i = 0; i < frames; i++) {
+          const x = m[i] * inverseChannels;
+          m[i] = x - x === 0 ? x : 0;
+        }
+      }
+      resampler.write(mono, frames);
+      framesPushed += frames;
+      drain();
+    },
+    finish() {
+      if (finished) throw new Error("fingerprint: finish() called twice");
+      finished = true;
+      resampler.end();
+      drain();
+      const peaks = picker.finish();
+      const { hashes, anchorFrames } = hashLandmarks(peaks, PAIRS);
+      const durationSeconds = framesPushed / sampleRateHz;
+      // The window bound gives ≤ 18.03 hashes/s on any long stretch; this also holds it on sub-second files.
+      const count = Math.min(hashes.length, Math.floor(MAX_HASHES_PER_SECOND * durationSeconds));
+      const times = new Float32Array(count);
+      for (let i = 0; i < count; i++) times[i] = frameTimeSeconds(anchorFrames[i]);
+      return { version: FINGERPRINT_VERSION, hashes: hashes.slice(0, count), times, durationSeconds };
+    },
+  };
+}
