@@ -1,0 +1,124 @@
+/**
+ * Server configuration, read from the environment once (main.ts). Everything else receives a Config.
+ */
+import { randomBytes } from "node:crypto";
+import { existsSync, mkdirSync, readFileSync, writeFileSync } from "node:fs";
+import path from "node:path";
+import { projectRoot } from "./paths.ts";
+
+export type ObjectStoreConfig =
+  | { kind: "fs"; dir: string }
+  | {
+      kind: "s3";
+      bucket: string;
+      region: string;
+      endpoint: string | null;
+      accessKeyId: string | null;
+      secretAccessKey: string | null;
+      forcePathStyle: boolean;
+      prefix: string;
+    };
+
+export interface Config {
+  databaseUrl: string;
+  port: number;
+  host: string;
+  /** Where people reach the portal; e-mailed links start with it. */
+  publicUrl: string;
+  sessionSecret: string;
+  /** Null: messages are written as .eml files to mailDir instead of being sent. */
+  smtpUrl: string | null;
+  mailFrom: string;
+  mailDir: string;
+  dataDir: string;
+  objectStore: ObjectStoreConfig;
+  webDistDir: string;
+  /** Express "trust proxy" setting: false, a hop count, or a list of addresses/subnets. */
+  trustProxy: boolean | number | string;
+  demoPassword: string;
+  /** Seed the demo on an empty database (off in production unless asked for). */
+  demoSeed: boolean;
+}
+
+export class ConfigError extends Error {}
+
+function parsePort(raw: string | undefined, fallback: number, name: string): number {
+  if (raw === undefined || raw === "") return fallback;
+  const n = Number(raw);
+  if (!Number.isInteger(n) || n < 0 || n > 65535) throw new ConfigError(`${name} must be a port number 0–65535, got "${raw}"`);
+  return n;
+}
+
+export function parseTrustProxy(raw: string | undefined): boolean | number | string {
+  if (raw === undefined || raw === "" || raw === "false" || raw === "0") return false;
+  if (raw === "true") return true;
+  if (/^\d+$/.test(raw)) return Number(raw);
+  return raw;
+}
+
+function parseBoolean(raw: string | undefined, fallback: boolean, name: string): boolean {
+  if (raw === undefined || raw === "") return fallback;
+  if (["1", "true", "yes"].includes(raw.toLowerCase())) return true;
+  if (["0", "false", "no"].includes(raw.toLowerCase())) return false;
+  throw new ConfigError(`${name} must be true or false, got "${raw}"`);
+}
+
+/** An unset SESSION_SECRET gets a random one, kept under .data so sessions survive restarts. */
+function sessionSecretFrom(raw: string | undefined, dataDir: string): string {
+  if (raw) {
+    if (raw.length < 32) throw new ConfigError("SESSION_SECRET must be at least 32 characters");
+    return raw;
+  }
+  const file = path.join(dataDir, "session-secret");
+  if (existsSync(file)) return readFileSync(file, "utf8").trim();
+  mkdirSync(dataDir, { recursive: true });
+  const secret = randomBytes(32).toString("base64url");
+  writeFileSync(file, secret + "\n", { mode: 0o600 });
+  return secret;
+}
+
+function objectStoreFrom(env: NodeJS.ProcessEnv, dataDir: string): ObjectStoreConfig {
+  const kind = env.OBJECT_STORE || "fs";
+  if (kind === "fs") return { kind, dir: path.resolve(projectRoot, env.OBJECT_STORE_DIR || path.join(dataDir, "objects")) };
+  if (kind !== "s3") throw new ConfigError(`OBJECT_STORE must be "fs" or "s3", got "${kind}"`);
+  if (!env.S3_BUCKET) throw new ConfigError("OBJECT_STORE=s3 needs S3_BUCKET");
+  return {
+    kind,
+    bucket: env.S3_BUCKET,
+    region: env.S3_REGION || "us-east-1",
+    endpoint: env.S3_ENDPOINT || null,
+    accessKeyId: env.S3_ACCESS_KEY_ID || null,
+    secretAccessKey: env.S3_SECRET_ACCESS_KEY || null,
+    forcePathStyle: parseBoolean(env.S3_FORCE_PATH_STYLE, Boolean(env.S3_ENDPOINT), "S3_FORCE_PATH_STYLE"),
+    prefix: env.S3_PREFIX || "",
+  };
+}
+
+export function loadConfig(env: NodeJS.ProcessEnv = process.env): Config {
+  if (!env.DATABASE_URL) throw new ConfigError("DATABASE_URL is not set (e.g. postgres://user@127.0.0.1:5432/tidemark)");
+  const dataDir = path.resolve(projectRoot, env.DATA_DIR || ".data");
+  const port = parsePort(env.PORT, 8080, "PORT");
+  const host = env.HOST || "127.0.0.1";
+  const publicUrl = (env.PUBLIC_URL || `http://${host}:${port}`).replace(/\/+$/, "");
+  try {
+    new URL(publicUrl);
+  } catch {
+    throw new ConfigError(`PUBLIC_URL must be an absolute URL, got "${publicUrl}"`);
+  }
+  return {
+    databaseUrl: env.DATABASE_URL,
+    port,
+    host,
+    publicUrl,
+    sessionSecret: sessionSecretFrom(env.SESSION_SECRET, dataDir),
+    smtpUrl: env.SMTP_URL || null,
+    mailFrom: env.MAIL_FROM || "Tidemark <tidemark@harbourside.test>",
+    mailDir: path.join(dataDir, "mail"),
+    dataDir,
+    objectStore: objectStoreFrom(env, dataDir),
+    webDistDir: path.resolve(projectRoot, env.WEB_DIST_DIR || "web/dist"),
+    trustProxy: parseTrustProxy(env.TRUST_PROXY),
+    demoPassword: env.DEMO_PASSWORD || "harbourside-demo",
+    demoSeed: parseBoolean(env.DEMO_SEED, env.NODE_ENV !== "production", "DEMO_SEED"),
+  };
+}

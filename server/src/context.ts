@@ -1,0 +1,60 @@
+/** What routes and services share: the database, the object store, the mailer, the logger, settings. */
+import { tmpdir } from "node:os";
+import path from "node:path";
+import type { Sequelize } from "sequelize";
+import type { Logger } from "./logger.ts";
+import type { Mailer } from "./mail/mailer.ts";
+import { DEFAULT_SCRYPT_COST, type ScryptCost } from "./services/passwords.ts";
+import type { ObjectStore } from "./storage/ObjectStore.ts";
+
+export interface RateLimitSettings {
+  windowMs: number;
+  limit: number;
+}
+
+export interface UploadLimits {
+  /** The report JSON part. */
+  maxReportBytes: number;
+  /** Each PNG part. */
+  maxImageBytes: number;
+  /** PNG parts per upload. */
+  maxImages: number;
+}
+
+export interface AppSettings {
+  publicUrl: string;
+  sessionSecret: string;
+  trustProxy: boolean | number | string;
+  /** Built portal to serve at /, or null to serve the API only. */
+  webDistDir: string | null;
+  passwordCost: ScryptCost;
+  /** Failed sign-ins per client address. */
+  loginRateLimit: RateLimitSettings;
+  /** Password-reset requests per client address. */
+  passwordResetRateLimit: RateLimitSettings;
+  passwordResetTtlMs: number;
+  sessionMaxAgeMs: number;
+  upload: UploadLimits;
+  /** Multipart parts land here before they are checked. */
+  uploadTmpDir: string;
+}
+
+export const DEFAULT_SETTINGS: Omit<AppSettings, "publicUrl" | "sessionSecret"> = {
+  trustProxy: false,
+  webDistDir: null,
+  passwordCost: DEFAULT_SCRYPT_COST,
+  loginRateLimit: { windowMs: 15 * 60_000, limit: 10 },
+  passwordResetRateLimit: { windowMs: 15 * 60_000, limit: 5 },
+  passwordResetTtlMs: 60 * 60_000,
+  sessionMaxAgeMs: 12 * 60 * 60_000,
+  upload: { maxReportBytes: 64 * 1024 * 1024, maxImageBytes: 16 * 1024 * 1024, maxImages: 20_000 },
+  uploadTmpDir: path.join(tmpdir(), "tidemark-uploads"),
+};
+
+export interface AppContext {
+  sequelize: Sequelize;
+  store: ObjectStore;
+  mailer: Mailer;
+  logger: Logger;
+  settings: AppSettings;
+}

@@ -1,0 +1,131 @@
+/** Models → the DTOs of shared/src/types/api.ts, in one place. */
+import type {
+  AuditEntryDto,
+  BatchDto,
+  CollectionDto,
+  CommentDto,
+  FileDetailDto,
+  FileSummaryDto,
+  FindingDto,
+  FixityEntryDto,
+  ReviewEventDto,
+  TokenDto,
+  UserDto,
+  UserRefDto,
+} from "@tidemark/shared/types/api";
+import type { ApiToken, AuditEntry, Batch, Collection, Comment, FileResult, Finding, ReviewEvent, User } from "./models/index.ts";
+
+const iso = (d: Date): string => d.toISOString();
+
+/** Associations are loaded by the caller; a missing one is a programming error, not bad input. */
+function required<T>(value: T | null | undefined, what: string): T {
+  if (value === null || value === undefined) throw new Error(`${what} was not loaded`);
+  return value;
+}
+
+export const toUserRefDto = (u: User): UserRefDto => ({ id: u.id, email: u.email, name: u.name });
+
+export const toUserDto = (u: User): UserDto => ({ ...toUserRefDto(u), role: u.role, disabled: u.disabled, createdAt: iso(u.createdAt) });
+
+export const toCollectionDto = (c: Collection): CollectionDto => ({ id: c.id, name: c.name });
+
+export const toBatchDto = (b: Batch): BatchDto => ({
+  id: b.id,
+  collection: toCollectionDto(required(b.collection, "batch.collection")),
+  uploader: toUserRefDto(required(b.uploader, "batch.uploader")),
+  batchKey: b.batchKey,
+  profileName: b.profileName,
+  profileHash: b.profileHash,
+  toolVersion: b.toolVersion,
+  startedAt: iso(b.startedAt),
+  finishedAt: iso(b.finishedAt),
+  createdAt: iso(b.createdAt),
+  counts: { files: b.fileCount, pass: b.passCount, warn: b.warnCount, fail: b.failCount, error: b.errorCount },
+});
+
+export const toFileSummaryDto = (f: FileResult): FileSummaryDto => ({
+  id: f.id,
+  batchId: f.batchId,
+  collection: toCollectionDto(required(f.collection, "file.collection")),
+  path: f.path,
+  durationSeconds: f.durationSeconds,
+  format: f.format,
+  verdict: f.verdict,
+  reviewState: f.reviewState,
+  worstFindings: f.worstFindings,
+  integratedLufs: f.integratedLufs,
+  truePeakDbtp: f.truePeakDbtp,
+  hasSpectrogram: f.spectrogramKey !== null,
+  createdAt: iso(f.createdAt),
+});
+
+export const toFindingDto = (f: Finding): FindingDto => ({
+  id: f.id,
+  code: f.code,
+  severity: f.severity,
+  channel: f.channel,
+  startSeconds: f.startSeconds,
+  endSeconds: f.endSeconds,
+  message: f.message,
+});
+
+export const toCommentDto = (c: Comment): CommentDto => ({
+  id: c.id,
+  author: toUserRefDto(required(c.author, "comment.author")),
+  body: c.body,
+  createdAt: iso(c.createdAt),
+});
+
+export const toReviewEventDto = (e: ReviewEvent): ReviewEventDto => ({
+  id: e.id,
+  actor: toUserRefDto(required(e.actor, "reviewEvent.actor")),
+  fromState: e.fromState,
+  toState: e.toState,
+  reason: e.reason,
+  createdAt: iso(e.createdAt),
+});
+
+export interface FileDetailParts {
+  findings: Finding[];
+  comments: Comment[];
+  reviewEvents: ReviewEvent[];
+  fixityHistory: FixityEntryDto[];
+}
+
+export const toFileDetailDto = (f: FileResult, parts: FileDetailParts): FileDetailDto => ({
+  ...toFileSummaryDto(f),
+  sizeBytes: Number(f.sizeBytes),
+  sha256: f.sha256,
+  metadata: f.metadata,
+  metrics: f.metrics,
+  error: f.error,
+  findings: parts.findings.map(toFindingDto),
+  comments: parts.comments.map(toCommentDto),
+  reviewEvents: parts.reviewEvents.map(toReviewEventDto),
+  fixityHistory: parts.fixityHistory,
+  spectrogramUrl: f.spectrogramKey ? `/api/files/${f.id}/spectrogram.png` : null,
+  waveformUrl: f.waveformKey ? `/api/files/${f.id}/waveform.png` : null,
+});
+
+/** TokenDto plus `owner`, which admins need in the all-tokens list (a contract addition). */
+export type TokenWithOwnerDto = TokenDto & { owner?: UserRefDto };
+
+export const toTokenDto = (t: ApiToken): TokenWithOwnerDto => ({
+  id: t.id,
+  name: t.name,
+  createdAt: iso(t.createdAt),
+  lastUsedAt: t.lastUsedAt ? iso(t.lastUsedAt) : null,
+  revokedAt: t.revokedAt ? iso(t.revokedAt) : null,
+  ...(t.owner ? { owner: toUserRefDto(t.owner) } : {}),
+});
+
+export const toAuditEntryDto = (a: AuditEntry): AuditEntryDto => ({
+  id: a.id,
+  actor: a.actor ? toUserRefDto(a.actor) : null,
+  action: a.action,
+  targetType: a.targetType,
+  targetId: a.targetId,
+  requestId: a.requestId,
+  details: a.details,
+  createdAt: iso(a.createdAt),
+});

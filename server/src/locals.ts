@@ -1,0 +1,31 @@
+/** Types of what middleware puts on res.locals and in the session. */
+import type { ApiToken, Batch, FileResult, User } from "./models/index.ts";
+
+export interface AuthContext {
+  user: User;
+  via: "session" | "token";
+  tokenId: string | null;
+}
+
+declare global {
+  // eslint-disable-next-line @typescript-eslint/no-namespace
+  namespace Express {
+    interface Locals {
+      requestId: string;
+      auth?: AuthContext;
+      file?: FileResult;
+      batch?: Batch;
+      targetUser?: User;
+      token?: ApiToken;
+    }
+  }
+}
+
+declare module "express-session" {
+  interface SessionData {
+    userId: number;
+    signedInAt: string;
+  }
+}
+
+export {};

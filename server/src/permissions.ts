@@ -1,0 +1,26 @@
+/**
+ * The one permission table, mirroring the roles table in the product notes (shared/README.md).
+ * Routes name a permission; requirePermission() looks the role up here and nowhere else.
+ */
+import type { Role } from "@tidemark/shared/types/api";
+
+export const PERMISSIONS = {
+  /** View batches, files, spectrograms. */
+  view: ["admin", "supervisor", "technician", "auditor"],
+  /** Upload via API token (CLI). */
+  upload: ["admin", "supervisor", "technician"],
+  comment: ["admin", "supervisor", "technician"],
+  /** Change review state / flag. */
+  review: ["admin", "supervisor"],
+  /** Export reports, read the audit trail. */
+  export: ["admin", "supervisor", "auditor"],
+  /** Manage users, revoke any token. */
+  manageUsers: ["admin"],
+  manageOwnTokens: ["admin", "supervisor", "technician"],
+} as const satisfies Record<string, readonly Role[]>;
+
+export type Permission = keyof typeof PERMISSIONS;
+
+export function can(role: Role, permission: Permission): boolean {
+  return (PERMISSIONS[permission] as readonly Role[]).includes(role);
+}

@@ -1,0 +1,66 @@
+import { Router } from "express";
+import { Op, type Order, type OrderItem, type WhereOptions } from "sequelize";
+import { z } from "zod";
+import { BATCH_SORT_KEYS, type BatchDto, type Page } from "@tidemark/shared/types/api";
+import { toBatchDto } from "../dto.ts";
+import { requirePermission } from "../middleware/auth.ts";
+import { loadBatch } from "../middleware/loadEntity.ts";
+import { Batch, Collection, User } from "../models/index.ts";
+import { optionalDate, optionalDateTo, optionalEnum, optionalId, orderParam, pageParams } from "../queryParams.ts";
+import { parseWith } from "../validate.ts";
+
+const batchQuery = z
+  .object({
+    collection: optionalId,
+    from: optionalDate,
+    to: optionalDateTo,
+    sort: optionalEnum(BATCH_SORT_KEYS),
+    order: orderParam,
+    ...pageParams,
+  })
+  .strict();
+
+type BatchSortKey = (typeof BATCH_SORT_KEYS)[number];
+
+function orderFor(sort: BatchSortKey, direction: "ASC" | "DESC"): Order {
+  const by: OrderItem =
+    sort === "collection" ? [{ model: Collection, as: "collection" }, "name", direction] : [sort, direction];
+  return [by, ["id", direction]];
+}
+
+export function batchesRouter(): Router {
+  const router = Router();
+
+  router.get("/batches", requirePermission("view"), async (req, res) => {
+    const query = parseWith(batchQuery, req.query, "query");
+    const where: WhereOptions<Batch> = {};
+    if (query.collection) Object.assign(where, { collectionId: query.collection });
+    // from/to are when the scan ran (batch startedAt), inclusive.
+    if (query.from || query.to) {
+      Object.assign(where, { startedAt: { ...(query.from ? { [Op.gte]: query.from } : {}), ...(query.to ? { [Op.lte]: query.to } : {}) } });
+    }
+    const sort = query.sort ?? "createdAt";
+    const direction = (query.order ?? (query.sort ? "asc" : "desc")).toUpperCase() as "ASC" | "DESC";
+    const [total, rows] = await Promise.all([
+      Batch.count({ where }),
+      Batch.findAll({
+        where,
+        include: [
+          { model: Collection, as: "collection" },
+          { model: User, as: "uploader" },
+        ],
+        order: orderFor(sort, direction),
+        limit: query.pageSize,
+        offset: (query.page - 1) * query.pageSize,
+      }),
+    ]);
+    const body: Page<BatchDto> = { items: rows.map(toBatchDto), total, page: query.page, pageSize: query.pageSize };
+    res.json(body);
+  });
+
+  router.get("/batches/:id", requirePermission("view"), loadBatch, (_req, res) => {
+    res.json(toBatchDto(res.locals.batch!));
+  });
+
+  return router;
+}

@@ -1,0 +1,57 @@
+import { Router } from "express";
+import { z } from "zod";
+import type { SessionDto } from "@tidemark/shared/types/api";
+import type { AppContext } from "../context.ts";
+import { toUserDto } from "../dto.ts";
+import { unauthorized } from "../errors.ts";
+import { limiter } from "../services/rateLimits.ts";
+import { signIn } from "../services/signIn.ts";
+import { recordAudit } from "../services/audit.ts";
+import { destroySession, regenerateSession, saveSession } from "../services/sessions.ts";
+import { parseWith } from "../validate.ts";
+
+const signInSchema = z.object({
+  email: z.string().trim().min(1).max(320),
+  password: z.string().min(1).max(1024),
+});
+
+export function sessionRouter(ctx: AppContext): Router {
+  const router = Router();
+
+  router.post("/session", limiter(ctx.settings.loginRateLimit, "failed sign-ins", { onlyFailures: true }), async (req, res) => {
+    const { email, password } = parseWith(signInSchema, req.body, "sign-in");
+    const user = await signIn(email, password, ctx.settings.passwordCost);
+    if (!user) {
+      await recordAudit(res, { action: "session.sign_in_failed", targetType: "session", details: { email } });
+      throw unauthorized("e-mail or password is wrong", "invalid_credentials");
+    }
+    // A fresh session id at sign-in: a session fixed before sign-in is worthless after it.
+    await regenerateSession(req);
+    req.session.userId = user.id;
+    req.session.signedInAt = new Date().toISOString();
+    await saveSession(req);
+    res.locals.auth = { user, via: "session", tokenId: null };
+    await recordAudit(res, { action: "session.sign_in", targetType: "user", targetId: user.id });
+    const body: SessionDto = { user: toUserDto(user) };
+    res.json(body);
+  });
+
+  router.get("/session", (_req, res) => {
+    const auth = res.locals.auth;
+    if (!auth) throw unauthorized("not signed in");
+    const body: SessionDto = { user: toUserDto(auth.user) };
+    res.json(body);
+  });
+
+  router.delete("/session", async (req, res) => {
+    const auth = res.locals.auth;
+    if (auth?.via === "session") await recordAudit(res, { action: "session.sign_out", targetType: "user", targetId: auth.user.id });
+    if (req.session) await destroySession(req);
+    res.clearCookie(SESSION_COOKIE, { path: "/" });
+    res.status(204).end();
+  });
+
+  return router;
+}
+
+export const SESSION_COOKIE = "tidemark.sid";

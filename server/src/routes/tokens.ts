@@ -1,0 +1,60 @@
+import { Router } from "express";
+import { z } from "zod";
+import type { CreatedTokenDto } from "@tidemark/shared/types/api";
+import type { AppContext } from "../context.ts";
+import { toTokenDto } from "../dto.ts";
+import { forbidden } from "../errors.ts";
+import { requirePermission, requireSessionAuth } from "../middleware/auth.ts";
+import { loadToken } from "../middleware/loadEntity.ts";
+import { ApiToken, User } from "../models/index.ts";
+import { can } from "../permissions.ts";
+import { createApiToken } from "../services/apiTokens.ts";
+import { recordAudit } from "../services/audit.ts";
+import { parseWith } from "../validate.ts";
+
+const createSchema = z.object({ name: z.string().trim().min(1).max(100) }).strict();
+const listQuery = z.object({ all: z.enum(["0", "1", "true", "false"]).optional() }).strict();
+
+export function tokensRouter(ctx: AppContext): Router {
+  const router = Router();
+  router.use("/tokens", requireSessionAuth);
+
+  router.get("/tokens", requirePermission("manageOwnTokens"), async (req, res) => {
+    const { all } = parseWith(listQuery, req.query, "query");
+    const user = res.locals.auth!.user;
+    const everyone = all === "1" || all === "true";
+    if (everyone && !can(user.role, "manageUsers")) throw forbidden("only admins list everyone's tokens");
+    const tokens = await ApiToken.findAll({
+      where: everyone ? {} : { userId: user.id },
+      include: everyone ? [{ model: User, as: "owner" }] : [],
+      order: [["createdAt", "DESC"], ["id", "ASC"]],
+    });
+    res.json(tokens.map(toTokenDto));
+  });
+
+  router.post("/tokens", requirePermission("manageOwnTokens"), async (req, res) => {
+    const { name } = parseWith(createSchema, req.body, "token");
+    const user = res.locals.auth!.user;
+    const created = await ctx.sequelize.transaction(async (transaction) => {
+      const made = await createApiToken(user.id, name, transaction);
+      await recordAudit(res, { action: "token.create", targetType: "token", targetId: made.token.id, details: { name } }, transaction);
+      return made;
+    });
+    const body: CreatedTokenDto = { id: created.token.id, name, token: created.plaintext };
+    res.status(201).json(body);
+  });
+
+  // loadToken lets admins reach every token and everyone else only their own.
+  router.delete("/tokens/:id", requirePermission("manageOwnTokens"), loadToken, async (_req, res) => {
+    const token = res.locals.token!;
+    if (!token.revokedAt) {
+      await ctx.sequelize.transaction(async (transaction) => {
+        await token.update({ revokedAt: new Date() }, { transaction });
+        await recordAudit(res, { action: "token.revoke", targetType: "token", targetId: token.id, details: { owner: token.userId } }, transaction);
+      });
+    }
+    res.status(204).end();
+  });
+
+  return router;
+}

@@ -1,0 +1,83 @@
+import { Router } from "express";
+import { UniqueConstraintError } from "sequelize";
+import { z } from "zod";
+import { ROLES } from "@tidemark/shared/types/api";
+import type { AppContext } from "../context.ts";
+import { toUserDto } from "../dto.ts";
+import { conflict, HttpError } from "../errors.ts";
+import { requirePermission, requireSessionAuth } from "../middleware/auth.ts";
+import { loadUser } from "../middleware/loadEntity.ts";
+import { User } from "../models/index.ts";
+import { recordAudit } from "../services/audit.ts";
+import { hashPassword, passwordProblem } from "../services/passwords.ts";
+import { endSessionsOf } from "../services/sessions.ts";
+import { parseWith } from "../validate.ts";
+
+const email = z.string().trim().toLowerCase().max(320).pipe(z.email());
+const name = z.string().trim().min(1).max(200);
+const createSchema = z.object({ email, name, role: z.enum(ROLES), password: z.string().max(1024) }).strict();
+const updateSchema = z
+  .object({ name, role: z.enum(ROLES), disabled: z.boolean(), password: z.string().max(1024) })
+  .partial()
+  .strict();
+
+function checkPassword(password: string, address: string): void {
+  const problem = passwordProblem(password, address);
+  if (problem) throw new HttpError(422, "weak_password", problem);
+}
+
+export function usersRouter(ctx: AppContext): Router {
+  const router = Router();
+  router.use("/users", requireSessionAuth, requirePermission("manageUsers"));
+
+  router.get("/users", async (_req, res) => {
+    const users = await User.findAll({ order: [["id", "ASC"]] });
+    res.json(users.map(toUserDto));
+  });
+
+  router.post("/users", async (req, res) => {
+    const input = parseWith(createSchema, req.body, "user");
+    checkPassword(input.password, input.email);
+    const passwordHash = await hashPassword(input.password, ctx.settings.passwordCost);
+    try {
+      const user = await ctx.sequelize.transaction(async (transaction) => {
+        const made = await User.create({ email: input.email, name: input.name, role: input.role, passwordHash }, { transaction });
+        await recordAudit(res, { action: "user.create", targetType: "user", targetId: made.id, details: { email: made.email, role: made.role } }, transaction);
+        return made;
+      });
+      res.status(201).json(toUserDto(user));
+    } catch (e) {
+      if (e instanceof UniqueConstraintError) throw conflict(`a user with e-mail ${input.email} already exists`, "email_taken");
+      throw e;
+    }
+  });
+
+  router.patch("/users/:id", loadUser, async (req, res) => {
+    const input = parseWith(updateSchema, req.body, "user change");
+    const target = res.locals.targetUser!;
+    const self = res.locals.auth!.user;
+    // An admin cannot lock themselves out (and so the last admin cannot vanish by accident).
+    if (target.id === self.id && (input.disabled === true || (input.role !== undefined && input.role !== "admin"))) {
+      throw conflict("you cannot disable your own account or remove your own admin role", "self_lockout");
+    }
+    if (input.password !== undefined) checkPassword(input.password, target.email);
+    const changes: Partial<Pick<User, "name" | "role" | "disabled" | "passwordHash">> = {};
+    if (input.name !== undefined) changes.name = input.name;
+    if (input.role !== undefined) changes.role = input.role;
+    if (input.disabled !== undefined) changes.disabled = input.disabled;
+    if (input.password !== undefined) changes.passwordHash = await hashPassword(input.password, ctx.settings.passwordCost);
+    await ctx.sequelize.transaction(async (transaction) => {
+      await target.update(changes, { transaction });
+      if (changes.passwordHash || changes.disabled) await endSessionsOf(ctx.sequelize, target.id, transaction);
+      const changed = Object.keys(changes).map((k) => (k === "passwordHash" ? "password" : k));
+      await recordAudit(
+        res,
+        { action: "user.update", targetType: "user", targetId: target.id, details: { changed, ...(input.role ? { role: input.role } : {}), ...(input.disabled !== undefined ? { disabled: input.disabled } : {}) } },
+        transaction,
+      );
+    });
+    res.json(toUserDto(target));
+  });
+
+  return router;
+}

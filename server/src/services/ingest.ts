@@ -1,0 +1,239 @@
+/**
+ * Ingest of one scan report: images first (under a fresh upload folder), then every row in ONE
+ * transaction. If the transaction fails the images are deleted; if the process dies in between, the
+ * startup sweep (orphanSweep.ts) removes them. Idempotent on (uploader, batch key).
+ */
+import { readFile } from "node:fs/promises";
+import type { Response } from "express";
+import { QueryTypes, UniqueConstraintError, type Transaction } from "sequelize";
+import type { IngestResultDto } from "@tidemark/shared/types/api";
+import type { Finding as ReportFinding, ScanReport, Verdict } from "@tidemark/shared/types/report";
+import type { AppContext } from "../context.ts";
+import { Batch, FileResult, Finding, type User } from "../models/index.ts";
+import { imageKey, newUploadId } from "../storage/objectKeys.ts";
+import { recordAudit } from "./audit.ts";
+import { summariseFindings } from "./findingSummary.ts";
+import type { ImagePart } from "./ingestValidation.ts";
+import { notifyFailingBatch } from "./notifications.ts";
+
+export interface IngestInput {
+  uploader: User;
+  collectionName: string;
+  batchKey: string;
+  report: ScanReport;
+  images: ImagePart[];
+}
+
+interface PreviousScan {
+  id: number;
+  batch_id: number;
+  path: string;
+  sha256: string | null;
+}
+
+const ROW_CHUNK = 1000;
+
+async function existingBatch(uploaderId: number, batchKey: string, transaction?: Transaction): Promise<IngestResultDto | null> {
+  const batch = await Batch.findOne({ where: { uploaderId, batchKey }, attributes: ["id", "fileCount"], transaction });
+  return batch ? { batchId: batch.id, created: false, files: batch.fileCount } : null;
+}
+
+/** Latest scan of each path in the collection, and latest scan with a known SHA-256 (for fixity). */
+async function previousScans(ctx: AppContext, collectionId: number, paths: string[], transaction: Transaction) {
+  const query = (extra: string) =>
+    ctx.sequelize.query<PreviousScan>(
+      `select distinct on (path) id, batch_id, path, sha256 from file_results
+        where collection_id = $1 and path = any($2::text[]) ${extra}
+        order by path, id desc`,
+      { bind: [collectionId, paths], type: QueryTypes.SELECT, transaction },
+    );
+  const [latest, latestHashed] = paths.length ? await Promise.all([query(""), query("and sha256 is not null")]) : [[], []];
+  return {
+    latest: new Map(latest.map((r) => [r.path, r])),
+    latestHashed: new Map(latestHashed.map((r) => [r.path, r])),
+  };
+}
+
+async function upsertCollection(ctx: AppContext, res: Response, name: string, transaction: Transaction): Promise<number> {
+  const inserted = await ctx.sequelize.query<{ id: number }>(
+    `insert into collections (name) values ($1) on conflict (name) do nothing returning id`,
+    { bind: [name], type: QueryTypes.SELECT, transaction },
+  );
+  if (inserted.length) {
+    await recordAudit(res, { action: "collection.create", targetType: "collection", targetId: inserted[0].id, details: { name } }, transaction);
+    return inserted[0].id;
+  }
+  const [found] = await ctx.sequelize.query<{ id: number }>(`select id from collections where name = $1`, {
+    bind: [name],
+    type: QueryTypes.SELECT,
+    transaction,
+  });
+  return found.id;
+}
+
+async function writeImages(ctx: AppContext, uploadId: string, images: ImagePart[], written: string[]): Promise<Map<string, string>> {
+  const keys = new Map<string, string>();
+  for (const image of images) {
+    const key = imageKey(uploadId, image.fileIndex, image.kind);
+    await ctx.store.put(key, await readFile(image.path), "image/png");
+    written.push(key);
+    keys.set(`${image.kind}:${image.fileIndex}`, key);
+  }
+  return keys;
+}
+
+async function deleteObjects(ctx: AppContext, keys: string[]): Promise<void> {
+  for (const key of keys) {
+    await ctx.store.delete(key).catch((e: unknown) => ctx.logger.warn(`could not delete ${key} (the startup sweep will): ${String(e)}`));
+  }
+}
+
+async function storeRows(ctx: AppContext, res: Response, input: IngestInput, keys: Map<string, string>, transaction: Transaction): Promise<IngestResultDto | { batch: Batch; fixityChanged: number }> {
+  const { report, uploader, batchKey } = input;
+  // Serialises ingests into one collection: fixity history and collection creation stay consistent.
+  await ctx.sequelize.query(`select pg_advisory_xact_lock(hashtext($1))`, { bind: [`tidemark.collection:${input.collectionName}`], transaction });
+  const repeat = await existingBatch(uploader.id, batchKey, transaction);
+  if (repeat) return repeat;
+
+  const collectionId = await upsertCollection(ctx, res, input.collectionName, transaction);
+  const { latest, latestHashed } = await previousScans(ctx, collectionId, report.files.map((f) => f.path), transaction);
+
+  const fixityEvents: { index: number; previous: PreviousScan }[] = [];
+  const prepared = report.files.map((file, index) => {
+    const findings: ReportFinding[] = [...file.findings];
+    let verdict: Verdict = file.verdict;
+    const hashed = latestHashed.get(file.path);
+    if (hashed?.sha256 && file.sha256 && hashed.sha256 !== file.sha256) {
+      findings.push({
+        code: "fixity-changed",
+        severity: "fail",
+        channel: null,
+        startSeconds: null,
+        endSeconds: null,
+        message: `SHA-256 differs from the scan in batch ${hashed.batch_id} (file result ${hashed.id}): was ${hashed.sha256}, now ${file.sha256}`,
+      });
+      if (verdict === "pass" || verdict === "warn") verdict = "fail";
+      fixityEvents.push({ index, previous: hashed });
+    }
+    return { file, findings, verdict };
+  });
+
+  const counts = { pass: 0, warn: 0, fail: 0, error: 0 };
+  for (const p of prepared) counts[p.verdict]++;
+  const batch = await Batch.create(
+    {
+      collectionId,
+      uploaderId: uploader.id,
+      batchKey,
+      profileName: report.profile.name,
+      profileHash: report.profile.hash ?? null,
+      toolName: report.tool.name,
+      toolVersion: report.tool.version,
+      startedAt: new Date(report.startedAt),
+      finishedAt: new Date(report.finishedAt),
+      fileCount: prepared.length,
+      passCount: counts.pass,
+      warnCount: counts.warn,
+      failCount: counts.fail,
+      errorCount: counts.error,
+    },
+    { transaction },
+  );
+
+  const ids: number[] = [];
+  for (let start = 0; start < prepared.length; start += ROW_CHUNK) {
+    const chunk = prepared.slice(start, start + ROW_CHUNK).map(({ file, findings, verdict }, offset) => ({
+      batchId: batch.id,
+      collectionId,
+      previousId: latest.get(file.path)?.id ?? null,
+      path: file.path,
+      sizeBytes: file.sizeBytes,
+      sha256: file.sha256,
+      format: file.format,
+      metadata: file.metadata,
+      metrics: file.metrics,
+      error: file.error,
+      verdict,
+      durationSeconds: file.format?.durationSeconds ?? null,
+      integratedLufs: file.metrics?.integratedLufs ?? null,
+      truePeakDbtp: file.metrics?.truePeakDbtp ?? null,
+      worstFindings: summariseFindings(findings),
+      findingCodes: [...new Set(findings.map((f) => f.code))],
+      spectrogramKey: keys.get(`spectrogram:${start + offset}`) ?? null,
+      waveformKey: keys.get(`waveform:${start + offset}`) ?? null,
+    }));
+    const made = await FileResult.bulkCreate(chunk, { transaction, returning: ["id", "path"] });
+    // Match by path (unique within a batch) rather than trusting RETURNING order.
+    const byPath = new Map(made.map((m) => [m.path, m.id]));
+    for (const row of chunk) ids.push(byPath.get(row.path)!);
+  }
+
+  const findingRows = prepared.flatMap(({ findings }, index) =>
+    findings.map((f) => ({
+      fileResultId: ids[index],
+      code: f.code,
+      severity: f.severity,
+      channel: f.channel,
+      startSeconds: f.startSeconds,
+      endSeconds: f.endSeconds,
+      message: f.message,
+    })),
+  );
+  for (let start = 0; start < findingRows.length; start += ROW_CHUNK * 2) {
+    await Finding.bulkCreate(findingRows.slice(start, start + ROW_CHUNK * 2), { transaction, returning: false });
+  }
+
+  for (const { index, previous } of fixityEvents) {
+    const file = report.files[index];
+    await recordAudit(
+      res,
+      {
+        action: "file.fixity_changed",
+        targetType: "file",
+        targetId: ids[index],
+        details: { path: file.path, previousFileResultId: previous.id, previousSha256: previous.sha256, sha256: file.sha256 },
+      },
+      transaction,
+    );
+  }
+  await recordAudit(
+    res,
+    {
+      action: "batch.ingest",
+      targetType: "batch",
+      targetId: batch.id,
+      details: { collection: input.collectionName, batchKey, files: prepared.length, ...counts, fixityChanged: fixityEvents.length, images: keys.size },
+    },
+    transaction,
+  );
+  return { batch, fixityChanged: fixityEvents.length };
+}
+
+export async function ingestBatch(ctx: AppContext, res: Response, input: IngestInput): Promise<IngestResultDto> {
+  const repeat = await existingBatch(input.uploader.id, input.batchKey);
+  if (repeat) return repeat;
+
+  const written: string[] = [];
+  let outcome: Awaited<ReturnType<typeof storeRows>>;
+  try {
+    const keys = await writeImages(ctx, newUploadId(), input.images, written);
+    outcome = await ctx.sequelize.transaction((transaction) => storeRows(ctx, res, input, keys, transaction));
+  } catch (e) {
+    await deleteObjects(ctx, written);
+    // The same batch key committed by a concurrent upload in the meantime.
+    if (e instanceof UniqueConstraintError) {
+      const existing = await existingBatch(input.uploader.id, input.batchKey);
+      if (existing) return existing;
+    }
+    throw e;
+  }
+  if (!("batch" in outcome)) {
+    await deleteObjects(ctx, written);
+    return outcome;
+  }
+  const { batch } = outcome;
+  if (batch.failCount + batch.errorCount > 0) {
+    await notifyFailingBatch(ctx, batch.id).catch((e: unknown) => ctx.logger.error(`failing-batch e-mail for batch ${batch.id}: ${String(e)}`));
+  }
+  return { batchId: batch.id, created: true, files: batch.fileCount };
+}
