@@ -36,7 +36,8 @@ describe("Files table", () => {
     const [first] = await rows();
     expect(within(first).getByText("fail")).toBeTruthy();
     expect(within(first).getByText("pending")).toBeTruthy();
-    expect(within(first).getByText("\u221218.4 LUFS")).toBeTruthy();
+    expect(within(first).getByText("\u221218.4")).toBeTruthy();
+    expect(within(first).getByText("0.3")).toBeTruthy();
     expect(within(first).getByText("96 kHz · 24-bit · stereo")).toBeTruthy();
     const query = lastListQuery(stub);
     expect(query.get("page")).toBe("1");

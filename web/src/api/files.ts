@@ -40,7 +40,7 @@ export function useSaveReview(id: number) {
   const client = useQueryClient();
   const detailKey = fileDetailOptions(id).queryKey;
   return useMutation({
-    mutationFn: (body: ReviewChangeRequest) => sendJson<FileDetailDto | FileSummaryDto>("PATCH", `/api/files/${id}`, body),
+    mutationFn: (body: ReviewChangeRequest) => sendJson<FileDetailDto>("PATCH", `/api/files/${id}`, body),
     onMutate: async (body) => {
       // Cancel in-flight reads so they do not overwrite the optimistic state.
       await client.cancelQueries({ queryKey: detailKey });
@@ -51,6 +51,8 @@ export function useSaveReview(id: number) {
     onError: (_error, _body, context) => {
       if (context?.previous) client.setQueryData(detailKey, context.previous);
     },
+    // The server answers with the whole detail, review history included.
+    onSuccess: (detail) => client.setQueryData(detailKey, detail),
     onSettled: () =>
       Promise.all([
         client.invalidateQueries({ queryKey: detailKey }),

@@ -14,7 +14,7 @@ const NAV: { to: string; label: string; permission?: Permission }[] = [
 ];
 
 function navClass({ isActive }: { isActive: boolean }): string {
-  const base = "rounded px-2.5 py-1.5 text-sm font-medium whitespace-nowrap";
+  const base = "rounded px-2 py-1.5 lg:px-2.5 text-sm font-medium whitespace-nowrap";
   return isActive ? `${base} bg-white/15 text-white underline decoration-2 underline-offset-6` : `${base} text-white/90 hover:bg-white/10 hover:text-white`;
 }
 
@@ -41,7 +41,7 @@ export function AppShell() {
         Skip to content
       </a>
       <header className="bg-harbour-strong text-white [&_:focus-visible]:outline-white">
-        <div className="mx-auto flex max-w-screen-2xl flex-wrap items-center gap-x-6 gap-y-2 px-4 py-2">
+        <div className="mx-auto flex max-w-screen-2xl flex-wrap items-center gap-x-4 gap-y-2 px-4 py-2 lg:gap-x-6">
           <NavLink to="/batches" className="flex items-center gap-2 rounded">
             <TidemarkLogo className="text-white" />
             <span className="font-serif text-xl font-semibold tracking-tight">Tidemark</span>
@@ -55,8 +55,8 @@ export function AppShell() {
           </nav>
           <div className="flex items-center gap-3 text-sm">
             <span>
-              <span className="font-medium">{user.name || user.email}</span>
-              <span className="ml-1.5 rounded bg-white/15 px-1.5 py-0.5 text-xs uppercase tracking-wide">{user.role}</span>
+              <span className="hidden font-medium lg:inline">{user.name || user.email}</span>
+              <span title={user.email} className="ml-1.5 rounded bg-white/15 px-1.5 py-0.5 text-xs uppercase tracking-wide">{user.role}</span>
             </span>
             <SignOutButton />
           </div>

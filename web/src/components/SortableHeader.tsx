@@ -18,7 +18,7 @@ export function SortableHeader<K extends string>({ sortKey, activeKey, order, on
   const ariaSort = isActive ? (order === "asc" ? "ascending" : "descending") : "none";
   const next: SortOrder = isActive && order === "asc" ? "desc" : "asc";
   return (
-    <th scope="col" aria-sort={ariaSort} className={`px-2 py-2 text-left font-semibold ${className}`}>
+    <th scope="col" aria-sort={ariaSort} className={`px-1.5 py-2 text-left font-semibold lg:px-2 ${className}`}>
       <button type="button" onClick={() => onSort(sortKey, next)} className="inline-flex items-center gap-1 rounded hover:text-harbour">
         {children}
         {isActive ? order === "asc" ? <SortAscIcon /> : <SortDescIcon /> : <SortNoneIcon />}

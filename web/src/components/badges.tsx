@@ -49,12 +49,12 @@ export function FindingChips({ findings, max = 3 }: { findings: FindingSummaryDt
   return (
     <span className="flex flex-wrap gap-1">
       {shown.map((f) => (
-        <span key={f.code} className={`rounded px-1.5 py-0.5 font-mono text-xs ${SEVERITY_STYLE[f.severity]}`} title={`${f.severity}: ${f.code} × ${f.count}`}>
+        <span key={f.code} className={`rounded px-1.5 whitespace-nowrap py-0.5 font-mono text-xs ${SEVERITY_STYLE[f.severity]}`} title={`${f.severity}: ${f.code} × ${f.count}`}>
           {f.code}
           {f.count > 1 && <span aria-label={`${f.count} times`}> ×{f.count}</span>}
         </span>
       ))}
-      {hidden > 0 && <span className="text-xs text-ink-muted">+{hidden} more</span>}
+      {hidden > 0 && <span className="text-xs whitespace-nowrap text-ink-muted">+{hidden} more</span>}
     </span>
   );
 }

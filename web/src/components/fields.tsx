@@ -22,7 +22,7 @@ export function TextField({ label, hint, className, id, ...input }: TextFieldPro
       <Label htmlFor={inputId} hint={hint}>
         {label}
       </Label>
-      <input id={inputId} className={CONTROL} {...input} />
+      <input id={inputId} className={`${CONTROL} h-9`} {...input} />
     </div>
   );
 }
@@ -35,7 +35,7 @@ export function SelectField({ label, className, id, children, ...select }: Selec
   return (
     <div className={className}>
       <Label htmlFor={selectId}>{label}</Label>
-      <select id={selectId} className={CONTROL} {...select}>
+      <select id={selectId} className={`${CONTROL} h-9`} {...select}>
         {children}
       </select>
     </div>

@@ -12,8 +12,8 @@ function signed(value: number, digits: number): string {
 /** A level: null in a report means −∞ (digital silence), written as such. */
 export function formatLevel(value: number | null | undefined, unit: string, digits = 1): string {
   if (value === undefined) return NOT_MEASURED;
-  if (value === null) return `${MINUS}∞ ${unit}`;
-  return `${signed(value, digits)} ${unit}`;
+  const text = value === null ? `${MINUS}∞` : signed(value, digits);
+  return unit ? `${text} ${unit}` : text;
 }
 
 /** For table cells, where null usually means "no measurement" (unreadable file) rather than silence. */

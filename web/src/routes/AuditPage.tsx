@@ -44,8 +44,8 @@ function AuditFilters({ query, onApply }: { query: AuditQuery; onApply: (q: Audi
   }
   return (
     <form onSubmit={submit} aria-label="Filter the audit trail" className="mb-3 flex flex-wrap items-end gap-3 rounded-md border border-line bg-surface p-3">
-      <TextField label="Actor (e-mail)" value={actor} onChange={(e) => setActor(e.target.value)} className="w-60" />
-      <TextField label="Action" placeholder="e.g. review.change" value={action} onChange={(e) => setAction(e.target.value)} className="w-48" />
+      <TextField label="Actor" hint="(e-mail or user id)" value={actor} onChange={(e) => setActor(e.target.value)} className="w-60" />
+      <TextField label="Action" placeholder="e.g. file. or token.create" value={action} onChange={(e) => setAction(e.target.value)} className="w-48" />
       <TextField label="From" type="date" value={from} onChange={(e) => setFrom(e.target.value)} className="w-44" />
       <TextField label="Until" type="date" value={to} onChange={(e) => setTo(e.target.value)} className="w-44" />
       <button type="submit" className={buttonClass.primary}>

@@ -56,48 +56,50 @@ export function FileDetailPage() {
           <strong>The scan could not read this file:</strong> {f.error.message} <span className="font-mono text-xs">({f.error.code})</span>
         </p>
       )}
-      <div className="grid gap-4 lg:grid-cols-[minmax(0,1fr)_20rem]">
-        <div className="min-w-0 space-y-4">
-          <section aria-labelledby="plot-heading">
-            <h2 id="plot-heading" className="mb-2 text-lg">
-              Spectrogram and waveform
-            </h2>
-            <SpectrogramView
-              spectrogramUrl={f.spectrogramUrl}
-              waveformUrl={f.waveformUrl}
-              path={f.path}
-              durationSeconds={f.durationSeconds}
-              findings={f.findings}
-              selectedId={selectedFindingId}
-              onSelect={setSelectedFindingId}
-            />
-          </section>
-          <section aria-labelledby="findings-heading">
-            <h2 id="findings-heading" className="mb-2 text-lg">
-              Findings <span className="font-sans text-sm font-normal text-ink-muted">({f.findings.length})</span>
-            </h2>
-            <FindingsTable findings={f.findings} selectedId={selectedFindingId} onSelect={setSelectedFindingId} />
-          </section>
-          <section aria-labelledby="metrics-heading">
-            <h2 id="metrics-heading" className="mb-2 text-lg">
-              Measurements
-            </h2>
-            <MetricsPanels file={f} />
-          </section>
-          {f.metrics && (
-            <section aria-labelledby="bands-heading" className="rounded-md border border-line bg-surface p-3">
-              <h2 id="bands-heading" className="mb-2 text-lg">
-                Band energy
-              </h2>
-              <BandEnergyChart bands={f.metrics.bands} />
-            </section>
-          )}
-          <FixityHistory file={f} />
-        </div>
-        <aside className="space-y-4" aria-label="Review and comments">
+      {/* One grid: on wide screens review and comments sit in a side column; narrower, they follow the
+          findings, so a reviewer on a tablet reaches the controls before the long measurement panels. */}
+      <div className="grid content-start items-start gap-4 lg:grid-cols-[minmax(0,1fr)_20rem]">
+        <section aria-labelledby="plot-heading" className="min-w-0 lg:col-start-1">
+          <h2 id="plot-heading" className="mb-2 text-lg">
+            Spectrogram and waveform
+          </h2>
+          <SpectrogramView
+            spectrogramUrl={f.spectrogramUrl}
+            waveformUrl={f.waveformUrl}
+            path={f.path}
+            durationSeconds={f.durationSeconds}
+            findings={f.findings}
+            selectedId={selectedFindingId}
+            onSelect={setSelectedFindingId}
+          />
+        </section>
+        <section aria-labelledby="findings-heading" className="min-w-0 lg:col-start-1">
+          <h2 id="findings-heading" className="mb-2 text-lg">
+            Findings <span className="font-sans text-sm font-normal text-ink-muted">({f.findings.length})</span>
+          </h2>
+          <FindingsTable findings={f.findings} selectedId={selectedFindingId} onSelect={setSelectedFindingId} />
+        </section>
+        <aside className="space-y-4 md:grid md:grid-cols-2 md:gap-4 md:space-y-0 lg:col-start-2 lg:row-span-5 lg:row-start-1 lg:block lg:space-y-4" aria-label="Review and comments">
           <ReviewPanel file={f} />
           <CommentsThread fileId={f.id} comments={f.comments} />
         </aside>
+        <section aria-labelledby="metrics-heading" className="min-w-0 lg:col-start-1">
+          <h2 id="metrics-heading" className="mb-2 text-lg">
+            Measurements
+          </h2>
+          <MetricsPanels file={f} />
+        </section>
+        {f.metrics && (
+          <section aria-labelledby="bands-heading" className="min-w-0 rounded-md border border-line bg-surface p-3 lg:col-start-1">
+            <h2 id="bands-heading" className="mb-2 text-lg">
+              Band energy
+            </h2>
+            <BandEnergyChart bands={f.metrics.bands} />
+          </section>
+        )}
+        <div className="min-w-0 lg:col-start-1">
+          <FixityHistory file={f} />
+        </div>
       </div>
     </>
   );

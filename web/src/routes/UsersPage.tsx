@@ -8,7 +8,8 @@ import { buttonClass, SelectField, TextField } from "../components/fields.tsx";
 import { EmptyState, ErrorState, InlineError, LoadingState } from "../components/states.tsx";
 import { formatDate } from "../format/units.ts";
 
-const MIN_PASSWORD_LENGTH = 10;
+// The server's policy (it re-checks); saying it up front saves a round trip.
+const MIN_PASSWORD_LENGTH = 12;
 
 function NewUserForm() {
   const [email, setEmail] = useState("");

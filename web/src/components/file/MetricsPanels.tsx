@@ -64,7 +64,7 @@ export function MetricsPanels({ file }: { file: FileDetailDto }) {
     );
   }
   return (
-    <div className="grid gap-3 sm:grid-cols-2 xl:grid-cols-3">
+    <div className="grid gap-3 sm:grid-cols-2 2xl:grid-cols-3">
       <Panel title="Levels">
         <Rows
           rows={[
@@ -106,16 +106,16 @@ export function MetricsPanels({ file }: { file: FileDetailDto }) {
               <th scope="col" className="py-1 text-left font-medium">
                 Ch
               </th>
-              <th scope="col" className="py-1 text-right font-medium">
-                Peak
+              <th scope="col" className="py-1 pl-2 text-right font-medium">
+                Peak <abbr title="decibels relative to full scale">dBFS</abbr>
               </th>
-              <th scope="col" className="py-1 text-right font-medium">
-                True peak
+              <th scope="col" className="py-1 pl-2 text-right font-medium">
+                True peak <abbr title="decibels true peak">dBTP</abbr>
               </th>
-              <th scope="col" className="py-1 text-right font-medium">
-                RMS
+              <th scope="col" className="py-1 pl-2 text-right font-medium">
+                RMS <abbr title="decibels relative to full scale">dBFS</abbr>
               </th>
-              <th scope="col" className="py-1 text-right font-medium">
+              <th scope="col" className="py-1 pl-2 text-right font-medium">
                 Clipped
               </th>
             </tr>
@@ -126,9 +126,9 @@ export function MetricsPanels({ file }: { file: FileDetailDto }) {
                 <th scope="row" className="py-1 text-left font-medium">
                   {i + 1}
                 </th>
-                <td className="py-1 text-right">{formatLevel(c.samplePeakDbfs, "dBFS")}</td>
-                <td className="py-1 text-right">{formatLevel(c.truePeakDbtp, "dBTP")}</td>
-                <td className="py-1 text-right">{formatLevel(c.rmsDbfs, "dBFS")}</td>
+                <td className="py-1 text-right">{formatLevel(c.samplePeakDbfs, "")}</td>
+                <td className="py-1 text-right">{formatLevel(c.truePeakDbtp, "")}</td>
+                <td className="py-1 text-right">{formatLevel(c.rmsDbfs, "")}</td>
                 <td className="py-1 text-right">{c.clippedSamples}</td>
               </tr>
             ))}

@@ -10,8 +10,8 @@ export interface PlotMarginsPx {
   bottom: number;
 }
 
-export const LOCAL_SPECTROGRAM_PLOT_MARGINS_PX: PlotMarginsPx = { left: 64, right: 16, top: 12, bottom: 36 };
-export const LOCAL_WAVEFORM_PLOT_MARGINS_PX: PlotMarginsPx = { left: 64, right: 16, top: 4, bottom: 4 };
+export const LOCAL_SPECTROGRAM_PLOT_MARGINS_PX: PlotMarginsPx = { left: 72, right: 96, top: 36, bottom: 32 };
+export const LOCAL_WAVEFORM_PLOT_MARGINS_PX: PlotMarginsPx = { left: 72, right: 96, top: 12, bottom: 6 };
 
 export interface NaturalSize {
   width: number;
