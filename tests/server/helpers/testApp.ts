@@ -47,6 +47,11 @@ export interface TestApp {
   dir: string;
   objectsDir: string;
   settings: Partial<AppSettings>;
+  /**
+   * Another app over the same database, store and mailer with other settings. Sequelize models are bound
+   * to one connection per process, so a test file uses one database and varies the app instead.
+   */
+  makeApp(settings: Partial<AppSettings>): Express;
   createUser(role: Role, overrides?: { email?: string; password?: string; disabled?: boolean; name?: string }): Promise<User>;
   /** A supertest agent holding the session cookie of a freshly made user of that role. */
   signIn(role: Role): Promise<{ agent: TestAgent; user: User }>;
@@ -78,13 +83,15 @@ export async function startTestApp(options: TestAppOptions = {}): Promise<TestAp
     uploadTmpDir: path.join(dir, "uploads"),
     ...options.settings,
   };
-  const app = createApp({
-    db,
-    store,
-    mailer,
-    logger,
-    settings: { publicUrl: PUBLIC_URL, sessionSecret: "test-session-secret-that-is-long-enough-0123", ...settings },
-  });
+  const makeApp = (extra: Partial<AppSettings>): Express =>
+    createApp({
+      db,
+      store,
+      mailer,
+      logger,
+      settings: { publicUrl: PUBLIC_URL, sessionSecret: "test-session-secret-that-is-long-enough-0123", ...settings, ...extra },
+    });
+  const app = makeApp({});
 
   const createUser: TestApp["createUser"] = async (role, overrides = {}) =>
     User.create({
@@ -112,6 +119,7 @@ export async function startTestApp(options: TestAppOptions = {}): Promise<TestAp
     dir,
     objectsDir,
     settings,
+    makeApp,
     createUser,
     signInAs,
     async signIn(role) {
