@@ -67,20 +67,41 @@ export function scoreOffsetHits(hits: OffsetHits, options?: ScoreOptions): Candi
   if (count > candidates.length || count > offsetsSeconds.length) {
     throw new RangeError(`hits.count ${count} exceeds the arrays (${candidates.length}, ${offsetsSeconds.length})`);
   }
-  // One sortable number per hit: candidate in the high bits, offset bin in the low 23 bits.
-  const keys = new Float64Array(count);
+  // A candidate with fewer hits than minScore cannot reach it: count first, sort only the rest.
+  // Chance collisions spread over many candidates, so this usually leaves a small fraction to sort.
+  let maxCandidate = 0;
   for (let i = 0; i < count; i++) {
     const c = candidates[i];
-    const bin = Math.round(offsetsSeconds[i] / OFFSET_BIN_SECONDS);
     if (c >= MAX_CANDIDATE) throw new RangeError(`candidate numbers must be < 2^30, got ${c}`);
+    if (c > maxCandidate) maxCandidate = c;
+  }
+  const isDense = maxCandidate < 8 * count + 65536;
+  const denseCounts = isDense ? new Uint32Array(maxCandidate + 1) : null;
+  const sparseCounts = isDense ? null : new Map<number, number>();
+  for (let i = 0; i < count; i++) {
+    const c = candidates[i];
+    if (denseCounts) denseCounts[c]++;
+    else sparseCounts!.set(c, (sparseCounts!.get(c) ?? 0) + 1);
+  }
+  const hitsOf = (c: number): number => (denseCounts ? denseCounts[c] : sparseCounts!.get(c)!);
+  let eligible = 0;
+  for (let i = 0; i < count; i++) if (hitsOf(candidates[i]) >= minScore) eligible++;
+
+  // One sortable number per hit: candidate in the high bits, offset bin in the low 23 bits.
+  const keys = new Float64Array(eligible);
+  let k = 0;
+  for (let i = 0; i < count; i++) {
+    const c = candidates[i];
+    if (hitsOf(c) < minScore) continue;
+    const bin = Math.round(offsetsSeconds[i] / OFFSET_BIN_SECONDS);
     if (!(bin > -BIN_BIAS && bin < BIN_BIAS)) throw new RangeError(`offset out of range: ${offsetsSeconds[i]} s`);
-    keys[i] = c * BIN_SPAN + (bin + BIN_BIAS);
+    keys[k++] = c * BIN_SPAN + (bin + BIN_BIAS);
   }
   keys.sort();
 
   const found: { candidate: number; score: number; bin: number }[] = [];
   let i = 0;
-  while (i < count) {
+  while (i < eligible) {
     const candidate = Math.floor(keys[i] / BIN_SPAN);
     const end = candidate * BIN_SPAN + BIN_SPAN;
     // Runs of equal bins within this candidate; window = run + adjacent runs one bin away.
@@ -89,16 +110,16 @@ export function scoreOffsetHits(hits: OffsetHits, options?: ScoreOptions): Candi
     let prevBin = Number.NaN;
     let prevCount = 0;
     let runStart = i;
-    while (runStart < count && keys[runStart] < end) {
+    while (runStart < eligible && keys[runStart] < end) {
       const key = keys[runStart];
       let runEnd = runStart + 1;
-      while (runEnd < count && keys[runEnd] === key) runEnd++;
+      while (runEnd < eligible && keys[runEnd] === key) runEnd++;
       const bin = key - candidate * BIN_SPAN - BIN_BIAS;
       const runCount = runEnd - runStart;
       let nextCount = 0;
-      if (runEnd < count && keys[runEnd] === key + 1) {
+      if (runEnd < eligible && keys[runEnd] === key + 1) {
         let j = runEnd;
-        while (j < count && keys[j] === key + 1) j++;
+        while (j < eligible && keys[j] === key + 1) j++;
         nextCount = j - runEnd;
       }
       const windowScore = runCount + (prevBin === bin - 1 ? prevCount : 0) + nextCount;
@@ -117,18 +138,18 @@ export function scoreOffsetHits(hits: OffsetHits, options?: ScoreOptions): Candi
 
   // Refine: mean offset of the hits in each winner's three-bin window.
   const slot = new Map<number, number>();
-  found.forEach((f, k) => slot.set(f.candidate, k));
+  found.forEach((f, n) => slot.set(f.candidate, n));
   const sums = new Float64Array(found.length);
   const counts = new Float64Array(found.length);
   for (let h = 0; h < count; h++) {
-    const k = slot.get(candidates[h]);
-    if (k === undefined) continue;
+    const n = slot.get(candidates[h]);
+    if (n === undefined) continue;
     const bin = Math.round(offsetsSeconds[h] / OFFSET_BIN_SECONDS);
-    if (Math.abs(bin - found[k].bin) > 1) continue;
-    sums[k] += offsetsSeconds[h];
-    counts[k] += 1;
+    if (Math.abs(bin - found[n].bin) > 1) continue;
+    sums[n] += offsetsSeconds[h];
+    counts[n] += 1;
   }
-  const results = found.map((f, k) => ({ candidate: f.candidate, score: f.score, offsetSeconds: sums[k] / counts[k] }));
+  const results = found.map((f, n) => ({ candidate: f.candidate, score: f.score, offsetSeconds: sums[n] / counts[n] }));
   results.sort((a, b) => b.score - a.score || a.candidate - b.candidate);
   return results.length > maxResults ? results.slice(0, maxResults) : results;
 }
