@@ -1,6 +1,6 @@
 import { describe, expect, it } from "vitest";
 import { WaveFile } from "wavefile";
-import { byteSourceFromBytes, readWavLayout, WavFormatError, type WavErrorCode } from "../../shared/src/wav/index.ts";
+import { byteSourceFromBytes, readWavLayout, WavFormatError, type WavErrorCode, type WavLayout } from "../../shared/src/wav/index.ts";
 import { sine, whiteNoise } from "../fixtures/synth.ts";
 import { encodeWav, type WavEncodeOptions } from "../fixtures/wavWriter.ts";
 
@@ -394,12 +394,12 @@ describe("readWavLayout: malformed input gives a stable code and a one-line mess
       const flips = 1 + (next() % 4);
       for (let k = 0; k < flips; k++) bytes[next() % 700] = next() & 0xff;
       const cut = bytes.subarray(0, 1 + (next() % bytes.length));
-      const outcome = await layoutOf(cut).then(
+      const outcome: WavLayout | unknown = await layoutOf(cut).then(
         (layout) => layout,
         (e: unknown) => e,
       );
       if (outcome instanceof Error) expect(outcome).toBeInstanceOf(WavFormatError);
-      else expect(outcome.dataBytes).toBeLessThanOrEqual(cut.length);
+      else expect((outcome as WavLayout).dataBytes).toBeLessThanOrEqual(cut.length);
     }
   });
 });
