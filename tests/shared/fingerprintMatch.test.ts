@@ -36,6 +36,8 @@ const COPY_NAMES = [
   "white noise at 20 dB SNR",
   "resampled to 44.1 kHz (sox)",
   "low-passed at 10 kHz (sox)",
+  "resampled to 8 kHz (sox)",
+  "10 s excerpt from 15 s, upsampled to 384 kHz (sox)",
   "first 10 s trimmed",
   "10 s excerpt from 15 s",
   "all at once: noise, low-pass, 44.1 kHz, trimmed",
@@ -47,6 +49,14 @@ function copiesOf(x: Float32Array, seed: number): Copy[] {
     { name: "white noise at 20 dB SNR", samples: withNoise(x, RATE, 20, 1000 + seed), rate: RATE, expectedOffsetSeconds: 0 },
     { name: "resampled to 44.1 kHz (sox)", samples: soxMono(x, RATE, ["rate", "-v", "44100"]), rate: 44100, expectedOffsetSeconds: 0 },
     { name: "low-passed at 10 kHz (sox)", samples: soxMono(x, RATE, ["sinc", "-10000"]), rate: RATE, expectedOffsetSeconds: 0 },
+    // The ends of the supported range: 8 kHz keeps only up to ~3.6 kHz of the band.
+    { name: "resampled to 8 kHz (sox)", samples: soxMono(x, RATE, ["rate", "-v", "8000"]), rate: 8000, expectedOffsetSeconds: 0 },
+    {
+      name: "10 s excerpt from 15 s, upsampled to 384 kHz (sox)",
+      samples: soxMono(x.subarray(15 * RATE, 25 * RATE), RATE, ["rate", "-v", "384000"]),
+      rate: 384000,
+      expectedOffsetSeconds: 15,
+    },
     { name: "first 10 s trimmed", samples: x.subarray(10 * RATE), rate: RATE, expectedOffsetSeconds: 10 },
     { name: "10 s excerpt from 15 s", samples: x.subarray(15 * RATE, 25 * RATE), rate: RATE, expectedOffsetSeconds: 15 },
     {

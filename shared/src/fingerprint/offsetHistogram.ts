@@ -3,22 +3,25 @@
  * Algorithm" (Wang, 2003): every hash the query shares with a candidate gives one offset
  * (t_candidate − t_query); a true copy piles its hits into one offset, chance collisions scatter.
  *
- * Kept apart from any index so the server can score rows from its SQL index the same way:
+ * Kept apart from any index so the server can score rows from its SQL index the same way
+ * (table fingerprint_hashes(version, hash, file_id, time_seconds), btree on (version, hash);
+ * version-1 hashes are < 2^25, so a plain PostgreSQL integer holds them):
  *
- *   const rows = await sql`SELECT hash, file_id, time_seconds FROM fingerprint_hashes
- *                          WHERE version = ${fp.version} AND hash = ANY(${distinctHashes(fp)})
- *                            AND file_id <> ${selfId}`;
- *   // file ids → dense candidate numbers 0..n−1 (keep the array to map back)
- *   const scores = scorePostings(fp, { hashes, candidates, times, count: rows.length });
+ *   SELECT hash, file_id, time_seconds FROM fingerprint_hashes
+ *    WHERE version = $1 AND hash = ANY($2) AND file_id <> $3      -- $2 = distinctHashes(fp)
  *
- * with a btree index on hash. `lookup` of the in-memory index does exactly this in memory.
+ * then number the returned file ids densely (0..n−1, keep the array to map back) and call
+ * `scorePostings(fp, { hashes, candidates, times, count })`. Results are best first with
+ * `offsetSeconds` = where the query's t = 0 falls in that file. Hashes found in very many files
+ * (the in-memory index skips those with > 2000 rows) are worth excluding in SQL too.
  */
 import { FINGERPRINT_GRID } from "./fingerprinter.ts";
 import type { Fingerprint } from "./types.ts";
 
 /**
- * A score below this is chance. Measured on synthesised programmes (tests/shared/fingerprintMatch):
- * unrelated 40 s files never reached it; 30 s of shared audio scores far above it.
+ * Scores below this are treated as chance. Measured on synthesised programmes (tests/shared/
+ * fingerprint{Match,FalseMatch,Index}.test.ts): unrelated 40 s files reach at most 4, copies sharing
+ * 30–40 s of audio score 95–360 and a 10 s excerpt ~75, so a few seconds of shared audio clear it.
  */
 export const DEFAULT_MIN_SCORE = 12;
 

@@ -47,23 +47,15 @@ function besselI0(x: number): number {
   return sum;
 }
 
-export function createStreamingResampler(o: ResamplerOptions): StreamingResampler {
-  const { inputRateHz, outputRateHz } = o;
-  for (const [name, v] of [["inputRateHz", inputRateHz], ["outputRateHz", outputRateHz]] as const) {
-    if (!Number.isFinite(v) || v <= 0) throw new RangeError(`${name} must be a positive number, got ${v}`);
-  }
-  if (!(o.passbandHz > 0 && o.stopbandHz > o.passbandHz)) {
-    throw new RangeError(`need 0 < passbandHz < stopbandHz, got ${o.passbandHz} and ${o.stopbandHz}`);
-  }
-  // Never put the cutoff above the input's own Nyquist (upsampling from a low rate).
-  const inputNyquistHz = inputRateHz / 2;
-  const transitionHz = Math.min(o.stopbandHz - o.passbandHz, inputNyquistHz);
-  const cutoffHz = Math.min((o.passbandHz + o.stopbandHz) / 2, inputNyquistHz);
-  const length = (STOPBAND_ATTENUATION_DB - 8) / (2.285 * ((2 * Math.PI * transitionHz) / inputRateHz));
-  const half = 2 * Math.max(2, Math.ceil(length / 4));
-  const taps = 2 * half;
+/** Kernel tables by (input rate, cutoff, half-length): a batch of files at one rate builds its table once. */
+const tableCache = new Map<string, Float32Array>();
 
-  // table[p * taps + k] weights input index (i0 - half + 1 + k) for an output at i0 + p/PHASES.
+/** table[p * taps + k] weights input index (i0 − half + 1 + k) for an output at i0 + p/PHASES. */
+function kernelTable(inputRateHz: number, cutoffHz: number, half: number): Float32Array {
+  const key = `${inputRateHz}/${cutoffHz}/${half}`;
+  const cached = tableCache.get(key);
+  if (cached) return cached;
+  const taps = 2 * half;
   const table = new Float32Array((PHASES + 1) * taps);
   const normCutoff = (2 * cutoffHz) / inputRateHz;
   const windowNorm = 1 / besselI0(KAISER_BETA);
@@ -83,6 +75,29 @@ export function createStreamingResampler(o: ResamplerOptions): StreamingResample
     // Unit DC gain in every phase, so a constant stays constant.
     for (let k = 0; k < taps; k++) table[p * taps + k] /= sum;
   }
+  // Few distinct rates occur in practice; the bound only guards against odd callers.
+  if (tableCache.size >= 16) tableCache.delete(tableCache.keys().next().value!);
+  tableCache.set(key, table);
+  return table;
+}
+
+export function createStreamingResampler(o: ResamplerOptions): StreamingResampler {
+  const { inputRateHz, outputRateHz } = o;
+  for (const [name, v] of [["inputRateHz", inputRateHz], ["outputRateHz", outputRateHz]] as const) {
+    if (!Number.isFinite(v) || v <= 0) throw new RangeError(`${name} must be a positive number, got ${v}`);
+  }
+  if (!(o.passbandHz > 0 && o.stopbandHz > o.passbandHz)) {
+    throw new RangeError(`need 0 < passbandHz < stopbandHz, got ${o.passbandHz} and ${o.stopbandHz}`);
+  }
+  // Never put the cutoff above the input's own Nyquist (upsampling from a low rate).
+  const inputNyquistHz = inputRateHz / 2;
+  const transitionHz = Math.min(o.stopbandHz - o.passbandHz, inputNyquistHz);
+  const cutoffHz = Math.min((o.passbandHz + o.stopbandHz) / 2, inputNyquistHz);
+  const length = (STOPBAND_ATTENUATION_DB - 8) / (2.285 * ((2 * Math.PI * transitionHz) / inputRateHz));
+  const half = 2 * Math.max(2, Math.ceil(length / 4));
+  const taps = 2 * half;
+
+  const table = kernelTable(inputRateHz, cutoffHz, half);
 
   const step = inputRateHz / outputRateHz;
   // History starts with `half` zeros so the first outputs see silence before the file.
