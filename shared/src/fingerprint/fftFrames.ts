@@ -23,7 +23,7 @@ export function createFramePowerSpectrum(fftSize: number): FramePowerSpectrum {
   }
   const fft = new FFT(fftSize);
   const window = new Float64Array(fftSize);
-  // Periodic Hann: overlapping frames at hop N/4 sum to a constant (common practice).
+  // Periodic Hann (common practice for short-time spectra): low sidelobes keep weak peaks visible.
   for (let i = 0; i < fftSize; i++) window[i] = 0.5 - 0.5 * Math.cos((2 * Math.PI * i) / fftSize);
   const windowed = new Float64Array(fftSize);
   const spectrum = new Float64Array(2 * fftSize);

@@ -26,19 +26,20 @@ const BAND_BINS = LAST_BIN - FIRST_BIN + 1;
 /** Hard ceiling of the issue: at most this many hashes per second of audio, on average. */
 export const MAX_HASHES_PER_SECOND = 20;
 
-const PEAKS = {
+// Frozen: the hashes of FINGERPRINT_VERSION depend on every value here.
+const PEAKS = Object.freeze({
   bins: BAND_BINS,
   freqRadiusBins: 10, // ±108 Hz
   timeRadiusFrames: 3, // ±70 ms
   // A full-scale sine peaks at 20·log10(N/4) dB in a Hann-windowed bin; ignore 100 dB below that.
   floorDb: 20 * Math.log10(FFT_SIZE / 4) - 100,
   peaksPerWindow: 6,
-  rankRadiusFrames: 42, // any 43 frames (≈ 1 s) hold ≤ 6 kept peaks
-};
-const PAIRS = { fanOut: 3, minDeltaFrames: 1, maxDeltaFrames: 63, maxDeltaBins: BAND_BINS - 1 };
+  rankRadiusFrames: 42, // any 43 frames (≈ 1 s) hold ≤ 6 kept peaks, so ≤ 18 hashes
+});
+const PAIRS = Object.freeze({ fanOut: 3, minDeltaFrames: 1, maxDeltaFrames: 63, maxDeltaBins: BAND_BINS - 1 });
 
 /** The fixed analysis grid, for callers that reason in frames (index, tests, server docs). */
-export const FINGERPRINT_GRID = {
+export const FINGERPRINT_GRID = Object.freeze({
   version: FINGERPRINT_VERSION,
   analysisRateHz: ANALYSIS_RATE_HZ,
   fftSize: FFT_SIZE,
@@ -49,7 +50,7 @@ export const FINGERPRINT_GRID = {
   bandBins: BAND_BINS,
   peaks: PEAKS,
   pairs: PAIRS,
-} as const;
+});
 
 /** Anchor time of frame k: the centre of its window. */
 export function frameTimeSeconds(frame: number): number {
