@@ -1,0 +1,53 @@
+/**
+ * Minimal drawing on an RgbaImage: opaque fills and alpha-blended pixels, clipped to the image.
+ * Everything stays opaque (alpha 255), so the PNG is what a viewer shows on any background.
+ */
+import type { RgbaImage } from "../types/analysis.ts";
+
+export type Rgb = readonly [number, number, number];
+
+export function createImage(width: number, height: number, background: Rgb): RgbaImage {
+  if (!Number.isInteger(width) || width < 1 || !Number.isInteger(height) || height < 1) {
+    throw new Error(`image size must be positive whole pixels, got ${width}×${height}`);
+  }
+  const data = new Uint8Array(width * height * 4);
+  for (let i = 0; i < data.length; i += 4) {
+    data[i] = background[0];
+    data[i + 1] = background[1];
+    data[i + 2] = background[2];
+    data[i + 3] = 255;
+  }
+  return { width, height, data };
+}
+
+export function blendPixel(image: RgbaImage, x: number, y: number, colour: Rgb, alpha: number): void {
+  if (x < 0 || y < 0 || x >= image.width || y >= image.height) return;
+  const i = (y * image.width + x) * 4;
+  const d = image.data;
+  if (alpha >= 1) {
+    d[i] = colour[0];
+    d[i + 1] = colour[1];
+    d[i + 2] = colour[2];
+  } else {
+    d[i] = Math.round(d[i] + (colour[0] - d[i]) * alpha);
+    d[i + 1] = Math.round(d[i + 1] + (colour[1] - d[i + 1]) * alpha);
+    d[i + 2] = Math.round(d[i + 2] + (colour[2] - d[i + 2]) * alpha);
+  }
+}
+
+/** Fills [x, x + w) × [y, y + h), clipped; alpha < 1 blends over what is there. */
+export function fillRect(image: RgbaImage, x: number, y: number, w: number, h: number, colour: Rgb, alpha = 1): void {
+  const x0 = Math.max(0, Math.round(x));
+  const y0 = Math.max(0, Math.round(y));
+  const x1 = Math.min(image.width, Math.round(x + w));
+  const y1 = Math.min(image.height, Math.round(y + h));
+  for (let py = y0; py < y1; py++) for (let px = x0; px < x1; px++) blendPixel(image, px, py, colour, alpha);
+}
+
+/** One-pixel outline just outside [x, x + w) × [y, y + h). */
+export function strokeRectOutside(image: RgbaImage, x: number, y: number, w: number, h: number, colour: Rgb): void {
+  fillRect(image, x - 1, y - 1, w + 2, 1, colour);
+  fillRect(image, x - 1, y + h, w + 2, 1, colour);
+  fillRect(image, x - 1, y, 1, h, colour);
+  fillRect(image, x + w, y, 1, h, colour);
+}

@@ -1,0 +1,136 @@
+/**
+ * Audio bandwidth from a long-term spectrum, and the shelf that betrays a lossy or lower-rate origin.
+ *
+ * A "shelf" is a cliff: the spectrum falls by at least `thresholdDb` within 1/6 octave and stays down
+ * up to Nyquist. Natural roll-offs (microphones, tape, analogue filters: at most ~48 dB/octave, i.e.
+ * 8 dB per 1/6 octave; common practice) never qualify, while lossy encoders' low-pass filters and
+ * resamplers' anti-imaging filters (transition bands of a few percent) always do.
+ */
+import type { LongTermSpectrum } from "./longTermSpectrum.ts";
+
+/** Bins below this power count as −200 dB: far under 32-bit float rounding (≈ −150 dB re FS), so digital silence is a finite floor. */
+const FLOOR_POWER = 1e-20;
+/** The drop must happen within this span above the edge (1/6 octave; see the module comment). */
+const SHELF_GAP_OCTAVES = 1 / 6;
+/** The in-band reference is the mean level over this span below the edge; tones are too narrow to hold it up. */
+const REFERENCE_SPAN_OCTAVES = 1 / 3;
+/** Median smoothing over ±1/96 octave (at least ±4 bins) removes isolated tones such as a 19 kHz FM pilot. */
+const SMOOTHING_OCTAVES = 1 / 48;
+/** At least this share of the bins, just under Nyquist, must remain above a candidate's gap as "floor". */
+const MIN_FLOOR_FRACTION = 0.01;
+
+/** A shelf below this fraction of Nyquist is "well below" it: lossy origin suspected (common practice). */
+export const BAND_LIMITED_MAX_FRACTION_OF_NYQUIST = 0.85;
+/**
+ * Standard rates whose Nyquist frequency betrays upsampling (AES5-2018 and IASA TC-04 rates).
+ * 32 kHz is left out on purpose: its 16 kHz shelf is also where lossy encoders low-pass, and calling
+ * that `band-limited` is the safer reading.
+ */
+export const STANDARD_SAMPLE_RATES_HZ = [44100, 48000, 88200, 96000, 176400, 192000] as const;
+/** A resampler's edge sits just under the old Nyquist: accept 88 % … 101 % of it (common practice). */
+const UPSAMPLED_EDGE_MIN_FRACTION = 0.88;
+const UPSAMPLED_EDGE_MAX_FRACTION = 1.01;
+
+export interface BandwidthEstimate {
+  /** Highest frequency within `thresholdDb` of the in-band level below the shelf; Nyquist when there is no shelf. */
+  bandwidthHz: number;
+  hasShelf: boolean;
+  /** In-band level (dB, mean over 1/3 octave below the edge) minus the highest level above the gap. */
+  shelfDepthDb: number;
+}
+
+export type BandwidthVerdict =
+  | { code: "upsampled"; fromSampleRateHz: number }
+  | { code: "band-limited" }
+  | null;
+
+/**
+ * Estimates the bandwidth; null for a silent spectrum. Allocates a few arrays of binCount: it runs once
+ * per file and channel, at finish.
+ */
+export function estimateBandwidth(s: LongTermSpectrum, thresholdDb: number): BandwidthEstimate | null {
+  if (s.frames === 0) return null;
+  const n = s.binCount;
+  const top = n - 2; // the Nyquist bin is half a bin wide and often odd: leave it out
+  const levelDb = new Float64Array(n);
+  let isSilent = true;
+  for (let k = 0; k < n; k++) {
+    if (s.amplitudeSquared[k] > 0) isSilent = false;
+    levelDb[k] = 10 * Math.log10(Math.max(FLOOR_POWER, s.amplitudeSquared[k]));
+  }
+  if (isSilent) return null;
+  const nyquistHz = (n - 1) * s.binHz;
+
+  const smoothed = medianSmooth(levelDb, top);
+  // suffixMax[k] = max of smoothed over [k, top]
+  const suffixMax = new Float64Array(n + 1).fill(-Infinity);
+  for (let k = top; k >= 0; k--) suffixMax[k] = Math.max(smoothed[k], suffixMax[k + 1]);
+  const prefixSum = new Float64Array(n + 1);
+  for (let k = 0; k < n; k++) prefixSum[k + 1] = prefixSum[k] + smoothed[k];
+  const meanOver = (lo: number, hi: number): number => (prefixSum[hi + 1] - prefixSum[lo]) / (hi - lo + 1);
+
+  const gapRatio = 2 ** SHELF_GAP_OCTAVES;
+  const referenceRatio = 2 ** REFERENCE_SPAN_OCTAVES;
+  const minFloorBins = Math.max(4, Math.ceil(MIN_FLOOR_FRACTION * n));
+  // The reference span must hold a few bins; below that the spectrum is too coarse to judge.
+  const firstCandidate = Math.ceil(4 / (1 - 1 / referenceRatio));
+  let edgeBin = -1;
+  let gapBin = -1;
+  let depthDb = 0;
+  for (let k = firstCandidate; k < top - minFloorBins; k++) {
+    const g = Math.min(Math.ceil(k * gapRatio), top - minFloorBins);
+    const beyondDb = suffixMax[g];
+    const referenceDb = meanOver(Math.floor(k / referenceRatio), k);
+    if (smoothed[k] - beyondDb >= thresholdDb && referenceDb - beyondDb >= thresholdDb) {
+      edgeBin = k;
+      gapBin = g;
+      depthDb = referenceDb - beyondDb;
+    }
+  }
+  if (edgeBin < 0) return { bandwidthHz: nyquistHz, hasShelf: false, shelfDepthDb: 0 };
+
+  // The edge itself: the highest frequency still within thresholdDb of the in-band reference.
+  const referenceDb = meanOver(Math.floor(edgeBin / referenceRatio), edgeBin);
+  const limitDb = referenceDb - thresholdDb;
+  let j = gapBin;
+  while (j > 0 && smoothed[j] < limitDb) j--;
+  // Linear interpolation of the crossing between bins j (above the limit) and j + 1 (below it).
+  const above = smoothed[j];
+  const below = smoothed[j + 1];
+  const fraction = above > below ? (above - limitDb) / (above - below) : 0;
+  return { bandwidthHz: (j + fraction) * s.binHz, hasShelf: true, shelfDepthDb: depthDb };
+}
+
+/** Decides whether a shelf means `upsampled` (edge at a lower standard rate's Nyquist) or `band-limited`. */
+export function judgeBandwidth(estimate: BandwidthEstimate, sampleRateHz: number): BandwidthVerdict {
+  if (!estimate.hasShelf) return null;
+  const edgeHz = estimate.bandwidthHz;
+  for (const rateHz of STANDARD_SAMPLE_RATES_HZ) {
+    if (rateHz >= sampleRateHz) break;
+    const lowerNyquistHz = rateHz / 2;
+    if (edgeHz >= UPSAMPLED_EDGE_MIN_FRACTION * lowerNyquistHz && edgeHz <= UPSAMPLED_EDGE_MAX_FRACTION * lowerNyquistHz) {
+      return { code: "upsampled", fromSampleRateHz: rateHz };
+    }
+  }
+  if (edgeHz < BAND_LIMITED_MAX_FRACTION_OF_NYQUIST * (sampleRateHz / 2)) return { code: "band-limited" };
+  return null;
+}
+
+/** Running median of levelDb over [0, top] with a window that widens with frequency (log-spaced smoothing). */
+function medianSmooth(levelDb: Float64Array, top: number): Float64Array {
+  const out = new Float64Array(levelDb.length);
+  out.set(levelDb);
+  const scratch = new Float64Array(2 * 32 + 1);
+  const widen = 2 ** (SMOOTHING_OCTAVES / 2) - 1;
+  for (let k = 0; k <= top; k++) {
+    const half = Math.min(32, Math.max(4, Math.round(k * widen)));
+    const lo = Math.max(0, k - half);
+    const hi = Math.min(top, k + half);
+    const count = hi - lo + 1;
+    const window = scratch.subarray(0, count);
+    window.set(levelDb.subarray(lo, hi + 1));
+    window.sort();
+    out[k] = count % 2 === 1 ? window[(count - 1) / 2] : 0.5 * (window[count / 2 - 1] + window[count / 2]);
+  }
+  return out;
+}

@@ -1,0 +1,112 @@
+/**
+ * The one adapter around fft.js (CommonJS, `any` typings): everything else in Tidemark sees only the
+ * typed `SpectrumAnalyzer` below. One analyzer owns one planned FFT, its Hann window and its scratch
+ * buffers, so a caller that keeps one analyzer per configuration allocates nothing per frame.
+ */
+import FFT from "fft.js";
+
+/** Anything indexable by sample: the block and frame buffers are Float32Array, test frames Float64Array. */
+export type SampleFrame = Float32Array | Float64Array;
+
+export interface SpectrumAnalyzer {
+  readonly fftSize: number;
+  /** Bins 0 … fftSize/2 of the one-sided spectrum. */
+  readonly binCount: number;
+  /** Periodic ("DFT-even") Hann window, length fftSize. */
+  readonly window: Float64Array;
+  /** Σw: the coherent gain times fftSize. */
+  readonly windowSum: number;
+  /** Σw²: sets the noise bandwidth of a bin. */
+  readonly windowEnergy: number;
+  /**
+   * Equivalent noise bandwidth in bins, fftSize·Σw²/(Σw)² (1.5 for Hann; Harris 1978, Table 1).
+   * A bin's amplitude² divided by 2·ENBW is its share of the signal's mean square.
+   */
+  readonly noiseBandwidthBins: number;
+  /** Windowed complex spectrum, interleaved [re, im] for bins 0 … fftSize/2 in out[0 … fftSize+1]. */
+  spectrum(frame: SampleFrame, out: Float64Array): void;
+  /**
+   * Window-corrected amplitude², one value a bin: a sine of peak amplitude a centred on bin k reads a²
+   * there (so a full-scale sine reads 1, i.e. 0 dBFS). DC and Nyquist have no mirror image, so they are
+   * not doubled.
+   */
+  amplitudeSquared(frame: SampleFrame, out: Float32Array | Float64Array): void;
+  /** 10·log10 of `amplitudeSquared` (dB re full scale; −Infinity for an empty bin). */
+  magnitudeDb(frame: SampleFrame, out: Float32Array | Float64Array): void;
+}
+
+export function isPowerOfTwo(n: number): boolean {
+  return Number.isInteger(n) && n > 1 && (n & (n - 1)) === 0;
+}
+
+export function createSpectrumAnalyzer(fftSize: number): SpectrumAnalyzer {
+  // fft.js checks too, but with a message that does not say what arrived; 2^30 keeps `n & (n − 1)` in int32.
+  if (!isPowerOfTwo(fftSize) || fftSize > 2 ** 30) {
+    throw new Error(`fftSize must be a power of two > 1, got ${fftSize}`);
+  }
+  const fft = new FFT(fftSize);
+  const binCount = fftSize / 2 + 1;
+  const window = new Float64Array(fftSize);
+  let windowSum = 0;
+  let windowEnergy = 0;
+  for (let n = 0; n < fftSize; n++) {
+    // Periodic Hann: exactly Σw = N/2 and no duplicated end sample (Harris 1978, "DFT-even" windows).
+    const w = 0.5 - 0.5 * Math.cos((2 * Math.PI * n) / fftSize);
+    window[n] = w;
+    windowSum += w;
+    windowEnergy += w * w;
+  }
+  const windowed = new Float64Array(fftSize);
+  const complex = new Float64Array(2 * fftSize);
+  // Amplitude of bin k is 2|X_k|/Σw (one-sided); DC and Nyquist are |X_k|/Σw.
+  const sideScale = 4 / (windowSum * windowSum);
+  const edgeScale = 1 / (windowSum * windowSum);
+
+  function checkFrame(frame: SampleFrame): void {
+    if (frame.length < fftSize) {
+      throw new Error(`frame must hold at least fftSize = ${fftSize} samples, got ${frame.length}`);
+    }
+  }
+
+  function transform(frame: SampleFrame, out: Float64Array): void {
+    checkFrame(frame);
+    for (let n = 0; n < fftSize; n++) windowed[n] = frame[n] * window[n];
+    // realTransform fills bins 0 … N/2 (the left half); the mirrored half is never needed here.
+    fft.realTransform(out, windowed);
+  }
+
+  function amplitudeSquared(frame: SampleFrame, out: Float32Array | Float64Array): void {
+    if (out.length < binCount) throw new Error(`out must hold binCount = ${binCount} values, got ${out.length}`);
+    transform(frame, complex);
+    const last = binCount - 1;
+    out[0] = complex[0] * complex[0] * edgeScale;
+    for (let k = 1; k < last; k++) {
+      const re = complex[2 * k];
+      const im = complex[2 * k + 1];
+      out[k] = (re * re + im * im) * sideScale;
+    }
+    const reN = complex[2 * last];
+    const imN = complex[2 * last + 1];
+    out[last] = (reN * reN + imN * imN) * edgeScale;
+  }
+
+  return {
+    fftSize,
+    binCount,
+    window,
+    windowSum,
+    windowEnergy,
+    noiseBandwidthBins: (fftSize * windowEnergy) / (windowSum * windowSum),
+    spectrum(frame, out) {
+      if (out.length < 2 * fftSize) {
+        throw new Error(`out must hold 2 × fftSize = ${2 * fftSize} values, got ${out.length}`);
+      }
+      transform(frame, out);
+    },
+    amplitudeSquared,
+    magnitudeDb(frame, out) {
+      amplitudeSquared(frame, out);
+      for (let k = 0; k < binCount; k++) out[k] = 10 * Math.log10(out[k]);
+    },
+  };
+}

@@ -1,0 +1,157 @@
+/**
+ * Aggregates STFT frames into the fixed columns × rows grid of the spectrogram image, in power, so its
+ * size (≈ 3 MB at 1600×600) does not depend on the file's length. One accumulator may own only a band
+ * of rows: the low rows of a log axis come from a finer analysis (lowFrequencyDetail.ts).
+ */
+import type { SpectrogramGrid } from "../types/analysis.ts";
+import { frameStart, type FrameSchedule } from "./stftSchedule.ts";
+
+/** Bottom of the log frequency axis: the lower limit of hearing (common practice), or one bin if wider. */
+export const LOG_AXIS_MIN_HZ = 20;
+
+/** Where the grid's rows lie in frequency: centres and the edges between them, bottom row first. */
+export interface RowLayout {
+  rows: number;
+  frequencyScale: "log" | "linear";
+  centresHz: Float32Array;
+  /** rows + 1 values. */
+  edgesHz: Float64Array;
+}
+
+export function spectrogramRowLayout(
+  rows: number,
+  frequencyScale: "log" | "linear",
+  sampleRateHz: number,
+  fftSize: number,
+): RowLayout {
+  if (!Number.isInteger(rows) || rows < 1) throw new Error(`spectrogram rows must be a positive integer, got ${rows}`);
+  const nyquistHz = sampleRateHz / 2;
+  const minHz = frequencyScale === "log" ? Math.min(nyquistHz / 2, Math.max(LOG_AXIS_MIN_HZ, sampleRateHz / fftSize)) : 0;
+  const at = (t: number): number => (frequencyScale === "log" ? minHz * (nyquistHz / minHz) ** t : t * nyquistHz);
+  const centresHz = new Float32Array(rows);
+  const edgesHz = new Float64Array(rows + 1);
+  for (let r = 0; r <= rows; r++) edgesHz[r] = at(r / rows);
+  for (let r = 0; r < rows; r++) centresHz[r] = at((r + 0.5) / rows);
+  return { rows, frequencyScale, centresHz, edgesHz };
+}
+
+export interface SpectrogramAccumulator {
+  /** Adds frame `frameIndex` of the schedule (its window-corrected amplitude² spectrum). */
+  addFrame(amplitudeSquared: Float64Array, frameIndex: number): void;
+  /** Writes dB for its rows into a full grid's `db` (NaN in columns that got no frame). */
+  writeDb(db: Float32Array): void;
+}
+
+export function createSpectrogramAccumulator(o: {
+  columns: number;
+  layout: RowLayout;
+  /** The rows [rowFrom, rowTo) this accumulator owns. */
+  rowFrom: number;
+  rowTo: number;
+  aggregate: "max" | "mean";
+  binHz: number;
+  binCount: number;
+  /** Multiplies every power (to put a finer analysis on the main one's bandwidth). */
+  powerScale: number;
+  schedule: FrameSchedule;
+  /** Length of the stream in the schedule's samples. */
+  totalFrames: number;
+}): SpectrogramAccumulator {
+  const { columns, layout, rowFrom, rowTo, aggregate, binHz, schedule, totalFrames } = o;
+  if (!Number.isInteger(columns) || columns < 1) throw new Error(`spectrogram columns must be a positive integer, got ${columns}`);
+  const rows = layout.rows;
+  const ownRows = rowTo - rowFrom;
+  const lastBin = o.binCount - 1;
+
+  // Each row is the mean power of the bins whose centres fall inside it; rows narrower than two bins
+  // (the low end of a log axis) interpolate linearly between the two bins around the row centre.
+  const rowFirstBin = new Int32Array(ownRows);
+  const rowBinCount = new Int32Array(ownRows);
+  const rowFraction = new Float64Array(ownRows);
+  for (let i = 0; i < ownRows; i++) {
+    const r = rowFrom + i;
+    const k0 = Math.ceil(layout.edgesHz[r] / binHz);
+    const k1 = Math.min(lastBin + 1, Math.ceil(layout.edgesHz[r + 1] / binHz));
+    if (k1 - k0 >= 2) {
+      rowFirstBin[i] = k0;
+      rowBinCount[i] = k1 - k0;
+    } else {
+      const position = Math.min(lastBin, layout.centresHz[r] / binHz);
+      const below = Math.min(lastBin - 1, Math.floor(position));
+      rowFirstBin[i] = below;
+      rowFraction[i] = position - below;
+    }
+  }
+
+  const power = new Float32Array(columns * ownRows);
+  const framesInColumn = new Uint32Array(columns);
+  const rowPower = new Float64Array(ownRows);
+  const columnsPerSample = totalFrames > 0 ? columns / totalFrames : 0;
+  const centreOf = (k: number): number =>
+    schedule.frameCount === 1 ? totalFrames / 2 : frameStart(schedule, k) + schedule.frameSize / 2;
+  const clampColumn = (c: number): number => Math.min(columns - 1, Math.max(0, c));
+
+  return {
+    addFrame(amplitudeSquared, frameIndex) {
+      for (let i = 0; i < ownRows; i++) {
+        const k0 = rowFirstBin[i];
+        const count = rowBinCount[i];
+        if (count === 0) {
+          const f = rowFraction[i];
+          rowPower[i] = (amplitudeSquared[k0] * (1 - f) + amplitudeSquared[k0 + 1] * f) * o.powerScale;
+        } else {
+          let sum = 0;
+          for (let k = k0; k < k0 + count; k++) sum += amplitudeSquared[k];
+          rowPower[i] = (sum / count) * o.powerScale;
+        }
+      }
+      // The frame owns the columns whose centres are nearer to it than to its neighbours, so sparse
+      // frames (a short file) still fill every column, and at least the column its centre falls in.
+      const centre = centreOf(frameIndex);
+      const cellStart = frameIndex === 0 ? 0 : 0.5 * (centreOf(frameIndex - 1) + centre);
+      const cellEnd = frameIndex >= schedule.frameCount - 1 ? totalFrames : 0.5 * (centre + centreOf(frameIndex + 1));
+      let c0 = clampColumn(Math.ceil(cellStart * columnsPerSample - 0.5));
+      let c1 = clampColumn(Math.ceil(cellEnd * columnsPerSample - 0.5) - 1);
+      if (c1 < c0) c0 = c1 = clampColumn(Math.floor(centre * columnsPerSample));
+      for (let c = c0; c <= c1; c++) {
+        const base = c * ownRows;
+        if (aggregate === "max") {
+          for (let i = 0; i < ownRows; i++) if (rowPower[i] > power[base + i]) power[base + i] = rowPower[i];
+        } else {
+          for (let i = 0; i < ownRows; i++) power[base + i] += rowPower[i];
+        }
+        framesInColumn[c]++;
+      }
+    },
+    writeDb(db) {
+      for (let c = 0; c < columns; c++) {
+        const n = framesInColumn[c];
+        const scale = aggregate === "mean" && n > 0 ? 1 / n : 1;
+        for (let i = 0; i < ownRows; i++) {
+          db[c * rows + rowFrom + i] = n === 0 ? NaN : 10 * Math.log10(power[c * ownRows + i] * scale);
+        }
+      }
+    },
+  };
+}
+
+/** The finished grid from accumulators that together own every row. */
+export function assembleGrid(
+  parts: SpectrogramAccumulator[],
+  columns: number,
+  layout: RowLayout,
+  durationSeconds: number,
+  sampleRateHz: number,
+): SpectrogramGrid {
+  const db = new Float32Array(columns * layout.rows);
+  for (const part of parts) part.writeDb(db);
+  return {
+    columns,
+    rows: layout.rows,
+    db,
+    rowFrequencyHz: layout.centresHz,
+    frequencyScale: layout.frequencyScale,
+    durationSeconds,
+    sampleRateHz,
+  };
+}

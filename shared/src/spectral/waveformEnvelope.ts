@@ -1,0 +1,69 @@
+/**
+ * Peak envelope for the overview strip: per column, the min and max sample over all channels.
+ * Every sample is read (a peak between STFT frames must still show), in runs of one column at a time.
+ */
+import type { AudioBlock, WaveformEnvelope } from "../types/analysis.ts";
+
+export interface WaveformAccumulator {
+  push(block: AudioBlock): void;
+  finish(): WaveformEnvelope;
+}
+
+export function createWaveformAccumulator(o: { columns: number; totalFrames: number; sampleRateHz: number }): WaveformAccumulator {
+  const { columns, totalFrames } = o;
+  if (!Number.isInteger(columns) || columns < 1) throw new Error(`waveform columns must be a positive integer, got ${columns}`);
+  const min = new Float32Array(columns).fill(Infinity);
+  const max = new Float32Array(columns).fill(-Infinity);
+  // Column c holds frames [start(c), start(c + 1)); the last column also takes any frames past totalFrames.
+  const start = (c: number): number => (c >= columns ? Infinity : Math.ceil((c * totalFrames) / columns));
+  let column = 0;
+  let columnEnd = start(1);
+  let framesSeen = 0;
+
+  return {
+    push(block) {
+      const frames = block.frames;
+      let position = block.startFrame;
+      if (position < start(column) || position >= columnEnd) {
+        column = Math.min(columns - 1, Math.max(0, Math.floor((position * columns) / Math.max(1, totalFrames))));
+        while (column > 0 && position < start(column)) column--;
+        while (position >= start(column + 1)) column++;
+        columnEnd = start(column + 1);
+      }
+      let i = 0;
+      while (i < frames) {
+        while (position >= columnEnd) {
+          column++;
+          columnEnd = start(column + 1);
+        }
+        const n = Math.min(frames - i, columnEnd - position);
+        let lo = min[column];
+        let hi = max[column];
+        for (let c = 0; c < block.channels.length; c++) {
+          const samples = block.channels[c];
+          for (let j = i; j < i + n; j++) {
+            const v = samples[j];
+            if (v < lo) lo = v;
+            if (v > hi) hi = v;
+          }
+        }
+        min[column] = lo;
+        max[column] = hi;
+        i += n;
+        position += n;
+      }
+      framesSeen = Math.max(framesSeen, position);
+    },
+    finish() {
+      // With fewer samples than columns some columns own none: they repeat the one before (a sample
+      // drawn wide). Columns past the last sample that arrived stay NaN.
+      for (let c = 0; c < columns; c++) {
+        if (min[c] <= max[c]) continue;
+        const isCovered = start(c) < framesSeen;
+        min[c] = isCovered && c > 0 ? min[c - 1] : NaN;
+        max[c] = isCovered && c > 0 ? max[c - 1] : NaN;
+      }
+      return { columns, min, max, durationSeconds: totalFrames / o.sampleRateHz };
+    },
+  };
+}
