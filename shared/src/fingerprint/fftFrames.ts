@@ -1,9 +1,9 @@
 /**
- * The fingerprinter's only contact with fft.js: a Hann-windowed power spectrum in dB of one frame.
- * Kept in one adapter (fft.js is CommonJS with `any` typings) so it can later be merged into
- * shared/src/spectral/fft.ts, which was not in the tree when this was written.
+ * Band power spectrum in dB of one frame, on top of the shared FFT adapter (shared/src/spectral/
+ * fft.ts, the only importer of fft.js). Raw power 10·log10|X[k]|² of the Hann-windowed frame, not
+ * dBFS: the fingerprint only compares values with each other, and its floor is set in these units.
  */
-import FFT from "fft.js";
+import { createSpectrumAnalyzer } from "../spectral/fft.ts";
 
 export interface FramePowerSpectrum {
   readonly fftSize: number;
@@ -18,27 +18,18 @@ export interface FramePowerSpectrum {
 const TINY_POWER = 1e-30;
 
 export function createFramePowerSpectrum(fftSize: number): FramePowerSpectrum {
-  if (!Number.isInteger(fftSize) || fftSize < 4 || (fftSize & (fftSize - 1)) !== 0) {
-    throw new RangeError(`fftSize must be a power of two ≥ 4, got ${fftSize}`);
-  }
-  const fft = new FFT(fftSize);
-  const window = new Float64Array(fftSize);
-  // Periodic Hann (common practice for short-time spectra): low sidelobes keep weak peaks visible.
-  for (let i = 0; i < fftSize; i++) window[i] = 0.5 - 0.5 * Math.cos((2 * Math.PI * i) / fftSize);
-  const windowed = new Float64Array(fftSize);
+  const analyzer = createSpectrumAnalyzer(fftSize);
   const spectrum = new Float64Array(2 * fftSize);
-  const halfBins = fftSize / 2 + 1;
+  const halfBins = analyzer.binCount;
 
   return {
     fftSize,
     powerDb(frame, firstBin, out) {
-      if (frame.length < fftSize) throw new RangeError(`frame must hold ${fftSize} samples, got ${frame.length}`);
       if (firstBin < 0 || firstBin + out.length > halfBins) {
         throw new RangeError(`bins [${firstBin}, ${firstBin + out.length}) outside [0, ${halfBins})`);
       }
-      for (let i = 0; i < fftSize; i++) windowed[i] = frame[i] * window[i];
-      // realTransform fills only bins 0..N/2 (interleaved re, im), which is all we read.
-      fft.realTransform(spectrum, windowed);
+      // Interleaved [re, im] for bins 0 … N/2; only the band's bins are read.
+      analyzer.spectrum(frame, spectrum);
       for (let k = 0; k < out.length; k++) {
         const re = spectrum[2 * (firstBin + k)];
         const im = spectrum[2 * (firstBin + k) + 1];
