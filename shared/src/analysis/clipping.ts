@@ -86,17 +86,25 @@ class RunClipDetector implements ClipDetector {
   private scan(c: number, x: Float32Array, frames: number): void {
     const hi = this.positiveThreshold;
     const lo = this.negativeThreshold;
+    const base = this.position;
     let sign = this.runSign[c];
     let start = this.runStart[c];
-    const base = this.position;
-    for (let i = 0; i < frames; i++) {
-      const v = x[i];
-      const s = v >= hi ? 1 : v <= lo ? -1 : 0;
-      if (s !== sign) {
-        if (sign !== 0) this.closeRun(c, start, base + i);
-        sign = s;
+    let i = 0;
+    while (i < frames) {
+      if (sign === 0) {
+        // Common case: skip samples inside full scale with two comparisons each.
+        while (i < frames && x[i] < hi && x[i] > lo) i++;
+        if (i === frames) break;
+        sign = x[i] >= hi ? 1 : -1;
         start = base + i;
+        i++;
       }
+      const inRun = sign > 0 ? hi : lo;
+      if (sign > 0) while (i < frames && x[i] >= inRun) i++;
+      else while (i < frames && x[i] <= inRun) i++;
+      if (i === frames) break;
+      this.closeRun(c, start, base + i);
+      sign = 0;
     }
     this.runSign[c] = sign;
     this.runStart[c] = start;

@@ -60,8 +60,13 @@ class WindowAccumulator implements LevelWindowAccumulator {
     let at = 0;
     while (at < frames) {
       const n = Math.min(frames - at, this.windowEnd - this.position);
-      for (let c = 0; c < this.channels; c++) this.accumulate(c, input[c], at, n);
-      if (this.channels >= 2) this.window.crossProduct = crossProduct(input[0], input[1], at, n, this.window.crossProduct);
+      let c = 0;
+      if (this.channels >= 2) {
+        // The first pair in one loop with Σx₀x₁: independent sums overlap, and the data is read once.
+        this.accumulatePair(input[0], input[1], at, n);
+        c = 2;
+      }
+      for (; c < this.channels; c++) this.accumulate(c, input[c], at, n);
       at += n;
       this.position += n;
       if (this.position === this.windowEnd) this.emit();
@@ -93,6 +98,52 @@ class WindowAccumulator implements LevelWindowAccumulator {
     }
   }
 
+  private accumulatePair(x: Float32Array, y: Float32Array, from: number, n: number): void {
+    const w = this.window;
+    let sumX = w.sum[0];
+    let sumY = w.sum[1];
+    let sqX = w.sumSquares[0];
+    let sqY = w.sumSquares[1];
+    let xy = w.crossProduct;
+    let peakX = w.peakAbs[0];
+    let peakY = w.peakAbs[1];
+    let atX = -1;
+    let atY = -1;
+    const end = from + n;
+    for (let i = from; i < end; i++) {
+      const u = x[i];
+      const v = y[i];
+      sumX += u;
+      sumY += v;
+      sqX += u * u;
+      sqY += v * v;
+      xy += u * v;
+      const a = u < 0 ? -u : u;
+      if (a > peakX) {
+        peakX = a;
+        atX = i;
+      }
+      const b = v < 0 ? -v : v;
+      if (b > peakY) {
+        peakY = b;
+        atY = i;
+      }
+    }
+    w.sum[0] = sumX;
+    w.sum[1] = sumY;
+    w.sumSquares[0] = sqX;
+    w.sumSquares[1] = sqY;
+    w.crossProduct = xy;
+    if (atX >= 0) {
+      w.peakAbs[0] = peakX;
+      w.peakFrame[0] = this.position + (atX - from);
+    }
+    if (atY >= 0) {
+      w.peakAbs[1] = peakY;
+      w.peakFrame[1] = this.position + (atY - from);
+    }
+  }
+
   private emit(): void {
     const w = this.window;
     w.frames = this.position - w.startFrame;
@@ -110,11 +161,4 @@ class WindowAccumulator implements LevelWindowAccumulator {
   finish(): void {
     if (this.position > this.window.startFrame) this.emit();
   }
-}
-
-function crossProduct(a: Float32Array, b: Float32Array, from: number, n: number, start: number): number {
-  let s = start;
-  const end = from + n;
-  for (let i = from; i < end; i++) s += a[i] * b[i];
-  return s;
 }

@@ -21,48 +21,79 @@ export interface ValueRunTracker {
 }
 
 export function createValueRunTracker(channels: number, minLength: number, onRun: (run: ValueRun) => void): ValueRunTracker {
-  // Per channel: the current run's value (NaN before the first sample), its start, and the value before it.
-  const value = new Float64Array(channels).fill(NaN);
-  const start = new Float64Array(channels);
-  const before = new Float64Array(channels).fill(NaN);
-  let position = 0;
-  const report = (c: number, runValue: number, runStart: number, end: number, previous: number, after: number | null) => {
-    onRun({
-      channel: c,
-      value: runValue,
-      startFrame: runStart,
-      length: end - runStart,
-      before: Number.isNaN(previous) ? null : previous,
-      after,
-    });
-  };
-  return {
-    push(input, frames) {
-      for (let c = 0; c < channels; c++) {
-        const x = input[c];
-        let prev = value[c];
-        let runStart = start[c];
-        let previous = before[c];
-        for (let i = 0; i < frames; i++) {
-          const v = x[i];
-          if (v !== prev) {
-            const end = position + i;
-            if (end - runStart >= minLength && !Number.isNaN(prev)) report(c, prev, runStart, end, previous, v);
-            previous = prev;
-            prev = v;
-            runStart = end;
-          }
-        }
-        value[c] = prev;
-        start[c] = runStart;
-        before[c] = previous;
+  return new RunTracker(channels, Math.max(2, minLength), onRun);
+}
+
+/**
+ * Per channel it carries the run that the previous block ended in: its value (NaN before the first sample),
+ * first frame, and the sample before it. Inside a block the common case — each sample differs from the
+ * last — costs one comparison; only where two neighbours are equal is a run measured.
+ */
+class RunTracker implements ValueRunTracker {
+  private readonly last: Float64Array;
+  private readonly lastStart: Float64Array;
+  private readonly beforeLast: Float64Array;
+  private position = 0;
+
+  constructor(
+    private readonly channels: number,
+    private readonly minLength: number,
+    private readonly onRun: (run: ValueRun) => void,
+  ) {
+    this.last = new Float64Array(channels).fill(NaN);
+    this.lastStart = new Float64Array(channels);
+    this.beforeLast = new Float64Array(channels).fill(NaN);
+  }
+
+  private report(c: number, value: number, startFrame: number, endFrame: number, before: number, after: number | null): void {
+    if (endFrame - startFrame < this.minLength || Number.isNaN(value)) return;
+    this.onRun({ channel: c, value, startFrame, length: endFrame - startFrame, before: Number.isNaN(before) ? null : before, after });
+  }
+
+  push(input: Float32Array[], frames: number): void {
+    if (frames <= 0) return;
+    for (let c = 0; c < this.channels; c++) this.scan(c, input[c], frames);
+    this.position += frames;
+  }
+
+  private scan(c: number, x: Float32Array, frames: number): void {
+    const base = this.position;
+    const last = this.last[c];
+    // 1. The run carried from the previous block: does it continue?
+    let i = 0;
+    while (i < frames && x[i] === last) i++;
+    if (i === frames) return;
+    this.report(c, last, this.lastStart[c], base + i, this.beforeLast[c], x[i]);
+    // 2. Within the block: find neighbours that are equal, then measure the run they begin. A run starting
+    // at index r follows x[r − 1], or the carried value when r = 0.
+    let k = i + 1;
+    for (;;) {
+      while (k < frames && x[k] !== x[k - 1]) k++;
+      if (k >= frames) break;
+      const value = x[k];
+      const runStart = k - 1;
+      const before = runStart > 0 ? x[runStart - 1] : last;
+      let j = k + 1;
+      while (j < frames && x[j] === value) j++;
+      if (j === frames) {
+        this.last[c] = value;
+        this.lastStart[c] = base + runStart;
+        this.beforeLast[c] = before;
+        return;
       }
-      position += frames;
-    },
-    finish() {
-      for (let c = 0; c < channels; c++) {
-        if (position - start[c] >= minLength && !Number.isNaN(value[c])) report(c, value[c], start[c], position, before[c], null);
-      }
-    },
-  };
+      this.report(c, value, base + runStart, base + j, before, x[j]);
+      k = j + 1;
+    }
+    // 3. The block ends on a run of one sample.
+    this.last[c] = x[frames - 1];
+    this.lastStart[c] = base + frames - 1;
+    this.beforeLast[c] = frames >= 2 ? x[frames - 2] : last;
+  }
+
+  finish(): void {
+    for (let c = 0; c < this.channels; c++) {
+      this.report(c, this.last[c], this.lastStart[c], this.position, this.beforeLast[c], null);
+      this.last[c] = NaN;
+    }
+  }
 }
