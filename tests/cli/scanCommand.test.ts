@@ -200,9 +200,9 @@ describe("tidemark scan (real binary)", () => {
 
 describe("tidemark scan: bad invocations exit 2 with one line naming the problem", () => {
   it.each([
-    [["scan", "archive", "--profile", "bad-profile.json"], /^tidemark: bad profile bad-profile\.json: thresholds\.truePeakDbtp\.fail: expected number, received string\n$/],
+    [["scan", "archive", "--profile", "bad-profile.json"], /^tidemark: bad profile bad-profile\.json: thresholds\.truePeakDbtp\.fail: expected number, received string$/],
     [["scan", "archive", "--profile", "lighthouse-strict"], /profile not found: "lighthouse-strict" is neither a built-in profile/],
-    [["scan", "archive/Ferry", "no-such-reel"], /^tidemark: path not found: no-such-reel\n$/],
+    [["scan", "archive/Ferry", "no-such-reel"], /^tidemark: path not found: no-such-reel$/],
     [["scan", "archive", "--out", "missing-dir/r.json"], /cannot write --out missing-dir\/r\.json: folder missing-dir does not exist/],
     [["scan", "archive", "--workers", "0"], /expected a whole number of workers from 1 to 64, got "0"/],
     [["profiles", "bad-profile.json"], /thresholds\.truePeakDbtp\.fail/],

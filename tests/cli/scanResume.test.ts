@@ -14,8 +14,8 @@ import { isolatedEnv, runCli, startCli, withoutTimestamps } from "./runCli.ts";
 let dir: string;
 const env = isolatedEnv();
 /** Enough audio that a scan is still running when the first file's record appears. */
-const FILES = 32;
-const SECONDS = 8;
+const FILES = 16;
+const SECONDS = 4;
 /** Whole-second mtimes survive utimes exactly, so a test can change content behind an unchanged mtime. */
 const FIXED_MTIME = new Date("2026-01-15T10:00:00Z");
 
@@ -51,7 +51,7 @@ describe("interrupted scans", () => {
     child.kill("SIGINT");
     const r = await child;
     expect(r.exitCode).toBe(130);
-    expect(String(r.stderr)).toMatch(/interrupted: \d+ of 32 file\(s\) done/);
+    expect(String(r.stderr)).toMatch(/interrupted: \d+ of 16 file\(s\) done/);
     const partial = JSON.parse(readFileSync(path.join(dir, "partial.json"), "utf8")) as ScanReport;
     expect(partial.files.length).toBeGreaterThanOrEqual(1);
     expect(partial.files.length).toBeLessThan(FILES);

@@ -14,7 +14,7 @@ import type { Interruption } from "./interruption.ts";
 import type { ScanProgress } from "./progress.ts";
 import type { ResumeRecord, ResumeState } from "./resumeState.ts";
 import type { ScanTask, ScanTaskResult } from "./scanWorker.ts";
-import { createWorkerPool, WorkerCrashError, type WorkerPool } from "./workerPool.ts";
+import { createWorkerPool, WorkerCrashError, WorkerStartError, type WorkerPool } from "./workerPool.ts";
 
 export interface RunScanOptions {
   files: readonly CrawledFile[];
@@ -81,6 +81,8 @@ export async function runScan(options: RunScanOptions): Promise<RunScanResult> {
     } catch (error) {
       // Stopped on purpose: the file is simply not done.
       if (interruption.immediate) return null;
+      // Nothing can be measured: stop the scan rather than report every file as an error.
+      if (error instanceof WorkerStartError) throw error;
       const code = error instanceof WorkerCrashError ? "worker-crashed" : "analysis-failed";
       return { report: errorReport(file.relPath, file.sizeBytes, { code, message: `${file.relPath}: measurement stopped (${oneLine(error)})` }), seconds: 0 };
     }

@@ -1,7 +1,9 @@
 /**
- * A fixed pool of worker threads, one task at a time each. The workers are TypeScript run through tsx,
- * so each is started with tsx's loader. A worker that dies mid-task (crash, out of memory) fails only
- * that task with WorkerCrashError and is replaced; the pool carries on.
+ * A fixed pool of worker threads, one task at a time each. The workers are TypeScript run through tsx:
+ * each starts from a tiny bootstrap that registers tsx's loader and then imports the script (on Node 20,
+ * `--import tsx` in a Worker's execArgv does not reach the worker's module loader). A worker that dies
+ * mid-task (crash, out of memory) fails only that task with WorkerCrashError and is replaced; a worker
+ * that cannot even start fails every task with the reason, instead of being respawned for ever.
  */
 import { Worker } from "node:worker_threads";
 
@@ -9,6 +11,14 @@ export class WorkerCrashError extends Error {
   constructor(message: string) {
     super(message);
     this.name = "WorkerCrashError";
+  }
+}
+
+/** A worker died before its script loaded (broken install, syntax error): no task can run. */
+export class WorkerStartError extends Error {
+  constructor(message: string) {
+    super(message);
+    this.name = "WorkerStartError";
   }
 }
 
@@ -43,9 +53,22 @@ interface Job<Task, Result> {
 interface Slot<Task, Result> {
   worker: Worker;
   job: Job<Task, Result> | null;
+  /** The script has loaded; only ready workers get tasks. */
+  ready: boolean;
 }
 
-const tsxLoader = (): string => import.meta.resolve("tsx");
+const READY = "tidemark:worker-ready";
+
+/** CommonJS code run with `eval: true`: register tsx, import the script, say so. */
+function bootstrapCode(script: URL): string {
+  const tsxApi = JSON.stringify(import.meta.resolve("tsx/esm/api"));
+  return [
+    `const { parentPort } = require("node:worker_threads");`,
+    `import(${tsxApi})`,
+    `  .then((tsx) => { tsx.register(); return import(${JSON.stringify(script.href)}); })`,
+    `  .then(() => parentPort.postMessage(${JSON.stringify(READY)}));`,
+  ].join("\n");
+}
 
 export function createWorkerPool<Task, Result>(options: WorkerPoolOptions): WorkerPool<Task, Result> {
   const queue: Job<Task, Result>[] = [];
@@ -53,17 +76,24 @@ export function createWorkerPool<Task, Result>(options: WorkerPoolOptions): Work
   let nextId = 1;
   let closing = false;
   let idleWaiters: (() => void)[] = [];
+  /** Set when a worker died before its script loaded: respawning would only repeat that. */
+  let startFailure: Error | null = null;
 
   const spawn = (): Slot<Task, Result> => {
-    const worker = new Worker(options.script, {
+    const worker = new Worker(bootstrapCode(options.script), {
+      eval: true,
       workerData: options.workerData,
-      execArgv: ["--import", tsxLoader()],
       resourceLimits: options.maxOldGenerationSizeMb ? { maxOldGenerationSizeMb: options.maxOldGenerationSizeMb } : undefined,
       stdout: false,
       stderr: false,
     });
-    const slot: Slot<Task, Result> = { worker, job: null };
-    worker.on("message", (reply: WorkerReply<Result>) => {
+    const slot: Slot<Task, Result> = { worker, job: null, ready: false };
+    worker.on("message", (reply: WorkerReply<Result> | typeof READY) => {
+      if (reply === READY) {
+        slot.ready = true;
+        dispatch();
+        return;
+      }
       const job = slot.job;
       if (!job || job.id !== reply.id) return;
       slot.job = null;
@@ -76,8 +106,13 @@ export function createWorkerPool<Task, Result>(options: WorkerPoolOptions): Work
       slot.job = null;
       const index = slots.indexOf(slot);
       if (index >= 0) slots.splice(index, 1);
-      job?.reject(new WorkerCrashError(why));
-      if (!closing) slots.push(spawn());
+      if (!slot.ready) {
+        startFailure = new WorkerStartError(`a measuring worker could not start: ${why}`);
+        for (const queued of queue.splice(0)) queued.reject(startFailure);
+      } else {
+        job?.reject(new WorkerCrashError(why));
+        if (!closing) slots.push(spawn());
+      }
       dispatch();
     };
     worker.on("error", (error) => lost(`worker failed: ${error.message.split("\n")[0]}`));
@@ -89,7 +124,7 @@ export function createWorkerPool<Task, Result>(options: WorkerPoolOptions): Work
 
   const dispatch = (): void => {
     for (const slot of slots) {
-      if (slot.job || queue.length === 0) continue;
+      if (!slot.ready || slot.job || queue.length === 0) continue;
       const job = queue.shift()!;
       slot.job = job;
       slot.worker.postMessage({ id: job.id, task: job.task });
@@ -120,6 +155,7 @@ export function createWorkerPool<Task, Result>(options: WorkerPoolOptions): Work
   return {
     size: options.size,
     run(task) {
+      if (startFailure) return Promise.reject(startFailure);
       if (closing) return Promise.reject(new WorkerCrashError("pool is closed"));
       return new Promise<Result>((resolve, reject) => {
         queue.push({ id: nextId++, task, resolve, reject });
