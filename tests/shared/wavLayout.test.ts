@@ -235,6 +235,59 @@ describe("readWavLayout: layouts", () => {
     expect(layout.totalFrames).toBe(2400);
   });
 
+  it("RF64 past 4 GB: a virtual 5 GB file, with a LIST chunk after 4.5 GB of data, is walked at 64-bit offsets", async () => {
+    const dataBytes = 4.5 * 2 ** 30;
+    const head = stereoFixture({ rf64: true, bitDepth: 24, seconds: 0.001 });
+    const dataAt = chunkOffset(head, "data") + 8;
+    const list = listInfo({ INAM: "Lighthouse Choir Reels, reel 12" });
+    const listAt = dataAt + dataBytes;
+    const size = listAt + list.length;
+    const v = new DataView(head.buffer);
+    // ds64 sizes (EBU Tech 3306, 3.2): riffSize, dataSize, sampleCount as low/high 32-bit words.
+    const put64 = (at: number, value: number) => {
+      v.setUint32(at, value % 2 ** 32, true);
+      v.setUint32(at + 4, Math.floor(value / 2 ** 32), true);
+    };
+    put64(20, size - 8);
+    put64(28, dataBytes);
+    put64(36, dataBytes / 6);
+    // Only the header and the trailing LIST exist; everything else reads as zeros, never allocated whole.
+    const source = {
+      sizeBytes: size,
+      readAt: async (offset: number, length: number) => {
+        const out = new Uint8Array(Math.max(0, Math.min(length, size - offset, 1 << 20)));
+        for (let i = 0; i < out.length; i++) {
+          const at = offset + i;
+          out[i] = at < dataAt ? head[at] : at >= listAt ? list[at - listAt] : 0;
+        }
+        return out;
+      },
+    };
+    const layout = await readWavLayout(source);
+    expect(layout.container).toBe("rf64");
+    expect(layout.dataBytes).toBe(dataBytes);
+    expect(layout.totalFrames).toBe(dataBytes / 6);
+    expect(layout.isTruncated).toBe(false);
+    expect(layout.chunks.at(-1)).toEqual({ id: "LIST", offset: listAt, sizeBytes: list.length - 8 });
+    expect(layout.metadata.info).toEqual({ INAM: "Lighthouse Choir Reels, reel 12" });
+  });
+
+  it("a data chunk before fmt is accepted (RIFF allows any chunk order)", async () => {
+    const normal = stereoFixture({ bitDepth: 16 });
+    const fmtAt = chunkOffset(normal, "fmt ");
+    const dataAt = chunkOffset(normal, "data");
+    const fmt = normal.slice(fmtAt, dataAt);
+    const data = normal.slice(dataAt);
+    const bytes = new Uint8Array(normal.length);
+    bytes.set(normal.subarray(0, 12), 0);
+    bytes.set(data, 12);
+    bytes.set(fmt, 12 + data.length);
+    const layout = await layoutOf(bytes);
+    expect(layout.chunks.map((c) => c.id)).toEqual(["data", "fmt "]);
+    expect(layout.dataOffset).toBe(20);
+    expect(layout.totalFrames).toBe(2400);
+  });
+
   it("truncated data: measured on the bytes present", async () => {
     const whole = stereoFixture();
     const cut = whole.subarray(0, whole.length - 1000);
