@@ -2,6 +2,7 @@ import { afterEach, describe, expect, it, vi } from "vitest";
 import { fireEvent, screen, waitFor, within } from "@testing-library/react";
 import type { FileDetailDto, Role } from "@tidemark/shared/types/api";
 import { deferred, stubFetch, type StubReply } from "./fetchStub.ts";
+import { SPECTROGRAM_MARGINS } from "@tidemark/shared/render/layout";
 import { fileDetail, user } from "./fixtures.ts";
 import { renderApp } from "./renderApp.tsx";
 
@@ -28,14 +29,17 @@ describe("File page", () => {
     renderApp("/files/7");
     await screen.findByRole("heading", { name: "ferry/interview-07.wav" });
     expect((screen.getByAltText(/^Spectrogram of/) as HTMLImageElement).getAttribute("src")).toBe("/api/files/7/spectrogram.png");
-    loadImage(/^Spectrogram of/, 1280, 480);
+    loadImage(/^Spectrogram of/, 1600, 600);
 
     const marker = screen.getByRole("button", { name: /clipping at 0:30.00, channel 1/ });
     // 30 s of 120 s is a quarter of the plot width; the plot sits inside the image's margins.
     expect(marker.style.left).toBe("25%");
     const plot = marker.parentElement as HTMLElement;
     expect(plot.hasAttribute("data-plot-area")).toBe(true);
-    expect(parseFloat(plot.style.left)).toBeGreaterThan(0);
+    // The renderer's margins, as percentages of this 1600 × 600 image.
+    expect(parseFloat(plot.style.left)).toBeCloseTo((SPECTROGRAM_MARGINS.leftPx / 1600) * 100, 3);
+    expect(parseFloat(plot.style.right)).toBeCloseTo((SPECTROGRAM_MARGINS.rightPx / 1600) * 100, 3);
+    expect(parseFloat(plot.style.top)).toBeCloseTo((SPECTROGRAM_MARGINS.topPx / 600) * 100, 3);
     expect(marker.getAttribute("aria-pressed")).toBe("false");
     // A whole-file finding has no place on the time axis.
     expect(screen.queryByRole("button", { name: /^hum at/ })).toBeNull();

@@ -1,19 +1,23 @@
 import { describe, expect, it } from "vitest";
-import { matchQuery, QueryClient } from "@tanstack/react-query";
+import { QueryClient } from "@tanstack/react-query";
 import { fileKeys } from "../../web/src/api/keys.ts";
 import { fileDetailOptions, fileListOptions } from "../../web/src/api/files.ts";
+import { fileDetail, page } from "./fixtures.ts";
 
 describe("query-key factories", () => {
   it("nest, so invalidating a level reaches everything below it and nothing beside it", () => {
     const client = new QueryClient();
-    const cache = client.getQueryCache();
-    const list = cache.build(client, fileListOptions({ verdict: "fail", page: 2 }));
-    const detail = cache.build(client, fileDetailOptions(7));
-    expect(matchQuery({ queryKey: fileKeys.lists() }, list)).toBe(true);
-    expect(matchQuery({ queryKey: fileKeys.lists() }, detail)).toBe(false);
-    expect(matchQuery({ queryKey: fileKeys.detail(7) }, detail)).toBe(true);
-    expect(matchQuery({ queryKey: fileKeys.detail(8) }, detail)).toBe(false);
-    expect(matchQuery({ queryKey: fileKeys.all }, list) && matchQuery({ queryKey: fileKeys.all }, detail)).toBe(true);
+    client.setQueryData(fileListOptions({ verdict: "fail", page: 2 }).queryKey, page([]));
+    client.setQueryData(fileDetailOptions(7).queryKey, fileDetail(7));
+    client.setQueryData(fileDetailOptions(8).queryKey, fileDetail(8));
+    const keysUnder = (queryKey: readonly unknown[]) =>
+      client
+        .getQueryCache()
+        .findAll({ queryKey })
+        .map((q) => q.queryKey);
+    expect(keysUnder(fileKeys.lists())).toEqual([["files", "list", { verdict: "fail", page: 2 }]]);
+    expect(keysUnder(fileKeys.detail(7))).toEqual([["files", "detail", 7]]);
+    expect(keysUnder(fileKeys.all)).toHaveLength(3);
   });
 
   it("put every filter into the list key, so two views never share a cache entry", () => {

@@ -2,14 +2,7 @@ import { useState, type CSSProperties } from "react";
 import type { FindingDto } from "@tidemark/shared/types/api";
 import type { Severity } from "@tidemark/shared/types/report";
 import { formatTimestamp } from "../../format/units.ts";
-import {
-  LOCAL_SPECTROGRAM_PLOT_MARGINS_PX,
-  LOCAL_WAVEFORM_PLOT_MARGINS_PX,
-  markerSpan,
-  plotAreaInset,
-  type NaturalSize,
-  type PlotMarginsPx,
-} from "./plotGeometry.ts";
+import { markerSpan, plotAreaInset, SPECTROGRAM_MARGINS, WAVEFORM_MARGINS, type Margins, type NaturalSize } from "./plotGeometry.ts";
 
 const MARKER_FILL: Record<Severity, string> = {
   fail: "var(--color-marker-fail)",
@@ -64,7 +57,7 @@ function MarkerLayer({ findings, durationSeconds, selectedId, onSelect, interact
 interface PlotImageProps {
   src: string;
   alt: string;
-  margins: PlotMarginsPx;
+  margins: Margins;
   markers: Omit<MarkerLayerProps, "interactive">;
   interactive: boolean;
   missingText: string;
@@ -121,7 +114,7 @@ export function SpectrogramView({ spectrogramUrl, waveformUrl, path, durationSec
           <PlotImage
             src={spectrogramUrl}
             alt={`Spectrogram of ${path}: frequency against time, with ${findings.length} finding markers`}
-            margins={LOCAL_SPECTROGRAM_PLOT_MARGINS_PX}
+            margins={SPECTROGRAM_MARGINS}
             markers={markers}
             interactive
             missingText="The spectrogram image could not be loaded. It may have been removed from storage; reload to try again."
@@ -131,7 +124,7 @@ export function SpectrogramView({ spectrogramUrl, waveformUrl, path, durationSec
           <PlotImage
             src={waveformUrl}
             alt={`Waveform of ${path}`}
-            margins={LOCAL_WAVEFORM_PLOT_MARGINS_PX}
+            margins={WAVEFORM_MARGINS}
             markers={markers}
             interactive={!spectrogramUrl}
             missingText="The waveform image could not be loaded; reload to try again."

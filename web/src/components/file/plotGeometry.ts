@@ -1,17 +1,11 @@
 /**
- * Where the time axis sits inside the server's PNGs, in pixels of the image's natural size.
- * TODO(#7): the spectral renderer is to export these from shared/src/render; until then they are
- * local guesses, named so nobody mistakes them for the contract.
+ * Where the time axis sits inside the server's PNGs. The renderer exports its fixed pixel margins, so
+ * markers are placed in CSS percentages of whatever size the image has.
  */
-export interface PlotMarginsPx {
-  left: number;
-  right: number;
-  top: number;
-  bottom: number;
-}
+import type { Margins } from "@tidemark/shared/render/layout";
 
-export const LOCAL_SPECTROGRAM_PLOT_MARGINS_PX: PlotMarginsPx = { left: 72, right: 96, top: 36, bottom: 32 };
-export const LOCAL_WAVEFORM_PLOT_MARGINS_PX: PlotMarginsPx = { left: 72, right: 96, top: 12, bottom: 6 };
+export { SPECTROGRAM_MARGINS, WAVEFORM_MARGINS } from "@tidemark/shared/render/layout";
+export type { Margins };
 
 export interface NaturalSize {
   width: number;
@@ -19,13 +13,13 @@ export interface NaturalSize {
 }
 
 /** The plot area as CSS percentages of the rendered image, which scales with the page. */
-export function plotAreaInset(margins: PlotMarginsPx, size: NaturalSize) {
+export function plotAreaInset(margins: Margins, size: NaturalSize) {
   const pct = (px: number, of: number) => `${((px / of) * 100).toFixed(4)}%`;
   return {
-    left: pct(margins.left, size.width),
-    right: pct(margins.right, size.width),
-    top: pct(margins.top, size.height),
-    bottom: pct(margins.bottom, size.height),
+    left: pct(margins.leftPx, size.width),
+    right: pct(margins.rightPx, size.width),
+    top: pct(margins.topPx, size.height),
+    bottom: pct(margins.bottomPx, size.height),
   };
 }
 
