@@ -88,10 +88,11 @@ export function chooseStftSchedule(o: {
 
 /**
  * Long frames for hum and for the low bands: up to this many, non-overlapping, spread evenly over the
- * file. 48 frames put the Welch spread of a bin at ≈ 0.6 dB (4.34 dB/√48; an exponential periodogram
- * bin has a 4.34 dB spread) for ≈ 70 ms of FFTs on stereo 48 kHz.
+ * file. 32 frames put the Welch spread of a bin at ≈ 0.8 dB (4.34 dB/√32; a periodogram bin is
+ * exponentially distributed, 4.34 dB spread; common practice), and hum's floor is a median over
+ * ≈ 25 such bins, for ≈ 50 ms of 32768-point FFTs on stereo 48 kHz.
  */
-export const LONG_FRAMES_MAX = 48;
+export const LONG_FRAMES_MAX = 32;
 
 /** Null when the file is shorter than one long frame (≈ 0.7 s): no hum estimate then. */
 export function chooseLongFrameSchedule(totalFrames: number, sampleRateHz: number): FrameSchedule | null {

@@ -59,7 +59,7 @@ export function createWaveformAccumulator(o: { columns: number; totalFrames: num
       // drawn wide). Columns past the last sample that arrived stay NaN.
       for (let c = 0; c < columns; c++) {
         if (min[c] <= max[c]) continue;
-        const isCovered = start(c) < framesSeen;
+        const isCovered = framesSeen > 0 && start(c) <= framesSeen;
         min[c] = isCovered && c > 0 ? min[c - 1] : NaN;
         max[c] = isCovered && c > 0 ? max[c - 1] : NaN;
       }
