@@ -4,7 +4,7 @@
  */
 import type { ErrorRequestHandler, RequestHandler } from "express";
 import multer from "multer";
-import { BaseError as SequelizeError, ConnectionError, ConnectionAcquireTimeoutError } from "sequelize";
+import { ConnectionAcquireTimeoutError, ConnectionError } from "sequelize";
 import { HttpError } from "../errors.ts";
 import type { Logger } from "../logger.ts";
 
@@ -18,18 +18,28 @@ interface BodyParserError {
 const MULTER_TOO_LARGE = new Set(["LIMIT_FILE_SIZE", "LIMIT_FIELD_VALUE", "LIMIT_FILE_COUNT", "LIMIT_PART_COUNT", "LIMIT_FIELD_COUNT", "LIMIT_FIELD_KEY"]);
 const MALFORMED_MULTIPART = /Unexpected end of form|Boundary not found|Malformed part header|Multipart:/;
 
+// Connection refused or reset, the server shutting down (SQLSTATE 57P01–57P03), pool timeouts.
+const DB_DOWN_CODES = new Set(["ECONNREFUSED", "ECONNRESET", "ETIMEDOUT", "EPIPE", "57P01", "57P02", "57P03"]);
+const DB_DOWN_MESSAGE = /ECONNREFUSED|Connection terminated|terminating connection|timeout exceeded when trying to connect|the database system is (starting up|shutting down)/;
+
+/** Sequelize wraps driver errors; the session store (plain pg) does not. Both mean "try again later". */
+export function isDatabaseUnavailable(err: unknown): boolean {
+  if (err instanceof ConnectionError || err instanceof ConnectionAcquireTimeoutError) return true;
+  const candidates = [err, (err as { parent?: unknown })?.parent, (err as { original?: unknown })?.original];
+  return candidates.some((e) => {
+    if (!e || typeof e !== "object") return false;
+    const { code, message } = e as { code?: unknown; message?: unknown };
+    return (typeof code === "string" && DB_DOWN_CODES.has(code)) || (typeof message === "string" && DB_DOWN_MESSAGE.test(message));
+  });
+}
+
 function toHttpError(err: unknown): HttpError {
   if (err instanceof HttpError) return err;
   if (err instanceof multer.MulterError) {
     if (MULTER_TOO_LARGE.has(err.code)) return new HttpError(413, "payload_too_large", `upload too large: ${err.message}${err.field ? ` (${err.field})` : ""}`);
     return new HttpError(400, "bad_upload", `${err.message}${err.field ? `: "${err.field}"` : ""}`);
   }
-  if (err instanceof ConnectionError || err instanceof ConnectionAcquireTimeoutError) {
-    return new HttpError(503, "database_unavailable", "the database is not reachable; try again shortly");
-  }
-  if (err instanceof SequelizeError && /ECONNREFUSED|terminating connection|Connection terminated/.test(err.message)) {
-    return new HttpError(503, "database_unavailable", "the database is not reachable; try again shortly");
-  }
+  if (isDatabaseUnavailable(err)) return new HttpError(503, "database_unavailable", "the database is not reachable; try again shortly");
   const bp = err as BodyParserError;
   if (bp && typeof bp === "object") {
     if (bp.type === "entity.too.large") return new HttpError(413, "payload_too_large", "request body too large");

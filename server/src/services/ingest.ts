@@ -9,11 +9,12 @@ import { QueryTypes, UniqueConstraintError, type Transaction } from "sequelize";
 import type { IngestResultDto } from "@tidemark/shared/types/api";
 import type { Finding as ReportFinding, ScanReport, Verdict } from "@tidemark/shared/types/report";
 import type { AppContext } from "../context.ts";
-import { Batch, FileResult, Finding, type User } from "../models/index.ts";
+import { Batch, type User } from "../models/index.ts";
 import { imageKey, newUploadId } from "../storage/objectKeys.ts";
 import { recordAudit } from "./audit.ts";
 import { summariseFindings } from "./findingSummary.ts";
 import type { ImagePart } from "./ingestValidation.ts";
+import { insertFileRows, insertFindingRows, type FileRow } from "./ingestRows.ts";
 import { notifyFailingBatch } from "./notifications.ts";
 
 export interface IngestInput {
@@ -30,8 +31,6 @@ interface PreviousScan {
   path: string;
   sha256: string | null;
 }
-
-const ROW_CHUNK = 1000;
 
 async function existingBatch(uploaderId: number, batchKey: string, transaction?: Transaction): Promise<IngestResultDto | null> {
   const batch = await Batch.findOne({ where: { uploaderId, batchKey }, attributes: ["id", "fileCount"], transaction });
@@ -140,48 +139,30 @@ async function storeRows(ctx: AppContext, res: Response, input: IngestInput, key
     { transaction },
   );
 
-  const ids: number[] = [];
-  for (let start = 0; start < prepared.length; start += ROW_CHUNK) {
-    const chunk = prepared.slice(start, start + ROW_CHUNK).map(({ file, findings, verdict }, offset) => ({
-      batchId: batch.id,
-      collectionId,
-      previousId: latest.get(file.path)?.id ?? null,
-      path: file.path,
-      sizeBytes: file.sizeBytes,
-      sha256: file.sha256,
-      format: file.format,
-      metadata: file.metadata,
-      metrics: file.metrics,
-      error: file.error,
-      verdict,
-      durationSeconds: file.format?.durationSeconds ?? null,
-      integratedLufs: file.metrics?.integratedLufs ?? null,
-      truePeakDbtp: file.metrics?.truePeakDbtp ?? null,
-      worstFindings: summariseFindings(findings),
-      findingCodes: [...new Set(findings.map((f) => f.code))],
-      spectrogramKey: keys.get(`spectrogram:${start + offset}`) ?? null,
-      waveformKey: keys.get(`waveform:${start + offset}`) ?? null,
-    }));
-    const made = await FileResult.bulkCreate(chunk, { transaction, returning: ["id", "path"] });
-    // Match by path (unique within a batch) rather than trusting RETURNING order.
-    const byPath = new Map(made.map((m) => [m.path, m.id]));
-    for (const row of chunk) ids.push(byPath.get(row.path)!);
-  }
-
-  const findingRows = prepared.flatMap(({ findings }, index) =>
-    findings.map((f) => ({
-      fileResultId: ids[index],
-      code: f.code,
-      severity: f.severity,
-      channel: f.channel,
-      startSeconds: f.startSeconds,
-      endSeconds: f.endSeconds,
-      message: f.message,
-    })),
+  const fileRows: FileRow[] = prepared.map(({ file, findings, verdict }, index) => ({
+    previous_id: latest.get(file.path)?.id ?? null,
+    path: file.path,
+    size_bytes: file.sizeBytes,
+    sha256: file.sha256,
+    format: file.format,
+    metadata: file.metadata,
+    metrics: file.metrics,
+    error: file.error,
+    verdict,
+    duration_seconds: file.format?.durationSeconds ?? null,
+    integrated_lufs: file.metrics?.integratedLufs ?? null,
+    true_peak_dbtp: file.metrics?.truePeakDbtp ?? null,
+    worst_findings: summariseFindings(findings),
+    finding_codes: [...new Set(findings.map((f) => f.code))],
+    spectrogram_key: keys.get(`spectrogram:${index}`) ?? null,
+    waveform_key: keys.get(`waveform:${index}`) ?? null,
+  }));
+  const ids = await insertFileRows(ctx.sequelize, batch.id, collectionId, fileRows, transaction);
+  await insertFindingRows(
+    ctx.sequelize,
+    prepared.flatMap(({ findings }, index) => findings.map((f) => ({ ...f, file_result_id: ids[index] }))),
+    transaction,
   );
-  for (let start = 0; start < findingRows.length; start += ROW_CHUNK * 2) {
-    await Finding.bulkCreate(findingRows.slice(start, start + ROW_CHUNK * 2), { transaction, returning: false });
-  }
 
   for (const { index, previous } of fixityEvents) {
     const file = report.files[index];

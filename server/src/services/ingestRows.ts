@@ -1,0 +1,67 @@
+/**
+ * Bulk inserts for ingest. The rows travel as ONE jsonb bind parameter that PostgreSQL unpacks with
+ * jsonb_to_recordset: parameterised, and several times faster than per-row model instances
+ * (6000 files: about 0.4 s instead of 3.5 s on the 2-core test machine).
+ */
+import { QueryTypes, type Sequelize, type Transaction } from "sequelize";
+import type { FindingSummaryDto } from "@tidemark/shared/types/api";
+import type { AudioFormat, FileMetadata, FileMetrics, Finding, ReportError, Verdict } from "@tidemark/shared/types/report";
+
+export interface FileRow {
+  previous_id: number | null;
+  path: string;
+  size_bytes: number;
+  sha256: string | null;
+  format: AudioFormat | null;
+  metadata: FileMetadata;
+  metrics: FileMetrics | null;
+  error: ReportError | null;
+  verdict: Verdict;
+  duration_seconds: number | null;
+  integrated_lufs: number | null;
+  true_peak_dbtp: number | null;
+  worst_findings: FindingSummaryDto[];
+  finding_codes: string[];
+  spectrogram_key: string | null;
+  waveform_key: string | null;
+}
+
+const CHUNK = 5000;
+
+/** Inserts the batch's file rows; returns their ids in the order given. */
+export async function insertFileRows(sequelize: Sequelize, batchId: number, collectionId: number, rows: FileRow[], transaction: Transaction): Promise<number[]> {
+  const ids: number[] = [];
+  for (let start = 0; start < rows.length; start += CHUNK) {
+    const chunk = rows.slice(start, start + CHUNK);
+    const made = await sequelize.query<{ id: number; path: string }>(
+      `insert into file_results (batch_id, collection_id, previous_id, path, size_bytes, sha256, format, metadata, metrics, error,
+                                 verdict, duration_seconds, integrated_lufs, true_peak_dbtp, worst_findings, finding_codes,
+                                 spectrogram_key, waveform_key)
+       select $1, $2, r.previous_id, r.path, r.size_bytes, r.sha256, r.format, r.metadata, r.metrics, r.error,
+              r.verdict::verdict, r.duration_seconds, r.integrated_lufs, r.true_peak_dbtp, r.worst_findings,
+              array(select jsonb_array_elements_text(r.finding_codes)), r.spectrogram_key, r.waveform_key
+         from jsonb_to_recordset($3::jsonb) as r(
+              previous_id integer, path text, size_bytes bigint, sha256 text, format jsonb, metadata jsonb, metrics jsonb,
+              error jsonb, verdict text, duration_seconds double precision, integrated_lufs double precision,
+              true_peak_dbtp double precision, worst_findings jsonb, finding_codes jsonb, spectrogram_key text, waveform_key text)
+       returning id, path`,
+      { bind: [batchId, collectionId, JSON.stringify(chunk)], type: QueryTypes.SELECT, transaction },
+    );
+    // Match by path (unique within a batch) rather than trusting RETURNING order.
+    const byPath = new Map(made.map((m) => [m.path, m.id]));
+    for (const row of chunk) ids.push(byPath.get(row.path)!);
+  }
+  return ids;
+}
+
+export async function insertFindingRows(sequelize: Sequelize, rows: (Finding & { file_result_id: number })[], transaction: Transaction): Promise<void> {
+  for (let start = 0; start < rows.length; start += CHUNK * 2) {
+    await sequelize.query(
+      `insert into findings (file_result_id, code, severity, channel, start_seconds, end_seconds, message)
+       select r.file_result_id, r.code, r.severity::finding_severity, r.channel, r."startSeconds", r."endSeconds", r.message
+         from jsonb_to_recordset($1::jsonb) as r(file_result_id integer, code text, severity text, channel integer,
+              "startSeconds" double precision, "endSeconds" double precision, message text)`,
+      { bind: [JSON.stringify(rows.slice(start, start + CHUNK * 2))], transaction },
+    );
+  }
+}
