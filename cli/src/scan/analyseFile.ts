@@ -75,13 +75,15 @@ async function writeImages(
   return paths.shown;
 }
 
-export async function analyseFile(task: AnalyseTask, ctx: ScanContext): Promise<AnalysedFile> {
+/** `signal` stops the read mid-file; an aborted file rejects instead of being reported as unreadable. */
+export async function analyseFile(task: AnalyseTask, ctx: ScanContext, signal?: AbortSignal): Promise<AnalysedFile> {
   const timingsMs = { read: 0, decode: 0, hash: 0, analyse: 0, render: 0 };
   let analysis: BlockAnalyser<FileAnalysisResult> | null = null;
   let analyseMs = 0;
   let read: AudioFileResult;
   try {
     read = await readAudioFile(task.absPath, {
+      signal,
       onOpen: (info) => {
         const a = createFileAnalysis(info.stream, ctx.settings);
         analysis = a;
@@ -93,6 +95,7 @@ export async function analyseFile(task: AnalyseTask, ctx: ScanContext): Promise<
       },
     });
   } catch (error) {
+    if (signal?.aborted) throw error;
     const code = analysis ? "analysis-failed" : "unreadable";
     return { report: errorReport(task.relPath, task.sizeBytes, reportErrorOf(error, task, code)), audioSeconds: 0, imageError: null, timingsMs };
   }

@@ -13,7 +13,8 @@ import type { CrawledFile } from "./crawlFiles.ts";
 import type { Interruption } from "./interruption.ts";
 import type { ScanProgress } from "./progress.ts";
 import type { ResumeRecord, ResumeState } from "./resumeState.ts";
-import type { ScanTask, ScanTaskResult } from "./scanWorker.ts";
+import { createInlineRunner } from "./inlineRunner.ts";
+import type { ScanTask, ScanTaskResult } from "./scanTask.ts";
 import { createWorkerPool, WorkerCrashError, WorkerStartError, type WorkerPool } from "./workerPool.ts";
 
 export interface RunScanOptions {
@@ -64,12 +65,11 @@ export async function runScan(options: RunScanOptions): Promise<RunScanResult> {
   let audioSeconds = 0;
   if (files.length === 0) return { reports, measured, reused, audioSeconds, interrupted: interruption.requested };
 
-  const pool: WorkerPool<ScanTask, ScanTaskResult> = createWorkerPool({
-    size: Math.min(options.workers, files.length),
-    script: new URL("./scanWorker.ts", import.meta.url),
-    workerData: context,
-    maxOldGenerationSizeMb: WORKER_HEAP_LIMIT_MB,
-  });
+  const size = Math.min(options.workers, files.length);
+  const pool: WorkerPool<ScanTask, ScanTaskResult> =
+    size === 1
+      ? createInlineRunner(context)
+      : createWorkerPool({ size, script: new URL("./scanWorker.ts", import.meta.url), workerData: context, maxOldGenerationSizeMb: WORKER_HEAP_LIMIT_MB });
   interruption.onImmediate(() => void pool.terminate());
 
   const measure = async (file: CrawledFile): Promise<{ report: FileReport; seconds: number } | null> => {

@@ -1,0 +1,14 @@
+/** The two jobs a scan hands out per file: measure it, or (for --resume checks) only hash it. */
+import { sha256OfFile } from "../fixity/hashFile.ts";
+import { analyseFile, type AnalyseTask, type AnalysedFile, type ScanContext } from "./analyseFile.ts";
+
+export type ScanTask = ({ kind: "analyse" } & AnalyseTask) | { kind: "hash"; absPath: string };
+export type ScanTaskResult = { kind: "analysed"; file: AnalysedFile } | { kind: "hashed"; sha256: string | null };
+
+export async function runScanTask(task: ScanTask, context: ScanContext, signal?: AbortSignal): Promise<ScanTaskResult> {
+  if (task.kind === "hash") {
+    // A file that cannot be hashed now is simply measured again.
+    return { kind: "hashed", sha256: await sha256OfFile(task.absPath).catch(() => null) };
+  }
+  return { kind: "analysed", file: await analyseFile(task, context, signal) };
+}
