@@ -35,6 +35,8 @@ const LABEL_GAP_PX = 4;
 const BAR_GAP_PX = 14;
 const BAR_WIDTH_PX = 14;
 const MARKER_WEDGE_PX = 9;
+/** Units sit on the title's line, beside the plot, clear of the top tick labels. */
+const UNIT_LABEL_TOP_PX = 7;
 
 export interface SpectrogramImageOptions {
   width: number;
@@ -56,7 +58,7 @@ export function renderSpectrogramImage(grid: SpectrogramGrid, options: Spectrogr
   if (options.title) {
     const cap = capHeightPx(TEXT_SCALE);
     const text = fitTextKeepingEnd(options.title, plot.width, TEXT_SCALE);
-    drawText(image, text, plot.left, Math.max(2, plot.top - MARKER_WEDGE_PX - cap - 6), THEME.text, { scale: TEXT_SCALE });
+    drawText(image, text, plot.left, Math.min(UNIT_LABEL_TOP_PX, plot.top - MARKER_WEDGE_PX - cap - 2), THEME.text, { scale: TEXT_SCALE });
   }
   drawFindingMarkers(image, plot, grid.durationSeconds, options.markers ?? [], MARKER_WEDGE_PX);
   return image;
@@ -147,7 +149,7 @@ function drawFrequencyAxis(image: RgbaImage, plot: PlotArea, grid: SpectrogramGr
       align: "right",
     });
   }
-  drawText(image, "Hz", plot.left - 2 - TICK_LENGTH_PX - LABEL_GAP_PX, plot.top - cap - 6, THEME.mutedText, {
+  drawText(image, "Hz", plot.left - 2 - TICK_LENGTH_PX - LABEL_GAP_PX, UNIT_LABEL_TOP_PX, THEME.mutedText, {
     scale: TEXT_SCALE,
     align: "right",
   });
@@ -188,5 +190,5 @@ function drawScaleBar(image: RgbaImage, plot: PlotArea): void {
     fillRect(image, left + BAR_WIDTH_PX + 1, y, 4, 1, THEME.frame);
     drawText(image, t.label, left + BAR_WIDTH_PX + 8, y - Math.floor(cap / 2), THEME.text, { scale: TEXT_SCALE });
   }
-  drawText(image, "dBFS", left + BAR_WIDTH_PX / 2, plot.top - cap - 6, THEME.mutedText, { scale: TEXT_SCALE, align: "center" });
+  drawText(image, "dBFS", left + BAR_WIDTH_PX / 2, UNIT_LABEL_TOP_PX, THEME.mutedText, { scale: TEXT_SCALE, align: "center" });
 }

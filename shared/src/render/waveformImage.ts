@@ -19,7 +19,7 @@ const ENVELOPE: Rgb = [94, 196, 178];
 /** |sample| at or above this is drawn as full scale reached (−0.01 dBFS, the default clip tolerance). */
 const FULL_SCALE_THRESHOLD = 10 ** (-0.01 / 20);
 const HALF_SCALE = 0.5; // −6.02 dBFS
-const LABEL_SCALE = 1;
+const LABEL_GAP_PX = 8;
 const MARKER_WEDGE_PX = 9;
 
 export interface WaveformImageOptions {
@@ -54,15 +54,21 @@ function yOf(plot: PlotArea, v: number): number {
 }
 
 function drawGuides(image: RgbaImage, plot: PlotArea, durationSeconds: number): void {
-  const cap = capHeightPx(LABEL_SCALE);
-  const labelX = plot.left - 6;
-  for (const [v, label] of [[HALF_SCALE, "-6"], [-HALF_SCALE, "-6"], [0, "0"]] as const) {
-    const y = yOf(plot, v);
-    fillRect(image, plot.left, y, plot.width, 1, THEME.gridLine, v === 0 ? 0.22 : 0.1);
-    if (plot.height >= 4 * cap) drawText(image, label, labelX, y - Math.floor(cap / 2), THEME.mutedText, { scale: LABEL_SCALE, align: "right" });
+  const scale = plot.height >= 80 ? 2 : 1;
+  const cap = capHeightPx(scale);
+  const labelX = plot.left - 2 - LABEL_GAP_PX;
+  const hasRoom = plot.height >= 5 * cap;
+  // Full scale (0 dBFS) at the edges, −6 dBFS at half amplitude; the centre line is silence.
+  for (const v of [HALF_SCALE, -HALF_SCALE, 0]) {
+    fillRect(image, plot.left, yOf(plot, v), plot.width, 1, THEME.gridLine, v === 0 ? 0.22 : 0.1);
   }
-  if (plot.height >= 4 * cap) {
-    drawText(image, "dBFS", labelX - 18, yOf(plot, 0) - Math.floor(cap / 2), THEME.mutedText, { scale: LABEL_SCALE, align: "right" });
+  if (hasRoom) {
+    drawText(image, "0", labelX, plot.top, THEME.mutedText, { scale, align: "right" });
+    drawText(image, "0", labelX, plot.top + plot.height - cap, THEME.mutedText, { scale, align: "right" });
+    for (const v of [HALF_SCALE, -HALF_SCALE]) {
+      drawText(image, "-6", labelX, yOf(plot, v) - Math.floor(cap / 2), THEME.mutedText, { scale, align: "right" });
+    }
+    drawText(image, "dBFS", labelX, yOf(plot, 0) - Math.floor(cap / 2), THEME.mutedText, { scale, align: "right" });
   }
   // The spectrogram's time gridlines, so the eye can run between the two images.
   const { ticks } = timeTicks(durationSeconds, plot.width, 86);

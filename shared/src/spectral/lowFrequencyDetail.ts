@@ -1,9 +1,9 @@
 /**
  * Finer rows for the bottom of a log spectrogram. A 2048-point frame at 48 kHz has 23 Hz bins, so
  * everything under ≈ 100 Hz (hum, rumble, the lines that matter most down there) smears into one blob.
- * Below the crossover the rows therefore come from the same audio decimated to ≈ 6 kHz and analysed
+ * Up to ≈ 350–560 Hz the rows therefore come from the same audio decimated to ≈ 6 kHz and analysed
  * with 2048-point frames (≈ 3 Hz bins, 0.34 s). Their power is put on the main analysis's bin
- * bandwidth, so a noise floor runs on across the crossover; a steady tone there reads up to
+ * bandwidth, so a noise floor runs on across the hand-over; a steady tone there reads up to
  * 10·log10(decimation) dB brighter than on the scale bar (9 dB at 48 kHz).
  */
 import type { AudioBlock } from "../types/analysis.ts";
@@ -13,8 +13,13 @@ import { createFrameCollector, type FrameCollector } from "./frameCollector.ts";
 import { createSpectrogramAccumulator, type RowLayout, type SpectrogramAccumulator } from "./spectrogramGrid.ts";
 import { chooseStftSchedule } from "./stftSchedule.ts";
 
-/** Rows whose lower edge is below this come from the detail analysis (the 10th harmonic of 50 Hz). */
-export const LOW_DETAIL_CROSSOVER_HZ = 500;
+/**
+ * Rows up to LOW_DETAIL_FULL_HZ come from the detail analysis alone; above it the detail fades out (in
+ * power, linearly in log frequency) until LOW_DETAIL_TOP_HZ, where the main analysis has ≈ 24 bins a
+ * third-octave. Past 560 Hz what folds back from the decimation would be cut less than 60 dB.
+ */
+export const LOW_DETAIL_FULL_HZ = 350;
+export const LOW_DETAIL_TOP_HZ = 560;
 /** Decimated rate aimed at; the factor is the nearest power of two. */
 const LOW_DETAIL_TARGET_RATE_HZ = 6000;
 const LOW_DETAIL_FFT_SIZE = 2048;
@@ -27,8 +32,11 @@ const LOW_DETAIL_FFTS_PER_COLUMN = 1;
 const LOW_DETAIL_MIN_FRAMES_PER_COLUMN = 0.5;
 
 export interface LowFrequencyDetail {
-  /** Rows [0, rows) of the layout belong to the detail analysis. */
+  /** Rows [0, rows) of the layout belong to the detail analysis, rows [fadeFromRow, rows) only in part. */
   rows: number;
+  fadeFromRow: number;
+  /** Share of the detail analysis in a row: 1 up to fadeFromRow, falling to 0 at rows. */
+  weightOfRow(row: number): number;
   push(block: AudioBlock): void;
   /** Accumulator of the channel-average rows, then one per channel when asked. */
   overall: SpectrogramAccumulator;
@@ -48,7 +56,12 @@ export function createLowFrequencyDetail(o: {
 }): LowFrequencyDetail | null {
   if (o.layout.frequencyScale !== "log") return null;
   let rows = 0;
-  while (rows < o.layout.rows && o.layout.edgesHz[rows + 1] <= LOW_DETAIL_CROSSOVER_HZ) rows++;
+  while (rows < o.layout.rows && o.layout.edgesHz[rows + 1] <= LOW_DETAIL_TOP_HZ) rows++;
+  let fadeFromRow = 0;
+  while (fadeFromRow < rows && o.layout.edgesHz[fadeFromRow + 1] <= LOW_DETAIL_FULL_HZ) fadeFromRow++;
+  const fadeOctaves = Math.log2(LOW_DETAIL_TOP_HZ / LOW_DETAIL_FULL_HZ);
+  const weightOfRow = (row: number): number =>
+    row < fadeFromRow ? 1 : Math.max(0, 1 - Math.log2(o.layout.centresHz[row] / LOW_DETAIL_FULL_HZ) / fadeOctaves);
   const factor = 2 ** Math.max(0, Math.round(Math.log2(o.sampleRateHz / LOW_DETAIL_TARGET_RATE_HZ)));
   const decimatedRateHz = o.sampleRateHz / factor;
   const decimatedFrames = Math.floor(o.totalFrames / factor);
@@ -65,8 +78,8 @@ export function createLowFrequencyDetail(o: {
     hopSize: null,
     fftsPerColumn: LOW_DETAIL_FFTS_PER_COLUMN,
     minFramesPerColumnPerChannel: LOW_DETAIL_MIN_FRAMES_PER_COLUMN,
-    // A 0.34 s frame spans many columns of a short file: denser than 50 % overlap would add nothing.
-    maxOverlapDivisor: 2,
+    // A 0.34 s frame spans many columns of a short file: 75 % overlap smooths its steps, more adds nothing.
+    maxOverlapDivisor: 4,
   });
   const accumulator = (): SpectrogramAccumulator =>
     createSpectrogramAccumulator({
@@ -106,6 +119,8 @@ export function createLowFrequencyDetail(o: {
 
   return {
     rows,
+    fadeFromRow,
+    weightOfRow,
     push(block) {
       // Past the last scheduled frame there is nothing left to decimate for.
       if (collector.framesEmitted >= schedule.frameCount) return;

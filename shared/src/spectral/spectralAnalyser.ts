@@ -67,7 +67,7 @@ export function createSpectralAnalyser(format: StreamFormat, settings: AnalysisS
     createSpectrogramAccumulator({
       columns: plot.width,
       layout,
-      rowFrom: lowDetail?.rows ?? 0,
+      rowFrom: lowDetail?.fadeFromRow ?? 0,
       rowTo: layout.rows,
       aggregate: spectrogramSettings.aggregate,
       binHz: sampleRateHz / fftSize,
@@ -77,6 +77,8 @@ export function createSpectralAnalyser(format: StreamFormat, settings: AnalysisS
       totalFrames,
     });
   const grid = mainGrid();
+  const withDetail = (main: SpectrogramAccumulator, detail: SpectrogramAccumulator | undefined) =>
+    detail && lowDetail ? [{ accumulator: main }, { accumulator: detail, weightOfRow: lowDetail.weightOfRow }] : [{ accumulator: main }];
   const channelGrids = spectrogramSettings.perChannel ? Array.from({ length: channels }, mainGrid) : null;
   const welch = createWelchAccumulator({ channels, fftSize, sampleRateHz, noiseBandwidthBins: analyzer.noiseBandwidthBins });
   const channelSpectrum = new Float64Array(analyzer.binCount);
@@ -135,12 +137,12 @@ export function createSpectralAnalyser(format: StreamFormat, settings: AnalysisS
           dominantFrequencyHz: isSilent ? null : roundTo(dominantFrequencyHz(overall, fineOverall), 100),
         },
         findings,
-        spectrogram: assembleGrid(lowDetail ? [grid, lowDetail.overall] : [grid], plot.width, layout, durationSeconds, sampleRateHz),
+        spectrogram: assembleGrid(withDetail(grid, lowDetail?.overall), plot.width, layout, durationSeconds, sampleRateHz),
         channelSpectrograms: channelGrids
-          ? channelGrids.map((g, c): SpectrogramGrid => {
-              const detail = lowDetail?.perChannel?.[c];
-              return assembleGrid(detail ? [g, detail] : [g], plot.width, layout, durationSeconds, sampleRateHz);
-            })
+          ? channelGrids.map(
+              (g, c): SpectrogramGrid =>
+                assembleGrid(withDetail(g, lowDetail?.perChannel?.[c]), plot.width, layout, durationSeconds, sampleRateHz),
+            )
           : null,
         waveform: waveform.finish(),
       };

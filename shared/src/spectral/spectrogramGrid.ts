@@ -38,8 +38,12 @@ export function spectrogramRowLayout(
 export interface SpectrogramAccumulator {
   /** Adds frame `frameIndex` of the schedule (its window-corrected amplitude² spectrum). */
   addFrame(amplitudeSquared: Float64Array, frameIndex: number): void;
-  /** Writes dB for its rows into a full grid's `db` (NaN in columns that got no frame). */
-  writeDb(db: Float32Array): void;
+  /**
+   * Writes dB for its rows into a full grid's `db` (NaN in columns that got no frame). With
+   * `weightOfRow`, a row is instead blended with what `db` already holds: weight 1 replaces it, 0 leaves
+   * it (a missing value on either side yields the other).
+   */
+  writeDb(db: Float32Array, weightOfRow?: (row: number) => number): void;
 }
 
 export function createSpectrogramAccumulator(o: {
@@ -123,28 +127,41 @@ export function createSpectrogramAccumulator(o: {
         framesInColumn[c]++;
       }
     },
-    writeDb(db) {
+    writeDb(db, weightOfRow) {
+      const weights = new Float64Array(ownRows).fill(1);
+      if (weightOfRow) for (let i = 0; i < ownRows; i++) weights[i] = Math.min(1, Math.max(0, weightOfRow(rowFrom + i)));
       for (let c = 0; c < columns; c++) {
         const n = framesInColumn[c];
         const scale = aggregate === "mean" && n > 0 ? 1 / n : 1;
         for (let i = 0; i < ownRows; i++) {
-          db[c * rows + rowFrom + i] = n === 0 ? NaN : 10 * Math.log10(power[c * ownRows + i] * scale);
+          const at = c * rows + rowFrom + i;
+          const mine = n === 0 ? NaN : power[c * ownRows + i] * scale;
+          const w = weights[i];
+          const mineDb = 10 * Math.log10(mine);
+          if (w === 1 || Number.isNaN(db[at])) db[at] = mineDb;
+          else if (w > 0 && !Number.isNaN(mineDb)) {
+            // Blended in dB, so the look changes evenly across the hand-over; in power where a side is silent.
+            db[at] = Number.isFinite(mineDb) && Number.isFinite(db[at]) ? w * mineDb + (1 - w) * db[at] : 10 * Math.log10(w * mine + (1 - w) * 10 ** (db[at] / 10));
+          }
         }
       }
     },
   };
 }
 
-/** The finished grid from accumulators that together own every row. */
+/**
+ * The finished grid from accumulators that together own every row, written in order; a part may come
+ * with a row weight to blend over the parts before it.
+ */
 export function assembleGrid(
-  parts: SpectrogramAccumulator[],
+  parts: Array<{ accumulator: SpectrogramAccumulator; weightOfRow?: (row: number) => number }>,
   columns: number,
   layout: RowLayout,
   durationSeconds: number,
   sampleRateHz: number,
 ): SpectrogramGrid {
-  const db = new Float32Array(columns * layout.rows);
-  for (const part of parts) part.writeDb(db);
+  const db = new Float32Array(columns * layout.rows).fill(NaN);
+  for (const part of parts) part.accumulator.writeDb(db, part.weightOfRow);
   return {
     columns,
     rows: layout.rows,
