@@ -16,7 +16,7 @@ export interface ProgressOptions {
   total: number;
   /** Files skipped by --resume count as done from the start. */
   alreadyDone: number;
-  stream: NodeJS.WritableStream & { isTTY?: boolean };
+  stream: NodeJS.WritableStream & { isTTY?: boolean; columns?: number };
   enabled: boolean;
 }
 
@@ -29,18 +29,30 @@ export function progressText(done: number, total: number, current: string | null
   return `${done}/${total}${current ? `  ${current}` : ""}${rate}`;
 }
 
+/** Shortens from the middle of the text (keeping n/total and the rate), with an ellipsis. */
+export function fitWidth(text: string, width: number): string {
+  if (text.length <= width) return text;
+  if (width <= 1) return "";
+  const keep = width - 1;
+  const head = Math.ceil(keep / 2);
+  return `${text.slice(0, head)}…${text.slice(text.length - (keep - head))}`;
+}
+
 export function createScanProgress(options: ProgressOptions): ScanProgress {
   const startedMs = performance.now();
   let done = options.alreadyDone;
   let audioSeconds = 0;
   const inFlight: string[] = [];
+  // A terminal of unknown width (columns 0, e.g. under `script`) would make ora clear unbounded lines.
+  const columns = options.stream.columns ?? 0;
   const spinner: Ora | null =
-    options.enabled && options.stream.isTTY ? ora({ stream: options.stream, discardStdin: false, hideCursor: true }).start() : null;
+    options.enabled && options.stream.isTTY && columns > 0 ? ora({ stream: options.stream, discardStdin: false, hideCursor: true }).start() : null;
 
   const refresh = (): void => {
     if (!spinner) return;
     const factor = realtimeFactor(audioSeconds, (performance.now() - startedMs) / 1000);
-    spinner.text = progressText(done, options.total, inFlight[0] ?? null, factor);
+    // One line only: the spinner glyph and a space take two columns.
+    spinner.text = fitWidth(progressText(done, options.total, inFlight[0] ?? null, factor), columns - 3);
   };
   refresh();
 
