@@ -2,8 +2,9 @@
  * End-to-end runs of the real `tidemark` binary on synthesised files in a temp folder: exit codes, each
  * report format parsed back by an independent parser, workers 1 vs 2, PNGs, hostile input, bad profiles.
  */
+import { execFileSync } from "node:child_process";
 import { createHash } from "node:crypto";
-import { mkdirSync, mkdtempSync, readFileSync, rmSync, writeFileSync } from "node:fs";
+import { mkdirSync, mkdtempSync, readFileSync, rmSync, symlinkSync, writeFileSync } from "node:fs";
 import { tmpdir } from "node:os";
 import path from "node:path";
 import { Ajv2020 } from "ajv/dist/2020.js";
@@ -182,6 +183,23 @@ describe("tidemark scan (real binary)", () => {
     expect(strip.width).toBe(DEFAULT_ANALYSIS_SETTINGS.spectrogram.width);
     expect(withPng.files.find((f) => f.path === "Reels/sub/quiet.rf64")?.spectrogram).toBe("png/Reels/sub/quiet.rf64.png");
     expect(withPng.files.find((f) => f.path === "Reels/notes.wav")?.spectrogram).toBeNull();
+  });
+
+  it("reports a FIFO and a symlink loop as errors with stable codes instead of hanging, and measures the rest", async () => {
+    const hostile = path.join(dir, "hostile");
+    mkdirSync(path.join(hostile, "reel"), { recursive: true });
+    execFileSync("mkfifo", [path.join(hostile, "reel", "pipe.wav")]);
+    symlinkSync(hostile, path.join(hostile, "reel", "back"));
+    writeFileSync(path.join(hostile, "reel", "tone.wav"), readFileSync(path.join(dir, "archive/Ferry/tone-1k.wav")));
+    const r = await scan(["hostile", "--format", "json", "-w", "1"]);
+    expect(r.exitCode).toBe(1);
+    expect(r.stderr).not.toMatch(/\n\s+at /);
+    const hostileReport = parseReport(r.stdout);
+    expect(hostileReport.files.map((f) => [f.path, f.verdict, f.error?.code ?? null])).toEqual([
+      ["reel/back", "error", "symlink-loop"],
+      ["reel/pipe.wav", "error", "not-a-file"],
+      ["reel/tone.wav", "pass", null],
+    ]);
   });
 
   it("judges with another built-in profile and records its name", async () => {
