@@ -49,8 +49,12 @@ async function finish(code: Promise<number>): Promise<void> {
 
 function globOptions(cmd: Command): Command {
   return cmd
-    .option("--include <glob>", `file names to scan, repeatable (default: ${DEFAULT_INCLUDE_GLOBS.join(" ")}; case-insensitive)`, collect, [])
-    .option("--exclude <glob>", "files or folders to skip, repeatable (matched against the name or the relative path)", collect, []);
+    .addOption(
+      new Option("--include <glob>", "file names to scan, repeatable, case-insensitive").argParser(collect).default([], DEFAULT_INCLUDE_GLOBS.join(" ")),
+    )
+    .addOption(
+      new Option("--exclude <glob>", "files or folders to skip, repeatable (matched against the name or the relative path)").argParser(collect).default([], "none"),
+    );
 }
 
 const orDefaultGlobs = (globs: string[]): string[] => (globs.length > 0 ? globs : [...DEFAULT_INCLUDE_GLOBS]);
@@ -75,8 +79,8 @@ export function createProgram(actions: Partial<CommandActions> = {}, io: () => C
     .option("--spectrograms <dir>", "write a spectrogram PNG (and a waveform strip) for each file, mirroring the folder tree")
     .option("-w, --workers <n>", "parallel workers (default: number of cores)", parseWorkerCount)
     .option("--resume <state-file>", "record progress there, and skip files already measured and unchanged")
-    .option("-q, --quiet", "no progress display", false)
-    .option("--upload", "upload the report and PNGs to the server after the scan", false)
+    .option("-q, --quiet", "no progress display")
+    .option("--upload", "upload the report and PNGs to the server after the scan")
     .option("--server <url>", "server for --upload (default: the one stored by tidemark login)", parseServerUrl)
     .option("--collection <name>", "collection to file the batch under (default: the scanned folder's name)", parseCollectionName)
     .option("--batch-key <key>", "idempotency key: the same key uploaded twice is one batch (default: SHA-256 of the report)", parseBatchKey);
@@ -113,7 +117,7 @@ export function createProgram(actions: Partial<CommandActions> = {}, io: () => C
     .description("recompute SHA-256 of the files and compare with an earlier report: list changed, missing and new files")
     .argument("<paths...>", "files and folders scanned for that report")
     .requiredOption("--against <report.json>", "the earlier JSON report")
-    .option("--json", "print the comparison as JSON", false);
+    .option("--json", "print the comparison as JSON");
   globOptions(verify).action(async (paths: string[], o: Record<string, unknown>) => {
     const options: VerifyOptions = {
       against: String(o.against),
@@ -128,7 +132,7 @@ export function createProgram(actions: Partial<CommandActions> = {}, io: () => C
     .command("upload")
     .description("upload an existing JSON report (and its PNGs) to the server, or send the spooled batches")
     .argument("[report]", "a JSON report written by tidemark scan")
-    .option("--spool", "send the batches spooled while the server was unreachable", false)
+    .option("--spool", "send the batches spooled while the server was unreachable")
     .option("--server <url>", "server (default: the one stored by tidemark login)", parseServerUrl)
     .option("--collection <name>", "collection to file the batch under (required with a report)", parseCollectionName)
     .option("--batch-key <key>", "idempotency key (default: SHA-256 of the report)", parseBatchKey)
@@ -150,7 +154,7 @@ export function createProgram(actions: Partial<CommandActions> = {}, io: () => C
     .command("profiles")
     .description("list the built-in profiles, or print one as JSON (a starting point for a custom profile file)")
     .argument("[name|file]", "a built-in profile name, or a profile JSON file to check")
-    .option("--json", "list the profiles as JSON", false)
+    .option("--json", "list the profiles as JSON")
     .action(async (name: string | undefined, o: Record<string, unknown>) => {
       await finish(run.profiles(name ?? null, { json: o.json === true }, io()));
     });
@@ -161,7 +165,7 @@ export function createProgram(actions: Partial<CommandActions> = {}, io: () => C
     .requiredOption("--server <url>", "server URL", parseServerUrl)
     .option("--token <id:secret>", "store this API token instead of signing in", parseToken)
     .option("--email <email>", "account e-mail (asked for on a terminal when missing)")
-    .option("--password-stdin", "read the password from stdin", false)
+    .option("--password-stdin", "read the password from stdin")
     .option("--token-name <name>", "name of the token created on the server (default: tidemark-cli on <host>)")
     .action(async (o: Record<string, unknown>) => {
       const options: LoginOptions = {
