@@ -5,7 +5,7 @@
  *   node --import tsx examples/make-demo-archive.ts [OUT_DIR] [--no-speech]
  *
  * Speech comes from espeak-ng when it is installed (tones and noise stand in otherwise). Everything is
- * deterministic: seeded noise, fixed texts. Writes to examples/audio/ by default (git-ignored).
+ * deterministic: seeded noise, fixed texts. Writes to examples/audio/archive/ by default (git-ignored).
  */
 import { spawnSync } from "node:child_process";
 import { mkdirSync, rmSync, writeFileSync } from "node:fs";
@@ -259,7 +259,7 @@ export function makeDemoArchive(outDir: string, options: { speech?: boolean } = 
 
 if (process.argv[1] && path.resolve(process.argv[1]) === fileURLToPath(import.meta.url)) {
   const args = process.argv.slice(2);
-  const outDir = path.resolve(args.find((a) => !a.startsWith("--")) ?? path.join(path.dirname(fileURLToPath(import.meta.url)), "audio"));
+  const outDir = path.resolve(args.find((a) => !a.startsWith("--")) ?? path.join(path.dirname(fileURLToPath(import.meta.url)), "audio", "archive"));
   const { files, speech } = makeDemoArchive(outDir, { speech: !args.includes("--no-speech") });
   console.log(`Harbourside Sound Archive demo: ${files.length} files in ${outDir} (${speech ? "speech from espeak-ng" : "tones and noise"})`);
   for (const f of files) console.log(`  ${f.path}  — ${f.fault}`);
