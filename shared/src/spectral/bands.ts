@@ -93,7 +93,8 @@ export function createBandWeights(bands: Band[], binHz: number, binCount: number
       const hi = Math.min(upperHz, (k + 0.5) * binHz);
       all.push(Math.max(0, hi - lo) / binHz);
     }
-    count[i] = k1 - k0 + 1;
+    // Bands past this spectrum's Nyquist (a decimated spectrum's) get no bins and read −Infinity.
+    count[i] = Math.max(0, k1 - k0 + 1);
   });
   return { bands, firstBin, offset, count, weights: Float64Array.from(all) };
 }

@@ -1,18 +1,21 @@
 /**
- * Streaming integer-factor decimation for the low-frequency analysis, by a cubed moving average
+ * Streaming integer-factor decimation for the low-frequency analyses, by a cubed moving average
  * (three cascaded boxcars of the factor's length, i.e. a third-order CIC response, evaluated as a short
  * FIR at the output instants only, ≈ 3 multiply-adds per input sample). Its nulls sit on multiples of the
- * new rate, so what folds back onto 0 … 500 Hz is cut by ≥ 60 dB, and the droop at 500 Hz is ≈ 0.3 dB.
+ * new rate, so what folds back onto 0 … 560 Hz is cut by ≥ 59 dB, and the droop at 500 Hz is ≈ 0.3 dB.
+ * Outputs are computed on demand, range by range, reading the block in place, so a consumer that only
+ * needs frames here and there does not pay for the gaps.
  */
 import type { AudioBlock } from "../types/analysis.ts";
 
 export interface Decimator {
   /**
-   * Decimates one block; `onOutput` receives the output block (arrays reused between calls). Outputs
-   * before `firstNeededOutput` are not computed (the consumer skips them anyway), so its block may
-   * start later than the last one ended.
+   * Takes the next input block (blocks must be contiguous) and returns the output indices it makes
+   * computable, [firstOutput, endOutput).
    */
-  push(block: AudioBlock, onOutput: (out: AudioBlock) => void, firstNeededOutput?: number): void;
+  stage(block: AudioBlock): { firstOutput: number; endOutput: number };
+  /** Computes outputs [from, to) of the staged block; `onOutput` gets them as a block (arrays reused). */
+  compute(from: number, to: number, onOutput: (out: AudioBlock) => void): void;
 }
 
 /** Taps of the cubed moving average of length `factor`, summing to 1 (unity gain at DC). */
@@ -31,52 +34,66 @@ export function createDecimator(o: { channels: number; factor: number }): Decima
   const { channels, factor } = o;
   if (!Number.isInteger(factor) || factor < 1) throw new Error(`decimation factor must be a positive integer, got ${factor}`);
   const taps = cubedBoxcarTaps(factor);
-  const history = taps.length - 1;
-  let staging: Float32Array[] = [];
+  const tapCount = taps.length;
+  const history = tapCount - 1;
+  // The block is read in place (valid until the next stage); only the `history` inputs before it are kept.
+  let before = Array.from({ length: channels }, () => new Float32Array(history));
+  let after = Array.from({ length: channels }, () => new Float32Array(history));
+  let block: Float32Array[] = [];
   let outputs: Float32Array[] = [];
-  let capacity = 0;
+  let stagedStart = 0;
   let nextInputFrame = 0;
-
-  function ensureCapacity(frames: number): void {
-    if (frames <= capacity) return;
-    // Grows only when a longer block than any before arrives: the reader's block size, in practice once.
-    capacity = frames;
-    staging = Array.from({ length: channels }, (_, c) => {
-      const grown = new Float32Array(history + frames);
-      if (staging[c]) grown.set(staging[c].subarray(0, history));
-      return grown;
-    });
-    outputs = Array.from({ length: channels }, () => new Float32Array(Math.ceil(frames / factor) + 1));
-  }
+  let range = { firstOutput: 0, endOutput: 0 };
 
   return {
-    push(block, onOutput, firstNeededOutput = 0) {
-      if (block.startFrame !== nextInputFrame) {
-        throw new Error(`decimator needs contiguous blocks: expected startFrame ${nextInputFrame}, got ${block.startFrame}`);
+    stage(next) {
+      if (next.startFrame !== nextInputFrame) {
+        throw new Error(`decimator needs contiguous blocks: expected startFrame ${nextInputFrame}, got ${next.startFrame}`);
       }
-      const frames = block.frames;
-      ensureCapacity(frames);
-      const start = block.startFrame;
-      const firstOutput = Math.max(Math.ceil(start / factor), firstNeededOutput);
-      const lastOutput = Math.floor((start + frames - 1) / factor);
-      const count = Math.max(0, lastOutput - firstOutput + 1);
+      // The reader reuses its arrays, so what the next block needs from this one is saved now:
+      // `before` becomes what preceded this block, `after` the last `history` inputs up to its end.
+      [before, after] = [after, before];
+      const frames = next.frames;
       for (let c = 0; c < channels; c++) {
-        const stage = staging[c];
-        const src = block.channels[c];
-        for (let i = 0; i < frames; i++) stage[history + i] = src[i];
+        const into = after[c];
+        for (let i = 0; i < history; i++) {
+          const k = frames - history + i; // index in this block; negative: in `before`
+          into[i] = k >= 0 ? next.channels[c][k] : before[c][history + k];
+        }
+      }
+      block = next.channels;
+      if (outputs.length === 0 || outputs[0].length < Math.ceil(frames / factor) + 1) {
+        // Grows only when a longer block than any before arrives: the reader's block size, in practice once.
+        outputs = Array.from({ length: channels }, () => new Float32Array(Math.ceil(frames / factor) + 1));
+      }
+      stagedStart = next.startFrame;
+      nextInputFrame = next.startFrame + frames;
+      const firstOutput = Math.ceil(stagedStart / factor);
+      range = { firstOutput, endOutput: frames > 0 ? Math.floor((nextInputFrame - 1) / factor) + 1 : firstOutput };
+      return range;
+    },
+    compute(from, to, onOutput) {
+      const first = Math.max(from, range.firstOutput);
+      const end = Math.min(to, range.endOutput);
+      const count = end - first;
+      if (count <= 0) return;
+      for (let c = 0; c < channels; c++) {
+        const src = block[c];
+        const prior = before[c];
         const out = outputs[c];
         for (let m = 0; m < count; m++) {
-          // y[m] = Σ_j h[j]·x[mD − j]; x[mD] sits at stage[history + mD − start].
-          const at = history + (firstOutput + m) * factor - start;
+          // y[m] = Σ_j h[j]·x[mD − j], with x[mD] at src[mD − stagedStart].
+          const at = (first + m) * factor - stagedStart;
           let acc = 0;
-          for (let j = 0; j < taps.length; j++) acc += taps[j] * stage[at - j];
+          if (at >= history) {
+            for (let j = 0; j < tapCount; j++) acc += taps[j] * src[at - j];
+          } else {
+            for (let j = 0; j < tapCount; j++) acc += taps[j] * (at - j >= 0 ? src[at - j] : prior[history + at - j]);
+          }
           out[m] = acc;
         }
-        // Keep the last `history` inputs for the next block's first outputs.
-        stage.copyWithin(0, frames, frames + history);
       }
-      nextInputFrame = start + frames;
-      if (count > 0) onOutput({ channels: outputs, frames: count, startFrame: firstOutput });
+      onOutput({ channels: outputs, frames: count, startFrame: first });
     },
   };
 }

@@ -36,15 +36,16 @@ export function strongestPeakBin(power: Float64Array, fromBin: number, toBin: nu
 
 /**
  * Frequency of the strongest peak, Hz, or null for silence. When a finer spectrum of the same signal is
- * given (the hum analysis's long frames), the peak is re-found there within ±1 coarse bin and refined at
- * that resolution; the coarse estimate stands if the fine one has no peak inside that window.
+ * given (the decimated stream's long frames) and the peak lies below `fineBelowHz`, the peak is
+ * re-found there within ±1 coarse bin and refined at that resolution; the coarse estimate stands if the
+ * fine one has no peak inside that window.
  */
-export function dominantFrequencyHz(coarse: LongTermSpectrum, fine: LongTermSpectrum | null): number | null {
+export function dominantFrequencyHz(coarse: LongTermSpectrum, fine: LongTermSpectrum | null, fineBelowHz = Infinity): number | null {
   const p = coarse.amplitudeSquared;
   const k = strongestPeakBin(p, 1, coarse.binCount - 1);
   if (k < 0) return null;
   const coarseHz = (k + interpolatePeakOffsetBins(p[k - 1], p[k], p[k + 1])) * coarse.binHz;
-  if (fine === null || fine.frames === 0) return coarseHz;
+  if (fine === null || fine.frames === 0 || coarseHz >= fineBelowHz) return coarseHz;
   const q = fine.amplitudeSquared;
   const from = Math.floor(((k - 1) * coarse.binHz) / fine.binHz);
   const to = Math.ceil(((k + 1) * coarse.binHz) / fine.binHz) + 1;

@@ -17,6 +17,8 @@ export interface FrameCollector {
   readonly framesEmitted: number;
   /** Index of the first sample a frame still needs (Infinity when every frame is out): earlier ones may be skipped. */
   nextNeededSample(): number;
+  /** One past the last sample of the frame being filled (Infinity when every frame is out). */
+  nextFrameEnd(): number;
 }
 
 export interface FrameSink {
@@ -104,6 +106,9 @@ export function createFrameCollector(o: {
     },
     nextNeededSample() {
       return emitted >= maxFrames ? Infinity : consumed + skip;
+    },
+    nextFrameEnd() {
+      return emitted >= maxFrames ? Infinity : consumed + skip + frameSize - fill;
     },
   };
 }

@@ -1,13 +1,11 @@
 /**
  * Finer rows for the bottom of a log spectrogram. A 2048-point frame at 48 kHz has 23 Hz bins, so
  * everything under ≈ 100 Hz (hum, rumble, the lines that matter most down there) smears into one blob.
- * Up to ≈ 350–560 Hz the rows therefore come from the same audio decimated to ≈ 6 kHz and analysed
- * with 2048-point frames (≈ 3 Hz bins, 0.34 s). Their power is put on the main analysis's bin
+ * Up to ≈ 350–560 Hz the rows therefore come from the same audio decimated to ≈ 6 kHz (lowRateStream.ts)
+ * and analysed with 2048-point frames (≈ 3 Hz bins, 0.34 s). Their power is put on the main analysis's bin
  * bandwidth, so a noise floor runs on across the hand-over; a steady tone there reads up to
  * 10·log10(decimation) dB brighter than on the scale bar (9 dB at 48 kHz).
  */
-import type { AudioBlock } from "../types/analysis.ts";
-import { createDecimator, type Decimator } from "./decimator.ts";
 import { createSpectrumAnalyzer } from "./fft.ts";
 import { createFrameCollector, type FrameCollector } from "./frameCollector.ts";
 import { createSpectrogramAccumulator, type RowLayout, type SpectrogramAccumulator } from "./spectrogramGrid.ts";
@@ -20,8 +18,6 @@ import { chooseStftSchedule } from "./stftSchedule.ts";
  */
 export const LOW_DETAIL_FULL_HZ = 350;
 export const LOW_DETAIL_TOP_HZ = 560;
-/** Decimated rate aimed at; the factor is the nearest power of two. */
-const LOW_DETAIL_TARGET_RATE_HZ = 6000;
 const LOW_DETAIL_FFT_SIZE = 2048;
 /**
  * On long files, one frame a column for mono and one every other column and channel for stereo: each
@@ -37,17 +33,19 @@ export interface LowFrequencyDetail {
   fadeFromRow: number;
   /** Share of the detail analysis in a row: 1 up to fadeFromRow, falling to 0 at rows. */
   weightOfRow(row: number): number;
-  push(block: AudioBlock): void;
+  /** Fed with the decimated stream. */
+  collector: FrameCollector;
   /** Accumulator of the channel-average rows, then one per channel when asked. */
   overall: SpectrogramAccumulator;
   perChannel: SpectrogramAccumulator[] | null;
 }
 
-/** Null when the detail would add nothing: a linear axis, no rows under the crossover, or under 0.4 s of audio. */
+/** Null when the detail would add nothing: a linear axis, no rows low enough, or under 0.35 s of audio. */
 export function createLowFrequencyDetail(o: {
+  /** The decimated stream's rate and length. */
   sampleRateHz: number;
-  channels: number;
   totalFrames: number;
+  channels: number;
   columns: number;
   layout: RowLayout;
   aggregate: "max" | "mean";
@@ -62,11 +60,9 @@ export function createLowFrequencyDetail(o: {
   const fadeOctaves = Math.log2(LOW_DETAIL_TOP_HZ / LOW_DETAIL_FULL_HZ);
   const weightOfRow = (row: number): number =>
     row < fadeFromRow ? 1 : Math.max(0, 1 - Math.log2(o.layout.centresHz[row] / LOW_DETAIL_FULL_HZ) / fadeOctaves);
-  const factor = 2 ** Math.max(0, Math.round(Math.log2(o.sampleRateHz / LOW_DETAIL_TARGET_RATE_HZ)));
-  const decimatedRateHz = o.sampleRateHz / factor;
-  const decimatedFrames = Math.floor(o.totalFrames / factor);
+  const decimatedFrames = o.totalFrames;
   if (rows === 0 || decimatedFrames < LOW_DETAIL_FFT_SIZE) return null;
-  const binHz = decimatedRateHz / LOW_DETAIL_FFT_SIZE;
+  const binHz = o.sampleRateHz / LOW_DETAIL_FFT_SIZE;
   // Detail bins no finer than the main ones (rates under ≈ 8 kHz with a short main FFT aside) add nothing.
   if (binHz >= o.mainBinHz) return null;
 
@@ -114,19 +110,5 @@ export function createLowFrequencyDetail(o: {
       overall.addFrame(mean, frameIndex);
     },
   });
-  const decimator: Decimator = createDecimator({ channels: o.channels, factor });
-  const forward = (out: AudioBlock): void => collector.push(out);
-
-  return {
-    rows,
-    fadeFromRow,
-    weightOfRow,
-    push(block) {
-      // Past the last scheduled frame there is nothing left to decimate for.
-      if (collector.framesEmitted >= schedule.frameCount) return;
-      decimator.push(block, forward, collector.nextNeededSample());
-    },
-    overall,
-    perChannel,
-  };
+  return { rows, fadeFromRow, weightOfRow, collector, overall, perChannel };
 }

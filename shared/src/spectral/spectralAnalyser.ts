@@ -1,7 +1,8 @@
 /**
  * The spectral half of the single pass over a file (the level half is shared/src/analysis): STFT
- * frames feed the spectrogram grid and the Welch spectrum (bands, bandwidth, dominant frequency); a few
- * long frames feed the fine spectrum for hum and the low bands; every sample feeds the waveform strip.
+ * frames feed the spectrogram grid and the Welch spectrum (bands, bandwidth, dominant frequency); the
+ * audio decimated to ≈ 6 kHz feeds the fine low rows of the grid and a fine spectrum (hum, low bands);
+ * every sample feeds the waveform strip.
  */
 import type { AudioBlock, BlockAnalyser, SpectralAnalysisResult, SpectrogramGrid, StreamFormat } from "../types/analysis.ts";
 import type { BandLevel, Finding } from "../types/report.ts";
@@ -12,6 +13,7 @@ import { estimateBandwidth, judgeBandwidth, type BandwidthEstimate } from "./ban
 import { dominantFrequencyHz } from "./dominantFrequency.ts";
 import { createSpectrumAnalyzer, isPowerOfTwo, type SpectrumAnalyzer } from "./fft.ts";
 import { createFrameCollector, type FrameCollector } from "./frameCollector.ts";
+import { createLowRateStream, lowRateFactor } from "./lowRateStream.ts";
 import { detectHum, type HumEstimate } from "./hum.ts";
 import {
   createWelchAccumulator,
@@ -36,6 +38,11 @@ const MAX_SAMPLE_RATE_HZ = 768000;
 const MAX_CHANNELS = 64;
 /** A band narrower than this many STFT bins is read from the fine spectrum when there is one. */
 const MIN_BINS_PER_BAND = 4;
+/**
+ * The decimated stream is clean up to an eighth of its rate (≈ 750 Hz: aliases cut ≥ 50 dB, droop
+ * < 0.7 dB; decimator.ts), so the fine spectrum refines only peaks below that.
+ */
+const FINE_RELIABLE_FRACTION = 1 / 8;
 
 export function createSpectralAnalyser(format: StreamFormat, settings: AnalysisSettings): BlockAnalyser<SpectralAnalysisResult> {
   checkFormat(format);
@@ -53,10 +60,16 @@ export function createSpectralAnalyser(format: StreamFormat, settings: AnalysisS
 
   const spectrogramSettings = settings.spectrogram;
   const layout = spectrogramRowLayout(plot.height, spectrogramSettings.frequencyScale, sampleRateHz, fftSize);
+  const lowRateFactorValue = lowRateFactor(sampleRateHz);
+  const lowRate = {
+    factor: lowRateFactorValue,
+    sampleRateHz: sampleRateHz / lowRateFactorValue,
+    totalFrames: Math.floor(totalFrames / lowRateFactorValue),
+  };
   const lowDetail = createLowFrequencyDetail({
-    sampleRateHz,
+    sampleRateHz: lowRate.sampleRateHz,
+    totalFrames: lowRate.totalFrames,
     channels,
-    totalFrames,
     columns: plot.width,
     layout,
     aggregate: spectrogramSettings.aggregate,
@@ -103,15 +116,16 @@ export function createSpectralAnalyser(format: StreamFormat, settings: AnalysisS
     },
   });
 
-  const long = createLongFrameAnalysis(format);
+  const fine = createFineSpectrum(channels, lowRate.sampleRateHz, lowRate.totalFrames);
+  const lowRateConsumers = [lowDetail?.collector, fine?.collector].filter((c): c is FrameCollector => c !== undefined);
+  const lowRateStream = lowRateConsumers.length > 0 ? createLowRateStream({ channels, factor: lowRate.factor, consumers: lowRateConsumers }) : null;
   const waveform = createWaveformAccumulator({ columns: plot.width, totalFrames, sampleRateHz });
 
   return {
     push(block) {
       checkBlock(block, channels);
       stft.push(block);
-      lowDetail?.push(block);
-      long?.collector.push(block);
+      lowRateStream?.push(block);
       waveform.push(block);
     },
     finish() {
@@ -119,8 +133,8 @@ export function createSpectralAnalyser(format: StreamFormat, settings: AnalysisS
       const durationSeconds = totalFrames / sampleRateHz;
       const overall = welch.overall();
       const perChannel = welch.perChannel();
-      const fineOverall = long ? long.welch.overall() : null;
-      const finePerChannel = long ? long.welch.perChannel() : null;
+      const fineOverall = fine ? fine.welch.overall() : null;
+      const finePerChannel = fine ? fine.welch.perChannel() : null;
       const isSilent = isSilentSpectrum(overall);
       const bandwidth = isSilent ? null : estimateBandwidth(overall, settings.bandwidthThresholdDb);
       const findings: Finding[] = [
@@ -134,7 +148,7 @@ export function createSpectralAnalyser(format: StreamFormat, settings: AnalysisS
             third: bandLevels(3, overall, fineOverall),
           },
           bandwidthHz: bandwidth === null ? null : Math.round(bandwidth.bandwidthHz),
-          dominantFrequencyHz: isSilent ? null : roundTo(dominantFrequencyHz(overall, fineOverall), 100),
+          dominantFrequencyHz: isSilent ? null : roundTo(dominantFrequencyHz(overall, fineOverall, FINE_RELIABLE_FRACTION * lowRate.sampleRateHz), 100),
         },
         findings,
         spectrogram: assembleGrid(withDetail(grid, lowDetail?.overall), plot.width, layout, durationSeconds, sampleRateHz),
@@ -162,20 +176,22 @@ function fftSizeFor(requested: number, totalFrames: number): number {
   return Math.max(Math.min(requested, SHORTEST_FFT_SIZE), 2 ** Math.floor(Math.log2(Math.max(1, totalFrames))));
 }
 
-/** The fine spectrum: long frames (≈ 1.5 Hz bins) spread over the file; none for files under ≈ 0.7 s. */
-function createLongFrameAnalysis(format: StreamFormat): { collector: FrameCollector; welch: WelchAccumulator } | null {
-  const schedule: FrameSchedule | null = chooseLongFrameSchedule(format.totalFrames, format.sampleRateHz);
+/**
+ * The fine spectrum: long frames (≈ 1.5 Hz bins) of the decimated stream, spread over the file; none
+ * for files under ≈ 0.7 s.
+ */
+function createFineSpectrum(
+  channels: number,
+  sampleRateHz: number,
+  totalFrames: number,
+): { collector: FrameCollector; welch: WelchAccumulator } | null {
+  const schedule: FrameSchedule | null = chooseLongFrameSchedule(totalFrames, sampleRateHz);
   if (schedule === null) return null;
   const analyzer = createSpectrumAnalyzer(schedule.frameSize);
   const spectrum = new Float64Array(analyzer.binCount);
-  const welch = createWelchAccumulator({
-    channels: format.channels,
-    fftSize: schedule.frameSize,
-    sampleRateHz: format.sampleRateHz,
-    noiseBandwidthBins: analyzer.noiseBandwidthBins,
-  });
+  const welch = createWelchAccumulator({ channels, fftSize: schedule.frameSize, sampleRateHz, noiseBandwidthBins: analyzer.noiseBandwidthBins });
   const collector = createFrameCollector({
-    channels: format.channels,
+    channels,
     schedule,
     onFrame(frames) {
       for (let c = 0; c < frames.length; c++) {
@@ -200,11 +216,12 @@ function partialFrameGain(analyzer: SpectrumAnalyzer, from: number, count: numbe
 
 const weightsCache = new Map<string, BandWeights>();
 
-function weightsFor(bandsPerOctave: 1 | 3, s: LongTermSpectrum): BandWeights {
-  const key = `${bandsPerOctave}:${s.sampleRateHz}:${s.fftSize}`;
+/** Weights of the file's band list (its rate decides which bands exist) over spectrum s's bins. */
+function weightsFor(bandsPerOctave: 1 | 3, fileRateHz: number, s: LongTermSpectrum): BandWeights {
+  const key = `${bandsPerOctave}:${fileRateHz}:${s.sampleRateHz}:${s.fftSize}`;
   let w = weightsCache.get(key);
   if (w === undefined) {
-    w = createBandWeights(fractionalOctaveBands(bandsPerOctave, s.sampleRateHz), s.binHz, s.binCount);
+    w = createBandWeights(fractionalOctaveBands(bandsPerOctave, fileRateHz), s.binHz, s.binCount);
     weightsCache.set(key, w);
   }
   return w;
@@ -212,13 +229,13 @@ function weightsFor(bandsPerOctave: 1 | 3, s: LongTermSpectrum): BandWeights {
 
 /** Band levels (dB re full scale, 0.01 dB) from the STFT spectrum, narrow low bands from the fine one. */
 function bandLevels(bandsPerOctave: 1 | 3, coarse: LongTermSpectrum, fine: LongTermSpectrum | null): BandLevel[] {
-  const coarseWeights = weightsFor(bandsPerOctave, coarse);
+  const coarseWeights = weightsFor(bandsPerOctave, coarse.sampleRateHz, coarse);
   const coarseDb = new Float64Array(coarseWeights.bands.length);
   bandLevelsDb(meanSquarePerBin(coarse), coarseWeights, coarseDb);
   let fineDb: Float64Array | null = null;
   if (fine !== null && fine.frames > 0) {
     fineDb = new Float64Array(coarseWeights.bands.length);
-    bandLevelsDb(meanSquarePerBin(fine), weightsFor(bandsPerOctave, fine), fineDb);
+    bandLevelsDb(meanSquarePerBin(fine), weightsFor(bandsPerOctave, coarse.sampleRateHz, fine), fineDb);
   }
   return coarseWeights.bands.map((band, i) => {
     const isNarrow = band.upperHz - band.lowerHz < MIN_BINS_PER_BAND * coarse.binHz;

@@ -90,7 +90,7 @@ export function chooseStftSchedule(o: {
  * Long frames for hum and for the low bands: up to this many, non-overlapping, spread evenly over the
  * file. 32 frames put the Welch spread of a bin at ≈ 0.8 dB (4.34 dB/√32; a periodogram bin is
  * exponentially distributed, 4.34 dB spread; common practice), and hum's floor is a median over
- * ≈ 25 such bins, for ≈ 50 ms of 32768-point FFTs on stereo 48 kHz.
+ * ≈ 25 such bins. On the ≈ 6 kHz decimated stream these are 4096-point frames: a few milliseconds.
  */
 export const LONG_FRAMES_MAX = 32;
 
