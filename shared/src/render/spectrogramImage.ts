@@ -37,6 +37,7 @@ const BAR_WIDTH_PX = 14;
 const MARKER_WEDGE_PX = 9;
 /** Units sit on the title's line, beside the plot, clear of the top tick labels. */
 const UNIT_LABEL_TOP_PX = 7;
+const TITLE_CLEARANCE_PX = 8;
 
 export interface SpectrogramImageOptions {
   width: number;
@@ -57,7 +58,8 @@ export function renderSpectrogramImage(grid: SpectrogramGrid, options: Spectrogr
   drawScaleBar(image, plot);
   if (options.title) {
     const cap = capHeightPx(TEXT_SCALE);
-    const text = fitTextKeepingEnd(options.title, plot.width, TEXT_SCALE);
+    // Kept clear of the "dBFS" unit, which is centred over the bar just right of the plot.
+    const text = fitTextKeepingEnd(options.title, plot.width - 2 * TITLE_CLEARANCE_PX, TEXT_SCALE);
     drawText(image, text, plot.left, Math.min(UNIT_LABEL_TOP_PX, plot.top - MARKER_WEDGE_PX - cap - 2), THEME.text, { scale: TEXT_SCALE });
   }
   drawFindingMarkers(image, plot, grid.durationSeconds, options.markers ?? [], MARKER_WEDGE_PX);

@@ -60,12 +60,8 @@ export function createSpectralAnalyser(format: StreamFormat, settings: AnalysisS
 
   const spectrogramSettings = settings.spectrogram;
   const layout = spectrogramRowLayout(plot.height, spectrogramSettings.frequencyScale, sampleRateHz, fftSize);
-  const lowRateFactorValue = lowRateFactor(sampleRateHz);
-  const lowRate = {
-    factor: lowRateFactorValue,
-    sampleRateHz: sampleRateHz / lowRateFactorValue,
-    totalFrames: Math.floor(totalFrames / lowRateFactorValue),
-  };
+  const lowFactor = lowRateFactor(sampleRateHz);
+  const lowRate = { factor: lowFactor, sampleRateHz: sampleRateHz / lowFactor, totalFrames: Math.floor(totalFrames / lowFactor) };
   const lowDetail = createLowFrequencyDetail({
     sampleRateHz: lowRate.sampleRateHz,
     totalFrames: lowRate.totalFrames,
