@@ -4,6 +4,7 @@ import type { FileDetailDto, Role } from "@tidemark/shared/types/api";
 import { deferred, stubFetch, type StubReply } from "./fetchStub.ts";
 import { SPECTROGRAM_MARGINS } from "@tidemark/shared/render/layout";
 import { fileDetail, user } from "./fixtures.ts";
+import { placeFindings } from "../../web/src/components/file/plotGeometry.ts";
 import { renderApp } from "./renderApp.tsx";
 
 afterEach(() => vi.unstubAllGlobals());
@@ -155,5 +156,19 @@ describe("File page", () => {
       .on("GET", "/api/files/404", { status: 404, body: { error: { code: "not-found", message: "No file result 404." } } });
     renderApp("/files/404");
     expect(await screen.findByText("No such file")).toBeTruthy();
+  });
+});
+
+describe("marker placement", () => {
+  const finding = (id: number, startSeconds: number | null, channel: number | null = null) =>
+    ({ id, code: "clipping", severity: "fail", channel, startSeconds, endSeconds: startSeconds, message: "" }) as const;
+
+  it("stacks handles that would collide into separate lanes and leaves whole-file findings out", () => {
+    const placed = placeFindings([finding(1, 0, 0), finding(2, 0, 1), finding(3, 50), finding(4, 0.5), finding(5, null)], 100);
+    const lane = (id: number) => placed.find((p) => p.finding.id === id)?.lane;
+    expect(placed.map((p) => p.finding.id)).not.toContain(5);
+    expect(new Set([lane(1), lane(2), lane(4)]).size).toBe(3);
+    expect(lane(3)).toBe(0);
+    expect(placed.find((p) => p.finding.id === 3)?.leftPercent).toBe(50);
   });
 });

@@ -2,7 +2,7 @@ import { useState, type CSSProperties } from "react";
 import type { FindingDto } from "@tidemark/shared/types/api";
 import type { Severity } from "@tidemark/shared/types/report";
 import { formatTimestamp } from "../../format/units.ts";
-import { markerSpan, plotAreaInset, SPECTROGRAM_MARGINS, WAVEFORM_MARGINS, type Margins, type NaturalSize } from "./plotGeometry.ts";
+import { placeFindings, plotAreaInset, type TimedFinding, SPECTROGRAM_MARGINS, WAVEFORM_MARGINS, type Margins, type NaturalSize } from "./plotGeometry.ts";
 
 const MARKER_FILL: Record<Severity, string> = {
   fail: "var(--color-marker-fail)",
@@ -10,46 +10,72 @@ const MARKER_FILL: Record<Severity, string> = {
   info: "var(--color-marker-info)",
 };
 
+const WIDE_SPAN_PERCENT = 15;
+const LANE_HEIGHT_PX = 16;
+
 interface MarkerLayerProps {
   findings: FindingDto[];
   durationSeconds: number;
   selectedId: number | null;
   onSelect: (id: number) => void;
-  /** Only one layer carries focusable markers; the other repeats them for the eye. */
+  /** Only one layer carries the clickable handles; the other repeats the spans for the eye. */
   interactive: boolean;
 }
 
+function markerLabel(finding: TimedFinding): string {
+  const channel = finding.channel !== null ? `, channel ${finding.channel + 1}` : "";
+  return `${finding.code} at ${formatTimestamp(finding.startSeconds)}${channel} (${finding.severity})`;
+}
+
+/**
+ * Each finding is a span (edges, light tint) that never takes the pointer, plus, on the interactive
+ * layer, a small handle at its start: spans of different channels often overlap exactly.
+ */
 function MarkerLayer({ findings, durationSeconds, selectedId, onSelect, interactive }: MarkerLayerProps) {
+  const placed = placeFindings(findings, durationSeconds);
   return (
     <>
-      {findings.map((finding) => {
-        if (finding.startSeconds === null) return null;
-        const { leftPercent, widthPercent } = markerSpan(finding.startSeconds, finding.endSeconds, durationSeconds);
+      {placed.map(({ finding, leftPercent, widthPercent }) => {
         const isSelected = finding.id === selectedId;
-        const label = `${finding.code} at ${formatTimestamp(finding.startSeconds)}${finding.channel !== null ? `, channel ${finding.channel + 1}` : ""} (${finding.severity})`;
+        const fill = widthPercent > WIDE_SPAN_PERCENT ? "bg-transparent" : "bg-[color-mix(in_srgb,var(--marker)_14%,transparent)]";
         const style = {
           left: `${leftPercent}%`,
-          width: `max(${widthPercent}%, ${isSelected ? 4 : 3}px)`,
+          width: `max(${widthPercent}%, ${isSelected ? 4 : 2}px)`,
           "--marker": isSelected ? "var(--color-marker-selected)" : MARKER_FILL[finding.severity],
         } as CSSProperties;
-        const className = `absolute inset-y-0 -translate-x-px border-x-2 border-[var(--marker)] ${
-          isSelected ? "z-10 bg-white/30 outline-2 outline-black" : "bg-[color-mix(in_srgb,var(--marker)_22%,transparent)]"
-        }`;
-        if (!interactive) return <span key={finding.id} aria-hidden="true" className={className} style={style} />;
         return (
-          <button
-            key={finding.id}
-            type="button"
-            aria-label={label}
-            aria-pressed={isSelected}
-            data-finding-marker={finding.id}
-            title={label}
-            onClick={() => onSelect(finding.id)}
-            className={`${className} cursor-pointer focus-visible:outline-[var(--color-marker-selected)]`}
+          <span
+            key={`span-${finding.id}`}
+            aria-hidden="true"
+            className={`pointer-events-none absolute inset-y-0 -translate-x-px border-x-2 border-[var(--marker)] ${isSelected ? "z-10 bg-white/20" : fill}`}
             style={style}
           />
         );
       })}
+      {interactive &&
+        placed.map(({ finding, leftPercent, lane }) => {
+          const isSelected = finding.id === selectedId;
+          const label = markerLabel(finding);
+          return (
+            <button
+              key={`handle-${finding.id}`}
+              type="button"
+              aria-label={label}
+              aria-pressed={isSelected}
+              data-finding-marker={finding.id}
+              title={label}
+              onClick={() => onSelect(finding.id)}
+              className={`absolute z-20 h-3.5 w-3 -translate-x-1/2 cursor-pointer rounded-sm border border-black/80 ${
+                isSelected ? "scale-125 outline-2 outline-offset-1 outline-white" : ""
+              } focus-visible:outline-[var(--color-marker-selected)]`}
+              style={{
+                left: `${leftPercent}%`,
+                top: `${2 + lane * LANE_HEIGHT_PX}px`,
+                backgroundColor: isSelected ? "var(--color-marker-selected)" : MARKER_FILL[finding.severity],
+              }}
+            />
+          );
+        })}
     </>
   );
 }

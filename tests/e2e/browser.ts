@@ -1,0 +1,57 @@
+/**
+ * Debian's chromium through playwright-core, one fresh profile per signed-in role so their cookies
+ * never mix. Screenshots go to TIDEMARK_SCREENSHOT_DIR, or a new temp folder printed on first use.
+ */
+import { mkdirSync, mkdtempSync, rmSync } from "node:fs";
+import { tmpdir } from "node:os";
+import path from "node:path";
+import { chromium, type BrowserContext, type Page } from "playwright-core";
+import type { Role } from "@tidemark/shared/types/api";
+
+const CHROMIUM_ARGS = ["--headless", "--no-sandbox", "--disable-gpu", "--disable-background-networking", "--disable-component-update", "--disable-sync", "--no-first-run"];
+
+export interface RoleBrowser {
+  context: BrowserContext;
+  page: Page;
+  close(): Promise<void>;
+}
+
+/** playwright refuses --user-data-dir in args; a persistent context on a fresh temp dir is the same thing. */
+export async function openBrowser(viewport = { width: 1280, height: 900 }): Promise<RoleBrowser> {
+  const profile = mkdtempSync(path.join(tmpdir(), "tidemark-chromium-"));
+  const context = await chromium.launchPersistentContext(profile, {
+    executablePath: process.env.CHROMIUM_PATH ?? "/usr/bin/chromium",
+    args: CHROMIUM_ARGS,
+    viewport,
+    acceptDownloads: true,
+  });
+  const page = context.pages()[0] ?? (await context.newPage());
+  return {
+    context,
+    page,
+    async close() {
+      await context.close();
+      rmSync(profile, { recursive: true, force: true });
+    },
+  };
+}
+
+export function emailOf(role: Role): string {
+  return `${role}@harbourside.test`;
+}
+
+let shotDir: string | null = null;
+export function screenshotDir(): string {
+  if (!shotDir) {
+    shotDir = process.env.TIDEMARK_SCREENSHOT_DIR ?? mkdtempSync(path.join(tmpdir(), "tidemark-e2e-shots-"));
+    mkdirSync(shotDir, { recursive: true });
+    console.error(`[e2e] screenshots in ${shotDir}`);
+  }
+  return shotDir;
+}
+
+export async function screenshot(page: Page, name: string): Promise<string> {
+  const file = path.join(screenshotDir(), `${name}.png`);
+  await page.screenshot({ path: file, fullPage: true });
+  return file;
+}
