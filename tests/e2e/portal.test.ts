@@ -185,6 +185,52 @@ describe("review portal in chromium", () => {
     await screenshot(page, "audit-auditor");
   });
 
+  it("lets an auditor download a batch report as JSON and as PDF", async () => {
+    const page = await signIn("auditor", "/exports");
+    const batchSelect = page.getByLabel("Batch", { exact: true });
+    const ferry = batchSelect.locator("option", { hasText: "Ferry Terminal Interviews 1978" }).first();
+    await ferry.waitFor({ state: "attached" });
+    await batchSelect.selectOption((await ferry.getAttribute("value")) ?? "");
+    const [json] = await Promise.all([page.waitForEvent("download"), page.getByRole("link", { name: "JSON" }).click()]);
+    const report = JSON.parse(readFileSync(await json.path(), "utf8")) as Record<string, unknown>;
+    expect(JSON.stringify(report)).toContain("Ferry Terminal Interviews 1978");
+    expect(JSON.stringify(report)).toMatch(/\.wav"/);
+    const [pdf] = await Promise.all([page.waitForEvent("download"), page.getByRole("link", { name: "PDF" }).click()]);
+    expect(readFileSync(await pdf.path()).subarray(0, 5).toString("latin1")).toBe("%PDF-");
+  });
+
+  it("lets a supervisor accept several files at once from the table", async () => {
+    const page = await signIn("supervisor", "/files?verdict=pass&reviewState=pending");
+    const boxes = page.getByRole("checkbox", { name: /^Select (?!all)/ });
+    await boxes.first().waitFor();
+    const count = Math.min(2, await boxes.count());
+    for (let i = 0; i < count; i++) await boxes.nth(i).check();
+    const bar = page.getByRole("form", { name: "Change review state of selected files" });
+    await bar.getByLabel("New review state").selectOption("accepted");
+    await bar.getByLabel("Reason").fill("levels and spectrum as expected");
+    await screenshot(page, "files-supervisor-bulk");
+    const before = (await apiFrom(page, "GET", "/api/files?verdict=pass&reviewState=pending&pageSize=1")).body as ApiPage<FileSummaryDto>;
+    await bar.getByRole("button", { name: `Apply to ${count}` }).click();
+    await bar.waitFor({ state: "detached" });
+    const after = (await apiFrom(page, "GET", "/api/files?verdict=pass&reviewState=pending&pageSize=1")).body as ApiPage<FileSummaryDto>;
+    expect(after.total).toBe(before.total - count);
+  });
+
+  it("lets a technician create an API token, shown once, and revoke it", async () => {
+    const page = await signIn("technician", "/tokens");
+    await page.getByLabel(/Token name/).fill("transfer-station-2");
+    await page.getByRole("button", { name: "Create token" }).click();
+    const secret = await page.getByTestId("new-token").textContent();
+    expect(secret).toMatch(/.+:.+/);
+    await screenshot(page, "tokens-technician");
+    await page.getByRole("button", { name: "I have saved it" }).click();
+    expect(await page.getByText(secret ?? "").count()).toBe(0);
+    const row = page.getByRole("row").filter({ hasText: "transfer-station-2" });
+    await row.getByRole("button", { name: "Revoke" }).click();
+    await row.getByRole("button", { name: /Yes, revoke/ }).click();
+    await row.getByText(/^revoked/).waitFor();
+  });
+
   it("sends a user whose session ended to sign-in and back to the same view", async () => {
     const page = await signIn("supervisor", "/files?verdict=fail");
     await page.getByRole("link", { name: /\.wav$/ }).first().waitFor();
