@@ -12,7 +12,7 @@ import { spectrogramPlotArea } from "../../shared/src/render/layout.ts";
 import type { SpectralAnalysisResult } from "../../shared/src/types/analysis.ts";
 import { DEFAULT_ANALYSIS_SETTINGS, type AnalysisSettings } from "../../shared/src/types/settings.ts";
 import { blocksOf, streamFormat } from "../fixtures/spectralSignals.ts";
-import { mix, sine, whiteNoise } from "../fixtures/synth.ts";
+import { mix, pinkNoise, sine, whiteNoise } from "../fixtures/synth.ts";
 
 function analyse(channels: Float32Array[], sampleRateHz: number, blockFrames = 4096, settings = DEFAULT_ANALYSIS_SETTINGS): SpectralAnalysisResult {
   const a = createSpectralAnalyser(streamFormat(channels, sampleRateHz), settings);
@@ -120,6 +120,12 @@ describe("dominant frequency", () => {
     const binHz = rate / defaultFftSize(rate);
     // The generator's frequency is the reference; issue #4: within 0.1 bin.
     expect(Math.abs((r.metrics.dominantFrequencyHz ?? 0) - hz)).toBeLessThan(0.1 * binHz);
+  });
+
+  it("does not call pink noise's subsonic tail dominant: the search starts at 20 Hz", () => {
+    const r = analyse([pinkNoise({ sampleRateHz: 48000, seconds: 3, rmsDbfs: -20, seed: 6 })], 48000);
+    // 20 Hz: the lower limit of the audio band (common practice).
+    expect(r.metrics.dominantFrequencyHz).toBeGreaterThanOrEqual(20);
   });
 
   it("picks the stronger of two tones, not a DC offset's skirt", () => {

@@ -17,6 +17,9 @@ export function interpolatePeakOffsetBins(powerBelow: number, powerAt: number, p
   return Math.max(-0.5, Math.min(0.5, (0.5 * (a - c)) / curvature));
 }
 
+/** Subsonic drift and rumble are not a recording's "dominant frequency": the search starts at 20 Hz (common practice). */
+export const AUDIO_BAND_LOW_HZ = 20;
+
 /** Index of the largest local maximum over bins [fromBin, toBin) (−1 if the spectrum has none). */
 export function strongestPeakBin(power: Float64Array, fromBin: number, toBin: number): number {
   let best = -1;
@@ -42,12 +45,12 @@ export function strongestPeakBin(power: Float64Array, fromBin: number, toBin: nu
  */
 export function dominantFrequencyHz(coarse: LongTermSpectrum, fine: LongTermSpectrum | null, fineBelowHz = Infinity): number | null {
   const p = coarse.amplitudeSquared;
-  const k = strongestPeakBin(p, 1, coarse.binCount - 1);
+  const k = strongestPeakBin(p, Math.ceil(AUDIO_BAND_LOW_HZ / coarse.binHz), coarse.binCount - 1);
   if (k < 0) return null;
   const coarseHz = (k + interpolatePeakOffsetBins(p[k - 1], p[k], p[k + 1])) * coarse.binHz;
   if (fine === null || fine.frames === 0 || coarseHz >= fineBelowHz) return coarseHz;
   const q = fine.amplitudeSquared;
-  const from = Math.floor(((k - 1) * coarse.binHz) / fine.binHz);
+  const from = Math.max(Math.ceil(AUDIO_BAND_LOW_HZ / fine.binHz), Math.floor(((k - 1) * coarse.binHz) / fine.binHz));
   const to = Math.ceil(((k + 1) * coarse.binHz) / fine.binHz) + 1;
   const j = strongestPeakBin(q, from, Math.min(to, fine.binCount - 1));
   if (j <= from || j >= to - 1) return coarseHz;
