@@ -1,5 +1,6 @@
 import { describe, expect, it } from "vitest";
 import { humFftSize } from "../../shared/src/spectral/hum.ts";
+import { lowRateFactor } from "../../shared/src/spectral/lowRateStream.ts";
 import { createSpectralAnalyser } from "../../shared/src/spectral/spectralAnalyser.ts";
 import type { SpectralAnalysisResult } from "../../shared/src/types/analysis.ts";
 import { DEFAULT_ANALYSIS_SETTINGS } from "../../shared/src/types/settings.ts";
@@ -77,10 +78,15 @@ describe("hum", () => {
     expect(found[0].message).toMatch(/at 60 Hz/);
   });
 
-  it("needs about 1.5 Hz resolution: long frames of 32768 samples at 44.1/48 kHz", () => {
-    expect(humFftSize(48000)).toBe(32768);
-    expect(humFftSize(44100)).toBe(32768);
-    expect(48000 / humFftSize(48000)).toBeLessThanOrEqual(1.5);
-    expect(humFftSize(8000)).toBe(8192);
+  it("resolves 1.5 Hz or better: 4096-point frames of the ≈ 6 kHz decimated stream at every rate", () => {
+    // 50 and 60 Hz ± 2 % must be told apart with the Hann mainlobe (±2 bins; Harris 1978) inside ±3 Hz.
+    for (const rate of [8000, 11025, 44100, 48000, 96000, 192000, 384000]) {
+      const lowRate = rate / lowRateFactor(rate);
+      expect(lowRate).toBeGreaterThan(4000);
+      expect(lowRate).toBeLessThan(8500);
+      expect(lowRate / humFftSize(lowRate)).toBeLessThanOrEqual(1.5);
+    }
+    expect(lowRateFactor(48000)).toBe(8);
+    expect(humFftSize(48000 / 8)).toBe(4096);
   });
 });

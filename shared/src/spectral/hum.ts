@@ -1,18 +1,19 @@
 /**
  * Mains hum: narrow peaks at 50 or 60 Hz and their harmonics standing above the local spectral floor.
  * Needs a fine long-term spectrum (≈ 1.5 Hz bins: 50 and 60 Hz lie 10 Hz apart and the tolerance is
- * ±1 Hz), which the spectral analyser takes from a few long frames spread over the file.
+ * ±1 Hz), which the spectral analyser takes from a few long frames of the ≈ 6 kHz decimated stream,
+ * spread over the file.
  */
 import type { LongTermSpectrum } from "./longTermSpectrum.ts";
 import { interpolatePeakOffsetBins } from "./dominantFrequency.ts";
 
-/** Mains frequencies in use worldwide (IEC 60038). */
+/** Mains frequencies in use worldwide (IEC 60038 lists 50 Hz and 60 Hz systems; from memory). */
 export const MAINS_FREQUENCIES_HZ = [50, 60] as const;
-/** A peak counts within ±2 % of a harmonic of the mains frequency (issue #4; grid tolerance is far tighter). */
+/** A fundamental counts within ±2 % of the mains frequency (issue #4): grids hold far tighter, tape speed does not. */
 export const HUM_FREQUENCY_TOLERANCE = 0.02;
 /** Harmonics examined: up to the 10th (500/600 Hz), where buzz from rectifiers still shows (common practice). */
 export const HUM_MAX_HARMONIC = 10;
-/** Bins resolved per Hz needed: bin width at most this (Hz), so the mainlobe (±2 bins) stays inside ±5 Hz at 50 Hz. */
+/** Widest bin (Hz) that still parts 50 from 60 Hz: the Hann mainlobe (±2 bins; Harris 1978) stays within ±3 Hz. */
 export const HUM_MAX_BIN_HZ = 1.5;
 /** Harmonics are looked for within ±0.5 % (plus two bins) of h times the measured fundamental (common practice). */
 const HARMONIC_TOLERANCE = 0.005;
