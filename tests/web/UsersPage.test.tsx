@@ -13,6 +13,7 @@ describe("Users (admin)", () => {
     const stub = stubFetch()
       .on("GET", "/api/session", { body: { user: user("admin", 1) } })
       .on("GET", "/api/users", () => ({ body: users }))
+      .on("GET", "/api/tokens", { body: [] })
       .on("POST", "/api/users", (req) => {
         const made = { ...user("auditor", 9), ...(req.body as object) } as UserDto;
         users.push(made);
@@ -43,5 +44,39 @@ describe("Users (admin)", () => {
     expect((await within(form).findByRole("status")).textContent).toBe("archivist@harbourside.test can now sign in as auditor.");
     expect(stub.requests("POST", "/api/users")[0].body).toEqual({ email: "archivist@harbourside.test", name: "Nell Brine", role: "auditor", password: "harbour-lights-1978" });
     await screen.findByText("Nell Brine");
+  });
+
+  it("lists everyone's tokens with their owners and lets the admin revoke one", async () => {
+    let revoked = false;
+    const stub = stubFetch()
+      .on("GET", "/api/session", { body: { user: user("admin", 1) } })
+      .on("GET", "/api/users", { body: [user("admin", 1)] })
+      .on("GET", "/api/tokens", (req) => {
+        expect(req.url.searchParams.get("all")).toBe("1");
+        return {
+          body: [
+            {
+              id: "tk7",
+              name: "robot-ingest",
+              owner: { id: 3, email: "technician@harbourside.test", name: "Technician Demo" },
+              createdAt: "2026-11-02T08:00:00.000Z",
+              lastUsedAt: null,
+              revokedAt: revoked ? "2026-11-03T08:00:00.000Z" : null,
+            },
+          ],
+        };
+      })
+      .on("DELETE", "/api/tokens/tk7", () => {
+        revoked = true;
+        return { status: 204 };
+      });
+    renderApp("/users");
+    const section = await screen.findByRole("region", { name: "Everyone's API tokens" });
+    const row = (await within(section).findByText("robot-ingest")).closest("tr") as HTMLElement;
+    expect(within(row).getByText("technician@harbourside.test")).toBeTruthy();
+    fireEvent.click(within(row).getByRole("button", { name: "Revoke" }));
+    fireEvent.click(within(row).getByRole("button", { name: "Yes, revoke “robot-ingest”" }));
+    await within(section).findByText(/^revoked/);
+    expect(stub.requests("DELETE", "/api/tokens/tk7")).toHaveLength(1);
   });
 });

@@ -42,6 +42,7 @@ export const collectionKeys = {
 export const tokenKeys = {
   all: ["tokens"] as const,
   mine: () => [...tokenKeys.all, "mine"] as const,
+  everyone: () => [...tokenKeys.all, "everyone"] as const,
 };
 
 export const userKeys = {

@@ -1,12 +1,12 @@
 import { useState, type FormEvent } from "react";
-import type { CreatedTokenDto, TokenDto } from "@tidemark/shared/types/api";
+import type { CreatedTokenDto } from "@tidemark/shared/types/api";
 import { describeError } from "../api/client.ts";
-import { useCreateToken, useMyTokens, useRevokeToken } from "../api/tokens.ts";
+import { useCreateToken, useMyTokens } from "../api/tokens.ts";
 import { CopyButton } from "../components/CopyButton.tsx";
+import { TokenRow, TokenTableHead } from "../components/TokenRow.tsx";
 import { PageHeader } from "../components/PageHeader.tsx";
 import { buttonClass, TextField } from "../components/fields.tsx";
 import { EmptyState, ErrorState, InlineError, LoadingState } from "../components/states.tsx";
-import { formatDateTime } from "../format/units.ts";
 
 /** The secret exists in the browser only until this box is dismissed; the server keeps just a hash. */
 function NewTokenNotice({ token, onDismiss }: { token: CreatedTokenDto; onDismiss: () => void }) {
@@ -49,39 +49,6 @@ function CreateTokenForm({ onCreated }: { onCreated: (token: CreatedTokenDto) =>
   );
 }
 
-function TokenRow({ token }: { token: TokenDto }) {
-  const revoke = useRevokeToken();
-  const [confirming, setConfirming] = useState(false);
-  const isRevoked = token.revokedAt !== null;
-  return (
-    <tr className="border-b border-line last:border-b-0">
-      <td className="px-2 py-1.5 font-medium">{token.name}</td>
-      <td className="px-2 py-1.5 font-mono text-xs">{token.id}</td>
-      <td className="px-2 py-1.5">{formatDateTime(token.createdAt)}</td>
-      <td className="px-2 py-1.5">{token.lastUsedAt ? formatDateTime(token.lastUsedAt) : <span className="text-ink-muted">never</span>}</td>
-      <td className="px-2 py-1.5">
-        {isRevoked ? (
-          <span className="text-ink-muted">revoked {formatDateTime(token.revokedAt)}</span>
-        ) : confirming ? (
-          <span className="flex flex-wrap items-center gap-2">
-            <button type="button" className={buttonClass.danger} disabled={revoke.isPending} onClick={() => revoke.mutate(token.id)}>
-              {revoke.isPending ? "Revoking…" : `Yes, revoke “${token.name}”`}
-            </button>
-            <button type="button" className={buttonClass.secondary} onClick={() => setConfirming(false)}>
-              Keep it
-            </button>
-          </span>
-        ) : (
-          <button type="button" className={buttonClass.danger} onClick={() => setConfirming(true)}>
-            Revoke
-          </button>
-        )}
-        {revoke.isError && <InlineError message={`Not revoked: ${describeError(revoke.error)}`} />}
-      </td>
-    </tr>
-  );
-}
-
 export function TokensPage() {
   const tokens = useMyTokens();
   const [created, setCreated] = useState<CreatedTokenDto | null>(null);
@@ -96,15 +63,7 @@ export function TokensPage() {
       {tokens.data && tokens.data.length > 0 && (
         <div className="overflow-x-auto rounded-md border border-line bg-surface">
           <table className="w-full min-w-[640px] text-sm">
-            <thead className="border-b border-line bg-sunken">
-              <tr>
-                {["Name", "Id", "Created", "Last used", "Status"].map((h) => (
-                  <th key={h} scope="col" className="px-2 py-2 text-left font-semibold">
-                    {h}
-                  </th>
-                ))}
-              </tr>
-            </thead>
+            <TokenTableHead />
             <tbody>
               {tokens.data.map((token) => (
                 <TokenRow key={token.id} token={token} />

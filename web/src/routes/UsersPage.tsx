@@ -1,7 +1,9 @@
 import { useState, type FormEvent } from "react";
 import { ROLES, type Role, type UserDto } from "@tidemark/shared/types/api";
 import { describeError } from "../api/client.ts";
+import { useAllTokens } from "../api/tokens.ts";
 import { useCreateUser, useUpdateUser, useUsers } from "../api/users.ts";
+import { TokenRow, TokenTableHead } from "../components/TokenRow.tsx";
 import { useCurrentUser } from "../auth/currentUser.ts";
 import { PageHeader } from "../components/PageHeader.tsx";
 import { buttonClass, SelectField, TextField } from "../components/fields.tsx";
@@ -138,6 +140,34 @@ export function UsersPage() {
           </table>
         </div>
       )}
+      <AllTokens />
     </>
+  );
+}
+
+/** Admins may revoke anyone's token (a leaked one, or a leaver's). */
+function AllTokens() {
+  const tokens = useAllTokens();
+  return (
+    <section aria-labelledby="all-tokens-heading" className="mt-6">
+      <h2 id="all-tokens-heading" className="mb-2 text-lg">
+        Everyone's API tokens
+      </h2>
+      {tokens.isPending && <LoadingState label="Loading tokens" />}
+      {tokens.isError && <ErrorState title="The token list could not load" message={describeError(tokens.error)} onRetry={() => void tokens.refetch()} />}
+      {tokens.data && tokens.data.length === 0 && <EmptyState title="Nobody holds an API token" />}
+      {tokens.data && tokens.data.length > 0 && (
+        <div className="overflow-x-auto rounded-md border border-line bg-surface">
+          <table className="w-full min-w-[720px] text-sm">
+            <TokenTableHead showOwner />
+            <tbody>
+              {tokens.data.map((token) => (
+                <TokenRow key={token.id} token={token} showOwner />
+              ))}
+            </tbody>
+          </table>
+        </div>
+      )}
+    </section>
   );
 }
