@@ -57,7 +57,6 @@ export function FileTable({ items, activeIndex, onActivate, sort, order, onSort,
                 key={file.id}
                 data-list-row
                 aria-current={isActive ? "true" : undefined}
-                aria-selected={selection ? isSelected : undefined}
                 onClick={() => onActivate(index)}
                 className={`border-b border-line last:border-b-0 ${isActive ? "bg-harbour-soft shadow-[inset_4px_0_0_var(--color-harbour)]" : isSelected ? "bg-warn-soft/50" : "hover:bg-paper"}`}
               >
