@@ -11,5 +11,5 @@ export const exportUrls = {
   filesCsv: (query: FilesCsvQuery) => withQuery("/api/exports/files.csv", query),
   batchJson: (batchId: number) => `/api/exports/batches/${batchId}.json`,
   batchPdf: (batchId: number) => `/api/exports/batches/${batchId}.pdf`,
-  auditCsv: (query: { from?: string; to?: string } = {}) => withQuery("/api/exports/audit.csv", query),
+  auditCsv: (query: { actor?: string; action?: string; from?: string; to?: string } = {}) => withQuery("/api/exports/audit.csv", query),
 };

@@ -66,8 +66,8 @@ export function AuditPage() {
       <PageHeader
         title="Audit trail"
         actions={
-          <a href={exportUrls.auditCsv({ from: query.from, to: query.to })} download className={buttonClass.secondary}>
-            Download as CSV
+          <a href={exportUrls.auditCsv({ actor: query.actor, action: query.action, from: query.from, to: query.to })} download className={buttonClass.secondary}>
+            {filtered ? "Download these entries as CSV" : "Download as CSV"}
           </a>
         }
       >
