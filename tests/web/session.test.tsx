@@ -4,6 +4,7 @@ import type { Role } from "@tidemark/shared/types/api";
 import { stubFetch } from "./fetchStub.ts";
 import { fileSummary, page, user } from "./fixtures.ts";
 import { renderApp } from "./renderApp.tsx";
+import { sessionKeys } from "../../web/src/api/keys.ts";
 
 afterEach(() => vi.unstubAllGlobals());
 
@@ -146,5 +147,21 @@ describe("role-aware navigation", () => {
     stubFetch().on("GET", "/api/session", { body: { user: user("auditor") } });
     renderApp("/reels/nowhere");
     expect(await screen.findByRole("heading", { name: "Nothing at this address" })).toBeTruthy();
+  });
+});
+
+describe("session re-check", () => {
+  it("calls it an expiry when a re-check of the session finds nobody signed in any more", async () => {
+    let signedIn = true;
+    stubFetch()
+      .on("GET", "/api/session", () => (signedIn ? { body: { user: user("auditor") } } : unauthorized))
+      .on("GET", "/api/batches", { body: page([]) })
+      .on("GET", "/api/collections", { body: [] });
+    const { client, router } = renderApp("/batches?collection=2");
+    await screen.findByText(/No batches match/);
+    signedIn = false;
+    await client.refetchQueries({ queryKey: sessionKeys.all });
+    await screen.findByText(/Your session ended/);
+    expect(new URLSearchParams(router.state.location.search).get("next")).toBe("/batches?collection=2");
   });
 });

@@ -9,13 +9,13 @@ export type SessionState = { user: UserDto; expired?: undefined } | { user: null
 export const sessionOptions = () =>
   queryOptions({
     queryKey: sessionKeys.current(),
-    queryFn: async ({ signal }): Promise<SessionState> => {
+    queryFn: async ({ signal, client, queryKey }): Promise<SessionState> => {
       try {
         const session = await getJson<SessionDto>("/api/session", { signal });
         return { user: session.user };
       } catch (e) {
-        // Not being signed in is an answer, not an error.
-        if (isUnauthorized(e)) return { user: null, expired: false };
+        // Not being signed in is an answer, not an error; it is an expiry if someone was signed in.
+        if (isUnauthorized(e)) return { user: null, expired: Boolean(client.getQueryData<SessionState>(queryKey)?.user) };
         throw e;
       }
     },
