@@ -68,8 +68,20 @@ export function FilesPage() {
       }),
     [view],
   );
-  const open = useCallback((index: number) => items[index] && void navigate(`/files/${items[index].id}`), [items, navigate]);
-  const toggleAt = useCallback((index: number) => items[index] && toggle(items[index].id), [items, toggle]);
+  const open = useCallback(
+    (index: number) => {
+      const file = items[index];
+      if (file) void navigate(`/files/${file.id}`);
+    },
+    [items, navigate],
+  );
+  const toggleAt = useCallback(
+    (index: number) => {
+      const file = items[index];
+      if (file) toggle(file.id);
+    },
+    [items, toggle],
+  );
   useListKeyboard({ count: items.length, activeIndex, onMove: move, onOpen: open, onToggle: canReview ? toggleAt : undefined });
 
   const toggleAll = () => {
