@@ -1,6 +1,6 @@
 /**
- * Findings about the file itself rather than its audio: a data chunk shorter than claimed, and float
- * samples that were NaN/±Inf. The reader reports the facts; callers add these to the file's findings.
+ * Findings about the file itself rather than its audio: a data chunk shorter than claimed or whose size was
+ * never written (both `truncated`), and float samples that were NaN/±Inf. The reader reports the facts; callers add these to the file's findings.
  */
 import type { Finding } from "../types/report.ts";
 import type { WavLayout } from "./wavLayout.ts";
@@ -14,11 +14,28 @@ export interface NonFiniteCount {
 const seconds = (frames: number, rateHz: number): number => frames / rateHz;
 
 export function readerFindings(
-  layout: Pick<WavLayout, "isTruncated" | "claimedDataBytes" | "dataBytes" | "totalFrames" | "sampleRateHz" | "blockAlign">,
+  layout: Pick<
+    WavLayout,
+    "isTruncated" | "isDataSizeUnwritten" | "claimedDataBytes" | "dataBytes" | "totalFrames" | "sampleRateHz" | "blockAlign"
+  >,
   decoded: NonFiniteCount,
 ): Finding[] {
   const findings: Finding[] = [];
-  if (layout.isTruncated) {
+  if (layout.isDataSizeUnwritten) {
+    // Measured to the end of the file, but how much is missing cannot be known: the finding ends where the audio does.
+    const presentSeconds = seconds(layout.totalFrames, layout.sampleRateHz);
+    const field = layout.claimedDataBytes === 0xffffffff ? "0xFFFFFFFF" : String(layout.claimedDataBytes);
+    findings.push({
+      code: "truncated",
+      severity: "fail",
+      channel: null,
+      startSeconds: presentSeconds,
+      endSeconds: presentSeconds,
+      message:
+        `data chunk size field holds ${field}, never filled in (recording not closed properly): ` +
+        `${presentSeconds.toFixed(3)} s measured to the end of the file; its end may be missing`,
+    });
+  } else if (layout.isTruncated) {
     const claimedFrames = Math.floor(layout.claimedDataBytes / layout.blockAlign);
     const presentSeconds = seconds(layout.totalFrames, layout.sampleRateHz);
     findings.push({

@@ -44,6 +44,12 @@ export interface WavLayout {
   totalFrames: number;
   /** The data chunk is shorter in the file than its header claims. */
   isTruncated: boolean;
+  /**
+   * The data size was never written: it holds 0 with audio bytes after it, or RIFF's 0xFFFFFFFF placeholder
+   * past the end of the file (a recorder that stopped before closing the file). The data then runs to the
+   * end of the file.
+   */
+  isDataSizeUnwritten: boolean;
   /** dwChannelMask of WAVE_FORMAT_EXTENSIBLE, else null. */
   channelMask: number | null;
   fileSizeBytes: number;
@@ -64,11 +70,18 @@ export const MAX_CODING_HISTORY_BYTES = 64 * 1024;
 const FMT_READ_BYTES = 40;
 /** RF64 (EBU Tech 3306) marks sizes kept in ds64 with 0xFFFFFFFF. */
 const SIZE_IN_DS64 = 0xffffffff;
+/**
+ * The largest fmt body that can be real: an 18-byte WAVEFORMATEX plus a 16-bit cbSize of extra bytes. A file
+ * ending inside a fmt chunk that claims no more is cut short; one claiming more has a lying size field.
+ */
+const MAX_REAL_FMT_BYTES = 18 + 0xffff;
+/** A ds64 table with more entries than the walk visits chunks cannot describe this file. */
+const MAX_REAL_DS64_BYTES = 28 + 12 * MAX_CHUNKS;
 
 interface WalkState {
   fmt: FmtChunk | null;
   ds64: Ds64Chunk | null;
-  data: { offset: number; claimedBytes: number } | null;
+  data: { offset: number; claimedBytes: number; isSizeUnwritten: boolean } | null;
   hasBext: boolean;
   metadata: FileMetadata;
   info: Record<string, string>;
@@ -112,16 +125,13 @@ export async function readWavLayout(source: ByteSource): Promise<WavLayout> {
   };
   await walkChunks(reader, fileSize, isRf64, state);
 
-  if (!state.fmt) {
-    throw new WavFormatError("no-fmt-chunk", `no "fmt " chunk among ${state.chunks.length} chunks`);
-  }
-  if (!state.data) {
-    throw new WavFormatError("no-data-chunk", `no "data" chunk among ${state.chunks.length} chunks`);
-  }
+  const among = state.chunks.length >= MAX_CHUNKS ? `in the first ${MAX_CHUNKS} chunks (the walk stops there)` : `among ${state.chunks.length} chunks`;
+  if (!state.fmt) throw new WavFormatError("no-fmt-chunk", `no "fmt " chunk ${among}`);
+  if (!state.data) throw new WavFormatError("no-data-chunk", `no "data" chunk ${among}`);
   if (Object.keys(state.info).length > 0) state.metadata.info = state.info;
   const fmt = state.fmt;
   const available = fileSize - state.data.offset;
-  const dataBytes = Math.min(state.data.claimedBytes, available);
+  const dataBytes = state.data.isSizeUnwritten ? available : Math.min(state.data.claimedBytes, available);
   return {
     container: isRf64 ? "rf64" : state.hasBext ? "bwf" : "wav",
     encoding: fmt.encoding,
@@ -136,6 +146,7 @@ export async function readWavLayout(source: ByteSource): Promise<WavLayout> {
     claimedDataBytes: state.data.claimedBytes,
     totalFrames: Math.floor(dataBytes / fmt.blockAlign),
     isTruncated: state.data.claimedBytes > available,
+    isDataSizeUnwritten: state.data.isSizeUnwritten,
     channelMask: fmt.channelMask,
     fileSizeBytes: fileSize,
     metadata: state.metadata,
@@ -163,14 +174,15 @@ async function walkChunks(reader: ByteSource, fileSize: number, isRf64: boolean,
     const remaining = fileSize - bodyOffset;
 
     if (id === "data") {
-      if (!state.data) state.data = { offset: bodyOffset, claimedBytes: size };
-      // A truncated data chunk is measured on what is there; nothing can follow it.
-      if (size > remaining) return;
+      const isSizeUnwritten = await isUnwrittenDataSize(reader, fileSize, bodyOffset, size, isRf64 ? null : sizeField);
+      if (!state.data) state.data = { offset: bodyOffset, claimedBytes: size, isSizeUnwritten };
+      // A truncated data chunk is measured on what is there; nothing can follow it, nor an unfinished one.
+      if (size > remaining || isSizeUnwritten) return;
     } else if (size > remaining) {
-      if (id === "fmt " && !state.fmt) {
+      if (id === "fmt " && !state.fmt && size > MAX_REAL_FMT_BYTES) {
         throw new WavFormatError("bad-fmt-chunk", `fmt chunk claims ${size} bytes; only ${remaining} remain in the file`);
       }
-      if (id === "ds64") {
+      if (id === "ds64" && size > MAX_REAL_DS64_BYTES) {
         throw new WavFormatError("bad-ds64", `ds64 chunk claims ${size} bytes; only ${remaining} remain in the file`);
       }
       if (state.data && state.fmt) return;
@@ -183,6 +195,34 @@ async function walkChunks(reader: ByteSource, fileSize: number, isRf64: boolean,
     }
     at = await nextChunkOffset(reader, fileSize, bodyOffset, size);
   }
+  // Stopped by the end of the file part-way into a chunk header, before the header was complete.
+  if (at < fileSize && at + 8 > fileSize && !(state.fmt && state.data) && state.chunks.length < MAX_CHUNKS) {
+    throw new WavFormatError("truncated", `file ends inside a chunk header at byte ${at} (${fileSize - at} of 8 bytes present)`);
+  }
+}
+
+/**
+ * A recorder that stops before closing the file never fills in the data size: it stays 0 (with audio after
+ * it instead of a next chunk) or RIFF's 0xFFFFFFFF placeholder, larger than the file. `riffSizeField` is the
+ * 32-bit field of a RIFF file, null in RF64 (where 0xFFFFFFFF means "see ds64").
+ */
+async function isUnwrittenDataSize(
+  reader: ByteSource,
+  fileSize: number,
+  bodyOffset: number,
+  size: number,
+  riffSizeField: number | null,
+): Promise<boolean> {
+  const remaining = fileSize - bodyOffset;
+  // An odd size can only be whole frames of 8-bit mono, so a data chunk of exactly 0xFFFFFFFF bytes is not real
+  // unless the file holds exactly that (plus the pad byte).
+  if (riffSizeField === SIZE_IN_DS64) return remaining !== size && remaining !== size + 1;
+  if (size !== 0 || remaining <= 0) return false;
+  // Too short to be a chunk header: the bytes after the header can only be (a little) audio.
+  if (remaining < 8) return true;
+  // An empty data chunk followed by a real chunk (LIST, fmt after data) is a valid, silent file.
+  const next = await reader.readAt(bodyOffset, 8);
+  return !(isPrintableFourCC(next, 0) && readUint32(next, 4) <= remaining - 8);
 }
 
 function sizeFromDs64(id: string, ds64: Ds64Chunk | null): number {
