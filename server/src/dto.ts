@@ -13,6 +13,7 @@ import type {
   UserDto,
   UserRefDto,
 } from "@tidemark/shared/types/api";
+import type { FileListRow } from "./services/fileList.ts";
 import type { ApiToken, AuditEntry, Batch, Collection, Comment, FileResult, Finding, ReviewEvent, User } from "./models/index.ts";
 
 const iso = (d: Date): string => d.toISOString();
@@ -57,6 +58,23 @@ export const toFileSummaryDto = (f: FileResult): FileSummaryDto => ({
   truePeakDbtp: f.truePeakDbtp,
   hasSpectrogram: f.spectrogramKey !== null,
   createdAt: iso(f.createdAt),
+});
+
+/** The list query's raw row (services/fileList.ts) → the same DTO. */
+export const toFileSummaryDtoFromRow = (r: FileListRow): FileSummaryDto => ({
+  id: r.id,
+  batchId: r.batch_id,
+  collection: { id: r.collection_id, name: r.collection_name },
+  path: r.path,
+  durationSeconds: r.duration_seconds,
+  format: r.format,
+  verdict: r.verdict,
+  reviewState: r.review_state,
+  worstFindings: r.worst_findings,
+  integratedLufs: r.integrated_lufs,
+  truePeakDbtp: r.true_peak_dbtp,
+  hasSpectrogram: r.has_spectrogram,
+  createdAt: iso(r.created_at),
 });
 
 export const toFindingDto = (f: Finding): FindingDto => ({

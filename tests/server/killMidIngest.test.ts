@@ -52,7 +52,7 @@ function uploadForm(): FormData {
   form.append("collection", "Lighthouse Choir Reels");
   form.append("batchKey", "big-night-transfer");
   form.append("report", new Blob([JSON.stringify(report)], { type: "application/json" }), "report.json");
-  for (let i = 0; i < IMAGES; i++) form.append("spectrogram", new Blob([pngBytes(64, 16)], { type: "image/png" }), `${i}.png`);
+  for (let i = 0; i < IMAGES; i++) form.append("spectrogram", new Blob([new Uint8Array(pngBytes(64, 16))], { type: "image/png" }), `${i}.png`);
   return form;
 }
 

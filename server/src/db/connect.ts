@@ -26,9 +26,10 @@ export function connectDatabase(url: string, options: DatabaseOptions = {}): Dat
     dialectOptions: { application_name: "tidemark-server", connectionTimeoutMillis: 3_000, statement_timeout: 60_000 },
     define: { underscored: true },
   });
+  // Every cookie-authenticated request reads its session here first: as wide as the main pool.
   const sessionPool = new pg.Pool({
     connectionString: url,
-    max: 4,
+    max: options.poolMax ?? 10,
     connectionTimeoutMillis: 3_000,
     application_name: "tidemark-sessions",
   });

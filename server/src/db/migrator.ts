@@ -36,7 +36,8 @@ export function createMigrator(sequelize: Sequelize, log?: (line: string) => voi
       },
     },
     context: { sequelize },
-    storage: new SequelizeStorage({ sequelize }),
+    // Named explicitly: a Sequelize instance with `underscored` would otherwise look for "sequelize_meta".
+    storage: new SequelizeStorage({ sequelize, tableName: "SequelizeMeta" }),
     logger: log
       ? {
           info: (m) => log(`migrations: ${String(m.event ?? "")} ${String(m.name ?? "")}`.trim()),

@@ -2,12 +2,13 @@ import { Router, type RequestHandler } from "express";
 import { z } from "zod";
 import { REVIEW_STATES, type FileSummaryDto, type Page } from "@tidemark/shared/types/api";
 import type { AppContext } from "../context.ts";
-import { toFileSummaryDto } from "../dto.ts";
+import { toFileSummaryDto, toFileSummaryDtoFromRow } from "../dto.ts";
 import { notFound } from "../errors.ts";
 import { requirePermission } from "../middleware/auth.ts";
 import { loadFileResult } from "../middleware/loadEntity.ts";
 import { fileDetail } from "../services/fileDetail.ts";
 import { fileQuerySchema, listFiles } from "../services/fileList.ts";
+import { createListTotals } from "../services/listTotals.ts";
 import { changeReviewState } from "../services/review.ts";
 import { ObjectNotFoundError } from "../storage/ObjectStore.ts";
 import type { ImageKind } from "../storage/objectKeys.ts";
@@ -24,11 +25,12 @@ const bulkReviewSchema = z
 
 export function filesRouter(ctx: AppContext): Router {
   const router = Router();
+  const totals = createListTotals(ctx.sequelize);
 
   router.get("/files", requirePermission("view"), async (req, res) => {
     const query = parseWith(fileQuerySchema, req.query, "query");
-    const { rows, total } = await listFiles(query);
-    const body: Page<FileSummaryDto> = { items: rows.map(toFileSummaryDto), total, page: query.page, pageSize: query.pageSize };
+    const { rows, total } = await listFiles(ctx.sequelize, query, totals);
+    const body: Page<FileSummaryDto> = { items: rows.map(toFileSummaryDtoFromRow), total, page: query.page, pageSize: query.pageSize };
     res.json(body);
   });
 

@@ -1,12 +1,14 @@
 /**
  * The Files table query: filters and sorts on columns copied out of the report at ingest, each backed by
  * an index (migrations/…create-file-results.ts), so pages stay fast at 100 k rows.
+ * NULL (a quiet −∞ level, or no duration for an unreadable file) sorts as the smallest value: first when
+ * ascending, last when descending, which is also one index scanned either way.
  */
-import { Op, type Order, type WhereOptions } from "sequelize";
+import { QueryTypes, type Sequelize } from "sequelize";
 import { z } from "zod";
-import { FILE_SORT_KEYS, REVIEW_STATES, type FileSortKey } from "@tidemark/shared/types/api";
-import { FINDING_CODES, VERDICTS } from "@tidemark/shared/types/report";
-import { Collection, FileResult } from "../models/index.ts";
+import { FILE_SORT_KEYS, REVIEW_STATES, type FileSortKey, type FindingSummaryDto, type ReviewState } from "@tidemark/shared/types/api";
+import { FINDING_CODES, VERDICTS, type AudioFormat, type Verdict } from "@tidemark/shared/types/report";
+import type { ListTotals } from "./listTotals.ts";
 import { blankToUndefined, optionalEnum, optionalId, orderParam, pageParams } from "../queryParams.ts";
 
 export const fileQuerySchema = z
@@ -25,66 +27,95 @@ export const fileQuerySchema = z
 
 export type FileListQuery = z.infer<typeof fileQuerySchema>;
 
-/** Everything the list shows; the heavy JSON (metrics, metadata) stays in the table. */
-export const LIST_ATTRIBUTES = [
-  "id",
-  "batchId",
-  "collectionId",
-  "path",
-  "durationSeconds",
-  "format",
-  "verdict",
-  "reviewState",
-  "worstFindings",
-  "integratedLufs",
-  "truePeakDbtp",
-  "spectrogramKey",
-  "createdAt",
-] as const;
-
 const NULLABLE_SORTS = new Set<FileSortKey>(["durationSeconds", "integratedLufs", "truePeakDbtp"]);
 
 /** LIKE wildcards in the search text are literal characters. */
 const escapeLike = (s: string): string => s.replace(/[\\%_]/g, (c) => `\\${c}`);
 
-export function fileWhere(query: Pick<FileListQuery, "batch" | "collection" | "verdict" | "reviewState" | "finding" | "q">): WhereOptions<FileResult> {
-  const where: Record<string | symbol, unknown> = {};
-  if (query.batch) where.batchId = query.batch;
-  if (query.collection) where.collectionId = query.collection;
-  if (query.verdict) where.verdict = query.verdict;
-  if (query.reviewState) where.reviewState = query.reviewState;
-  if (query.finding) where.findingCodes = { [Op.contains]: [query.finding] };
-  if (query.q) where.path = { [Op.iLike]: `%${escapeLike(query.q)}%` };
-  return where as WhereOptions<FileResult>;
+/** One row of the list query (snake_case, as PostgreSQL returns it). */
+export interface FileListRow {
+  id: number;
+  batch_id: number;
+  collection_id: number;
+  collection_name: string;
+  path: string;
+  duration_seconds: number | null;
+  format: AudioFormat | null;
+  verdict: Verdict;
+  review_state: ReviewState;
+  worst_findings: FindingSummaryDto[];
+  integrated_lufs: number | null;
+  true_peak_dbtp: number | null;
+  has_spectrogram: boolean;
+  created_at: Date;
+}
+
+const SORT_COLUMNS: Record<FileSortKey, string> = {
+  path: "path",
+  durationSeconds: "duration_seconds",
+  verdict: "verdict",
+  reviewState: "review_state",
+  integratedLufs: "integrated_lufs",
+  truePeakDbtp: "true_peak_dbtp",
+  createdAt: "created_at",
+};
+
+/**
+ * WHERE clause and bind values. Column names come from this code, values only ever as bind parameters.
+ * Hand-written rather than through model finders: this is the hottest query, and model instances cost
+ * more than the query itself at 50 rows a page.
+ */
+function listConditions(query: FileListQuery): { sql: string; bind: unknown[] } {
+  const bind: unknown[] = [];
+  const conds: string[] = [];
+  const add = (sql: (n: string) => string, value: unknown): void => {
+    bind.push(value);
+    conds.push(sql(`$${bind.length}`));
+  };
+  if (query.batch) add((n) => `f.batch_id = ${n}`, query.batch);
+  if (query.collection) add((n) => `f.collection_id = ${n}`, query.collection);
+  if (query.verdict) add((n) => `f.verdict = ${n}::verdict`, query.verdict);
+  if (query.reviewState) add((n) => `f.review_state = ${n}::review_state`, query.reviewState);
+  if (query.finding) add((n) => `f.finding_codes @> array[${n}::text]`, query.finding);
+  if (query.q) add((n) => `f.path ilike ${n}`, `%${escapeLike(query.q)}%`);
+  return { sql: conds.length ? `where ${conds.join(" and ")}` : "", bind };
+}
+
+function orderSql(sort: FileSortKey, order: "asc" | "desc"): string {
+  const nulls = NULLABLE_SORTS.has(sort) ? (order === "asc" ? " nulls first" : " nulls last") : "";
+  return `order by f.${SORT_COLUMNS[sort]} ${order}${nulls}, f.id ${order}`;
 }
 
 /**
- * NULL (a quiet −∞ level, or no duration for an unreadable file) sorts as the smallest value: first when
- * ascending, last when descending. That is also one index scanned either way.
+ * One page of the list. The total comes first (cached, see listTotals.ts), so a page past the middle is
+ * read from the far end in the opposite order and reversed: the last page costs what the first does.
  */
-export function fileOrder(sort: FileSortKey, order: "asc" | "desc"): Order {
-  const dir = order.toUpperCase() as "ASC" | "DESC";
-  const nulls = NULLABLE_SORTS.has(sort) ? (dir === "ASC" ? " NULLS FIRST" : " NULLS LAST") : "";
-  return [
-    [sort, `${dir}${nulls}`],
-    ["id", dir],
-  ];
-}
-
-export async function listFiles(query: FileListQuery): Promise<{ rows: FileResult[]; total: number }> {
-  const where = fileWhere(query);
+export async function listFiles(sequelize: Sequelize, query: FileListQuery, totals: ListTotals): Promise<{ rows: FileListRow[]; total: number }> {
   const sort = query.sort ?? "createdAt";
   const order = query.order ?? (query.sort ? "asc" : "desc");
-  const [total, rows] = await Promise.all([
-    FileResult.count({ where }),
-    FileResult.findAll({
-      where,
-      attributes: [...LIST_ATTRIBUTES],
-      include: [{ model: Collection, as: "collection", attributes: ["id", "name"] }],
-      order: fileOrder(sort, order),
-      limit: query.pageSize,
-      offset: (query.page - 1) * query.pageSize,
-    }),
-  ]);
+  const where = listConditions(query);
+  const filterKey = JSON.stringify([query.batch, query.collection, query.verdict, query.reviewState, query.finding, query.q]);
+  const total = await totals.count(filterKey, () =>
+    sequelize
+      .query<{ n: string }>(`select count(*) as n from file_results f ${where.sql}`, { bind: where.bind, type: QueryTypes.SELECT })
+      .then(([row]) => Number(row.n)),
+  );
+  const offset = (query.page - 1) * query.pageSize;
+  if (offset >= total) return { rows: [], total };
+  const limit = Math.min(query.pageSize, total - offset);
+  const fromEnd = total - offset - limit;
+  const flipped = fromEnd < offset;
+  const bind = [...where.bind, limit, flipped ? fromEnd : offset];
+  const rows = await sequelize.query<FileListRow>(
+    `select f.id, f.batch_id, f.collection_id, c.name as collection_name, f.path, f.duration_seconds, f.format, f.verdict,
+            f.review_state, f.worst_findings, f.integrated_lufs, f.true_peak_dbtp, f.spectrogram_key is not null as has_spectrogram,
+            f.created_at
+       from file_results f join collections c on c.id = f.collection_id
+       ${where.sql}
+       ${orderSql(sort, flipped ? (order === "asc" ? "desc" : "asc") : order)}
+       limit $${bind.length - 1} offset $${bind.length}`,
+    { bind, type: QueryTypes.SELECT },
+  );
+  if (flipped) rows.reverse();
   return { rows, total };
 }
