@@ -5,7 +5,7 @@
  * through the API as the supervisor and the technician would make them.
  */
 import { spawn } from "node:child_process";
-import { existsSync, mkdtempSync, readdirSync, rmSync, statSync } from "node:fs";
+import { existsSync, mkdirSync, mkdtempSync, readdirSync, rmSync, statSync } from "node:fs";
 import { tmpdir } from "node:os";
 import path from "node:path";
 import { CSRF_HEADER, type FileSummaryDto, type Page } from "@tidemark/shared/types/api";
@@ -20,7 +20,7 @@ export interface SeedDemoOptions {
   /** Where the running server answers (the CLI uploads there). */
   baseUrl: string;
   password?: string;
-  /** Folder with one sub-folder per collection; made by examples/make-demo-archive.ts when missing. */
+  /** Folder with one sub-folder per collection (default examples/audio/archive); made by examples/make-demo-archive.ts when missing. */
   archiveDir?: string;
   passwordCost?: ScryptCost;
   log?: (line: string) => void;
@@ -47,11 +47,11 @@ function collectionFolders(archiveDir: string): string[] {
     .sort();
 }
 
-function makeArchive(log: (line: string) => void): Promise<void> {
+function makeArchive(archiveDir: string, log: (line: string) => void): Promise<void> {
   if (!existsSync(ARCHIVE_SCRIPT)) return Promise.reject(new Error(`no demo archive and no ${path.relative(projectRoot, ARCHIVE_SCRIPT)} to make one`));
   log("synthesising the demo archive (examples/make-demo-archive.ts)");
   return new Promise((resolve, reject) => {
-    const child = spawn(process.execPath, ["--import", "tsx", ARCHIVE_SCRIPT], { cwd: projectRoot, stdio: ["ignore", "ignore", "pipe"] });
+    const child = spawn(process.execPath, ["--import", "tsx", ARCHIVE_SCRIPT, archiveDir], { cwd: projectRoot, stdio: ["ignore", "ignore", "pipe"] });
     let stderr = "";
     child.stderr.on("data", (c: Buffer) => (stderr = (stderr + c.toString()).slice(-4000)));
     child.on("error", reject);
@@ -122,8 +122,8 @@ export async function seedDemo(options: SeedDemoOptions): Promise<SeedDemoResult
   await AuditEntry.create({ actorId: null, action: "seed.demo", targetType: "system", targetId: null, requestId: null, details: { users: Object.keys(users) } });
   const { plaintext } = await createApiToken(users.technician.id, "demo seed (tidemark scan --upload)");
 
-  const archiveDir = options.archiveDir ?? path.join(projectRoot, "examples", "audio");
-  if (collectionFolders(archiveDir).length === 0) await makeArchive(log);
+  const archiveDir = options.archiveDir ?? path.join(projectRoot, "examples", "audio", "archive");
+  if (collectionFolders(archiveDir).length === 0) await makeArchive(archiveDir, log);
   const folders = collectionFolders(archiveDir);
   if (folders.length === 0) throw new Error(`the demo archive ${archiveDir} has no collection folders`);
 
@@ -134,6 +134,7 @@ export async function seedDemo(options: SeedDemoOptions): Promise<SeedDemoResult
       const collection = collectionNameFor(folder);
       const slug = folder.toLowerCase().replace(/[^a-z0-9]+/g, "-");
       const out = path.join(work, slug);
+      mkdirSync(out, { recursive: true });
       const run = await runCli(
         [
           "scan", path.join(archiveDir, folder),
