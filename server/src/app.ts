@@ -86,7 +86,10 @@ export function createApp(deps: AppDeps): Express {
   app.disable("x-powered-by");
   app.set("trust proxy", settings.trustProxy);
   app.use(requestId);
-  app.use(helmet());
+  // Helmet's defaults, except that plain-HTTP deployments (the loopback demo) must not ask browsers to
+  // upgrade every asset request to HTTPS.
+  const behindTls = settings.publicUrl.startsWith("https:");
+  app.use(helmet({ contentSecurityPolicy: { directives: { upgradeInsecureRequests: behindTls ? [] : null } } }));
 
   const api = Router();
   // Health first: it must answer (503) while the database, and so the session store, is away.
