@@ -84,7 +84,7 @@ class WindowAccumulator implements LevelWindowAccumulator {
       const v = x[i];
       sum += v;
       sumSquares += v * v;
-      const a = v < 0 ? -v : v;
+      const a = Math.abs(v);
       if (a > peak) {
         peak = a;
         peakAt = i;
@@ -118,12 +118,13 @@ class WindowAccumulator implements LevelWindowAccumulator {
       sqX += u * u;
       sqY += v * v;
       xy += u * v;
-      const a = u < 0 ? -u : u;
+      // Math.abs is a bit mask; `u < 0 ? -u : u` is a branch that noise mispredicts half the time.
+      const a = Math.abs(u);
       if (a > peakX) {
         peakX = a;
         atX = i;
       }
-      const b = v < 0 ? -v : v;
+      const b = Math.abs(v);
       if (b > peakY) {
         peakY = b;
         atY = i;
