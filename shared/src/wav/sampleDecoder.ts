@@ -3,7 +3,8 @@
  * 2^(bits−1) of the container (WAVE_FORMAT_EXTENSIBLE left-justifies valid bits, so that is exact),
  * 8-bit unsigned re-centred on 128. Float NaN/±Inf (and float64 values beyond float32 range) become 0
  * and are counted. Hot loops index typed arrays directly; aligned 16/32-bit and float data are read
- * through typed-array views of the caller's bytes, 24-bit by byte assembly.
+ * through typed-array views of the caller's bytes; 24-bit mono and stereo, four samples from three aligned
+ * 32-bit words, other 24-bit layouts by byte assembly.
  */
 import type { Encoding } from "../types/report.ts";
 
@@ -77,7 +78,8 @@ class InterleavedDecoder implements SampleDecoder {
         } else decodeInt16Bytes(bytes, byteOffset, frames, this.channels, out, outOffset);
         return;
       case 24:
-        decodeInt24Bytes(bytes, byteOffset, frames, this.channels, out, outOffset);
+        if (IS_LITTLE_ENDIAN && this.channels <= 2) decodeInt24Words(bytes, byteOffset, frames, this.channels, out, outOffset);
+        else decodeInt24Bytes(bytes, byteOffset, frames, this.channels, out, outOffset);
         return;
       default:
         if (IS_LITTLE_ENDIAN && (address & 3) === 0) {
@@ -196,6 +198,56 @@ function decodeInt24Bytes(b: Uint8Array, at: number, frames: number, channels: n
       dst[o + i] = (((b[j] | (b[j + 1] << 8) | (b[j + 2] << 16)) << 8) >> 8) * SCALE_24;
     }
   }
+}
+
+/**
+ * Mono or stereo 24-bit: 12 bytes (4 samples) from 3 aligned little-endian words w0 w1 w2, i.e. samples
+ * w0[0:24], w0[24:32]|w1[0:16], w1[16:32]|w2[0:8], w2[8:32]: 3 loads instead of 12. Frames before the
+ * first aligned word and after the last whole group go through the byte path. Values are the same.
+ */
+function decodeInt24Words(b: Uint8Array, at: number, frames: number, channels: number, out: Float32Array[], o: number): void {
+  const address = b.byteOffset + at;
+  // A group is 4 samples: 4 mono frames or 2 stereo frames. Stereo frames are 6 bytes, so an address ≡ 2 (mod 4)
+  // becomes aligned after one frame; mono needs up to 3. Odd addresses never align.
+  const framesPerGroup = 4 / channels;
+  let lead = 0;
+  while (lead < frames && (address + lead * 3 * channels) % 4 !== 0 && lead < framesPerGroup) lead++;
+  if ((address + lead * 3 * channels) % 4 !== 0) {
+    decodeInt24Bytes(b, at, frames, channels, out, o);
+    return;
+  }
+  if (lead > 0) decodeInt24Bytes(b, at, Math.min(lead, frames), channels, out, o);
+  const groups = Math.floor((frames - lead) / framesPerGroup);
+  if (groups > 0) {
+    const w = new Int32Array(b.buffer, address + lead * 3 * channels, groups * 3);
+    const first = o + lead;
+    if (channels === 2) {
+      const l = out[0];
+      const r = out[1];
+      for (let g = 0, k = 0, i = first; g < groups; g++, k += 3, i += 2) {
+        const w0 = w[k];
+        const w1 = w[k + 1];
+        const w2 = w[k + 2];
+        l[i] = ((w0 << 8) >> 8) * SCALE_24;
+        r[i] = (((w1 << 16) >> 8) | (w0 >>> 24)) * SCALE_24;
+        l[i + 1] = (((w2 << 24) >> 8) | (w1 >>> 16)) * SCALE_24;
+        r[i + 1] = (w2 >> 8) * SCALE_24;
+      }
+    } else {
+      const m = out[0];
+      for (let g = 0, k = 0, i = first; g < groups; g++, k += 3, i += 4) {
+        const w0 = w[k];
+        const w1 = w[k + 1];
+        const w2 = w[k + 2];
+        m[i] = ((w0 << 8) >> 8) * SCALE_24;
+        m[i + 1] = (((w1 << 16) >> 8) | (w0 >>> 24)) * SCALE_24;
+        m[i + 2] = (((w2 << 24) >> 8) | (w1 >>> 16)) * SCALE_24;
+        m[i + 3] = (w2 >> 8) * SCALE_24;
+      }
+    }
+  }
+  const done = lead + groups * framesPerGroup;
+  if (done < frames) decodeInt24Bytes(b, at + done * 3 * channels, frames - done, channels, out, o + done);
 }
 
 function decodeInt32View(v: Int32Array, frames: number, channels: number, out: Float32Array[], o: number): void {
