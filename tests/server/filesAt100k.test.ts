@@ -70,3 +70,23 @@ it(`answers every sort and filter with p95 < ${P95_LIMIT_MS} ms`, async () => {
   console.info(`GET /api/files at ${ROWS} rows, ${SAMPLES} sequential requests each (load average ${loadavg()[0].toFixed(1)}):\n${results.join("\n")}`);
   expect(slow).toEqual([]);
 }, 180_000);
+
+it("returns the same pages as a plain ORDER BY, filter-first or not, including flipped last pages", async () => {
+  const cases: [string, string, string][] = [
+    // [API query, SQL where, SQL order]
+    ["finding=hum&sort=verdict&order=asc", "finding_codes @> array['hum']", "verdict asc, id asc"],
+    ["verdict=pass&sort=truePeakDbtp&order=desc", "verdict = 'pass'", "true_peak_dbtp desc nulls last, id desc"],
+    ["sort=integratedLufs&order=asc", "true", "integrated_lufs asc nulls first, id asc"],
+  ];
+  for (const [query, where, order] of cases) {
+    const first = await agent.get(`/api/files?${query}&pageSize=50&page=1`);
+    const total = first.body.total as number;
+    const lastPage = Math.ceil(total / 50);
+    const last = await agent.get(`/api/files?${query}&pageSize=50&page=${lastPage}`);
+    const [expectedFirst] = await t.db.sequelize.query(`select id from file_results where ${where} order by ${order} limit 50`);
+    const [expectedLast] = await t.db.sequelize.query(`select id from file_results where ${where} order by ${order} limit 50 offset ${(lastPage - 1) * 50}`);
+    const ids = (rows: unknown) => (rows as { id: number }[]).map((r) => r.id);
+    expect(ids(first.body.items), query).toEqual(ids(expectedFirst));
+    expect(ids(last.body.items), `${query} last page`).toEqual(ids(expectedLast));
+  }
+});

@@ -81,10 +81,21 @@ function listConditions(query: FileListQuery): { sql: string; bind: unknown[] } 
   return { sql: conds.length ? `where ${conds.join(" and ")}` : "", bind };
 }
 
-function orderSql(sort: FileSortKey, order: "asc" | "desc"): string {
+function orderSql(column: string, id: string, sort: FileSortKey, order: "asc" | "desc"): string {
   const nulls = NULLABLE_SORTS.has(sort) ? (order === "asc" ? " nulls first" : " nulls last") : "";
-  return `order by f.${SORT_COLUMNS[sort]} ${order}${nulls}, f.id ${order}`;
+  return `order by ${column} ${order}${nulls}, ${id} ${order}`;
 }
+
+const LIST_COLUMNS = `f.id, f.batch_id, f.collection_id, c.name as collection_name, f.path, f.duration_seconds, f.format, f.verdict,
+  f.review_state, f.worst_findings, f.integrated_lufs, f.true_peak_dbtp, f.spectrogram_key is not null as has_spectrogram, f.created_at`;
+
+/**
+ * Below this many matches a filtered page is read "filter first": the matching rows' ids and sort
+ * values are collected through the filter's own index, then sorted. Left to itself the planner would
+ * often walk the sort index and discard non-matching rows, which is slow when the matches sit late in
+ * that order (e.g. finding=hum sorted by verdict skips every passing file first: 45 ms against 13 ms).
+ */
+const FILTER_FIRST_MAX = 6_000;
 
 /**
  * One page of the list. The total comes first (cached, see listTotals.ts), so a page past the middle is
@@ -105,17 +116,23 @@ export async function listFiles(sequelize: Sequelize, query: FileListQuery, tota
   const limit = Math.min(query.pageSize, total - offset);
   const fromEnd = total - offset - limit;
   const flipped = fromEnd < offset;
+  const pageOrder = flipped ? (order === "asc" ? "desc" : "asc") : order;
   const bind = [...where.bind, limit, flipped ? fromEnd : offset];
-  const rows = await sequelize.query<FileListRow>(
-    `select f.id, f.batch_id, f.collection_id, c.name as collection_name, f.path, f.duration_seconds, f.format, f.verdict,
-            f.review_state, f.worst_findings, f.integrated_lufs, f.true_peak_dbtp, f.spectrogram_key is not null as has_spectrogram,
-            f.created_at
-       from file_results f join collections c on c.id = f.collection_id
-       ${where.sql}
-       ${orderSql(sort, flipped ? (order === "asc" ? "desc" : "asc") : order)}
-       limit $${bind.length - 1} offset $${bind.length}`,
-    { bind, type: QueryTypes.SELECT },
-  );
+  const [limitAt, offsetAt] = [`$${bind.length - 1}`, `$${bind.length}`];
+  const column = SORT_COLUMNS[sort];
+  const sql =
+    where.bind.length > 0 && total <= FILTER_FIRST_MAX
+      ? `with matches as materialized (select f.id, f.${column} as sort_value from file_results f ${where.sql}),
+              page as (select id, sort_value from matches ${orderSql("sort_value", "id", sort, pageOrder)} limit ${limitAt} offset ${offsetAt})
+         select ${LIST_COLUMNS}
+           from page p join file_results f on f.id = p.id join collections c on c.id = f.collection_id
+          ${orderSql("p.sort_value", "p.id", sort, pageOrder)}`
+      : `select ${LIST_COLUMNS}
+           from file_results f join collections c on c.id = f.collection_id
+          ${where.sql}
+          ${orderSql(`f.${column}`, "f.id", sort, pageOrder)}
+          limit ${limitAt} offset ${offsetAt}`;
+  const rows = await sequelize.query<FileListRow>(sql, { bind, type: QueryTypes.SELECT });
   if (flipped) rows.reverse();
   return { rows, total };
 }
