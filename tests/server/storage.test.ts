@@ -1,0 +1,52 @@
+/** The filesystem object store: round trip, listing, and keys that cannot leave its folder. */
+import { existsSync, mkdtempSync, readdirSync, rmSync } from "node:fs";
+import { tmpdir } from "node:os";
+import path from "node:path";
+import { afterAll, describe, expect, it } from "vitest";
+import { createFsStore } from "../../server/src/storage/fsStore.ts";
+import { imageKey, newUploadId } from "../../server/src/storage/objectKeys.ts";
+import { ObjectNotFoundError } from "../../server/src/storage/ObjectStore.ts";
+
+const dir = mkdtempSync(path.join(process.env.TIDEMARK_TEST_TMP ?? tmpdir(), "fsstore-"));
+const root = path.join(dir, "objects");
+afterAll(() => rmSync(dir, { recursive: true, force: true }));
+
+async function read(stream: AsyncIterable<unknown>): Promise<Buffer> {
+  const chunks: Buffer[] = [];
+  for await (const c of stream) chunks.push(c as Buffer);
+  return Buffer.concat(chunks);
+}
+
+describe("fs store", () => {
+  it("puts, gets, lists by prefix and deletes, dropping empty upload folders", async () => {
+    const store = createFsStore(root);
+    const upload = newUploadId();
+    const a = imageKey(upload, 0, "spectrogram");
+    const b = imageKey(upload, 0, "waveform");
+    await store.put(a, Buffer.from("first"), "image/png");
+    await store.put(b, Buffer.from("second"), "image/png");
+    expect((await read(await store.get(a))).toString()).toBe("first");
+    const listed: string[] = [];
+    for await (const o of store.list("images/")) listed.push(o.key);
+    expect(listed.sort()).toEqual([a, b].sort());
+    await store.delete(a);
+    await store.delete(b);
+    await expect(store.get(a)).rejects.toBeInstanceOf(ObjectNotFoundError);
+    expect(existsSync(path.join(root, "images", upload))).toBe(false);
+    expect(readdirSync(path.join(root, "images"))).toEqual([]);
+  });
+
+  it("refuses keys that could escape the folder or hide files", async () => {
+    const store = createFsStore(root);
+    for (const key of ["../outside.png", "/etc/passwd", "images/../../outside.png", "images/./x.png", ".hidden", "images//x.png", "IMAGES/x.png", "images/x.png\u0000"]) {
+      await expect(store.put(key, Buffer.from("x"), "image/png"), key).rejects.toThrow(/unsafe object key/);
+    }
+    expect(existsSync(path.join(dir, "outside.png"))).toBe(false);
+  });
+
+  it("builds image keys only from a server UUID, an index and a fixed kind", () => {
+    expect(imageKey("0b6f4c1e-8f7a-4c3e-9a35-3f5c2f9b8e11", 12, "waveform")).toBe("images/0b6f4c1e-8f7a-4c3e-9a35-3f5c2f9b8e11/12-waveform.png");
+    expect(() => imageKey("../x", 0, "waveform")).toThrow();
+    expect(() => imageKey(newUploadId(), -1, "waveform")).toThrow();
+  });
+});
