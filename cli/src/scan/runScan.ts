@@ -38,6 +38,8 @@ export interface RunScanResult {
 
 /** Per-worker V8 heap cap: far above what one file needs (#8), low enough to stop a runaway. */
 const WORKER_HEAP_LIMIT_MB = 1024;
+/** The worker script beside this module: the TypeScript source, or the bundle's entry in cli/dist (cli/bin/build.mjs). */
+const WORKER_SCRIPT = new URL(import.meta.url.endsWith(".ts") ? "./scanWorker.ts" : "./scanWorker.js", import.meta.url);
 
 async function exists(file: string): Promise<boolean> {
   return access(file).then(
@@ -69,7 +71,7 @@ export async function runScan(options: RunScanOptions): Promise<RunScanResult> {
   const pool: WorkerPool<ScanTask, ScanTaskResult> =
     size === 1
       ? createInlineRunner(context)
-      : createWorkerPool({ size, script: new URL("./scanWorker.ts", import.meta.url), workerData: context, maxOldGenerationSizeMb: WORKER_HEAP_LIMIT_MB });
+      : createWorkerPool({ size, script: WORKER_SCRIPT, workerData: context, maxOldGenerationSizeMb: WORKER_HEAP_LIMIT_MB });
   interruption.onImmediate(() => void pool.terminate());
 
   const measure = async (file: CrawledFile): Promise<{ report: FileReport; seconds: number } | null> => {

@@ -1,7 +1,8 @@
 /**
- * A fixed pool of worker threads, one task at a time each. The workers are TypeScript run through tsx:
- * each starts from a tiny bootstrap that registers tsx's loader and then imports the script (on Node 20,
- * `--import tsx` in a Worker's execArgv does not reach the worker's module loader). A worker that dies
+ * A fixed pool of worker threads, one task at a time each. A TypeScript script (.ts) runs through tsx:
+ * each worker starts from a tiny bootstrap that registers tsx's loader and then imports the script (on
+ * Node 20, `--import tsx` in a Worker's execArgv does not reach the worker's module loader); a JavaScript
+ * one (the prebuilt bundle) is imported as it is. A worker that dies
  * mid-task (crash, out of memory) fails only that task with WorkerCrashError and is replaced; a worker
  * that cannot even start fails every task with the reason, instead of being respawned for ever.
  */
@@ -59,15 +60,12 @@ interface Slot<Task, Result> {
 
 const READY = "tidemark:worker-ready";
 
-/** CommonJS code run with `eval: true`: register tsx, import the script, say so. */
+/** CommonJS code run with `eval: true`: register tsx for a .ts script, import the script, say so. */
 function bootstrapCode(script: URL): string {
-  const tsxApi = JSON.stringify(import.meta.resolve("tsx/esm/api"));
-  return [
-    `const { parentPort } = require("node:worker_threads");`,
-    `import(${tsxApi})`,
-    `  .then((tsx) => { tsx.register(); return import(${JSON.stringify(script.href)}); })`,
-    `  .then(() => parentPort.postMessage(${JSON.stringify(READY)}));`,
-  ].join("\n");
+  const load = script.pathname.endsWith(".ts")
+    ? [`import(${JSON.stringify(import.meta.resolve("tsx/esm/api"))})`, `  .then((tsx) => { tsx.register(); return import(${JSON.stringify(script.href)}); })`]
+    : [`import(${JSON.stringify(script.href)})`];
+  return [`const { parentPort } = require("node:worker_threads");`, ...load, `  .then(() => parentPort.postMessage(${JSON.stringify(READY)}));`].join("\n");
 }
 
 export function createWorkerPool<Task, Result>(options: WorkerPoolOptions): WorkerPool<Task, Result> {
