@@ -81,19 +81,43 @@ export function createDecimator(o: { channels: number; factor: number }): Decima
         const src = block[c];
         const prior = before[c];
         const out = outputs[c];
-        for (let m = 0; m < count; m++) {
-          // y[m] = Σ_j h[j]·x[mD − j], with x[mD] at src[mD − stagedStart].
+        let m = 0;
+        // y[m] = Σ_j h[j]·x[mD − j], with x[mD] at src[mD − stagedStart]; the first few reach back into `prior`.
+        for (; m < count; m++) {
           const at = (first + m) * factor - stagedStart;
+          if (at >= history) break;
           let acc = 0;
-          if (at >= history) {
-            for (let j = 0; j < tapCount; j++) acc += taps[j] * src[at - j];
-          } else {
-            for (let j = 0; j < tapCount; j++) acc += taps[j] * (at - j >= 0 ? src[at - j] : prior[history + at - j]);
-          }
+          for (let j = 0; j < tapCount; j++) acc += taps[j] * (at - j >= 0 ? src[at - j] : prior[history + at - j]);
           out[m] = acc;
+        }
+        if (m === count) continue;
+        const at = (first + m) * factor - stagedStart;
+        if (tapCount === 22) decimate22(src, at, factor, out, m, count, taps);
+        else {
+          for (let i = at; m < count; m++, i += factor) {
+            let acc = 0;
+            for (let j = 0; j < tapCount; j++) acc += taps[j] * src[i - j];
+            out[m] = acc;
+          }
         }
       }
       onOutput({ channels: outputs, frames: count, startFrame: first });
     },
   };
+}
+
+/**
+ * The 22 taps of factor 8 (44.1 and 48 kHz) unrolled, with the taps in locals: several times faster than the
+ * loop in V8. Summed in the loop's order from 0, so the outputs are the same to the bit.
+ */
+function decimate22(src: Float32Array, at: number, step: number, out: Float32Array, m: number, count: number, t: Float64Array): void {
+  const t0 = t[0], t1 = t[1], t2 = t[2], t3 = t[3], t4 = t[4], t5 = t[5], t6 = t[6], t7 = t[7], t8 = t[8], t9 = t[9], t10 = t[10];
+  const t11 = t[11], t12 = t[12], t13 = t[13], t14 = t[14], t15 = t[15], t16 = t[16], t17 = t[17], t18 = t[18], t19 = t[19], t20 = t[20], t21 = t[21];
+  for (let i = at; m < count; m++, i += step) {
+    out[m] =
+      0 + t0 * src[i] + t1 * src[i - 1] + t2 * src[i - 2] + t3 * src[i - 3] + t4 * src[i - 4] + t5 * src[i - 5] + t6 * src[i - 6] +
+      t7 * src[i - 7] + t8 * src[i - 8] + t9 * src[i - 9] + t10 * src[i - 10] + t11 * src[i - 11] + t12 * src[i - 12] +
+      t13 * src[i - 13] + t14 * src[i - 14] + t15 * src[i - 15] + t16 * src[i - 16] + t17 * src[i - 17] + t18 * src[i - 18] +
+      t19 * src[i - 19] + t20 * src[i - 20] + t21 * src[i - 21];
+  }
 }
