@@ -10,7 +10,7 @@ import { judge } from "@tidemark/shared/profiles/judge";
 import type { Profile } from "@tidemark/shared/profiles/profileSchema";
 import { renderSpectrogramImage } from "@tidemark/shared/render/spectrogramImage";
 import { renderWaveformImage } from "@tidemark/shared/render/waveformImage";
-import type { BlockAnalyser } from "@tidemark/shared/types/analysis";
+import type { BlockAnalyser, RgbaImage } from "@tidemark/shared/types/analysis";
 import type { FileReport, Finding, ReportError } from "@tidemark/shared/types/report";
 import type { AnalysisSettings } from "@tidemark/shared/types/settings";
 import { readerFindings } from "@tidemark/shared/wav/readerFindings";
@@ -38,7 +38,23 @@ export interface AnalysedFile {
   audioSeconds: number;
   /** Set when the PNGs could not be written (the measurements still stand). */
   imageError: string | null;
-  timingsMs: { read: number; decode: number; hash: number; analyse: number; render: number };
+  /**
+   * Stage times: waiting for reads, decoding, hashing, the analysers (level and spectral within analyse),
+   * and the images (painting and PNG encoding within render, which also counts writing them).
+   */
+  timingsMs: AnalyseTimings;
+}
+
+export interface AnalyseTimings {
+  read: number;
+  decode: number;
+  hash: number;
+  analyse: number;
+  level: number;
+  spectral: number;
+  render: number;
+  paint: number;
+  png: number;
 }
 
 /** Height of the overview waveform strip, px (its width follows the spectrogram's). */
@@ -59,17 +75,27 @@ async function writeImages(
   target: SpectrogramTarget,
   task: AnalyseTask,
   settings: AnalysisSettings,
+  timings: AnalyseTimings,
 ): Promise<string> {
   const paths = spectrogramPaths(target, task.relPath);
   const { width, height } = settings.spectrogram;
   const markers = findings.filter((f) => f.startSeconds !== null && f.severity !== "info");
+  const png = (paint: () => RgbaImage): Buffer => {
+    const t0 = performance.now();
+    const image = paint();
+    const t1 = performance.now();
+    const bytes = encodePng(image);
+    timings.paint += t1 - t0;
+    timings.png += performance.now() - t1;
+    return bytes;
+  };
   await mkdir(path.dirname(paths.png), { recursive: true });
-  await writeFile(paths.png, encodePng(renderSpectrogramImage(analysed.spectrogram, { width, height, markers, title: task.relPath })));
-  await writeFile(paths.waveform, encodePng(renderWaveformImage(analysed.waveform, { width, height: WAVEFORM_HEIGHT_PX, markers })));
+  await writeFile(paths.png, png(() => renderSpectrogramImage(analysed.spectrogram, { width, height, markers, title: task.relPath })));
+  await writeFile(paths.waveform, png(() => renderWaveformImage(analysed.waveform, { width, height: WAVEFORM_HEIGHT_PX, markers })));
   if (analysed.channelSpectrograms) {
     for (const [c, grid] of analysed.channelSpectrograms.entries()) {
       const title = `${task.relPath} (channel ${c + 1})`;
-      await writeFile(paths.png.replace(/\.png$/, `.ch${c + 1}.png`), encodePng(renderSpectrogramImage(grid, { width, height, markers, title })));
+      await writeFile(paths.png.replace(/\.png$/, `.ch${c + 1}.png`), png(() => renderSpectrogramImage(grid, { width, height, markers, title })));
     }
   }
   return paths.shown;
@@ -77,7 +103,7 @@ async function writeImages(
 
 /** `signal` stops the read mid-file; an aborted file rejects instead of being reported as unreadable. */
 export async function analyseFile(task: AnalyseTask, ctx: ScanContext, signal?: AbortSignal): Promise<AnalysedFile> {
-  const timingsMs = { read: 0, decode: 0, hash: 0, analyse: 0, render: 0 };
+  const timingsMs: AnalyseTimings = { read: 0, decode: 0, hash: 0, analyse: 0, level: 0, spectral: 0, render: 0, paint: 0, png: 0 };
   let analysis: BlockAnalyser<FileAnalysisResult> | null = null;
   let analyseMs = 0;
   let read: AudioFileResult;
@@ -85,7 +111,7 @@ export async function analyseFile(task: AnalyseTask, ctx: ScanContext, signal?: 
     read = await readAudioFile(task.absPath, {
       signal,
       onOpen: (info) => {
-        const a = createFileAnalysis(info.stream, ctx.settings);
+        const a = createFileAnalysis(info.stream, ctx.settings, { clock: () => performance.now() });
         analysis = a;
         return (block) => {
           const t = performance.now();
@@ -112,6 +138,8 @@ export async function analyseFile(task: AnalyseTask, ctx: ScanContext, signal?: 
     return { report: errorReport(task.relPath, read.sizeBytes, reportErrorOf(error, task, "analysis-failed")), audioSeconds: 0, imageError: null, timingsMs };
   }
   timingsMs.analyse = analyseMs;
+  timingsMs.level = analysed.timings.level;
+  timingsMs.spectral = analysed.timings.spectral;
 
   const { format, metadata, layout } = read.info;
   const findings = [...analysed.findings, ...readerFindings(layout, read)];
@@ -122,7 +150,7 @@ export async function analyseFile(task: AnalyseTask, ctx: ScanContext, signal?: 
   if (ctx.spectrograms) {
     const t = performance.now();
     try {
-      spectrogram = await writeImages(analysed, judged.findings, ctx.spectrograms, task, ctx.settings);
+      spectrogram = await writeImages(analysed, judged.findings, ctx.spectrograms, task, ctx.settings, timingsMs);
     } catch (error) {
       imageError = `${task.relPath}: spectrogram not written (${oneLine(error)})`;
     }

@@ -3,6 +3,7 @@
  * With a resume state, a file whose size and mtime match its record is hashed first and its earlier
  * result reused when the SHA-256 matches too; every newly finished file is appended to the state at once.
  */
+import { appendFileSync } from "node:fs";
 import { access } from "node:fs/promises";
 import type { FileReport } from "@tidemark/shared/types/report";
 import { oneLine } from "../errors.ts";
@@ -48,6 +49,12 @@ async function exists(file: string): Promise<boolean> {
   );
 }
 
+/**
+ * For the benchmark (scripts/bench.ts): when set, each measured file's stage times are appended to this
+ * file as one JSON line. Not an option: it is a measuring aid, not part of the command's contract.
+ */
+const STAGE_TIMINGS_ENV = "TIDEMARK_STAGE_TIMINGS";
+
 /** The earlier result may stand only if nothing it depends on has changed. */
 async function reusable(record: ResumeRecord | undefined, file: CrawledFile, context: ScanContext): Promise<boolean> {
   if (!record || record.sizeBytes !== file.sizeBytes || record.mtimeMs !== file.mtimeMs) return false;
@@ -79,6 +86,11 @@ export async function runScan(options: RunScanOptions): Promise<RunScanResult> {
       const result = await pool.run({ kind: "analyse", absPath: file.absPath, relPath: file.relPath, sizeBytes: file.sizeBytes });
       if (result.kind !== "analysed") throw new Error(`expected a measurement, got ${result.kind}`);
       if (result.file.imageError) progress.note(`tidemark: warning: ${result.file.imageError}`);
+      const timingsFile = process.env[STAGE_TIMINGS_ENV];
+      if (timingsFile) {
+        const line = { path: file.relPath, audioSeconds: result.file.audioSeconds, timingsMs: result.file.timingsMs };
+        appendFileSync(timingsFile, `${JSON.stringify(line)}\n`);
+      }
       return { report: result.file.report, seconds: result.file.audioSeconds };
     } catch (error) {
       // Stopped on purpose: the file is simply not done.

@@ -1,6 +1,7 @@
 /**
  * One streaming pass over a file feeds both analysers (levels/loudness and spectral); finish() merges
  * their results into the report's FileMetrics (in the contract's field order) and one sorted finding list.
+ * With a clock (shared/ has no timer of its own), the time each analyser took is measured per block.
  */
 import { createLevelAnalyser } from "../analysis/levelAnalyser.ts";
 import { compareFindings } from "../profiles/judge.ts";
@@ -15,19 +16,43 @@ export interface FileAnalysisResult {
   spectrogram: SpectrogramGrid;
   channelSpectrograms: SpectrogramGrid[] | null;
   waveform: WaveformEnvelope;
+  /** Time in each analyser, push and finish, in the clock's unit (0 without a clock). */
+  timings: { level: number; spectral: number };
 }
 
-export function createFileAnalysis(format: StreamFormat, settings: AnalysisSettings): BlockAnalyser<FileAnalysisResult> {
+export interface FileAnalysisOptions {
+  /** Monotonic time, e.g. () => performance.now(); read four times a block, off the per-sample loops. */
+  clock?: () => number;
+}
+
+export function createFileAnalysis(format: StreamFormat, settings: AnalysisSettings, options: FileAnalysisOptions = {}): BlockAnalyser<FileAnalysisResult> {
   const level = createLevelAnalyser(format, settings);
   const spectral = createSpectralAnalyser(format, settings);
+  const clock = options.clock;
+  const timings = { level: 0, spectral: 0 };
   return {
     push(block: AudioBlock): void {
+      if (!clock) {
+        level.push(block);
+        spectral.push(block);
+        return;
+      }
+      const t0 = clock();
       level.push(block);
+      const t1 = clock();
       spectral.push(block);
+      timings.level += t1 - t0;
+      timings.spectral += clock() - t1;
     },
     finish(): FileAnalysisResult {
+      const t0 = clock?.() ?? 0;
       const l = level.finish();
+      const t1 = clock?.() ?? 0;
       const s = spectral.finish();
+      if (clock) {
+        timings.level += t1 - t0;
+        timings.spectral += clock() - t1;
+      }
       const m = l.metrics;
       const metrics: FileMetrics = {
         samplePeakDbfs: m.samplePeakDbfs,
@@ -49,7 +74,7 @@ export function createFileAnalysis(format: StreamFormat, settings: AnalysisSetti
         channels: m.channels,
       };
       const findings = [...l.findings, ...s.findings].sort(compareFindings);
-      return { metrics, findings, spectrogram: s.spectrogram, channelSpectrograms: s.channelSpectrograms, waveform: s.waveform };
+      return { metrics, findings, spectrogram: s.spectrogram, channelSpectrograms: s.channelSpectrograms, waveform: s.waveform, timings };
     },
   };
 }
