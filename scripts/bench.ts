@@ -1,0 +1,349 @@
+/**
+ * `npm run bench`: the scan's speed and memory, measured on the real CLI (cli/bin/tidemark.js, prebuilt by
+ * cli/bin/build.mjs first) over inputs synthesised into a temporary folder and deleted afterwards. Not part
+ * of `npm test`. Every figure is a median of --repeats runs, and ratios compare runs made in this one
+ * invocation, since the machine is shared and noisy. Targets are those of issue #8.
+ *
+ *   npm run bench -- --out result.json     full run (≈ 5 min on 2 cores, ≈ 6 GB of temporary disk)
+ *   npm run bench -- --quick               short inputs, one repeat, no 4 GB RF64 or linearity runs
+ *   npm run bench -- --stages FILE.wav     in-process time of each analyser part on one file
+ *
+ * Options: --seconds N (main file, default 600), --files N (files for the worker comparison, default 8),
+ * --repeats N (default 3), --no-rf64, --no-linearity, --no-white, --from-source (run through tsx instead
+ * of the bundle), --keep (leave the inputs), --tmp DIR (where the inputs go).
+ */
+import { execFileSync, spawnSync } from "node:child_process";
+import { cpus, tmpdir, totalmem, release } from "node:os";
+import { mkdir, mkdtemp, readFile, rm, statfs, writeFile } from "node:fs/promises";
+import path from "node:path";
+import { projectRoot } from "./lib/paths.ts";
+import { hasGnuTime, measure, median, type Measured } from "./bench/measure.ts";
+import { runStages } from "./bench/stages.ts";
+import { synthesiseWav, type SynthOptions } from "./bench/synthWav.ts";
+
+interface Options {
+  out: string | null;
+  quick: boolean;
+  seconds: number;
+  files: number;
+  repeats: number;
+  rf64: boolean;
+  linearity: boolean;
+  white: boolean;
+  fromSource: boolean;
+  keep: boolean;
+  tmp: string;
+  stages: string | null;
+}
+
+function parseOptions(argv: string[]): Options {
+  const o: Options = { out: null, quick: false, seconds: 600, files: 8, repeats: 3, rf64: true, linearity: true, white: true, fromSource: false, keep: false, tmp: tmpdir(), stages: null };
+  const explicit = new Set<string>();
+  for (let i = 0; i < argv.length; i++) {
+    const a = argv[i];
+    const value = (): string => {
+      const v = argv[++i];
+      if (v === undefined) throw new Error(`${a} needs a value`);
+      return v;
+    };
+    const count = (): number => {
+      const n = Number(value());
+      if (!Number.isFinite(n) || n <= 0) throw new Error(`${a} needs a positive number`);
+      explicit.add(a);
+      return n;
+    };
+    if (a === "--out") o.out = path.resolve(value());
+    else if (a === "--quick") o.quick = true;
+    else if (a === "--seconds") o.seconds = count();
+    else if (a === "--files") o.files = Math.round(count());
+    else if (a === "--repeats") o.repeats = Math.round(count());
+    else if (a === "--no-rf64") o.rf64 = false;
+    else if (a === "--no-linearity") o.linearity = false;
+    else if (a === "--no-white") o.white = false;
+    else if (a === "--from-source") o.fromSource = true;
+    else if (a === "--keep") o.keep = true;
+    else if (a === "--tmp") o.tmp = path.resolve(value());
+    else if (a === "--stages") o.stages = path.resolve(value());
+    else throw new Error(`unknown option ${a} (see the comment at the top of scripts/bench.ts)`);
+  }
+  if (o.quick) {
+    if (!explicit.has("--seconds")) o.seconds = 120;
+    if (!explicit.has("--files")) o.files = 4;
+    if (!explicit.has("--repeats")) o.repeats = 1;
+    o.rf64 = false;
+    o.linearity = false;
+    o.white = false;
+  }
+  return o;
+}
+
+const SAMPLE_RATE_HZ = 48000;
+const CHANNELS = 2;
+const BIT_DEPTH = 24;
+const BYTES_PER_SECOND = SAMPLE_RATE_HZ * CHANNELS * (BIT_DEPTH / 8);
+/** The RF64 check: past 4 GiB, where RIFF's 32-bit sizes end. */
+const RF64_BYTES = 4.5e9;
+/** Linearity: base × 1, 4, 16. */
+const LINEARITY_FACTORS = [1, 4, 16];
+const TARGETS = { realtime: 150, workerScaling: 1.8, peakRssMb: 150, linearity: 1.15 };
+
+interface ScanSample extends Measured {
+  /** Stage times of the file(s), summed over files, ms. */
+  stagesMs: Record<string, number>;
+}
+
+function machine() {
+  const cpu = cpus();
+  return {
+    cpuModel: cpu[0]?.model ?? "unknown",
+    cores: cpu.length,
+    memoryGb: Math.round(totalmem() / 2 ** 30),
+    node: process.version,
+    kernel: release(),
+    gnuTime: hasGnuTime,
+  };
+}
+
+async function scan(dir: string, workers: number, o: Options, scratch: string): Promise<ScanSample> {
+  const timings = path.join(scratch, `stages-${Date.now()}.jsonl`);
+  const out = path.join(scratch, "report.json");
+  const env = { ...process.env, TIDEMARK_STAGE_TIMINGS: timings, TIDEMARK_FROM_SOURCE: o.fromSource ? "1" : "0" };
+  const args = [path.join(projectRoot, "cli/bin/tidemark.js"), "scan", dir, "--workers", String(workers), "--quiet", "--spectrograms", path.join(scratch, "png"), "--out", out];
+  const m = await measure(process.execPath, args, { cwd: scratch, env, scratchDir: scratch });
+  // Exit 1 means a file failed its profile (noise is not a preservation master), not that the scan broke.
+  if (m.exitCode !== 0 && m.exitCode !== 1) throw new Error(`scan of ${dir} exited with ${m.exitCode}:\n${m.stderr}`);
+  const report = JSON.parse(await readFile(out, "utf8")) as { summary: { error: number }; files: { error: unknown }[] };
+  if (report.summary.error > 0) throw new Error(`scan of ${dir} reported errors: ${JSON.stringify(report.files.map((f) => f.error))}`);
+  const stagesMs: Record<string, number> = {};
+  for (const line of (await readFile(timings, "utf8")).trim().split("\n")) {
+    const t = (JSON.parse(line) as { timingsMs: Record<string, number> }).timingsMs;
+    for (const [k, v] of Object.entries(t)) stagesMs[k] = (stagesMs[k] ?? 0) + v;
+  }
+  await rm(timings, { force: true });
+  return { ...m, stagesMs };
+}
+
+async function ffmpegPass(file: string, scratch: string): Promise<Measured> {
+  const args = ["-hide_banner", "-nostats", "-i", file, "-af", "ebur128=peak=true,astats", "-f", "null", "-"];
+  const m = await measure("ffmpeg", args, { cwd: scratch, scratchDir: scratch });
+  if (m.exitCode !== 0) throw new Error(`ffmpeg exited with ${m.exitCode}:\n${m.stderr.slice(-2000)}`);
+  return m;
+}
+
+function hasFfmpeg(): boolean {
+  return spawnSync("ffmpeg", ["-hide_banner", "-version"], { stdio: "ignore" }).status === 0;
+}
+
+async function synth(dir: string, name: string, seconds: number, extra: Partial<SynthOptions> = {}): Promise<string> {
+  await mkdir(dir, { recursive: true });
+  const file = path.join(dir, name);
+  const t = performance.now();
+  await synthesiseWav({ path: file, seconds, sampleRateHz: SAMPLE_RATE_HZ, channels: CHANNELS, bitDepth: BIT_DEPTH, noise: "pink", rmsDbfs: -20, ...extra });
+  log(`  wrote ${path.basename(dir)}/${name} (${seconds.toFixed(0)} s, ${((seconds * BYTES_PER_SECOND) / 1e6).toFixed(0)} MB) in ${((performance.now() - t) / 1000).toFixed(1)} s`);
+  return file;
+}
+
+function log(line: string): void {
+  process.stderr.write(`${line}\n`);
+}
+
+const fmt = (x: number, digits = 1): string => (Number.isFinite(x) ? x.toFixed(digits) : "–");
+
+interface Summary {
+  runs: number;
+  wallSeconds: number;
+  cpuSeconds: number;
+  peakRssMb: number;
+  realtimeWall: number;
+  realtimeCpu: number;
+  mbPerSecond: number;
+  stagesMs: Record<string, number>;
+  samples: { wallSeconds: number; cpuSeconds: number; peakRssMb: number }[];
+}
+
+function summarise(samples: ScanSample[], audioSeconds: number, bytes: number): Summary {
+  const wall = median(samples.map((s) => s.wallSeconds));
+  const cpu = median(samples.map((s) => s.cpuSeconds));
+  const stagesMs: Record<string, number> = {};
+  for (const k of Object.keys(samples[0]?.stagesMs ?? {})) stagesMs[k] = median(samples.map((s) => s.stagesMs[k] ?? 0));
+  return {
+    runs: samples.length,
+    wallSeconds: wall,
+    cpuSeconds: cpu,
+    peakRssMb: Math.max(...samples.map((s) => s.peakRssMb)),
+    realtimeWall: audioSeconds / wall,
+    realtimeCpu: audioSeconds / cpu,
+    mbPerSecond: bytes / 1e6 / wall,
+    stagesMs,
+    samples: samples.map((s) => ({ wallSeconds: s.wallSeconds, cpuSeconds: s.cpuSeconds, peakRssMb: s.peakRssMb })),
+  };
+}
+
+async function main(): Promise<void> {
+  const o = parseOptions(process.argv.slice(2));
+  if (o.stages) {
+    await runStages(o.stages, o.seconds, o.repeats, null);
+    return;
+  }
+  const info = machine();
+  log(`tidemark bench: ${info.cpuModel}, ${info.cores} cores, Node ${info.node}${o.quick ? " (quick)" : ""}`);
+  if (!o.fromSource) execFileSync(process.execPath, [path.join(projectRoot, "cli/bin/build.mjs")], { stdio: "inherit" });
+
+  const root = await mkdtemp(path.join(o.tmp, "tidemark-bench-"));
+  const result: Record<string, unknown> = { schema: "tidemark.bench/1", startedAt: new Date().toISOString(), machine: info, options: o };
+  try {
+    const needBytes = o.seconds * BYTES_PER_SECOND * (o.files + 2) + (o.linearity ? 21 * 150 * BYTES_PER_SECOND : 0) + (o.rf64 ? RF64_BYTES : 0);
+    const fs = await statfs(root);
+    const freeBytes = fs.bavail * fs.bsize;
+    log(`inputs in ${root}: need ≈ ${(needBytes / 1e9).toFixed(1)} GB, ${(freeBytes / 1e9).toFixed(1)} GB free`);
+    if (o.rf64 && freeBytes < needBytes + 2e9) {
+      log("  not enough room for the 4.5 GB RF64 file: skipping it (--no-rf64)");
+      o.rf64 = false;
+    }
+    const scratch = path.join(root, "scratch");
+    await mkdir(scratch, { recursive: true });
+    const audioBytes = (seconds: number) => seconds * BYTES_PER_SECOND;
+
+    log("synthesising inputs (24-bit / 48 kHz stereo pink noise at −20 dBFS RMS)");
+    const mainFile = await synth(path.join(root, "single"), "pink.wav", o.seconds, { seed: 1 });
+    const whiteFile = o.white ? await synth(path.join(root, "white"), "white.wav", o.seconds, { noise: "white", seed: 2 }) : null;
+    const batchDir = path.join(root, "batch");
+    for (let i = 0; i < o.files; i++) await synth(batchDir, `pink-${i + 1}.wav`, o.seconds, { seed: 10 + i });
+
+    // 1. One file, one worker, against ffmpeg's loudness + true-peak + statistics pass.
+    log(`\n1. ${o.seconds} s file, --workers 1, ${o.repeats} run(s) each, alternating with ffmpeg`);
+    const ffmpeg = hasFfmpeg();
+    const singles: ScanSample[] = [];
+    const ffmpegRuns: Measured[] = [];
+    for (let r = 0; r < o.repeats; r++) {
+      singles.push(await scan(path.dirname(mainFile), 1, o, scratch));
+      log(`  tidemark ${fmt(singles[r].wallSeconds, 2)} s wall, ${fmt(singles[r].cpuSeconds, 2)} s CPU, ${fmt(singles[r].peakRssMb, 0)} MB`);
+      if (ffmpeg) {
+        ffmpegRuns.push(await ffmpegPass(mainFile, scratch));
+        log(`  ffmpeg   ${fmt(ffmpegRuns[r].wallSeconds, 2)} s wall, ${fmt(ffmpegRuns[r].cpuSeconds, 2)} s CPU, ${fmt(ffmpegRuns[r].peakRssMb, 0)} MB`);
+      }
+    }
+    const single = summarise(singles, o.seconds, audioBytes(o.seconds));
+    result.single = single;
+    if (ffmpeg) {
+      const ff = { wallSeconds: median(ffmpegRuns.map((m) => m.wallSeconds)), cpuSeconds: median(ffmpegRuns.map((m) => m.cpuSeconds)), peakRssMb: Math.max(...ffmpegRuns.map((m) => m.peakRssMb)) };
+      result.ffmpeg = { filter: "ebur128=peak=true,astats", ...ff, realtimeWall: o.seconds / ff.wallSeconds, speedupWall: ff.wallSeconds / single.wallSeconds, speedupCpu: ff.cpuSeconds / single.cpuSeconds };
+    }
+
+    // 2. White noise: the true peak's worst case (most outputs near the running maximum).
+    if (whiteFile) {
+      log(`\n2. ${o.seconds} s of white noise, --workers 1`);
+      const runs: ScanSample[] = [];
+      for (let r = 0; r < Math.min(2, o.repeats); r++) runs.push(await scan(path.dirname(whiteFile), 1, o, scratch));
+      result.white = summarise(runs, o.seconds, audioBytes(o.seconds));
+    }
+
+    // 3. Worker scaling: the same batch at 1 and 2 workers, alternating.
+    log(`\n3. ${o.files} files of ${o.seconds} s, --workers 1 vs 2, ${o.repeats} run(s) each`);
+    const w1: ScanSample[] = [];
+    const w2: ScanSample[] = [];
+    for (let r = 0; r < o.repeats; r++) {
+      w1.push(await scan(batchDir, 1, o, scratch));
+      w2.push(await scan(batchDir, 2, o, scratch));
+      log(`  1 worker ${fmt(w1[r].wallSeconds, 2)} s, 2 workers ${fmt(w2[r].wallSeconds, 2)} s (${fmt(w2[r].peakRssMb, 0)} MB)`);
+    }
+    const batchAudio = o.files * o.seconds;
+    const s1 = summarise(w1, batchAudio, audioBytes(batchAudio));
+    const s2 = summarise(w2, batchAudio, audioBytes(batchAudio));
+    result.workers = { files: o.files, one: s1, two: s2, scaling: s1.wallSeconds / s2.wallSeconds };
+    await rm(batchDir, { recursive: true, force: true });
+
+    // 4. Linearity: 1×, 4×, 16× the length; the cost per audio second should not grow.
+    if (o.linearity) {
+      const base = 150;
+      log(`\n4. linearity: ${LINEARITY_FACTORS.map((f) => `${f * base} s`).join(", ")}, --workers 1`);
+      const rows = [];
+      for (const f of LINEARITY_FACTORS) {
+        const dir = path.join(root, `linear-${f}`);
+        await synth(dir, "pink.wav", base * f, { seed: 30 + f });
+        const runs: ScanSample[] = [];
+        for (let r = 0; r < Math.min(2, o.repeats); r++) runs.push(await scan(dir, 1, o, scratch));
+        const s = summarise(runs, base * f, audioBytes(base * f));
+        const inFileMs = (s.stagesMs.read ?? 0) + (s.stagesMs.decode ?? 0) + (s.stagesMs.hash ?? 0) + (s.stagesMs.analyse ?? 0) + (s.stagesMs.render ?? 0);
+        rows.push({ factor: f, audioSeconds: base * f, ...s, inFileMsPerAudioSecond: inFileMs / (base * f) });
+        log(`  ${base * f} s: ${fmt(s.wallSeconds, 2)} s wall, ${fmt(s.cpuSeconds, 2)} s CPU, ${fmt(s.peakRssMb, 0)} MB`);
+        await rm(dir, { recursive: true, force: true });
+      }
+      result.linearity = { rows, ratio16: rows[2].inFileMsPerAudioSecond / rows[0].inFileMsPerAudioSecond, ratio4: rows[1].inFileMsPerAudioSecond / rows[0].inFileMsPerAudioSecond };
+    }
+
+    // 5. Memory on a file past 4 GiB (RF64 with ds64).
+    if (o.rf64) {
+      const seconds = Math.ceil(RF64_BYTES / BYTES_PER_SECOND);
+      log(`\n5. RF64 of ${(RF64_BYTES / 1e9).toFixed(1)} GB (${(seconds / 3600).toFixed(1)} h), --workers 1`);
+      const dir = path.join(root, "rf64");
+      await synth(dir, "long.rf64", seconds, { rf64: true, seed: 50 });
+      const run = await scan(dir, 1, o, scratch);
+      result.rf64 = summarise([run], seconds, audioBytes(seconds));
+      log(`  ${fmt(run.wallSeconds, 1)} s wall, ${fmt(run.cpuSeconds, 1)} s CPU, ${fmt(run.peakRssMb, 0)} MB`);
+      await rm(dir, { recursive: true, force: true });
+    }
+
+    result.finishedAt = new Date().toISOString();
+    result.targets = judgeTargets(result);
+    printTable(result, o);
+    if (o.out) {
+      await writeFile(o.out, `${JSON.stringify(result, null, 2)}\n`);
+      log(`\nwrote ${o.out}`);
+    }
+  } finally {
+    if (!o.keep) await rm(root, { recursive: true, force: true });
+    else log(`inputs kept in ${root}`);
+  }
+}
+
+function judgeTargets(r: Record<string, unknown>): Record<string, { value: number; target: string; met: boolean }> {
+  const single = r.single as Summary;
+  const workers = r.workers as { scaling: number; one: Summary };
+  const rss = [single.peakRssMb, workers.one.peakRssMb];
+  const linearity = r.linearity as { ratio16: number; rows: Summary[] } | undefined;
+  if (linearity) rss.push(...linearity.rows.map((x) => x.peakRssMb));
+  if (r.rf64) rss.push((r.rf64 as Summary).peakRssMb);
+  const t: Record<string, { value: number; target: string; met: boolean }> = {
+    realtimeWall: { value: single.realtimeWall, target: `≥ ${TARGETS.realtime}x`, met: single.realtimeWall >= TARGETS.realtime },
+    workerScaling: { value: workers.scaling, target: `≥ ${TARGETS.workerScaling}x`, met: workers.scaling >= TARGETS.workerScaling },
+    peakRssMbOneWorker: { value: Math.max(...rss), target: `≤ ${TARGETS.peakRssMb} MB`, met: Math.max(...rss) <= TARGETS.peakRssMb },
+  };
+  if (linearity) t.linearity16x = { value: linearity.ratio16, target: `≤ ${TARGETS.linearity} (per audio second, 16× vs 1×)`, met: linearity.ratio16 <= TARGETS.linearity };
+  return t;
+}
+
+function printTable(r: Record<string, unknown>, o: Options): void {
+  const single = r.single as Summary;
+  const lines: string[] = [];
+  lines.push("", `| measure (${o.seconds} s, 48 kHz/24-bit stereo pink noise, median of ${single.runs}) | value |`, "|---|---|");
+  lines.push(`| full scan, 1 worker: wall / CPU | ${fmt(single.wallSeconds, 2)} s / ${fmt(single.cpuSeconds, 2)} s |`);
+  lines.push(`| realtime factor (wall / CPU) | ${fmt(single.realtimeWall, 0)}x / ${fmt(single.realtimeCpu, 0)}x |`);
+  lines.push(`| throughput | ${fmt(single.mbPerSecond, 0)} MB/s |`);
+  lines.push(`| peak RSS (OS) | ${fmt(single.peakRssMb, 0)} MB |`);
+  const st = single.stagesMs;
+  lines.push(`| stages (ms): decode / hash / level+loudness+true peak / spectral (FFT) / paint / PNG | ${["decode", "hash", "level", "spectral", "paint", "png"].map((k) => fmt(st[k] ?? NaN, 0)).join(" / ")} |`);
+  lines.push(`| start-up and the rest (wall − file stages) | ${fmt(single.wallSeconds * 1000 - (st.read + st.decode + st.hash + st.analyse + st.render), 0)} ms |`);
+  const ff = r.ffmpeg as { wallSeconds: number; cpuSeconds: number; speedupWall: number; speedupCpu: number } | undefined;
+  if (ff) lines.push(`| ffmpeg ebur128=peak=true,astats: wall / CPU; tidemark's speed-up | ${fmt(ff.wallSeconds, 2)} s / ${fmt(ff.cpuSeconds, 2)} s; ${fmt(ff.speedupWall, 2)}x / ${fmt(ff.speedupCpu, 2)}x |`);
+  const white = r.white as Summary | undefined;
+  if (white) lines.push(`| white noise (true-peak worst case): realtime wall / CPU | ${fmt(white.realtimeWall, 0)}x / ${fmt(white.realtimeCpu, 0)}x |`);
+  const w = r.workers as { files: number; one: Summary; two: Summary; scaling: number };
+  lines.push(`| ${w.files} files: 1 worker / 2 workers wall; scaling | ${fmt(w.one.wallSeconds, 1)} s / ${fmt(w.two.wallSeconds, 1)} s; ${fmt(w.scaling, 2)}x |`);
+  lines.push(`| 2 workers peak RSS | ${fmt(w.two.peakRssMb, 0)} MB |`);
+  const lin = r.linearity as { rows: (Summary & { audioSeconds: number; inFileMsPerAudioSecond: number })[]; ratio16: number } | undefined;
+  if (lin) {
+    lines.push(`| linearity: in-file ms per audio s at ${lin.rows.map((x) => `${x.audioSeconds} s`).join(" / ")} | ${lin.rows.map((x) => fmt(x.inFileMsPerAudioSecond, 2)).join(" / ")} (16×/1× ${fmt(lin.ratio16, 2)}) |`);
+    lines.push(`| linearity: peak RSS | ${lin.rows.map((x) => `${fmt(x.peakRssMb, 0)} MB`).join(" / ")} |`);
+  }
+  const rf = r.rf64 as Summary | undefined;
+  if (rf) lines.push(`| RF64 4.5 GB: wall, realtime, peak RSS | ${fmt(rf.wallSeconds, 1)} s, ${fmt(rf.realtimeWall, 0)}x, ${fmt(rf.peakRssMb, 0)} MB |`);
+  lines.push("", "| target | value | met |", "|---|---|---|");
+  for (const [k, v] of Object.entries(r.targets as Record<string, { value: number; target: string; met: boolean }>)) lines.push(`| ${k} ${v.target} | ${fmt(v.value, 2)} | ${v.met ? "yes" : "NO"} |`);
+  process.stdout.write(`${lines.join("\n")}\n`);
+}
+
+main().catch((error: unknown) => {
+  log(`bench: ${error instanceof Error ? error.message : String(error)}`);
+  process.exitCode = 1;
+});
