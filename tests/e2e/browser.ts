@@ -26,6 +26,12 @@ export async function openBrowser(viewport = { width: 1280, height: 900 }): Prom
     acceptDownloads: true,
   });
   const page = context.pages()[0] ?? (await context.newPage());
+  // A blank page in a screenshot says little; the browser's own complaints say why.
+  page.on("pageerror", (error) => console.error(`[browser] page error: ${error.message}`));
+  page.on("console", (message) => {
+    // Refused requests (the 401 of a signed-out session check) are logged by the browser itself; skip those.
+    if (message.type() === "error" && !message.text().startsWith("Failed to load resource")) console.error(`[browser] console: ${message.text()}`);
+  });
   return {
     context,
     page,

@@ -12,7 +12,7 @@ import { DEMO_PASSWORD, startPortalStack, type PortalStack } from "./portalStack
 
 let stack: PortalStack;
 const browsers: RoleBrowser[] = [];
-/** A failing file nobody has reviewed yet, found through the API as the supervisor sees it. */
+/** A failing file not yet flagged (the seed reviews some), found through the API as the supervisor sees it. */
 let target: FileSummaryDto;
 
 async function signIn(role: Role, startPath = "/batches", viewport?: { width: number; height: number }): Promise<Page> {
@@ -95,19 +95,23 @@ describe("review portal in chromium", () => {
   });
 
   it("lets a supervisor open a failing file, see its spectrogram, comment and flag it", async () => {
-    const page = await signIn("supervisor", "/files?verdict=fail&reviewState=pending");
-    const list = await apiFrom(page, "GET", "/api/files?verdict=fail&reviewState=pending&sort=path&pageSize=1");
-    expect(list.status).toBe(200);
-    const first = (list.body as ApiPage<FileSummaryDto>).items[0];
-    expect(first, "the demo seed should leave at least one failing file unreviewed").toBeDefined();
-    target = first;
+    const page = await signIn("supervisor", "/files?verdict=fail");
+    const failing = await apiFrom(page, "GET", "/api/files?verdict=fail&sort=path&pageSize=100");
+    expect(failing.status).toBe(200);
+    const candidate = (failing.body as ApiPage<FileSummaryDto>).items.find((f) => f.reviewState !== "flagged");
+    expect(candidate, "the demo seed should include a failing file that is not flagged yet").toBeDefined();
+    target = candidate as FileSummaryDto;
     await screenshot(page, "files-supervisor-failing");
 
-    // Keyboard: in its own batch, sorted by path, the target is the first row; j activates it, Enter opens it.
-    await page.goto(`${stack.baseUrl}/files?batch=${target.batchId}&verdict=fail&reviewState=pending&sort=path&order=asc`);
+    // Keyboard: in its own batch, sorted by path, j moves down to the target's row and Enter opens it.
+    const view = `batch=${target.batchId}&verdict=fail&sort=path&order=asc`;
+    const rows = ((await apiFrom(page, "GET", `/api/files?${view}`)).body as ApiPage<FileSummaryDto>).items;
+    const index = rows.findIndex((f) => f.id === target.id);
+    expect(index).toBeGreaterThanOrEqual(0);
+    await page.goto(`${stack.baseUrl}/files?${view}`);
     await page.locator(`a[href="/files/${target.id}"]`).waitFor();
-    await page.keyboard.press("j");
-    expect(await page.locator("[data-list-row]").first().getAttribute("aria-current")).toBe("true");
+    for (let i = 0; i <= index; i++) await page.keyboard.press("j");
+    expect(await page.locator("[data-list-row]").nth(index).getAttribute("aria-current")).toBe("true");
     await page.keyboard.press("Enter");
     await page.waitForURL(`**/files/${target.id}`);
 

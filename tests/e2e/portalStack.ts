@@ -4,7 +4,7 @@
  * synthesised Harbourside archive and uploads through /api/ingest).
  */
 import { randomBytes } from "node:crypto";
-import { mkdtempSync, rmSync } from "node:fs";
+import { cpSync, existsSync, mkdtempSync, rmSync } from "node:fs";
 import { createServer, type Server } from "node:http";
 import { tmpdir } from "node:os";
 import path from "node:path";
@@ -43,6 +43,13 @@ function listen(server: Server): Promise<number> {
 
 export async function startPortalStack(log: (line: string) => void = () => undefined): Promise<PortalStack> {
   const work = mkdtempSync(path.join(process.env.TIDEMARK_TEST_TMP ?? tmpdir(), "e2e-portal-"));
+  // A private copy of the built portal: another run's `vite build` empties web/dist while it works.
+  const builtPortal = path.join(projectRoot, "web", "dist");
+  if (!existsSync(path.join(builtPortal, "index.html"))) {
+    throw new Error("web/dist has no index.html: build the portal first (npm test does: npm run build -w web)");
+  }
+  const webDistDir = path.join(work, "web-dist");
+  cpSync(builtPortal, webDistDir, { recursive: true });
   const database = await createTestDatabase("e2e_portal");
   const db = connectDatabase(database.url);
   await migrateUp(db.sequelize);
@@ -62,7 +69,7 @@ export async function startPortalStack(log: (line: string) => void = () => undef
     settings: {
       publicUrl: baseUrl,
       sessionSecret: randomBytes(24).toString("hex"),
-      webDistDir: path.join(projectRoot, "web", "dist"),
+      webDistDir,
       passwordCost: TEST_SCRYPT_COST,
       uploadTmpDir: path.join(work, "uploads"),
       loginRateLimit: { windowMs: 60_000, limit: 1_000 },
