@@ -197,9 +197,23 @@ export interface BulkReviewChangeRequest extends ReviewChangeRequest {
   ids: number[];
 }
 
+/** POST /api/files/review answer. */
+export interface BulkReviewChangeResultDto {
+  items: FileSummaryDto[];
+  changed: number;
+}
+
+/** POST /api/password-reset answer (202, whether or not the address exists). */
+export interface PasswordResetAcceptedDto {
+  accepted: true;
+  message: string;
+}
+
 export interface TokenDto {
   id: string;
   name: string;
+  /** Filled for an admin's GET /api/tokens?all=1. */
+  owner?: UserRefDto;
   createdAt: string;
   lastUsedAt: string | null;
   revokedAt: string | null;
