@@ -121,7 +121,7 @@ export async function runHttpFile(parsed: HttpFile, overrides: Record<string, st
     });
   const outcomes: RunOutcome[] = [];
   for (const request of parsed.requests) {
-    const headers = new Headers(request.headers.map(([k, v]) => [k, substitute(v)]));
+    const headers = new Headers(request.headers.map(([k, v]): [string, string] => [k, substitute(v)]));
     if (cookies.size) headers.set("cookie", [...cookies].map(([k, v]) => `${k}=${v}`).join("; "));
     const res = await fetch(substitute(request.url), {
       method: request.method,
