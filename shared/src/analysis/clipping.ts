@@ -23,7 +23,11 @@ export interface ClipRegion {
 }
 
 export interface ClipDetector {
-  push(input: Float32Array[], frames: number): void;
+  /**
+   * `peakBound`, when given, holds per channel a value no |sample| of the block exceeds (e.g. the running
+   * true peak): a channel whose bound stays inside full scale cannot clip in this block and is not scanned.
+   */
+  push(input: Float32Array[], frames: number, peakBound?: Float64Array): void;
   finish(): void;
   /** Per channel: samples inside clip events, and events. */
   readonly clippedSamples: Float64Array;
@@ -51,6 +55,8 @@ class RunClipDetector implements ClipDetector {
   readonly clipEvents: Float64Array;
   private readonly positiveThreshold: number;
   private readonly negativeThreshold: number;
+  /** |x| below this is inside both thresholds. */
+  private readonly insideBelow: number;
   private readonly minRun: number;
   private readonly regionGapFrames: number;
   /** Per channel: polarity of the current run (1, −1, 0 none), its start, and the open region. */
@@ -68,6 +74,7 @@ class RunClipDetector implements ClipDetector {
     // Float32 rounding of the threshold must not exclude a sample exactly at full scale.
     this.positiveThreshold = Math.fround(positiveFullScale(format) * tolerance);
     this.negativeThreshold = -Math.fround(tolerance);
+    this.insideBelow = Math.min(this.positiveThreshold, -this.negativeThreshold);
     this.minRun = settings.clipRunSamples;
     this.regionGapFrames = Math.round(CLIP_REGION_GAP_SECONDS * format.sampleRateHz);
     const n = format.channels;
@@ -78,22 +85,29 @@ class RunClipDetector implements ClipDetector {
     this.regions = new Array<ClipRegion | null>(n).fill(null);
   }
 
-  push(input: Float32Array[], frames: number): void {
-    for (let c = 0; c < input.length && c < this.runSign.length; c++) this.scan(c, input[c], frames);
+  push(input: Float32Array[], frames: number, peakBound?: Float64Array): void {
+    for (let c = 0; c < input.length && c < this.runSign.length; c++) {
+      if (frames > 0 && peakBound !== undefined && peakBound[c] < this.insideBelow) {
+        // No sample of the block is clipped: a run left open by the last block ends at its first sample.
+        if (this.runSign[c] !== 0) this.closeRun(c, this.runStart[c], this.position);
+        this.runSign[c] = 0;
+      } else this.scan(c, input[c], frames);
+    }
     this.position += frames;
   }
 
   private scan(c: number, x: Float32Array, frames: number): void {
     const hi = this.positiveThreshold;
     const lo = this.negativeThreshold;
+    const inside = this.insideBelow;
     const base = this.position;
     let sign = this.runSign[c];
     let start = this.runStart[c];
     let i = 0;
     while (i < frames) {
       if (sign === 0) {
-        // Common case: skip samples inside full scale with two comparisons each.
-        while (i < frames && x[i] < hi && x[i] > lo) i++;
+        // Common case: skip samples inside full scale, one |x| compare each (then the exact test).
+        while (i < frames && (Math.abs(x[i]) < inside || (x[i] < hi && x[i] > lo))) i++;
         if (i === frames) break;
         sign = x[i] >= hi ? 1 : -1;
         start = base + i;

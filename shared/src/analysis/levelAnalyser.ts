@@ -68,13 +68,14 @@ export function createLevelAnalyser(format: StreamFormat, settings: AnalysisSett
         throw new Error(`level analyser: blocks must arrive in order; expected frame ${framesSeen}, got ${block.startFrame}`);
       }
       const input = block.channels;
-      // Per-sample detectors first, so that run candidates exist before the windows that judge them.
+      // Per-sample detectors first, so that run candidates exist before the windows that judge them. True
+      // peak before clipping: its running maximum bounds every sample, so unclipped blocks are not rescanned.
       runs.push(input, frames);
-      clipping.push(input, frames);
+      truePeak.push(input, frames);
+      clipping.push(input, frames, truePeak.runningPeak);
       bitDepth.push(input, frames);
       stereo?.push(input, frames);
       loudness.push(input, frames);
-      truePeak.push(input, frames);
       windows.push(input, frames);
       framesSeen += frames;
     },

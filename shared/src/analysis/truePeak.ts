@@ -96,6 +96,11 @@ export interface TruePeakResult {
 export interface TruePeakMeter {
   push(channels: Float32Array[], frames: number): void;
   finish(): TruePeakResult;
+  /**
+   * Per channel, the running maximum so far (live, read only): never below any |sample| pushed, since the
+   * sample peak is phase 0 of the maximum. Other detectors may skip a block whose samples it rules out.
+   */
+  readonly runningPeak: Float64Array;
 }
 
 export function createTruePeakMeter(sampleRateHz: number, channels: number): TruePeakMeter {
@@ -205,6 +210,10 @@ class PolyphaseTruePeakMeter implements TruePeakMeter {
   private readonly kernelOut = new Float64Array(2);
   private position = 0;
   private finished = false;
+
+  get runningPeak(): Float64Array {
+    return this.peak;
+  }
 
   constructor(
     private readonly filter: InterpolationFilter,
