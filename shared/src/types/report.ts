@@ -5,39 +5,10 @@
  * Quiet values (−Infinity dB) are written as null, hence the nullable dB fields.
  */
 import { z } from "zod";
+import { FINDING_CODES, REPORT_SCHEMA_ID, SEVERITIES, VERDICTS } from "./codes.ts";
 
-export const REPORT_SCHEMA_ID = "tidemark.report/1" as const;
-
-export const VERDICTS = ["pass", "warn", "fail", "error"] as const;
-export const SEVERITIES = ["info", "warn", "fail"] as const;
-
-/** Stable, kebab-case finding codes (messages are free text). */
-export const FINDING_CODES = [
-  "clipping",
-  "near-clip",
-  "true-peak-over",
-  "dc-offset",
-  "lead-silence",
-  "tail-silence",
-  "silent-gap",
-  "dead-channel",
-  "dropout",
-  "stuck-samples",
-  "band-limited",
-  "upsampled",
-  "hum",
-  "polarity-inverted",
-  "dual-mono",
-  "channel-imbalance",
-  "padded-bit-depth",
-  "loudness-off-target",
-  "format-mismatch",
-  "fixity-changed",
-  "unreadable",
-  "truncated",
-  "non-finite-samples",
-  "possible-duplicate",
-] as const;
+export { FINDING_CODES, REPORT_SCHEMA_ID, SEVERITIES, VERDICTS } from "./codes.ts";
+export type { FindingCode, Severity, Verdict } from "./codes.ts";
 
 const db = z.number().nullable();
 
@@ -155,9 +126,6 @@ export const scanReportSchema = z.object({
   files: z.array(fileReportSchema),
 });
 
-export type Verdict = (typeof VERDICTS)[number];
-export type Severity = (typeof SEVERITIES)[number];
-export type FindingCode = (typeof FINDING_CODES)[number];
 export type Finding = z.infer<typeof findingSchema>;
 export type AudioFormat = z.infer<typeof audioFormatSchema>;
 export type Container = AudioFormat["container"];

@@ -1,6 +1,6 @@
 import { useState, type FormEvent } from "react";
 import { REVIEW_STATES, type FileQuery } from "@tidemark/shared/types/api";
-import { FINDING_CODES, VERDICTS } from "@tidemark/shared/types/report";
+import { FINDING_CODES, VERDICTS } from "@tidemark/shared/types/codes";
 import { useCollections } from "../../api/batches.ts";
 import { buttonClass, SelectField, TextField } from "../fields.tsx";
 

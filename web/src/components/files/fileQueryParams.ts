@@ -3,7 +3,7 @@
  * sign-in) reopens exactly the same view. Anything unknown in the URL is dropped, not sent on.
  */
 import { FILE_SORT_KEYS, REVIEW_STATES, type FileQuery, type FileSortKey, type ReviewState } from "@tidemark/shared/types/api";
-import { FINDING_CODES, VERDICTS, type FindingCode, type Verdict } from "@tidemark/shared/types/report";
+import { FINDING_CODES, VERDICTS, type FindingCode, type Verdict } from "@tidemark/shared/types/codes";
 import { PAGE_SIZES } from "../Pagination.tsx";
 
 export const DEFAULT_FILE_PAGE_SIZE = 50;

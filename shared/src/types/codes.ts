@@ -1,0 +1,41 @@
+/**
+ * The report's fixed vocabularies, kept free of zod so the portal can import them without bundling
+ * the schema library. report.ts builds its schema from these and re-exports them.
+ */
+
+export const REPORT_SCHEMA_ID = "tidemark.report/1" as const;
+
+export const VERDICTS = ["pass", "warn", "fail", "error"] as const;
+export const SEVERITIES = ["info", "warn", "fail"] as const;
+
+/** Stable, kebab-case finding codes (messages are free text). */
+export const FINDING_CODES = [
+  "clipping",
+  "near-clip",
+  "true-peak-over",
+  "dc-offset",
+  "lead-silence",
+  "tail-silence",
+  "silent-gap",
+  "dead-channel",
+  "dropout",
+  "stuck-samples",
+  "band-limited",
+  "upsampled",
+  "hum",
+  "polarity-inverted",
+  "dual-mono",
+  "channel-imbalance",
+  "padded-bit-depth",
+  "loudness-off-target",
+  "format-mismatch",
+  "fixity-changed",
+  "unreadable",
+  "truncated",
+  "non-finite-samples",
+  "possible-duplicate",
+] as const;
+
+export type Verdict = (typeof VERDICTS)[number];
+export type Severity = (typeof SEVERITIES)[number];
+export type FindingCode = (typeof FINDING_CODES)[number];
