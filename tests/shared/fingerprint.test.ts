@@ -2,6 +2,7 @@ import { describe, expect, it } from "vitest";
 import {
   createFingerprinter,
   decodeFingerprint,
+  DEFAULT_MIN_SCORE,
   encodeFingerprint,
   FINGERPRINT_GRID,
   FINGERPRINT_VERSION,
@@ -160,11 +161,29 @@ describe("fingerprint: createFingerprinter", () => {
     expect(Array.from(large.times)).toEqual(Array.from(reference.times));
   });
 
-  it("mixes channels to mono", () => {
+  it("combines channels by power: left-only, dual-mono and one channel polarity-inverted all match the mono clip", () => {
     const half = gainDb(clip, -6.0206);
-    // Left-only stereo mixes to half level; identical channels mix to the clip itself.
+    const inverted = clip.map((x) => -x);
+    // Identical channels give exactly the mono clip's power; left-only is the same 3 dB lower.
+    expect(Array.from(fingerprintOf([clip, clip], RATE).hashes)).toEqual(Array.from(reference.hashes));
     expect(sharedFraction(reference, fingerprintOf([clip, new Float32Array(clip.length)], RATE))).toBeGreaterThanOrEqual(0.95);
     expect(sharedFraction(reference, fingerprintOf([half, half], RATE))).toBeGreaterThanOrEqual(0.95);
+    // L + R of this pair is digital silence: a mono mix would have nothing left to fingerprint.
+    const polarity = fingerprintOf([clip, inverted], RATE);
+    expect(Array.from(polarity.hashes)).toEqual(Array.from(reference.hashes));
+    expect(scoreMatch(polarity, reference).score).toBeGreaterThanOrEqual(reference.hashes.length);
+  });
+
+  it("keeps a stereo recording and its copy with the right channel inverted at the same offset", () => {
+    // Two unrelated programmes as L and R: partly independent channels, the hard case for a mix.
+    const right = programme({ seed: 5, seconds: 20, sampleRateHz: RATE });
+    const stereo = fingerprintOf([clip, right], RATE);
+    const trimmed = fingerprintOf([clip.subarray(5 * RATE), right.subarray(5 * RATE)], RATE);
+    const flipped = fingerprintOf([clip.subarray(5 * RATE), right.subarray(5 * RATE).map((x) => -x)], RATE);
+    expect(Array.from(flipped.hashes)).toEqual(Array.from(trimmed.hashes));
+    const { score, offsetSeconds } = scoreMatch(flipped, stereo);
+    expect(score).toBeGreaterThanOrEqual(DEFAULT_MIN_SCORE);
+    expect(Math.abs(offsetSeconds! - 5)).toBeLessThanOrEqual(0.1);
   });
 
   it("treats non-finite samples as silence instead of failing", () => {

@@ -1,18 +1,24 @@
 /**
  * Streaming spectral fingerprint (issue #11) after "An Industrial-Strength Audio Search Algorithm"
- * (Wang, 2003). Channels are mixed to mono and resampled to one internal rate, so the
- * time–frequency grid is the same in seconds and hertz for every input rate; only 300 Hz–4 kHz is
- * looked at, so a lossy-style low-pass, an upsampled copy or a different transfer rate changes
- * nothing the fingerprint sees.
+ * (Wang, 2003). Each channel is resampled to one internal rate, so the time–frequency grid is the
+ * same in seconds and hertz for every input rate; only 300 Hz–4 kHz is looked at, so a lossy-style
+ * low-pass, an upsampled copy or a different transfer rate changes nothing the fingerprint sees.
+ *
+ * Channels are combined as the mean of their power spectra, not as a mono mix: a copy with one
+ * channel polarity-inverted would cancel in L + R, while |L|² + |−R|² = |L|² + |R|². Identical
+ * channels (a mono tape transferred to stereo) give exactly the power of one of them.
  */
 import type { AudioBlock, BlockAnalyser, StreamFormat } from "../types/analysis.ts";
-import { createFramePowerSpectrum } from "./fftFrames.ts";
+import { createFramePowerSpectrum, powerToDb } from "./fftFrames.ts";
 import { createPeakPicker, hashLandmarks } from "./landmarks.ts";
-import { createStreamingResampler } from "./resampler.ts";
+import { createStreamingResampler, type StreamingResampler } from "./resampler.ts";
 import type { Fingerprint } from "./types.ts";
 
-/** Bump whenever anything below changes the hashes: fingerprints of other versions don't compare. */
-export const FINGERPRINT_VERSION = 1;
+/**
+ * Bump whenever anything below changes the hashes: fingerprints of other versions don't compare.
+ * 2: channels combined by power instead of a mono mix (mono files hash as in version 1).
+ */
+export const FINGERPRINT_VERSION = 2;
 
 const ANALYSIS_RATE_HZ = 11025;
 const FFT_SIZE = 1024; // 92.9 ms window, 10.77 Hz bins
@@ -69,37 +75,54 @@ export function createFingerprinter(format: StreamFormat): BlockAnalyser<Fingerp
     throw new RangeError(`fingerprint: channels must be an integer ≥ 1, got ${channels}`);
   }
 
-  const resampler = createStreamingResampler({
-    inputRateHz: sampleRateHz,
-    outputRateHz: ANALYSIS_RATE_HZ,
-    passbandHz: BAND_HIGH_HZ,
-    // Anything above (internal rate − 4 kHz) would fold back into the band; between that and 4 kHz may leak.
-    stopbandHz: ANALYSIS_RATE_HZ - BAND_HIGH_HZ,
-  });
+  // One resampler and frame buffer per channel: they see the same sample counts, so they move in step.
+  const resamplers: StreamingResampler[] = [];
+  const frames: Float32Array[] = [];
+  for (let c = 0; c < channels; c++) {
+    resamplers.push(
+      createStreamingResampler({
+        inputRateHz: sampleRateHz,
+        outputRateHz: ANALYSIS_RATE_HZ,
+        passbandHz: BAND_HIGH_HZ,
+        // Anything above (internal rate − 4 kHz) would fold back into the band; between that and 4 kHz may leak.
+        stopbandHz: ANALYSIS_RATE_HZ - BAND_HIGH_HZ,
+      }),
+    );
+    frames.push(new Float32Array(FFT_SIZE));
+  }
   const spectrum = createFramePowerSpectrum(FFT_SIZE);
   const picker = createPeakPicker(PEAKS);
 
-  let mono = new Float32Array(0);
-  const resampled = new Float32Array(4096);
-  const frame = new Float32Array(FFT_SIZE);
+  let clean = new Float32Array(0);
+  const resampled = frames.map(() => new Float32Array(4096));
   let frameFill = 0;
+  const bandPower = new Float64Array(BAND_BINS);
   const bandDb = new Float32Array(BAND_BINS);
   const inverseChannels = 1 / channels;
   let framesPushed = 0;
   let finished = false;
 
   function drain(): void {
-    for (let n = resampler.read(resampled); n > 0; n = resampler.read(resampled)) {
+    for (;;) {
+      const n = resamplers[0].read(resampled[0]);
+      for (let c = 1; c < channels; c++) {
+        if (resamplers[c].read(resampled[c]) !== n) throw new Error("fingerprint: channel resamplers out of step (internal error)");
+      }
+      if (n === 0) return;
       let at = 0;
       while (at < n) {
         const take = Math.min(n - at, FFT_SIZE - frameFill);
-        frame.set(resampled.subarray(at, at + take), frameFill);
+        for (let c = 0; c < channels; c++) frames[c].set(resampled[c].subarray(at, at + take), frameFill);
         frameFill += take;
         at += take;
         if (frameFill === FFT_SIZE) {
-          spectrum.powerDb(frame, FIRST_BIN, bandDb);
+          bandPower.fill(0);
+          for (let c = 0; c < channels; c++) {
+            spectrum.addPower(frames[c], FIRST_BIN, bandPower);
+            frames[c].copyWithin(0, HOP_SIZE);
+          }
+          powerToDb(bandPower, inverseChannels, bandDb);
           picker.pushFrame(bandDb);
-          frame.copyWithin(0, HOP_SIZE);
           frameFill = FFT_SIZE - HOP_SIZE;
         }
       }
@@ -109,47 +132,37 @@ export function createFingerprinter(format: StreamFormat): BlockAnalyser<Fingerp
   return {
     push(block: AudioBlock) {
       if (finished) throw new Error("fingerprint: push() after finish()");
-      const { frames } = block;
+      const { frames: count } = block;
       if (block.channels.length !== channels) {
         throw new RangeError(`fingerprint: block has ${block.channels.length} channels, format says ${channels}`);
       }
-      if (!Number.isInteger(frames) || frames < 0) throw new RangeError(`fingerprint: block frames must be an integer ≥ 0, got ${frames}`);
+      if (!Number.isInteger(count) || count < 0) throw new RangeError(`fingerprint: block frames must be an integer ≥ 0, got ${count}`);
       if (block.startFrame !== framesPushed) {
         throw new RangeError(`fingerprint: blocks must arrive in order: expected startFrame ${framesPushed}, got ${block.startFrame}`);
       }
       for (let c = 0; c < channels; c++) {
-        if (block.channels[c].length < frames) {
-          throw new RangeError(`fingerprint: channel ${c} holds ${block.channels[c].length} samples, block says ${frames}`);
+        if (block.channels[c].length < count) {
+          throw new RangeError(`fingerprint: channel ${c} holds ${block.channels[c].length} samples, block says ${count}`);
         }
       }
-      if (mono.length < frames) mono = new Float32Array(frames);
-      const m = mono;
-      const first = block.channels[0];
-      if (channels === 1) {
+      if (clean.length < count) clean = new Float32Array(count);
+      const m = clean;
+      for (let c = 0; c < channels; c++) {
+        const ch = block.channels[c];
         // Non-finite samples (reported elsewhere) would smear NaN over a kernel's length: treat as silence.
-        for (let i = 0; i < frames; i++) {
-          const x = first[i];
+        for (let i = 0; i < count; i++) {
+          const x = ch[i];
           m[i] = x - x === 0 ? x : 0;
         }
-      } else {
-        m.set(first.subarray(0, frames));
-        for (let c = 1; c < channels; c++) {
-          const ch = block.channels[c];
-          for (let i = 0; i < frames; i++) m[i] += ch[i];
-        }
-        for (let i = 0; i < frames; i++) {
-          const x = m[i] * inverseChannels;
-          m[i] = x - x === 0 ? x : 0;
-        }
+        resamplers[c].write(clean, count);
       }
-      resampler.write(mono, frames);
-      framesPushed += frames;
+      framesPushed += count;
       drain();
     },
     finish() {
       if (finished) throw new Error("fingerprint: finish() called twice");
       finished = true;
-      resampler.end();
+      for (const r of resamplers) r.end();
       drain();
       const peaks = picker.finish();
       const { hashes, anchorFrames } = hashLandmarks(peaks, PAIRS);

@@ -5,7 +5,7 @@
  *
  * Kept apart from any index so the server can score rows from its SQL index the same way
  * (table fingerprint_hashes(version, hash, file_id, time_seconds), btree on (version, hash);
- * version-1 hashes are < 2^25, so a plain PostgreSQL integer holds them):
+ * hashes (f1: 9 bits, Δf: 10, Δt: 6) are < 2^25, so a plain PostgreSQL integer holds them):
  *
  *   SELECT hash, file_id, time_seconds FROM fingerprint_hashes
  *    WHERE version = $1 AND hash = ANY($2) AND file_id <> $3      -- $2 = distinctHashes(fp)
