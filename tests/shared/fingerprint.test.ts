@@ -6,6 +6,7 @@ import {
   encodeFingerprint,
   FINGERPRINT_GRID,
   FINGERPRINT_VERSION,
+  MAX_FINGERPRINT_HASHES,
   MAX_HASHES_PER_SECOND,
   OFFSET_BIN_SECONDS,
   scoreMatch,
@@ -14,6 +15,7 @@ import {
 } from "../../shared/src/fingerprint/index.ts";
 import { hashLandmarks, unpackLandmarkHash } from "../../shared/src/fingerprint/landmarks.ts";
 import { createStreamingResampler } from "../../shared/src/fingerprint/resampler.ts";
+import { MAX_FINGERPRINT_CHARS } from "../../shared/src/types/report.ts";
 import { fingerprintOf, programme } from "../fixtures/fingerprintSignals.ts";
 import { gainDb, pinkNoise, rmsDbfs, seededRandom, sine, whiteNoise } from "../fixtures/synth.ts";
 
@@ -282,6 +284,16 @@ describe("fingerprint: encode / decode", () => {
     expect(bytes.subarray(0, 2).toString("latin1")).toBe("TF");
     expect(bytes.readUInt32LE(16)).toBe(fp.hashes.length);
     expect(bytes.readUInt32LE(20)).toBe(fp.hashes[0]);
+  });
+
+  it("stays within the report's fingerprint limit at the hash cap", () => {
+    // Off-grid float times take 8 bytes an entry, the larger layout (grid deltas take 1–5, summing to < 2^32 frames).
+    const n = MAX_FINGERPRINT_HASHES;
+    const times = new Float32Array(n);
+    for (let i = 0; i < n; i++) times[i] = 0.5 + i * 0.05;
+    const largest = encodeFingerprint({ version: FINGERPRINT_VERSION, hashes: new Uint32Array(n).fill(0x1ffffff), times, durationSeconds: 5e4 });
+    expect(largest.length).toBeGreaterThan((4 / 3) * 8 * n);
+    expect(largest.length).toBeLessThanOrEqual(MAX_FINGERPRINT_CHARS);
   });
 
   it("encodes an empty fingerprint", () => {

@@ -31,6 +31,11 @@ const BAND_BINS = LAST_BIN - FIRST_BIN + 1;
 
 /** Hard ceiling of the issue: at most this many hashes per second of audio, on average. */
 export const MAX_HASHES_PER_SECOND = 20;
+/**
+ * And at most this many per file (13.9 h at the ceiling rate), so the encoded text stays below
+ * 1e6 × 9 bytes × 4/3 = 12 MB even with the longest time deltas; later hashes are dropped.
+ */
+export const MAX_FINGERPRINT_HASHES = 1_000_000;
 
 // Frozen: the hashes of FINGERPRINT_VERSION depend on every value here.
 const PEAKS = Object.freeze({
@@ -168,7 +173,7 @@ export function createFingerprinter(format: StreamFormat): BlockAnalyser<Fingerp
       const { hashes, anchorFrames } = hashLandmarks(peaks, PAIRS);
       const durationSeconds = framesPushed / sampleRateHz;
       // The window bound gives ≤ 18.03 hashes/s on any long stretch; this also holds it on sub-second files.
-      const count = Math.min(hashes.length, Math.floor(MAX_HASHES_PER_SECOND * durationSeconds));
+      const count = Math.min(hashes.length, Math.floor(MAX_HASHES_PER_SECOND * durationSeconds), MAX_FINGERPRINT_HASHES);
       const times = new Float32Array(count);
       for (let i = 0; i < count; i++) times[i] = frameTimeSeconds(anchorFrames[i]);
       return { version: FINGERPRINT_VERSION, hashes: hashes.slice(0, count), times, durationSeconds };
