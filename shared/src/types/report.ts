@@ -93,6 +93,9 @@ export const fileMetricsSchema = z.object({
 
 export const reportErrorSchema = z.object({ code: z.string(), message: z.string() });
 
+/** Longest `fingerprint` text accepted (the fingerprinter's hash cap keeps it below ~12 MB). */
+export const MAX_FINGERPRINT_CHARS = 16 * 1024 * 1024;
+
 export const fileReportSchema = z.object({
   /** As given, relative to the scanned root, with forward slashes. */
   path: z.string().min(1).max(4096),
@@ -106,6 +109,11 @@ export const fileReportSchema = z.object({
   error: reportErrorSchema.nullable(),
   /** Path of the spectrogram PNG as written by --spectrograms, or null. */
   spectrogram: z.string().nullable(),
+  /**
+   * Landmark fingerprint of the audio for duplicate detection (shared/src/fingerprint, issue #11),
+   * base64; null when the file could not be read. Optional, so reports written before it stay valid.
+   */
+  fingerprint: z.string().max(MAX_FINGERPRINT_CHARS).regex(/^[A-Za-z0-9+/]*={0,2}$/).nullable().optional(),
 });
 
 export const reportSummarySchema = z.object({
