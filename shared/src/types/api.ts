@@ -186,6 +186,34 @@ export interface FileDetailDto extends FileSummaryDto {
   waveformUrl: string | null;
 }
 
+/** Another file result holding the same recording, found by its fingerprint (issue #11). */
+export interface FingerprintMatchDto {
+  fileResultId: number;
+  batchId: number;
+  collection: CollectionDto;
+  path: string;
+  durationSeconds: number | null;
+  /** Landmark hashes the two files share at one time offset (the offset-histogram peak). */
+  score: number;
+  /** Where this file's (or the query's) t = 0 falls in the other file, seconds; negative: before its start. */
+  offsetSeconds: number;
+}
+
+/** A stored `possible-duplicate` link, seen from one of its two files. */
+export interface DuplicateMatchDto extends FingerprintMatchDto {
+  detectedAt: string;
+}
+
+/** GET /api/files/:id/duplicates answer, best score first. */
+export interface DuplicateListDto {
+  items: DuplicateMatchDto[];
+}
+
+/** POST /api/duplicates/lookup answer (body: the encoded fingerprint as text/plain), best first. */
+export interface FingerprintLookupDto {
+  matches: FingerprintMatchDto[];
+}
+
 /** PATCH /api/files/:id body. */
 export interface ReviewChangeRequest {
   reviewState: ReviewState;
@@ -248,4 +276,206 @@ export interface IngestResultDto {
 export interface HealthDto {
   ok: boolean;
   db: "up" | "down";
+}
+
+// ---- Distributed scanning: runs of queued file jobs (issue #10) ----
+
+/**
+ * A job's state as the portal shows it. `failed` means dead-lettered: the retry limit is spent, and only
+ * a supervisor's retry (or a re-enqueue) puts it back in the queue.
+ */
+export const SCAN_JOB_STATES = ["queued", "active", "done", "failed"] as const;
+export type ScanJobState = (typeof SCAN_JOB_STATES)[number];
+
+/** `waiting`: nothing claimed yet; `done`/`failed`: nothing left to do, with or without dead-lettered jobs. */
+export const SCAN_RUN_STATES = ["waiting", "running", "done", "failed"] as const;
+export type ScanRunState = (typeof SCAN_RUN_STATES)[number];
+
+export interface ScanRunCountsDto {
+  total: number;
+  queued: number;
+  active: number;
+  done: number;
+  failed: number;
+  /** Jobs that needed more than one attempt (a worker died, a job expired, or failed and was retried). */
+  retried: number;
+}
+
+export interface ScanRunThroughputDto {
+  /** Done files per minute, from the first claim to the last result (null before the first result). */
+  filesPerMinute: number | null;
+  /** Done files per minute over the last `windowSeconds` (null when nothing finished in it). */
+  recentFilesPerMinute: number | null;
+  /** Seconds of audio measured per second of wall-clock time (null before the first result). */
+  audioSecondsPerSecond: number | null;
+  windowSeconds: number;
+}
+
+export interface ScanRunDto {
+  id: number;
+  name: string;
+  collection: CollectionDto;
+  /** Folder on the shared storage that every job's path is relative to. */
+  root: string;
+  profileName: string;
+  profileHash: string;
+  /** The batch the run's file results are appended to (Files and Batches views). */
+  batchId: number;
+  createdBy: UserRefDto;
+  createdAt: string;
+  firstClaimAt: string | null;
+  lastResultAt: string | null;
+  state: ScanRunState;
+  counts: ScanRunCountsDto;
+  /** Verdicts of the results so far (the batch's counts). */
+  verdicts: ReportSummary;
+  throughput: ScanRunThroughputDto;
+}
+
+export interface ScanJobDto {
+  id: number;
+  runId: number;
+  path: string;
+  sizeBytes: number;
+  state: ScanJobState;
+  attempts: number;
+  /** Who holds (or last held) the job. */
+  worker: string | null;
+  lastError: string | null;
+  fileResultId: number | null;
+  claimedAt: string | null;
+  doneAt: string | null;
+  updatedAt: string;
+}
+
+export interface ScanRunDetailDto extends ScanRunDto {
+  /** Dead-lettered jobs, oldest first (at most 200; the jobs list pages through all). */
+  failedJobs: ScanJobDto[];
+  /** Jobs a worker holds now. */
+  activeJobs: ScanJobDto[];
+}
+
+/** Query of GET /api/runs. */
+export interface ScanRunQuery {
+  collection?: number;
+  page?: number;
+  pageSize?: number;
+}
+
+/** Query of GET /api/runs/:id/jobs. */
+export interface ScanJobQuery {
+  state?: ScanJobState;
+  page?: number;
+  pageSize?: number;
+}
+
+/** The run's profile as the enqueuing CLI resolved it; workers measure with exactly this. */
+export interface RunProfileDto {
+  name: string;
+  /** SHA-256 of the profile's canonical JSON. */
+  hash: string;
+  /** The validated profile object (built-in or custom). */
+  definition: Record<string, unknown>;
+}
+
+/** POST /api/runs body: find or create the run named `name` in `collection`. */
+export interface CreateRunRequest {
+  collection: string;
+  name: string;
+  root: string;
+  profile: RunProfileDto;
+}
+
+/** POST /api/runs answer (201 created, 200 found). */
+export interface CreateRunResultDto {
+  run: ScanRunDto;
+  created: boolean;
+}
+
+export interface EnqueueFileDto {
+  /** Relative to the run's root, forward slashes (the report path). */
+  path: string;
+  sizeBytes: number;
+  mtimeMs: number;
+}
+
+/** POST /api/runs/:id/files body (at most 1000 files a request). */
+export interface EnqueueFilesRequest {
+  files: EnqueueFileDto[];
+}
+
+export interface EnqueueFilesResultDto {
+  /** New jobs. */
+  added: number;
+  /** Dead-lettered jobs put back in the queue. */
+  requeued: number;
+  /** Done with the same size and mtime: skipped. */
+  alreadyDone: number;
+  /** Queued or being scanned already: skipped. */
+  pending: number;
+  /** Done, but size or mtime changed since: not queued in this run (enqueue them into a new run). */
+  changed: string[];
+}
+
+/** POST /api/jobs/claim body. */
+export interface ClaimJobsRequest {
+  /** The worker's name, shown in the portal (e.g. host#pid). */
+  worker: string;
+  /** Jobs wanted, 1–16 (default 1). */
+  max?: number;
+}
+
+export interface ClaimedJobDto {
+  id: number;
+  /** Which attempt this claim is; fail and release must name it. */
+  attempt: number;
+  runId: number;
+  collection: string;
+  /** Report path, relative to the run's root. */
+  path: string;
+  /** Where the file is on the shared storage. */
+  absPath: string;
+  sizeBytes: number;
+  mtimeMs: number;
+  /** The job goes back to the queue if no result arrives by then (the visibility timeout). */
+  expiresAt: string;
+  profile: RunProfileDto;
+}
+
+export interface ClaimJobsResultDto {
+  jobs: ClaimedJobDto[];
+}
+
+/** POST /api/jobs/:id/result answer (201 stored, 200 already stored by an earlier attempt). */
+export interface JobResultDto {
+  jobId: number;
+  runId: number;
+  batchId: number;
+  fileResultId: number;
+  created: boolean;
+}
+
+/** POST /api/jobs/:id/fail body. */
+export interface FailJobRequest {
+  attempt: number;
+  worker: string;
+  message: string;
+}
+
+/** POST /api/jobs/:id/release body. */
+export interface ReleaseJobRequest {
+  attempt: number;
+  worker: string;
+}
+
+/** Answer of fail, release and retry. */
+export interface JobStateDto {
+  jobId: number;
+  state: ScanJobState;
+  attempts: number;
+}
+
+/** POST /api/runs/:id/retry answer. */
+export interface RetryRunResultDto {
+  retried: number;
 }
