@@ -384,6 +384,8 @@ export interface CreateRunRequest {
   name: string;
   root: string;
   profile: RunProfileDto;
+  /** The enqueuing CLI; the batch shows the version of the workers that report results. */
+  tool: { name: string; version: string };
 }
 
 /** POST /api/runs answer (201 created, 200 found). */
