@@ -19,6 +19,7 @@ import path from "node:path";
 import { projectRoot } from "./lib/paths.ts";
 import { hasGnuTime, measure, median, type Measured } from "./bench/measure.ts";
 import { runStages } from "./bench/stages.ts";
+import { staleBundleSources } from "../cli/bin/bundleState.mjs";
 import { synthesiseWav, type SynthOptions } from "./bench/synthWav.ts";
 
 interface Options {
@@ -90,6 +91,17 @@ const TARGETS = { realtime: 150, workerScaling: 1.8, peakRssMb: 150, linearity: 
 interface ScanSample extends Measured {
   /** Stage times of the file(s), summed over files, ms. */
   stagesMs: Record<string, number>;
+  /** The CLI ran from the bundle (not the sources through tsx). */
+  bundled: boolean;
+}
+
+/** Others edit sources while the bench runs: rebuild the bundle whenever it went stale, so every run uses it. */
+function ensureBundle(o: Options): void {
+  if (o.fromSource) return;
+  const stale = staleBundleSources();
+  if (stale !== null && stale.length === 0) return;
+  if (stale) log(`  (rebuilding the CLI bundle: ${stale.length} source(s) changed)`);
+  execFileSync(process.execPath, [path.join(projectRoot, "cli/bin/build.mjs")], { stdio: ["ignore", "ignore", "inherit"] });
 }
 
 function machine() {
@@ -105,6 +117,7 @@ function machine() {
 }
 
 async function scan(dir: string, workers: number, o: Options, scratch: string): Promise<ScanSample> {
+  ensureBundle(o);
   const timings = path.join(scratch, `stages-${Date.now()}.jsonl`);
   const out = path.join(scratch, "report.json");
   const env = { ...process.env, TIDEMARK_STAGE_TIMINGS: timings, TIDEMARK_FROM_SOURCE: o.fromSource ? "1" : "0" };
@@ -115,12 +128,15 @@ async function scan(dir: string, workers: number, o: Options, scratch: string): 
   const report = JSON.parse(await readFile(out, "utf8")) as { summary: { error: number }; files: { error: unknown }[] };
   if (report.summary.error > 0) throw new Error(`scan of ${dir} reported errors: ${JSON.stringify(report.files.map((f) => f.error))}`);
   const stagesMs: Record<string, number> = {};
+  let bundled = true;
   for (const line of (await readFile(timings, "utf8")).trim().split("\n")) {
-    const t = (JSON.parse(line) as { timingsMs: Record<string, number> }).timingsMs;
-    for (const [k, v] of Object.entries(t)) stagesMs[k] = (stagesMs[k] ?? 0) + v;
+    const entry = JSON.parse(line) as { bundled: boolean; timingsMs: Record<string, number> };
+    bundled &&= entry.bundled;
+    for (const [k, v] of Object.entries(entry.timingsMs)) stagesMs[k] = (stagesMs[k] ?? 0) + v;
   }
   await rm(timings, { force: true });
-  return { ...m, stagesMs };
+  if (!bundled && !o.fromSource) log("  warning: this run used the sources through tsx (a source changed during the run)");
+  return { ...m, stagesMs, bundled };
 }
 
 async function ffmpegPass(file: string, scratch: string): Promise<Measured> {
@@ -143,6 +159,10 @@ async function synth(dir: string, name: string, seconds: number, extra: Partial<
   return file;
 }
 
+function busyNote(m: Measured): string {
+  return Number.isFinite(m.otherCores) ? ` (others busy: ${m.otherCores.toFixed(2)} cores)` : "";
+}
+
 function log(line: string): void {
   process.stderr.write(`${line}\n`);
 }
@@ -158,7 +178,9 @@ interface Summary {
   realtimeCpu: number;
   mbPerSecond: number;
   stagesMs: Record<string, number>;
-  samples: { wallSeconds: number; cpuSeconds: number; peakRssMb: number }[];
+  /** Median cores busy with other processes during the runs. */
+  otherCores: number;
+  samples: { wallSeconds: number; cpuSeconds: number; peakRssMb: number; otherCores: number; bundled: boolean }[];
 }
 
 function summarise(samples: ScanSample[], audioSeconds: number, bytes: number): Summary {
@@ -175,7 +197,8 @@ function summarise(samples: ScanSample[], audioSeconds: number, bytes: number): 
     realtimeCpu: audioSeconds / cpu,
     mbPerSecond: bytes / 1e6 / wall,
     stagesMs,
-    samples: samples.map((s) => ({ wallSeconds: s.wallSeconds, cpuSeconds: s.cpuSeconds, peakRssMb: s.peakRssMb })),
+    otherCores: median(samples.map((s) => s.otherCores)),
+    samples: samples.map((s) => ({ wallSeconds: s.wallSeconds, cpuSeconds: s.cpuSeconds, peakRssMb: s.peakRssMb, otherCores: s.otherCores, bundled: s.bundled })),
   };
 }
 
@@ -187,7 +210,7 @@ async function main(): Promise<void> {
   }
   const info = machine();
   log(`tidemark bench: ${info.cpuModel}, ${info.cores} cores, Node ${info.node}${o.quick ? " (quick)" : ""}`);
-  if (!o.fromSource) execFileSync(process.execPath, [path.join(projectRoot, "cli/bin/build.mjs")], { stdio: "inherit" });
+  ensureBundle(o);
 
   const root = await mkdtemp(path.join(o.tmp, "tidemark-bench-"));
   const result: Record<string, unknown> = { schema: "tidemark.bench/1", startedAt: new Date().toISOString(), machine: info, options: o };
@@ -217,16 +240,21 @@ async function main(): Promise<void> {
     const ffmpegRuns: Measured[] = [];
     for (let r = 0; r < o.repeats; r++) {
       singles.push(await scan(path.dirname(mainFile), 1, o, scratch));
-      log(`  tidemark ${fmt(singles[r].wallSeconds, 2)} s wall, ${fmt(singles[r].cpuSeconds, 2)} s CPU, ${fmt(singles[r].peakRssMb, 0)} MB`);
+      log(`  tidemark ${fmt(singles[r].wallSeconds, 2)} s wall, ${fmt(singles[r].cpuSeconds, 2)} s CPU, ${fmt(singles[r].peakRssMb, 0)} MB${busyNote(singles[r])}`);
       if (ffmpeg) {
         ffmpegRuns.push(await ffmpegPass(mainFile, scratch));
-        log(`  ffmpeg   ${fmt(ffmpegRuns[r].wallSeconds, 2)} s wall, ${fmt(ffmpegRuns[r].cpuSeconds, 2)} s CPU, ${fmt(ffmpegRuns[r].peakRssMb, 0)} MB`);
+        log(`  ffmpeg   ${fmt(ffmpegRuns[r].wallSeconds, 2)} s wall, ${fmt(ffmpegRuns[r].cpuSeconds, 2)} s CPU, ${fmt(ffmpegRuns[r].peakRssMb, 0)} MB${busyNote(ffmpegRuns[r])}`);
       }
     }
     const single = summarise(singles, o.seconds, audioBytes(o.seconds));
     result.single = single;
     if (ffmpeg) {
-      const ff = { wallSeconds: median(ffmpegRuns.map((m) => m.wallSeconds)), cpuSeconds: median(ffmpegRuns.map((m) => m.cpuSeconds)), peakRssMb: Math.max(...ffmpegRuns.map((m) => m.peakRssMb)) };
+      const ff = {
+        wallSeconds: median(ffmpegRuns.map((m) => m.wallSeconds)),
+        cpuSeconds: median(ffmpegRuns.map((m) => m.cpuSeconds)),
+        peakRssMb: Math.max(...ffmpegRuns.map((m) => m.peakRssMb)),
+        otherCores: median(ffmpegRuns.map((m) => m.otherCores)),
+      };
       result.ffmpeg = { filter: "ebur128=peak=true,astats", ...ff, realtimeWall: o.seconds / ff.wallSeconds, speedupWall: ff.wallSeconds / single.wallSeconds, speedupCpu: ff.cpuSeconds / single.cpuSeconds };
     }
 
@@ -245,7 +273,7 @@ async function main(): Promise<void> {
     for (let r = 0; r < o.repeats; r++) {
       w1.push(await scan(batchDir, 1, o, scratch));
       w2.push(await scan(batchDir, 2, o, scratch));
-      log(`  1 worker ${fmt(w1[r].wallSeconds, 2)} s, 2 workers ${fmt(w2[r].wallSeconds, 2)} s (${fmt(w2[r].peakRssMb, 0)} MB)`);
+      log(`  1 worker ${fmt(w1[r].wallSeconds, 2)} s${busyNote(w1[r])}; 2 workers ${fmt(w2[r].wallSeconds, 2)} s, ${fmt(w2[r].peakRssMb, 0)} MB${busyNote(w2[r])}`);
     }
     const batchAudio = o.files * o.seconds;
     const s1 = summarise(w1, batchAudio, audioBytes(batchAudio));
@@ -266,7 +294,7 @@ async function main(): Promise<void> {
         const s = summarise(runs, base * f, audioBytes(base * f));
         const inFileMs = (s.stagesMs.read ?? 0) + (s.stagesMs.decode ?? 0) + (s.stagesMs.hash ?? 0) + (s.stagesMs.analyse ?? 0) + (s.stagesMs.render ?? 0);
         rows.push({ factor: f, audioSeconds: base * f, ...s, inFileMsPerAudioSecond: inFileMs / (base * f) });
-        log(`  ${base * f} s: ${fmt(s.wallSeconds, 2)} s wall, ${fmt(s.cpuSeconds, 2)} s CPU, ${fmt(s.peakRssMb, 0)} MB`);
+        log(`  ${base * f} s: ${fmt(s.wallSeconds, 2)} s wall, ${fmt(s.cpuSeconds, 2)} s CPU, ${fmt(s.peakRssMb, 0)} MB, others ${fmt(s.otherCores, 2)} cores`);
         await rm(dir, { recursive: true, force: true });
       }
       result.linearity = { rows, ratio16: rows[2].inFileMsPerAudioSecond / rows[0].inFileMsPerAudioSecond, ratio4: rows[1].inFileMsPerAudioSecond / rows[0].inFileMsPerAudioSecond };
@@ -277,10 +305,11 @@ async function main(): Promise<void> {
       const seconds = Math.ceil(RF64_BYTES / BYTES_PER_SECOND);
       log(`\n5. RF64 of ${(RF64_BYTES / 1e9).toFixed(1)} GB (${(seconds / 3600).toFixed(1)} h), --workers 1`);
       const dir = path.join(root, "rf64");
-      await synth(dir, "long.rf64", seconds, { rf64: true, seed: 50 });
+      // Pink noise repeating every 60 s: the same work per second as fresh noise, written at disk speed.
+      await synth(dir, "long.rf64", seconds, { rf64: true, seed: 50, periodSeconds: 60 });
       const run = await scan(dir, 1, o, scratch);
       result.rf64 = summarise([run], seconds, audioBytes(seconds));
-      log(`  ${fmt(run.wallSeconds, 1)} s wall, ${fmt(run.cpuSeconds, 1)} s CPU, ${fmt(run.peakRssMb, 0)} MB`);
+      log(`  ${fmt(run.wallSeconds, 1)} s wall, ${fmt(run.cpuSeconds, 1)} s CPU, ${fmt(run.peakRssMb, 0)} MB${busyNote(run)}`);
       await rm(dir, { recursive: true, force: true });
     }
 
@@ -321,6 +350,7 @@ function printTable(r: Record<string, unknown>, o: Options): void {
   lines.push(`| realtime factor (wall / CPU) | ${fmt(single.realtimeWall, 0)}x / ${fmt(single.realtimeCpu, 0)}x |`);
   lines.push(`| throughput | ${fmt(single.mbPerSecond, 0)} MB/s |`);
   lines.push(`| peak RSS (OS) | ${fmt(single.peakRssMb, 0)} MB |`);
+  lines.push(`| other processes during these runs (median cores busy) | ${fmt(single.otherCores, 2)} |`);
   const st = single.stagesMs;
   lines.push(`| stages (ms): decode / hash / level+loudness+true peak / spectral (FFT) / paint / PNG | ${["decode", "hash", "level", "spectral", "paint", "png"].map((k) => fmt(st[k] ?? NaN, 0)).join(" / ")} |`);
   lines.push(`| start-up and the rest (wall − file stages) | ${fmt(single.wallSeconds * 1000 - (st.read + st.decode + st.hash + st.analyse + st.render), 0)} ms |`);
@@ -330,7 +360,7 @@ function printTable(r: Record<string, unknown>, o: Options): void {
   if (white) lines.push(`| white noise (true-peak worst case): realtime wall / CPU | ${fmt(white.realtimeWall, 0)}x / ${fmt(white.realtimeCpu, 0)}x |`);
   const w = r.workers as { files: number; one: Summary; two: Summary; scaling: number };
   lines.push(`| ${w.files} files: 1 worker / 2 workers wall; scaling | ${fmt(w.one.wallSeconds, 1)} s / ${fmt(w.two.wallSeconds, 1)} s; ${fmt(w.scaling, 2)}x |`);
-  lines.push(`| 2 workers peak RSS | ${fmt(w.two.peakRssMb, 0)} MB |`);
+  lines.push(`| 2 workers peak RSS; others busy during 1 / 2-worker runs (cores) | ${fmt(w.two.peakRssMb, 0)} MB; ${fmt(w.one.otherCores, 2)} / ${fmt(w.two.otherCores, 2)} |`);
   const lin = r.linearity as { rows: (Summary & { audioSeconds: number; inFileMsPerAudioSecond: number })[]; ratio16: number } | undefined;
   if (lin) {
     lines.push(`| linearity: in-file ms per audio s at ${lin.rows.map((x) => `${x.audioSeconds} s`).join(" / ")} | ${lin.rows.map((x) => fmt(x.inFileMsPerAudioSecond, 2)).join(" / ")} (16×/1× ${fmt(lin.ratio16, 2)}) |`);

@@ -13,6 +13,11 @@ export interface Measured {
   /** User + system CPU seconds (all threads). */
   cpuSeconds: number;
   peakRssMb: number;
+  /**
+   * Cores kept busy by everything else on the machine during the run (from /proc/stat, minus this run's own
+   * CPU time): the shared machine's noise, to read the other figures by. NaN where /proc/stat is missing.
+   */
+  otherCores: number;
   exitCode: number;
   stderr: string;
 }
@@ -25,6 +30,7 @@ export async function measure(command: string, args: string[], o: { cwd: string;
   const timeFile = path.join(o.scratchDir, `time-${process.pid}-${Date.now()}.txt`);
   const useGnuTime = hasGnuTime;
   const argv = useGnuTime ? ["-f", "%U %S %M", "-o", timeFile, command, ...args] : args;
+  const busyBefore = await busyCpuSeconds();
   const started = process.hrtime.bigint();
   const child = spawn(useGnuTime ? GNU_TIME : command, argv, { cwd: o.cwd, env: o.env ?? process.env, stdio: ["ignore", "ignore", "pipe"] });
   let stderr = "";
@@ -39,16 +45,30 @@ export async function measure(command: string, args: string[], o: { cwd: string;
     child.on("close", (code) => resolve(code ?? -1));
   });
   const wallSeconds = Number(process.hrtime.bigint() - started) / 1e9;
+  const busy = (await busyCpuSeconds()) - busyBefore;
   if (poll) clearInterval(poll);
+  const others = (cpuSeconds: number) => Math.max(0, (busy - cpuSeconds) / wallSeconds);
   if (!useGnuTime) {
-    return { wallSeconds, cpuSeconds: polled.cpuTicks / CLOCK_TICKS_PER_SECOND, peakRssMb: polled.rssKb / 1024, exitCode, stderr };
+    const cpuSeconds = polled.cpuTicks / CLOCK_TICKS_PER_SECOND;
+    return { wallSeconds, cpuSeconds, peakRssMb: polled.rssKb / 1024, otherCores: others(cpuSeconds), exitCode, stderr };
   }
   const text = await readFile(timeFile, "utf8");
   await rm(timeFile, { force: true });
   // GNU time writes "Command exited with non-zero status N" before the format line.
   const line = text.trim().split("\n").pop() ?? "";
   const [user, system, rssKb] = line.split(/\s+/).map(Number);
-  return { wallSeconds, cpuSeconds: user + system, peakRssMb: rssKb / 1024, exitCode, stderr };
+  return { wallSeconds, cpuSeconds: user + system, peakRssMb: rssKb / 1024, otherCores: others(user + system), exitCode, stderr };
+}
+
+/** Busy CPU time of the whole machine so far (user, nice, system, irq, softirq, steal), seconds. */
+async function busyCpuSeconds(): Promise<number> {
+  try {
+    const line = (await readFile("/proc/stat", "utf8")).split("\n")[0];
+    const [user, nice, system, , , irq, softirq, steal] = line.trim().split(/\s+/).slice(1).map(Number);
+    return (user + nice + system + irq + softirq + steal) / CLOCK_TICKS_PER_SECOND;
+  } catch {
+    return NaN;
+  }
 }
 
 async function pollProc(pid: number | undefined): Promise<{ rssKb: number; cpuTicks: number } | null> {

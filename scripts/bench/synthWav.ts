@@ -17,6 +17,8 @@ export interface SynthOptions {
   /** Write RF64 with a ds64 chunk (EBU Tech 3306) instead of RIFF; required above 4 GiB. */
   rf64?: boolean;
   seed?: number;
+  /** Repeat the first this many seconds to the end (a 4.5 GB file is written in seconds, not a minute). */
+  periodSeconds?: number;
 }
 
 const CHUNK_FRAMES = 1 << 16;
@@ -80,13 +82,22 @@ export async function synthesiseWav(o: SynthOptions): Promise<number> {
   const filter = new Float64Array(3 * o.channels);
   for (let c = 0; c < o.channels; c++) state[c] = (o.seed ?? 7) + 0x9e3779b9 * (c + 1);
   const out = new Uint8Array(CHUNK_FRAMES * blockAlign);
+  const periodChunks = o.periodSeconds ? Math.max(1, Math.round((o.periodSeconds * o.sampleRateHz) / CHUNK_FRAMES)) : Infinity;
+  const period: Uint8Array[] = [];
   const file = await open(o.path, "w");
   try {
     const head = header(o, frames);
     await file.write(head, 0, head.length, 0);
     let position = head.length;
-    for (let done = 0; done < frames; ) {
+    for (let done = 0, chunkIndex = 0; done < frames; chunkIndex++) {
       const n = Math.min(CHUNK_FRAMES, frames - done);
+      if (chunkIndex >= periodChunks) {
+        const bytes = n * blockAlign;
+        await file.write(period[chunkIndex % periodChunks], 0, bytes, position);
+        position += bytes;
+        done += n;
+        continue;
+      }
       for (let c = 0; c < o.channels; c++) {
         let a = state[c];
         let b0 = filter[3 * c], b1 = filter[3 * c + 1], b2 = filter[3 * c + 2];
@@ -115,6 +126,7 @@ export async function synthesiseWav(o: SynthOptions): Promise<number> {
         filter[3 * c + 2] = b2;
       }
       const bytes = n * blockAlign;
+      if (periodChunks !== Infinity) period.push(out.slice(0, bytes));
       await file.write(out, 0, bytes, position);
       position += bytes;
       done += n;

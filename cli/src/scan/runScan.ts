@@ -40,7 +40,8 @@ export interface RunScanResult {
 /** Per-worker V8 heap cap: far above what one file needs (#8), low enough to stop a runaway. */
 const WORKER_HEAP_LIMIT_MB = 1024;
 /** The worker script beside this module: the TypeScript source, or the bundle's entry in cli/dist (cli/bin/build.mjs). */
-const WORKER_SCRIPT = new URL(import.meta.url.endsWith(".ts") ? "./scanWorker.ts" : "./scanWorker.js", import.meta.url);
+const IS_BUNDLED = !import.meta.url.endsWith(".ts");
+const WORKER_SCRIPT = new URL(IS_BUNDLED ? "./scanWorker.js" : "./scanWorker.ts", import.meta.url);
 
 async function exists(file: string): Promise<boolean> {
   return access(file).then(
@@ -88,7 +89,7 @@ export async function runScan(options: RunScanOptions): Promise<RunScanResult> {
       if (result.file.imageError) progress.note(`tidemark: warning: ${result.file.imageError}`);
       const timingsFile = process.env[STAGE_TIMINGS_ENV];
       if (timingsFile) {
-        const line = { path: file.relPath, audioSeconds: result.file.audioSeconds, timingsMs: result.file.timingsMs };
+        const line = { path: file.relPath, audioSeconds: result.file.audioSeconds, bundled: IS_BUNDLED, timingsMs: result.file.timingsMs };
         appendFileSync(timingsFile, `${JSON.stringify(line)}\n`);
       }
       return { report: result.file.report, seconds: result.file.audioSeconds };
