@@ -124,6 +124,19 @@ export function encodeFingerprint(fp: Fingerprint): string {
   return toBase64(bytes.subarray(0, at));
 }
 
+/**
+ * The version in an encoded fingerprint's header, without decoding the rest: a reader can skip a
+ * fingerprint of another version (which it could not compare) instead of failing on it.
+ */
+export function fingerprintVersionOf(text: string): number {
+  if (typeof text !== "string") throw new FingerprintDecodeError(`expected a base64 string, got ${typeof text}`);
+  // 28 base64 characters are 21 bytes: the whole header.
+  const head = fromBase64(text.slice(0, 28));
+  if (head.length < HEADER_BYTES) throw new FingerprintDecodeError(`need at least ${HEADER_BYTES} bytes, got ${head.length}`);
+  if (head[0] !== MAGIC_0 || head[1] !== MAGIC_1) throw new FingerprintDecodeError("not a Tidemark fingerprint (bad magic)");
+  return new DataView(head.buffer, head.byteOffset, head.byteLength).getUint32(4, true);
+}
+
 export function decodeFingerprint(text: string): Fingerprint {
   if (typeof text !== "string") throw new FingerprintDecodeError(`expected a base64 string, got ${typeof text}`);
   const bytes = fromBase64(text);

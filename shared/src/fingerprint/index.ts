@@ -9,7 +9,7 @@ export {
   MAX_SAMPLE_RATE_HZ,
   MIN_SAMPLE_RATE_HZ,
 } from "./fingerprinter.ts";
-export { decodeFingerprint, encodeFingerprint, FingerprintDecodeError } from "./codec.ts";
+export { decodeFingerprint, encodeFingerprint, FingerprintDecodeError, fingerprintVersionOf } from "./codec.ts";
 export {
   DEFAULT_MIN_SCORE,
   distinctHashes,
@@ -23,3 +23,4 @@ export {
   type ScoreOptions,
 } from "./offsetHistogram.ts";
 export { createFingerprintIndex, type FingerprintIndex, type LookupOptions } from "./fingerprintIndex.ts";
+export { isSameRecording, MIN_SHARED_FRACTION } from "./matchPolicy.ts";
