@@ -207,6 +207,8 @@ export interface DuplicateMatchDto extends FingerprintMatchDto {
 /** GET /api/files/:id/duplicates answer, best score first. */
 export interface DuplicateListDto {
   items: DuplicateMatchDto[];
+  /** False when this scan's report carried no fingerprint of the server's version: it was never compared. */
+  hasFingerprint: boolean;
 }
 
 /** POST /api/duplicates/lookup answer (body: the encoded fingerprint as text/plain), best first. */
