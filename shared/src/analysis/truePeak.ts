@@ -109,8 +109,11 @@ export function createTruePeakMeter(sampleRateHz: number, channels: number): Tru
 
 /** Samples taken for a block's centre estimate c: every 64th (any c is correct; a good one skips more). */
 const CENTRE_STRIDE = 64;
-/** A centre under this share of the running peak is treated as 0 (it would tighten T by under 1 %). */
-const DC_NEGLIGIBLE = 0.01;
+/**
+ * A centre under this share of the running peak is treated as 0: it would tighten T by under 10 %, and the
+ * integer compare is worth more (pink noise has block means of a few per cent of its peak).
+ */
+const DC_NEGLIGIBLE = 0.1;
 
 const float32Scratch = new Float32Array(1);
 const float32ScratchBits = new Int32Array(float32Scratch.buffer);
