@@ -22,6 +22,7 @@ import { auditRouter } from "./routes/audit.ts";
 import { batchesRouter } from "./routes/batches.ts";
 import { collectionsRouter } from "./routes/collections.ts";
 import { commentsRouter } from "./routes/comments.ts";
+import { duplicatesRouter } from "./routes/duplicates.ts";
 import { exportsRouter } from "./routes/exports.ts";
 import { filesRouter } from "./routes/files.ts";
 import { healthRouter } from "./routes/health.ts";
@@ -105,6 +106,7 @@ export function createApp(deps: AppDeps): Express {
   api.use(collectionsRouter());
   api.use(batchesRouter());
   api.use(filesRouter(ctx));
+  api.use(duplicatesRouter(ctx));
   api.use(commentsRouter(ctx));
   api.use(ingestRouter(ctx));
   api.use(exportsRouter(ctx));

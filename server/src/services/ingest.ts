@@ -12,6 +12,7 @@ import type { AppContext } from "../context.ts";
 import { Batch, type User } from "../models/index.ts";
 import { imageKey, newUploadId } from "../storage/objectKeys.ts";
 import { recordAudit } from "./audit.ts";
+import { recordBatchDuplicates } from "./duplicatesIngest.ts";
 import { summariseFindings } from "./findingSummary.ts";
 import type { ImagePart } from "./ingestValidation.ts";
 import { insertFileRows, insertFindingRows, type FileRow } from "./ingestRows.ts";
@@ -158,6 +159,8 @@ async function storeRows(ctx: AppContext, res: Response, input: IngestInput, key
     waveform_key: keys.get(`waveform:${index}`) ?? null,
   }));
   const ids = await insertFileRows(ctx.sequelize, batch.id, collectionId, fileRows, transaction);
+  // Appends possible-duplicate findings to `prepared`, so they are inserted with the others below.
+  const duplicates = await recordBatchDuplicates(ctx.sequelize, res, collectionId, prepared.map((p, i) => ({ report: p.file, fileResultId: ids[i], findings: p.findings })), transaction);
   await insertFindingRows(
     ctx.sequelize,
     prepared.flatMap(({ findings }, index) => findings.map((f) => ({ ...f, file_result_id: ids[index] }))),
@@ -183,7 +186,7 @@ async function storeRows(ctx: AppContext, res: Response, input: IngestInput, key
       action: "batch.ingest",
       targetType: "batch",
       targetId: batch.id,
-      details: { collection: input.collectionName, batchKey, files: prepared.length, ...counts, fixityChanged: fixityEvents.length, images: keys.size },
+      details: { collection: input.collectionName, batchKey, files: prepared.length, ...counts, fixityChanged: fixityEvents.length, images: keys.size, ...duplicates },
     },
     transaction,
   );

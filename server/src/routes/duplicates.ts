@@ -1,0 +1,36 @@
+/**
+ * Duplicate transfers (issue #11): the links of one file for its page, and a fingerprint lookup for
+ * `tidemark match --server`. The lookup reads only, but is token-only like ingest: it is the CLI's door,
+ * and its body (up to a few MB of fingerprint) is parsed only once the caller is known.
+ */
+import express, { Router } from "express";
+import { z } from "zod";
+import { MAX_FINGERPRINT_CHARS } from "@tidemark/shared/types/report";
+import type { AppContext } from "../context.ts";
+import { requirePermission, requireTokenAuth } from "../middleware/auth.ts";
+import { loadFileResult } from "../middleware/loadEntity.ts";
+import { duplicatesOf, lookupEncodedFingerprint } from "../services/duplicates.ts";
+import { parseWith } from "../validate.ts";
+
+const lookupQuerySchema = z.object({ limit: z.coerce.number().int().min(1).max(100).default(10) }).strict();
+
+export function duplicatesRouter(ctx: AppContext): Router {
+  const router = Router();
+
+  router.get("/files/:id/duplicates", requirePermission("view"), loadFileResult, async (_req, res) => {
+    res.json(await duplicatesOf(ctx.sequelize, res.locals.file!.id));
+  });
+
+  router.post(
+    "/duplicates/lookup",
+    requireTokenAuth,
+    requirePermission("view"),
+    express.text({ type: "text/plain", limit: MAX_FINGERPRINT_CHARS + 1024 }),
+    async (req, res) => {
+      const { limit } = parseWith(lookupQuerySchema, req.query, "query");
+      res.json(await lookupEncodedFingerprint(ctx.sequelize, req.body, limit));
+    },
+  );
+
+  return router;
+}
