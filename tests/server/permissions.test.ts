@@ -6,6 +6,7 @@
 import request from "supertest";
 import type TestAgent from "supertest/lib/agent.js";
 import { afterAll, beforeAll, expect, it } from "vitest";
+import { encodeFingerprint, FINGERPRINT_VERSION } from "@tidemark/shared/fingerprint/index";
 import { CSRF_HEADER, ROLES, type Role } from "@tidemark/shared/types/api";
 import { ApiToken, FileResult, type User } from "../../server/src/models/index.ts";
 import { createApiToken } from "../../server/src/services/apiTokens.ts";
@@ -48,12 +49,15 @@ interface RouteCase {
   accepts: Via[];
   ok: number;
   body?: (fx: Fixture, caller: Caller) => object;
+  /** A text/plain body instead of JSON. */
+  textBody?: () => string;
   /** The status an authenticated caller without the permission gets (default 403). */
   denied?: number;
   multipart?: boolean;
 }
 
 const both: Via[] = ["session", "token"];
+const EMPTY_FINGERPRINT = encodeFingerprint({ version: FINGERPRINT_VERSION, hashes: new Uint32Array(0), times: new Float32Array(0), durationSeconds: 0 });
 let n = 0;
 const unique = (): string => `${Date.now()}-${++n}`;
 
@@ -75,6 +79,8 @@ const ROUTES: RouteCase[] = [
   { method: "get", path: (fx) => `/api/files/${fx.fileId}/spectrogram.png`, access: "view", accepts: both, ok: 200 },
   { method: "get", path: (fx) => `/api/files/${fx.fileId}/waveform.png`, access: "view", accepts: both, ok: 200 },
   { method: "get", path: (fx) => `/api/files/${fx.fileId}/comments`, access: "view", accepts: both, ok: 200 },
+  { method: "get", path: (fx) => `/api/files/${fx.fileId}/duplicates`, access: "view", accepts: both, ok: 200 },
+  { method: "post", path: () => "/api/duplicates/lookup", access: "view", accepts: ["token"], ok: 200, textBody: () => EMPTY_FINGERPRINT },
   { method: "post", path: (fx) => `/api/files/${fx.fileId}/comments`, access: "comment", accepts: both, ok: 201, body: () => ({ body: "Matrix comment" }) },
   { method: "patch", path: (fx) => `/api/files/${fx.fileId}`, access: "review", accepts: both, ok: 200, body: () => ({ reviewState: n % 2 ? "flagged" : "accepted", reason: "matrix" }) },
   { method: "post", path: () => "/api/files/review", access: "review", accepts: both, ok: 200, body: (fx) => ({ ids: [fx.fileId], reviewState: "pending", reason: "matrix" }) },
@@ -118,7 +124,8 @@ function allowed(access: Access, role: Role): boolean {
 function expected(route: RouteCase, caller: Caller): number {
   if (route.access === "public") return route.ok;
   if (caller.role === "anonymous") return 401;
-  if (!route.accepts.includes(caller.via!)) return route.access === "upload" ? 401 : 403;
+  // Token-only routes ask for a token (401); session-only routes refuse a token (403).
+  if (!route.accepts.includes(caller.via!)) return route.accepts.includes("token") ? 401 : 403;
   if (route.denied && !allowed(route.access, caller.role) && allowed("ownTokens", caller.role)) return route.denied;
   return allowed(route.access, caller.role) ? route.ok : 403;
 }
@@ -173,6 +180,7 @@ async function call(route: RouteCase, caller: Caller): Promise<number> {
   else if (caller.via === "session") req = sessions[caller.role][route.method](url).set(CSRF_HEADER, "1");
   else req = request(t.app)[route.method](url).set("Authorization", `Bearer ${tokens[caller.role]}`);
   if (route.body) req = req.send(route.body(fx, caller));
+  if (route.textBody) req = req.set("content-type", "text/plain").send(route.textBody());
   const res = await req;
   if (res.status >= 400) expect(res.body.error, `${route.method} ${url}: one JSON error shape`).toMatchObject({ code: expect.any(String), message: expect.any(String) });
   return res.status;
