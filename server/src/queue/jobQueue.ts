@@ -1,0 +1,105 @@
+/**
+ * The server's side of pg-boss for requests: send, fetch, complete, fail and release jobs inside the
+ * caller's Sequelize transaction, so a job's queue state and our rows commit (or roll back) together.
+ * pg-boss accepts any `db` with executeSql(text, values); these commands are single statements with
+ * positional parameters, which Sequelize passes through as bind parameters. Nothing here needs
+ * pg-boss's own pool or timers (the supervisor, supervisor.ts, has those).
+ */
+import PgBoss from "pg-boss";
+import { QueryTypes, type Sequelize, type Transaction } from "sequelize";
+import { DEAD_LETTER_QUEUE, QUEUE_SCHEMA, SCAN_QUEUE } from "./queueNames.ts";
+
+/** What every scan job carries; enough to find our row again from a dead-letter copy. */
+export interface ScanJobData {
+  scanJobId: number;
+  runId: number;
+  /** The job's own id: dead-letter copies get a new id, so the original travels in the data. */
+  queueJobId: string;
+}
+
+export type QueueJobState = "created" | "retry" | "active" | "completed" | "cancelled" | "failed";
+
+export interface FetchedJob {
+  queueJobId: string;
+  data: ScanJobData;
+  expiresAt: Date;
+}
+
+export interface JobQueue {
+  insert(jobs: { queueJobId: string; data: ScanJobData }[], transaction: Transaction): Promise<void>;
+  fetch(max: number, transaction: Transaction): Promise<FetchedJob[]>;
+  /** Completes an active job; one that is no longer active (expired into retry) is cancelled instead. */
+  finish(queueJobId: string, output: object, transaction: Transaction): Promise<void>;
+  /** Fails the attempt; pg-boss retries it or, past the retry limit, dead-letters it. */
+  fail(queueJobId: string, output: object, transaction: Transaction): Promise<QueueJobState | null>;
+  /** Puts an active job straight back in the queue (no wait for the visibility timeout). */
+  release(queueJobId: string, transaction: Transaction): Promise<boolean>;
+  state(queueJobId: string, transaction?: Transaction): Promise<QueueJobState | null>;
+  /** Sets the scan queue's visibility timeout, retry limit and retention for jobs sent from now on. */
+  configure(options: { expireInSeconds: number; retryLimit: number; retentionMinutes: number }): Promise<void>;
+}
+
+function sequelizeDb(sequelize: Sequelize, transaction?: Transaction): PgBoss.Db {
+  return {
+    executeSql: async (text: string, values: unknown[] = []) => {
+      // Sequelize refuses undefined bind values; pg-boss leaves unset options undefined.
+      const bind = values.map((v) => (v === undefined ? null : v));
+      const rows = await sequelize.query(text, { bind, type: QueryTypes.SELECT, transaction });
+      return { rows };
+    },
+  };
+}
+
+const queues = new WeakMap<Sequelize, JobQueue>();
+
+export function jobQueueFor(sequelize: Sequelize): JobQueue {
+  const known = queues.get(sequelize);
+  if (known) return known;
+  const boss = new PgBoss({ db: sequelizeDb(sequelize), schema: QUEUE_SCHEMA, supervise: false, schedule: false, migrate: false });
+  const db = (transaction?: Transaction) => ({ db: sequelizeDb(sequelize, transaction) });
+  const affected = (result: unknown): number => Number((result as { affected?: number } | undefined)?.affected ?? 0);
+
+  const queue: JobQueue = {
+    async insert(jobs, transaction) {
+      if (jobs.length === 0) return;
+      await boss.insert(
+        jobs.map((j) => ({ id: j.queueJobId, name: SCAN_QUEUE, data: j.data })),
+        db(transaction),
+      );
+    },
+    async fetch(max, transaction) {
+      const jobs = await boss.fetch<ScanJobData>(SCAN_QUEUE, { batchSize: max, includeMetadata: true, ...db(transaction) });
+      return jobs.map((j) => ({
+        queueJobId: j.id,
+        data: j.data,
+        expiresAt: new Date(new Date(j.startedOn).getTime() + Number(j.expireInSeconds) * 1000),
+      }));
+    },
+    async finish(queueJobId, output, transaction) {
+      const completed = affected(await boss.complete(SCAN_QUEUE, queueJobId, output, db(transaction)));
+      if (completed === 0) await boss.cancel(SCAN_QUEUE, queueJobId, db(transaction));
+    },
+    async fail(queueJobId, output, transaction) {
+      await boss.fail(SCAN_QUEUE, queueJobId, output, db(transaction));
+      return queue.state(queueJobId, transaction);
+    },
+    async release(queueJobId, transaction) {
+      // Cancel then resume, in one transaction: the job is never seen cancelled, and no retry is spent.
+      const cancelled = affected(await boss.cancel(SCAN_QUEUE, queueJobId, db(transaction)));
+      if (cancelled === 0) return false;
+      await boss.resume(SCAN_QUEUE, queueJobId, db(transaction));
+      return true;
+    },
+    async state(queueJobId, transaction) {
+      const job = await boss.getJobById<ScanJobData>(SCAN_QUEUE, queueJobId, { includeArchive: true, ...db(transaction) });
+      return (job?.state as QueueJobState | undefined) ?? null;
+    },
+    async configure(options) {
+      await boss.updateQueue(SCAN_QUEUE, { name: SCAN_QUEUE, policy: "standard", deadLetter: DEAD_LETTER_QUEUE, retryDelay: 0, ...options });
+    },
+  };
+  queues.set(sequelize, queue);
+  return queue;
+}
+
+export { DEAD_LETTER_QUEUE, SCAN_QUEUE };

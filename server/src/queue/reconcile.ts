@@ -1,0 +1,65 @@
+/**
+ * Brings our job rows in line with what pg-boss decided on its own: an active job whose worker went
+ * silent past the visibility timeout is retried by pg-boss (or dead-lettered once its retries are spent),
+ * and the row follows, with the attempt closed as expired. Runs after pg-boss's maintenance and for
+ * every dead-letter copy, so the portal's counts do not wait for the next claim.
+ */
+import { Op, type Sequelize, type Transaction } from "sequelize";
+import { AuditEntry } from "../models/index.ts";
+import { closeAttempts } from "../services/runsJobs.ts";
+import { markRunFinishedIfDone } from "../services/runsStatus.ts";
+import { jobQueueFor, type ScanJobData } from "./jobQueue.ts";
+import { ScanJob } from "./models/index.ts";
+
+/** Rows looked at per pass; the next maintenance takes the rest. */
+const BATCH = 500;
+
+async function systemAudit(action: string, job: ScanJob, details: Record<string, unknown>, transaction: Transaction): Promise<void> {
+  await AuditEntry.create({ actorId: null, action, targetType: "job", targetId: String(job.id), requestId: null, details }, { transaction });
+}
+
+async function markFailed(sequelize: Sequelize, job: ScanJob, message: string, transaction: Transaction): Promise<void> {
+  await job.update({ state: "failed", lastError: message, expiresAt: null }, { transaction });
+  await closeAttempts(job.id, "expired", message, transaction);
+  await markRunFinishedIfDone(sequelize, job.runId, transaction);
+}
+
+export async function reconcileExpiredJobs(sequelize: Sequelize, now = new Date()): Promise<{ requeued: number; failed: number }> {
+  const queue = jobQueueFor(sequelize);
+  const stale = await ScanJob.findAll({ where: { state: "active", expiresAt: { [Op.lt]: now } }, attributes: ["id"], order: [["expiresAt", "ASC"]], limit: BATCH });
+  const outcome = { requeued: 0, failed: 0 };
+  for (const { id } of stale) {
+    await sequelize.transaction(async (transaction) => {
+      const job = await ScanJob.findByPk(id, { transaction, lock: transaction.LOCK.UPDATE });
+      if (!job || job.state !== "active" || !job.expiresAt || job.expiresAt >= now) return;
+      const state = await queue.state(job.queueJobId, transaction);
+      const message = `attempt ${job.attempts} by ${job.worker ?? "a worker"} sent no result within the visibility timeout`;
+      if (state === "created" || state === "retry") {
+        await job.update({ state: "queued", lastError: message, expiresAt: null }, { transaction });
+        await closeAttempts(job.id, "expired", message, transaction);
+        await systemAudit("job.expire", job, { attempt: job.attempts, worker: job.worker, state: "queued" }, transaction);
+        outcome.requeued += 1;
+      } else if (state === "failed") {
+        await markFailed(sequelize, job, `${message}; retries spent`, transaction);
+        await systemAudit("job.expire", job, { attempt: job.attempts, worker: job.worker, state: "failed" }, transaction);
+        outcome.failed += 1;
+      }
+      // Still active in pg-boss: its maintenance has not expired it yet; the next pass will see it.
+    });
+  }
+  return outcome;
+}
+
+/** A dead-letter copy: the job it came from spent its retries. */
+export async function markDeadLettered(sequelize: Sequelize, data: ScanJobData, output: unknown): Promise<boolean> {
+  return sequelize.transaction(async (transaction) => {
+    const job = await ScanJob.findByPk(data.scanJobId, { transaction, lock: transaction.LOCK.UPDATE });
+    // Only the pg-boss job the copy came from counts: a retried job has a new one.
+    if (!job || job.queueJobId !== data.queueJobId || (job.state !== "queued" && job.state !== "active")) return false;
+    const reason = (output as { message?: unknown } | null)?.message;
+    const message = typeof reason === "string" && reason ? reason : "retries spent";
+    await markFailed(sequelize, job, message, transaction);
+    await systemAudit("job.dead_letter", job, { attempts: job.attempts, message }, transaction);
+    return true;
+  });
+}

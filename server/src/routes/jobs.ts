@@ -1,0 +1,88 @@
+/**
+ * The worker's endpoints (API token only): claim jobs, send one file's result (multipart: the one-file
+ * report plus its PNGs, as ingest takes them), fail or release an attempt. Supervisors and admins
+ * retry dead-lettered jobs.
+ */
+import { mkdirSync } from "node:fs";
+import { rm } from "node:fs/promises";
+import { Router, type RequestHandler } from "express";
+import multer from "multer";
+import type { ClaimJobsResultDto } from "@tidemark/shared/types/api";
+import type { AppContext } from "../context.ts";
+import { HttpError } from "../errors.ts";
+import { requirePermission, requireTokenAuth } from "../middleware/auth.ts";
+import { idParam } from "../middleware/loadEntity.ts";
+import { initRunModels } from "../queue/models/index.ts";
+import { recordAudit } from "../services/audit.ts";
+import { readImageParts, readReport, type UploadedPart } from "../services/ingestValidation.ts";
+import { claimJobs, failJob, releaseJob, retryJob } from "../services/runsJobs.ts";
+import { storeJobResult } from "../services/runsResults.ts";
+import { claimSchema, failSchema, releaseSchema, resultFieldsSchema } from "../services/runsValidation.ts";
+import { parseWith } from "../validate.ts";
+
+type PartsByField = Record<string, Express.Multer.File[]>;
+
+function resultUpload(ctx: AppContext): RequestHandler {
+  const { upload, uploadTmpDir } = ctx.settings;
+  mkdirSync(uploadTmpDir, { recursive: true });
+  return multer({
+    storage: multer.diskStorage({ destination: uploadTmpDir }),
+    limits: { fileSize: Math.max(upload.maxReportBytes, upload.maxImageBytes), files: 3, fields: 4, fieldSize: 1024, parts: 8, headerPairs: 50 },
+  }).fields([
+    { name: "report", maxCount: 1 },
+    { name: "spectrogram", maxCount: 1 },
+    { name: "waveform", maxCount: 1 },
+  ]);
+}
+
+const requireMultipart: RequestHandler = (req, _res, next) => {
+  if (!req.is("multipart/form-data")) {
+    throw new HttpError(415, "unsupported_media_type", 'send the result as multipart/form-data (part "report" with a one-file report, optional PNG parts)');
+  }
+  next();
+};
+
+export function jobsRouter(ctx: AppContext): Router {
+  initRunModels(ctx.sequelize);
+  const router = Router();
+
+  router.post("/jobs/claim", requireTokenAuth, requirePermission("upload"), async (req, res) => {
+    const input = parseWith(claimSchema, req.body ?? {}, "claim");
+    const body: ClaimJobsResultDto = { jobs: await claimJobs(ctx, res, input.worker, input.max) };
+    res.json(body);
+  });
+
+  router.post("/jobs/:id/result", requireTokenAuth, requirePermission("upload"), requireMultipart, resultUpload(ctx), async (req, res) => {
+    const id = idParam(req, "job");
+    const parts = (req.files ?? {}) as PartsByField;
+    const all: UploadedPart[] = Object.values(parts).flat();
+    try {
+      const fields = parseWith(resultFieldsSchema, req.body ?? {}, "result fields");
+      const report = await readReport(parts.report?.[0], ctx.settings.upload);
+      const images = await readImageParts([...(parts.spectrogram ?? []), ...(parts.waveform ?? [])], report.files.length, ctx.settings.upload);
+      const result = await storeJobResult(ctx, res, id, { report, images, worker: fields.worker, attempt: fields.attempt });
+      if (!result.created) {
+        await recordAudit(res, { action: "job.result_repeat", targetType: "job", targetId: id, details: { worker: fields.worker, attempt: fields.attempt, fileResultId: result.fileResultId } });
+      }
+      res.status(result.created ? 201 : 200).json(result);
+    } finally {
+      await Promise.all(all.map((p) => rm(p.path, { force: true })));
+    }
+  });
+
+  router.post("/jobs/:id/fail", requireTokenAuth, requirePermission("upload"), async (req, res) => {
+    const id = idParam(req, "job");
+    res.json(await failJob(ctx, res, id, parseWith(failSchema, req.body ?? {}, "failure")));
+  });
+
+  router.post("/jobs/:id/release", requireTokenAuth, requirePermission("upload"), async (req, res) => {
+    const id = idParam(req, "job");
+    res.json(await releaseJob(ctx, res, id, parseWith(releaseSchema, req.body ?? {}, "release")));
+  });
+
+  router.post("/jobs/:id/retry", requirePermission("review"), async (req, res) => {
+    res.json(await retryJob(ctx, res, idParam(req, "job")));
+  });
+
+  return router;
+}

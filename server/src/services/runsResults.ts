@@ -1,0 +1,203 @@
+/**
+ * One file's result from a worker, appended to its run's batch and acknowledged in the same transaction:
+ * the file row, its findings, the batch's counts, the job row and the pg-boss job's completion commit
+ * together. Idempotent per job: a result that arrives again (a retried attempt, or a worker that died
+ * between the commit and reading the answer) finds the job done and stores nothing new.
+ */
+import { readFile } from "node:fs/promises";
+import type { Response } from "express";
+import { QueryTypes, type Transaction } from "sequelize";
+import type { JobResultDto } from "@tidemark/shared/types/api";
+import type { FileReport, Finding, ScanReport, Verdict } from "@tidemark/shared/types/report";
+import type { AppContext } from "../context.ts";
+import { notFound, unprocessable } from "../errors.ts";
+import { Collection } from "../models/index.ts";
+import { jobQueueFor } from "../queue/jobQueue.ts";
+import { ScanJob, ScanJobAttempt, ScanRun } from "../queue/models/index.ts";
+import { imageKey, newUploadId } from "../storage/objectKeys.ts";
+import { recordAudit } from "./audit.ts";
+import { summariseFindings } from "./findingSummary.ts";
+import type { ImagePart } from "./ingestValidation.ts";
+import { insertFileRows, insertFindingRows } from "./ingestRows.ts";
+import { notifyFailingBatch } from "./notifications.ts";
+import { lockCollection } from "./runs.ts";
+import { closeAttempts } from "./runsJobs.ts";
+import { markRunFinishedIfDone } from "./runsStatus.ts";
+
+export interface JobResultInput {
+  report: ScanReport;
+  images: ImagePart[];
+  worker: string;
+  attempt: number;
+}
+
+interface PreviousScan {
+  id: number;
+  batch_id: number;
+  sha256: string | null;
+}
+
+/** The latest earlier scan of the path in the collection, and the latest with a SHA-256 (fixity). */
+async function previousScans(ctx: AppContext, collectionId: number, filePath: string, transaction: Transaction) {
+  const query = (extra: string) =>
+    ctx.sequelize.query<PreviousScan>(
+      `select id, batch_id, sha256 from file_results where collection_id = $1 and path = $2 ${extra} order by id desc limit 1`,
+      { bind: [collectionId, filePath], type: QueryTypes.SELECT, transaction },
+    );
+  const [[latest], [hashed]] = await Promise.all([query(""), query("and sha256 is not null")]);
+  return { latest: latest ?? null, hashed: hashed ?? null };
+}
+
+/** As ingest does: a SHA-256 that differs from the last known one is a fail finding of its own. */
+function withFixity(file: FileReport, hashed: PreviousScan | null): { findings: Finding[]; verdict: Verdict; changed: boolean } {
+  if (!hashed?.sha256 || !file.sha256 || hashed.sha256 === file.sha256) return { findings: [...file.findings], verdict: file.verdict, changed: false };
+  const finding: Finding = {
+    code: "fixity-changed",
+    severity: "fail",
+    channel: null,
+    startSeconds: null,
+    endSeconds: null,
+    message: `SHA-256 differs from the scan in batch ${hashed.batch_id} (file result ${hashed.id}): was ${hashed.sha256}, now ${file.sha256}`,
+  };
+  const verdict = file.verdict === "pass" || file.verdict === "warn" ? "fail" : file.verdict;
+  return { findings: [...file.findings, finding], verdict, changed: true };
+}
+
+async function writeImages(ctx: AppContext, images: ImagePart[], written: string[]): Promise<Map<string, string>> {
+  const uploadId = newUploadId();
+  const keys = new Map<string, string>();
+  for (const image of images) {
+    const key = imageKey(uploadId, 0, image.kind);
+    await ctx.store.put(key, await readFile(image.path), "image/png");
+    written.push(key);
+    keys.set(image.kind, key);
+  }
+  return keys;
+}
+
+async function deleteObjects(ctx: AppContext, keys: string[]): Promise<void> {
+  for (const key of keys) {
+    await ctx.store.delete(key).catch((e: unknown) => ctx.logger.warn(`could not delete ${key} (the startup sweep will): ${String(e)}`));
+  }
+}
+
+/** The delivering attempt is done, even if it had been given up as expired; any other open one is superseded. */
+async function recordDelivery(jobId: number, attempt: number, transaction: Transaction): Promise<void> {
+  await ScanJobAttempt.update({ endedAt: new Date(), outcome: "done", message: null }, { where: { jobId, attempt }, transaction });
+  await closeAttempts(jobId, "superseded", `attempt ${attempt} delivered the result`, transaction);
+}
+
+type Stored = { dto: JobResultDto; finishedRun: boolean };
+
+async function storeRows(ctx: AppContext, res: Response, jobId: number, input: JobResultInput, keys: Map<string, string>, transaction: Transaction): Promise<Stored> {
+  const job = await ScanJob.findByPk(jobId, { transaction, lock: transaction.LOCK.UPDATE });
+  if (!job) throw notFound("job", jobId);
+  const run = await ScanRun.findByPk(job.runId, { include: [{ model: Collection, as: "collection" }], transaction });
+  if (!run) throw notFound("run", job.runId);
+  if (job.fileResultId !== null) {
+    return { dto: { jobId, runId: run.id, batchId: run.batchId, fileResultId: job.fileResultId, created: false }, finishedRun: false };
+  }
+  const file = input.report.files[0];
+  await lockCollection(ctx, run.collection!.name, transaction);
+  const { latest, hashed } = await previousScans(ctx, run.collectionId, file.path, transaction);
+  const { findings, verdict, changed } = withFixity(file, hashed);
+
+  const [fileResultId] = await insertFileRows(
+    ctx.sequelize,
+    run.batchId,
+    run.collectionId,
+    [
+      {
+        previous_id: latest?.id ?? null,
+        path: file.path,
+        size_bytes: file.sizeBytes,
+        sha256: file.sha256,
+        format: file.format,
+        metadata: file.metadata,
+        metrics: file.metrics,
+        error: file.error,
+        verdict,
+        duration_seconds: file.format?.durationSeconds ?? null,
+        integrated_lufs: file.metrics?.integratedLufs ?? null,
+        true_peak_dbtp: file.metrics?.truePeakDbtp ?? null,
+        worst_findings: summariseFindings(findings),
+        finding_codes: [...new Set(findings.map((f) => f.code))],
+        spectrogram_key: keys.get("spectrogram") ?? null,
+        waveform_key: keys.get("waveform") ?? null,
+      },
+    ],
+    transaction,
+  );
+  await insertFindingRows(ctx.sequelize, findings.map((f) => ({ ...f, file_result_id: fileResultId })), transaction);
+  // The batch grows by one file; finished_at follows the latest result so the Batches view reads right.
+  await ctx.sequelize.query(
+    `update batches set file_count = file_count + 1,
+            pass_count = pass_count + $2, warn_count = warn_count + $3, fail_count = fail_count + $4, error_count = error_count + $5,
+            tool_name = $6, tool_version = $7, finished_at = greatest(finished_at, now()), updated_at = now()
+      where id = $1`,
+    {
+      bind: [run.batchId, +(verdict === "pass"), +(verdict === "warn"), +(verdict === "fail"), +(verdict === "error"), input.report.tool.name, input.report.tool.version],
+      type: QueryTypes.UPDATE,
+      transaction,
+    },
+  );
+  await job.update({ state: "done", fileResultId, doneAt: new Date(), expiresAt: null, worker: input.worker, lastError: null }, { transaction });
+  await recordDelivery(job.id, input.attempt, transaction);
+  // Whoever holds the job now (this attempt or a later one) is done with it: nothing will scan it again.
+  await jobQueueFor(ctx.sequelize).finish(job.queueJobId, { fileResultId }, transaction);
+  if (changed) {
+    await recordAudit(
+      res,
+      { action: "file.fixity_changed", targetType: "file", targetId: fileResultId, details: { path: file.path, previousFileResultId: hashed!.id, previousSha256: hashed!.sha256, sha256: file.sha256 } },
+      transaction,
+    );
+  }
+  await recordAudit(
+    res,
+    { action: "job.result", targetType: "job", targetId: job.id, details: { runId: run.id, batchId: run.batchId, fileResultId, path: file.path, verdict, worker: input.worker, attempt: input.attempt } },
+    transaction,
+  );
+  const finishedRun = await markRunFinishedIfDone(ctx.sequelize, run.id, transaction);
+  return { dto: { jobId, runId: run.id, batchId: run.batchId, fileResultId, created: true }, finishedRun };
+}
+
+/** After a run's last job: one e-mail to supervisors when its batch has failing or unreadable files. */
+async function notifyIfFailing(ctx: AppContext, runId: number, batchId: number): Promise<void> {
+  const claimed = await ctx.sequelize.query<{ id: number }>(
+    `update scan_runs r set notified_at = now() from batches b
+      where r.id = $1 and b.id = r.batch_id and r.notified_at is null and b.fail_count + b.error_count > 0
+      returning r.id`,
+    { bind: [runId], type: QueryTypes.SELECT },
+  );
+  if (claimed.length) await notifyFailingBatch(ctx, batchId);
+}
+
+export async function storeJobResult(ctx: AppContext, res: Response, jobId: number, input: JobResultInput): Promise<JobResultDto> {
+  const job = await ScanJob.findByPk(jobId);
+  if (!job) throw notFound("job", jobId);
+  if (input.report.files.length !== 1) throw unprocessable(`a job result carries exactly one file, got ${input.report.files.length}`);
+  const file = input.report.files[0];
+  if (file.path !== job.path) throw unprocessable(`the result is for "${file.path}" but job ${jobId} scans "${job.path}"`, "wrong_file");
+  if (job.fileResultId !== null) {
+    const run = await ScanRun.findByPk(job.runId);
+    return { jobId, runId: job.runId, batchId: run!.batchId, fileResultId: job.fileResultId, created: false };
+  }
+
+  const written: string[] = [];
+  let stored: Stored;
+  try {
+    const keys = await writeImages(ctx, input.images, written);
+    stored = await ctx.sequelize.transaction((transaction) => storeRows(ctx, res, jobId, input, keys, transaction));
+  } catch (e) {
+    await deleteObjects(ctx, written);
+    throw e;
+  }
+  if (!stored.dto.created) {
+    await deleteObjects(ctx, written);
+    return stored.dto;
+  }
+  if (stored.finishedRun) {
+    await notifyIfFailing(ctx, stored.dto.runId, stored.dto.batchId).catch((e: unknown) => ctx.logger.error(`failing-run e-mail for run ${stored.dto.runId}: ${String(e)}`));
+  }
+  return stored.dto;
+}
