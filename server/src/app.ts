@@ -27,7 +27,9 @@ import { exportsRouter } from "./routes/exports.ts";
 import { filesRouter } from "./routes/files.ts";
 import { healthRouter } from "./routes/health.ts";
 import { ingestRouter } from "./routes/ingest.ts";
+import { jobsRouter } from "./routes/jobs.ts";
 import { passwordResetRouter } from "./routes/passwordReset.ts";
+import { runsRouter } from "./routes/runs.ts";
 import { SESSION_COOKIE, sessionRouter } from "./routes/session.ts";
 import { tokensRouter } from "./routes/tokens.ts";
 import { usersRouter } from "./routes/users.ts";
@@ -109,6 +111,8 @@ export function createApp(deps: AppDeps): Express {
   api.use(duplicatesRouter(ctx));
   api.use(commentsRouter(ctx));
   api.use(ingestRouter(ctx));
+  api.use(runsRouter(ctx));
+  api.use(jobsRouter(ctx));
   api.use(exportsRouter(ctx));
   api.use(auditRouter());
   api.use(notFoundHandler);

@@ -12,6 +12,8 @@ import { consoleLogger as log } from "./logger.ts";
 import { createMailer } from "./mail/mailer.ts";
 import { DEFAULT_SETTINGS } from "./context.ts";
 import { initModels } from "./models/index.ts";
+import { loadQueueConfig } from "./queue/queueConfig.ts";
+import { startQueueSupervisor } from "./queue/supervisor.ts";
 import { seedDemo } from "./seed/seedDemo.ts";
 import { sweepOrphanObjects, sweepStaleUploads } from "./services/orphanSweep.ts";
 import { createObjectStore } from "./storage/index.ts";
@@ -36,6 +38,7 @@ async function migrateWhenReachable(db: Database, attempts = 40): Promise<void> 
 
 async function main(): Promise<void> {
   const config = loadConfig();
+  const queueConfig = loadQueueConfig();
   const db = connectDatabase(config.databaseUrl, { onIdleError: (e) => log.warn(`idle database connection lost: ${e.message}`) });
   await migrateWhenReachable(db);
   initModels(db.sequelize);
@@ -44,6 +47,8 @@ async function main(): Promise<void> {
   await sweepOrphanObjects({ sequelize: db.sequelize, store, logger: log }).catch((e: unknown) => log.warn(`orphan sweep failed: ${String(e)}`));
   await sweepStaleUploads(uploadTmpDir);
 
+  // pg-boss's maintenance: expired jobs back in the queue (or dead-lettered), our rows reconciled.
+  const queue = await startQueueSupervisor({ connectionString: config.databaseUrl, sequelize: db.sequelize, config: queueConfig, logger: log });
   const mailer = createMailer({ smtpUrl: config.smtpUrl, from: config.mailFrom, mailDir: config.mailDir, logger: log });
   const app = createApp({
     db,
@@ -76,6 +81,7 @@ async function main(): Promise<void> {
     force.unref();
     await new Promise<void>((resolve) => server.close(() => resolve()));
     server.closeIdleConnections();
+    await queue.stop().catch((e: unknown) => log.warn(`stopping the job queue: ${String(e)}`));
     await mailer.idle();
     mailer.close();
     await db.close();

@@ -7,10 +7,10 @@ import type { Role } from "@tidemark/shared/types/api";
 export const PERMISSIONS = {
   /** View batches, files, spectrograms. */
   view: ["admin", "supervisor", "technician", "auditor"],
-  /** Upload via API token (CLI). */
+  /** Upload via API token (CLI); also the queue work of distributed scans: enqueue, claim, result, fail, release. */
   upload: ["admin", "supervisor", "technician"],
   comment: ["admin", "supervisor", "technician"],
-  /** Change review state / flag. */
+  /** Change review state / flag; also retry dead-lettered scanning jobs (a supervisor's call). */
   review: ["admin", "supervisor"],
   /** Export reports, read the audit trail. */
   export: ["admin", "supervisor", "auditor"],
