@@ -23,6 +23,10 @@ import {
   type UploadOptions,
   type VerifyOptions,
 } from "./options.ts";
+import type { EnqueueOptions } from "./commands/enqueue.ts";
+import type { WorkerOptions } from "./commands/worker.ts";
+import { secondsParser } from "./queue/options.ts";
+import { parseMount, type PathMount } from "./queue/pathMounts.ts";
 import { toolInfo } from "./toolInfo.ts";
 
 /** What each command does once its arguments are parsed; resolves to the exit code. */
@@ -33,6 +37,17 @@ export interface CommandActions {
   profiles(name: string | null, options: ProfilesOptions, io: CliIo): Promise<number>;
   login(options: LoginOptions, io: CliIo): Promise<number>;
 }
+
+/** Distributed scanning (a queue on the server): register files as jobs, and work them off. */
+export interface QueueCommandActions {
+  enqueue(paths: string[], options: EnqueueOptions, io: CliIo): Promise<number>;
+  worker(options: WorkerOptions, io: CliIo): Promise<number>;
+}
+
+const defaultQueueActions: QueueCommandActions = {
+  enqueue: async (...args) => (await import("./commands/enqueue.ts")).enqueueCommand(...args),
+  worker: async (...args) => (await import("./commands/worker.ts")).workerCommand(...args),
+};
 
 const defaultActions: CommandActions = {
   scan: async (...args) => (await import("./commands/scan.ts")).scanCommand(...args),
@@ -59,8 +74,8 @@ function globOptions(cmd: Command): Command {
 
 const orDefaultGlobs = (globs: string[]): string[] => (globs.length > 0 ? globs : [...DEFAULT_INCLUDE_GLOBS]);
 
-export function createProgram(actions: Partial<CommandActions> = {}, io: () => CliIo = processIo): Command {
-  const run: CommandActions = { ...defaultActions, ...actions };
+export function createProgram(actions: Partial<CommandActions & QueueCommandActions> = {}, io: () => CliIo = processIo): Command {
+  const run: CommandActions & QueueCommandActions = { ...defaultActions, ...defaultQueueActions, ...actions };
   const program = new Command("tidemark")
     .description("Batch spectral quality control for sound archive transfers (WAV, BWF, RF64).")
     .version(toolInfo().version, "-V, --version", "print the version")
@@ -179,6 +194,55 @@ export function createProgram(actions: Partial<CommandActions> = {}, io: () => C
         throw new UsageError("give either --token or --email/--password-stdin, not both");
       }
       await finish(run.login(options, io()));
+    });
+
+  const enqueue = program
+    .command("enqueue")
+    .description("register every audio file under the paths (on shared storage) as a job of a named run on the server, for workers to scan")
+    .argument("<paths...>", "files and folders on the shared storage (folders recursively)")
+    .requiredOption("--collection <name>", "collection the run's batch is filed under", parseCollectionName)
+    .option("--server <url>", "server (default: the one stored by tidemark login)", parseServerUrl)
+    .option("-p, --profile <name|file>", "built-in profile name or a profile JSON file", DEFAULT_PROFILE_NAME)
+    .option("--run <name>", "run to add the files to (default: the scanned folder's absolute path, so running again finds the same run)", parseCollectionName)
+    .option("--json", "print the run and the counts as JSON");
+  globOptions(enqueue).action(async (paths: string[], o: Record<string, unknown>) => {
+    const options: EnqueueOptions = {
+      server: (o.server as string | undefined) ?? null,
+      collection: String(o.collection),
+      profile: String(o.profile),
+      run: (o.run as string | undefined) ?? null,
+      include: orDefaultGlobs(o.include as string[]),
+      exclude: o.exclude as string[],
+      json: o.json === true,
+    };
+    await finish(run.enqueue(paths, options, io()));
+  });
+
+  program
+    .command("worker")
+    .description("take jobs from the server's queue, scan each file with the same engine as scan, and send each result; stops on SIGTERM/SIGINT")
+    .option("--server <url>", "server (default: the one stored by tidemark login)", parseServerUrl)
+    .option("-c, --concurrency <n>", "jobs measured at once (worker threads)", parseWorkerCount, 1)
+    .option("--name <name>", "this worker's name in the portal (default: host#pid)")
+    .option("--poll <seconds>", "wait between claims while the queue is empty", secondsParser(0.2, 300), 2)
+    .option("--grace <seconds>", "after SIGTERM, how long jobs in hand may finish before they are released", secondsParser(0, 86_400), 60)
+    .addOption(new Option("--mount <from=to>", "the storage is mounted elsewhere here: read enqueued paths under FROM from TO (repeatable)").argParser(parseMount).default([], "none"))
+    .option("--no-images", "send no spectrogram or waveform PNGs (faster; the portal shows none)")
+    .option("--exit-when-idle", "exit once the queue is empty instead of waiting for more")
+    .option("-q, --quiet", "no line per job")
+    .action(async (o: Record<string, unknown>) => {
+      const options: WorkerOptions = {
+        server: (o.server as string | undefined) ?? null,
+        concurrency: o.concurrency as number,
+        name: (o.name as string | undefined) ?? null,
+        pollSeconds: o.poll as number,
+        graceSeconds: o.grace as number,
+        mounts: o.mount as PathMount[],
+        images: o.images !== false,
+        exitWhenIdle: o.exitWhenIdle === true,
+        quiet: o.quiet === true,
+      };
+      await finish(run.worker(options, io()));
     });
 
   return program;

@@ -1,0 +1,68 @@
+/**
+ * Measures one claimed job's file and packs what the server takes as its result: a one-file
+ * "tidemark.report/1" report (the same contract as `scan --format json`) and the file's PNGs as
+ * multipart parts named `0.png`, exactly as ingest takes a batch.
+ */
+import { readFile, rm, stat } from "node:fs/promises";
+import { assembleReport } from "@tidemark/shared/report/assembleReport";
+import { reportToJson } from "@tidemark/shared/report/jsonReport";
+import type { ClaimedJobDto } from "@tidemark/shared/types/api";
+import type { ScanReport } from "@tidemark/shared/types/report";
+import { spectrogramPaths } from "../scan/spectrogramPaths.ts";
+import { toolInfo } from "../toolInfo.ts";
+import type { ScanEngine } from "./scanEngines.ts";
+
+export interface JobOutcome {
+  report: ScanReport;
+  images: { field: "spectrogram" | "waveform"; bytes: Uint8Array }[];
+  audioSeconds: number;
+  /** A warning (PNGs not written); the measurements still stand. */
+  imageError: string | null;
+  /** Removes the PNGs once they are uploaded. */
+  cleanUp(): Promise<void>;
+}
+
+/** The file is not on this machine's storage (or not a file): another worker, or a fixed mount, may do better. */
+export class FileMissingError extends Error {}
+
+export async function scanJob(job: ClaimedJobDto, localPath: string, engine: ScanEngine): Promise<JobOutcome> {
+  const found = await stat(localPath).catch((e: { code?: string }) => {
+    throw new FileMissingError(`${localPath} is not reachable from this worker (${e.code ?? String(e)}): is the shared storage mounted here?`);
+  });
+  if (!found.isFile()) throw new FileMissingError(`${localPath} is not a regular file`);
+  const startedAt = new Date().toISOString();
+  const result = await engine.pool.run({ kind: "analyse", absPath: localPath, relPath: job.path, sizeBytes: found.size });
+  if (result.kind !== "analysed") throw new Error(`expected a measurement, got ${result.kind}`);
+  const { file } = result;
+  const report = assembleReport(
+    { tool: toolInfo(), profile: { name: engine.profile.profile.name, hash: engine.profile.hash }, startedAt, finishedAt: new Date().toISOString() },
+    [file.report],
+  );
+
+  const target = engine.context.spectrograms;
+  const paths = target ? spectrogramPaths(target, job.path) : null;
+  const images: JobOutcome["images"] = [];
+  if (paths && file.report.spectrogram && !file.imageError) {
+    images.push({ field: "spectrogram", bytes: await readFile(paths.png) }, { field: "waveform", bytes: await readFile(paths.waveform) });
+  }
+  return {
+    report,
+    images,
+    audioSeconds: file.audioSeconds,
+    imageError: file.imageError,
+    async cleanUp() {
+      if (!paths) return;
+      const channels = (file.report.format?.channels ?? 0) > 1 ? Array.from({ length: file.report.format!.channels }, (_, c) => paths.png.replace(/\.png$/, `.ch${c + 1}.png`)) : [];
+      await Promise.all([paths.png, paths.waveform, ...channels].map((p) => rm(p, { force: true })));
+    },
+  };
+}
+
+export function resultForm(job: ClaimedJobDto, worker: string, outcome: JobOutcome): FormData {
+  const form = new FormData();
+  form.append("attempt", String(job.attempt));
+  form.append("worker", worker);
+  form.append("report", new Blob([reportToJson(outcome.report)], { type: "application/json" }), "report.json");
+  for (const image of outcome.images) form.append(image.field, new Blob([image.bytes], { type: "image/png" }), "0.png");
+  return form;
+}
