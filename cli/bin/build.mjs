@@ -4,7 +4,7 @@
 // npm packages stay external (Node loads them from node_modules); our TypeScript, shared/ included, is
 // bundled. dist/manifest.json lists every bundled source with its size and mtime: tidemark.js runs the
 // bundle only while they all still match, and falls back to the sources through tsx otherwise.
-import { statSync, writeFileSync } from "node:fs";
+import { readdirSync, rmSync, statSync, writeFileSync } from "node:fs";
 import path from "node:path";
 import { fileURLToPath } from "node:url";
 import { build } from "esbuild";
@@ -38,6 +38,16 @@ const result = await build({
   logLevel: "warning",
   plugins: [externalPackages],
 });
+
+// Chunk names carry content hashes, so earlier builds leave theirs behind. They are removed once they are
+// old enough that no tidemark started from them can still be loading its lazy chunks (that happens in its
+// first second); removing them at once would break a scan that other work started a moment ago.
+const written = new Set(Object.keys(result.metafile.outputs).map((file) => path.resolve(repoRoot, file)));
+const PRUNE_AFTER_MS = 10 * 60 * 1000;
+for (const name of readdirSync(outdir)) {
+  const file = path.join(outdir, name);
+  if (!written.has(file) && name !== "manifest.json" && Date.now() - statSync(file).mtimeMs > PRUNE_AFTER_MS) rmSync(file, { force: true });
+}
 
 const inputs = {};
 for (const file of Object.keys(result.metafile.inputs).sort()) {
