@@ -9,15 +9,17 @@
  *   npm run bench -- --stages FILE.wav     in-process time of each analyser part on one file
  *
  * Options: --seconds N (main file, default 600), --files N (files for the worker comparison, default 8),
- * --repeats N (default 3), --no-rf64, --no-linearity, --no-white, --from-source (run through tsx instead
- * of the bundle), --keep (leave the inputs), --tmp DIR (where the inputs go).
+ * --repeats N (default 3), --no-rf64, --no-linearity, --no-white, --only single,white,workers,linearity,rf64
+ * (just those sections), --from-source (run through tsx instead of the bundle), --keep (leave the inputs),
+ * --tmp DIR (where the inputs go), --wait-calm S (before each run, wait up to S seconds for the other
+ * processes to leave both cores free: on a shared machine the worker comparison means little otherwise).
  */
 import { execFileSync, spawnSync } from "node:child_process";
 import { cpus, tmpdir, totalmem, release } from "node:os";
 import { mkdir, mkdtemp, readFile, rm, statfs, writeFile } from "node:fs/promises";
 import path from "node:path";
 import { projectRoot } from "./lib/paths.ts";
-import { hasGnuTime, measure, median, type Measured } from "./bench/measure.ts";
+import { hasGnuTime, machineBusyCores, measure, median, type Measured } from "./bench/measure.ts";
 import { runStages } from "./bench/stages.ts";
 import { staleBundleSources } from "../cli/bin/bundleState.mjs";
 import { synthesiseWav, type SynthOptions } from "./bench/synthWav.ts";
@@ -35,10 +37,17 @@ interface Options {
   keep: boolean;
   tmp: string;
   stages: string | null;
+  only: Set<string> | null;
+  waitCalmSeconds: number;
 }
 
+/** Other processes using less than this many cores count as a calm machine. */
+const CALM_BUSY_CORES = 0.25;
+
+const SECTIONS = ["single", "white", "workers", "linearity", "rf64"];
+
 function parseOptions(argv: string[]): Options {
-  const o: Options = { out: null, quick: false, seconds: 600, files: 8, repeats: 3, rf64: true, linearity: true, white: true, fromSource: false, keep: false, tmp: tmpdir(), stages: null };
+  const o: Options = { out: null, quick: false, seconds: 600, files: 8, repeats: 3, rf64: true, linearity: true, white: true, fromSource: false, keep: false, tmp: tmpdir(), stages: null, only: null, waitCalmSeconds: 0 };
   const explicit = new Set<string>();
   for (let i = 0; i < argv.length; i++) {
     const a = argv[i];
@@ -65,7 +74,17 @@ function parseOptions(argv: string[]): Options {
     else if (a === "--keep") o.keep = true;
     else if (a === "--tmp") o.tmp = path.resolve(value());
     else if (a === "--stages") o.stages = path.resolve(value());
+    else if (a === "--wait-calm") o.waitCalmSeconds = count();
+    else if (a === "--only") {
+      o.only = new Set(value().split(","));
+      for (const name of o.only) if (!SECTIONS.includes(name)) throw new Error(`--only takes ${SECTIONS.join(", ")}; got ${name}`);
+    }
     else throw new Error(`unknown option ${a} (see the comment at the top of scripts/bench.ts)`);
+  }
+  if (o.only) {
+    o.white &&= o.only.has("white");
+    o.linearity &&= o.only.has("linearity");
+    o.rf64 &&= o.only.has("rf64");
   }
   if (o.quick) {
     if (!explicit.has("--seconds")) o.seconds = 120;
@@ -116,8 +135,19 @@ function machine() {
   };
 }
 
+async function waitForCalm(o: Options): Promise<void> {
+  if (o.waitCalmSeconds <= 0) return;
+  const deadline = Date.now() + o.waitCalmSeconds * 1000;
+  let busy = await machineBusyCores(1000);
+  if (busy < CALM_BUSY_CORES) return;
+  log(`  waiting for a calm machine (others busy: ${busy.toFixed(2)} cores)…`);
+  while (busy >= CALM_BUSY_CORES && Date.now() < deadline) busy = await machineBusyCores(2000);
+  log(busy < CALM_BUSY_CORES ? "  calm now" : `  still busy (${busy.toFixed(2)} cores) after ${o.waitCalmSeconds} s: measuring anyway`);
+}
+
 async function scan(dir: string, workers: number, o: Options, scratch: string): Promise<ScanSample> {
   ensureBundle(o);
+  await waitForCalm(o);
   const timings = path.join(scratch, `stages-${Date.now()}.jsonl`);
   const out = path.join(scratch, "report.json");
   const env = { ...process.env, TIDEMARK_STAGE_TIMINGS: timings, TIDEMARK_FROM_SOURCE: o.fromSource ? "1" : "0" };
@@ -230,15 +260,17 @@ async function main(): Promise<void> {
     log("synthesising inputs (24-bit / 48 kHz stereo pink noise at −20 dBFS RMS)");
     const mainFile = await synth(path.join(root, "single"), "pink.wav", o.seconds, { seed: 1 });
     const whiteFile = o.white ? await synth(path.join(root, "white"), "white.wav", o.seconds, { noise: "white", seed: 2 }) : null;
+    const doWorkers = !o.only || o.only.has("workers");
     const batchDir = path.join(root, "batch");
-    for (let i = 0; i < o.files; i++) await synth(batchDir, `pink-${i + 1}.wav`, o.seconds, { seed: 10 + i });
+    for (let i = 0; i < (doWorkers ? o.files : 0); i++) await synth(batchDir, `pink-${i + 1}.wav`, o.seconds, { seed: 10 + i });
 
     // 1. One file, one worker, against ffmpeg's loudness + true-peak + statistics pass.
-    log(`\n1. ${o.seconds} s file, --workers 1, ${o.repeats} run(s) each, alternating with ffmpeg`);
-    const ffmpeg = hasFfmpeg();
+    const doSingle = !o.only || o.only.has("single");
+    if (doSingle) log(`\n1. ${o.seconds} s file, --workers 1, ${o.repeats} run(s) each, alternating with ffmpeg`);
+    const ffmpeg = doSingle && hasFfmpeg();
     const singles: ScanSample[] = [];
     const ffmpegRuns: Measured[] = [];
-    for (let r = 0; r < o.repeats; r++) {
+    for (let r = 0; r < (doSingle ? o.repeats : 0); r++) {
       singles.push(await scan(path.dirname(mainFile), 1, o, scratch));
       log(`  tidemark ${fmt(singles[r].wallSeconds, 2)} s wall, ${fmt(singles[r].cpuSeconds, 2)} s CPU, ${fmt(singles[r].peakRssMb, 0)} MB${busyNote(singles[r])}`);
       if (ffmpeg) {
@@ -246,8 +278,8 @@ async function main(): Promise<void> {
         log(`  ffmpeg   ${fmt(ffmpegRuns[r].wallSeconds, 2)} s wall, ${fmt(ffmpegRuns[r].cpuSeconds, 2)} s CPU, ${fmt(ffmpegRuns[r].peakRssMb, 0)} MB${busyNote(ffmpegRuns[r])}`);
       }
     }
-    const single = summarise(singles, o.seconds, audioBytes(o.seconds));
-    result.single = single;
+    if (doSingle) result.single = summarise(singles, o.seconds, audioBytes(o.seconds));
+    const single = result.single as Summary | undefined;
     if (ffmpeg) {
       const ff = {
         wallSeconds: median(ffmpegRuns.map((m) => m.wallSeconds)),
@@ -255,7 +287,7 @@ async function main(): Promise<void> {
         peakRssMb: Math.max(...ffmpegRuns.map((m) => m.peakRssMb)),
         otherCores: median(ffmpegRuns.map((m) => m.otherCores)),
       };
-      result.ffmpeg = { filter: "ebur128=peak=true,astats", ...ff, realtimeWall: o.seconds / ff.wallSeconds, speedupWall: ff.wallSeconds / single.wallSeconds, speedupCpu: ff.cpuSeconds / single.cpuSeconds };
+      if (single) result.ffmpeg = { filter: "ebur128=peak=true,astats", ...ff, realtimeWall: o.seconds / ff.wallSeconds, speedupWall: ff.wallSeconds / single.wallSeconds, speedupCpu: ff.cpuSeconds / single.cpuSeconds };
     }
 
     // 2. White noise: the true peak's worst case (most outputs near the running maximum).
@@ -267,19 +299,24 @@ async function main(): Promise<void> {
     }
 
     // 3. Worker scaling: the same batch at 1 and 2 workers, alternating.
-    log(`\n3. ${o.files} files of ${o.seconds} s, --workers 1 vs 2, ${o.repeats} run(s) each`);
+    if (doWorkers) log(`\n3. ${o.files} files of ${o.seconds} s, --workers 1 vs 2, ${o.repeats} run(s) each`);
     const w1: ScanSample[] = [];
     const w2: ScanSample[] = [];
-    for (let r = 0; r < o.repeats; r++) {
+    for (let r = 0; r < (doWorkers ? o.repeats : 0); r++) {
       w1.push(await scan(batchDir, 1, o, scratch));
       w2.push(await scan(batchDir, 2, o, scratch));
       log(`  1 worker ${fmt(w1[r].wallSeconds, 2)} s${busyNote(w1[r])}; 2 workers ${fmt(w2[r].wallSeconds, 2)} s, ${fmt(w2[r].peakRssMb, 0)} MB${busyNote(w2[r])}`);
     }
-    const batchAudio = o.files * o.seconds;
-    const s1 = summarise(w1, batchAudio, audioBytes(batchAudio));
-    const s2 = summarise(w2, batchAudio, audioBytes(batchAudio));
-    result.workers = { files: o.files, one: s1, two: s2, scaling: s1.wallSeconds / s2.wallSeconds };
-    await rm(batchDir, { recursive: true, force: true });
+    if (doWorkers) {
+      const batchAudio = o.files * o.seconds;
+      const s1 = summarise(w1, batchAudio, audioBytes(batchAudio));
+      const s2 = summarise(w2, batchAudio, audioBytes(batchAudio));
+      // Each pair of runs was made back to back; the pair least disturbed by other processes is also kept.
+      const pairs = w1.map((a, i) => ({ scaling: a.wallSeconds / w2[i].wallSeconds, otherCores: Math.max(a.otherCores, w2[i].otherCores) }));
+      const calmest = pairs.reduce((p, q) => (q.otherCores < p.otherCores ? q : p));
+      result.workers = { files: o.files, one: s1, two: s2, scaling: s1.wallSeconds / s2.wallSeconds, pairs, calmestPair: calmest };
+      await rm(batchDir, { recursive: true, force: true });
+    }
 
     // 4. Linearity: 1×, 4×, 16× the length; the cost per audio second should not grow.
     if (o.linearity) {
@@ -327,25 +364,31 @@ async function main(): Promise<void> {
 }
 
 function judgeTargets(r: Record<string, unknown>): Record<string, { value: number; target: string; met: boolean }> {
-  const single = r.single as Summary;
-  const workers = r.workers as { scaling: number; one: Summary };
-  const rss = [single.peakRssMb, workers.one.peakRssMb];
+  const single = r.single as Summary | undefined;
+  const workers = r.workers as { scaling: number; one: Summary } | undefined;
   const linearity = r.linearity as { ratio16: number; rows: Summary[] } | undefined;
-  if (linearity) rss.push(...linearity.rows.map((x) => x.peakRssMb));
-  if (r.rf64) rss.push((r.rf64 as Summary).peakRssMb);
-  const t: Record<string, { value: number; target: string; met: boolean }> = {
-    realtimeWall: { value: single.realtimeWall, target: `≥ ${TARGETS.realtime}x`, met: single.realtimeWall >= TARGETS.realtime },
-    workerScaling: { value: workers.scaling, target: `≥ ${TARGETS.workerScaling}x`, met: workers.scaling >= TARGETS.workerScaling },
-    peakRssMbOneWorker: { value: Math.max(...rss), target: `≤ ${TARGETS.peakRssMb} MB`, met: Math.max(...rss) <= TARGETS.peakRssMb },
-  };
+  const rss = [single?.peakRssMb, workers?.one.peakRssMb, ...(linearity?.rows.map((x) => x.peakRssMb) ?? []), (r.rf64 as Summary | undefined)?.peakRssMb];
+  const peakRss = Math.max(...rss.filter((x): x is number => x !== undefined));
+  const t: Record<string, { value: number; target: string; met: boolean }> = {};
+  if (single) t.realtimeWall = { value: single.realtimeWall, target: `≥ ${TARGETS.realtime}x`, met: single.realtimeWall >= TARGETS.realtime };
+  if (workers) t.workerScaling = { value: workers.scaling, target: `≥ ${TARGETS.workerScaling}x`, met: workers.scaling >= TARGETS.workerScaling };
+  if (Number.isFinite(peakRss)) t.peakRssMbOneWorker = { value: peakRss, target: `≤ ${TARGETS.peakRssMb} MB`, met: peakRss <= TARGETS.peakRssMb };
   if (linearity) t.linearity16x = { value: linearity.ratio16, target: `≤ ${TARGETS.linearity} (per audio second, 16× vs 1×)`, met: linearity.ratio16 <= TARGETS.linearity };
   return t;
 }
 
 function printTable(r: Record<string, unknown>, o: Options): void {
-  const single = r.single as Summary;
+  const single = r.single as Summary | undefined;
   const lines: string[] = [];
-  lines.push("", `| measure (${o.seconds} s, 48 kHz/24-bit stereo pink noise, median of ${single.runs}) | value |`, "|---|---|");
+  lines.push("", `| measure (${o.seconds} s, 48 kHz/24-bit stereo pink noise, median of ${o.repeats}) | value |`, "|---|---|");
+  if (single) singleRows(lines, single);
+  otherRows(lines, r);
+  lines.push("", "| target | value | met |", "|---|---|---|");
+  for (const [k, v] of Object.entries(r.targets as Record<string, { value: number; target: string; met: boolean }>)) lines.push(`| ${k} ${v.target} | ${fmt(v.value, 2)} | ${v.met ? "yes" : "NO"} |`);
+  process.stdout.write(`${lines.join("\n")}\n`);
+}
+
+function singleRows(lines: string[], single: Summary): void {
   lines.push(`| full scan, 1 worker: wall / CPU | ${fmt(single.wallSeconds, 2)} s / ${fmt(single.cpuSeconds, 2)} s |`);
   lines.push(`| realtime factor (wall / CPU) | ${fmt(single.realtimeWall, 0)}x / ${fmt(single.realtimeCpu, 0)}x |`);
   lines.push(`| throughput | ${fmt(single.mbPerSecond, 0)} MB/s |`);
@@ -354,13 +397,19 @@ function printTable(r: Record<string, unknown>, o: Options): void {
   const st = single.stagesMs;
   lines.push(`| stages (ms): decode / hash / level+loudness+true peak / spectral (FFT) / paint / PNG | ${["decode", "hash", "level", "spectral", "paint", "png"].map((k) => fmt(st[k] ?? NaN, 0)).join(" / ")} |`);
   lines.push(`| start-up and the rest (wall − file stages) | ${fmt(single.wallSeconds * 1000 - (st.read + st.decode + st.hash + st.analyse + st.render), 0)} ms |`);
+}
+
+function otherRows(lines: string[], r: Record<string, unknown>): void {
   const ff = r.ffmpeg as { wallSeconds: number; cpuSeconds: number; speedupWall: number; speedupCpu: number } | undefined;
   if (ff) lines.push(`| ffmpeg ebur128=peak=true,astats: wall / CPU; tidemark's speed-up | ${fmt(ff.wallSeconds, 2)} s / ${fmt(ff.cpuSeconds, 2)} s; ${fmt(ff.speedupWall, 2)}x / ${fmt(ff.speedupCpu, 2)}x |`);
   const white = r.white as Summary | undefined;
   if (white) lines.push(`| white noise (true-peak worst case): realtime wall / CPU | ${fmt(white.realtimeWall, 0)}x / ${fmt(white.realtimeCpu, 0)}x |`);
-  const w = r.workers as { files: number; one: Summary; two: Summary; scaling: number };
-  lines.push(`| ${w.files} files: 1 worker / 2 workers wall; scaling | ${fmt(w.one.wallSeconds, 1)} s / ${fmt(w.two.wallSeconds, 1)} s; ${fmt(w.scaling, 2)}x |`);
-  lines.push(`| 2 workers peak RSS; others busy during 1 / 2-worker runs (cores) | ${fmt(w.two.peakRssMb, 0)} MB; ${fmt(w.one.otherCores, 2)} / ${fmt(w.two.otherCores, 2)} |`);
+  const w = r.workers as { files: number; one: Summary; two: Summary; scaling: number; calmestPair: { scaling: number; otherCores: number } } | undefined;
+  if (w) {
+    lines.push(`| ${w.files} files: 1 worker / 2 workers wall; scaling | ${fmt(w.one.wallSeconds, 1)} s / ${fmt(w.two.wallSeconds, 1)} s; ${fmt(w.scaling, 2)}x |`);
+    lines.push(`| scaling of the pair least disturbed (others ≤ ${fmt(w.calmestPair.otherCores, 2)} cores) | ${fmt(w.calmestPair.scaling, 2)}x |`);
+    lines.push(`| 2 workers peak RSS; others busy during 1 / 2-worker runs (cores) | ${fmt(w.two.peakRssMb, 0)} MB; ${fmt(w.one.otherCores, 2)} / ${fmt(w.two.otherCores, 2)} |`);
+  }
   const lin = r.linearity as { rows: (Summary & { audioSeconds: number; inFileMsPerAudioSecond: number })[]; ratio16: number } | undefined;
   if (lin) {
     lines.push(`| linearity: in-file ms per audio s at ${lin.rows.map((x) => `${x.audioSeconds} s`).join(" / ")} | ${lin.rows.map((x) => fmt(x.inFileMsPerAudioSecond, 2)).join(" / ")} (16×/1× ${fmt(lin.ratio16, 2)}) |`);
@@ -368,9 +417,6 @@ function printTable(r: Record<string, unknown>, o: Options): void {
   }
   const rf = r.rf64 as Summary | undefined;
   if (rf) lines.push(`| RF64 4.5 GB: wall, realtime, peak RSS | ${fmt(rf.wallSeconds, 1)} s, ${fmt(rf.realtimeWall, 0)}x, ${fmt(rf.peakRssMb, 0)} MB |`);
-  lines.push("", "| target | value | met |", "|---|---|---|");
-  for (const [k, v] of Object.entries(r.targets as Record<string, { value: number; target: string; met: boolean }>)) lines.push(`| ${k} ${v.target} | ${fmt(v.value, 2)} | ${v.met ? "yes" : "NO"} |`);
-  process.stdout.write(`${lines.join("\n")}\n`);
 }
 
 main().catch((error: unknown) => {

@@ -60,6 +60,13 @@ export async function measure(command: string, args: string[], o: { cwd: string;
   return { wallSeconds, cpuSeconds: user + system, peakRssMb: rssKb / 1024, otherCores: others(user + system), exitCode, stderr };
 }
 
+/** Cores the machine keeps busy over the next `ms` milliseconds (this process idle meanwhile). */
+export async function machineBusyCores(ms: number): Promise<number> {
+  const before = await busyCpuSeconds();
+  await new Promise((resolve) => setTimeout(resolve, ms));
+  return ((await busyCpuSeconds()) - before) / (ms / 1000);
+}
+
 /** Busy CPU time of the whole machine so far (user, nice, system, irq, softirq, steal), seconds. */
 async function busyCpuSeconds(): Promise<number> {
   try {
