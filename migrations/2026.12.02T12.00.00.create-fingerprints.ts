@@ -18,15 +18,25 @@ export const up: Migration = async ({ context: { sequelize } }) => {
       is_indexed boolean not null default true,
       created_at timestamptz not null default now()
     )`);
+    // No foreign key: its per-row check would dominate inserting a long file's 10^5 rows. Ingest writes
+    // the fingerprints row first in the same transaction, and the trigger below deletes with it.
     await q(`create table fingerprint_hashes (
-      file_result_id integer not null references fingerprints(file_result_id) on delete cascade,
+      file_result_id integer not null,
       version smallint not null,
       hash integer not null,
       time_seconds real not null
     )`);
     await q(`create index fingerprint_hashes_hash_idx on fingerprint_hashes (version, hash) include (file_result_id, time_seconds)`);
-    // For the cascade and for dropping a superseded scan's rows.
+    // For the delete trigger and for dropping a superseded scan's rows.
     await q(`create index fingerprint_hashes_file_idx on fingerprint_hashes (file_result_id)`);
+    await q(`create function delete_fingerprint_hashes() returns trigger language plpgsql as $$
+      begin
+        delete from fingerprint_hashes where file_result_id = old.file_result_id;
+        return null;
+      end
+    $$`);
+    await q(`create trigger fingerprints_delete_hashes after delete on fingerprints
+      for each row execute function delete_fingerprint_hashes()`);
     await q(`create table duplicate_links (
       id serial primary key,
       file_result_id integer not null references file_results(id) on delete cascade,
@@ -46,6 +56,8 @@ export const down: Migration = async ({ context: { sequelize } }) => {
   await sequelize.transaction(async (transaction) => {
     const q = (sql: string) => sequelize.query(sql, { transaction });
     await q(`drop table duplicate_links`);
+    await q(`drop trigger fingerprints_delete_hashes on fingerprints`);
+    await q(`drop function delete_fingerprint_hashes()`);
     await q(`drop table fingerprint_hashes`);
     await q(`drop table fingerprints`);
   });

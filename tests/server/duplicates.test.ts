@@ -178,6 +178,21 @@ describe("ingest within a batch, re-scans and bad fingerprints", () => {
     expect(list.items.map((m) => m.fileResultId)).toEqual([batch2.id("tape-17.wav"), again.id("reel-01/side-a.wav")]);
   });
 
+  it("drops a deleted file's fingerprint, hashes and links with it", async () => {
+    const b = await upload("Harbour Board Minutes", "dup-delete", reportWith([{ path: "minutes-1962.wav", fp: fps.secondLouder }]));
+    const id = b.id("minutes-1962.wav");
+    const count = async (sql: string): Promise<number> =>
+      Number((await t.db.sequelize.query<{ n: string }>(sql, { bind: [id], type: QueryTypes.SELECT }))[0].n);
+    const hashes = `select count(*) n from fingerprint_hashes where file_result_id = $1`;
+    const links = `select count(*) n from duplicate_links where file_result_id = $1 or other_file_result_id = $1`;
+    expect(await count(hashes)).toBe(fps.secondLouder.hashes.length);
+    expect(await count(links)).toBe(2); // the two minutes-1961 files
+    await t.db.sequelize.query(`delete from file_results where id = $1`, { bind: [id] });
+    expect(await count(hashes)).toBe(0);
+    expect(await count(links)).toBe(0);
+    expect(await count(`select count(*) n from fingerprints where file_result_id = $1`)).toBe(0);
+  });
+
   it("refuses a damaged fingerprint with 422 naming the file, and stores nothing", async () => {
     const before = await FileResult.count();
     const damaged = encodeFingerprint(fps.unrelatedA).slice(0, 200);

@@ -7,8 +7,8 @@
 import { QueryTypes, type Sequelize, type Transaction } from "sequelize";
 import {
   DEFAULT_MIN_SCORE,
-  distinctHashes,
   isSameRecording,
+  OFFSET_BIN_SECONDS,
   scorePostings,
   type Fingerprint,
 } from "@tidemark/shared/fingerprint/index";
@@ -55,25 +55,43 @@ interface CandidateRow {
   hash_count: number;
 }
 
+/**
+ * The postings of a lookup. PostgreSQL probes the btree once per distinct hash (LIMIT bounds what a very common
+ * hash costs), drops hashes over MAX_ROWS_PER_HASH, and returns only the rows of files that can still
+ * reach minScore: a window of three offset bins holding minScore hits has a bin holding a third of
+ * them, so files with no bin of ⌈minScore/3⌉ hits are left out. The bins are computed as the scorer
+ * computes them (floor(x + 0.5) is Math.round, on the same doubles), so this changes which rows travel,
+ * not the result; chance hits, spread over thousands of files, stay in the database.
+ */
+const POSTINGS_SQL = `
+  with d as (
+    select distinct hash from unnest($2::int[]) as u(hash)
+  ), r as materialized (
+    select d.hash, h.file_result_id, h.time_seconds, count(*) over (partition by d.hash) as n
+      from d cross join lateral (
+        select file_result_id, time_seconds from fingerprint_hashes
+         where version = $1::smallint and hash = d.hash
+         limit $4
+      ) h
+  ), candidates as (
+    select r.file_result_id
+      from r join unnest($2::int[], $3::float8[]) as q(hash, t) on q.hash = r.hash
+     where r.n < $4
+     group by r.file_result_id, floor((r.time_seconds - q.t) / $5 + 0.5)
+    having count(*) >= $6
+  )
+  select r.hash, r.file_result_id, r.time_seconds from r
+   where r.n < $4 and r.file_result_id in (select file_result_id from candidates)`;
+
 /** Files of the index holding the query's audio, best first. An empty fingerprint matches nothing. */
 export async function lookupFingerprint(sequelize: Sequelize, fp: Fingerprint, o: LookupOptions): Promise<IndexedMatch[]> {
-  const hashes = distinctHashes(fp);
-  if (hashes.length === 0) return [];
-  // One index probe per distinct hash; LIMIT bounds the work a very common hash can cause.
-  const rows = await sequelize.query<PostingRow>(
-    `select q.hash, h.file_result_id, h.time_seconds
-       from unnest($2::int[]) as q(hash)
-       cross join lateral (
-         select file_result_id, time_seconds from fingerprint_hashes
-          where version = $1::smallint and hash = q.hash
-          limit $3
-       ) h`,
-    { bind: [fp.version, Array.from(hashes), MAX_ROWS_PER_HASH + 1], type: QueryTypes.SELECT, transaction: o.transaction },
-  );
-  const rowsPerHash = new Map<number, number>();
-  for (const r of rows) rowsPerHash.set(r.hash, (rowsPerHash.get(r.hash) ?? 0) + 1);
-
-  const kept = rows.filter((r) => rowsPerHash.get(r.hash)! <= MAX_ROWS_PER_HASH);
+  if (fp.hashes.length === 0) return [];
+  const minScore = o.minScore ?? DEFAULT_MIN_SCORE;
+  const kept = await sequelize.query<PostingRow>(POSTINGS_SQL, {
+    bind: [fp.version, Array.from(fp.hashes), Array.from(fp.times), MAX_ROWS_PER_HASH + 1, OFFSET_BIN_SECONDS, Math.ceil(minScore / 3)],
+    type: QueryTypes.SELECT,
+    transaction: o.transaction,
+  });
   const fileIds: number[] = [];
   const dense = new Map<number, number>();
   const postings = { hashes: new Uint32Array(kept.length), candidates: new Uint32Array(kept.length), times: new Float64Array(kept.length), count: kept.length };
@@ -86,9 +104,10 @@ export async function lookupFingerprint(sequelize: Sequelize, fp: Fingerprint, o
     }
     postings.hashes[i] = r.hash;
     postings.candidates[i] = n;
-    postings.times[i] = r.time_seconds;
+    // A real arrives as its shortest decimal text, which parses to a nearby double; fround gives back
+    // the stored float4 the SQL above computed with.
+    postings.times[i] = Math.fround(r.time_seconds);
   });
-  const minScore = o.minScore ?? DEFAULT_MIN_SCORE;
   const scored = scorePostings(fp, postings, { minScore, maxResults: MAX_SCORED_CANDIDATES });
   if (scored.length === 0) return [];
 
