@@ -16,6 +16,7 @@ import { jobQueueFor } from "../queue/jobQueue.ts";
 import { ScanJob, ScanJobAttempt, ScanRun } from "../queue/models/index.ts";
 import { imageKey, newUploadId } from "../storage/objectKeys.ts";
 import { recordAudit } from "./audit.ts";
+import { recordBatchDuplicates } from "./duplicatesIngest.ts";
 import { summariseFindings } from "./findingSummary.ts";
 import type { ImagePart } from "./ingestValidation.ts";
 import { insertFileRows, insertFindingRows } from "./ingestRows.ts";
@@ -128,6 +129,8 @@ async function storeRows(ctx: AppContext, res: Response, jobId: number, input: J
     ],
     transaction,
   );
+  // Duplicate transfers are linked as at ingest (it appends its info findings to `findings`).
+  await recordBatchDuplicates(ctx.sequelize, res, run.collectionId, [{ report: file, fileResultId, findings }], transaction);
   await insertFindingRows(ctx.sequelize, findings.map((f) => ({ ...f, file_result_id: fileResultId })), transaction);
   // The batch grows by one file; finished_at follows the latest result so the Batches view reads right.
   await ctx.sequelize.query(
