@@ -28,6 +28,7 @@ import type { WorkerOptions } from "./commands/worker.ts";
 import { secondsParser } from "./queue/options.ts";
 import { parseMount, type PathMount } from "./queue/pathMounts.ts";
 import { toolInfo } from "./toolInfo.ts";
+import { DEFAULT_MATCH_LIMIT, MATCH_EXIT_CODES_HELP, parseMatchLimit, type MatchOptions } from "./match/matchOptions.ts";
 
 /** What each command does once its arguments are parsed; resolves to the exit code. */
 export interface CommandActions {
@@ -36,6 +37,7 @@ export interface CommandActions {
   upload(reportPath: string | null, options: UploadOptions, io: CliIo): Promise<number>;
   profiles(name: string | null, options: ProfilesOptions, io: CliIo): Promise<number>;
   login(options: LoginOptions, io: CliIo): Promise<number>;
+  match(file: string, options: MatchOptions, io: CliIo): Promise<number>;
 }
 
 /** Distributed scanning (a queue on the server): register files as jobs, and work them off. */
@@ -55,6 +57,7 @@ const defaultActions: CommandActions = {
   upload: async (...args) => (await import("./commands/upload.ts")).uploadCommand(...args),
   profiles: async (...args) => (await import("./commands/profiles.ts")).profilesCommand(...args),
   login: async (...args) => (await import("./commands/login.ts")).loginCommand(...args),
+  match: async (...args) => (await import("./commands/match.ts")).matchCommand(...args),
 };
 
 async function finish(code: Promise<number>): Promise<void> {
@@ -243,6 +246,25 @@ export function createProgram(actions: Partial<CommandActions & QueueCommandActi
         quiet: o.quiet === true,
       };
       await finish(run.worker(options, io()));
+    });
+
+  program
+    .command("match")
+    .description("find the same recording elsewhere: compare <file>'s fingerprint with those in earlier reports, or ask the server")
+    .argument("<file>", "a WAV, BWF or RF64 file")
+    .option("--against <report.json>", "a JSON report written by tidemark scan (repeatable)", collect, [])
+    .option("--server <url>", "ask this server's index instead (token from TIDEMARK_TOKEN or tidemark login)", parseServerUrl)
+    .option("-n, --limit <n>", `at most this many matches (default ${DEFAULT_MATCH_LIMIT})`, parseMatchLimit)
+    .option("--json", "print the matches as JSON")
+    .addHelpText("after", MATCH_EXIT_CODES_HELP)
+    .action(async (file: string, o: Record<string, unknown>) => {
+      const against = o.against as string[];
+      const server = (o.server as string | undefined) ?? null;
+      if ((against.length > 0) === (server !== null)) {
+        throw new UsageError(server ? "give either --against REPORT.json or --server URL, not both" : "expected --against REPORT.json or --server URL: what to compare the file with");
+      }
+      const options: MatchOptions = { against, server, limit: (o.limit as number | undefined) ?? DEFAULT_MATCH_LIMIT, json: o.json === true };
+      await finish(run.match(file, options, io()));
     });
 
   return program;

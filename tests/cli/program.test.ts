@@ -29,6 +29,7 @@ async function parse(argv: string[], exitCode = 0): Promise<{ call: Call | null;
     upload: record("upload"),
     profiles: record("profiles"),
     login: record("login"),
+    match: record("match"),
   };
   let output = "";
   const program = createProgram(actions, () => io);
