@@ -7,10 +7,11 @@ import request from "supertest";
 import type TestAgent from "supertest/lib/agent.js";
 import { afterAll, beforeAll, expect, it } from "vitest";
 import { encodeFingerprint, FINGERPRINT_VERSION } from "@tidemark/shared/fingerprint/index";
-import { CSRF_HEADER, ROLES, type Role } from "@tidemark/shared/types/api";
+import { CSRF_HEADER, ROLES, type ClaimedJobDto, type Role } from "@tidemark/shared/types/api";
 import { ApiToken, FileResult, type User } from "../../server/src/models/index.ts";
 import { createApiToken } from "../../server/src/services/apiTokens.ts";
 import { finding, ingest, pngBytes, scanReport } from "./helpers/reports.ts";
+import { claimedJobs, createRun, deadJob, fileOf, runRequest } from "./helpers/runs.ts";
 import { startTestApp, TEST_PASSWORD, type TestApp } from "./helpers/testApp.ts";
 
 // shared/README.md, "Who uses it": the roles table, row by row.
@@ -54,12 +55,25 @@ interface RouteCase {
   /** The status an authenticated caller without the permission gets (default 403). */
   denied?: number;
   multipart?: boolean;
+  /** Multipart parts of another kind than ingest's (added to the request as built). */
+  attach?: (req: request.Test) => request.Test;
 }
 
 const both: Via[] = ["session", "token"];
 const EMPTY_FINGERPRINT = encodeFingerprint({ version: FINGERPRINT_VERSION, hashes: new Uint32Array(0), times: new Float32Array(0), durationSeconds: 0 });
 let n = 0;
 const unique = (): string => `${Date.now()}-${++n}`;
+
+// Distributed scanning: one run for the read routes, and a fresh job per call for the worker's writes.
+let matrixRun: Promise<number> | null = null;
+const runId = (fx: Fixture): Promise<number> =>
+  (matrixRun ??= createRun(t.app, fx.adminsToken, runRequest({ name: "matrix run" })).then((r) => r.body.run.id as number));
+let lastJob: ClaimedJobDto | null = null;
+const freshJob = async (fx: Fixture, dead = false): Promise<number> => {
+  lastJob = dead ? await deadJob(t.app, fx.adminsToken) : (await claimedJobs(t.app, fx.adminsToken, 1))[0];
+  return lastJob.id;
+};
+const attemptBody = () => ({ attempt: lastJob!.attempt, worker: "matrix-worker" });
 
 async function ownTokenId(caller: Caller): Promise<string> {
   if (!caller.user) return "tmnotatoken";
@@ -90,6 +104,28 @@ const ROUTES: RouteCase[] = [
   { method: "get", path: (fx) => `/api/exports/batches/${fx.batchId}.pdf`, access: "export", accepts: both, ok: 200 },
   { method: "get", path: () => "/api/audit", access: "export", accepts: both, ok: 200 },
   { method: "post", path: () => "/api/ingest", access: "upload", accepts: ["token"], ok: 201, multipart: true },
+  { method: "post", path: () => "/api/runs", access: "upload", accepts: ["token"], ok: 201, body: () => runRequest({ name: `matrix ${unique()}` }) },
+  { method: "post", path: async (fx) => `/api/runs/${await runId(fx)}/files`, access: "upload", accepts: ["token"], ok: 200, body: () => ({ files: [fileOf(`matrix/${unique()}.wav`)] }) },
+  { method: "get", path: () => "/api/runs", access: "view", accepts: both, ok: 200 },
+  { method: "get", path: async (fx) => `/api/runs/${await runId(fx)}`, access: "view", accepts: both, ok: 200 },
+  { method: "get", path: async (fx) => `/api/runs/${await runId(fx)}/jobs`, access: "view", accepts: both, ok: 200 },
+  { method: "post", path: async (fx) => `/api/runs/${await runId(fx)}/retry`, access: "review", accepts: both, ok: 200 },
+  { method: "post", path: () => "/api/jobs/claim", access: "upload", accepts: ["token"], ok: 200, body: () => ({ worker: "matrix-worker", max: 1 }) },
+  {
+    method: "post",
+    path: async (fx) => `/api/jobs/${await freshJob(fx)}/result`,
+    access: "upload",
+    accepts: ["token"],
+    ok: 201,
+    attach: (req) =>
+      req
+        .field("attempt", String(lastJob!.attempt))
+        .field("worker", "matrix-worker")
+        .attach("report", Buffer.from(JSON.stringify(scanReport([{ path: lastJob!.path }]))), "report.json"),
+  },
+  { method: "post", path: async (fx) => `/api/jobs/${await freshJob(fx)}/fail`, access: "upload", accepts: ["token"], ok: 200, body: () => ({ ...attemptBody(), message: "matrix failure" }) },
+  { method: "post", path: async (fx) => `/api/jobs/${await freshJob(fx)}/release`, access: "upload", accepts: ["token"], ok: 200, body: attemptBody },
+  { method: "post", path: async (fx) => `/api/jobs/${await freshJob(fx, true)}/retry`, access: "review", accepts: both, ok: 200 },
   { method: "get", path: () => "/api/tokens", access: "ownTokens", accepts: ["session"], ok: 200 },
   { method: "post", path: () => "/api/tokens", access: "ownTokens", accepts: ["session"], ok: 201, body: () => ({ name: `matrix ${unique()}` }) },
   { method: "delete", path: async (_fx, caller) => `/api/tokens/${await ownTokenId(caller)}`, access: "ownTokens", accepts: ["session"], ok: 204 },
@@ -180,6 +216,7 @@ async function call(route: RouteCase, caller: Caller): Promise<number> {
   else if (caller.via === "session") req = sessions[caller.role][route.method](url).set(CSRF_HEADER, "1");
   else req = request(t.app)[route.method](url).set("Authorization", `Bearer ${tokens[caller.role]}`);
   if (route.body) req = req.send(route.body(fx, caller));
+  if (route.attach) req = route.attach(req);
   if (route.textBody) req = req.set("content-type", "text/plain").send(route.textBody());
   const res = await req;
   if (res.status >= 400) expect(res.body.error, `${route.method} ${url}: one JSON error shape`).toMatchObject({ code: expect.any(String), message: expect.any(String) });

@@ -74,3 +74,26 @@ export async function claimedJobs(app: Express, token: string, count = 1, worker
   }
   return jobs;
 }
+
+/** Claims until the job with `id` comes round again (other queued jobs claimed meanwhile stay held). */
+export async function reclaim(app: Express, token: string, id: number, worker = "fixture-worker"): Promise<ClaimedJobDto> {
+  for (let round = 0; round < 50; round++) {
+    const res = await claim(app, token, worker, 16);
+    const mine = (res.body.jobs as ClaimedJobDto[]).find((j) => j.id === id);
+    if (mine) return mine;
+    if (res.body.jobs.length === 0) break;
+  }
+  throw new Error(`job ${id} did not come back to the queue`);
+}
+
+/** A job failed until its retries are spent: dead-lettered, ready for a supervisor's retry. */
+export async function deadJob(app: Express, token: string): Promise<ClaimedJobDto> {
+  let [job] = await claimedJobs(app, token, 1);
+  for (let round = 0; round < 20; round++) {
+    const res = await request(app).post(`/api/jobs/${job.id}/fail`).set(bearer(token)).send({ attempt: job.attempt, worker: "fixture-worker", message: "fixture failure" });
+    if (res.status !== 200) throw new Error(`fail: ${res.status} ${JSON.stringify(res.body)}`);
+    if (res.body.state === "failed") return job;
+    job = await reclaim(app, token, job.id);
+  }
+  throw new Error(`job ${job.id} was never dead-lettered`);
+}
