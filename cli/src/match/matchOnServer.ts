@@ -12,8 +12,9 @@ import type { FoundMatch } from "./formatMatches.ts";
 const TIMEOUT_MS = 60_000;
 
 function describeNetworkError(error: unknown): string {
-  const cause = (error as { cause?: { code?: string } } | null)?.cause;
+  const cause = (error as { cause?: { code?: string; message?: string } } | null)?.cause;
   if (cause?.code) return cause.code;
+  if (cause?.message) return cause.message;
   if (error instanceof Error && error.name === "TimeoutError") return "timed out";
   return error instanceof Error ? error.message : String(error);
 }
