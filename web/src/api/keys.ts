@@ -2,7 +2,7 @@
  * Query-key factories: the only place key arrays are written. Each level spreads the one above it, so
  * invalidating `fileKeys.lists()` reaches every filtered page and `fileKeys.all` reaches everything files.
  */
-import type { BatchQuery, FileQuery } from "@tidemark/shared/types/api";
+import type { BatchQuery, FileQuery, ScanRunQuery } from "@tidemark/shared/types/api";
 
 export interface AuditQuery {
   actor?: string;
@@ -54,4 +54,12 @@ export const auditKeys = {
   all: ["audit"] as const,
   lists: () => [...auditKeys.all, "list"] as const,
   list: (query: AuditQuery) => [...auditKeys.lists(), query] as const,
+};
+
+export const runKeys = {
+  all: ["runs"] as const,
+  lists: () => [...runKeys.all, "list"] as const,
+  list: (query: ScanRunQuery) => [...runKeys.lists(), query] as const,
+  details: () => [...runKeys.all, "detail"] as const,
+  detail: (id: number) => [...runKeys.details(), id] as const,
 };
