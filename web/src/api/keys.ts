@@ -24,6 +24,8 @@ export const fileKeys = {
   list: (query: FileQuery) => [...fileKeys.lists(), query] as const,
   details: () => [...fileKeys.all, "detail"] as const,
   detail: (id: number) => [...fileKeys.details(), id] as const,
+  /** The file's possible-duplicate links (issue #11), read apart from the detail. */
+  duplicates: (id: number) => [...fileKeys.all, "duplicates", id] as const,
 };
 
 export const batchKeys = {
