@@ -9,6 +9,8 @@ import { ResetPasswordPage } from "./routes/ResetPasswordPage.tsx";
 import { BatchesPage } from "./routes/BatchesPage.tsx";
 import { FilesPage } from "./routes/FilesPage.tsx";
 import { FileDetailPage } from "./routes/FileDetailPage.tsx";
+import { RunsPage } from "./routes/RunsPage.tsx";
+import { RunDetailPage } from "./routes/RunDetailPage.tsx";
 import { ExportsPage } from "./routes/ExportsPage.tsx";
 import { AuditPage } from "./routes/AuditPage.tsx";
 import { TokensPage } from "./routes/TokensPage.tsx";
@@ -34,6 +36,8 @@ export const routes: RouteObject[] = [
           { path: "/batches", element: <BatchesPage /> },
           { path: "/files", element: <FilesPage /> },
           { path: "/files/:fileId", element: <FileDetailPage /> },
+          { path: "/runs", element: <RunsPage /> },
+          { path: "/runs/:runId", element: <RunDetailPage /> },
           {
             path: "/exports",
             element: (

@@ -7,6 +7,7 @@ import { TidemarkLogo } from "./icons.tsx";
 const NAV: { to: string; label: string; permission?: Permission }[] = [
   { to: "/batches", label: "Batches" },
   { to: "/files", label: "Files" },
+  { to: "/runs", label: "Runs" },
   { to: "/exports", label: "Exports", permission: "export" },
   { to: "/audit", label: "Audit trail", permission: "audit" },
   { to: "/tokens", label: "API tokens", permission: "ownTokens" },
