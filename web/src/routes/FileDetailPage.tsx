@@ -11,6 +11,7 @@ import { FindingsTable } from "../components/file/FindingsTable.tsx";
 import { FixityHistory } from "../components/file/FixityHistory.tsx";
 import { MetricsPanels } from "../components/file/MetricsPanels.tsx";
 import { ReviewPanel } from "../components/file/ReviewPanel.tsx";
+import { SameRecordingPanel } from "../components/file/SameRecordingPanel.tsx";
 import { SpectrogramView } from "../components/file/SpectrogramView.tsx";
 import { formatAudioFormat, formatDuration } from "../format/units.ts";
 
@@ -99,6 +100,9 @@ export function FileDetailPage() {
         )}
         <div className="min-w-0 lg:col-start-1">
           <FixityHistory file={f} />
+        </div>
+        <div className="min-w-0 lg:col-start-1">
+          <SameRecordingPanel fileId={f.id} />
         </div>
       </div>
     </>
