@@ -1,5 +1,6 @@
 import { describe, expect, it } from "vitest";
 import {
+  canFingerprint,
   createFingerprinter,
   decodeFingerprint,
   DEFAULT_MIN_SCORE,
@@ -203,6 +204,9 @@ describe("fingerprint: createFingerprinter", () => {
     expect(() => createFingerprinter(format(48000, 0))).toThrow(/channels must be an integer ≥ 1, got 0/);
     expect(() => createFingerprinter(format(8000))).not.toThrow();
     expect(() => createFingerprinter(format(384000))).not.toThrow();
+    for (const [rate, channels, ok] of [[7999, 1, false], [8000, 1, true], [384000, 8, true], [400000, 2, false], [48000, 0, false], [Number.NaN, 1, false]] as const) {
+      expect(canFingerprint({ sampleRateHz: rate, channels }), `${rate} Hz, ${channels} channels`).toBe(ok);
+    }
 
     const fp = createFingerprinter(format(48000, 2));
     const ch = new Float32Array(100);

@@ -71,6 +71,12 @@ export function frameTimeSeconds(frame: number): number {
 export const MIN_SAMPLE_RATE_HZ = 8000;
 export const MAX_SAMPLE_RATE_HZ = 384000;
 
+/** Whether createFingerprinter accepts this stream (a scan still measures a file it cannot fingerprint). */
+export function canFingerprint(format: Pick<StreamFormat, "sampleRateHz" | "channels">): boolean {
+  const { sampleRateHz, channels } = format;
+  return sampleRateHz >= MIN_SAMPLE_RATE_HZ && sampleRateHz <= MAX_SAMPLE_RATE_HZ && Number.isInteger(channels) && channels >= 1;
+}
+
 export function createFingerprinter(format: StreamFormat): BlockAnalyser<Fingerprint> {
   const { sampleRateHz, channels } = format;
   if (!Number.isFinite(sampleRateHz) || sampleRateHz < MIN_SAMPLE_RATE_HZ || sampleRateHz > MAX_SAMPLE_RATE_HZ) {

@@ -1,6 +1,7 @@
 /** Spectral fingerprint of a recording, and matching against other fingerprints (issue #11). */
 export type { Fingerprint, Match } from "./types.ts";
 export {
+  canFingerprint,
   createFingerprinter,
   FINGERPRINT_GRID,
   FINGERPRINT_VERSION,
