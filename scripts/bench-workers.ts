@@ -1,0 +1,211 @@
+/**
+ * Throughput of distributed scanning with 1, 2 and 3 worker processes on this machine (issue #10), not
+ * part of `npm test`: a throwaway PostgreSQL, the real server (pg-boss included) on a loopback port,
+ * synthesised 24-bit stereo files, `tidemark enqueue` into a fresh run per worker count, then that many
+ * `tidemark worker` processes. Figures come from the server's own run status (first claim to last result)
+ * and from the wall clock; a single `tidemark scan --workers 1` of the same files is the baseline.
+ *
+ *   node --import tsx scripts/bench-workers.ts [--files 24] [--seconds 60] [--workers 1,2,3]
+ *                                              [--concurrency 1] [--no-images] [--from-source] [--out result.json]
+ *
+ * The CLI is prebuilt first (cli/bin/build.mjs), as for `npm run bench`, so worker start-up (tsx compiling
+ * the sources) does not eat into the measured time; --from-source skips that.
+ * Each worker measures `--concurrency` files at once (default 1). The machine is shared, so the idle
+ * load of other processes is measured before every run and reported beside it.
+ */
+import { execFileSync, spawn, type ChildProcess } from "node:child_process";
+import { mkdirSync, mkdtempSync, rmSync, writeFileSync } from "node:fs";
+import { availableParallelism, cpus, tmpdir } from "node:os";
+import path from "node:path";
+import type { ScanRunDetailDto } from "@tidemark/shared/types/api";
+import { connectDatabase } from "../server/src/db/connect.ts";
+import { initModels, User } from "../server/src/models/index.ts";
+import { createApiToken } from "../server/src/services/apiTokens.ts";
+import { machineBusyCores } from "./bench/measure.ts";
+import { synthesiseWav } from "./bench/synthWav.ts";
+import { projectRoot } from "./lib/paths.ts";
+import { claimThrowawayDir, ensurePostgresInstalled, freePort, startCluster } from "./lib/postgres.ts";
+
+interface Options {
+  files: number;
+  seconds: number;
+  workers: number[];
+  concurrency: number;
+  images: boolean;
+  fromSource: boolean;
+  out: string | null;
+}
+
+interface RunFigures {
+  workers: number;
+  files: number;
+  audioSeconds: number;
+  /** From the first claim to the last result, as the server records them. */
+  busySeconds: number;
+  filesPerMinute: number;
+  realTimeFactor: number;
+  /** From `tidemark enqueue` to the last result, worker start-up included. */
+  wallSeconds: number;
+  speedUp: number;
+  /** Cores other processes kept busy just before the run. */
+  otherLoadCores: number;
+}
+
+const log = (line: string): void => void process.stderr.write(`[bench-workers] ${line}\n`);
+const BIN = path.join(projectRoot, "cli", "bin", "tidemark.js");
+
+function parseOptions(argv: string[]): Options {
+  const o: Options = { files: 24, seconds: 60, workers: [1, 2, 3], concurrency: 1, images: true, fromSource: false, out: null };
+  for (let i = 0; i < argv.length; i++) {
+    const a = argv[i];
+    const value = (): string => {
+      const v = argv[++i];
+      if (v === undefined) throw new Error(`${a} needs a value`);
+      return v;
+    };
+    const whole = (v: string, min: number): number => {
+      const n = Number(v);
+      if (!Number.isInteger(n) || n < min) throw new Error(`${a} expects a whole number ≥ ${min}, got "${v}"`);
+      return n;
+    };
+    if (a === "--files") o.files = whole(value(), 1);
+    else if (a === "--seconds") o.seconds = whole(value(), 1);
+    else if (a === "--workers") o.workers = value().split(",").map((v) => whole(v, 1));
+    else if (a === "--concurrency") o.concurrency = whole(value(), 1);
+    else if (a === "--no-images") o.images = false;
+    else if (a === "--from-source") o.fromSource = true;
+    else if (a === "--out") o.out = value();
+    else throw new Error(`unknown option ${a} (see the comment at the top of scripts/bench-workers.ts)`);
+  }
+  return o;
+}
+
+function run(args: string[], env: NodeJS.ProcessEnv): Promise<{ code: number | null; stdout: string; stderr: string }> {
+  return new Promise((resolve) => {
+    const child = spawn(process.execPath, [BIN, ...args], { env, stdio: ["ignore", "pipe", "pipe"] });
+    let stdout = "";
+    let stderr = "";
+    child.stdout.on("data", (c: Buffer) => void (stdout += c.toString()));
+    child.stderr.on("data", (c: Buffer) => void (stderr += c.toString()));
+    child.once("exit", (code) => resolve({ code, stdout, stderr }));
+  });
+}
+
+async function waitFor<T>(what: string, probe: () => Promise<T | null>, timeoutMs: number): Promise<T> {
+  const until = Date.now() + timeoutMs;
+  for (;;) {
+    const value = await probe().catch(() => null);
+    if (value) return value;
+    if (Date.now() > until) throw new Error(`timed out waiting for ${what}`);
+    await new Promise((r) => setTimeout(r, 100));
+  }
+}
+
+async function main(): Promise<void> {
+  const o = parseOptions(process.argv.slice(2));
+  if (!o.fromSource) execFileSync(process.execPath, [path.join(projectRoot, "cli/bin/build.mjs")], { stdio: ["ignore", "ignore", "inherit"] });
+  const work = mkdtempSync(path.join(tmpdir(), "tidemark-bench-workers-"));
+  claimThrowawayDir(work);
+  const children: ChildProcess[] = [];
+  const bins = ensurePostgresInstalled(log);
+  const cluster = await startCluster(bins, { dataDir: path.join(work, "pg"), port: await freePort(), throwaway: true, log });
+  try {
+    await cluster.createDatabase("bench");
+    const databaseUrl = cluster.url("bench");
+    const port = await freePort();
+    const server = spawn(process.execPath, ["--import", "tsx", path.join(projectRoot, "server/src/main.ts")], {
+      cwd: projectRoot,
+      env: { ...process.env, DATABASE_URL: databaseUrl, HOST: "127.0.0.1", PORT: String(port), DATA_DIR: path.join(work, "data"), DEMO_SEED: "0", NODE_ENV: "production", SESSION_SECRET: "bench-workers-secret-0123456789abcdefgh" },
+      stdio: ["ignore", "ignore", "inherit"],
+    });
+    children.push(server);
+    const url = `http://127.0.0.1:${port}`;
+    await waitFor("the server", async () => ((await fetch(`${url}/api/health`)).status === 200 ? true : null), 60_000);
+
+    const db = connectDatabase(databaseUrl, { poolMax: 1 });
+    initModels(db.sequelize);
+    const user = await User.create({ email: "bench@harbourside.test", name: "Benchmark", role: "technician", passwordHash: "scrypt$unused" });
+    const token = (await createApiToken(user.id, "bench")).plaintext;
+    await db.close();
+    const env: NodeJS.ProcessEnv = { ...process.env, TIDEMARK_FROM_SOURCE: o.fromSource ? "1" : "0", TIDEMARK_TOKEN: token, TIDEMARK_CONFIG_DIR: path.join(work, "config"), TIDEMARK_SPOOL_DIR: path.join(work, "spool") };
+    delete env.DATABASE_URL;
+
+    const audio = path.join(work, "archive", "lighthouse-choir");
+    mkdirSync(audio, { recursive: true });
+    log(`synthesising ${o.files} files of ${o.seconds} s (48 kHz, 24-bit, stereo pink noise)`);
+    for (let i = 0; i < o.files; i++) {
+      await synthesiseWav({ path: path.join(audio, `reel-${String(i + 1).padStart(3, "0")}.wav`), seconds: o.seconds, sampleRateHz: 48_000, channels: 2, bitDepth: 24, noise: "pink", rmsDbfs: -20, seed: 17 + i });
+    }
+
+    log("baseline: tidemark scan --workers 1 of the same files");
+    const scanStart = performance.now();
+    const scan = await run(["scan", audio, "--workers", "1", "--format", "json", "--quiet", ...(o.images ? ["--spectrograms", path.join(work, "png")] : [])], env);
+    const scanSeconds = (performance.now() - scanStart) / 1000;
+    if (scan.code !== 0 && scan.code !== 1) throw new Error(`scan failed (${scan.code}): ${scan.stderr}`);
+    log(`scan: ${scanSeconds.toFixed(1)} s`);
+
+    const figures: RunFigures[] = [];
+    for (const count of o.workers) {
+      const otherLoadCores = await machineBusyCores(2_000);
+      const names = Array.from({ length: count }, (_, i) => `bench-${count}-${i + 1}`);
+      const workerArgs = ["--server", url, "--poll", "0.2", "--quiet", "--concurrency", String(o.concurrency), ...(o.images ? [] : ["--no-images"])];
+      const workers = names.map((name) => spawn(process.execPath, [BIN, "worker", ...workerArgs, "--name", name], { env, stdio: ["ignore", "ignore", "inherit"] }));
+      children.push(...workers);
+      const exits = workers.map((w) => new Promise<number | null>((resolve) => w.once("exit", (code) => resolve(code))));
+      const started = performance.now();
+      const enqueued = await run(["enqueue", audio, "--server", url, "--collection", "Harbourside benchmark", "--run", `${count} worker(s) ${Date.now()}`, "--json"], env);
+      if (enqueued.code !== 0) throw new Error(`enqueue failed (${enqueued.code}): ${enqueued.stderr}`);
+      const runId = (JSON.parse(enqueued.stdout) as { run: { id: number } }).run.id;
+      const done = await waitFor(
+        `run ${runId}`,
+        async () => {
+          const body = (await (await fetch(`${url}/api/runs/${runId}`, { headers: { authorization: `Bearer ${token}` } })).json()) as ScanRunDetailDto;
+          return body.counts.done + body.counts.failed === o.files ? body : null;
+        },
+        3_600_000,
+      );
+      const wallSeconds = (performance.now() - started) / 1000;
+      for (const w of workers) w.kill("SIGTERM");
+      const codes = await Promise.all(exits);
+      if (codes.some((c) => c !== 0)) throw new Error(`a worker exited with ${codes.join(", ")}`);
+      if (done.counts.failed > 0) throw new Error(`${done.counts.failed} job(s) failed`);
+      const busySeconds = (Date.parse(done.lastResultAt!) - Date.parse(done.firstClaimAt!)) / 1000;
+      const audioSeconds = o.files * o.seconds;
+      const figure: RunFigures = {
+        workers: count,
+        files: o.files,
+        audioSeconds,
+        busySeconds,
+        filesPerMinute: (o.files / busySeconds) * 60,
+        realTimeFactor: audioSeconds / busySeconds,
+        wallSeconds,
+        speedUp: figures.length ? figures[0].busySeconds / busySeconds : 1,
+        otherLoadCores,
+      };
+      figures.push(figure);
+      log(`${count} worker(s): ${busySeconds.toFixed(1)} s, ${figure.filesPerMinute.toFixed(1)} files/min, ${figure.realTimeFactor.toFixed(0)}× real time (other load ${otherLoadCores.toFixed(2)} cores)`);
+    }
+
+    const cpu = cpus()[0]?.model ?? "unknown CPU";
+    const lines = [
+      `Machine: ${availableParallelism()} cores (${cpu}), Node ${process.version}; ${o.files} files × ${o.seconds} s, 48 kHz 24-bit stereo, images ${o.images ? "on" : "off"}, ${o.concurrency} job(s) per worker`,
+      `Baseline: tidemark scan --workers 1: ${scanSeconds.toFixed(1)} s wall (start-up included)`,
+      "",
+      "| workers | first claim → last result | files/min | × real time | speed-up | wall from enqueue | other load |",
+      "|---|---|---|---|---|---|---|",
+      ...figures.map((f) => `| ${f.workers} | ${f.busySeconds.toFixed(1)} s | ${f.filesPerMinute.toFixed(1)} | ${f.realTimeFactor.toFixed(0)}× | ${f.speedUp.toFixed(2)} | ${f.wallSeconds.toFixed(1)} s | ${f.otherLoadCores.toFixed(2)} cores |`),
+    ];
+    process.stdout.write(`${lines.join("\n")}\n`);
+    if (o.out) writeFileSync(o.out, `${JSON.stringify({ machine: { cores: availableParallelism(), cpu, node: process.version }, options: o, scanSeconds, figures }, null, 2)}\n`);
+  } finally {
+    for (const c of children) if (c.exitCode === null && c.signalCode === null) c.kill("SIGTERM");
+    await new Promise((r) => setTimeout(r, 1500));
+    await cluster.stop().catch((e: unknown) => log(`stopping PostgreSQL: ${String(e)}`));
+    rmSync(work, { recursive: true, force: true });
+  }
+}
+
+main().catch((e: unknown) => {
+  log(e instanceof Error ? e.message : String(e));
+  process.exit(1);
+});
