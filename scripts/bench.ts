@@ -146,8 +146,9 @@ async function waitForCalm(o: Options): Promise<void> {
 }
 
 async function scan(dir: string, workers: number, o: Options, scratch: string): Promise<ScanSample> {
-  ensureBundle(o);
   await waitForCalm(o);
+  // After the wait, which may be long: others keep editing sources.
+  ensureBundle(o);
   const timings = path.join(scratch, `stages-${Date.now()}.jsonl`);
   const out = path.join(scratch, "report.json");
   const env = { ...process.env, TIDEMARK_STAGE_TIMINGS: timings, TIDEMARK_FROM_SOURCE: o.fromSource ? "1" : "0" };
@@ -169,7 +170,8 @@ async function scan(dir: string, workers: number, o: Options, scratch: string): 
   return { ...m, stagesMs, bundled };
 }
 
-async function ffmpegPass(file: string, scratch: string): Promise<Measured> {
+async function ffmpegPass(file: string, o: Options, scratch: string): Promise<Measured> {
+  await waitForCalm(o);
   const args = ["-hide_banner", "-nostats", "-i", file, "-af", "ebur128=peak=true,astats", "-f", "null", "-"];
   const m = await measure("ffmpeg", args, { cwd: scratch, scratchDir: scratch });
   if (m.exitCode !== 0) throw new Error(`ffmpeg exited with ${m.exitCode}:\n${m.stderr.slice(-2000)}`);
@@ -274,7 +276,7 @@ async function main(): Promise<void> {
       singles.push(await scan(path.dirname(mainFile), 1, o, scratch));
       log(`  tidemark ${fmt(singles[r].wallSeconds, 2)} s wall, ${fmt(singles[r].cpuSeconds, 2)} s CPU, ${fmt(singles[r].peakRssMb, 0)} MB${busyNote(singles[r])}`);
       if (ffmpeg) {
-        ffmpegRuns.push(await ffmpegPass(mainFile, scratch));
+        ffmpegRuns.push(await ffmpegPass(mainFile, o, scratch));
         log(`  ffmpeg   ${fmt(ffmpegRuns[r].wallSeconds, 2)} s wall, ${fmt(ffmpegRuns[r].cpuSeconds, 2)} s CPU, ${fmt(ffmpegRuns[r].peakRssMb, 0)} MB${busyNote(ffmpegRuns[r])}`);
       }
     }

@@ -39,8 +39,9 @@ export interface RunScanResult {
 
 /** Per-worker V8 heap cap: far above what one file needs (#8), low enough to stop a runaway. */
 const WORKER_HEAP_LIMIT_MB = 1024;
-/** The worker script beside this module: the TypeScript source, or the bundle's entry in cli/dist (cli/bin/build.mjs). */
+/** Running from the prebuilt bundle in cli/dist (cli/bin/build.mjs) rather than the TypeScript sources. */
 const IS_BUNDLED = !import.meta.url.endsWith(".ts");
+/** The worker script beside this module: the bundle's entry in dist, or the source next to this file. */
 const WORKER_SCRIPT = new URL(IS_BUNDLED ? "./scanWorker.js" : "./scanWorker.ts", import.meta.url);
 
 async function exists(file: string): Promise<boolean> {
