@@ -15,7 +15,7 @@ import {
   type Fingerprint,
 } from "../../shared/src/fingerprint/index.ts";
 import { hashLandmarks, unpackLandmarkHash } from "../../shared/src/fingerprint/landmarks.ts";
-import { createStreamingResampler } from "../../shared/src/fingerprint/resampler.ts";
+import { createMultiChannelResampler, createStreamingResampler } from "../../shared/src/fingerprint/resampler.ts";
 import { MAX_FINGERPRINT_CHARS } from "../../shared/src/types/report.ts";
 import { fingerprintOf, programme } from "../fixtures/fingerprintSignals.ts";
 import { gainDb, pinkNoise, rmsDbfs, seededRandom, sine, whiteNoise } from "../fixtures/synth.ts";
@@ -66,6 +66,26 @@ describe("fingerprint: internal resampler", () => {
     const x = sine({ frequencyHz: 8000, sampleRateHz: rate, seconds: 0.5, peakDbfs: 0 });
     const y = resampleAll(x, rate);
     expect(rmsDbfs(y.subarray(500, y.length - 500)) - rmsDbfs(x)).toBeLessThan(-55);
+  });
+});
+
+describe("fingerprint: multi-channel resampler", () => {
+  it("gives every channel exactly what the mono resampler gives it, in pairs and alone", () => {
+    const rate = 44100;
+    const inputs = [1, 2, 3].map((seed) => whiteNoise({ sampleRateHz: rate, seconds: 0.5, rmsDbfs: -20, seed }));
+    const multi = createMultiChannelResampler({ inputRateHz: rate, outputRateHz: FINGERPRINT_GRID.analysisRateHz, passbandHz: 4000, stopbandHz: 7025 }, 3);
+    const outs = inputs.map(() => new Float32Array(8000));
+    let n = 0;
+    for (let s = 0; s < inputs[0].length; s += 777) {
+      const count = Math.min(777, inputs[0].length - s);
+      multi.write(inputs.map((x) => x.subarray(s, s + count)), count);
+      n += multi.read(outs.map((o) => o.subarray(n)));
+    }
+    multi.end();
+    n += multi.read(outs.map((o) => o.subarray(n)));
+    for (const [c, x] of inputs.entries()) expect(Array.from(outs[c].subarray(0, n)), `channel ${c}`).toEqual(Array.from(resampleAll(x, rate)));
+    expect(() => multi.read([new Float32Array(4)])).toThrow(/got 1 outputs, expected 3/);
+    expect(() => createMultiChannelResampler({ inputRateHz: rate, outputRateHz: 11025, passbandHz: 4000, stopbandHz: 7025 }, 0)).toThrow(/channels must be an integer ≥ 1, got 0/);
   });
 });
 

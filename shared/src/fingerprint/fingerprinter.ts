@@ -11,7 +11,7 @@
 import type { AudioBlock, BlockAnalyser, StreamFormat } from "../types/analysis.ts";
 import { createFramePowerSpectrum, powerToDb } from "./fftFrames.ts";
 import { createPeakPicker, hashLandmarks } from "./landmarks.ts";
-import { createStreamingResampler, type StreamingResampler } from "./resampler.ts";
+import { createMultiChannelResampler } from "./resampler.ts";
 import type { Fingerprint } from "./types.ts";
 
 /**
@@ -86,25 +86,26 @@ export function createFingerprinter(format: StreamFormat): BlockAnalyser<Fingerp
     throw new RangeError(`fingerprint: channels must be an integer ≥ 1, got ${channels}`);
   }
 
-  // One resampler and frame buffer per channel: they see the same sample counts, so they move in step.
-  const resamplers: StreamingResampler[] = [];
+  // One resampler for all channels (they share its kernel), and one frame buffer per channel.
+  const resampler = createMultiChannelResampler(
+    {
+      inputRateHz: sampleRateHz,
+      outputRateHz: ANALYSIS_RATE_HZ,
+      passbandHz: BAND_HIGH_HZ,
+      // Anything above (internal rate − 4 kHz) would fold back into the band; between that and 4 kHz may leak.
+      stopbandHz: ANALYSIS_RATE_HZ - BAND_HIGH_HZ,
+    },
+    channels,
+  );
   const frames: Float32Array[] = [];
+  const cleaned: Float32Array[] = [];
   for (let c = 0; c < channels; c++) {
-    resamplers.push(
-      createStreamingResampler({
-        inputRateHz: sampleRateHz,
-        outputRateHz: ANALYSIS_RATE_HZ,
-        passbandHz: BAND_HIGH_HZ,
-        // Anything above (internal rate − 4 kHz) would fold back into the band; between that and 4 kHz may leak.
-        stopbandHz: ANALYSIS_RATE_HZ - BAND_HIGH_HZ,
-      }),
-    );
     frames.push(new Float32Array(FFT_SIZE));
+    cleaned.push(new Float32Array(0));
   }
   const spectrum = createFramePowerSpectrum(FFT_SIZE);
   const picker = createPeakPicker(PEAKS);
 
-  let clean = new Float32Array(0);
   const resampled = frames.map(() => new Float32Array(4096));
   let frameFill = 0;
   const bandPower = new Float64Array(BAND_BINS);
@@ -115,10 +116,7 @@ export function createFingerprinter(format: StreamFormat): BlockAnalyser<Fingerp
 
   function drain(): void {
     for (;;) {
-      const n = resamplers[0].read(resampled[0]);
-      for (let c = 1; c < channels; c++) {
-        if (resamplers[c].read(resampled[c]) !== n) throw new Error("fingerprint: channel resamplers out of step (internal error)");
-      }
+      const n = resampler.read(resampled);
       if (n === 0) return;
       let at = 0;
       while (at < n) {
@@ -156,24 +154,24 @@ export function createFingerprinter(format: StreamFormat): BlockAnalyser<Fingerp
           throw new RangeError(`fingerprint: channel ${c} holds ${block.channels[c].length} samples, block says ${count}`);
         }
       }
-      if (clean.length < count) clean = new Float32Array(count);
-      const m = clean;
       for (let c = 0; c < channels; c++) {
+        if (cleaned[c].length < count) cleaned[c] = new Float32Array(count);
+        const m = cleaned[c];
         const ch = block.channels[c];
         // Non-finite samples (reported elsewhere) would smear NaN over a kernel's length: treat as silence.
         for (let i = 0; i < count; i++) {
           const x = ch[i];
           m[i] = x - x === 0 ? x : 0;
         }
-        resamplers[c].write(clean, count);
       }
+      resampler.write(cleaned, count);
       framesPushed += count;
       drain();
     },
     finish() {
       if (finished) throw new Error("fingerprint: finish() called twice");
       finished = true;
-      for (const r of resamplers) r.end();
+      resampler.end();
       drain();
       const peaks = picker.finish();
       const { hashes, anchorFrames } = hashLandmarks(peaks, PAIRS);

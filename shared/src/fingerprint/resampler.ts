@@ -81,7 +81,38 @@ function kernelTable(inputRateHz: number, cutoffHz: number, half: number): Float
   return table;
 }
 
+export interface MultiChannelResampler {
+  readonly channels: number;
+  /** Appends `inputs[c][0, count)` for every channel; the caller may reuse the arrays afterwards. */
+  write(inputs: readonly Float32Array[], count: number): void;
+  end(): void;
+  /** Writes up to `outs[c].length` (the shortest) ready samples per channel, returns how many. */
+  read(outs: readonly Float32Array[]): number;
+}
+
 export function createStreamingResampler(o: ResamplerOptions): StreamingResampler {
+  const inner = createMultiChannelResampler(o, 1);
+  const one: Float32Array[] = [new Float32Array(0)];
+  return {
+    inputRateHz: o.inputRateHz,
+    outputRateHz: o.outputRateHz,
+    write(input, count) {
+      one[0] = input;
+      inner.write(one, count);
+    },
+    end: () => inner.end(),
+    read(out) {
+      one[0] = out;
+      return inner.read(one);
+    },
+  };
+}
+
+/**
+ * All channels of a stream through one kernel: each output position and kernel row is worked out once,
+ * and channels go through the taps in pairs, so every kernel value loaded serves two of them.
+ */
+export function createMultiChannelResampler(o: ResamplerOptions, channels: number): MultiChannelResampler {
   const { inputRateHz, outputRateHz } = o;
   for (const [name, v] of [["inputRateHz", inputRateHz], ["outputRateHz", outputRateHz]] as const) {
     if (!Number.isFinite(v) || v <= 0) throw new RangeError(`${name} must be a positive number, got ${v}`);
@@ -89,6 +120,7 @@ export function createStreamingResampler(o: ResamplerOptions): StreamingResample
   if (!(o.passbandHz > 0 && o.stopbandHz > o.passbandHz)) {
     throw new RangeError(`need 0 < passbandHz < stopbandHz, got ${o.passbandHz} and ${o.stopbandHz}`);
   }
+  if (!Number.isInteger(channels) || channels < 1) throw new RangeError(`channels must be an integer ≥ 1, got ${channels}`);
   // Never put the cutoff above the input's own Nyquist (upsampling from a low rate).
   const inputNyquistHz = inputRateHz / 2;
   const transitionHz = Math.min(o.stopbandHz - o.passbandHz, inputNyquistHz);
@@ -101,8 +133,9 @@ export function createStreamingResampler(o: ResamplerOptions): StreamingResample
 
   const step = inputRateHz / outputRateHz;
   // History starts with `half` zeros so the first outputs see silence before the file.
-  let buf = new Float32Array(Math.max(4096, 4 * taps));
-  let bufStart = -half; // absolute input index of buf[0]
+  let bufs: Float32Array[] = [];
+  for (let c = 0; c < channels; c++) bufs.push(new Float32Array(Math.max(4096, 4 * taps)));
+  let bufStart = -half; // absolute input index of bufs[c][0]
   let bufLen = half;
   let inputSamples = 0;
   let ended = false;
@@ -112,37 +145,41 @@ export function createStreamingResampler(o: ResamplerOptions): StreamingResample
     const keepFrom = Math.floor(outIndex * step) - half + 1;
     const drop = Math.max(0, Math.min(bufLen, keepFrom - bufStart));
     if (drop > 0) {
-      buf.copyWithin(0, drop, bufLen);
+      for (const b of bufs) b.copyWithin(0, drop, bufLen);
       bufStart += drop;
       bufLen -= drop;
     }
-    if (bufLen + extra > buf.length) {
-      const grown = new Float32Array(Math.max(2 * buf.length, bufLen + extra));
-      grown.set(buf.subarray(0, bufLen));
-      buf = grown;
+    if (bufLen + extra > bufs[0].length) {
+      const size = Math.max(2 * bufs[0].length, bufLen + extra);
+      bufs = bufs.map((b) => {
+        const grown = new Float32Array(size);
+        grown.set(b.subarray(0, bufLen));
+        return grown;
+      });
     }
   }
 
   return {
-    inputRateHz,
-    outputRateHz,
-    write(input, count) {
+    channels,
+    write(inputs, count) {
       if (ended) throw new Error("resampler: write after end()");
+      if (inputs.length !== channels) throw new RangeError(`resampler: got ${inputs.length} channels, expected ${channels}`);
       compactAndReserve(count);
-      buf.set(input.subarray(0, count), bufLen);
+      for (let c = 0; c < channels; c++) bufs[c].set(inputs[c].subarray(0, count), bufLen);
       bufLen += count;
       inputSamples += count;
     },
     end() {
       if (ended) return;
       compactAndReserve(half + 1);
-      buf.fill(0, bufLen, bufLen + half + 1);
+      for (const b of bufs) b.fill(0, bufLen, bufLen + half + 1);
       bufLen += half + 1;
       ended = true;
     },
-    read(out) {
+    read(outs) {
+      if (outs.length !== channels) throw new RangeError(`resampler: got ${outs.length} outputs, expected ${channels}`);
       // Locals for the hot loop: V8 keeps closure variables out of registers.
-      const input = buf;
+      const inputs = bufs;
       const kernel = table;
       const width = taps;
       const lead = half - 1;
@@ -150,9 +187,11 @@ export function createStreamingResampler(o: ResamplerOptions): StreamingResample
       const origin = bufStart;
       const available = origin + bufLen; // one past the last buffered input index
       const limit = ended ? inputSamples : Number.POSITIVE_INFINITY;
+      let capacity = outs[0].length;
+      for (let c = 1; c < channels; c++) capacity = Math.min(capacity, outs[c].length);
       let index = outIndex;
       let n = 0;
-      while (n < out.length) {
+      while (n < capacity) {
         const x = index * ratio;
         if (x >= limit) break;
         let i0 = Math.floor(x);
@@ -164,18 +203,38 @@ export function createStreamingResampler(o: ResamplerOptions): StreamingResample
         if (i0 + lead >= available - 1) break;
         const first = i0 - lead - origin;
         const row = p * width;
-        // Four partial sums break the add dependency chain (taps is a multiple of 4).
-        let a0 = 0;
-        let a1 = 0;
-        let a2 = 0;
-        let a3 = 0;
-        for (let k = 0; k < width; k += 4) {
-          a0 += input[first + k] * kernel[row + k];
-          a1 += input[first + k + 1] * kernel[row + k + 1];
-          a2 += input[first + k + 2] * kernel[row + k + 2];
-          a3 += input[first + k + 3] * kernel[row + k + 3];
+        let c = 0;
+        for (; c + 1 < channels; c += 2) {
+          const l = inputs[c];
+          const r = inputs[c + 1];
+          // Two partial sums per channel break the add dependency chain (taps is even).
+          let a0 = 0;
+          let a1 = 0;
+          let b0 = 0;
+          let b1 = 0;
+          for (let k = 0; k < width; k += 2) {
+            const k0 = kernel[row + k];
+            const k1 = kernel[row + k + 1];
+            a0 += l[first + k] * k0;
+            a1 += l[first + k + 1] * k1;
+            b0 += r[first + k] * k0;
+            b1 += r[first + k + 1] * k1;
+          }
+          outs[c][n] = a0 + a1;
+          outs[c + 1][n] = b0 + b1;
         }
-        out[n++] = a0 + a1 + (a2 + a3);
+        if (c < channels) {
+          // The same sums in the same order as a pair: a channel resamples identically alone or paired.
+          const input = inputs[c];
+          let a0 = 0;
+          let a1 = 0;
+          for (let k = 0; k < width; k += 2) {
+            a0 += input[first + k] * kernel[row + k];
+            a1 += input[first + k + 1] * kernel[row + k + 1];
+          }
+          outs[c][n] = a0 + a1;
+        }
+        n++;
         index++;
       }
       outIndex = index;
