@@ -111,7 +111,8 @@ export const fileReportSchema = z.object({
   spectrogram: z.string().nullable(),
   /**
    * Landmark fingerprint of the audio for duplicate detection (shared/src/fingerprint, issue #11),
-   * base64; null when the file could not be read. Optional, so reports written before it stay valid.
+   * base64; absent or null when there is none (an unreadable file, a rate outside 8–384 kHz).
+   * Optional, so reports written before it stay valid.
    */
   fingerprint: z.string().max(MAX_FINGERPRINT_CHARS).regex(/^[A-Za-z0-9+/]*={0,2}$/).nullable().optional(),
 });
