@@ -169,6 +169,7 @@ export async function analyseFile(task: AnalyseTask, ctx: ScanContext, signal?: 
       verdict: judged.verdict,
       error: null,
       spectrogram,
+      fingerprint: analysed.fingerprint,
     },
     audioSeconds: format.durationSeconds,
     imageError,

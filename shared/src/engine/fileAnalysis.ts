@@ -1,9 +1,12 @@
 /**
- * One streaming pass over a file feeds both analysers (levels/loudness and spectral); finish() merges
+ * One streaming pass over a file feeds both analysers (levels/loudness and spectral) and the landmark
+ * fingerprint (duplicate transfers, issue #11); finish() merges
  * their results into the report's FileMetrics (in the contract's field order) and one sorted finding list.
  * With a clock (shared/ has no timer of its own), the time each analyser took is measured per block.
  */
 import { createLevelAnalyser } from "../analysis/levelAnalyser.ts";
+import { encodeFingerprint } from "../fingerprint/codec.ts";
+import { canFingerprint, createFingerprinter } from "../fingerprint/fingerprinter.ts";
 import { compareFindings } from "../profiles/judge.ts";
 import { createSpectralAnalyser } from "../spectral/spectralAnalyser.ts";
 import type { AudioBlock, BlockAnalyser, SpectrogramGrid, StreamFormat, WaveformEnvelope } from "../types/analysis.ts";
@@ -16,6 +19,8 @@ export interface FileAnalysisResult {
   spectrogram: SpectrogramGrid;
   channelSpectrograms: SpectrogramGrid[] | null;
   waveform: WaveformEnvelope;
+  /** Encoded fingerprint for the report; null when the rate is outside what the fingerprinter takes. */
+  fingerprint: string | null;
   /** Time in each analyser, push and finish, in the clock's unit (0 without a clock). */
   timings: { level: number; spectral: number };
 }
@@ -28,6 +33,7 @@ export interface FileAnalysisOptions {
 export function createFileAnalysis(format: StreamFormat, settings: AnalysisSettings, options: FileAnalysisOptions = {}): BlockAnalyser<FileAnalysisResult> {
   const level = createLevelAnalyser(format, settings);
   const spectral = createSpectralAnalyser(format, settings);
+  const fingerprinter = canFingerprint(format) ? createFingerprinter(format) : null;
   const clock = options.clock;
   const timings = { level: 0, spectral: 0 };
   return {
@@ -35,12 +41,15 @@ export function createFileAnalysis(format: StreamFormat, settings: AnalysisSetti
       if (!clock) {
         level.push(block);
         spectral.push(block);
+        fingerprinter?.push(block);
         return;
       }
       const t0 = clock();
       level.push(block);
       const t1 = clock();
+      // The fingerprint is a spectral measure: its time counts as the spectral analyser's.
       spectral.push(block);
+      fingerprinter?.push(block);
       timings.level += t1 - t0;
       timings.spectral += clock() - t1;
     },
@@ -49,6 +58,7 @@ export function createFileAnalysis(format: StreamFormat, settings: AnalysisSetti
       const l = level.finish();
       const t1 = clock?.() ?? 0;
       const s = spectral.finish();
+      const fingerprint = fingerprinter ? encodeFingerprint(fingerprinter.finish()) : null;
       if (clock) {
         timings.level += t1 - t0;
         timings.spectral += clock() - t1;
@@ -74,7 +84,7 @@ export function createFileAnalysis(format: StreamFormat, settings: AnalysisSetti
         channels: m.channels,
       };
       const findings = [...l.findings, ...s.findings].sort(compareFindings);
-      return { metrics, findings, spectrogram: s.spectrogram, channelSpectrograms: s.channelSpectrograms, waveform: s.waveform, timings };
+      return { metrics, findings, spectrogram: s.spectrogram, channelSpectrograms: s.channelSpectrograms, waveform: s.waveform, fingerprint, timings };
     },
   };
 }
