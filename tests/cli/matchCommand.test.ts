@@ -5,7 +5,7 @@
  * trimmed by 10 s. Each must find the original first, at the right offset (±0.1 s); an unrelated
  * recording must find nothing (exit 1); bad invocations exit 2.
  */
-import { mkdtempSync, rmSync, writeFileSync } from "node:fs";
+import { mkdirSync, mkdtempSync, readFileSync, rmSync, writeFileSync } from "node:fs";
 import { createServer } from "node:http";
 import type { AddressInfo } from "node:net";
 import { tmpdir } from "node:os";
@@ -84,6 +84,29 @@ beforeAll(() => {
   writeFileSync(path.join(dir, "not-audio.wav"), "RIFF but not really");
 }, 60_000);
 afterAll(() => rmSync(dir, { recursive: true, force: true }));
+
+describe("tidemark scan, then match against its report (real binary)", () => {
+  it("finds a stereo transfer from a copy with one channel polarity-inverted, trimmed by 10 s", async () => {
+    // A stereo recording (two programmes as L and R) scanned into a report; the copy's R is inverted.
+    const left = programme({ seed: 11, seconds: 30, sampleRateHz: RATE });
+    const right = programme({ seed: 12, seconds: 30, sampleRateHz: RATE });
+    mkdirSync(path.join(dir, "archive", "reels"), { recursive: true });
+    writeFileSync(path.join(dir, "archive", "reels", "stereo-master.wav"), encodeWav([left, right], { sampleRateHz: RATE, bitDepth: 24 }));
+    writeFileSync(path.join(dir, "archive", "other.wav"), encodeWav([programme({ seed: 13, seconds: 30, sampleRateHz: 44100 })], { sampleRateHz: 44100, bitDepth: 16 }));
+    const scan = await cli(["scan", "archive", "--out", "scanned.json", "-q", "-w", "1"]);
+    expect(scan.exitCode, scan.stderr).toBeLessThanOrEqual(1);
+    const scanned = JSON.parse(readFileSync(path.join(dir, "scanned.json"), "utf8")) as ScanReport;
+    for (const f of scanned.files) expect(f.fingerprint, f.path).toMatch(/^VEY/); // base64 of the "TF" magic
+    const inverted = right.subarray(10 * RATE).map((x) => -x);
+    writeFileSync(path.join(dir, "flipped.wav"), encodeWav([left.subarray(10 * RATE), inverted], { sampleRateHz: RATE, bitDepth: 24 }));
+
+    const r = await cli(["match", "flipped.wav", "--against", "scanned.json"]);
+    expect(r.exitCode, r.stderr).toBe(0);
+    const lines = r.stdout.trimEnd().split("\n").map((l) => l.split("\t"));
+    expect(lines.map((l) => l[0])).toEqual(["reels/stereo-master.wav"]);
+    expect(Math.abs(Number(lines[0][2]) - 10)).toBeLessThanOrEqual(OFFSET_TOLERANCE_SECONDS);
+  });
+});
 
 describe("tidemark match --against (real binary)", () => {
   it.each(COPIES)("finds the original first for a copy with $name, at the right offset", async ({ file, expectedOffsetSeconds }) => {
