@@ -7,11 +7,13 @@
  *
  *   node --import tsx scripts/bench-workers.ts [--files 24] [--seconds 60] [--workers 1,2,3]
  *                                              [--concurrency 1] [--no-images] [--from-source] [--out result.json]
+ *                                              [--repeats 1] [--wait-calm SECONDS]
  *
  * The CLI is prebuilt first (cli/bin/build.mjs), as for `npm run bench`, so worker start-up (tsx compiling
  * the sources) does not eat into the measured time; --from-source skips that.
- * Each worker measures `--concurrency` files at once (default 1). The machine is shared, so the idle
- * load of other processes is measured before every run and reported beside it.
+ * Each worker measures `--concurrency` files at once (default 1). The machine is shared, so the load of
+ * other processes is measured before every run and reported beside it; --wait-calm waits up to that long
+ * for it to drop below a quarter of a core first, and --repeats takes the median of several runs.
  */
 import { execFileSync, spawn, type ChildProcess } from "node:child_process";
 import { mkdirSync, mkdtempSync, rmSync, writeFileSync } from "node:fs";
@@ -33,6 +35,8 @@ interface Options {
   concurrency: number;
   images: boolean;
   fromSource: boolean;
+  repeats: number;
+  waitCalmSeconds: number;
   out: string | null;
 }
 
@@ -47,15 +51,20 @@ interface RunFigures {
   /** From `tidemark enqueue` to the last result, worker start-up included. */
   wallSeconds: number;
   speedUp: number;
-  /** Cores other processes kept busy just before the run. */
+  /** Cores other processes kept busy just before the run(s), worst of the repeats. */
   otherLoadCores: number;
+  /** Every repeat's first-claim-to-last-result time; busySeconds is their median. */
+  samples: number[];
 }
+
+/** Other processes using less than this count as a calm machine. */
+const CALM_BUSY_CORES = 0.25;
 
 const log = (line: string): void => void process.stderr.write(`[bench-workers] ${line}\n`);
 const BIN = path.join(projectRoot, "cli", "bin", "tidemark.js");
 
 function parseOptions(argv: string[]): Options {
-  const o: Options = { files: 24, seconds: 60, workers: [1, 2, 3], concurrency: 1, images: true, fromSource: false, out: null };
+  const o: Options = { files: 24, seconds: 60, workers: [1, 2, 3], concurrency: 1, images: true, fromSource: false, repeats: 1, waitCalmSeconds: 0, out: null };
   for (let i = 0; i < argv.length; i++) {
     const a = argv[i];
     const value = (): string => {
@@ -74,6 +83,8 @@ function parseOptions(argv: string[]): Options {
     else if (a === "--concurrency") o.concurrency = whole(value(), 1);
     else if (a === "--no-images") o.images = false;
     else if (a === "--from-source") o.fromSource = true;
+    else if (a === "--repeats") o.repeats = whole(value(), 1);
+    else if (a === "--wait-calm") o.waitCalmSeconds = whole(value(), 0);
     else if (a === "--out") o.out = value();
     else throw new Error(`unknown option ${a} (see the comment at the top of scripts/bench-workers.ts)`);
   }
@@ -137,6 +148,17 @@ async function main(): Promise<void> {
       await synthesiseWav({ path: path.join(audio, `reel-${String(i + 1).padStart(3, "0")}.wav`), seconds: o.seconds, sampleRateHz: 48_000, channels: 2, bitDepth: 24, noise: "pink", rmsDbfs: -20, seed: 17 + i });
     }
 
+    /** Waits (up to --wait-calm) for other processes to leave the cores free; returns their load. */
+    const calmLoad = async (): Promise<number> => {
+      const until = Date.now() + o.waitCalmSeconds * 1000;
+      for (;;) {
+        const load = await machineBusyCores(2_000);
+        if (load < CALM_BUSY_CORES || Date.now() >= until) return load;
+        log(`other processes keep ${load.toFixed(2)} cores busy; waiting for a calmer moment`);
+      }
+    };
+
+    const scanLoad = await calmLoad();
     log("baseline: tidemark scan --workers 1 of the same files");
     const scanStart = performance.now();
     const scan = await run(["scan", audio, "--workers", "1", "--format", "json", "--quiet", ...(o.images ? ["--spectrograms", path.join(work, "png")] : [])], env);
@@ -144,16 +166,15 @@ async function main(): Promise<void> {
     if (scan.code !== 0 && scan.code !== 1) throw new Error(`scan failed (${scan.code}): ${scan.stderr}`);
     log(`scan: ${scanSeconds.toFixed(1)} s`);
 
-    const figures: RunFigures[] = [];
-    for (const count of o.workers) {
-      const otherLoadCores = await machineBusyCores(2_000);
-      const names = Array.from({ length: count }, (_, i) => `bench-${count}-${i + 1}`);
+    /** One run: `count` workers, a fresh run of every file; seconds from first claim to last result. */
+    const measureOnce = async (count: number, repeat: number): Promise<{ busySeconds: number; wallSeconds: number }> => {
+      const names = Array.from({ length: count }, (_, i) => `bench-${count}-${repeat}-${i + 1}`);
       const workerArgs = ["--server", url, "--poll", "0.2", "--quiet", "--concurrency", String(o.concurrency), ...(o.images ? [] : ["--no-images"])];
       const workers = names.map((name) => spawn(process.execPath, [BIN, "worker", ...workerArgs, "--name", name], { env, stdio: ["ignore", "ignore", "inherit"] }));
       children.push(...workers);
       const exits = workers.map((w) => new Promise<number | null>((resolve) => w.once("exit", (code) => resolve(code))));
       const started = performance.now();
-      const enqueued = await run(["enqueue", audio, "--server", url, "--collection", "Harbourside benchmark", "--run", `${count} worker(s) ${Date.now()}`, "--json"], env);
+      const enqueued = await run(["enqueue", audio, "--server", url, "--collection", "Harbourside benchmark", "--run", `${count} worker(s), repeat ${repeat}, ${Date.now()}`, "--json"], env);
       if (enqueued.code !== 0) throw new Error(`enqueue failed (${enqueued.code}): ${enqueued.stderr}`);
       const runId = (JSON.parse(enqueued.stdout) as { run: { id: number } }).run.id;
       const done = await waitFor(
@@ -169,8 +190,29 @@ async function main(): Promise<void> {
       const codes = await Promise.all(exits);
       if (codes.some((c) => c !== 0)) throw new Error(`a worker exited with ${codes.join(", ")}`);
       if (done.counts.failed > 0) throw new Error(`${done.counts.failed} job(s) failed`);
-      const busySeconds = (Date.parse(done.lastResultAt!) - Date.parse(done.firstClaimAt!)) / 1000;
-      const audioSeconds = o.files * o.seconds;
+      return { busySeconds: (Date.parse(done.lastResultAt!) - Date.parse(done.firstClaimAt!)) / 1000, wallSeconds };
+    };
+
+    const median = (xs: number[]): number => {
+      const sorted = [...xs].sort((a, b) => a - b);
+      const mid = sorted.length >> 1;
+      return sorted.length % 2 ? sorted[mid] : (sorted[mid - 1] + sorted[mid]) / 2;
+    };
+
+    const figures: RunFigures[] = [];
+    const audioSeconds = o.files * o.seconds;
+    for (const count of o.workers) {
+      const samples: number[] = [];
+      const walls: number[] = [];
+      let otherLoadCores = 0;
+      for (let repeat = 1; repeat <= o.repeats; repeat++) {
+        otherLoadCores = Math.max(otherLoadCores, await calmLoad());
+        const once = await measureOnce(count, repeat);
+        samples.push(once.busySeconds);
+        walls.push(once.wallSeconds);
+        log(`${count} worker(s), repeat ${repeat}: ${once.busySeconds.toFixed(1)} s`);
+      }
+      const busySeconds = median(samples);
       const figure: RunFigures = {
         workers: count,
         files: o.files,
@@ -178,22 +220,28 @@ async function main(): Promise<void> {
         busySeconds,
         filesPerMinute: (o.files / busySeconds) * 60,
         realTimeFactor: audioSeconds / busySeconds,
-        wallSeconds,
+        wallSeconds: median(walls),
         speedUp: figures.length ? figures[0].busySeconds / busySeconds : 1,
         otherLoadCores,
+        samples,
       };
       figures.push(figure);
-      log(`${count} worker(s): ${busySeconds.toFixed(1)} s, ${figure.filesPerMinute.toFixed(1)} files/min, ${figure.realTimeFactor.toFixed(0)}× real time (other load ${otherLoadCores.toFixed(2)} cores)`);
+      log(`${count} worker(s): ${busySeconds.toFixed(1)} s, ${figure.filesPerMinute.toFixed(1)} files/min, ${figure.realTimeFactor.toFixed(0)}× real time (other load up to ${otherLoadCores.toFixed(2)} cores)`);
     }
 
     const cpu = cpus()[0]?.model ?? "unknown CPU";
     const lines = [
       `Machine: ${availableParallelism()} cores (${cpu}), Node ${process.version}; ${o.files} files × ${o.seconds} s, 48 kHz 24-bit stereo, images ${o.images ? "on" : "off"}, ${o.concurrency} job(s) per worker`,
-      `Baseline: tidemark scan --workers 1: ${scanSeconds.toFixed(1)} s wall (start-up included)`,
+      `Baseline: tidemark scan --workers 1: ${scanSeconds.toFixed(1)} s wall (start-up included; other load ${scanLoad.toFixed(2)} cores)`,
       "",
-      "| workers | first claim → last result | files/min | × real time | speed-up | wall from enqueue | other load |",
-      "|---|---|---|---|---|---|---|",
-      ...figures.map((f) => `| ${f.workers} | ${f.busySeconds.toFixed(1)} s | ${f.filesPerMinute.toFixed(1)} | ${f.realTimeFactor.toFixed(0)}× | ${f.speedUp.toFixed(2)} | ${f.wallSeconds.toFixed(1)} s | ${f.otherLoadCores.toFixed(2)} cores |`),
+      `Median of ${o.repeats} run(s) each; "other load" is what other processes kept busy just before a run (worst of the repeats).`,
+      "",
+      "| workers | first claim → last result | files/min | × real time | speed-up | wall from enqueue | other load | runs |",
+      "|---|---|---|---|---|---|---|---|",
+      ...figures.map(
+        (f) =>
+          `| ${f.workers} | ${f.busySeconds.toFixed(1)} s | ${f.filesPerMinute.toFixed(1)} | ${f.realTimeFactor.toFixed(0)}× | ${f.speedUp.toFixed(2)} | ${f.wallSeconds.toFixed(1)} s | ${f.otherLoadCores.toFixed(2)} cores | ${f.samples.map((x) => x.toFixed(1)).join(", ")} s |`,
+      ),
     ];
     process.stdout.write(`${lines.join("\n")}\n`);
     if (o.out) writeFileSync(o.out, `${JSON.stringify({ machine: { cores: availableParallelism(), cpu, node: process.version }, options: o, scanSeconds, figures }, null, 2)}\n`);

@@ -123,9 +123,10 @@ it("finishes the job in hand on SIGTERM, releases it on a second SIGTERM, and ex
   expect(await ScanJob.findByPk(holding.jobId)).toMatchObject({ state: "queued", attempts: 1 });
   expect((await ScanJobAttempt.findOne({ where: { jobId: holding.jobId, attempt: 1 } }))?.outcome).toBe("released");
 
-  // The storage moves to another mount point; --mount maps the enqueued paths, --exit-when-idle ends the run.
+  // The storage moves to another mount point; --mount maps the enqueued paths, --exit-when-idle ends the
+  // run, and --concurrency 2 measures on worker threads instead of the main thread.
   renameSync(path.join(dir, "share"), path.join(dir, "mounted-elsewhere"));
-  const third = startWorker("mapper", ["--mount", `${path.join(dir, "share")}=${path.join(dir, "mounted-elsewhere")}`, "--exit-when-idle"]);
+  const third = startWorker("mapper", ["--mount", `${path.join(dir, "share")}=${path.join(dir, "mounted-elsewhere")}`, "--exit-when-idle", "--concurrency", "2"]);
   expect(await third.exit, third.output()).toEqual({ code: 0, signal: null });
   expect(await ScanJob.findByPk(holding.jobId)).toMatchObject({ state: "done", worker: "mapper", attempts: 2 });
   expect((await runDetail(runId)).counts).toMatchObject({ done: 2, queued: 0, active: 0, failed: 0 });

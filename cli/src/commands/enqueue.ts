@@ -28,6 +28,12 @@ export interface EnqueueOptions {
 /** The server takes at most 1000 files and a 256 kB body a request; stay under both. */
 const MAX_FILES_PER_REQUEST = 1000;
 const MAX_BYTES_PER_REQUEST = 200_000;
+/** Run names are labels of at most 200 characters; a deeper root keeps its most telling end. */
+const MAX_RUN_NAME = 200;
+
+export function defaultRunName(rootDir: string): string {
+  return rootDir.length <= MAX_RUN_NAME ? rootDir : `…${rootDir.slice(-(MAX_RUN_NAME - 1))}`;
+}
 
 export function chunkFiles(files: EnqueueFileDto[]): EnqueueFileDto[][] {
   const chunks: EnqueueFileDto[][] = [];
@@ -63,7 +69,7 @@ export async function enqueueCommand(paths: string[], options: EnqueueOptions, i
     created = (
       await api.postJson<CreateRunResultDto>("/api/runs", {
         collection: options.collection,
-        name: options.run ?? crawl.rootDir,
+        name: options.run ?? defaultRunName(crawl.rootDir),
         root: crawl.rootDir,
         profile: { name: loaded.profile.name, hash: loaded.hash, definition: loaded.profile },
         tool: toolInfo(),
