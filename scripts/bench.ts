@@ -11,12 +11,13 @@
  * Options: --seconds N (main file, default 600), --files N (files for the worker comparison, default 8),
  * --repeats N (default 3), --no-rf64, --no-linearity, --no-white, --only single,white,workers,linearity,rf64
  * (just those sections), --from-source (run through tsx instead of the bundle), --keep (leave the inputs),
- * --tmp DIR (where the inputs go), --wait-calm S (before each run, wait up to S seconds for the other
+ * --tmp DIR (where the inputs go), --baseline REV (also time the CLI as of git revision REV on the main
+ * file, alternating, for a before/after ratio in the same run), --wait-calm S (before each run, wait up to S seconds for the other
  * processes to leave both cores free: on a shared machine the worker comparison means little otherwise).
  */
 import { execFileSync, spawnSync } from "node:child_process";
 import { cpus, tmpdir, totalmem, release } from "node:os";
-import { mkdir, mkdtemp, readFile, rm, statfs, writeFile } from "node:fs/promises";
+import { mkdir, mkdtemp, readdir, readFile, rm, statfs, symlink, writeFile } from "node:fs/promises";
 import path from "node:path";
 import { projectRoot } from "./lib/paths.ts";
 import { hasGnuTime, machineBusyCores, measure, median, type Measured } from "./bench/measure.ts";
@@ -39,6 +40,7 @@ interface Options {
   stages: string | null;
   only: Set<string> | null;
   waitCalmSeconds: number;
+  baseline: string | null;
 }
 
 /** Other processes using less than this many cores count as a calm machine. */
@@ -47,7 +49,7 @@ const CALM_BUSY_CORES = 0.25;
 const SECTIONS = ["single", "white", "workers", "linearity", "rf64"];
 
 function parseOptions(argv: string[]): Options {
-  const o: Options = { out: null, quick: false, seconds: 600, files: 8, repeats: 3, rf64: true, linearity: true, white: true, fromSource: false, keep: false, tmp: tmpdir(), stages: null, only: null, waitCalmSeconds: 0 };
+  const o: Options = { out: null, quick: false, seconds: 600, files: 8, repeats: 3, rf64: true, linearity: true, white: true, fromSource: false, keep: false, tmp: tmpdir(), stages: null, only: null, waitCalmSeconds: 0, baseline: null };
   const explicit = new Set<string>();
   for (let i = 0; i < argv.length; i++) {
     const a = argv[i];
@@ -75,6 +77,7 @@ function parseOptions(argv: string[]): Options {
     else if (a === "--tmp") o.tmp = path.resolve(value());
     else if (a === "--stages") o.stages = path.resolve(value());
     else if (a === "--wait-calm") o.waitCalmSeconds = count();
+    else if (a === "--baseline") o.baseline = value();
     else if (a === "--only") {
       o.only = new Set(value().split(","));
       for (const name of o.only) if (!SECTIONS.includes(name)) throw new Error(`--only takes ${SECTIONS.join(", ")}; got ${name}`);
@@ -145,14 +148,31 @@ async function waitForCalm(o: Options): Promise<void> {
   log(busy < CALM_BUSY_CORES ? "  calm now" : `  still busy (${busy.toFixed(2)} cores) after ${o.waitCalmSeconds} s: measuring anyway`);
 }
 
-async function scan(dir: string, workers: number, o: Options, scratch: string): Promise<ScanSample> {
+/**
+ * The CLI as of an earlier revision, for a before/after ratio: its cli/ and shared/ from `git archive`, and a
+ * node_modules of links to ours except for the workspace packages, which point at the old copies.
+ */
+async function checkoutBaseline(rev: string, root: string): Promise<string> {
+  const dir = path.join(root, "baseline");
+  await mkdir(path.join(dir, "node_modules", "@tidemark"), { recursive: true });
+  const archive = execFileSync("git", ["-C", projectRoot, "archive", rev, "cli", "shared", "package.json"], { maxBuffer: 1 << 28 });
+  execFileSync("tar", ["-x", "-C", dir], { input: archive });
+  const modules = path.join(projectRoot, "node_modules");
+  for (const name of await readdir(modules)) {
+    if (name !== "@tidemark") await symlink(path.join(modules, name), path.join(dir, "node_modules", name));
+  }
+  for (const pkg of ["cli", "shared"]) await symlink(path.join(dir, pkg), path.join(dir, "node_modules", "@tidemark", pkg));
+  return path.join(dir, "cli", "bin", "tidemark.js");
+}
+
+async function scan(dir: string, workers: number, o: Options, scratch: string, bin = path.join(projectRoot, "cli/bin/tidemark.js")): Promise<ScanSample> {
   await waitForCalm(o);
   // After the wait, which may be long: others keep editing sources.
   ensureBundle(o);
   const timings = path.join(scratch, `stages-${Date.now()}.jsonl`);
   const out = path.join(scratch, "report.json");
   const env = { ...process.env, TIDEMARK_STAGE_TIMINGS: timings, TIDEMARK_FROM_SOURCE: o.fromSource ? "1" : "0" };
-  const args = [path.join(projectRoot, "cli/bin/tidemark.js"), "scan", dir, "--workers", String(workers), "--quiet", "--spectrograms", path.join(scratch, "png"), "--out", out];
+  const args = [bin, "scan", dir, "--workers", String(workers), "--quiet", "--spectrograms", path.join(scratch, "png"), "--out", out];
   const m = await measure(process.execPath, args, { cwd: scratch, env, scratchDir: scratch });
   // Exit 1 means a file failed its profile (noise is not a preservation master), not that the scan broke.
   if (m.exitCode !== 0 && m.exitCode !== 1) throw new Error(`scan of ${dir} exited with ${m.exitCode}:\n${m.stderr}`);
@@ -160,13 +180,15 @@ async function scan(dir: string, workers: number, o: Options, scratch: string): 
   if (report.summary.error > 0) throw new Error(`scan of ${dir} reported errors: ${JSON.stringify(report.files.map((f) => f.error))}`);
   const stagesMs: Record<string, number> = {};
   let bundled = true;
-  for (const line of (await readFile(timings, "utf8")).trim().split("\n")) {
+  // A baseline older than the stage timings writes none.
+  const lines = (await readFile(timings, "utf8").catch(() => "")).trim();
+  for (const line of lines ? lines.split("\n") : []) {
     const entry = JSON.parse(line) as { bundled: boolean; timingsMs: Record<string, number> };
-    bundled &&= entry.bundled;
+    bundled &&= entry.bundled === true;
     for (const [k, v] of Object.entries(entry.timingsMs)) stagesMs[k] = (stagesMs[k] ?? 0) + v;
   }
   await rm(timings, { force: true });
-  if (!bundled && !o.fromSource) log("  warning: this run used the sources through tsx (a source changed during the run)");
+  if (!bundled && !o.fromSource && lines) log("  warning: this run used the sources through tsx (a source changed during the run)");
   return { ...m, stagesMs, bundled };
 }
 
@@ -272,6 +294,8 @@ async function main(): Promise<void> {
     const ffmpeg = doSingle && hasFfmpeg();
     const singles: ScanSample[] = [];
     const ffmpegRuns: Measured[] = [];
+    const baselineBin = doSingle && o.baseline ? await checkoutBaseline(o.baseline, root) : null;
+    const baselineRuns: ScanSample[] = [];
     for (let r = 0; r < (doSingle ? o.repeats : 0); r++) {
       singles.push(await scan(path.dirname(mainFile), 1, o, scratch));
       log(`  tidemark ${fmt(singles[r].wallSeconds, 2)} s wall, ${fmt(singles[r].cpuSeconds, 2)} s CPU, ${fmt(singles[r].peakRssMb, 0)} MB${busyNote(singles[r])}`);
@@ -279,9 +303,18 @@ async function main(): Promise<void> {
         ffmpegRuns.push(await ffmpegPass(mainFile, o, scratch));
         log(`  ffmpeg   ${fmt(ffmpegRuns[r].wallSeconds, 2)} s wall, ${fmt(ffmpegRuns[r].cpuSeconds, 2)} s CPU, ${fmt(ffmpegRuns[r].peakRssMb, 0)} MB${busyNote(ffmpegRuns[r])}`);
       }
+      if (baselineBin) {
+        baselineRuns.push(await scan(path.dirname(mainFile), 1, o, scratch, baselineBin));
+        const b = baselineRuns[r];
+        log(`  ${o.baseline} ${fmt(b.wallSeconds, 2)} s wall, ${fmt(b.cpuSeconds, 2)} s CPU, ${fmt(b.peakRssMb, 0)} MB${busyNote(b)}`);
+      }
     }
     if (doSingle) result.single = summarise(singles, o.seconds, audioBytes(o.seconds));
     const single = result.single as Summary | undefined;
+    if (single && baselineRuns.length > 0) {
+      const b = summarise(baselineRuns, o.seconds, audioBytes(o.seconds));
+      result.baseline = { revision: o.baseline, ...b, speedupWall: b.wallSeconds / single.wallSeconds, speedupCpu: b.cpuSeconds / single.cpuSeconds };
+    }
     if (ffmpeg) {
       const ff = {
         wallSeconds: median(ffmpegRuns.map((m) => m.wallSeconds)),
@@ -404,6 +437,8 @@ function singleRows(lines: string[], single: Summary): void {
 function otherRows(lines: string[], r: Record<string, unknown>): void {
   const ff = r.ffmpeg as { wallSeconds: number; cpuSeconds: number; speedupWall: number; speedupCpu: number } | undefined;
   if (ff) lines.push(`| ffmpeg ebur128=peak=true,astats: wall / CPU; tidemark's speed-up | ${fmt(ff.wallSeconds, 2)} s / ${fmt(ff.cpuSeconds, 2)} s; ${fmt(ff.speedupWall, 2)}x / ${fmt(ff.speedupCpu, 2)}x |`);
+  const base = r.baseline as (Summary & { revision: string; speedupWall: number; speedupCpu: number }) | undefined;
+  if (base) lines.push(`| baseline ${base.revision}: wall / CPU / peak RSS; speed-up now | ${fmt(base.wallSeconds, 2)} s / ${fmt(base.cpuSeconds, 2)} s / ${fmt(base.peakRssMb, 0)} MB; ${fmt(base.speedupWall, 2)}x / ${fmt(base.speedupCpu, 2)}x |`);
   const white = r.white as Summary | undefined;
   if (white) lines.push(`| white noise (true-peak worst case): realtime wall / CPU | ${fmt(white.realtimeWall, 0)}x / ${fmt(white.realtimeCpu, 0)}x |`);
   const w = r.workers as { files: number; one: Summary; two: Summary; scaling: number; calmestPair: { scaling: number; otherCores: number } } | undefined;
