@@ -11,6 +11,7 @@ import { AuditEntry, Batch, FileResult } from "../../server/src/models/index.ts"
 import { jobQueueFor } from "../../server/src/queue/jobQueue.ts";
 import { ScanJob, ScanJobAttempt } from "../../server/src/queue/models/index.ts";
 import { DEAD_LETTER_QUEUE } from "../../server/src/queue/queueNames.ts";
+import { markDeadLettered } from "../../server/src/queue/reconcile.ts";
 import { startQueueSupervisor, type QueueSupervisor } from "../../server/src/queue/supervisor.ts";
 import { readMailbox } from "./helpers/mailbox.ts";
 import { finding } from "./helpers/reports.ts";
@@ -241,8 +242,29 @@ describe("failures, release and expiry", () => {
     });
     expect(failed.lastError).toMatch(/retries spent/);
     expect((await detail(job.runId)).state).toBe("failed");
-    const expiries = await AuditEntry.count({ where: { action: "job.expire", targetId: String(job.id) } });
-    expect(expiries).toBe(2);
+    // The second expiry is noticed by the reconcile pass or by the dead-letter copy, whichever comes first.
+    const trail = (await AuditEntry.findAll({ where: { targetType: "job", targetId: String(job.id) }, order: [["id", "ASC"]] })).map((a) => a.action);
+    expect(trail.filter((a) => a === "job.expire" || a === "job.dead_letter")).toHaveLength(2);
+    expect(trail.filter((a) => a === "job.expire")[0]).toBe("job.expire");
+  });
+});
+
+describe("dead-letter copies", () => {
+  it("marks the job failed from its dead-letter copy, and ignores a copy of a job since retried", async () => {
+    const [job] = await claimedJobs(t.app, token, 1, "w-copy");
+    const row = (await ScanJob.findByPk(job.id))!;
+    const stale = { scanJobId: job.id, runId: job.runId, queueJobId: "00000000-0000-7000-8000-000000000000" };
+    expect(await markDeadLettered(t.db.sequelize, stale, { message: "old" })).toBe(false);
+    expect((await ScanJob.findByPk(job.id))?.state).toBe("active");
+    const copy = { scanJobId: job.id, runId: job.runId, queueJobId: row.queueJobId };
+    expect(await markDeadLettered(t.db.sequelize, copy, { value: { message: "job failed by timeout in active state" } })).toBe(true);
+    const failed = await ScanJob.findByPk(job.id);
+    expect(failed?.state).toBe("failed");
+    expect(failed?.lastError).toBe("attempt 1 by w-copy ended without a result (job failed by timeout in active state); retries spent");
+    expect((await ScanJobAttempt.findOne({ where: { jobId: job.id, attempt: 1 } }))?.outcome).toBe("expired");
+    // A second delivery of the same copy changes nothing.
+    expect(await markDeadLettered(t.db.sequelize, copy, {})).toBe(false);
+    expect(await AuditEntry.count({ where: { action: "job.dead_letter", targetId: String(job.id) } })).toBe(1);
   });
 });
 

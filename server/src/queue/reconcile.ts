@@ -56,8 +56,10 @@ export async function markDeadLettered(sequelize: Sequelize, data: ScanJobData, 
     const job = await ScanJob.findByPk(data.scanJobId, { transaction, lock: transaction.LOCK.UPDATE });
     // Only the pg-boss job the copy came from counts: a retried job has a new one.
     if (!job || job.queueJobId !== data.queueJobId || (job.state !== "queued" && job.state !== "active")) return false;
-    const reason = (output as { message?: unknown } | null)?.message;
-    const message = typeof reason === "string" && reason ? reason : "retries spent";
+    // pg-boss writes a timeout as { value: { message } }; a worker's failure arrives as { message }.
+    const out = output as { message?: unknown; value?: { message?: unknown } } | null;
+    const reason = typeof out?.message === "string" ? out.message : typeof out?.value?.message === "string" ? out.value.message : "dead-lettered";
+    const message = `attempt ${job.attempts} by ${job.worker ?? "a worker"} ended without a result (${reason}); retries spent`;
     await markFailed(sequelize, job, message, transaction);
     await systemAudit("job.dead_letter", job, { attempts: job.attempts, message }, transaction);
     return true;
