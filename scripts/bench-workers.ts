@@ -23,6 +23,7 @@ import type { ScanRunDetailDto } from "@tidemark/shared/types/api";
 import { connectDatabase } from "../server/src/db/connect.ts";
 import { initModels, User } from "../server/src/models/index.ts";
 import { createApiToken } from "../server/src/services/apiTokens.ts";
+import { staleBundleSources } from "../cli/bin/bundleState.mjs";
 import { machineBusyCores } from "./bench/measure.ts";
 import { synthesiseWav } from "./bench/synthWav.ts";
 import { projectRoot } from "./lib/paths.ts";
@@ -114,7 +115,13 @@ async function waitFor<T>(what: string, probe: () => Promise<T | null>, timeoutM
 
 async function main(): Promise<void> {
   const o = parseOptions(process.argv.slice(2));
-  if (!o.fromSource) execFileSync(process.execPath, [path.join(projectRoot, "cli/bin/build.mjs")], { stdio: ["ignore", "ignore", "inherit"] });
+  // Others may edit the sources meanwhile: rebuild whenever the bundle went stale, before every run.
+  const ensureBundle = (): void => {
+    if (o.fromSource) return;
+    if (staleBundleSources()?.length === 0) return;
+    execFileSync(process.execPath, [path.join(projectRoot, "cli/bin/build.mjs")], { stdio: ["ignore", "ignore", "inherit"] });
+  };
+  ensureBundle();
   const work = mkdtempSync(path.join(tmpdir(), "tidemark-bench-workers-"));
   claimThrowawayDir(work);
   const children: ChildProcess[] = [];
@@ -159,6 +166,7 @@ async function main(): Promise<void> {
     };
 
     const scanLoad = await calmLoad();
+    ensureBundle();
     log("baseline: tidemark scan --workers 1 of the same files");
     const scanStart = performance.now();
     const scan = await run(["scan", audio, "--workers", "1", "--format", "json", "--quiet", ...(o.images ? ["--spectrograms", path.join(work, "png")] : [])], env);
@@ -207,6 +215,7 @@ async function main(): Promise<void> {
       let otherLoadCores = 0;
       for (let repeat = 1; repeat <= o.repeats; repeat++) {
         otherLoadCores = Math.max(otherLoadCores, await calmLoad());
+        ensureBundle();
         const once = await measureOnce(count, repeat);
         samples.push(once.busySeconds);
         walls.push(once.wallSeconds);
