@@ -127,6 +127,19 @@ async function main(): Promise<void> {
   const children: ChildProcess[] = [];
   const bins = ensurePostgresInstalled(log);
   const cluster = await startCluster(bins, { dataDir: path.join(work, "pg"), port: await freePort(), throwaway: true, log });
+  const cleanUp = async (): Promise<void> => {
+    for (const c of children) if (c.exitCode === null && c.signalCode === null) c.kill("SIGTERM");
+    await new Promise((r) => setTimeout(r, 1500));
+    await cluster.stop().catch((e: unknown) => log(`stopping PostgreSQL: ${String(e)}`));
+    rmSync(work, { recursive: true, force: true });
+  };
+  // Ctrl-C: the server, the workers and PostgreSQL go too, and the temporary folder is removed.
+  for (const signal of ["SIGINT", "SIGTERM"] as const) {
+    process.once(signal, () => {
+      log(`${signal}: stopping`);
+      void cleanUp().finally(() => process.exit(130));
+    });
+  }
   try {
     await cluster.createDatabase("bench");
     const databaseUrl = cluster.url("bench");
@@ -255,10 +268,7 @@ async function main(): Promise<void> {
     process.stdout.write(`${lines.join("\n")}\n`);
     if (o.out) writeFileSync(o.out, `${JSON.stringify({ machine: { cores: availableParallelism(), cpu, node: process.version }, options: o, scanSeconds, figures }, null, 2)}\n`);
   } finally {
-    for (const c of children) if (c.exitCode === null && c.signalCode === null) c.kill("SIGTERM");
-    await new Promise((r) => setTimeout(r, 1500));
-    await cluster.stop().catch((e: unknown) => log(`stopping PostgreSQL: ${String(e)}`));
-    rmSync(work, { recursive: true, force: true });
+    await cleanUp();
   }
 }
 
