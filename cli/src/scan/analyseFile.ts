@@ -39,7 +39,8 @@ export interface AnalysedFile {
   /** Set when the PNGs could not be written (the measurements still stand). */
   imageError: string | null;
   /**
-   * Stage times: waiting for reads, decoding, hashing, the analysers (level and spectral within analyse),
+   * Stage times: waiting for reads, decoding, hashing, the analysers (level, spectral and the fingerprint
+   * within analyse),
    * and the images (painting and PNG encoding within render, which also counts writing them).
    */
   timingsMs: AnalyseTimings;
@@ -52,6 +53,7 @@ export interface AnalyseTimings {
   analyse: number;
   level: number;
   spectral: number;
+  fingerprint: number;
   render: number;
   paint: number;
   png: number;
@@ -103,7 +105,7 @@ async function writeImages(
 
 /** `signal` stops the read mid-file; an aborted file rejects instead of being reported as unreadable. */
 export async function analyseFile(task: AnalyseTask, ctx: ScanContext, signal?: AbortSignal): Promise<AnalysedFile> {
-  const timingsMs: AnalyseTimings = { read: 0, decode: 0, hash: 0, analyse: 0, level: 0, spectral: 0, render: 0, paint: 0, png: 0 };
+  const timingsMs: AnalyseTimings = { read: 0, decode: 0, hash: 0, analyse: 0, level: 0, spectral: 0, fingerprint: 0, render: 0, paint: 0, png: 0 };
   let analysis: BlockAnalyser<FileAnalysisResult> | null = null;
   let analyseMs = 0;
   let read: AudioFileResult;
@@ -140,6 +142,7 @@ export async function analyseFile(task: AnalyseTask, ctx: ScanContext, signal?: 
   timingsMs.analyse = analyseMs;
   timingsMs.level = analysed.timings.level;
   timingsMs.spectral = analysed.timings.spectral;
+  timingsMs.fingerprint = analysed.timings.fingerprint;
 
   const { format, metadata, layout } = read.info;
   const findings = [...analysed.findings, ...readerFindings(layout, read)];
