@@ -120,10 +120,10 @@ describe("session", () => {
 
 describe("role-aware navigation", () => {
   const expected: Record<Role, string[]> = {
-    admin: ["Batches", "Files", "Exports", "Audit trail", "API tokens", "Users"],
-    supervisor: ["Batches", "Files", "Exports", "Audit trail", "API tokens"],
-    technician: ["Batches", "Files", "API tokens"],
-    auditor: ["Batches", "Files", "Exports", "Audit trail"],
+    admin: ["Batches", "Files", "Runs", "Exports", "Audit trail", "API tokens", "Users"],
+    supervisor: ["Batches", "Files", "Runs", "Exports", "Audit trail", "API tokens"],
+    technician: ["Batches", "Files", "Runs", "API tokens"],
+    auditor: ["Batches", "Files", "Runs", "Exports", "Audit trail"],
   };
 
   it.each(Object.entries(expected) as [Role, string[]][])("shows a %s only the screens the role may use", async (role, links) => {
