@@ -82,10 +82,10 @@ afterAll(async () => {
 
 describe("review portal in chromium", () => {
   it.each<[Role, string[]]>([
-    ["admin", ["Batches", "Files", "Exports", "Audit trail", "API tokens", "Users"]],
-    ["supervisor", ["Batches", "Files", "Exports", "Audit trail", "API tokens"]],
-    ["technician", ["Batches", "Files", "API tokens"]],
-    ["auditor", ["Batches", "Files", "Exports", "Audit trail"]],
+    ["admin", ["Batches", "Files", "Runs", "Exports", "Audit trail", "API tokens", "Users"]],
+    ["supervisor", ["Batches", "Files", "Runs", "Exports", "Audit trail", "API tokens"]],
+    ["technician", ["Batches", "Files", "Runs", "API tokens"]],
+    ["auditor", ["Batches", "Files", "Runs", "Exports", "Audit trail"]],
   ])("signs in as %s and shows the seeded batches with that role's navigation", async (role, nav) => {
     const page = await signIn(role);
     await expect.poll(() => page.getByRole("navigation", { name: "Main" }).getByRole("link").allTextContents()).toEqual(nav);
