@@ -86,6 +86,9 @@ async function main(): Promise<number> {
   const steps: [string, string[]][] = [
     ...(focused ? [] : ([["npx", ["tsc", "-b"]], ["npx", ["eslint", "."]]] as [string, string[]][])),
     ["npm", ["run", "build", "-w", "web", "--silent"]],
+    // The CLI bundle makes each of the many `tidemark` processes the tests start ~0.8 s quicker;
+    // bin/tidemark.js falls back to the sources whenever one changed after the build.
+    ["node", ["cli/bin/build.mjs"]],
     ["npx", ["vitest", "run", ...vitestArgs]],
   ];
   for (const [cmd, args] of steps) {
