@@ -8,6 +8,7 @@ import { createServer, type IncomingHttpHeaders, type Server } from "node:http";
 import type { AddressInfo } from "node:net";
 import { tmpdir } from "node:os";
 import path from "node:path";
+import { PNG } from "pngjs";
 import { afterAll, afterEach, beforeAll, describe, expect, it } from "vitest";
 import { sine } from "../fixtures/synth.ts";
 import { encodeWav } from "../fixtures/wavWriter.ts";
@@ -213,6 +214,30 @@ describe("tidemark scan --upload", () => {
     expect(names("waveform")).toEqual(["0.png", "1.png"]);
     const png = new Uint8Array(await (form.getAll("spectrogram")[1] as File).arrayBuffer());
     expect(png).toEqual(new Uint8Array(readFileSync(path.join(dir, "png", "reel-1.wav.png"))));
+  });
+
+  it("draws and uploads the PNGs even without --spectrograms, and leaves no temporary folder behind", async () => {
+    server = await fakeServer();
+    mkdirSync(path.join(dir, "tapes"), { recursive: true });
+    writeFileSync(
+      path.join(dir, "tapes", "tape-1.wav"),
+      encodeWav([sine({ frequencyHz: 330, sampleRateHz: 48000, seconds: 1, peakDbfs: -12 })], { sampleRateHz: 48000, bitDepth: 24 }),
+    );
+    const tmp = mkdtempSync(path.join(tmpdir(), "tidemark-tmp-"));
+    const r = await cli(["scan", "tapes", "--upload", "--server", server.url, "--format", "json", "-q"], { TIDEMARK_TOKEN: "tok7:s3cret", TMPDIR: tmp });
+    expect(r.exitCode, r.stderr).toBe(0);
+    const form = await formOf(server.requests[0]);
+    const spectrogram = form.getAll("spectrogram") as File[];
+    expect(spectrogram.map((f) => f.name)).toEqual(["0.png"]);
+    expect((form.getAll("waveform") as File[]).map((f) => f.name)).toEqual(["0.png"]);
+    // A real PNG (signature per ISO/IEC 15948:2004, 5.2), decodable by pngjs at the default 1600×600.
+    const bytes = Buffer.from(await spectrogram[0].arrayBuffer());
+    expect(PNG.sync.read(bytes).width).toBe(1600);
+    // The printed report does not point at images the user never asked for …
+    expect((JSON.parse(r.stdout) as ScanReport).files[0].spectrogram).toBeNull();
+    // … and the folder they were drawn in is gone.
+    expect(readdirSync(tmp).filter((n) => n.startsWith("tidemark-images-"))).toEqual([]);
+    rmSync(tmp, { recursive: true, force: true });
   });
 });
 

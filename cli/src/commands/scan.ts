@@ -2,7 +2,8 @@
  * `tidemark scan`: crawl, measure on the worker pool, judge, report, and optionally upload.
  * Returns the exit code; nothing here exits the process.
  */
-import { mkdir, rename, stat, writeFile } from "node:fs/promises";
+import { mkdir, mkdtemp, rename, rm, stat, writeFile } from "node:fs/promises";
+import { tmpdir } from "node:os";
 import path from "node:path";
 import { assembleReport, hasFailures } from "@tidemark/shared/report/assembleReport";
 import { reportToJson } from "@tidemark/shared/report/jsonReport";
@@ -86,6 +87,17 @@ export async function scanCommand(paths: string[], options: ScanOptions, io: Cli
     });
     spectrograms = { dirAbs, dirShown: options.spectrograms.split(path.sep).join("/").replace(/\/+$/, "") || "." };
   }
+  // Supervisors review spectrograms in the portal, so an upload always carries them. Without
+  // --spectrograms they are drawn into a folder of their own: beside the resume state (so a resumed scan
+  // still finds them), otherwise a temporary one removed after the upload.
+  let temporaryImagesDir: string | null = null;
+  if (options.upload && !spectrograms) {
+    const dirAbs = options.resume
+      ? path.resolve(io.cwd, `${options.resume}.images`)
+      : (temporaryImagesDir = await mkdtemp(path.join(tmpdir(), "tidemark-images-")));
+    await mkdir(dirAbs, { recursive: true });
+    spectrograms = { dirAbs, dirShown: dirAbs.split(path.sep).join("/") };
+  }
   const context: ScanContext = { profile: loaded.profile, settings: loaded.settings, spectrograms };
 
   let resume: ResumeState | null = null;
@@ -120,11 +132,14 @@ export async function scanCommand(paths: string[], options: ScanOptions, io: Cli
     { tool: toolInfo(), profile: { name: loaded.profile.name, hash: loaded.hash }, startedAt, finishedAt: new Date().toISOString() },
     [...result.reports, ...problemReports],
   );
-  const text = reportWriters[format](report);
+  // Images drawn only for the upload are not part of what the user asked to see.
+  const shown = temporaryImagesDir ? { ...report, files: report.files.map((f) => ({ ...f, spectrogram: null })) } : report;
+  const text = reportWriters[format](shown);
   if (outAbs) await writeAtomically(outAbs, text);
   else io.stdout.write(text);
 
   if (result.interrupted) {
+    if (temporaryImagesDir) await rm(temporaryImagesDir, { recursive: true, force: true });
     const left = crawl.files.length - result.reports.length;
     const resumeHint = options.resume ? `; run the same command to resume` : "; add --resume STATE_FILE next time to continue after an interruption";
     io.stderr.write(`tidemark: interrupted: ${result.reports.length} of ${crawl.files.length} file(s) done, ${left} left${resumeHint}\n`);
@@ -133,7 +148,11 @@ export async function scanCommand(paths: string[], options: ScanOptions, io: Cli
   if (!options.quiet && result.reused > 0) io.stderr.write(`tidemark: ${result.reused} unchanged file(s) taken from ${options.resume}\n`);
 
   let uploadCode: number = EXIT_CODES.ok;
-  if (options.upload) uploadCode = await uploadReport(report, options.upload, path.basename(crawl.rootDir) || "archive", io);
+  try {
+    if (options.upload) uploadCode = await uploadReport(report, options.upload, path.basename(crawl.rootDir) || "archive", io);
+  } finally {
+    if (temporaryImagesDir) await rm(temporaryImagesDir, { recursive: true, force: true });
+  }
   if (uploadCode !== EXIT_CODES.ok) return uploadCode;
   return hasFailures(report.summary) ? EXIT_CODES.failed : EXIT_CODES.ok;
 }
