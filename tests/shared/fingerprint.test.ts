@@ -51,21 +51,23 @@ function resampleAll(x: Float32Array, inputRateHz: number): Float32Array {
 
 describe("fingerprint: internal resampler", () => {
   // The whole point of resampling: the band must pass untouched and nothing may fold into it.
-  it.each([8000, 44100, 48000, 96000, 192000])("passes 1 kHz and 3.9 kHz at %i Hz within 0.1 dB", (rate) => {
+  // Kaiser's 40 dB design leaves a passband ripple of δ = 0.01, ±0.09 dB (from memory), a little more
+  // next to the transition band; 0.2 dB bounds it with room for the 0.5 s clip's RMS estimate.
+  it.each([8000, 44100, 48000, 96000, 192000])("passes 1 kHz and 3.9 kHz at %i Hz within 0.2 dB", (rate) => {
     for (const frequencyHz of rate === 8000 ? [1000] : [1000, 3900]) {
       const x = sine({ frequencyHz, sampleRateHz: rate, seconds: 0.5, peakDbfs: -6 });
       const y = resampleAll(x, rate);
       expect(y.length).toBe(Math.ceil((x.length * FINGERPRINT_GRID.analysisRateHz) / rate));
       // Compare steady-state RMS, away from the edges where the kernel sees silence.
-      expect(rmsDbfs(y.subarray(500, y.length - 500))).toBeCloseTo(rmsDbfs(x), 1);
+      expect(Math.abs(rmsDbfs(y.subarray(500, y.length - 500)) - rmsDbfs(x))).toBeLessThan(0.2);
     }
   });
 
-  it.each([44100, 48000, 96000])("attenuates an 8 kHz tone (it would fold to 3.0 kHz) by ≥ 55 dB at %i Hz", (rate) => {
-    // Design target 60 dB (Kaiser's formula, from memory); 5 dB of slack for the short kernel's edges.
+  it.each([44100, 48000, 96000])("attenuates an 8 kHz tone (it would fold to 3.0 kHz) by ≥ 38 dB at %i Hz", (rate) => {
+    // Design target 40 dB (Kaiser's formulas, from memory); 2 dB of slack for the short kernel's edges.
     const x = sine({ frequencyHz: 8000, sampleRateHz: rate, seconds: 0.5, peakDbfs: 0 });
     const y = resampleAll(x, rate);
-    expect(rmsDbfs(y.subarray(500, y.length - 500)) - rmsDbfs(x)).toBeLessThan(-55);
+    expect(rmsDbfs(y.subarray(500, y.length - 500)) - rmsDbfs(x)).toBeLessThan(-38);
   });
 });
 

@@ -6,19 +6,22 @@
  *
  * Channels are combined as the mean of their power spectra, not as a mono mix: a copy with one
  * channel polarity-inverted would cancel in L + R, while |L|² + |−R|² = |L|² + |R|². Identical
- * channels (a mono tape transferred to stereo) give exactly the power of one of them.
+ * channels (a mono tape transferred to stereo) give the power of one of them. Channels go through
+ * the FFT in pairs (one complex transform for two real frames).
  */
 import type { AudioBlock, BlockAnalyser, StreamFormat } from "../types/analysis.ts";
-import { createFramePowerSpectrum, powerToDb } from "./fftFrames.ts";
+import { createFramePowerSpectrum } from "./fftFrames.ts";
 import { createPeakPicker, hashLandmarks } from "./landmarks.ts";
+import { createHalvingStage, MIN_HALVING_INPUT_HZ, type HalvingStage } from "./halvingStage.ts";
 import { createMultiChannelResampler } from "./resampler.ts";
 import type { Fingerprint } from "./types.ts";
 
 /**
  * Bump whenever anything below changes the hashes: fingerprints of other versions don't compare.
  * 2: channels combined by power instead of a mono mix (mono files hash as in version 1).
+ * 3: a 40 dB anti-alias kernel (was 60 dB) and peaks ranked on power, not dB: 2.5x faster.
  */
-export const FINGERPRINT_VERSION = 2;
+export const FINGERPRINT_VERSION = 3;
 
 const ANALYSIS_RATE_HZ = 11025;
 const FFT_SIZE = 1024; // 92.9 ms window, 10.77 Hz bins
@@ -42,8 +45,8 @@ const PEAKS = Object.freeze({
   bins: BAND_BINS,
   freqRadiusBins: 10, // ±108 Hz
   timeRadiusFrames: 3, // ±70 ms
-  // A full-scale sine peaks at 20·log10(N/4) dB in a Hann-windowed bin; ignore 100 dB below that.
-  floorDb: 20 * Math.log10(FFT_SIZE / 4) - 100,
+  // A full-scale sine peaks at |X|² = (N/4)² in a Hann-windowed bin; ignore 100 dB below that.
+  floor: (FFT_SIZE / 4) ** 2 * 1e-10,
   peaksPerWindow: 6,
   rankRadiusFrames: 42, // any 43 frames (≈ 1 s) hold ≤ 6 kept peaks, so ≤ 18 hashes
 });
@@ -86,10 +89,20 @@ export function createFingerprinter(format: StreamFormat): BlockAnalyser<Fingerp
     throw new RangeError(`fingerprint: channels must be an integer ≥ 1, got ${channels}`);
   }
 
+  // Rates of 44.1 kHz and up are first halved, cheaply, down to 22.05–44.1 kHz: the Kaiser kernel's
+  // length grows with its input rate, and it costs far more an output than a halving does.
+  const halvings: HalvingStage[] = [];
+  let kernelRateHz = sampleRateHz;
+  while (kernelRateHz >= MIN_HALVING_INPUT_HZ) {
+    halvings.push(createHalvingStage(channels));
+    kernelRateHz /= 2;
+  }
+  const halved: Float32Array[][] = halvings.map(() => Array.from({ length: channels }, () => new Float32Array(0)));
+
   // One resampler for all channels (they share its kernel), and one frame buffer per channel.
   const resampler = createMultiChannelResampler(
     {
-      inputRateHz: sampleRateHz,
+      inputRateHz: kernelRateHz,
       outputRateHz: ANALYSIS_RATE_HZ,
       passbandHz: BAND_HIGH_HZ,
       // Anything above (internal rate − 4 kHz) would fold back into the band; between that and 4 kHz may leak.
@@ -103,13 +116,15 @@ export function createFingerprinter(format: StreamFormat): BlockAnalyser<Fingerp
     frames.push(new Float32Array(FFT_SIZE));
     cleaned.push(new Float32Array(0));
   }
+  // Only float data can hold NaN or infinity; decoded integers are always finite.
+  const mayHoldNonFinite = format.encoding !== "pcm";
   const spectrum = createFramePowerSpectrum(FFT_SIZE);
   const picker = createPeakPicker(PEAKS);
 
   const resampled = frames.map(() => new Float32Array(4096));
   let frameFill = 0;
   const bandPower = new Float64Array(BAND_BINS);
-  const bandDb = new Float32Array(BAND_BINS);
+  const bandMean = new Float32Array(BAND_BINS);
   const inverseChannels = 1 / channels;
   let framesPushed = 0;
   let finished = false;
@@ -126,12 +141,12 @@ export function createFingerprinter(format: StreamFormat): BlockAnalyser<Fingerp
         at += take;
         if (frameFill === FFT_SIZE) {
           bandPower.fill(0);
-          for (let c = 0; c < channels; c++) {
-            spectrum.addPower(frames[c], FIRST_BIN, bandPower);
-            frames[c].copyWithin(0, HOP_SIZE);
-          }
-          powerToDb(bandPower, inverseChannels, bandDb);
-          picker.pushFrame(bandDb);
+          let c = 0;
+          for (; c + 1 < channels; c += 2) spectrum.addPairPower(frames[c], frames[c + 1], FIRST_BIN, bandPower);
+          if (c < channels) spectrum.addPower(frames[c], FIRST_BIN, bandPower);
+          for (const frame of frames) frame.copyWithin(0, HOP_SIZE);
+          for (let k = 0; k < BAND_BINS; k++) bandMean[k] = bandPower[k] * inverseChannels;
+          picker.pushFrame(bandMean);
           frameFill = FFT_SIZE - HOP_SIZE;
         }
       }
@@ -154,23 +169,50 @@ export function createFingerprinter(format: StreamFormat): BlockAnalyser<Fingerp
           throw new RangeError(`fingerprint: channel ${c} holds ${block.channels[c].length} samples, block says ${count}`);
         }
       }
-      for (let c = 0; c < channels; c++) {
-        if (cleaned[c].length < count) cleaned[c] = new Float32Array(count);
-        const m = cleaned[c];
-        const ch = block.channels[c];
-        // Non-finite samples (reported elsewhere) would smear NaN over a kernel's length: treat as silence.
-        for (let i = 0; i < count; i++) {
-          const x = ch[i];
-          m[i] = x - x === 0 ? x : 0;
+      if (mayHoldNonFinite) {
+        for (let c = 0; c < channels; c++) {
+          if (cleaned[c].length < count) cleaned[c] = new Float32Array(count);
+          const m = cleaned[c];
+          const ch = block.channels[c];
+          // Non-finite samples (reported elsewhere) would smear NaN over a kernel's length: treat as silence.
+          for (let i = 0; i < count; i++) {
+            const x = ch[i];
+            m[i] = x - x === 0 ? x : 0;
+          }
         }
       }
-      resampler.write(cleaned, count);
+      let signal: Float32Array[] = mayHoldNonFinite ? cleaned : block.channels;
+      let n = count;
+      halvings.forEach((stage, s) => {
+        const out = halved[s];
+        const needed = Math.floor(n / 2) + 1;
+        if (out[0].length < needed) for (let c = 0; c < channels; c++) out[c] = new Float32Array(needed);
+        n = stage.push(signal, n, out);
+        signal = out;
+      });
+      resampler.write(signal, n);
       framesPushed += count;
       drain();
     },
     finish() {
       if (finished) throw new Error("fingerprint: finish() called twice");
       finished = true;
+      // A leftover odd sample at each stage makes one last output, fed through the stages after it.
+      halvings.forEach((stage, s) => {
+        const out = halved[s];
+        if (out[0].length < 2) for (let c = 0; c < channels; c++) out[c] = new Float32Array(2);
+        const tail = stage.end(out);
+        if (tail === 0) return;
+        let signal = out;
+        let n = tail;
+        for (let t = s + 1; t < halvings.length; t++) {
+          const next = halved[t];
+          if (next[0].length < 2) for (let c = 0; c < channels; c++) next[c] = new Float32Array(2);
+          n = halvings[t].push(signal, n, next);
+          signal = next;
+        }
+        if (n > 0) resampler.write(signal, n);
+      });
       resampler.end();
       drain();
       const peaks = picker.finish();

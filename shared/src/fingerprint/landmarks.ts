@@ -7,8 +7,9 @@
  * `peaksPerWindow` stronger peaks lie within ±`rankRadiusFrames` of it. Any span of
  * rankRadiusFrames + 1 frames then holds at most peaksPerWindow kept peaks (the weakest of them
  * would otherwise see that many stronger ones), whatever the content, and the decision depends on
- * the audio around a peak only, not on where the file starts. Ranking compares dB values, so a
- * gain change shifts everything equally and picks the same peaks.
+ * the audio around a peak only, not on where the file starts. Only comparisons of values are made,
+ * so any monotonic scale works (power or dB), and a gain change, which scales every power alike,
+ * picks the same peaks.
  */
 
 export interface PeakPickerParams {
@@ -17,8 +18,8 @@ export interface PeakPickerParams {
   /** A peak is the maximum of ±freqRadiusBins × ±timeRadiusFrames around it. */
   freqRadiusBins: number;
   timeRadiusFrames: number;
-  /** Values below this (dB) are never peaks: digital silence and the last bits of dither. */
-  floorDb: number;
+  /** Values below this (the spectrum's own units) are never peaks: digital silence and the last bits of dither. */
+  floor: number;
   peaksPerWindow: number;
   rankRadiusFrames: number;
 }
@@ -31,13 +32,13 @@ export interface PeakList {
 }
 
 export interface PeakPicker {
-  /** Feeds the next frame's spectrum (dB, `params.bins` values); copied, so it may be reused. */
-  pushFrame(spectrumDb: Float32Array): void;
+  /** Feeds the next frame's spectrum (`params.bins` values); copied, so it may be reused. */
+  pushFrame(spectrum: Float32Array): void;
   finish(): PeakList;
 }
 
 export function createPeakPicker(params: PeakPickerParams): PeakPicker {
-  const { bins, freqRadiusBins: df, timeRadiusFrames: dt, floorDb, peaksPerWindow, rankRadiusFrames } = params;
+  const { bins, freqRadiusBins: df, timeRadiusFrames: dt, floor, peaksPerWindow, rankRadiusFrames } = params;
   for (const [name, v] of Object.entries({ bins, df, dt, peaksPerWindow, rankRadiusFrames })) {
     if (!Number.isInteger(v) || v < (name === "bins" || name === "peaksPerWindow" ? 1 : 0)) {
       throw new RangeError(`peak picker: ${name} must be a non-negative integer (bins, peaksPerWindow ≥ 1), got ${v}`);
@@ -108,7 +109,7 @@ export function createPeakPicker(params: PeakPickerParams): PeakPicker {
     let n = 0;
     for (let b = 0; b < bins; b++) {
       const v = rows[own + b];
-      if (v < floorDb || !isLocalMax(k, b, v, lastFrame)) continue;
+      if (v < floor || !isLocalMax(k, b, v, lastFrame)) continue;
       // Insert into the frame's sorted top-N (strongest first, lower bin on ties by scan order).
       if (n === peaksPerWindow && v <= frameValues[n - 1]) continue;
       let i = n < peaksPerWindow ? n++ : n - 1;
@@ -153,11 +154,11 @@ export function createPeakPicker(params: PeakPickerParams): PeakPicker {
   }
 
   return {
-    pushFrame(spectrumDb) {
+    pushFrame(spectrum) {
       if (finished) throw new Error("peak picker: pushFrame after finish()");
-      if (spectrumDb.length < bins) throw new RangeError(`peak picker: frame needs ${bins} values, got ${spectrumDb.length}`);
+      if (spectrum.length < bins) throw new RangeError(`peak picker: frame needs ${bins} values, got ${spectrum.length}`);
       const k = framesIn++;
-      rows.set(spectrumDb.subarray(0, bins), (k % depth) * bins);
+      rows.set(spectrum.subarray(0, bins), (k % depth) * bins);
       const ready = k - dt;
       if (ready >= 0) {
         evaluateFrame(ready, k);

@@ -28,12 +28,17 @@ export interface StreamingResampler {
 /** Sub-sample phases of the kernel table: the nearest phase is at most 1/1024 sample off. */
 const PHASES = 512;
 /**
- * 60 dB keeps anything folded into the fingerprint band far below the peaks it competes with, at
- * two thirds of the taps a Blackman window needs. Kaiser's design formulas (common practice, from
- * memory): β = 0.1102·(A − 8.7) and length = (A − 8) / (2.285 · 2π·Δf/rate).
+ * 40 dB puts anything folded into the fingerprint band 40 dB under what it folds from, itself
+ * mostly well under the 300 Hz–4 kHz content (spectra fall with frequency, common practice): far
+ * below the peaks a fingerprint keeps, at 60 % of the taps 60 dB takes (the kernel is the
+ * fingerprint's largest cost). Kaiser's design formulas (common practice, from memory):
+ * β = 0.5842·(A − 21)^0.4 + 0.07886·(A − 21) for 21 < A ≤ 50, and length = (A − 8) / (2.285 · 2π·Δf/rate).
  */
-export const STOPBAND_ATTENUATION_DB = 60;
-const KAISER_BETA = 0.1102 * (STOPBAND_ATTENUATION_DB - 8.7);
+export const STOPBAND_ATTENUATION_DB = 40;
+const KAISER_BETA =
+  STOPBAND_ATTENUATION_DB > 50
+    ? 0.1102 * (STOPBAND_ATTENUATION_DB - 8.7)
+    : 0.5842 * (STOPBAND_ATTENUATION_DB - 21) ** 0.4 + 0.07886 * (STOPBAND_ATTENUATION_DB - 21);
 
 /** Modified Bessel function of the first kind, order 0, by its power series (table set-up only). */
 function besselI0(x: number): number {
@@ -126,7 +131,7 @@ export function createMultiChannelResampler(o: ResamplerOptions, channels: numbe
   const transitionHz = Math.min(o.stopbandHz - o.passbandHz, inputNyquistHz);
   const cutoffHz = Math.min((o.passbandHz + o.stopbandHz) / 2, inputNyquistHz);
   const length = (STOPBAND_ATTENUATION_DB - 8) / (2.285 * ((2 * Math.PI * transitionHz) / inputRateHz));
-  const half = 2 * Math.max(2, Math.ceil(length / 4));
+  const half = Math.max(2, Math.ceil(length / 2));
   const taps = 2 * half;
 
   const table = kernelTable(inputRateHz, cutoffHz, half);
