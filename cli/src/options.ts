@@ -76,6 +76,8 @@ export interface ScanOptions {
   format: ReportFormat | null;
   out: string | null;
   spectrograms: string | null;
+  /** false with --no-fingerprint: no duplicate-detection fingerprint in the report. */
+  fingerprint: boolean;
   workers: number;
   include: string[];
   exclude: string[];

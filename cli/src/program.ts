@@ -95,6 +95,7 @@ export function createProgram(actions: Partial<CommandActions & QueueCommandActi
     .addOption(new Option("-f, --format <format>", "report format (default: table on a terminal, else json)").choices(REPORT_FORMATS))
     .option("-o, --out <file>", "write the report to a file instead of stdout (format from its extension if --format is not given)")
     .option("--spectrograms <dir>", "write a spectrogram PNG (and a waveform strip) for each file, mirroring the folder tree")
+    .option("--no-fingerprint", "skip the fingerprint that finds the same recording elsewhere (about a third faster; uploads are then not compared)")
     .option("-w, --workers <n>", "parallel workers (default: number of cores)", parseWorkerCount)
     .option("--resume <state-file>", "record progress there, and skip files already measured and unchanged")
     .option("-q, --quiet", "no progress display")
@@ -114,6 +115,7 @@ export function createProgram(actions: Partial<CommandActions & QueueCommandActi
       format: (o.format as ReportFormat | undefined) ?? null,
       out: (o.out as string | undefined) ?? null,
       spectrograms: (o.spectrograms as string | undefined) ?? null,
+      fingerprint: o.fingerprint !== false,
       workers: (o.workers as number | undefined) ?? defaultWorkerCount(),
       include: orDefaultGlobs(o.include as string[]),
       exclude: o.exclude as string[],

@@ -214,6 +214,23 @@ describe("tidemark scan (real binary)", () => {
     ]);
     expect(r.exitCode).toBe(1);
   });
+
+  it("fingerprints every measured file by default, and leaves the fingerprint out with --no-fingerprint", async () => {
+    const measured = report.files.filter((f) => f.error === null);
+    expect(measured.length).toBeGreaterThan(0);
+    for (const f of measured) expect(typeof f.fingerprint, f.path).toBe("string");
+    const r = await scan(["archive", "--format", "json", "--workers", "1", "--no-fingerprint"]);
+    const without = parseReport(r.stdout);
+    for (const f of without.files) expect(f, f.path).not.toHaveProperty("fingerprint");
+    // Everything else is the same measurement.
+    const strip = (x: ScanReport) => x.files.map(({ fingerprint: _fp, ...rest }) => rest);
+    expect(strip(without)).toEqual(strip(report));
+    // A resumed scan that wants fingerprints measures again what a --no-fingerprint run left in the state.
+    const state = path.join(dir, "no-fingerprint.state");
+    await scan(["archive/Ferry", "--no-fingerprint", "--resume", state, "--format", "json"]);
+    const resumed = parseReport((await scan(["archive/Ferry", "--resume", state, "--format", "json"])).stdout);
+    for (const f of resumed.files) expect(typeof f.fingerprint, f.path).toBe("string");
+  });
 });
 
 describe("tidemark scan: bad invocations exit 2 with one line naming the problem", () => {

@@ -98,7 +98,7 @@ export async function scanCommand(paths: string[], options: ScanOptions, io: Cli
     await mkdir(dirAbs, { recursive: true });
     spectrograms = { dirAbs, dirShown: dirAbs.split(path.sep).join("/") };
   }
-  const context: ScanContext = { profile: loaded.profile, settings: loaded.settings, spectrograms };
+  const context: ScanContext = { profile: loaded.profile, settings: loaded.settings, spectrograms, fingerprint: options.fingerprint };
 
   let resume: ResumeState | null = null;
   if (options.resume) {

@@ -24,6 +24,8 @@ export interface ScanContext {
   profile: Profile;
   settings: AnalysisSettings;
   spectrograms: SpectrogramTarget | null;
+  /** Compute the duplicate-detection fingerprint (the default; `scan --no-fingerprint` turns it off). */
+  fingerprint: boolean;
 }
 
 export interface AnalyseTask {
@@ -113,7 +115,7 @@ export async function analyseFile(task: AnalyseTask, ctx: ScanContext, signal?: 
     read = await readAudioFile(task.absPath, {
       signal,
       onOpen: (info) => {
-        const a = createFileAnalysis(info.stream, ctx.settings, { clock: () => performance.now() });
+        const a = createFileAnalysis(info.stream, ctx.settings, { clock: () => performance.now(), fingerprint: ctx.fingerprint });
         analysis = a;
         return (block) => {
           const t = performance.now();
@@ -172,7 +174,8 @@ export async function analyseFile(task: AnalyseTask, ctx: ScanContext, signal?: 
       verdict: judged.verdict,
       error: null,
       spectrogram,
-      fingerprint: analysed.fingerprint,
+      // Absent, not null, when --no-fingerprint asked for none: null means the rate is out of range.
+      ...(ctx.fingerprint ? { fingerprint: analysed.fingerprint } : {}),
     },
     audioSeconds: format.durationSeconds,
     imageError,

@@ -61,6 +61,8 @@ const STAGE_TIMINGS_ENV = "TIDEMARK_STAGE_TIMINGS";
 async function reusable(record: ResumeRecord | undefined, file: CrawledFile, context: ScanContext): Promise<boolean> {
   if (!record || record.sizeBytes !== file.sizeBytes || record.mtimeMs !== file.mtimeMs) return false;
   if (record.report.sha256 === null) return false;
+  // A record made without a fingerprint cannot stand in for a scan that wants one.
+  if (context.fingerprint && record.report.fingerprint === undefined && record.report.error === null) return false;
   if (context.spectrograms) {
     if (!record.report.spectrogram) return false;
     if (!(await exists(spectrogramPaths(context.spectrograms, file.relPath).png))) return false;

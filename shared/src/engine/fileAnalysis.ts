@@ -28,12 +28,14 @@ export interface FileAnalysisResult {
 export interface FileAnalysisOptions {
   /** Monotonic time, e.g. () => performance.now(); read four times a block, off the per-sample loops. */
   clock?: () => number;
+  /** Compute the fingerprint (default true): `tidemark scan --no-fingerprint` skips it. */
+  fingerprint?: boolean;
 }
 
 export function createFileAnalysis(format: StreamFormat, settings: AnalysisSettings, options: FileAnalysisOptions = {}): BlockAnalyser<FileAnalysisResult> {
   const level = createLevelAnalyser(format, settings);
   const spectral = createSpectralAnalyser(format, settings);
-  const fingerprinter = canFingerprint(format) ? createFingerprinter(format) : null;
+  const fingerprinter = options.fingerprint !== false && canFingerprint(format) ? createFingerprinter(format) : null;
   const clock = options.clock;
   const timings = { level: 0, spectral: 0, fingerprint: 0 };
   return {
