@@ -50,6 +50,20 @@ describe("File page", () => {
     expect(within(screen.getByRole("region", { name: /Findings/ })).getByRole("button", { name: "whole file" })).toHaveProperty("disabled", true);
   });
 
+  it("cautions about the volume when the findings say the file is loud or clicks, and not otherwise", async () => {
+    serve("technician");
+    const { unmount } = renderApp("/files/7");
+    await screen.findByRole("heading", { name: "ferry/interview-07.wav" });
+    expect(screen.getByRole("note").textContent).toMatch(/volume down.*clipping/);
+    unmount();
+
+    const hum = fileDetail(7).findings.filter((f) => f.code === "hum");
+    serve("technician", fileDetail(7, { findings: hum }));
+    renderApp("/files/7");
+    await screen.findByRole("heading", { name: "ferry/interview-07.wav" });
+    expect(screen.queryByRole("note")).toBeNull();
+  });
+
   it("tells the reviewer when the spectrogram image cannot be loaded", async () => {
     serve("technician");
     renderApp("/files/7");

@@ -8,6 +8,7 @@ import { EmptyState, ErrorState, LoadingState } from "../components/states.tsx";
 import { BandEnergyChart } from "../components/file/BandEnergyChart.tsx";
 import { CommentsThread } from "../components/file/CommentsThread.tsx";
 import { FindingsTable } from "../components/file/FindingsTable.tsx";
+import { ListeningCaution } from "../components/file/ListeningCaution.tsx";
 import { FixityHistory } from "../components/file/FixityHistory.tsx";
 import { MetricsPanels } from "../components/file/MetricsPanels.tsx";
 import { ReviewPanel } from "../components/file/ReviewPanel.tsx";
@@ -78,6 +79,7 @@ export function FileDetailPage() {
           <h2 id="findings-heading" className="mb-2 text-lg">
             Findings <span className="font-sans text-sm font-normal text-ink-muted">({f.findings.length})</span>
           </h2>
+          <ListeningCaution findings={f.findings} />
           <FindingsTable findings={f.findings} selectedId={selectedFindingId} onSelect={setSelectedFindingId} />
         </section>
         <aside className="space-y-4 md:grid md:grid-cols-2 md:gap-4 md:space-y-0 lg:col-start-2 lg:row-span-5 lg:row-start-1 lg:block lg:space-y-4" aria-label="Review and comments">
