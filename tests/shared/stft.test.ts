@@ -239,3 +239,21 @@ describe("spectral analyser", () => {
     ).toThrow(/power of two > 1, got 1000/);
   });
 });
+
+describe("files too short for a spectrum", () => {
+  it("leave bandwidth, dominant frequency and band levels empty under 64 samples, and fill them from 64 on", () => {
+    // 63 samples of a 1 kHz sine zero-padded to the smallest frame would read as a broad, full-band spectrum.
+    const tone = sine({ frequencyHz: 1000, sampleRateHz: 48000, seconds: 1, peakDbfs: -6 });
+    for (const n of [1, 63]) {
+      const r = analyse([tone.slice(0, n)], 48000);
+      expect(r.metrics.bandwidthHz, `${n} samples`).toBeNull();
+      expect(r.metrics.dominantFrequencyHz, `${n} samples`).toBeNull();
+      expect([...r.metrics.bands.octave, ...r.metrics.bands.third].every((b) => b.db === null), `${n} samples`).toBe(true);
+      expect(r.metrics.bands.octave.length).toBeGreaterThan(0);
+      expect(r.findings).toEqual([]);
+    }
+    const enough = analyse([tone.slice(0, 64)], 48000);
+    expect(enough.metrics.dominantFrequencyHz).not.toBeNull();
+    expect(enough.metrics.bands.octave.some((b) => b.db !== null)).toBe(true);
+  });
+});

@@ -131,17 +131,24 @@ export function createSpectralAnalyser(format: StreamFormat, settings: AnalysisS
       const perChannel = welch.perChannel();
       const fineOverall = fine ? fine.welch.overall() : null;
       const finePerChannel = fine ? fine.welch.perChannel() : null;
-      const isSilent = isSilentSpectrum(overall);
+      // Under SHORTEST_FFT_SIZE samples (1.3 ms at 48 kHz) a file has no spectrum worth the name: a few
+      // samples zero-padded read as a flat, full-band spectrum. Its spectral summaries stay empty.
+      const tooShort = totalFrames < SHORTEST_FFT_SIZE;
+      const isSilent = tooShort || isSilentSpectrum(overall);
       const bandwidth = isSilent ? null : estimateBandwidth(overall, settings.bandwidthThresholdDb);
-      const findings: Finding[] = [
-        ...bandwidthFindings(overall, perChannel, settings.bandwidthThresholdDb, sampleRateHz),
-        ...humFindings(fineOverall, finePerChannel, settings.humProminenceDb),
-      ];
+      const findings: Finding[] = tooShort
+        ? []
+        : [
+            ...bandwidthFindings(overall, perChannel, settings.bandwidthThresholdDb, sampleRateHz),
+            ...humFindings(fineOverall, finePerChannel, settings.humProminenceDb),
+          ];
+      const bands = (bandsPerOctave: 1 | 3): BandLevel[] =>
+        tooShort ? bandLevels(bandsPerOctave, overall, null).map((b) => ({ ...b, db: null })) : bandLevels(bandsPerOctave, overall, fineOverall);
       return {
         metrics: {
           bands: {
-            octave: bandLevels(1, overall, fineOverall),
-            third: bandLevels(3, overall, fineOverall),
+            octave: bands(1),
+            third: bands(3),
           },
           bandwidthHz: bandwidth === null ? null : Math.round(bandwidth.bandwidthHz),
           dominantFrequencyHz: isSilent ? null : roundTo(dominantFrequencyHz(overall, fineOverall, FINE_RELIABLE_FRACTION * lowRate.sampleRateHz), 100),
