@@ -3,7 +3,10 @@ import { tmpdir } from "node:os";
 import { join } from "node:path";
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import { biquadPowerGain, kWeightingHighPass, kWeightingShelf } from "../../shared/src/analysis/kWeighting.ts";
-import { createLoudnessMeter, type LoudnessResult } from "../../shared/src/analysis/loudness.ts";
+import { createLoudnessMeter, loudnessChannelWeights, type LoudnessResult } from "../../shared/src/analysis/loudness.ts";
+import { createLevelAnalyser } from "../../shared/src/analysis/levelAnalyser.ts";
+import { DEFAULT_ANALYSIS_SETTINGS } from "../../shared/src/types/settings.ts";
+import { byteSourceFromBytes, createDataChunkDecoder, readWavLayout } from "../../shared/src/wav/index.ts";
 import { integratedLoudnessLufs, loudnessRangeLu, lufsToPower } from "../../shared/src/analysis/loudnessGating.ts";
 import { ffmpegAvailable, ffmpegEbur128 } from "../helpers/ffmpeg.ts";
 import { concat, gainDb, pinkNoise, silence, sine, sineSteps, speechLike, whiteNoise } from "../fixtures/synth.ts";
@@ -208,5 +211,38 @@ describe.runIf(ffmpegAvailable)("cross-check with Debian's ffmpeg ebur128 filter
     expect(Math.abs(ours.integratedLufs - theirs.integratedLufs)).toBeLessThanOrEqual(0.2);
     // EBU Tech 3342's definition is the first reference (above); ffmpeg's histogram-based LRA is a second opinion.
     expect(Math.abs((ours.loudnessRangeLu ?? NaN) - theirs.loudnessRangeLu)).toBeLessThanOrEqual(1);
+  });
+});
+
+describe("channel weights (ITU-R BS.1770-4, Annex 1, Table 3: surrounds 1.41, LFE excluded)", () => {
+  it("follow the WAVE_FORMAT_EXTENSIBLE speaker mask when there is one, else the default order", () => {
+    // Speaker bits (Microsoft's WAVEFORMATEXTENSIBLE, from memory): FL 0x1, FR 0x2, FC 0x4, LFE 0x8,
+    // BL 0x10, BR 0x20, SL 0x200, SR 0x400.
+    expect(Array.from(loudnessChannelWeights(6, 0x3f))).toEqual([1, 1, 1, 0, 1.41, 1.41]); // 5.1 with back surrounds
+    expect(Array.from(loudnessChannelWeights(6, 0x60f))).toEqual([1, 1, 1, 0, 1.41, 1.41]); // 5.1 with side surrounds
+    expect(Array.from(loudnessChannelWeights(4, 0x33))).toEqual([1, 1, 1.41, 1.41]); // quadraphonic
+    expect(Array.from(loudnessChannelWeights(3, 0x3))).toEqual([1, 1, 1]); // a channel the mask leaves out
+    expect(Array.from(loudnessChannelWeights(4, null))).toEqual([1, 1, 1, 1]);
+    expect(Array.from(loudnessChannelWeights(6))).toEqual([1, 1, 1, 0, 1.41, 1.41]);
+    expect(Array.from(loudnessChannelWeights(6, 0))).toEqual([1, 1, 1, 0, 1.41, 1.41]); // 0: no assignment given
+  });
+
+  it("read from a real quadraphonic file: equal channels read 10·log10((2 + 2·1.41) / 4) LU louder with the mask", async () => {
+    // BS.1770-4 eq. 2: L = −0.691 + 10·log10 Σ G_i·z_i. Four equal channels: weights [1, 1, 1.41, 1.41]
+    // against [1, 1, 1, 1] differ by 10·log10(4.82 / 4) = 0.810 LU.
+    const x = sine({ frequencyHz: 1000, sampleRateHz: 48000, seconds: 4, peakDbfs: -26 });
+    async function integrated(channelMask: number): Promise<number> {
+      const bytes = encodeWav([x, x, x, x], { sampleRateHz: 48000, bitDepth: 24, extensible: true, channelMask });
+      const layout = await readWavLayout(byteSourceFromBytes(bytes));
+      const { sampleRateHz, channels, bitDepth, encoding, totalFrames } = layout;
+      const analyser = createLevelAnalyser({ sampleRateHz, channels, bitDepth, encoding, totalFrames, channelMask: layout.channelMask }, DEFAULT_ANALYSIS_SETTINGS);
+      const decoder = createDataChunkDecoder(layout, 65536, (block) => analyser.push(block));
+      decoder.push(bytes, 0);
+      decoder.finish();
+      return analyser.finish().metrics.integratedLufs!;
+    }
+    const quad = await integrated(0x33);
+    const unassigned = await integrated(0);
+    expect(quad - unassigned).toBeCloseTo(10 * Math.log10(4.82 / 4), 2);
   });
 });

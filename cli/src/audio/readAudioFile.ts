@@ -68,6 +68,7 @@ export function describeAudioFile(layout: WavLayout): AudioFileInfo {
     bitDepth: layout.bitDepth,
     encoding: layout.encoding,
     totalFrames: layout.totalFrames,
+    channelMask: layout.channelMask,
   };
   return { layout, format, stream, metadata: layout.metadata };
 }

@@ -17,7 +17,7 @@ import { amplitudeToDb, dbOrNull } from "./decibels.ts";
 import { createDropoutDetector } from "./dropouts.ts";
 import { FindingCollector } from "./findings.ts";
 import { createLevelWindows } from "./levelWindows.ts";
-import { createLoudnessMeter } from "./loudness.ts";
+import { createLoudnessMeter, loudnessChannelWeights } from "./loudness.ts";
 import { createNoiseFloorEstimator } from "./noiseFloor.ts";
 import { createSilenceDetector } from "./silence.ts";
 import { createStereoAnalyser } from "./stereo.ts";
@@ -31,7 +31,7 @@ export function createLevelAnalyser(format: StreamFormat, settings: AnalysisSett
   const findings = new FindingCollector();
   const add = (f: Finding) => findings.add(f);
 
-  const loudness = createLoudnessMeter(sampleRateHz, channels);
+  const loudness = createLoudnessMeter(sampleRateHz, channels, loudnessChannelWeights(channels, format.channelMask));
   const truePeak = createTruePeakMeter(sampleRateHz, channels);
   const clipping = createClipDetector(format, settings, (region) => add(clipRegionFinding(region, sampleRateHz)));
   const bitDepth = createBitDepthMeter(format);

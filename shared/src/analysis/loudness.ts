@@ -30,11 +30,27 @@ const SHORT_TERM_SUB_BLOCKS = 30;
 /** Filter states this small are flushed to zero so long silences do not run on subnormal arithmetic. */
 const SUBNORMAL_GUARD = 1e-150;
 
+/** WAVE_FORMAT_EXTENSIBLE speaker bits (Microsoft's KSAUDIO_SPEAKER definitions, from memory). */
+const SPEAKER_LFE = 0x8;
+/** Back left/right, side left/right: the surrounds of 5.1 files, flagged either way in practice. */
+const SPEAKER_SURROUNDS = 0x10 | 0x20 | 0x200 | 0x400;
+
 /**
- * Channel weights G_i of BS.1770-4, Annex 1, Table 3, assuming the WAVE default speaker order
- * (L R C LFE Ls Rs for six channels): surrounds 1.41, LFE excluded. Other layouts weigh every channel 1.0.
+ * Channel weights G_i of BS.1770-4, Annex 1, Table 3: surrounds 1.41, LFE excluded, every other
+ * channel 1.0. With a WAVE_FORMAT_EXTENSIBLE speaker mask the channels feed its set bits in
+ * ascending order, so the mask says which is which; channels beyond its bits weigh 1.0. Without
+ * one, the WAVE default order is assumed (L R C LFE Ls Rs for six channels, L R C Ls Rs for five).
  */
-export function loudnessChannelWeights(channels: number): Float64Array {
+export function loudnessChannelWeights(channels: number, channelMask?: number | null): Float64Array {
+  if (channelMask !== undefined && channelMask !== null && channelMask !== 0) {
+    const weights = new Float64Array(channels).fill(1);
+    let c = 0;
+    for (let bit = 1; bit <= 0x80000000 && c < channels; bit *= 2) {
+      if ((channelMask & bit) === 0) continue;
+      weights[c++] = bit === SPEAKER_LFE ? 0 : (SPEAKER_SURROUNDS & bit) !== 0 ? 1.41 : 1;
+    }
+    return weights;
+  }
   if (channels === 5) return Float64Array.from([1, 1, 1, 1.41, 1.41]);
   if (channels === 6) return Float64Array.from([1, 1, 1, 0, 1.41, 1.41]);
   return new Float64Array(channels).fill(1);

@@ -12,6 +12,8 @@ export interface StreamFormat {
   encoding: Encoding;
   /** Frames the data chunk really holds (after truncation checks); used to lay out time axes. */
   totalFrames: number;
+  /** WAVE_FORMAT_EXTENSIBLE speaker mask (which speaker each channel feeds), when the file has one. */
+  channelMask?: number | null;
 }
 
 /**
