@@ -140,11 +140,20 @@ function voice(text: string, rateHz: number, seed: number, useSpeech: boolean): 
 /** Tape hiss well under the programme: it also carries the spectrum up to Nyquist, as real transfers do. */
 const hiss = (rateHz: number, seed: number, db = -66): Float32Array => whiteNoise({ sampleRateHz: rateHz, seconds: SECONDS, rmsDbfs: db, seed });
 
-/** A sustained choir-like chord (A minor) with slow vibrato and a little breath noise. */
-function choir(rateHz: number, seed: number): Float32Array {
+/**
+ * The chords the choir sings, one a piece. No two share a pitch class (nor so a harmonic), so each piece
+ * is its own recording to the fingerprint; two transfers of one piece are the same recording.
+ */
+const PIECES = {
+  eveningHymn: [220, 261.63, 329.63, 440], // A minor
+  harbourPsalm: [233.08, 277.18, 349.23, 466.16], // B-flat minor
+  lanternCarol: [246.94, 293.66, 369.99, 493.88], // B minor
+};
+
+/** A sustained choir-like chord with slow vibrato and a little breath noise. */
+function choir(rateHz: number, seed: number, notesHz: number[]): Float32Array {
   const n = SECONDS * rateHz;
   const out = new Float32Array(n);
-  const notesHz = [220, 261.63, 329.63, 440];
   const phases = notesHz.map(() => 0);
   for (let i = 0; i < n; i++) {
     const t = i / rateHz;
@@ -218,27 +227,38 @@ function recipes(): Recipe[] {
     },
     {
       path: `${CHOIR}/LCR-01 reel 1 side A.wav`,
-      fault: "none (clean stereo choir, 96 kHz)",
+      fault: "none (clean stereo choir, 96 kHz): the evening hymn",
       encode: { sampleRateHz: 96000, bitDepth: 24 },
-      channels: () => [faded(mix(choir(96000, 21), hiss(96000, 5)), 96000), faded(mix(gainDb(choir(96000, 22), -1), hiss(96000, 6)), 96000)],
+      channels: () => [
+        faded(mix(choir(96000, 21, PIECES.eveningHymn), hiss(96000, 5)), 96000),
+        faded(mix(gainDb(choir(96000, 22, PIECES.eveningHymn), -1), hiss(96000, 6)), 96000),
+      ],
     },
     {
       path: `${CHOIR}/LCR-02 reel 1 side B.wav`,
       fault: "clipping: the chord driven 14 dB into full scale",
       encode: { sampleRateHz: 48000, bitDepth: 24 },
-      channels: () => [hardClip(gainDb(choir(48000, 23), 14)), hardClip(gainDb(choir(48000, 24), 13))],
+      channels: () => [hardClip(gainDb(choir(48000, 23, PIECES.harbourPsalm), 14)), hardClip(gainDb(choir(48000, 24, PIECES.harbourPsalm), 13))],
     },
     {
       path: `${CHOIR}/LCR-03 rehearsal.wav`,
       fault: "padded bit depth: 16-bit content in a 24-bit file",
       encode: { sampleRateHz: 48000, bitDepth: 24 },
-      channels: () => [quantiseTo16Bit(faded(mix(choir(48000, 25), hiss(48000, 7, -60)), 48000)), quantiseTo16Bit(faded(mix(choir(48000, 26), hiss(48000, 8, -60)), 48000))],
+      channels: () => [
+        quantiseTo16Bit(faded(mix(choir(48000, 25, PIECES.lanternCarol), hiss(48000, 7, -60)), 48000)),
+        quantiseTo16Bit(faded(mix(choir(48000, 26, PIECES.lanternCarol), hiss(48000, 8, -60)), 48000)),
+      ],
     },
     {
       path: `${CHOIR}/LCR-04 vigil.rf64`,
-      fault: "none (RF64 container, EBU Tech 3306)",
+      // The vigil is the evening hymn of reel 1 side A, transferred again at 48 kHz into RF64 and 6 dB lower:
+      // the same recording as LCR-01, which the server links as a possible duplicate.
+      fault: "none (RF64 container, EBU Tech 3306); a second transfer of LCR-01's evening hymn",
       encode: { sampleRateHz: 48000, bitDepth: 24, rf64: true },
-      channels: () => [faded(mix(gainDb(choir(48000, 27), -6), hiss(48000, 9)), 48000), faded(mix(gainDb(choir(48000, 28), -7), hiss(48000, 10)), 48000)],
+      channels: () => [
+        faded(mix(gainDb(choir(48000, 27, PIECES.eveningHymn), -6), hiss(48000, 9)), 48000),
+        faded(mix(gainDb(choir(48000, 28, PIECES.eveningHymn), -7), hiss(48000, 10)), 48000),
+      ],
     },
   ];
 }

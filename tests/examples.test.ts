@@ -9,6 +9,7 @@ import path from "node:path";
 import { Ajv2020 } from "ajv/dist/2020.js";
 import { execa } from "execa";
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
+import { createFingerprintIndex, decodeFingerprint, isSameRecording } from "../shared/src/fingerprint/index.ts";
 import type { ScanReport } from "../shared/src/types/report.ts";
 
 const root = path.resolve(import.meta.dirname, "..");
@@ -77,6 +78,21 @@ describe("examples/scan-folder.sh on the demo archive", () => {
     for (const name of ["FTI-01 harbourmaster.wav", "LCR-01 reel 1 side A.wav", "LCR-04 vigil.rf64"]) {
       expect(codes(name, "fail"), name).toEqual([]);
     }
+  });
+
+  it("holds one planted duplicate: LCR-04 is a second transfer of LCR-01, and no other two files match", () => {
+    // The CLI's `match` and the server's ingest decide with the same index scoring and isSameRecording rule.
+    const index = createFingerprintIndex();
+    const fingerprints = new Map(report.files.filter((f) => typeof f.fingerprint === "string").map((f) => [f.path, decodeFingerprint(f.fingerprint!)]));
+    expect(fingerprints.size).toBe(8);
+    for (const [p, fp] of fingerprints) index.add(p, fp);
+    const pairs = new Set<string>();
+    for (const [p, fp] of fingerprints) {
+      for (const m of index.lookup(fp)) {
+        if (m.id !== p && isSameRecording(m.score, fp.hashes.length, fingerprints.get(m.id)!.hashes.length)) pairs.add([p, m.id].sort().join(" = "));
+      }
+    }
+    expect([...pairs]).toEqual(["Lighthouse Choir Reels/LCR-01 reel 1 side A.wav = Lighthouse Choir Reels/LCR-04 vigil.rf64"]);
   });
 
   it("matches the committed examples/sample-report.json in files, verdicts and finding codes", () => {
