@@ -12,12 +12,10 @@
  */
 import { afterAll, beforeAll, expect, it } from "vitest";
 import { QueryTypes } from "sequelize";
-import { FINGERPRINT_GRID, frameTimeSeconds } from "@tidemark/shared/fingerprint/fingerprinter";
 import { encodeFingerprint, FINGERPRINT_VERSION, type Fingerprint } from "@tidemark/shared/fingerprint/index";
-import { hashLandmarks, unpackLandmarkHash } from "@tidemark/shared/fingerprint/landmarks";
 import { seedBulkFileResults } from "../../scripts/seed-bulk.ts";
 import { lookupFingerprint } from "../../server/src/services/duplicatesIndex.ts";
-import { fingerprintOf, programme, withNoise } from "../fixtures/fingerprintSignals.ts";
+import { fingerprintOf, peakStatistics, programme, syntheticFingerprint, withNoise } from "../fixtures/fingerprintSignals.ts";
 import { seededRandom } from "../fixtures/synth.ts";
 import { ingest, scanReport } from "./helpers/reports.ts";
 import { startTestApp, type TestApp } from "./helpers/testApp.ts";
@@ -27,40 +25,6 @@ const FILE_SECONDS = 40;
 const RATE = 22050;
 const LOOKUP_BUDGET_MS = 50; // issue #11
 const ROUNDS = 10;
-
-/** Anchor bins and anchors per second of real fingerprints. */
-function peakStatistics(fps: Fingerprint[]): { bins: Int32Array; peaksPerSecond: number } {
-  const bins: number[] = [];
-  let seconds = 0;
-  for (const fp of fps) {
-    let previous = Number.NaN;
-    for (let i = 0; i < fp.hashes.length; i++) {
-      // Consecutive hashes of one anchor share its time and bin: count each anchor once.
-      const bin = unpackLandmarkHash(fp.hashes[i]).anchorBin;
-      const key = fp.times[i] * 1000 + bin;
-      if (key === previous) continue;
-      previous = key;
-      bins.push(bin);
-    }
-    seconds += fp.durationSeconds;
-  }
-  return { bins: Int32Array.from(bins), peaksPerSecond: bins.length / seconds };
-}
-
-function syntheticFingerprint(rnd: () => number, stats: { bins: Int32Array; peaksPerSecond: number }): Fingerprint {
-  const frameCount = Math.floor(FILE_SECONDS / FINGERPRINT_GRID.hopSeconds);
-  const peaksPerFrame = stats.peaksPerSecond * FINGERPRINT_GRID.hopSeconds;
-  const frames: number[] = [];
-  const bins: number[] = [];
-  for (let f = 0; f < frameCount; f++) {
-    if (rnd() < peaksPerFrame) {
-      frames.push(f);
-      bins.push(stats.bins[Math.floor(rnd() * stats.bins.length)]);
-    }
-  }
-  const { hashes, anchorFrames } = hashLandmarks({ frames: Int32Array.from(frames), bins: Int32Array.from(bins), count: frames.length }, FINGERPRINT_GRID.pairs);
-  return { version: FINGERPRINT_VERSION, hashes, times: Float32Array.from(anchorFrames, frameTimeSeconds), durationSeconds: FILE_SECONDS };
-}
 
 let t: TestApp;
 let originalId: number;
@@ -100,7 +64,7 @@ beforeAll(async () => {
     times = [];
   };
   for (const id of ids) {
-    const fp = syntheticFingerprint(rnd, stats);
+    const fp = syntheticFingerprint(rnd, stats, FILE_SECONDS);
     counts.push(fp.hashes.length);
     for (let i = 0; i < fp.hashes.length; i++) {
       fileIds.push(id);

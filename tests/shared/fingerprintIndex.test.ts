@@ -9,7 +9,6 @@
  * some hashes more common. One indexed file and every query are real fingerprints.
  */
 import { beforeAll, describe, expect, it } from "vitest";
-import { FINGERPRINT_GRID, frameTimeSeconds } from "../../shared/src/fingerprint/fingerprinter.ts";
 import {
   createFingerprintIndex,
   DEFAULT_MIN_SCORE,
@@ -17,54 +16,13 @@ import {
   type Fingerprint,
   type FingerprintIndex,
 } from "../../shared/src/fingerprint/index.ts";
-import { hashLandmarks, unpackLandmarkHash } from "../../shared/src/fingerprint/landmarks.ts";
-import { fingerprintOf, programme } from "../fixtures/fingerprintSignals.ts";
+import { fingerprintOf, peakStatistics, programme, syntheticFingerprint } from "../fixtures/fingerprintSignals.ts";
 import { seededRandom } from "../fixtures/synth.ts";
 
 const RATE = 22050;
 const FILES = 10_000;
 const FILE_SECONDS = 40;
 const LOOKUP_BUDGET_MS = 50; // issue #11
-
-/** Peaks of a real fingerprint: its anchor bins, and the anchor count per second. */
-function peakStatistics(fps: Fingerprint[]): { bins: Int32Array; peaksPerSecond: number } {
-  const bins: number[] = [];
-  let anchors = 0;
-  let seconds = 0;
-  for (const fp of fps) {
-    let previous = Number.NaN;
-    for (let i = 0; i < fp.hashes.length; i++) {
-      // Consecutive hashes of one anchor share its time and bin: count each anchor once.
-      const bin = unpackLandmarkHash(fp.hashes[i]).anchorBin;
-      const key = fp.times[i] * 1000 + bin;
-      if (key === previous) continue;
-      previous = key;
-      bins.push(bin);
-      anchors++;
-    }
-    seconds += fp.durationSeconds;
-  }
-  return { bins: Int32Array.from(bins), peaksPerSecond: anchors / seconds };
-}
-
-function syntheticFingerprint(rnd: () => number, stats: { bins: Int32Array; peaksPerSecond: number }): Fingerprint {
-  const frameCount = Math.floor(FILE_SECONDS / FINGERPRINT_GRID.hopSeconds);
-  const peaksPerFrame = stats.peaksPerSecond * FINGERPRINT_GRID.hopSeconds;
-  const frames: number[] = [];
-  const bins: number[] = [];
-  // Poisson arrivals at the real peak rate, bins from the real peak-frequency distribution.
-  for (let f = 0; f < frameCount; f++) {
-    if (rnd() < peaksPerFrame) {
-      frames.push(f);
-      bins.push(stats.bins[Math.floor(rnd() * stats.bins.length)]);
-    }
-  }
-  const { hashes, anchorFrames } = hashLandmarks(
-    { frames: Int32Array.from(frames), bins: Int32Array.from(bins), count: frames.length },
-    FINGERPRINT_GRID.pairs,
-  );
-  return { version: FINGERPRINT_VERSION, hashes, times: Float32Array.from(anchorFrames, frameTimeSeconds), durationSeconds: FILE_SECONDS };
-}
 
 let index: FingerprintIndex;
 const queries: Fingerprint[] = [];
@@ -77,7 +35,7 @@ beforeAll(() => {
   const rnd = seededRandom(11);
   const started = performance.now();
   index.add("real-1", real[0]);
-  for (let i = 1; i < FILES; i++) index.add(`synthetic-${i}`, syntheticFingerprint(rnd, stats));
+  for (let i = 1; i < FILES; i++) index.add(`synthetic-${i}`, syntheticFingerprint(rnd, stats, FILE_SECONDS));
   log.push(`indexed ${index.files} files, ${index.rows} rows (${stats.peaksPerSecond.toFixed(2)} peaks/s) in ${(performance.now() - started).toFixed(0)} ms`);
   // Queries: a trimmed copy of the indexed real file, and real files that are not indexed.
   const x = programme({ seed: 1, seconds: FILE_SECONDS, sampleRateHz: RATE });

@@ -13,9 +13,8 @@ import { Batch, type User } from "../models/index.ts";
 import { imageKey, newUploadId } from "../storage/objectKeys.ts";
 import { recordAudit } from "./audit.ts";
 import { recordBatchDuplicates } from "./duplicatesIngest.ts";
-import { summariseFindings } from "./findingSummary.ts";
 import type { ImagePart } from "./ingestValidation.ts";
-import { insertFileRows, insertFindingRows, type FileRow } from "./ingestRows.ts";
+import { fileRowOf, insertFileRows, insertFindingRows, type FileRow } from "./ingestRows.ts";
 import { notifyFailingBatch } from "./notifications.ts";
 
 export interface IngestInput {
@@ -140,24 +139,17 @@ async function storeRows(ctx: AppContext, res: Response, input: IngestInput, key
     { transaction },
   );
 
-  const fileRows: FileRow[] = prepared.map(({ file, findings, verdict }, index) => ({
-    previous_id: latest.get(file.path)?.id ?? null,
-    path: file.path,
-    size_bytes: file.sizeBytes,
-    sha256: file.sha256,
-    format: file.format,
-    metadata: file.metadata,
-    metrics: file.metrics,
-    error: file.error,
-    verdict,
-    duration_seconds: file.format?.durationSeconds ?? null,
-    integrated_lufs: file.metrics?.integratedLufs ?? null,
-    true_peak_dbtp: file.metrics?.truePeakDbtp ?? null,
-    worst_findings: summariseFindings(findings),
-    finding_codes: [...new Set(findings.map((f) => f.code))],
-    spectrogram_key: keys.get(`spectrogram:${index}`) ?? null,
-    waveform_key: keys.get(`waveform:${index}`) ?? null,
-  }));
+  const fileRows: FileRow[] = prepared.map(({ file, findings, verdict }, index) =>
+    fileRowOf(
+      file,
+      { findings, verdict },
+      {
+        previousId: latest.get(file.path)?.id ?? null,
+        spectrogramKey: keys.get(`spectrogram:${index}`) ?? null,
+        waveformKey: keys.get(`waveform:${index}`) ?? null,
+      },
+    ),
+  );
   const ids = await insertFileRows(ctx.sequelize, batch.id, collectionId, fileRows, transaction);
   // Appends possible-duplicate findings to `prepared`, so they are inserted with the others below.
   const duplicates = await recordBatchDuplicates(ctx.sequelize, res, collectionId, prepared.map((p, i) => ({ report: p.file, fileResultId: ids[i], findings: p.findings })), transaction);

@@ -5,7 +5,8 @@
  */
 import { QueryTypes, type Sequelize, type Transaction } from "sequelize";
 import type { FindingSummaryDto } from "@tidemark/shared/types/api";
-import type { AudioFormat, FileMetadata, FileMetrics, Finding, ReportError, Verdict } from "@tidemark/shared/types/report";
+import type { AudioFormat, FileMetadata, FileMetrics, FileReport, Finding, ReportError, Verdict } from "@tidemark/shared/types/report";
+import { summariseFindings } from "./findingSummary.ts";
 
 export interface FileRow {
   previous_id: number | null;
@@ -24,6 +25,36 @@ export interface FileRow {
   finding_codes: string[];
   spectrogram_key: string | null;
   waveform_key: string | null;
+}
+
+/**
+ * The row of one report entry, judged: the list columns (duration, loudness, true peak, worst findings,
+ * finding codes) are copied out of the report here, for both the batch upload and a worker's result.
+ */
+export function fileRowOf(
+  file: FileReport,
+  judged: { findings: Finding[]; verdict: Verdict },
+  links: { previousId: number | null; spectrogramKey: string | null; waveformKey: string | null },
+): FileRow {
+  const { findings, verdict } = judged;
+  return {
+    previous_id: links.previousId,
+    path: file.path,
+    size_bytes: file.sizeBytes,
+    sha256: file.sha256,
+    format: file.format,
+    metadata: file.metadata,
+    metrics: file.metrics,
+    error: file.error,
+    verdict,
+    duration_seconds: file.format?.durationSeconds ?? null,
+    integrated_lufs: file.metrics?.integratedLufs ?? null,
+    true_peak_dbtp: file.metrics?.truePeakDbtp ?? null,
+    worst_findings: summariseFindings(findings),
+    finding_codes: [...new Set(findings.map((f) => f.code))],
+    spectrogram_key: links.spectrogramKey,
+    waveform_key: links.waveformKey,
+  };
 }
 
 const CHUNK = 5000;

@@ -17,9 +17,8 @@ import { ScanJob, ScanJobAttempt, ScanRun } from "../queue/models/index.ts";
 import { imageKey, newUploadId } from "../storage/objectKeys.ts";
 import { recordAudit } from "./audit.ts";
 import { recordBatchDuplicates } from "./duplicatesIngest.ts";
-import { summariseFindings } from "./findingSummary.ts";
 import type { ImagePart } from "./ingestValidation.ts";
-import { insertFileRows, insertFindingRows } from "./ingestRows.ts";
+import { fileRowOf, insertFileRows, insertFindingRows } from "./ingestRows.ts";
 import { notifyFailingBatch } from "./notifications.ts";
 import { lockCollection } from "./runs.ts";
 import { closeAttempts } from "./runsJobs.ts";
@@ -108,24 +107,11 @@ async function storeRows(ctx: AppContext, res: Response, jobId: number, input: J
     run.batchId,
     run.collectionId,
     [
-      {
-        previous_id: latest?.id ?? null,
-        path: file.path,
-        size_bytes: file.sizeBytes,
-        sha256: file.sha256,
-        format: file.format,
-        metadata: file.metadata,
-        metrics: file.metrics,
-        error: file.error,
-        verdict,
-        duration_seconds: file.format?.durationSeconds ?? null,
-        integrated_lufs: file.metrics?.integratedLufs ?? null,
-        true_peak_dbtp: file.metrics?.truePeakDbtp ?? null,
-        worst_findings: summariseFindings(findings),
-        finding_codes: [...new Set(findings.map((f) => f.code))],
-        spectrogram_key: keys.get("spectrogram") ?? null,
-        waveform_key: keys.get("waveform") ?? null,
-      },
+      fileRowOf(
+        file,
+        { findings, verdict },
+        { previousId: latest?.id ?? null, spectrogramKey: keys.get("spectrogram") ?? null, waveformKey: keys.get("waveform") ?? null },
+      ),
     ],
     transaction,
   );
