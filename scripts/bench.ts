@@ -7,6 +7,7 @@
  *   npm run bench -- --out result.json     full run (≈ 5 min on 2 cores, ≈ 6 GB of temporary disk)
  *   npm run bench -- --quick               short inputs, one repeat, no 4 GB RF64 or linearity runs
  *   npm run bench -- --stages FILE.wav     in-process time of each analyser part on one file
+ *                                          (--only render,decode: just those stages)
  *
  * Options: --seconds N (main file, default 600), --files N (files for the worker comparison, default 8),
  * --repeats N (default 3), --no-rf64, --no-linearity, --no-white, --only single,white,workers,linearity,rf64
@@ -80,9 +81,12 @@ function parseOptions(argv: string[]): Options {
     else if (a === "--baseline") o.baseline = value();
     else if (a === "--only") {
       o.only = new Set(value().split(","));
-      for (const name of o.only) if (!SECTIONS.includes(name)) throw new Error(`--only takes ${SECTIONS.join(", ")}; got ${name}`);
     }
     else throw new Error(`unknown option ${a} (see the comment at the top of scripts/bench.ts)`);
+  }
+  // With --stages, --only names stages (checked by runStages); otherwise sections.
+  if (o.only && !o.stages) {
+    for (const name of o.only) if (!SECTIONS.includes(name)) throw new Error(`--only takes ${SECTIONS.join(", ")}; got ${name}`);
   }
   if (o.only) {
     o.white &&= o.only.has("white");
@@ -264,7 +268,7 @@ function summarise(samples: ScanSample[], audioSeconds: number, bytes: number): 
 async function main(): Promise<void> {
   const o = parseOptions(process.argv.slice(2));
   if (o.stages) {
-    await runStages(o.stages, o.seconds, o.repeats, null);
+    await runStages(o.stages, o.seconds, o.repeats, o.only ? [...o.only].join(",") : null);
     return;
   }
   const info = machine();

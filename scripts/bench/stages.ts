@@ -112,12 +112,19 @@ export async function runStages(file: string, maxSeconds: number, repeats: numbe
       const r = a.finish();
       const t = cpuMs();
       const { width, height } = settings.spectrogram;
-      encodePng(renderSpectrogramImage(r.spectrogram, { width, height, markers: [], title: "bench.wav" }));
-      encodePng(renderWaveformImage(r.waveform, { width, height: 120, markers: [] }));
+      const spectrogram = renderSpectrogramImage(r.spectrogram, { width, height, markers: [], title: "bench.wav" });
+      const waveform = renderWaveformImage(r.waveform, { width, height: 120, markers: [] });
+      const painted = cpuMs();
+      encodePng(spectrogram);
+      encodePng(waveform);
+      paintMs.push(painted - t);
       renderMs.push(cpuMs() - t);
     },
   };
   const renderMs: number[] = [];
+  const paintMs: number[] = [];
+  const unknown = only?.split(",").filter((name) => !(name in stages)) ?? [];
+  if (unknown.length > 0) throw new Error(`--only with --stages takes ${Object.keys(stages).join(", ")}; got ${unknown.join(", ")}`);
   let decodeMs = 0;
   console.log(`${file}: ${seconds.toFixed(0)} s of ${format.channels} ch ${format.bitDepth}-bit ${format.sampleRateHz} Hz, ${repeats} runs, median CPU ms (decode subtracted)`);
   for (const [name, run] of Object.entries(stages)) {
@@ -132,5 +139,11 @@ export async function runStages(file: string, maxSeconds: number, repeats: numbe
     if (name === "decode") decodeMs = ms;
     else if (name !== "hash" && name !== "render") ms -= decodeMs;
     console.log(`${name.padEnd(14)} ${ms.toFixed(1).padStart(8)} ms ${(seconds / (ms / 1000)).toFixed(0).padStart(8)}x`);
+    if (name === "render") {
+      // Both images of the scan: painting (grid, axes, text) and then PNG encoding.
+      const paint = median(paintMs);
+      console.log(`  paint        ${paint.toFixed(1).padStart(8)} ms`);
+      console.log(`  png          ${(ms - paint).toFixed(1).padStart(8)} ms`);
+    }
   }
 }
