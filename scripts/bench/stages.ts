@@ -26,6 +26,7 @@ import { createDataChunkDecoder } from "@tidemark/shared/wav/dataChunkDecoder";
 import { byteSourceFromBytes } from "@tidemark/shared/wav/byteSource";
 import { readWavLayout } from "@tidemark/shared/wav/wavLayout";
 import { encodePng } from "../../cli/src/render/encodePng.ts";
+import { installFontTypesetter } from "../../cli/src/render/fontTypesetter.ts";
 
 const cpuMs = (): number => {
   const u = process.cpuUsage();
@@ -107,6 +108,7 @@ export async function runStages(file: string, maxSeconds: number, repeats: numbe
       s.finish();
     },
     render: () => {
+      installFontTypesetter();
       const a = createFileAnalysis(format, settings);
       feedBlocks((b) => a.push(b));
       const r = a.finish();

@@ -1,14 +1,18 @@
 import { describe, expect, it } from "vitest";
+import { installFontTypesetter } from "../../cli/src/render/fontTypesetter.ts";
 import { formatClock, formatHz, timeTicks } from "../../shared/src/render/axisTicks.ts";
-import { GLYPH_HEIGHT, textWidthPx } from "../../shared/src/render/bitmapFont.ts";
-import { duskColourMap } from "../../shared/src/render/colourMap.ts";
+import { wracklineColourMap } from "../../shared/src/render/colourMap.ts";
 import { SEVERITY_COLOURS } from "../../shared/src/render/findingMarkers.ts";
 import { SPECTROGRAM_MARGINS, spectrogramPlotArea, WAVEFORM_MARGINS, waveformPlotArea } from "../../shared/src/render/layout.ts";
-import { renderSpectrogramImage, SPECTROGRAM_DB_RANGE, THEME } from "../../shared/src/render/spectrogramImage.ts";
+import { renderSpectrogramImage, SPECTROGRAM_DB_RANGE, TEXT_SIZE_PX, THEME } from "../../shared/src/render/spectrogramImage.ts";
+import { capHeightPx, textWidthPx } from "../../shared/src/render/text.ts";
 import { renderWaveformImage } from "../../shared/src/render/waveformImage.ts";
 import { spectrogramRowLayout } from "../../shared/src/spectral/spectrogramGrid.ts";
 import type { RgbaImage, SpectrogramGrid, WaveformEnvelope } from "../../shared/src/types/analysis.ts";
 import type { Finding } from "../../shared/src/types/report.ts";
+
+// The CLI's typesetter (Source Sans 3 through fontkit and Skia): what a scan draws its labels with.
+installFontTypesetter();
 
 /** A synthetic grid (no analysis involved): `dbOf(column, row)` fills it. */
 function grid(o: {
@@ -62,9 +66,10 @@ describe("renderSpectrogramImage", () => {
     // Log axis: y = bottom − log(f/f0)/log(fN/f0)·height, with f0 = max(20 Hz, one bin) (computed here independently).
     const f0 = Math.max(20, 48000 / 2048);
     const y = Math.round(plot.top + plot.height - (Math.log(1000 / f0) / Math.log(24000 / f0)) * plot.height);
-    const labelWidth = textWidthPx("1k", 2);
+    const labelWidth = textWidthPx("1k", TEXT_SIZE_PX);
+    const cap = capHeightPx(TEXT_SIZE_PX);
     const right = plot.left - 11;
-    expect(inkIn(image, right - labelWidth, y - 7, labelWidth, 14)).toBeGreaterThan(20);
+    expect(inkIn(image, right - labelWidth, y - Math.floor(cap / 2), labelWidth, cap)).toBeGreaterThan(20);
     // Between the 500 and 1k labels the margin stays empty.
     const yBetween = Math.round(plot.top + plot.height - (Math.log(707 / f0) / Math.log(24000 / f0)) * plot.height);
     expect(inkIn(image, 4, yBetween - 3, plot.left - 12, 6)).toBe(0);
@@ -73,8 +78,8 @@ describe("renderSpectrogramImage", () => {
   it("labels the time axis in mm:ss, 00:30 under the middle of a minute", () => {
     const x = plot.left + Math.floor(plot.width / 2);
     const top = plot.top + plot.height + 10;
-    const w = textWidthPx("00:30", 2);
-    expect(inkIn(image, x - w / 2, top, w, GLYPH_HEIGHT * 2)).toBeGreaterThan(30);
+    const w = textWidthPx("00:30", TEXT_SIZE_PX);
+    expect(inkIn(image, Math.round(x - w / 2), top, w, capHeightPx(TEXT_SIZE_PX))).toBeGreaterThan(30);
     expect(formatClock(30, 60, 10)).toBe("00:30");
     expect(formatClock(3723, 7200, 60)).toBe("1:02:03");
     expect(formatClock(1.5, 4, 0.5)).toBe("00:01.5");
@@ -82,7 +87,7 @@ describe("renderSpectrogramImage", () => {
   });
 
   it("draws the dB scale bar from the map's loudest colour at the top to its quietest at the bottom", () => {
-    const lut = duskColourMap();
+    const lut = wracklineColourMap();
     const barX = plot.left + plot.width + 14 + 7;
     expect(pixel(image, barX, plot.top)).toEqual([lut[765], lut[766], lut[767]]);
     expect(pixel(image, barX, plot.top + plot.height - 1)).toEqual([lut[0], lut[1], lut[2]]);
@@ -90,7 +95,7 @@ describe("renderSpectrogramImage", () => {
   });
 
   it("maps dB through the colour map, clamping outside the scale and greying out empty columns", () => {
-    const lut = duskColourMap();
+    const lut = wracklineColourMap();
     const g2 = grid({
       columns: 4,
       rows: 4,

@@ -1,16 +1,16 @@
 /**
- * The spectrogram PNG's pixels: the grid through the Dusk colour map, with a labelled time axis, a
+ * The spectrogram PNG's pixels: the grid through the Wrackline colour map, with a labelled time axis, a
  * frequency axis (log or linear, as the grid was made), a dB scale bar and finding ticks on top.
  * Layout margins are in layout.ts (SPECTROGRAM_MARGINS) for the portal's overlays.
  */
 import type { RgbaImage, SpectrogramGrid } from "../types/analysis.ts";
 import type { Finding } from "../types/report.ts";
 import { dbTicks, linearFrequencyTicks, logFrequencyTicks, timeTicks } from "./axisTicks.ts";
-import { capHeightPx, drawText, fitTextKeepingEnd, textWidthPx } from "./bitmapFont.ts";
-import { COLOUR_MAP_SIZE, duskColourMap } from "./colourMap.ts";
+import { COLOUR_MAP_SIZE, wracklineColourMap } from "./colourMap.ts";
 import { drawFindingMarkers } from "./findingMarkers.ts";
 import { plotXOfSeconds, spectrogramPlotArea, type PlotArea } from "./layout.ts";
 import { createImage, fillRect, strokeRectOutside, type Rgb } from "./raster.ts";
+import { capHeightPx, drawText, fitTextKeepingEnd, textWidthPx } from "./text.ts";
 
 /**
  * Fixed colour scale, dB re full scale per bin (a full-scale sine's bin reads 0). −130 dB sits under
@@ -20,7 +20,8 @@ import { createImage, fillRect, strokeRectOutside, type Rgb } from "./raster.ts"
 export const SPECTROGRAM_DB_RANGE = { minDb: -130, maxDb: 0 } as const;
 const DB_TICK_STEP = 20;
 
-export const TEXT_SCALE = 2;
+/** Font size of every label and the title, px (the em; capitals stand about 11 px). */
+export const TEXT_SIZE_PX = 16;
 export const THEME = {
   background: [14, 18, 24] as Rgb,
   noData: [38, 42, 50] as Rgb,
@@ -57,10 +58,10 @@ export function renderSpectrogramImage(grid: SpectrogramGrid, options: Spectrogr
   strokeRectOutside(image, plot.left, plot.top, plot.width, plot.height, THEME.frame);
   drawScaleBar(image, plot);
   if (options.title) {
-    const cap = capHeightPx(TEXT_SCALE);
+    const cap = capHeightPx(TEXT_SIZE_PX);
     // Kept clear of the "dBFS" unit, which is centred over the bar just right of the plot.
-    const text = fitTextKeepingEnd(options.title, plot.width - 2 * TITLE_CLEARANCE_PX, TEXT_SCALE);
-    drawText(image, text, plot.left, Math.min(UNIT_LABEL_TOP_PX, plot.top - MARKER_WEDGE_PX - cap - 2), THEME.text, { scale: TEXT_SCALE });
+    const text = fitTextKeepingEnd(options.title, plot.width - 2 * TITLE_CLEARANCE_PX, TEXT_SIZE_PX);
+    drawText(image, text, plot.left, Math.min(UNIT_LABEL_TOP_PX, plot.top - MARKER_WEDGE_PX - cap - 2), THEME.text, { sizePx: TEXT_SIZE_PX });
   }
   drawFindingMarkers(image, plot, grid.durationSeconds, options.markers ?? [], MARKER_WEDGE_PX);
   return image;
@@ -87,7 +88,7 @@ const PAINT_TILE_COLUMNS = 32;
  * column every pixel write; a tile keeps both the 32 grid columns and its rows of pixels in cache.
  */
 function paintPlot(image: RgbaImage, plot: PlotArea, grid: SpectrogramGrid): void {
-  const lut = duskColourMap();
+  const lut = wracklineColourMap();
   const { minDb, maxDb } = SPECTROGRAM_DB_RANGE;
   const indexPerDb = (COLOUR_MAP_SIZE - 1) / (maxDb - minDb);
   const rowOf = new Int32Array(plot.height);
@@ -148,7 +149,7 @@ export function frequencyAxis(grid: SpectrogramGrid): FrequencyAxis {
 }
 
 function drawFrequencyAxis(image: RgbaImage, plot: PlotArea, grid: SpectrogramGrid, axis: FrequencyAxis): void {
-  const cap = capHeightPx(TEXT_SCALE);
+  const cap = capHeightPx(TEXT_SIZE_PX);
   const yOf = (hz: number): number => Math.round(plot.top + plot.height - axis.fractionOf(hz) * plot.height);
   const pxOf = (hz: number): number => -yOf(hz);
   const minSpacing = cap + 8;
@@ -164,19 +165,19 @@ function drawFrequencyAxis(image: RgbaImage, plot: PlotArea, grid: SpectrogramGr
     }
     fillRect(image, plot.left - 1 - TICK_LENGTH_PX, y, TICK_LENGTH_PX, 1, THEME.frame);
     drawText(image, t.label, plot.left - 2 - TICK_LENGTH_PX - LABEL_GAP_PX, y - Math.floor(cap / 2), THEME.text, {
-      scale: TEXT_SCALE,
+      sizePx: TEXT_SIZE_PX,
       align: "right",
     });
   }
   drawText(image, "Hz", plot.left - 2 - TICK_LENGTH_PX - LABEL_GAP_PX, UNIT_LABEL_TOP_PX, THEME.mutedText, {
-    scale: TEXT_SCALE,
+    sizePx: TEXT_SIZE_PX,
     align: "right",
   });
 }
 
 function drawTimeAxis(image: RgbaImage, plot: PlotArea, durationSeconds: number): void {
-  const cap = capHeightPx(TEXT_SCALE);
-  const widest = textWidthPx(durationSeconds >= 3600 ? "0:00:00.0" : "00:00.0", TEXT_SCALE);
+  const cap = capHeightPx(TEXT_SIZE_PX);
+  const widest = textWidthPx(durationSeconds >= 3600 ? "0:00:00.0" : "00:00.0", TEXT_SIZE_PX);
   const { ticks } = timeTicks(durationSeconds, plot.width, widest + 28);
   const labelTop = plot.top + plot.height + 1 + TICK_LENGTH_PX + LABEL_GAP_PX;
   for (const t of ticks) {
@@ -185,7 +186,7 @@ function drawTimeAxis(image: RgbaImage, plot: PlotArea, durationSeconds: number)
       fillRect(image, x, plot.top, 1, plot.height, THEME.gridLine, GRID_LINE_ALPHA);
     }
     fillRect(image, x, plot.top + plot.height + 1, 1, TICK_LENGTH_PX, THEME.frame);
-    drawText(image, t.label, x, labelTop, THEME.text, { scale: TEXT_SCALE, align: "center" });
+    drawText(image, t.label, x, labelTop, THEME.text, { sizePx: TEXT_SIZE_PX, align: "center" });
   }
   if (labelTop + cap > image.height) {
     throw new Error(`spectrogram image height leaves no room for time labels (needs ${labelTop + cap} px)`);
@@ -194,7 +195,7 @@ function drawTimeAxis(image: RgbaImage, plot: PlotArea, durationSeconds: number)
 
 /** Vertical colour bar right of the plot, labelled every 20 dB, unit on top. */
 function drawScaleBar(image: RgbaImage, plot: PlotArea): void {
-  const lut = duskColourMap();
+  const lut = wracklineColourMap();
   const { minDb, maxDb } = SPECTROGRAM_DB_RANGE;
   const left = plot.left + plot.width + BAR_GAP_PX;
   for (let y = 0; y < plot.height; y++) {
@@ -203,11 +204,11 @@ function drawScaleBar(image: RgbaImage, plot: PlotArea): void {
     fillRect(image, left, plot.top + y, BAR_WIDTH_PX, 1, [lut[e], lut[e + 1], lut[e + 2]]);
   }
   strokeRectOutside(image, left, plot.top, BAR_WIDTH_PX, plot.height, THEME.frame);
-  const cap = capHeightPx(TEXT_SCALE);
+  const cap = capHeightPx(TEXT_SIZE_PX);
   for (const t of dbTicks(minDb, maxDb, DB_TICK_STEP)) {
     const y = Math.round(plot.top + ((maxDb - t.value) / (maxDb - minDb)) * (plot.height - 1));
     fillRect(image, left + BAR_WIDTH_PX + 1, y, 4, 1, THEME.frame);
-    drawText(image, t.label, left + BAR_WIDTH_PX + 8, y - Math.floor(cap / 2), THEME.text, { scale: TEXT_SCALE });
+    drawText(image, t.label, left + BAR_WIDTH_PX + 8, y - Math.floor(cap / 2), THEME.text, { sizePx: TEXT_SIZE_PX });
   }
-  drawText(image, "dBFS", left + BAR_WIDTH_PX / 2, UNIT_LABEL_TOP_PX, THEME.mutedText, { scale: TEXT_SCALE, align: "center" });
+  drawText(image, "dBFS", left + BAR_WIDTH_PX / 2, UNIT_LABEL_TOP_PX, THEME.mutedText, { sizePx: TEXT_SIZE_PX, align: "center" });
 }

@@ -7,11 +7,11 @@
 import type { RgbaImage, WaveformEnvelope } from "../types/analysis.ts";
 import type { Finding } from "../types/report.ts";
 import { timeTicks } from "./axisTicks.ts";
-import { capHeightPx, drawText } from "./bitmapFont.ts";
 import { drawFindingMarkers, SEVERITY_COLOURS } from "./findingMarkers.ts";
 import { plotXOfSeconds, waveformPlotArea, type PlotArea } from "./layout.ts";
 import { createImage, fillRect, strokeRectOutside, type Rgb } from "./raster.ts";
 import { THEME } from "./spectrogramImage.ts";
+import { capHeightPx, drawText } from "./text.ts";
 
 const PLOT_BACKGROUND: Rgb = [20, 27, 36];
 /** Sea-glass green: far from the severity colours, calm against the dark ground. */
@@ -54,8 +54,8 @@ function yOf(plot: PlotArea, v: number): number {
 }
 
 function drawGuides(image: RgbaImage, plot: PlotArea, durationSeconds: number): void {
-  const scale = plot.height >= 80 ? 2 : 1;
-  const cap = capHeightPx(scale);
+  const sizePx = plot.height >= 80 ? 15 : 11;
+  const cap = capHeightPx(sizePx);
   const labelX = plot.left - 2 - LABEL_GAP_PX;
   const hasRoom = plot.height >= 5 * cap;
   // Full scale (0 dBFS) at the edges, −6 dBFS at half amplitude; the centre line is silence.
@@ -63,12 +63,12 @@ function drawGuides(image: RgbaImage, plot: PlotArea, durationSeconds: number): 
     fillRect(image, plot.left, yOf(plot, v), plot.width, 1, THEME.gridLine, v === 0 ? 0.22 : 0.1);
   }
   if (hasRoom) {
-    drawText(image, "0", labelX, plot.top, THEME.mutedText, { scale, align: "right" });
-    drawText(image, "0", labelX, plot.top + plot.height - cap, THEME.mutedText, { scale, align: "right" });
+    drawText(image, "0", labelX, plot.top, THEME.mutedText, { sizePx, align: "right" });
+    drawText(image, "0", labelX, plot.top + plot.height - cap, THEME.mutedText, { sizePx, align: "right" });
     for (const v of [HALF_SCALE, -HALF_SCALE]) {
-      drawText(image, "-6", labelX, yOf(plot, v) - Math.floor(cap / 2), THEME.mutedText, { scale, align: "right" });
+      drawText(image, "-6", labelX, yOf(plot, v) - Math.floor(cap / 2), THEME.mutedText, { sizePx, align: "right" });
     }
-    drawText(image, "dBFS", labelX, yOf(plot, 0) - Math.floor(cap / 2), THEME.mutedText, { scale, align: "right" });
+    drawText(image, "dBFS", labelX, yOf(plot, 0) - Math.floor(cap / 2), THEME.mutedText, { sizePx, align: "right" });
   }
   // The spectrogram's time gridlines, so the eye can run between the two images.
   const { ticks } = timeTicks(durationSeconds, plot.width, 86);

@@ -1,0 +1,161 @@
+/**
+ * The typesetter our PNGs' labels and titles are drawn with: Source Sans 3 (SIL Open Font License 1.1, from
+ * the @fontsource/source-sans-3 package, read from node_modules: no network), shaped and filled anti-aliased
+ * by Skia through @napi-rs/canvas. The font comes as per-script subsets, registered under names of our own
+ * and listed in fallback order. fontkit reads the same files for their character maps and metrics: a
+ * character none of our subsets holds is drawn as the Latin subset's missing-glyph box (.notdef) by us, so
+ * it neither vanishes nor falls through to whatever fonts the machine has installed.
+ */
+import { readFileSync } from "node:fs";
+import { createRequire } from "node:module";
+import { createCanvas, GlobalFonts, Path2D, type SKRSContext2D } from "@napi-rs/canvas";
+import * as fontkit from "fontkit";
+import type { Font } from "fontkit";
+import { useTypesetter, type TextCoverage, type Typesetter } from "@tidemark/shared/render/text";
+
+/** Subsets in fallback order; Latin first, as its .notdef is the box for characters no subset has. */
+const SUBSETS = ["latin", "latin-ext", "greek", "cyrillic"] as const;
+const WEIGHT = 500;
+
+export interface TypesetterFont {
+  /** The name the file is registered under with Skia (ours, so no installed font is picked by mistake). */
+  family: string;
+  bytes: Uint8Array;
+}
+
+export function fontFilePaths(): string[] {
+  const require = createRequire(import.meta.url);
+  return SUBSETS.map((s) => require.resolve(`@fontsource/source-sans-3/files/source-sans-3-${s}-${WEIGHT}-normal.woff`));
+}
+
+/** The shipped subsets, read from node_modules. */
+export function loadTypesetterFonts(): TypesetterFont[] {
+  return fontFilePaths().map((file, i) => ({ family: `Tidemark Sans ${SUBSETS[i]}`, bytes: readFileSync(file) }));
+}
+
+function parseFont(bytes: Uint8Array, family: string): Font {
+  const parsed = fontkit.create(Buffer.from(bytes.buffer, bytes.byteOffset, bytes.byteLength));
+  if (!("unitsPerEm" in parsed) || !("hasGlyphForCodePoint" in parsed)) throw new Error(`font ${family}: expected a single font, got a collection`);
+  return parsed;
+}
+
+/** A stretch of text Skia sets in our fonts, or one character that none of them has. */
+type Piece = { text: string; missing: false } | { text: string; missing: true };
+
+/** Cached coverages and splits beyond this many are dropped all at once (labels repeat; titles are one per image). */
+const CACHE_LIMIT = 4096;
+
+/** A typesetter over `fonts` (fallback order; the first is the primary, whose .notdef marks a missing character). */
+export function createFontTypesetter(fonts: readonly TypesetterFont[]): Typesetter {
+  if (fonts.length === 0) throw new Error("typesetter needs at least one font, got none");
+  const parsed = fonts.map((f) => parseFont(f.bytes, f.family));
+  for (const f of fonts) {
+    if (!GlobalFonts.register(Buffer.from(f.bytes), f.family)) throw new Error(`font ${f.family}: Skia could not load it`);
+  }
+  const primary = parsed[0];
+  const families = fonts.map((f) => `"${f.family}"`).join(", ");
+  const ascentEm = Math.max(...parsed.map((f) => f.ascent / f.unitsPerEm));
+  const descentEm = Math.max(...parsed.map((f) => -f.descent / f.unitsPerEm));
+  const notdef = primary.getGlyph(0);
+  const notdefPath = new Path2D(notdef.path.toSVG());
+  const notdefAdvanceEm = notdef.advanceWidth / primary.unitsPerEm;
+
+  const splits = new Map<string, Piece[]>();
+  const coverages = new Map<string, TextCoverage>();
+  const measurer = createCanvas(1, 1).getContext("2d");
+
+  const covered = (codePoint: number): boolean => parsed.some((f) => f.hasGlyphForCodePoint(codePoint));
+
+  function split(text: string): Piece[] {
+    const known = splits.get(text);
+    if (known) return known;
+    const pieces: Piece[] = [];
+    let run = "";
+    // File names from macOS arrive decomposed (e + U+0301); the subsets hold the composed letters.
+    for (const ch of text.normalize("NFC")) {
+      if (covered(ch.codePointAt(0) ?? 0)) {
+        run += ch;
+        continue;
+      }
+      if (run !== "") pieces.push({ text: run, missing: false });
+      pieces.push({ text: ch, missing: true });
+      run = "";
+    }
+    if (run !== "") pieces.push({ text: run, missing: false });
+    if (splits.size >= CACHE_LIMIT) splits.clear();
+    splits.set(text, pieces);
+    return pieces;
+  }
+
+  const setFont = (ctx: SKRSContext2D, sizePx: number): void => {
+    ctx.font = `${sizePx}px ${families}`;
+  };
+
+  /** Each piece of `text` with its advance at `sizePx`. */
+  function widths(text: string, sizePx: number): Array<{ piece: Piece; width: number }> {
+    setFont(measurer, sizePx);
+    return split(text).map((piece) => ({ piece, width: piece.missing ? notdefAdvanceEm * sizePx : measurer.measureText(piece.text).width }));
+  }
+
+  function measure(text: string, sizePx: number): number {
+    return widths(text, sizePx).reduce((sum, w) => sum + w.width, 0);
+  }
+
+  // One scratch canvas, grown as needed: a canvas per label costs more than the label.
+  let scratch = createCanvas(256, 64);
+  let ctx = scratch.getContext("2d");
+
+  function rasterise(text: string, sizePx: number): TextCoverage {
+    const key = `${sizePx}\u0000${text}`;
+    const known = coverages.get(key);
+    if (known) return known;
+    const pieces = widths(text, sizePx);
+    // A pixel of room each side for anti-aliased edges and overhanging glyphs.
+    const left = -1;
+    const top = Math.ceil(ascentEm * sizePx) + 1;
+    const height = top + Math.ceil(descentEm * sizePx) + 1;
+    const width = Math.max(1, Math.ceil(pieces.reduce((sum, w) => sum + w.width, 0)) + 3);
+    if (width > scratch.width || height > scratch.height) {
+      scratch = createCanvas(Math.max(width, scratch.width), Math.max(height, scratch.height));
+      ctx = scratch.getContext("2d");
+    }
+    ctx.clearRect(0, 0, width, height);
+    setFont(ctx, sizePx);
+    ctx.fillStyle = "#000";
+    let pen = -left;
+    for (const { piece, width: advance } of pieces) {
+      if (piece.missing) {
+        // Font units are y-up; the canvas is y-down with the baseline at row `top`.
+        const s = sizePx / primary.unitsPerEm;
+        ctx.setTransform(s, 0, 0, -s, pen, top);
+        ctx.fill(notdefPath);
+        ctx.resetTransform();
+      } else {
+        ctx.fillText(piece.text, pen, top);
+      }
+      pen += advance;
+    }
+    const rgba = ctx.getImageData(0, 0, width, height).data;
+    const alpha = new Uint8Array(width * height);
+    for (let i = 0; i < alpha.length; i++) alpha[i] = rgba[4 * i + 3];
+    const coverage = { width, height, left, top, alpha };
+    if (coverages.size >= CACHE_LIMIT) coverages.clear();
+    coverages.set(key, coverage);
+    return coverage;
+  }
+
+  return {
+    measure,
+    capHeight: (sizePx) => (primary.capHeight / primary.unitsPerEm) * sizePx,
+    rasterise,
+  };
+}
+
+let installed = false;
+
+/** Installs the font typesetter for this thread's images (once; the fonts are read and parsed here). */
+export function installFontTypesetter(): void {
+  if (installed) return;
+  useTypesetter(createFontTypesetter(loadTypesetterFonts()));
+  installed = true;
+}
