@@ -1,5 +1,5 @@
 /**
- * The one permission table, mirroring the roles table in the product notes (shared/README.md).
+ * The one permission table: the roles each route allows, as README.md › HTTP API lists them.
  * Routes name a permission; requirePermission() looks the role up here and nowhere else.
  */
 import type { Role } from "@tidemark/shared/types/api";

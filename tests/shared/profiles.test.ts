@@ -1,3 +1,4 @@
+import { readFileSync } from "node:fs";
 import { describe, expect, it } from "vitest";
 import {
   BUILTIN_PROFILES,
@@ -70,6 +71,21 @@ describe("built-in profiles", () => {
       expect(parseProfileJson(JSON.stringify(p), `${p.name}.json`)).toEqual(p);
       expect(p.sources.length).toBeGreaterThan(0);
     }
+  });
+
+  it("cite in their user-visible sources only what the project ships: README sections, no recall marks", () => {
+    const readme = readFileSync(new URL("../../README.md", import.meta.url), "utf8");
+    const headings = new Set([...readme.matchAll(/^#{2,4} (.+)$/gm)].map((m) => m[1].trim()));
+    let readmeCitations = 0;
+    for (const source of BUILTIN_PROFILES.flatMap((p) => p.sources)) {
+      expect(source).not.toMatch(/from memory|shared\/README/i);
+      const cited = /^README › ([^:]+):/.exec(source);
+      if (cited) {
+        expect(headings.has(cited[1]), `README has a section "${cited[1]}"`).toBe(true);
+        readmeCitations++;
+      }
+    }
+    expect(readmeCitations).toBeGreaterThan(0);
   });
 });
 

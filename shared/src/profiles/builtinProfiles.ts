@@ -1,5 +1,7 @@
 /**
- * The three built-in profiles (values as fixed in shared/README.md, with the practice they come from).
+ * The three built-in profiles, as documented in README.md › Profiles, with the practice they come from.
+ * `sources` is shown to users (`tidemark profiles NAME`, reports): it cites documents and the README, and
+ * carries no "from memory" marks; those stay in the comments beside the values.
  * Findings a profile does not name keep the severity the analysers gave them.
  */
 import { profileSchema, type Profile, type ProfileInput } from "./profileSchema.ts";
@@ -36,9 +38,10 @@ const preservationMaster: ProfileInput = {
   description:
     "Preservation masters: linear PCM, at least 48 kHz (96 kHz recommended) and 24-bit, no clipping, " +
     "no padded bit depth, small DC offset. No loudness target: masters are not normalised.",
+  // IASA TC-04's rates and depths are from memory.
   sources: [
-    "IASA TC-04 (2nd ed., 2009): 48 kHz / 24-bit minimum for analogue transfers, 96 kHz recommended (from memory)",
-    "shared/README.md: |DC| < 0.1 % FS warn / 1 % fail",
+    "IASA TC-04 (2nd ed., 2009): 48 kHz / 24-bit minimum for analogue transfers, 96 kHz recommended",
+    "README › Profiles: |DC| < 0.1 % FS warn / 1 % fail (common practice)",
   ],
   format: { encodings: ["pcm"], minSampleRateHz: 48000, minBitDepth: 24 },
   thresholds: { dcOffsetPercent: DC_OFFSET_LIMITS },
