@@ -3,6 +3,7 @@ import { fireEvent, screen, waitFor, within } from "@testing-library/react";
 import type { FileDetailDto, Role } from "@tidemark/shared/types/api";
 import { deferred, stubFetch, type StubReply } from "./fetchStub.ts";
 import { SPECTROGRAM_MARGINS } from "@tidemark/shared/render/layout";
+import { wracklineHex } from "@tidemark/shared/render/colourMap";
 import { fileDetail, user } from "./fixtures.ts";
 import { placeFindings } from "../../web/src/components/file/plotGeometry.ts";
 import { renderApp } from "./renderApp.tsx";
@@ -48,6 +49,22 @@ describe("File page", () => {
     fireEvent.click(within(screen.getByRole("region", { name: /Findings/ })).getByRole("button", { name: "0:30.00 – 0:30.50" }));
     expect(marker.getAttribute("aria-pressed")).toBe("true");
     expect(within(screen.getByRole("region", { name: /Findings/ })).getByRole("button", { name: "whole file" })).toHaveProperty("disabled", true);
+  });
+
+  it("keys the spectrogram's level colours with the same map as the PNG, quiet to loud", async () => {
+    serve("technician");
+    renderApp("/files/7");
+    await screen.findByRole("heading", { name: "ferry/interview-07.wav" });
+    const scale = screen.getByRole("img", { name: /^colour scale from −130 dBFS.* to 0 dBFS/ });
+    const gradient = scale.style.backgroundImage;
+    // The map's first and last colours at the gradient's ends (jsdom may spell them as rgb()).
+    const rgb = (hex: string) => `rgb(${[1, 3, 5].map((i) => parseInt(hex.slice(i, i + 2), 16)).join(", ")})`;
+    const ends = [wracklineHex(0), wracklineHex(1)];
+    expect(gradient.startsWith("linear-gradient(to right, ")).toBe(true);
+    const stops = gradient.slice("linear-gradient(to right, ".length, -1);
+    expect(stops.startsWith(ends[0]) || stops.startsWith(rgb(ends[0]))).toBe(true);
+    expect(stops.endsWith(`${ends[1]} 100%`) || stops.endsWith(`${rgb(ends[1])} 100%`)).toBe(true);
+    expect(scale.closest("figure")?.textContent).toContain("−130");
   });
 
   it("cautions about the volume when the findings say the file is loud or clicks, and not otherwise", async () => {

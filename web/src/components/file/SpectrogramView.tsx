@@ -1,6 +1,8 @@
 import { useState, type CSSProperties } from "react";
 import type { FindingDto } from "@tidemark/shared/types/api";
 import type { Severity } from "@tidemark/shared/types/report";
+import { wracklineCssGradient } from "@tidemark/shared/render/colourMap";
+import { SPECTROGRAM_DB_RANGE } from "@tidemark/shared/render/spectrogramImage";
 import { formatTimestamp } from "../../format/units.ts";
 import { placeFindings, plotAreaInset, type TimedFinding, SPECTROGRAM_MARGINS, WAVEFORM_MARGINS, type Margins, type NaturalSize } from "./plotGeometry.ts";
 
@@ -163,6 +165,7 @@ export function SpectrogramView({ spectrogramUrl, waveformUrl, path, durationSec
         <LegendSwatch color="var(--color-marker-warn)" label="warn" />
         <LegendSwatch color="var(--color-marker-info)" label="info" />
         <LegendSwatch color="var(--color-marker-selected)" label="selected" />
+        {spectrogramUrl && <LevelLegend />}
       </figcaption>
     </figure>
   );
@@ -173,6 +176,26 @@ function LegendSwatch({ color, label }: { color: string; label: string }) {
     <span className="inline-flex items-center gap-1">
       <span aria-hidden="true" className="inline-block h-3 w-1.5 rounded-sm" style={{ backgroundColor: color }} />
       {label}
+    </span>
+  );
+}
+
+const dbText = (db: number): string => (db < 0 ? `\u2212${-db}` : String(db));
+
+/** The spectrogram's level colours (Tidemark's Wrackline map, as in the PNG's own scale bar), quietest left. */
+function LevelLegend() {
+  const { minDb, maxDb } = SPECTROGRAM_DB_RANGE;
+  return (
+    <span className="inline-flex items-center gap-1 sm:ml-auto" data-level-legend>
+      <span>Level:</span>
+      <span>{dbText(minDb)}</span>
+      <span
+        role="img"
+        aria-label={`colour scale from ${dbText(minDb)} dBFS, dark rust, through olive and green to ${dbText(maxDb)} dBFS, pale foam`}
+        className="inline-block h-3 w-28 rounded-sm"
+        style={{ backgroundImage: wracklineCssGradient("to right") }}
+      />
+      <span>{dbText(maxDb)} dBFS</span>
     </span>
   );
 }
