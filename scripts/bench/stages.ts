@@ -114,7 +114,7 @@ export async function runStages(file: string, maxSeconds: number, repeats: numbe
       const r = a.finish();
       const t = cpuMs();
       const { width, height } = settings.spectrogram;
-      const spectrogram = renderSpectrogramImage(r.spectrogram, { width, height, markers: [], title: "bench.wav" });
+      const spectrogram = renderSpectrogramImage(r.spectrogram, { width, height, markers: [], title: `bench-${renderMs.length}.wav` });
       const waveform = renderWaveformImage(r.waveform, { width, height: 120, markers: [] });
       const painted = cpuMs();
       encodePng(spectrogram);

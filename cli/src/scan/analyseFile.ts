@@ -16,7 +16,6 @@ import type { AnalysisSettings } from "@tidemark/shared/types/settings";
 import { readerFindings } from "@tidemark/shared/wav/readerFindings";
 import { readAudioFile, type AudioFileResult } from "../audio/readAudioFile.ts";
 import { encodePng } from "../render/encodePng.ts";
-import { installFontTypesetter } from "../render/fontTypesetter.ts";
 import { oneLine } from "../errors.ts";
 import { errorReport } from "./errorReport.ts";
 import { spectrogramPaths, type SpectrogramTarget } from "./spectrogramPaths.ts";
@@ -83,7 +82,8 @@ async function writeImages(
   timings: AnalyseTimings,
 ): Promise<string> {
   const paths = spectrogramPaths(target, task.relPath);
-  installFontTypesetter();
+  // Loaded on the first image only: Skia and fontkit cost a scan without images nothing.
+  (await import("../render/fontTypesetter.ts")).installFontTypesetter();
   const { width, height } = settings.spectrogram;
   const markers = findings.filter((f) => f.startSeconds !== null && f.severity !== "info");
   const png = (paint: () => RgbaImage): Buffer => {
