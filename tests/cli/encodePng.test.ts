@@ -2,6 +2,7 @@ import { execFileSync } from "node:child_process";
 import { PNG } from "pngjs";
 import { describe, expect, it } from "vitest";
 import { encodePng } from "../../cli/src/render/encodePng.ts";
+import { installFontTypesetter } from "../../cli/src/render/fontTypesetter.ts";
 import { renderSpectrogramImage } from "../../shared/src/render/spectrogramImage.ts";
 import { renderWaveformImage } from "../../shared/src/render/waveformImage.ts";
 import { createSpectralAnalyser } from "../../shared/src/spectral/spectralAnalyser.ts";
@@ -63,6 +64,9 @@ describe("encodePng", () => {
     expect(() => encodePng({ width: 0, height: 10, data: new Uint8Array(0) })).toThrow(/positive whole pixels, got 0×10/);
   });
 });
+
+// The CLI's typesetter, installed before any timing: what a scan does on its first image.
+installFontTypesetter();
 
 /** CPU time of this test process (vitest runs each file in its own fork), so parallel test files do not count. */
 const cpuMs = (): number => {

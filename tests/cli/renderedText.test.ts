@@ -168,8 +168,13 @@ describe("the font typesetter", () => {
     expect(pkg.license).toBe("OFL-1.1");
   });
 
-  it("has a glyph of its own for every Latin-1 letter and every Greek letter", () => {
-    const letters = [..."ÀÁÂÃÄÅÆÇÈÉÊËÌÍÎÏÐÑÒÓÔÕÖØÙÚÛÜÝÞßàáâãäåæçèéêëìíîïðñòóôõöøùúûüýþÿ", ..."ΑΒΓΔΕΖΗΘΙΚΛΜΝΞΟΠΡΣΤΥΦΧΨΩαβγδεζηθικλμνξοπρςστυφχψωάέήίόύώ"];
+  it("has a glyph of its own for every Latin-1 and Greek letter, and for Latin Extended and Cyrillic ones", () => {
+    const letters = [
+      ..."ÀÁÂÃÄÅÆÇÈÉÊËÌÍÎÏÐÑÒÓÔÕÖØÙÚÛÜÝÞßàáâãäåæçèéêëìíîïðñòóôõöøùúûüýþÿ",
+      ..."ΑΒΓΔΕΖΗΘΙΚΛΜΝΞΟΠΡΣΤΥΦΧΨΩαβγδεζηθικλμνξοπρςστυφχψωάέήίόύώ",
+      ..."ŁłŐőČčŠšŽžĘęŚśŻż",
+      ..."АБВГДЕЖЗИЙКЛМНОПРСТУФХЦЧШЩЪЫЬЭЮЯабвгдежзийклмнопрстуфхцчшщъыьэюяё",
+    ];
     for (const ch of letters) {
       const c = typesetter.rasterise(ch, TEXT_SIZE_PX);
       expect(inkOf(c), `ink of ${ch}`).toBeGreaterThan(0);
