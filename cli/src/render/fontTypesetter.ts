@@ -40,10 +40,15 @@ function parseFont(bytes: Uint8Array, family: string): Font {
 }
 
 /** A stretch of text Skia sets in our fonts, or one character that none of them has. */
-type Piece = { text: string; missing: false } | { text: string; missing: true };
+interface Piece {
+  text: string;
+  missing: boolean;
+}
 
-/** Cached coverages and splits beyond this many are dropped all at once (labels repeat; titles are one per image). */
-const CACHE_LIMIT = 4096;
+/** Cached coverages and splits beyond this many are dropped all at once. */
+const CACHE_LIMIT = 512;
+/** Axis labels repeat from image to image and are cached; a title (one per file) is larger than this and is not. */
+const CACHED_MASK_MAX_PX = 64 * 64;
 
 /** A typesetter over `fonts` (fallback order; the first is the primary, whose .notdef marks a missing character). */
 export function createFontTypesetter(fonts: readonly TypesetterFont[]): Typesetter {
@@ -139,8 +144,10 @@ export function createFontTypesetter(fonts: readonly TypesetterFont[]): Typesett
     const alpha = new Uint8Array(width * height);
     for (let i = 0; i < alpha.length; i++) alpha[i] = rgba[4 * i + 3];
     const coverage = { width, height, left, top, alpha };
-    if (coverages.size >= CACHE_LIMIT) coverages.clear();
-    coverages.set(key, coverage);
+    if (alpha.length <= CACHED_MASK_MAX_PX) {
+      if (coverages.size >= CACHE_LIMIT) coverages.clear();
+      coverages.set(key, coverage);
+    }
     return coverage;
   }
 
