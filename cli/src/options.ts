@@ -8,7 +8,7 @@ import { REPORT_FORMATS, type ReportFormat } from "@tidemark/shared/report/repor
 
 export { REPORT_FORMATS, type ReportFormat };
 
-/** Matched case-insensitively against file names (shared/README.md: WAV, BWF, RF64 transfers). */
+/** Matched case-insensitively against file names (README › Supported formats). */
 export const DEFAULT_INCLUDE_GLOBS = ["*.wav", "*.bwf", "*.rf64"] as const;
 
 export const MAX_WORKERS = 64;
@@ -70,8 +70,17 @@ export interface UploadTarget {
   batchKey: string | null;
 }
 
+/** `--fail-on`: the verdict from which a run exits 1. */
+export const FAIL_ON_LEVELS = ["fail", "warn"] as const;
+
+/** `--progress`: auto shows a live line on a terminal only; json writes one JSON object a line to stderr. */
+export const PROGRESS_MODES = ["auto", "json"] as const;
+export type ProgressMode = (typeof PROGRESS_MODES)[number];
+
 export interface ScanOptions {
   profile: string;
+  /** Whether the profile was asked for, came from tidemark.json, or is the built-in default. */
+  profileFrom: "flag" | "tidemark.json" | "default";
   /** null: table on a TTY, else from --out's extension, else json. */
   format: ReportFormat | null;
   out: string | null;
@@ -83,6 +92,8 @@ export interface ScanOptions {
   exclude: string[];
   resume: string | null;
   quiet: boolean;
+  progress: ProgressMode;
+  failOn: "fail" | "warn";
   /** null unless --upload was given. */
   upload: UploadTarget | null;
 }
@@ -92,6 +103,23 @@ export interface VerifyOptions {
   include: string[];
   exclude: string[];
   json: boolean;
+  quiet: boolean;
+  progress: ProgressMode;
+}
+
+/** `tidemark init`: what to write into tidemark.json (null: ask on a terminal, else leave out). */
+export interface InitOptions {
+  profile: string | null;
+  collection: string | null;
+  server: string | null;
+  include: string[];
+  exclude: string[];
+  spectrograms: string | null;
+  failOn: "fail" | "warn" | null;
+  /** Overwrite an existing tidemark.json. */
+  force: boolean;
+  /** Ask nothing, even on a terminal. */
+  yes: boolean;
 }
 
 export interface UploadOptions extends UploadTarget {

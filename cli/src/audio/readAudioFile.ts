@@ -42,6 +42,8 @@ export interface ReadAudioFileOptions {
   /** Frames per block handed to the consumer (default 65536). */
   blockFrames?: number;
   signal?: AbortSignal;
+  /** Called after each read with the bytes read so far (progress within a long file). */
+  onRead?: (bytesRead: number) => void;
   /**
    * Called once the header is read. Return a block consumer to have the audio decoded; it gets every block
    * in order, and the block's arrays are reused afterwards (copy what you keep). Return nothing to only hash.
@@ -154,6 +156,7 @@ async function readOpenFile(
       const chunkOffset = position;
       position += bytesRead;
       opts.signal?.throwIfAborted();
+      opts.onRead?.(position);
       // Start the next read into the other buffer before working on this one.
       if (position < sizeBytes) pending = readInto(buffers[1 - current], position);
       const t1 = performance.now();

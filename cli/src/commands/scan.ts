@@ -5,20 +5,21 @@
 import { mkdir, mkdtemp, rename, rm, stat, writeFile } from "node:fs/promises";
 import { tmpdir } from "node:os";
 import path from "node:path";
-import { assembleReport, hasFailures } from "@tidemark/shared/report/assembleReport";
+import { assembleReport } from "@tidemark/shared/report/assembleReport";
 import { reportToJson } from "@tidemark/shared/report/jsonReport";
 import { reportWriters, type ReportFormat } from "@tidemark/shared/report/reportFormats";
 import type { FileReport, ScanReport } from "@tidemark/shared/types/report";
 import { resolveCredentials } from "../config/storedLogin.ts";
-import { EXIT_CODES, UsageError } from "../errors.ts";
+import { EXIT_CODES, scanExitCode, UsageError } from "../errors.ts";
 import type { CliIo } from "../io.ts";
 import type { ScanOptions, UploadTarget } from "../options.ts";
 import { loadProfile } from "../profiles/loadProfile.ts";
 import type { ScanContext } from "../scan/analyseFile.ts";
 import { errorReport } from "../scan/errorReport.ts";
 import { crawlFiles } from "../scan/crawlFiles.ts";
+import { junitSuitesOf } from "../scan/scanRoots.ts";
 import { watchInterrupts } from "../scan/interruption.ts";
-import { createScanProgress } from "../scan/progress.ts";
+import { createScanProgress, progressDisplay } from "../scan/progress.ts";
 import { openResumeState, type ResumeState } from "../scan/resumeState.ts";
 import { runScan } from "../scan/runScan.ts";
 import { toolInfo } from "../toolInfo.ts";
@@ -63,8 +64,8 @@ async function uploadReport(report: ScanReport, target: UploadTarget, defaultCol
   }
   if (outcome.kind === "spooled") {
     log(`${outcome.reason}`);
-    log(`the batch is kept in ${outcome.dir}; send it later with: tidemark upload --spool`);
-    return EXIT_CODES.ok;
+    log(`not delivered: the batch is kept in ${outcome.dir}; send it later with: tidemark upload --spool`);
+    return EXIT_CODES.notDelivered;
   }
   log(outcome.reason);
   if (outcome.spooledDir) log(`the batch is kept in ${outcome.spooledDir}; fix the cause, then: tidemark upload --spool`);
@@ -109,7 +110,13 @@ export async function scanCommand(paths: string[], options: ScanOptions, io: Cli
     });
   }
 
-  const progress = createScanProgress({ total: crawl.files.length, alreadyDone: 0, stream: io.stderr as NodeJS.WritableStream, enabled: !options.quiet });
+  const progress = createScanProgress({
+    total: crawl.files.length,
+    totalBytes: crawl.files.reduce((n, f) => n + f.sizeBytes, 0),
+    alreadyDone: 0,
+    stream: io.stderr as NodeJS.WritableStream,
+    display: progressDisplay(options.quiet, options.progress),
+  });
   for (const p of crawl.problems) progress.note(`tidemark: ${p.code}: ${p.message}`);
   if (crawl.files.length === 0 && crawl.problems.length === 0) {
     progress.note(`tidemark: warning: no files matching ${options.include.join(" ")} under ${paths.join(" ")}`);
@@ -134,9 +141,14 @@ export async function scanCommand(paths: string[], options: ScanOptions, io: Cli
   );
   // Images drawn only for the upload are not part of what the user asked to see.
   const shown = temporaryImagesDir ? { ...report, files: report.files.map((f) => ({ ...f, spectrogram: null })) } : report;
-  const text = reportWriters[format](shown);
+  const text = reportWriters[format](shown, { suites: junitSuitesOf(paths, crawl.rootDir, io.cwd), failOn: options.failOn });
   if (outAbs) await writeAtomically(outAbs, text);
   else io.stdout.write(text);
+  if (options.profileFrom === "default" && !options.quiet) {
+    io.stderr.write(
+      `tidemark: judged with the default profile ${loaded.profile.name}; for preservation masters give --profile preservation-master or set "profile" in tidemark.json (tidemark init)\n`,
+    );
+  }
 
   if (result.interrupted) {
     if (temporaryImagesDir) await rm(temporaryImagesDir, { recursive: true, force: true });
@@ -154,5 +166,5 @@ export async function scanCommand(paths: string[], options: ScanOptions, io: Cli
     if (temporaryImagesDir) await rm(temporaryImagesDir, { recursive: true, force: true });
   }
   if (uploadCode !== EXIT_CODES.ok) return uploadCode;
-  return hasFailures(report.summary) ? EXIT_CODES.failed : EXIT_CODES.ok;
+  return scanExitCode(report.summary, options.failOn);
 }

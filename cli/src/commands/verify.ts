@@ -1,6 +1,7 @@
 /**
  * `tidemark verify <paths> --against REPORT.json`: fixity check. Recomputes each file's SHA-256 and
- * compares it with the earlier report: changed, missing, new and unreadable files are listed.
+ * compares it with the earlier report: changed, missing, moved, new and unreadable files are listed. Files
+ * are matched on their paths whichever folder verify runs from (fixity/matchPaths.ts), then by SHA-256.
  */
 import { readFile } from "node:fs/promises";
 import path from "node:path";
@@ -9,7 +10,9 @@ import { EXIT_CODES, UsageError } from "../errors.ts";
 import { sha256OfFile } from "../fixity/hashFile.ts";
 import type { CliIo } from "../io.ts";
 import type { VerifyOptions } from "../options.ts";
+import { alignPaths } from "../fixity/matchPaths.ts";
 import { crawlFiles, type CrawledFile } from "../scan/crawlFiles.ts";
+import { createScanProgress, progressDisplay, type ScanProgress } from "../scan/progress.ts";
 
 export interface FixityComparison {
   against: string;
@@ -17,6 +20,8 @@ export interface FixityComparison {
   changed: { path: string; expectedSha256: string; actualSha256: string }[];
   missing: string[];
   new: string[];
+  /** Same SHA-256 at another path: the earlier report's path and where the file is now. */
+  moved: { from: string; to: string }[];
   /** Hashed in the earlier report, but cannot be read now. */
   unreadable: { path: string; reason: string }[];
   /** Could not be read at the earlier scan either: nothing to compare with. */
@@ -49,40 +54,77 @@ export async function readReport(file: string, cwd: string): Promise<{ report: S
 
 const HASH_CONCURRENCY = 2;
 
-async function hashAll(files: readonly CrawledFile[]): Promise<Map<string, string | Error>> {
+async function hashAll(files: readonly CrawledFile[], progress: ScanProgress): Promise<Map<string, string | Error>> {
   const out = new Map<string, string | Error>();
   let next = 0;
   const lane = async (): Promise<void> => {
     while (next < files.length) {
       const file = files[next++];
-      out.set(file.relPath, await sha256OfFile(file.absPath).catch((e: unknown) => (e instanceof Error ? e : new Error(String(e)))));
+      progress.fileStarted(file.relPath);
+      const hash = await sha256OfFile(file.absPath, (bytes) => progress.fileBytes(file.relPath, bytes)).catch((e: unknown) =>
+        e instanceof Error ? e : new Error(String(e)),
+      );
+      out.set(file.relPath, hash);
+      progress.fileDone(file.relPath, 0, file.sizeBytes);
     }
   };
   await Promise.all(Array.from({ length: HASH_CONCURRENCY }, lane));
   return out;
 }
 
+const toPosix = (p: string): string => p.split(path.sep).join("/");
+
 export async function compareFixity(paths: string[], options: VerifyOptions, io: CliIo): Promise<FixityComparison> {
   const { report } = await readReport(options.against, io.cwd);
   const crawl = await crawlFiles(paths, { include: options.include, exclude: options.exclude, cwd: io.cwd });
   const earlier = new Map(report.files.map((f) => [f.path, f]));
-  const toHash = crawl.files.filter((f) => earlier.get(f.relPath)?.sha256);
-  const hashes = await hashAll(toHash);
-  const result: FixityComparison = { against: options.against, unchanged: [], changed: [], missing: [], new: [], unreadable: [], unverifiable: [] };
-  const present = new Set<string>();
+  const { matches, inScope } = alignPaths(
+    crawl.files.map((f) => ({ relPath: f.relPath, absPosix: toPosix(f.absPath) })),
+    new Set(earlier.keys()),
+  );
+  const earlierOf = new Map(matches.map((m) => [m.relPath, m.earlier]));
+  const claimed = new Set(matches.flatMap((m) => (m.earlier === null ? [] : [m.earlier])));
+  // Files that may have moved: today's unmatched files are hashed too when an earlier file went unclaimed.
+  const unclaimedHashes = new Map<string, string>();
+  for (const f of report.files) if (f.sha256 && !claimed.has(f.path) && inScope(f.path)) unclaimedHashes.set(f.sha256, f.path);
+  const toHash = crawl.files.filter((f) => {
+    const before = earlierOf.get(f.relPath);
+    return before ? Boolean(earlier.get(before)?.sha256) : unclaimedHashes.size > 0;
+  });
+  const progress = createScanProgress({
+    total: toHash.length,
+    totalBytes: toHash.reduce((n, f) => n + f.sizeBytes, 0),
+    alreadyDone: 0,
+    stream: io.stderr as NodeJS.WritableStream,
+    display: progressDisplay(options.quiet, options.progress),
+  });
+  let hashes: Map<string, string | Error>;
+  try {
+    hashes = await hashAll(toHash, progress);
+  } finally {
+    progress.stop();
+  }
+
+  const result: FixityComparison = { against: options.against, unchanged: [], changed: [], missing: [], new: [], moved: [], unreadable: [], unverifiable: [] };
+  const present = new Set<string>(claimed);
   for (const file of crawl.files) {
-    present.add(file.relPath);
-    const before = earlier.get(file.relPath);
-    if (!before) {
-      result.new.push(file.relPath);
+    const beforePath = earlierOf.get(file.relPath) ?? null;
+    const now = hashes.get(file.relPath);
+    if (beforePath === null) {
+      const from = typeof now === "string" ? unclaimedHashes.get(now) : undefined;
+      if (from !== undefined) {
+        unclaimedHashes.delete(now as string);
+        present.add(from);
+        result.moved.push({ from, to: file.relPath });
+      } else {
+        result.new.push(file.relPath);
+      }
       continue;
     }
+    const before = earlier.get(beforePath)!;
     if (!before.sha256) {
       result.unverifiable.push(file.relPath);
-      continue;
-    }
-    const now = hashes.get(file.relPath);
-    if (now instanceof Error || now === undefined) {
+    } else if (now instanceof Error || now === undefined) {
       result.unreadable.push({ path: file.relPath, reason: now instanceof Error ? now.message : "not hashed" });
     } else if (now === before.sha256) {
       result.unchanged.push(file.relPath);
@@ -91,10 +133,12 @@ export async function compareFixity(paths: string[], options: VerifyOptions, io:
     }
   }
   for (const p of crawl.problems) {
-    present.add(p.relPath);
-    if (earlier.get(p.relPath)?.sha256) result.unreadable.push({ path: p.relPath, reason: p.message });
+    const tail = [...earlier.keys()].find((e) => e === p.relPath || toPosix(p.absPath).endsWith(`/${e}`));
+    if (tail === undefined) continue;
+    present.add(tail);
+    if (earlier.get(tail)?.sha256) result.unreadable.push({ path: p.relPath, reason: p.message });
   }
-  for (const f of report.files) if (!present.has(f.path) && f.sha256) result.missing.push(f.path);
+  for (const f of report.files) if (!present.has(f.path) && f.sha256 && inScope(f.path)) result.missing.push(f.path);
   return result;
 }
 
@@ -103,10 +147,11 @@ export function fixityText(c: FixityComparison): string {
   for (const x of c.changed) lines.push(`changed     ${x.path}  (sha256 was ${x.expectedSha256.slice(0, 16)}…, now ${x.actualSha256.slice(0, 16)}…)`);
   for (const p of c.missing) lines.push(`missing     ${p}`);
   for (const x of c.unreadable) lines.push(`unreadable  ${x.path}  (${x.reason})`);
+  for (const x of c.moved) lines.push(`moved       ${x.from} → ${x.to}  (same SHA-256)`);
   for (const p of c.new) lines.push(`new         ${p}`);
   for (const p of c.unverifiable) lines.push(`unverified  ${p}  (no SHA-256 in the earlier report: it could not be read then)`);
   lines.push(
-    `${c.unchanged.length} unchanged, ${c.changed.length} changed, ${c.missing.length} missing, ${c.unreadable.length} unreadable, ${c.new.length} new (against ${c.against})`,
+    `${c.unchanged.length} unchanged, ${c.changed.length} changed, ${c.missing.length} missing, ${c.unreadable.length} unreadable, ${c.new.length} new, ${c.moved.length} moved (against ${c.against})`,
   );
   return `${lines.join("\n")}\n`;
 }
@@ -114,6 +159,6 @@ export function fixityText(c: FixityComparison): string {
 export async function verifyCommand(paths: string[], options: VerifyOptions, io: CliIo): Promise<number> {
   const comparison = await compareFixity(paths, options, io);
   io.stdout.write(options.json ? `${JSON.stringify(comparison, null, 2)}\n` : fixityText(comparison));
-  const bad = comparison.changed.length + comparison.missing.length + comparison.unreadable.length;
-  return bad > 0 ? EXIT_CODES.failed : EXIT_CODES.ok;
+  if (comparison.changed.length + comparison.missing.length > 0) return EXIT_CODES.failed;
+  return comparison.unreadable.length > 0 ? EXIT_CODES.unreadable : EXIT_CODES.ok;
 }

@@ -106,7 +106,12 @@ async function writeImages(
 }
 
 /** `signal` stops the read mid-file; an aborted file rejects instead of being reported as unreadable. */
-export async function analyseFile(task: AnalyseTask, ctx: ScanContext, signal?: AbortSignal): Promise<AnalysedFile> {
+export async function analyseFile(
+  task: AnalyseTask,
+  ctx: ScanContext,
+  signal?: AbortSignal,
+  onRead?: (bytesRead: number) => void,
+): Promise<AnalysedFile> {
   const timingsMs: AnalyseTimings = { read: 0, decode: 0, hash: 0, analyse: 0, level: 0, spectral: 0, fingerprint: 0, render: 0, paint: 0, png: 0 };
   let analysis: BlockAnalyser<FileAnalysisResult> | null = null;
   let analyseMs = 0;
@@ -114,6 +119,7 @@ export async function analyseFile(task: AnalyseTask, ctx: ScanContext, signal?: 
   try {
     read = await readAudioFile(task.absPath, {
       signal,
+      onRead,
       onOpen: (info) => {
         const a = createFileAnalysis(info.stream, ctx.settings, { clock: () => performance.now(), fingerprint: ctx.fingerprint });
         analysis = a;

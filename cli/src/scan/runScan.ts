@@ -87,7 +87,9 @@ export async function runScan(options: RunScanOptions): Promise<RunScanResult> {
 
   const measure = async (file: CrawledFile): Promise<{ report: FileReport; seconds: number } | null> => {
     try {
-      const result = await pool.run({ kind: "analyse", absPath: file.absPath, relPath: file.relPath, sizeBytes: file.sizeBytes });
+      const result = await pool.run({ kind: "analyse", absPath: file.absPath, relPath: file.relPath, sizeBytes: file.sizeBytes }, (bytes) =>
+        progress.fileBytes(file.relPath, bytes),
+      );
       if (result.kind !== "analysed") throw new Error(`expected a measurement, got ${result.kind}`);
       if (result.file.imageError) progress.note(`tidemark: warning: ${result.file.imageError}`);
       const timingsFile = process.env[STAGE_TIMINGS_ENV];
@@ -114,7 +116,7 @@ export async function runScan(options: RunScanOptions): Promise<RunScanResult> {
       if (hashed?.kind === "hashed" && hashed.sha256 === record.report.sha256) {
         reports.push(record.report);
         reused += 1;
-        progress.fileDone(file.relPath, 0);
+        progress.fileDone(file.relPath, 0, file.sizeBytes);
         return;
       }
       if (interruption.immediate) return;
@@ -125,7 +127,7 @@ export async function runScan(options: RunScanOptions): Promise<RunScanResult> {
     measured += 1;
     audioSeconds += done.seconds;
     resume?.append({ kind: "file", relPath: file.relPath, sizeBytes: file.sizeBytes, mtimeMs: file.mtimeMs, report: done.report });
-    progress.fileDone(file.relPath, done.seconds);
+    progress.fileDone(file.relPath, done.seconds, file.sizeBytes);
   };
 
   let next = 0;
