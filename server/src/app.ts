@@ -22,6 +22,7 @@ import { auditRouter } from "./routes/audit.ts";
 import { batchesRouter } from "./routes/batches.ts";
 import { collectionsRouter } from "./routes/collections.ts";
 import { commentsRouter } from "./routes/comments.ts";
+import { cliDownloadRouter, cliPackageRouter } from "./routes/downloads.ts";
 import { duplicatesRouter } from "./routes/duplicates.ts";
 import { exportsRouter } from "./routes/exports.ts";
 import { filesRouter } from "./routes/files.ts";
@@ -115,8 +116,10 @@ export function createApp(deps: AppDeps): Express {
   api.use(jobsRouter(ctx));
   api.use(exportsRouter(ctx));
   api.use(auditRouter());
+  api.use(cliPackageRouter(ctx));
   api.use(notFoundHandler);
   app.use("/api", api);
+  app.use(cliDownloadRouter(ctx));
 
   if (settings.webDistDir && existsSync(path.join(settings.webDistDir, "index.html"))) app.use(portal(settings.webDistDir));
   app.use(notFoundHandler);

@@ -280,6 +280,15 @@ export interface HealthDto {
   db: "up" | "down";
 }
 
+/** The self-contained CLI tarball the server offers (`npm run pack:cli`), for the API-tokens page. */
+export interface CliPackageDto {
+  version: string;
+  sizeBytes: number;
+  /** Absolute URL of the tarball, as `npm install -g` takes it. */
+  url: string;
+  installCommand: string;
+}
+
 // ---- Distributed scanning: runs of queued file jobs (issue #10) ----
 
 /**
