@@ -87,6 +87,21 @@ describe("tidemark.json", () => {
   });
 });
 
+describe("--progress json", () => {
+  it("writes JSON lines on stderr without a terminal, counting bytes up to the batch total, for scan and verify", async () => {
+    const noConfig = { ...env, TIDEMARK_NO_CONFIG: "1" };
+    const scan = await runCli(["scan", "project/day-1", "--format", "json", "--out", "progress.json", "-w", "1", "-p", "access-copy", "--progress", "json"], { cwd: dir, env: noConfig });
+    const events = scan.stderr.trim().split("\n").filter((l) => l.startsWith("{")).map((l) => JSON.parse(l) as Record<string, number | string>);
+    const total = ["clean.wav", "dc.wav"].reduce((n, f) => n + readFileSync(path.join(dir, "project", "day-1", f)).length, 0);
+    expect(events[0]).toMatchObject({ event: "progress", files: 2, bytes: total });
+    expect(events.at(-1)).toMatchObject({ event: "done", filesDone: 2, files: 2, bytesDone: total, bytes: total });
+    const verify = await runCli(["verify", "project/day-1", "--against", "progress.json", "--progress", "json"], { cwd: dir, env: noConfig });
+    const last = JSON.parse(verify.stderr.trim().split("\n").at(-1)!) as Record<string, unknown>;
+    expect(last).toMatchObject({ event: "done", filesDone: 2, bytesDone: total });
+    expect(verify.exitCode).toBe(0);
+  });
+});
+
 describe("exit codes (README's table)", () => {
   it("3 when a file could not be read and none failed", async () => {
     const r = await runCli(["scan", "broken", "--format", "json", "-q", "-w", "1", "-p", "access-copy"], { cwd: dir, env: { ...env, TIDEMARK_NO_CONFIG: "1" } });
