@@ -94,12 +94,15 @@ export interface ScanOptions {
   quiet: boolean;
   progress: ProgressMode;
   failOn: "fail" | "warn";
+  /** --bag: write a BagIt bag of the scanned files, with the report as a tag file, into this folder. */
+  bag: string | null;
   /** null unless --upload was given. */
   upload: UploadTarget | null;
 }
 
 export interface VerifyOptions {
-  against: string;
+  /** The earlier report; null verifies a BagIt bag against its own manifests. */
+  against: string | null;
   include: string[];
   exclude: string[];
   json: boolean;

@@ -109,6 +109,7 @@ export function createProgram(actions: Partial<CommandActions & QueueCommandActi
     .addOption(new Option("--fail-on <level>", "exit 1 when a file gets this verdict or worse (default: tidemark.json's, else fail)").choices(FAIL_ON_LEVELS))
     .option("-q, --quiet", "no progress display")
     .addOption(new Option("--progress <mode>", "progress display: auto (on a terminal) or json (JSON lines on stderr, for pipelines)").choices(PROGRESS_MODES).default("auto"))
+    .option("--bag <dir>", "also write a BagIt bag (RFC 8493) of the scanned files into this new folder, with the report as a tag file")
     .option("--upload", "upload the report and PNGs to the server after the scan")
     .option("--server <url>", `server for --upload (default: tidemark.json's, else the one stored by tidemark login)`, parseServerUrl)
     .option("--collection <name>", "collection to file the batch under (default: tidemark.json's, else the scanned folder's name)", parseCollectionName)
@@ -137,6 +138,7 @@ export function createProgram(actions: Partial<CommandActions & QueueCommandActi
       quiet: o.quiet === true,
       progress: o.progress as ProgressMode,
       failOn: project.failOn(o.failOn as FailOn | undefined),
+      bag: (o.bag as string | undefined) ?? null,
       upload: wantsUpload
         ? {
             server: project.server(o.server as string | undefined),
@@ -150,9 +152,9 @@ export function createProgram(actions: Partial<CommandActions & QueueCommandActi
 
   const verify = program
     .command("verify")
-    .description("recompute SHA-256 of the files and compare with an earlier report: list changed, missing and new files")
-    .argument("<paths...>", "files and folders scanned for that report")
-    .requiredOption("--against <report.json>", "the earlier JSON report")
+    .description("recompute SHA-256 of the files and compare with an earlier report, or check a BagIt bag against its manifests")
+    .argument("<paths...>", "files and folders scanned for that report, or one bag folder (with bagit.txt)")
+    .option("--against <report.json>", "the earlier JSON report (not needed for a bag)")
     .option("--json", "print the comparison as JSON")
     .option("-q, --quiet", "no progress display")
     .addOption(new Option("--progress <mode>", "progress display: auto (on a terminal) or json (JSON lines on stderr)").choices(PROGRESS_MODES).default("auto"));
@@ -160,7 +162,7 @@ export function createProgram(actions: Partial<CommandActions & QueueCommandActi
     const cliIo = io();
     const project = ProjectDefaults.load(cliIo.cwd, cliIo.env);
     const options: VerifyOptions = {
-      against: String(o.against),
+      against: (o.against as string | undefined) ?? null,
       include: project.include(o.include as string[], DEFAULT_INCLUDE_GLOBS),
       exclude: project.exclude(o.exclude as string[]),
       json: o.json === true,

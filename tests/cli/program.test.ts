@@ -60,6 +60,7 @@ const scanDefaults = {
   quiet: false,
   progress: "auto",
   failOn: "fail",
+  bag: null,
   upload: null,
 };
 
@@ -83,6 +84,7 @@ describe("createProgram argv table", () => {
     ],
     [["scan", "x", "--upload"], { command: "scan", args: [["x"], { ...scanDefaults, upload: { server: null, collection: null, batchKey: null } }] }],
     [["scan", "x", "--no-fingerprint"], { command: "scan", args: [["x"], { ...scanDefaults, fingerprint: false }] }],
+    [["verify", "bag-17"], { command: "verify", args: [["bag-17"], { against: null, include: scanDefaults.include, exclude: [], json: false, quiet: false, progress: "auto" }] }],
     [["verify", "reels", "--against", "r.json"], { command: "verify", args: [["reels"], { against: "r.json", include: scanDefaults.include, exclude: [], json: false, quiet: false, progress: "auto" }] }],
     [["upload", "r.json", "--collection", "Ferry Terminal Interviews 1978"], { command: "upload", args: ["r.json", { spool: false, server: null, collection: "Ferry Terminal Interviews 1978", batchKey: null }] }],
     [["upload", "--spool"], { command: "upload", args: [null, { spool: true, server: null, collection: null, batchKey: null }] }],
@@ -125,7 +127,6 @@ describe("createProgram argv table", () => {
     [["scan", "x", "--workers", "two"], "commander.invalidArgument", /got "two"/],
     [["scan", "x", "--upload", "--server", "ftp://x"], "commander.invalidArgument", /expected an http:\/\/ or https:\/\/ URL/],
     [["scan", "x", "--frobnicate"], "commander.unknownOption", /unknown option '--frobnicate'/],
-    [["verify", "x"], "commander.missingMandatoryOptionValue", /--against/],
     [["login", "--server", "http://h", "--token", "nocolon"], "commander.invalidArgument", /id:secret/],
     [["bogus"], "commander.unknownCommand", /unknown command 'bogus'/],
   ])("%j is a usage error (exit 2)", async (argv, code, message) => {

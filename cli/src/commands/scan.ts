@@ -16,7 +16,8 @@ import type { ScanOptions, UploadTarget } from "../options.ts";
 import { loadProfile } from "../profiles/loadProfile.ts";
 import type { ScanContext } from "../scan/analyseFile.ts";
 import { errorReport } from "../scan/errorReport.ts";
-import { crawlFiles } from "../scan/crawlFiles.ts";
+import { assertBagTarget, writeBag, type BagFile } from "../fixity/bag.ts";
+import { crawlFiles, type CrawledFile } from "../scan/crawlFiles.ts";
 import { junitSuitesOf } from "../scan/scanRoots.ts";
 import { watchInterrupts } from "../scan/interruption.ts";
 import { createScanProgress, progressDisplay } from "../scan/progress.ts";
@@ -72,11 +73,31 @@ async function uploadReport(report: ScanReport, target: UploadTarget, defaultCol
   return EXIT_CODES.usage;
 }
 
+/** --bag: the readable files (their copies checked against the scan's SHA-256) and the JSON report as a tag file. */
+async function writeScanBag(dir: string, given: string[], report: ScanReport, files: readonly CrawledFile[], io: CliIo): Promise<void> {
+  const byPath = new Map(files.map((f) => [f.relPath, f]));
+  const bagged: BagFile[] = [];
+  for (const f of report.files) {
+    const crawled = byPath.get(f.path);
+    if (f.sha256 && crawled) bagged.push({ absPath: crawled.absPath, relPath: f.path, sha256: f.sha256 });
+    else io.stderr.write(`tidemark: warning: ${f.path} is not in the bag: it could not be read\n`);
+  }
+  const written = await writeBag(path.resolve(io.cwd, dir), bagged, {
+    info: [
+      ["External-Description", `Transfers scanned by ${report.tool.name} ${report.tool.version} from ${given.join(", ")}, judged with profile ${report.profile.name}`],
+      ["Internal-Sender-Description", "tidemark-report.json (a tag file) is the scan report of the payload"],
+    ],
+    tagFiles: [{ name: "tidemark-report.json", text: reportToJson(report) }],
+  });
+  io.stderr.write(`tidemark: wrote bag ${dir}: ${written.files} files, ${written.bytes} bytes (check it with: tidemark verify ${dir})\n`);
+}
+
 export async function scanCommand(paths: string[], options: ScanOptions, io: CliIo): Promise<number> {
   const startedAt = new Date().toISOString();
   const loaded = await loadProfile(options.profile, io.cwd);
   const format = chooseFormat(options, io.stdout.isTTY === true);
   const outAbs = options.out ? await checkOutputFolder(options.out, io.cwd) : null;
+  if (options.bag) await assertBagTarget(path.resolve(io.cwd, options.bag));
   if (options.upload) await resolveCredentials(options.upload.server, io.env);
 
   const crawl = await crawlFiles(paths, { include: options.include, exclude: options.exclude, cwd: io.cwd });
@@ -158,6 +179,8 @@ export async function scanCommand(paths: string[], options: ScanOptions, io: Cli
     return EXIT_CODES.interrupted;
   }
   if (!options.quiet && result.reused > 0) io.stderr.write(`tidemark: ${result.reused} unchanged file(s) taken from ${options.resume}\n`);
+
+  if (options.bag) await writeScanBag(options.bag, paths, report, crawl.files, io);
 
   let uploadCode: number = EXIT_CODES.ok;
   try {

@@ -10,6 +10,8 @@ import { EXIT_CODES, UsageError } from "../errors.ts";
 import { sha256OfFile } from "../fixity/hashFile.ts";
 import type { CliIo } from "../io.ts";
 import type { VerifyOptions } from "../options.ts";
+import type { BagVerdict } from "@tidemark/shared/fixity/bagit";
+import { bagSize, isBag, verifyBag } from "../fixity/bag.ts";
 import { alignPaths } from "../fixity/matchPaths.ts";
 import { crawlFiles, type CrawledFile } from "../scan/crawlFiles.ts";
 import { createScanProgress, progressDisplay, type ScanProgress } from "../scan/progress.ts";
@@ -74,7 +76,7 @@ async function hashAll(files: readonly CrawledFile[], progress: ScanProgress): P
 
 const toPosix = (p: string): string => p.split(path.sep).join("/");
 
-export async function compareFixity(paths: string[], options: VerifyOptions, io: CliIo): Promise<FixityComparison> {
+export async function compareFixity(paths: string[], options: VerifyOptions & { against: string }, io: CliIo): Promise<FixityComparison> {
   const { report } = await readReport(options.against, io.cwd);
   const crawl = await crawlFiles(paths, { include: options.include, exclude: options.exclude, cwd: io.cwd });
   const earlier = new Map(report.files.map((f) => [f.path, f]));
@@ -156,8 +158,34 @@ export function fixityText(c: FixityComparison): string {
   return `${lines.join("\n")}\n`;
 }
 
+export function bagText(dir: string, v: BagVerdict): string {
+  const lines = v.problems.map((p) => `${p.kind.padEnd(11)} ${p.path ?? ""}${p.path ? "  " : ""}(${p.message})`);
+  const counts = (["changed", "missing", "extra", "unreadable"] as const).map((k) => `${v.problems.filter((p) => p.kind === k).length} ${k}`).join(", ");
+  lines.push(`bag ${dir}: ${v.valid ? "valid" : "NOT valid"} (RFC 8493): ${v.payloadFiles} payload files, ${v.payloadBytes} bytes, ${v.algorithms.join("+") || "no manifest"}; ${counts}`);
+  return `${lines.join("\n")}\n`;
+}
+
+async function verifyBagCommand(dir: string, options: VerifyOptions, io: CliIo): Promise<number> {
+  const abs = path.resolve(io.cwd, dir);
+  const size = await bagSize(abs);
+  const progress = createScanProgress({ total: size.files, totalBytes: size.bytes, alreadyDone: 0, stream: io.stderr as NodeJS.WritableStream, display: progressDisplay(options.quiet, options.progress) });
+  let verdict: BagVerdict;
+  try {
+    verdict = await verifyBag(abs, progress);
+  } finally {
+    progress.stop();
+  }
+  io.stdout.write(options.json ? `${JSON.stringify({ bag: dir, ...verdict }, null, 2)}\n` : bagText(dir, verdict));
+  if (verdict.valid) return EXIT_CODES.ok;
+  return verdict.problems.every((p) => p.kind === "unreadable") ? EXIT_CODES.unreadable : EXIT_CODES.failed;
+}
+
 export async function verifyCommand(paths: string[], options: VerifyOptions, io: CliIo): Promise<number> {
-  const comparison = await compareFixity(paths, options, io);
+  if (options.against === null) {
+    if (paths.length === 1 && (await isBag(path.resolve(io.cwd, paths[0])))) return verifyBagCommand(paths[0], options, io);
+    throw new UsageError("expected --against REPORT.json (the earlier scan's report), or one BagIt bag folder (with bagit.txt) to check against its manifests");
+  }
+  const comparison = await compareFixity(paths, { ...options, against: options.against }, io);
   io.stdout.write(options.json ? `${JSON.stringify(comparison, null, 2)}\n` : fixityText(comparison));
   if (comparison.changed.length + comparison.missing.length > 0) return EXIT_CODES.failed;
   return comparison.unreadable.length > 0 ? EXIT_CODES.unreadable : EXIT_CODES.ok;
