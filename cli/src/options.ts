@@ -94,6 +94,8 @@ export interface ScanOptions {
   quiet: boolean;
   progress: ProgressMode;
   failOn: "fail" | "warn";
+  /** --checksums: md5sum/sha256sum-style manifests whose lines each file is checked against. */
+  checksums: string[];
   /** --bag: write a BagIt bag of the scanned files, with the report as a tag file, into this folder. */
   bag: string | null;
   /** null unless --upload was given. */
@@ -108,6 +110,8 @@ export interface VerifyOptions {
   json: boolean;
   quiet: boolean;
   progress: ProgressMode;
+  /** --checksums manifests, as for scan. */
+  checksums: string[];
 }
 
 /** `tidemark init`: what to write into tidemark.json (null: ask on a terminal, else leave out). */

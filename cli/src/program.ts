@@ -109,6 +109,7 @@ export function createProgram(actions: Partial<CommandActions & QueueCommandActi
     .addOption(new Option("--fail-on <level>", "exit 1 when a file gets this verdict or worse (default: tidemark.json's, else fail)").choices(FAIL_ON_LEVELS))
     .option("-q, --quiet", "no progress display")
     .addOption(new Option("--progress <mode>", "progress display: auto (on a terminal) or json (JSON lines on stderr, for pipelines)").choices(PROGRESS_MODES).default("auto"))
+    .option("--checksums <file>", "also check each file against this md5sum/sha256sum-style manifest (repeatable); sidecars such as tape.wav.md5 are read anyway", collect, [])
     .option("--bag <dir>", "also write a BagIt bag (RFC 8493) of the scanned files into this new folder, with the report as a tag file")
     .option("--upload", "upload the report and PNGs to the server after the scan")
     .option("--server <url>", `server for --upload (default: tidemark.json's, else the one stored by tidemark login)`, parseServerUrl)
@@ -138,6 +139,7 @@ export function createProgram(actions: Partial<CommandActions & QueueCommandActi
       quiet: o.quiet === true,
       progress: o.progress as ProgressMode,
       failOn: project.failOn(o.failOn as FailOn | undefined),
+      checksums: o.checksums as string[],
       bag: (o.bag as string | undefined) ?? null,
       upload: wantsUpload
         ? {
@@ -156,6 +158,7 @@ export function createProgram(actions: Partial<CommandActions & QueueCommandActi
     .argument("<paths...>", "files and folders scanned for that report, or one bag folder (with bagit.txt)")
     .option("--against <report.json>", "the earlier JSON report (not needed for a bag)")
     .option("--json", "print the comparison as JSON")
+    .option("--checksums <file>", "also check the files against this md5sum/sha256sum-style manifest (repeatable); sidecars such as tape.wav.md5 are read anyway", collect, [])
     .option("-q, --quiet", "no progress display")
     .addOption(new Option("--progress <mode>", "progress display: auto (on a terminal) or json (JSON lines on stderr)").choices(PROGRESS_MODES).default("auto"));
   globOptions(verify).action(async (paths: string[], o: Record<string, unknown>) => {
@@ -168,6 +171,7 @@ export function createProgram(actions: Partial<CommandActions & QueueCommandActi
       json: o.json === true,
       quiet: o.quiet === true,
       progress: o.progress as ProgressMode,
+      checksums: o.checksums as string[],
     };
     await finish(run.verify(paths, options, cliIo));
   });

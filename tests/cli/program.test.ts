@@ -60,6 +60,7 @@ const scanDefaults = {
   quiet: false,
   progress: "auto",
   failOn: "fail",
+  checksums: [],
   bag: null,
   upload: null,
 };
@@ -84,8 +85,8 @@ describe("createProgram argv table", () => {
     ],
     [["scan", "x", "--upload"], { command: "scan", args: [["x"], { ...scanDefaults, upload: { server: null, collection: null, batchKey: null } }] }],
     [["scan", "x", "--no-fingerprint"], { command: "scan", args: [["x"], { ...scanDefaults, fingerprint: false }] }],
-    [["verify", "bag-17"], { command: "verify", args: [["bag-17"], { against: null, include: scanDefaults.include, exclude: [], json: false, quiet: false, progress: "auto" }] }],
-    [["verify", "reels", "--against", "r.json"], { command: "verify", args: [["reels"], { against: "r.json", include: scanDefaults.include, exclude: [], json: false, quiet: false, progress: "auto" }] }],
+    [["verify", "bag-17"], { command: "verify", args: [["bag-17"], { against: null, include: scanDefaults.include, exclude: [], json: false, quiet: false, progress: "auto", checksums: [] }] }],
+    [["verify", "reels", "--against", "r.json"], { command: "verify", args: [["reels"], { against: "r.json", include: scanDefaults.include, exclude: [], json: false, quiet: false, progress: "auto", checksums: [] }] }],
     [["upload", "r.json", "--collection", "Ferry Terminal Interviews 1978"], { command: "upload", args: ["r.json", { spool: false, server: null, collection: "Ferry Terminal Interviews 1978", batchKey: null }] }],
     [["upload", "--spool"], { command: "upload", args: [null, { spool: true, server: null, collection: null, batchKey: null }] }],
     [["profiles"], { command: "profiles", args: [null, { json: false }] }],

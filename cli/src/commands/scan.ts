@@ -17,6 +17,7 @@ import { loadProfile } from "../profiles/loadProfile.ts";
 import type { ScanContext } from "../scan/analyseFile.ts";
 import { errorReport } from "../scan/errorReport.ts";
 import { assertBagTarget, writeBag, type BagFile } from "../fixity/bag.ts";
+import { expectedChecksums } from "../fixity/sidecars.ts";
 import { crawlFiles, type CrawledFile } from "../scan/crawlFiles.ts";
 import { junitSuitesOf } from "../scan/scanRoots.ts";
 import { watchInterrupts } from "../scan/interruption.ts";
@@ -142,13 +143,20 @@ export async function scanCommand(paths: string[], options: ScanOptions, io: Cli
   if (crawl.files.length === 0 && crawl.problems.length === 0) {
     progress.note(`tidemark: warning: no files matching ${options.include.join(" ")} under ${paths.join(" ")}`);
   }
+  const checksums = await expectedChecksums(
+    crawl.files.map((f) => f.absPath),
+    paths.map((p) => path.resolve(io.cwd, p)),
+    options.checksums.map((m) => path.resolve(io.cwd, m)),
+    (abs) => path.relative(io.cwd, abs).split(path.sep).join("/"),
+  );
+  for (const w of checksums.warnings) progress.note(`tidemark: warning: ${w}`);
   const interruption = watchInterrupts(() =>
     progress.note("tidemark: interrupted: finishing the files in progress, then writing the partial report (Ctrl-C again to stop now)"),
   );
 
   let result;
   try {
-    result = await runScan({ files: crawl.files, workers: options.workers, context, resume, progress, interruption });
+    result = await runScan({ files: crawl.files, workers: options.workers, context, resume, progress, interruption, expectedChecksums: checksums.byFile });
   } finally {
     interruption.dispose();
     progress.stop();
@@ -156,6 +164,11 @@ export async function scanCommand(paths: string[], options: ScanOptions, io: Cli
   }
 
   const problemReports: FileReport[] = crawl.problems.map((p) => errorReport(p.relPath, 0, { code: p.code, message: p.message }));
+  // A checksum for a file that is not there: the delivery is incomplete, and the report says so.
+  for (const o of checksums.orphans) {
+    const relPath = path.relative(crawl.rootDir, o.absPath).split(path.sep).join("/");
+    problemReports.push(errorReport(relPath, 0, { code: "missing-file", message: `${relPath}: ${o.source} has a checksum for it, but the file is not there` }));
+  }
   const report = assembleReport(
     { tool: toolInfo(), profile: { name: loaded.profile.name, hash: loaded.hash }, startedAt, finishedAt: new Date().toISOString() },
     [...result.reports, ...problemReports],

@@ -7,17 +7,20 @@ import { readFile } from "node:fs/promises";
 import path from "node:path";
 import { scanReportSchema, type ScanReport } from "@tidemark/shared/types/report";
 import { EXIT_CODES, UsageError } from "../errors.ts";
-import { sha256OfFile } from "../fixity/hashFile.ts";
 import type { CliIo } from "../io.ts";
 import type { VerifyOptions } from "../options.ts";
 import type { BagVerdict } from "@tidemark/shared/fixity/bagit";
-import { bagSize, isBag, verifyBag } from "../fixity/bag.ts";
+import { compareChecksums, type ChecksumAlgorithm, type ExpectedChecksum } from "@tidemark/shared/fixity/checksumFiles";
+import type { ChecksumCheck } from "@tidemark/shared/types/report";
+import { bagSize, digestsOfFile, isBag, verifyBag } from "../fixity/bag.ts";
+import { expectedChecksums } from "../fixity/sidecars.ts";
 import { alignPaths } from "../fixity/matchPaths.ts";
 import { crawlFiles, type CrawledFile } from "../scan/crawlFiles.ts";
 import { createScanProgress, progressDisplay, type ScanProgress } from "../scan/progress.ts";
 
 export interface FixityComparison {
-  against: string;
+  /** The earlier report, or null when only checksum sidecars and manifests were the reference. */
+  against: string | null;
   unchanged: string[];
   changed: { path: string; expectedSha256: string; actualSha256: string }[];
   missing: string[];
@@ -28,6 +31,12 @@ export interface FixityComparison {
   unreadable: { path: string; reason: string }[];
   /** Could not be read at the earlier scan either: nothing to compare with. */
   unverifiable: string[];
+  /** Sidecars (tape.wav.md5) and --checksums lines the file does not match. */
+  checksumMismatches: ({ path: string } & ChecksumCheck)[];
+  /** Sidecars and manifest lines whose file is gone. */
+  orphanChecksums: { path: string; source: string }[];
+  /** How many sidecar and manifest checksums were compared. */
+  checksumsChecked: number;
 }
 
 /** Reads and checks a JSON report against the report contract; errors name the bad field. */
@@ -56,17 +65,20 @@ export async function readReport(file: string, cwd: string): Promise<{ report: S
 
 const HASH_CONCURRENCY = 2;
 
-async function hashAll(files: readonly CrawledFile[], progress: ScanProgress): Promise<Map<string, string | Error>> {
-  const out = new Map<string, string | Error>();
+type Digests = Map<ChecksumAlgorithm, string>;
+
+/** Each file read once for every algorithm it needs (SHA-256 always), two files at a time. */
+async function hashAll(files: readonly CrawledFile[], algorithmsOf: (f: CrawledFile) => ChecksumAlgorithm[], progress: ScanProgress): Promise<Map<string, Digests | Error>> {
+  const out = new Map<string, Digests | Error>();
   let next = 0;
   const lane = async (): Promise<void> => {
     while (next < files.length) {
       const file = files[next++];
       progress.fileStarted(file.relPath);
-      const hash = await sha256OfFile(file.absPath, (bytes) => progress.fileBytes(file.relPath, bytes)).catch((e: unknown) =>
-        e instanceof Error ? e : new Error(String(e)),
-      );
-      out.set(file.relPath, hash);
+      const digests = await digestsOfFile(file.absPath, [...new Set<ChecksumAlgorithm>(["sha256", ...algorithmsOf(file)])], (bytes) =>
+        progress.fileBytes(file.relPath, bytes),
+      ).catch((e: unknown) => (e instanceof Error ? e : new Error(String(e))));
+      out.set(file.relPath, digests);
       progress.fileDone(file.relPath, 0, file.sizeBytes);
     }
   };
@@ -76,10 +88,28 @@ async function hashAll(files: readonly CrawledFile[], progress: ScanProgress): P
 
 const toPosix = (p: string): string => p.split(path.sep).join("/");
 
-export async function compareFixity(paths: string[], options: VerifyOptions & { against: string }, io: CliIo): Promise<FixityComparison> {
-  const { report } = await readReport(options.against, io.cwd);
+/**
+ * Compares today's files with an earlier report (`against`) and with their checksum sidecars and
+ * --checksums manifests; with no report, the checksums alone are the reference.
+ */
+export async function compareFixity(paths: string[], options: VerifyOptions, io: CliIo): Promise<FixityComparison> {
+  const report = options.against === null ? null : (await readReport(options.against, io.cwd)).report;
   const crawl = await crawlFiles(paths, { include: options.include, exclude: options.exclude, cwd: io.cwd });
-  const earlier = new Map(report.files.map((f) => [f.path, f]));
+  const shown = (abs: string): string => toPosix(path.relative(io.cwd, abs));
+  const sidecars = await expectedChecksums(
+    crawl.files.map((f) => f.absPath),
+    paths.map((p) => path.resolve(io.cwd, p)),
+    options.checksums.map((m) => path.resolve(io.cwd, m)),
+    shown,
+  );
+  for (const w of sidecars.warnings) io.stderr.write(`tidemark: warning: ${w}\n`);
+  if (!report && sidecars.byFile.size === 0 && sidecars.orphans.length === 0) {
+    throw new UsageError(
+      "expected --against REPORT.json (the earlier scan's report), checksum sidecars or --checksums FILE, or one BagIt bag folder (with bagit.txt) to check against its manifests",
+    );
+  }
+
+  const earlier = new Map((report?.files ?? []).map((f) => [f.path, f]));
   const { matches, inScope } = alignPaths(
     crawl.files.map((f) => ({ relPath: f.relPath, absPosix: toPosix(f.absPath) })),
     new Set(earlier.keys()),
@@ -88,8 +118,10 @@ export async function compareFixity(paths: string[], options: VerifyOptions & { 
   const claimed = new Set(matches.flatMap((m) => (m.earlier === null ? [] : [m.earlier])));
   // Files that may have moved: today's unmatched files are hashed too when an earlier file went unclaimed.
   const unclaimedHashes = new Map<string, string>();
-  for (const f of report.files) if (f.sha256 && !claimed.has(f.path) && inScope(f.path)) unclaimedHashes.set(f.sha256, f.path);
+  for (const f of report?.files ?? []) if (f.sha256 && !claimed.has(f.path) && inScope(f.path)) unclaimedHashes.set(f.sha256, f.path);
+  const expectedOf = (f: CrawledFile): ExpectedChecksum[] => sidecars.byFile.get(f.absPath) ?? [];
   const toHash = crawl.files.filter((f) => {
+    if (expectedOf(f).length > 0) return true;
     const before = earlierOf.get(f.relPath);
     return before ? Boolean(earlier.get(before)?.sha256) : unclaimedHashes.size > 0;
   });
@@ -100,24 +132,49 @@ export async function compareFixity(paths: string[], options: VerifyOptions & { 
     stream: io.stderr as NodeJS.WritableStream,
     display: progressDisplay(options.quiet, options.progress),
   });
-  let hashes: Map<string, string | Error>;
+  let hashes: Map<string, Digests | Error>;
   try {
-    hashes = await hashAll(toHash, progress);
+    hashes = await hashAll(toHash, (f) => expectedOf(f).map((e) => e.algorithm), progress);
   } finally {
     progress.stop();
   }
 
-  const result: FixityComparison = { against: options.against, unchanged: [], changed: [], missing: [], new: [], moved: [], unreadable: [], unverifiable: [] };
+  const result: FixityComparison = {
+    against: options.against,
+    unchanged: [],
+    changed: [],
+    missing: [],
+    new: [],
+    moved: [],
+    unreadable: [],
+    unverifiable: [],
+    checksumMismatches: [],
+    orphanChecksums: sidecars.orphans.map((o) => ({ path: shown(o.absPath), source: o.source })),
+    checksumsChecked: 0,
+  };
   const present = new Set<string>(claimed);
   for (const file of crawl.files) {
     const beforePath = earlierOf.get(file.relPath) ?? null;
-    const now = hashes.get(file.relPath);
+    const digests = hashes.get(file.relPath);
+    const now = digests instanceof Map ? digests.get("sha256") : digests;
+    const expected = expectedOf(file);
+    if (expected.length > 0 && digests instanceof Map) {
+      for (const check of compareChecksums(expected, digests)) {
+        result.checksumsChecked += 1;
+        if (!check.matches) result.checksumMismatches.push({ path: file.relPath, ...check });
+      }
+    }
     if (beforePath === null) {
       const from = typeof now === "string" ? unclaimedHashes.get(now) : undefined;
       if (from !== undefined) {
         unclaimedHashes.delete(now as string);
         present.add(from);
         result.moved.push({ from, to: file.relPath });
+      } else if (!report && expected.length > 0 && digests instanceof Map) {
+        // Checked against its checksums alone.
+        if (compareChecksums(expected, digests).every((c) => c.matches)) result.unchanged.push(file.relPath);
+      } else if (!report && digests instanceof Error) {
+        result.unreadable.push({ path: file.relPath, reason: digests.message });
       } else {
         result.new.push(file.relPath);
       }
@@ -126,7 +183,7 @@ export async function compareFixity(paths: string[], options: VerifyOptions & { 
     const before = earlier.get(beforePath)!;
     if (!before.sha256) {
       result.unverifiable.push(file.relPath);
-    } else if (now instanceof Error || now === undefined) {
+    } else if (typeof now !== "string") {
       result.unreadable.push({ path: file.relPath, reason: now instanceof Error ? now.message : "not hashed" });
     } else if (now === before.sha256) {
       result.unchanged.push(file.relPath);
@@ -140,7 +197,7 @@ export async function compareFixity(paths: string[], options: VerifyOptions & { 
     present.add(tail);
     if (earlier.get(tail)?.sha256) result.unreadable.push({ path: p.relPath, reason: p.message });
   }
-  for (const f of report.files) if (!present.has(f.path) && f.sha256 && inScope(f.path)) result.missing.push(f.path);
+  for (const f of report?.files ?? []) if (!present.has(f.path) && f.sha256 && inScope(f.path)) result.missing.push(f.path);
   return result;
 }
 
@@ -152,8 +209,11 @@ export function fixityText(c: FixityComparison): string {
   for (const x of c.moved) lines.push(`moved       ${x.from} → ${x.to}  (same SHA-256)`);
   for (const p of c.new) lines.push(`new         ${p}`);
   for (const p of c.unverifiable) lines.push(`unverified  ${p}  (no SHA-256 in the earlier report: it could not be read then)`);
+  for (const x of c.checksumMismatches) lines.push(`mismatch    ${x.path}  (${x.algorithm} is ${x.actual ?? "unknown"}, ${x.source} says ${x.expected})`);
+  for (const x of c.orphanChecksums) lines.push(`missing     ${x.path}  (${x.source} has a checksum for it)`);
+  const checksums = c.checksumsChecked + c.orphanChecksums.length > 0 ? `; checksums: ${c.checksumsChecked - c.checksumMismatches.length} match, ${c.checksumMismatches.length} mismatch, ${c.orphanChecksums.length} without file` : "";
   lines.push(
-    `${c.unchanged.length} unchanged, ${c.changed.length} changed, ${c.missing.length} missing, ${c.unreadable.length} unreadable, ${c.new.length} new, ${c.moved.length} moved (against ${c.against})`,
+    `${c.unchanged.length} unchanged, ${c.changed.length} changed, ${c.missing.length} missing, ${c.unreadable.length} unreadable, ${c.new.length} new, ${c.moved.length} moved (against ${c.against ?? "checksums"})${checksums}`,
   );
   return `${lines.join("\n")}\n`;
 }
@@ -181,12 +241,12 @@ async function verifyBagCommand(dir: string, options: VerifyOptions, io: CliIo):
 }
 
 export async function verifyCommand(paths: string[], options: VerifyOptions, io: CliIo): Promise<number> {
-  if (options.against === null) {
-    if (paths.length === 1 && (await isBag(path.resolve(io.cwd, paths[0])))) return verifyBagCommand(paths[0], options, io);
-    throw new UsageError("expected --against REPORT.json (the earlier scan's report), or one BagIt bag folder (with bagit.txt) to check against its manifests");
+  if (options.against === null && options.checksums.length === 0 && paths.length === 1 && (await isBag(path.resolve(io.cwd, paths[0])))) {
+    return verifyBagCommand(paths[0], options, io);
   }
-  const comparison = await compareFixity(paths, { ...options, against: options.against }, io);
+  const comparison = await compareFixity(paths, options, io);
   io.stdout.write(options.json ? `${JSON.stringify(comparison, null, 2)}\n` : fixityText(comparison));
-  if (comparison.changed.length + comparison.missing.length > 0) return EXIT_CODES.failed;
+  const bad = comparison.changed.length + comparison.missing.length + comparison.checksumMismatches.length + comparison.orphanChecksums.length;
+  if (bad > 0) return EXIT_CODES.failed;
   return comparison.unreadable.length > 0 ? EXIT_CODES.unreadable : EXIT_CODES.ok;
 }
