@@ -112,6 +112,8 @@ export interface VerifyOptions {
   progress: ProgressMode;
   /** --checksums manifests, as for scan. */
   checksums: string[];
+  /** --upload: send each file's outcome to the server's fixity history (null without it). */
+  upload: { server: string | null; collection: string | null } | null;
 }
 
 /** `tidemark init`: what to write into tidemark.json (null: ask on a terminal, else leave out). */

@@ -160,7 +160,10 @@ export function createProgram(actions: Partial<CommandActions & QueueCommandActi
     .option("--json", "print the comparison as JSON")
     .option("--checksums <file>", "also check the files against this md5sum/sha256sum-style manifest (repeatable); sidecars such as tape.wav.md5 are read anyway", collect, [])
     .option("-q, --quiet", "no progress display")
-    .addOption(new Option("--progress <mode>", "progress display: auto (on a terminal) or json (JSON lines on stderr)").choices(PROGRESS_MODES).default("auto"));
+    .addOption(new Option("--progress <mode>", "progress display: auto (on a terminal) or json (JSON lines on stderr)").choices(PROGRESS_MODES).default("auto"))
+    .option("--upload", "send each file's outcome to the server's fixity history (needs --against)")
+    .option("--server <url>", "server for --upload (default: tidemark.json's, else the one stored by tidemark login)", parseServerUrl)
+    .option("--collection <name>", "collection the files were scanned into, for --upload (default: tidemark.json's)", parseCollectionName);
   globOptions(verify).action(async (paths: string[], o: Record<string, unknown>) => {
     const cliIo = io();
     const project = ProjectDefaults.load(cliIo.cwd, cliIo.env);
@@ -172,7 +175,9 @@ export function createProgram(actions: Partial<CommandActions & QueueCommandActi
       quiet: o.quiet === true,
       progress: o.progress as ProgressMode,
       checksums: o.checksums as string[],
+      upload: o.upload === true ? { server: project.server(o.server as string | undefined), collection: project.collection(o.collection as string | undefined) } : null,
     };
+    if (!options.upload && (o.server !== undefined || o.collection !== undefined)) throw new UsageError("--server and --collection are only used with --upload; add --upload or drop them");
     await finish(run.verify(paths, options, cliIo));
   });
 

@@ -26,6 +26,7 @@ import { cliDownloadRouter, cliPackageRouter } from "./routes/downloads.ts";
 import { duplicatesRouter } from "./routes/duplicates.ts";
 import { exportsRouter } from "./routes/exports.ts";
 import { filesRouter } from "./routes/files.ts";
+import { fixityChecksRouter } from "./routes/fixityChecks.ts";
 import { healthRouter } from "./routes/health.ts";
 import { ingestRouter } from "./routes/ingest.ts";
 import { jobsRouter } from "./routes/jobs.ts";
@@ -112,6 +113,7 @@ export function createApp(deps: AppDeps): Express {
   api.use(duplicatesRouter(ctx));
   api.use(commentsRouter(ctx));
   api.use(ingestRouter(ctx));
+  api.use(fixityChecksRouter(ctx));
   api.use(runsRouter(ctx));
   api.use(jobsRouter(ctx));
   api.use(exportsRouter(ctx));

@@ -6,11 +6,15 @@
 import { readFile } from "node:fs/promises";
 import path from "node:path";
 import { scanReportSchema, type ScanReport } from "@tidemark/shared/types/report";
-import { EXIT_CODES, UsageError } from "../errors.ts";
+import { resolveCredentials } from "../config/storedLogin.ts";
+import { EXIT_CODES, oneLine, UsageError } from "../errors.ts";
+import { createApiClient, UploadRejectedError } from "../queue/apiClient.ts";
+import { retryPolicyFrom } from "../upload/ingestClient.ts";
 import type { CliIo } from "../io.ts";
 import type { VerifyOptions } from "../options.ts";
 import type { BagVerdict } from "@tidemark/shared/fixity/bagit";
 import { compareChecksums, type ChecksumAlgorithm, type ExpectedChecksum } from "@tidemark/shared/fixity/checksumFiles";
+import type { FixityCheckUploadRequest, FixityCheckUploadResultDto, FixityOutcome } from "@tidemark/shared/types/api";
 import type { ChecksumCheck } from "@tidemark/shared/types/report";
 import { bagSize, digestsOfFile, isBag, verifyBag } from "../fixity/bag.ts";
 import { expectedChecksums } from "../fixity/sidecars.ts";
@@ -37,6 +41,8 @@ export interface FixityComparison {
   orphanChecksums: { path: string; source: string }[];
   /** How many sidecar and manifest checksums were compared. */
   checksumsChecked: number;
+  /** Each file's outcome with the earlier report's path, as `--upload` sends it (report mode only). */
+  checks: FixityCheckUploadRequest["checks"];
 }
 
 /** Reads and checks a JSON report against the report contract; errors name the bad field. */
@@ -110,7 +116,7 @@ export async function compareFixity(paths: string[], options: VerifyOptions, io:
   }
 
   const earlier = new Map((report?.files ?? []).map((f) => [f.path, f]));
-  const { matches, inScope } = alignPaths(
+  const { matches, inScope, toEarlier } = alignPaths(
     crawl.files.map((f) => ({ relPath: f.relPath, absPosix: toPosix(f.absPath) })),
     new Set(earlier.keys()),
   );
@@ -151,7 +157,10 @@ export async function compareFixity(paths: string[], options: VerifyOptions, io:
     checksumMismatches: [],
     orphanChecksums: sidecars.orphans.map((o) => ({ path: shown(o.absPath), source: o.source })),
     checksumsChecked: 0,
+    checks: [],
   };
+  const check = (path: string, outcome: FixityOutcome, extra: Partial<FixityCheckUploadRequest["checks"][number]> = {}): void =>
+    void result.checks.push({ path, outcome, expectedSha256: null, actualSha256: null, movedTo: null, detail: "", ...extra });
   const present = new Set<string>(claimed);
   for (const file of crawl.files) {
     const beforePath = earlierOf.get(file.relPath) ?? null;
@@ -170,6 +179,7 @@ export async function compareFixity(paths: string[], options: VerifyOptions, io:
         unclaimedHashes.delete(now as string);
         present.add(from);
         result.moved.push({ from, to: file.relPath });
+        check(from, "moved", { expectedSha256: now as string, actualSha256: now as string, movedTo: toEarlier(file.relPath) });
       } else if (!report && expected.length > 0 && digests instanceof Map) {
         // Checked against its checksums alone.
         if (compareChecksums(expected, digests).every((c) => c.matches)) result.unchanged.push(file.relPath);
@@ -184,20 +194,32 @@ export async function compareFixity(paths: string[], options: VerifyOptions, io:
     if (!before.sha256) {
       result.unverifiable.push(file.relPath);
     } else if (typeof now !== "string") {
-      result.unreadable.push({ path: file.relPath, reason: now instanceof Error ? now.message : "not hashed" });
+      const reason = now instanceof Error ? now.message : "not hashed";
+      result.unreadable.push({ path: file.relPath, reason });
+      check(beforePath, "unreadable", { expectedSha256: before.sha256, detail: reason });
     } else if (now === before.sha256) {
       result.unchanged.push(file.relPath);
+      check(beforePath, "unchanged", { expectedSha256: before.sha256, actualSha256: now });
     } else {
       result.changed.push({ path: file.relPath, expectedSha256: before.sha256, actualSha256: now });
+      check(beforePath, "changed", { expectedSha256: before.sha256, actualSha256: now });
     }
   }
   for (const p of crawl.problems) {
     const tail = [...earlier.keys()].find((e) => e === p.relPath || toPosix(p.absPath).endsWith(`/${e}`));
     if (tail === undefined) continue;
     present.add(tail);
-    if (earlier.get(tail)?.sha256) result.unreadable.push({ path: p.relPath, reason: p.message });
+    const sha = earlier.get(tail)?.sha256;
+    if (sha) {
+      result.unreadable.push({ path: p.relPath, reason: p.message });
+      check(tail, "unreadable", { expectedSha256: sha, detail: p.message });
+    }
   }
-  for (const f of report?.files ?? []) if (!present.has(f.path) && f.sha256 && inScope(f.path)) result.missing.push(f.path);
+  for (const f of report?.files ?? []) {
+    if (present.has(f.path) || !f.sha256 || !inScope(f.path)) continue;
+    result.missing.push(f.path);
+    check(f.path, "missing", { expectedSha256: f.sha256 });
+  }
   return result;
 }
 
@@ -240,12 +262,50 @@ async function verifyBagCommand(dir: string, options: VerifyOptions, io: CliIo):
   return verdict.problems.every((p) => p.kind === "unreadable") ? EXIT_CODES.unreadable : EXIT_CODES.failed;
 }
 
+/** The server takes at most this many checks a request. */
+const CHECKS_PER_REQUEST = 1000;
+
+/** verify --upload: each file's outcome to the server's fixity history, in slices. */
+async function uploadChecks(comparison: FixityComparison, target: { server: string | null; collection: string | null }, io: CliIo): Promise<number> {
+  const log = (line: string): void => void io.stderr.write(`tidemark: ${line}\n`);
+  const { server, token } = await resolveCredentials(target.server, io.env);
+  const client = createApiClient(server, token, retryPolicyFrom(io.env), (attempt, problem) => log(`fixity upload attempt ${attempt} failed (${problem}); retrying`));
+  const checkedAt = new Date().toISOString();
+  let sent = 0;
+  let changed = 0;
+  let unknown = 0;
+  try {
+    for (let i = 0; i < comparison.checks.length; i += CHECKS_PER_REQUEST) {
+      const body: FixityCheckUploadRequest = { collection: target.collection!, checkedAt, checks: comparison.checks.slice(i, i + CHECKS_PER_REQUEST) };
+      const answer = await client.postJson<FixityCheckUploadResultDto>("/api/fixity-checks", body);
+      sent += answer.body.stored;
+      changed += answer.body.changed;
+      unknown += answer.body.unknownPaths;
+    }
+  } catch (error) {
+    if (error instanceof UploadRejectedError) {
+      log(`the server refused the fixity checks after ${sent} of ${comparison.checks.length}: ${error.message}`);
+      return EXIT_CODES.usage;
+    }
+    log(`not delivered: ${sent} of ${comparison.checks.length} fixity checks reached ${server} (${oneLine(error)}); run the same verify again to send them`);
+    return EXIT_CODES.notDelivered;
+  }
+  log(`sent ${sent} fixity checks to ${server} (collection "${target.collection}"): ${changed} changed${unknown ? `, ${unknown} of paths the collection has no scan of` : ""}`);
+  return EXIT_CODES.ok;
+}
+
 export async function verifyCommand(paths: string[], options: VerifyOptions, io: CliIo): Promise<number> {
   if (options.against === null && options.checksums.length === 0 && paths.length === 1 && (await isBag(path.resolve(io.cwd, paths[0])))) {
     return verifyBagCommand(paths[0], options, io);
   }
+  if (options.upload && options.against === null) throw new UsageError("--upload sends the comparison with an earlier report: add --against REPORT.json");
+  if (options.upload && !options.upload.collection) throw new UsageError("--upload needs the collection the files were scanned into: --collection NAME (or tidemark.json)");
   const comparison = await compareFixity(paths, options, io);
   io.stdout.write(options.json ? `${JSON.stringify(comparison, null, 2)}\n` : fixityText(comparison));
+  if (options.upload) {
+    const code = await uploadChecks(comparison, options.upload, io);
+    if (code !== EXIT_CODES.ok) return code;
+  }
   const bad = comparison.changed.length + comparison.missing.length + comparison.checksumMismatches.length + comparison.orphanChecksums.length;
   if (bad > 0) return EXIT_CODES.failed;
   return comparison.unreadable.length > 0 ? EXIT_CODES.unreadable : EXIT_CODES.ok;

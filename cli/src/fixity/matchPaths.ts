@@ -21,6 +21,8 @@ export interface PathAlignment {
    * below the scan's root, every earlier path otherwise (verify ran above the scan's root, or nothing matched).
    */
   inScope: (earlierPath: string) => boolean;
+  /** Today's relative path as the earlier report would write it (the common offset put in front). */
+  toEarlier: (relPath: string) => string;
 }
 
 /** `a/b/c.wav` → ["c.wav", "b/c.wav", "a/b/c.wav"] */
@@ -48,21 +50,27 @@ export function alignPaths(current: readonly { relPath: string; absPosix: string
     matches.push({ relPath: file.relPath, earlier: best });
   }
 
-  // Offset: what the earlier path has in front of today's relative path ("" when they agree).
-  const offsets = new Map<string, number>();
-  let above = 0;
+  // Offset between the two path spaces: "+X" when earlier paths carry X in front of today's relative paths
+  // (verify ran below the scan's root), "-X" when today's carry X in front (verify ran above it). The most
+  // common one wins (an exact match breaks ties); matches that disagree with it are coincidences of name,
+  // such as a file moved into a sub-folder, and are dropped so the SHA-256 can find them instead.
+  const keyOf = (m: PathMatch): string | null => {
+    if (m.earlier === null) return null;
+    return m.earlier.endsWith(m.relPath) ? `+${m.earlier.slice(0, m.earlier.length - m.relPath.length)}` : `-${m.relPath.slice(0, m.relPath.length - m.earlier.length)}`;
+  };
+  const votes = new Map<string, number>();
   for (const m of matches) {
-    if (m.earlier === null) continue;
-    if (m.earlier.endsWith(m.relPath) && (m.earlier.length === m.relPath.length || m.earlier[m.earlier.length - m.relPath.length - 1] === "/")) {
-      const offset = m.earlier.slice(0, m.earlier.length - m.relPath.length);
-      offsets.set(offset, (offsets.get(offset) ?? 0) + 1);
-    } else {
-      above += 1;
-    }
+    const key = keyOf(m);
+    if (key !== null) votes.set(key, (votes.get(key) ?? 0) + 1);
   }
-  let offset = "";
-  let votes = 0;
-  for (const [o, n] of offsets) if (n > votes) [offset, votes] = [o, n];
-  const inScope = offset !== "" && votes >= above ? (p: string) => p.startsWith(offset) : () => true;
-  return { matches, inScope };
+  let best: string | null = null;
+  for (const [key, n] of votes) {
+    const current = best === null ? -1 : votes.get(best)!;
+    if (n > current || (n === current && (key === "+" || (best !== "+" && key.length < best!.length)))) best = key;
+  }
+  for (const [i, m] of matches.entries()) if (m.earlier !== null && keyOf(m) !== best) matches[i] = { relPath: m.relPath, earlier: null };
+  const offset = best !== null && best.startsWith("+") ? best.slice(1) : "";
+  const below = offset !== "";
+  const inScope = below ? (p: string) => p.startsWith(offset) : () => true;
+  return { matches, inScope, toEarlier: (relPath) => (below ? offset + relPath : relPath) };
 }
