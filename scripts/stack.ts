@@ -68,6 +68,8 @@ async function main(): Promise<void> {
   log("building the portal…");
   await run("npm", ["run", "build", "-w", "web", "--silent"]);
   await run(process.execPath, ["cli/bin/build.mjs"]); // the seed's scans start quicker from the bundle
+  // The self-contained CLI tarball the tokens page offers for `npm install -g` (cli/pack).
+  await run(process.execPath, ["scripts/pack-cli.mjs"]);
 
   server = spawn(process.execPath, ["--import", "tsx", path.join(projectRoot, "server/src/main.ts")], {
     cwd: projectRoot,

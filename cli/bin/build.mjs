@@ -6,38 +6,10 @@
 // bundle only while they all still match, and falls back to the sources through tsx otherwise.
 import { readdirSync, rmSync, statSync, writeFileSync } from "node:fs";
 import path from "node:path";
-import { fileURLToPath } from "node:url";
-import { build } from "esbuild";
+import { bundleCli, cliDir, repoRoot } from "./bundle.mjs";
 
-const cliDir = path.resolve(path.dirname(fileURLToPath(import.meta.url)), "..");
-const repoRoot = path.resolve(cliDir, "..");
 const outdir = path.join(cliDir, "dist");
-
-/** Bare imports are npm packages (external) except our workspace packages, which are TypeScript sources. */
-const externalPackages = {
-  name: "external-packages",
-  setup(b) {
-    b.onResolve({ filter: /^[^./]/ }, (args) => (args.path.startsWith("@tidemark/") ? undefined : { path: args.path, external: true }));
-  },
-};
-
-const result = await build({
-  absWorkingDir: repoRoot,
-  entryPoints: { bin: "cli/src/bin.ts", scanWorker: "cli/src/scan/scanWorker.ts" },
-  outdir,
-  bundle: true,
-  // Chunks keep the lazily imported commands lazy; every file lands in dist/ itself, so the sources'
-  // relative URLs (../package.json, ./scanWorker.js) resolve alike from any of them.
-  splitting: true,
-  chunkNames: "[name]-[hash]",
-  format: "esm",
-  platform: "node",
-  target: "node20",
-  sourcemap: "linked",
-  metafile: true,
-  logLevel: "warning",
-  plugins: [externalPackages],
-});
+const result = await bundleCli({ outdir });
 
 // Chunk names carry content hashes, so earlier builds leave theirs behind. They are removed once they are
 // old enough that no tidemark started from them can still be loading its lazy chunks (that happens in its

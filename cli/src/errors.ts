@@ -2,23 +2,39 @@
  * Exit codes and the errors that carry them. Commands throw; only bin.ts (through reportAndExit) exits.
  */
 export const EXIT_CODES = {
-  /** No file failed its profile. */
+  /** No file failed its profile (warnings allowed unless --fail-on warn). */
   ok: 0,
-  /** A file failed its profile or could not be read (also: verify found a changed or missing file). */
+  /** A file failed its profile, or warned with --fail-on warn (verify: a file changed or went missing). */
   failed: 1,
   /** Bad invocation, bad profile, or a path that does not exist. */
   usage: 2,
+  /** A file could not be read and none failed (verify: a file could not be read and none changed). */
+  unreadable: 3,
+  /** The upload did not reach the server: the batch is spooled, to be sent later with `tidemark upload --spool`. */
+  notDelivered: 4,
   /** Interrupted (Ctrl-C / SIGTERM); the partial report and resume state were written. */
   interrupted: 130,
 } as const;
+
+/** Which verdicts fail a run: the profile's fails only, or warnings too (`--fail-on warn`). */
+export type FailOn = "fail" | "warn";
+
+/** The exit code of a finished scan: failures first, then unreadable files. */
+export function scanExitCode(summary: { fail: number; warn: number; error: number }, failOn: FailOn): number {
+  if (summary.fail > 0 || (failOn === "warn" && summary.warn > 0)) return EXIT_CODES.failed;
+  if (summary.error > 0) return EXIT_CODES.unreadable;
+  return EXIT_CODES.ok;
+}
 
 export type ExitCode = (typeof EXIT_CODES)[keyof typeof EXIT_CODES];
 
 export const EXIT_CODES_HELP = `
 Exit codes:
-  0    no file failed
-  1    a file failed its profile or could not be read (verify: a file changed or went missing)
+  0    no file failed (warnings allowed unless --fail-on warn)
+  1    a file failed its profile, or warned with --fail-on warn (verify: a file changed or went missing)
   2    bad invocation, bad profile, or a path that does not exist
+  3    a file could not be read and none failed (verify: unreadable, none changed)
+  4    the upload was only spooled, not delivered: send it later with tidemark upload --spool
   130  interrupted (Ctrl-C); the partial report and resume state were written`;
 
 /** Ends the program with `exitCode`; `message` (one line) is printed to stderr when given. */

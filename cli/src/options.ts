@@ -70,8 +70,17 @@ export interface UploadTarget {
   batchKey: string | null;
 }
 
+/** `--fail-on`: the verdict from which a run exits 1. */
+export const FAIL_ON_LEVELS = ["fail", "warn"] as const;
+
+/** `--progress`: auto shows a live line on a terminal only; json writes one JSON object a line to stderr. */
+export const PROGRESS_MODES = ["auto", "json"] as const;
+export type ProgressMode = (typeof PROGRESS_MODES)[number];
+
 export interface ScanOptions {
   profile: string;
+  /** Whether the profile was asked for, came from tidemark.json, or is the built-in default. */
+  profileFrom: "flag" | "tidemark.json" | "default";
   /** null: table on a TTY, else from --out's extension, else json. */
   format: ReportFormat | null;
   out: string | null;
@@ -83,15 +92,43 @@ export interface ScanOptions {
   exclude: string[];
   resume: string | null;
   quiet: boolean;
+  progress: ProgressMode;
+  failOn: "fail" | "warn";
+  /** --checksums: md5sum/sha256sum-style manifests whose lines each file is checked against. */
+  checksums: string[];
+  /** --bag: write a BagIt bag of the scanned files, with the report as a tag file, into this folder. */
+  bag: string | null;
   /** null unless --upload was given. */
   upload: UploadTarget | null;
 }
 
 export interface VerifyOptions {
-  against: string;
+  /** The earlier report; null verifies a BagIt bag against its own manifests. */
+  against: string | null;
   include: string[];
   exclude: string[];
   json: boolean;
+  quiet: boolean;
+  progress: ProgressMode;
+  /** --checksums manifests, as for scan. */
+  checksums: string[];
+  /** --upload: send each file's outcome to the server's fixity history (null without it). */
+  upload: { server: string | null; collection: string | null } | null;
+}
+
+/** `tidemark init`: what to write into tidemark.json (null: ask on a terminal, else leave out). */
+export interface InitOptions {
+  profile: string | null;
+  collection: string | null;
+  server: string | null;
+  include: string[];
+  exclude: string[];
+  spectrograms: string | null;
+  failOn: "fail" | "warn" | null;
+  /** Overwrite an existing tidemark.json. */
+  force: boolean;
+  /** Ask nothing, even on a terminal. */
+  yes: boolean;
 }
 
 export interface UploadOptions extends UploadTarget {

@@ -22,9 +22,11 @@ import { auditRouter } from "./routes/audit.ts";
 import { batchesRouter } from "./routes/batches.ts";
 import { collectionsRouter } from "./routes/collections.ts";
 import { commentsRouter } from "./routes/comments.ts";
+import { cliDownloadRouter, cliPackageRouter } from "./routes/downloads.ts";
 import { duplicatesRouter } from "./routes/duplicates.ts";
 import { exportsRouter } from "./routes/exports.ts";
 import { filesRouter } from "./routes/files.ts";
+import { fixityChecksRouter } from "./routes/fixityChecks.ts";
 import { healthRouter } from "./routes/health.ts";
 import { ingestRouter } from "./routes/ingest.ts";
 import { jobsRouter } from "./routes/jobs.ts";
@@ -111,12 +113,15 @@ export function createApp(deps: AppDeps): Express {
   api.use(duplicatesRouter(ctx));
   api.use(commentsRouter(ctx));
   api.use(ingestRouter(ctx));
+  api.use(fixityChecksRouter(ctx));
   api.use(runsRouter(ctx));
   api.use(jobsRouter(ctx));
   api.use(exportsRouter(ctx));
   api.use(auditRouter());
+  api.use(cliPackageRouter(ctx));
   api.use(notFoundHandler);
   app.use("/api", api);
+  app.use(cliDownloadRouter(ctx));
 
   if (settings.webDistDir && existsSync(path.join(settings.webDistDir, "index.html"))) app.use(portal(settings.webDistDir));
   app.use(notFoundHandler);

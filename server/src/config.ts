@@ -33,6 +33,8 @@ export interface Config {
   dataDir: string;
   objectStore: ObjectStoreConfig;
   webDistDir: string;
+  /** Where `npm run pack:cli` leaves the CLI tarball (CLI_PACKAGE_DIR, default cli/pack). */
+  cliPackageDir: string;
   /** Express "trust proxy" setting: false, a hop count, or a list of addresses/subnets. */
   trustProxy: boolean | number | string;
   demoPassword: string;
@@ -117,6 +119,7 @@ export function loadConfig(env: NodeJS.ProcessEnv = process.env): Config {
     dataDir,
     objectStore: objectStoreFrom(env, dataDir),
     webDistDir: path.resolve(projectRoot, env.WEB_DIST_DIR || "web/dist"),
+    cliPackageDir: path.resolve(projectRoot, env.CLI_PACKAGE_DIR || "cli/pack"),
     trustProxy: parseTrustProxy(env.TRUST_PROXY),
     demoPassword: env.DEMO_PASSWORD || "harbourside-demo",
     demoSeed: parseBoolean(env.DEMO_SEED, env.NODE_ENV !== "production", "DEMO_SEED"),

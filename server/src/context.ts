@@ -27,6 +27,8 @@ export interface AppSettings {
   trustProxy: boolean | number | string;
   /** Built portal to serve at /, or null to serve the API only. */
   webDistDir: string | null;
+  /** Folder holding `npm run pack:cli`'s tarball, offered for download; null offers none. */
+  cliPackageDir: string | null;
   passwordCost: ScryptCost;
   /** Failed sign-ins per client address. */
   loginRateLimit: RateLimitSettings;
@@ -42,6 +44,7 @@ export interface AppSettings {
 export const DEFAULT_SETTINGS: Omit<AppSettings, "publicUrl" | "sessionSecret"> = {
   trustProxy: false,
   webDistDir: null,
+  cliPackageDir: null,
   passwordCost: DEFAULT_SCRYPT_COST,
   loginRateLimit: { windowMs: 15 * 60_000, limit: 10 },
   passwordResetRateLimit: { windowMs: 15 * 60_000, limit: 5 },

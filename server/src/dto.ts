@@ -7,6 +7,7 @@ import type {
   FileDetailDto,
   FileSummaryDto,
   FindingDto,
+  FixityCheckDto,
   FixityEntryDto,
   ReviewEventDto,
   TokenDto,
@@ -14,7 +15,7 @@ import type {
   UserRefDto,
 } from "@tidemark/shared/types/api";
 import type { FileListRow } from "./services/fileList.ts";
-import type { ApiToken, AuditEntry, Batch, Collection, Comment, FileResult, Finding, ReviewEvent, User } from "./models/index.ts";
+import type { ApiToken, AuditEntry, Batch, Collection, Comment, FileResult, Finding, FixityCheck, ReviewEvent, User } from "./models/index.ts";
 
 const iso = (d: Date): string => d.toISOString();
 
@@ -103,11 +104,24 @@ export const toReviewEventDto = (e: ReviewEvent): ReviewEventDto => ({
   createdAt: iso(e.createdAt),
 });
 
+export const toFixityCheckDto = (c: FixityCheck): FixityCheckDto => ({
+  id: c.id,
+  checkedAt: iso(c.checkedAt),
+  outcome: c.outcome,
+  expectedSha256: c.expectedSha256,
+  actualSha256: c.actualSha256,
+  movedTo: c.movedTo,
+  detail: c.detail,
+  by: toUserRefDto(required(c.user, "fixityCheck.user")),
+  tokenName: c.token?.name ?? null,
+});
+
 export interface FileDetailParts {
   findings: Finding[];
   comments: Comment[];
   reviewEvents: ReviewEvent[];
   fixityHistory: FixityEntryDto[];
+  fixityChecks: FixityCheck[];
 }
 
 export const toFileDetailDto = (f: FileResult, parts: FileDetailParts): FileDetailDto => ({
@@ -121,6 +135,7 @@ export const toFileDetailDto = (f: FileResult, parts: FileDetailParts): FileDeta
   comments: parts.comments.map(toCommentDto),
   reviewEvents: parts.reviewEvents.map(toReviewEventDto),
   fixityHistory: parts.fixityHistory,
+  fixityChecks: parts.fixityChecks.map(toFixityCheckDto),
   spectrogramUrl: f.spectrogramKey ? `/api/files/${f.id}/spectrogram.png` : null,
   waveformUrl: f.waveformKey ? `/api/files/${f.id}/waveform.png` : null,
 });

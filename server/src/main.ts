@@ -60,6 +60,7 @@ async function main(): Promise<void> {
       sessionSecret: config.sessionSecret,
       trustProxy: config.trustProxy,
       webDistDir: config.webDistDir,
+      cliPackageDir: config.cliPackageDir,
       uploadTmpDir,
     },
   });

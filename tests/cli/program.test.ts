@@ -30,6 +30,7 @@ async function parse(argv: string[], exitCode = 0): Promise<{ call: Call | null;
     profiles: record("profiles"),
     login: record("login"),
     match: record("match"),
+    init: record("init"),
   };
   let output = "";
   const program = createProgram(actions, () => io);
@@ -47,6 +48,7 @@ async function parse(argv: string[], exitCode = 0): Promise<{ call: Call | null;
 
 const scanDefaults = {
   profile: "access-copy",
+  profileFrom: "default",
   format: null,
   out: null,
   spectrograms: null,
@@ -56,6 +58,10 @@ const scanDefaults = {
   exclude: [],
   resume: null,
   quiet: false,
+  progress: "auto",
+  failOn: "fail",
+  checksums: [],
+  bag: null,
   upload: null,
 };
 
@@ -64,7 +70,7 @@ describe("createProgram argv table", () => {
     [["scan", "reels"], { command: "scan", args: [["reels"], scanDefaults] }],
     [
       ["scan", "a", "b", "-p", "broadcast-loudness", "--format", "junit", "-o", "r.xml", "-w", "2", "--quiet"],
-      { command: "scan", args: [["a", "b"], { ...scanDefaults, profile: "broadcast-loudness", format: "junit", out: "r.xml", workers: 2, quiet: true }] },
+      { command: "scan", args: [["a", "b"], { ...scanDefaults, profile: "broadcast-loudness", profileFrom: "flag", format: "junit", out: "r.xml", workers: 2, quiet: true }] },
     ],
     [
       ["scan", "x", "--include", "*.wav", "--include", "*.W64", "--exclude", "rejects/**", "--resume", "s.jsonl", "--spectrograms", "png"],
@@ -79,7 +85,8 @@ describe("createProgram argv table", () => {
     ],
     [["scan", "x", "--upload"], { command: "scan", args: [["x"], { ...scanDefaults, upload: { server: null, collection: null, batchKey: null } }] }],
     [["scan", "x", "--no-fingerprint"], { command: "scan", args: [["x"], { ...scanDefaults, fingerprint: false }] }],
-    [["verify", "reels", "--against", "r.json"], { command: "verify", args: [["reels"], { against: "r.json", include: scanDefaults.include, exclude: [], json: false }] }],
+    [["verify", "bag-17"], { command: "verify", args: [["bag-17"], { against: null, include: scanDefaults.include, exclude: [], json: false, quiet: false, progress: "auto", checksums: [], upload: null }] }],
+    [["verify", "reels", "--against", "r.json"], { command: "verify", args: [["reels"], { against: "r.json", include: scanDefaults.include, exclude: [], json: false, quiet: false, progress: "auto", checksums: [], upload: null }] }],
     [["upload", "r.json", "--collection", "Ferry Terminal Interviews 1978"], { command: "upload", args: ["r.json", { spool: false, server: null, collection: "Ferry Terminal Interviews 1978", batchKey: null }] }],
     [["upload", "--spool"], { command: "upload", args: [null, { spool: true, server: null, collection: null, batchKey: null }] }],
     [["profiles"], { command: "profiles", args: [null, { json: false }] }],
@@ -96,13 +103,31 @@ describe("createProgram argv table", () => {
   });
 
   it.each([
+    [["scan", "x", "--fail-on", "warn", "--progress", "json"], { ...scanDefaults, failOn: "warn", progress: "json" }],
+    [["scan", "x", "-p", "preservation-master"], { ...scanDefaults, profile: "preservation-master", profileFrom: "flag" }],
+  ])("%j parses --fail-on, --progress and where the profile came from", async (argv, expected) => {
+    const { call, error } = await parse(argv);
+    expect(error).toBeNull();
+    expect(call).toEqual({ command: "scan", args: [["x"], expected] });
+  });
+
+  it("parses init's flags", async () => {
+    const { call, error } = await parse(["init", "-p", "preservation-master", "--collection", "Lighthouse Choir Reels", "--fail-on", "warn", "--include", "*.wav", "-y"]);
+    expect(error).toBeNull();
+    expect(call).toEqual({
+      command: "init",
+      args: [{ profile: "preservation-master", collection: "Lighthouse Choir Reels", server: null, include: ["*.wav"], exclude: [], spectrograms: null, failOn: "warn", force: false, yes: true }],
+    });
+  });
+
+  it.each([
+    [["scan", "x", "--fail-on", "info"], "commander.invalidArgument", /Allowed choices are fail, warn/],
     [["scan"], "commander.missingArgument", /missing required argument 'paths'/],
     [["scan", "x", "--format", "pdf"], "commander.invalidArgument", /Allowed choices are table, json, csv, junit/],
     [["scan", "x", "--workers", "0"], "commander.invalidArgument", /expected a whole number of workers from 1 to 64, got "0"/],
     [["scan", "x", "--workers", "two"], "commander.invalidArgument", /got "two"/],
     [["scan", "x", "--upload", "--server", "ftp://x"], "commander.invalidArgument", /expected an http:\/\/ or https:\/\/ URL/],
     [["scan", "x", "--frobnicate"], "commander.unknownOption", /unknown option '--frobnicate'/],
-    [["verify", "x"], "commander.missingMandatoryOptionValue", /--against/],
     [["login", "--server", "http://h", "--token", "nocolon"], "commander.invalidArgument", /id:secret/],
     [["bogus"], "commander.unknownCommand", /unknown command 'bogus'/],
   ])("%j is a usage error (exit 2)", async (argv, code, message) => {
@@ -133,14 +158,14 @@ describe("createProgram argv table", () => {
     expect(exitCodeFor(error)).toBe(1);
   });
 
-  // Exit codes as fixed by shared/README.md (0 / 1 / 2) and issue #5 (130 interrupted).
+  // Exit codes as the README's table fixes them (0 / 1 / 2 / 3 / 4 / 130).
   it("prints the version from cli/package.json and lists the exit codes in --help", async () => {
     const pkg = JSON.parse(readFileSync(new URL("../../cli/package.json", import.meta.url), "utf8")) as { version: string };
     const version = await parse(["--version"]);
     expect(version.output.trim()).toBe(pkg.version);
     expect(exitCodeFor(version.error)).toBe(0);
     const help = await parse(["--help"]);
-    expect(help.output).toMatch(/Exit codes:\n\s+0\s+no file failed\n\s+1\s+.*\n\s+2\s+bad invocation.*\n\s+130\s+interrupted/);
+    expect(help.output).toMatch(/Exit codes:\n\s+0\s+no file failed.*\n\s+1\s+.*\n\s+2\s+bad invocation.*\n\s+3\s+a file could not be read.*\n\s+4\s+the upload was only spooled.*\n\s+130\s+interrupted/);
     expect(exitCodeFor(help.error)).toBe(0);
   });
 });

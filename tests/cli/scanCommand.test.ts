@@ -16,6 +16,7 @@ import { hardClip, pinkNoise, sine } from "../fixtures/synth.ts";
 import { encodeWav } from "../fixtures/wavWriter.ts";
 import type { ScanReport } from "../../shared/src/types/report.ts";
 import { DEFAULT_ANALYSIS_SETTINGS } from "../../shared/src/types/settings.ts";
+import { validateWithXmllint } from "../helpers/xmlSchema.ts";
 import { isolatedEnv, repoRoot, runCli, withoutTimestamps } from "./runCli.ts";
 
 let dir: string;
@@ -148,17 +149,30 @@ describe("tidemark scan (real binary)", () => {
     expect(rows.find((x) => x.path === "Reels/notes.wav")?.error_code).toBe("not-riff");
   });
 
-  it("writes JUnit XML that fast-xml-parser reads back: a testcase a file, a failure per fail finding", async () => {
+  it("writes JUnit XML valid against the published JUnit schema: a testcase a file, one failure per failed file", async () => {
     const r = await scan(["archive", "--format", "junit", "-w", "2"]);
     expect(r.exitCode).toBe(1);
     expect(XMLValidator.validate(r.stdout)).toBe(true);
-    const doc = new XMLParser({ ignoreAttributes: false, attributeNamePrefix: "@", isArray: (n) => n === "testcase" || n === "failure" }).parse(r.stdout);
-    const cases = doc.testsuites.testsuite.testcase as Record<string, unknown>[];
+    // Source: junit-10.xsd (../shared/reference, the schema a widely used CI server imports), checked by Debian's xmllint.
+    const lint = validateWithXmllint(r.stdout, "junit-10.xsd");
+    expect(lint.output).toContain("validates");
+    expect(lint.valid).toBe(true);
+    const doc = new XMLParser({ ignoreAttributes: false, attributeNamePrefix: "@", isArray: (n) => n === "testcase" || n === "failure" || n === "property" }).parse(r.stdout);
+    const suite = doc.testsuites.testsuite;
+    expect(suite["@name"]).toBe("archive");
+    const props = Object.fromEntries((suite.properties.property as Record<string, string>[]).map((p) => [p["@name"], p["@value"]]));
+    expect(props.profile).toBe(report.profile.name);
+    expect(props["profile.hash"]).toBe(report.profile.hash);
+    const cases = suite.testcase as Record<string, unknown>[];
     expect(cases.map((c) => c["@name"])).toEqual(report.files.map((f) => f.path));
     for (const [i, f] of report.files.entries()) {
-      const fails = f.error ? 0 : f.findings.filter((x) => x.severity === "fail").length;
-      expect(((cases[i].failure as unknown[] | undefined) ?? []).length, f.path).toBe(fails);
+      const fails = f.error ? [] : f.findings.filter((x) => x.severity === "fail");
+      const failure = (cases[i].failure as Record<string, string>[] | undefined) ?? [];
+      expect(failure.length, f.path).toBe(fails.length > 0 ? 1 : 0);
+      if (fails.length > 0) for (const x of fails) expect(failure[0]["#text"]).toContain(x.message.slice(0, 40));
     }
+    expect(Number(suite["@failures"])).toBe(report.files.filter((f) => !f.error && f.findings.some((x) => x.severity === "fail")).length);
+    expect(Number(suite["@errors"])).toBe(report.summary.error);
     expect(cases[3].error).toMatchObject({ "@type": "not-riff" });
   });
 
@@ -192,7 +206,8 @@ describe("tidemark scan (real binary)", () => {
     symlinkSync(hostile, path.join(hostile, "reel", "back"));
     writeFileSync(path.join(hostile, "reel", "tone.wav"), readFileSync(path.join(dir, "archive/Ferry/tone-1k.wav")));
     const r = await scan(["hostile", "--format", "json", "-w", "1"]);
-    expect(r.exitCode).toBe(1);
+    // Exit-code table (README): 3 = a file could not be read and none failed.
+    expect(r.exitCode).toBe(3);
     expect(r.stderr).not.toMatch(/\n\s+at /);
     const hostileReport = parseReport(r.stdout);
     expect(hostileReport.files.map((f) => [f.path, f.verdict, f.error?.code ?? null])).toEqual([

@@ -1,6 +1,6 @@
 /** Fixity with the real binary: `tidemark verify` against an earlier scan's report finds a one-byte change. */
 import { createHash } from "node:crypto";
-import { mkdirSync, mkdtempSync, readFileSync, rmSync, unlinkSync, writeFileSync } from "node:fs";
+import { mkdirSync, mkdtempSync, readFileSync, renameSync, rmSync, unlinkSync, writeFileSync } from "node:fs";
 import { tmpdir } from "node:os";
 import path from "node:path";
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
@@ -29,7 +29,7 @@ afterAll(() => rmSync(dir, { recursive: true, force: true }));
 describe("tidemark verify (real binary)", () => {
   it("finds nothing changed right after the scan", async () => {
     const r = await cli(["verify", "choir", "--against", "before.json"]);
-    expect(r.stdout).toBe("3 unchanged, 0 changed, 0 missing, 0 unreadable, 0 new (against before.json)");
+    expect(r.stdout).toBe("3 unchanged, 0 changed, 0 missing, 0 unreadable, 0 new, 0 moved (against before.json)");
     expect(r.exitCode).toBe(0);
   });
 
@@ -61,6 +61,32 @@ describe("tidemark verify (real binary)", () => {
     expect(text.stdout).toMatch(/^changed {5}reel-2\/take-1\.wav {2}\(sha256 was [0-9a-f]{16}…, now [0-9a-f]{16}…\)$/m);
     expect(text.stdout).toMatch(/^missing {5}reel-2\/take-2\.wav$/m);
     expect(text.stdout).toMatch(/^new {9}reel-3\.wav$/m);
+  });
+
+  it("matches the same files from another folder, and checks a sub-folder without calling the rest missing", async () => {
+    const fromElsewhere = await runCli(["verify", path.join(dir, "choir"), "--against", path.join(dir, "before.json"), "--json"], { cwd: tmpdir(), env });
+    const c = JSON.parse(fromElsewhere.stdout) as FixityComparison;
+    expect(c.unchanged).toEqual(["reel-1.wav"]);
+    expect(c.changed.map((x) => x.path)).toEqual(["reel-2/take-1.wav"]);
+    expect(c.missing).toEqual(["reel-2/take-2.wav"]);
+
+    const sub = await cli(["verify", "choir/reel-2", "--against", "before.json", "--json"]);
+    const s = JSON.parse(sub.stdout) as FixityComparison;
+    expect(s.changed.map((x) => x.path)).toEqual(["take-1.wav"]);
+    expect(s.missing).toEqual(["reel-2/take-2.wav"]);
+    expect(s.new).toEqual([]);
+    expect(s.unchanged).toEqual([]);
+  });
+
+  it("reports a file moved to another folder as moved (same SHA-256), not missing plus new", async () => {
+    renameSync(path.join(dir, "choir", "reel-1.wav"), path.join(dir, "choir", "reel-2", "reel-1 (moved).wav"));
+    const r = await cli(["verify", "choir", "--against", "before.json", "--json"]);
+    const c = JSON.parse(r.stdout) as FixityComparison;
+    expect(c.moved).toEqual([{ from: "reel-1.wav", to: "reel-2/reel-1 (moved).wav" }]);
+    expect(c.missing).toEqual(["reel-2/take-2.wav"]);
+    expect(c.new).toEqual(["reel-3.wav"]);
+    const text = await cli(["verify", "choir", "--against", "before.json"]);
+    expect(text.stdout).toMatch(/^moved {7}reel-1\.wav → reel-2\/reel-1 \(moved\)\.wav {2}\(same SHA-256\)$/m);
   });
 
   it("refuses a file that is not a report, naming the bad field, with exit 2", async () => {

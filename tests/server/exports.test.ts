@@ -3,6 +3,8 @@ import { parse } from "csv-parse/sync";
 import type TestAgent from "supertest/lib/agent.js";
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import { CSRF_HEADER } from "@tidemark/shared/types/api";
+import { CSV_COLUMNS, reportToCsv } from "@tidemark/shared/report/csvReport";
+import { REPORT_SCHEMA_ID } from "@tidemark/shared/types/report";
 import { finding, ingest, scanReport, sha } from "./helpers/reports.ts";
 import { startTestApp, type TestApp } from "./helpers/testApp.ts";
 
@@ -57,10 +59,18 @@ describe("files.csv", () => {
       integrated_lufs: "-14.25",
       true_peak_dbtp: "0.5",
       sample_rate_hz: "96000",
-      finding_codes: "clipping hum",
+      finding_codes: "clipping;hum",
     });
     expect(Number(foghorn.batch_id)).toBe(batchId);
+    expect(Number(foghorn.file_result_id)).toBeGreaterThan(0);
     expect(rows.find((r) => r.path.includes("ticket"))!.sha256).toBe(sha("ticket"));
+  });
+
+  it("has the same columns, in the same order, as the CLI's --format csv", async () => {
+    const server = (await auditor.get("/api/exports/files.csv")).text.split("\r\n")[0];
+    const cli = reportToCsv({ schema: REPORT_SCHEMA_ID, tool: { name: "tidemark", version: "0" }, profile: { name: "access-copy" }, startedAt: "2026-01-15T10:00:00.000Z", finishedAt: "2026-01-15T10:00:01.000Z", summary: { files: 0, pass: 0, warn: 0, fail: 0, error: 0 }, files: [] }).split("\r\n")[0];
+    expect(server).toBe(cli);
+    expect(server.split(",")).toEqual([...CSV_COLUMNS]);
   });
 
   it("defuses spreadsheet formulas in text cells (OWASP CSV injection) but keeps negative numbers", async () => {

@@ -85,6 +85,9 @@ const ROUTES: RouteCase[] = [
   { method: "post", path: () => "/api/password-reset", access: "public", accepts: both, ok: 202, body: () => ({ email: "nobody@harbourside.test" }) },
   { method: "post", path: () => "/api/password-reset/confirm", access: "public", accepts: both, ok: 400, body: () => ({ token: "nope", password: "a-long-enough-password" }) },
   { method: "get", path: () => "/api/session", access: "signedIn", accepts: both, ok: 200 },
+  { method: "post", path: () => "/api/fixity-checks", access: "upload", accepts: ["token"], ok: 404, body: () => ({ collection: "no such collection", checkedAt: new Date().toISOString(), checks: [{ path: "a.wav", outcome: "unchanged", expectedSha256: null, actualSha256: null, movedTo: null, detail: "" }] }) },
+  // The test app offers no CLI package: allowed callers learn that (404), others are refused first.
+  { method: "get", path: () => "/api/cli-package", access: "view", accepts: both, ok: 404 },
   { method: "get", path: () => "/api/collections", access: "view", accepts: both, ok: 200 },
   { method: "get", path: () => "/api/batches", access: "view", accepts: both, ok: 200 },
   { method: "get", path: (fx) => `/api/batches/${fx.batchId}`, access: "view", accepts: both, ok: 200 },

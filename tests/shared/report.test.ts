@@ -15,6 +15,7 @@ import {
 } from "../../shared/src/report/index.ts";
 import { reportJsonSchemaText } from "../../shared/src/report/reportJsonSchema.ts";
 import type { FileReport, Finding, ScanReport } from "../../shared/src/types/report.ts";
+import { validateWithXmllint } from "../helpers/xmlSchema.ts";
 
 const schemaPath = new URL("../../shared/schema/report.schema.json", import.meta.url);
 
@@ -151,26 +152,52 @@ describe("JUnit XML report", () => {
 
   // JUnit XML as CI servers read it (common practice: testsuites > testsuite > testcase > failure|error);
   // well-formedness and values checked with fast-xml-parser (npm).
-  it("is well-formed and has one testcase a file and a failure per fail finding", () => {
+  it("is valid against the published JUnit schema, one failure per failed file listing its fail findings", () => {
     const xml = reportToJunitXml(sampleReport());
     expect(XMLValidator.validate(xml)).toBe(true);
+    // Source: junit-10.xsd in ../shared/reference (the schema a widely used CI server imports), via Debian's xmllint.
+    expect(validateWithXmllint(xml, "junit-10.xsd")).toMatchObject({ valid: true });
     const doc = parser.parse(xml);
     const suite = doc.testsuites.testsuite;
     expect(suite["@tests"]).toBe("4");
-    expect(suite["@failures"]).toBe("2");
+    // failures counts failed testcases (one file with two fail findings is one failure), errors unreadable files.
+    expect(suite["@failures"]).toBe("1");
     expect(suite["@errors"]).toBe("1");
     expect(suite["@time"]).toBe("4.500");
     const cases = suite.testcase as Record<string, unknown>[];
     expect(cases.map((c) => c["@name"])).toEqual(sampleReport().files.map((f) => f.path));
     const clipped = cases[3];
-    expect((clipped.failure as unknown[]).length).toBe(2);
-    expect((clipped.failure as Record<string, string>[])[0]["@type"]).toBe("clipping");
-    // Escaped text comes back as it was written.
-    expect((clipped.failure as Record<string, string>[])[0]["@message"]).toBe(`clipping <at> "here" & 'there'`);
+    const failure = clipped.failure as Record<string, string>[];
+    expect(failure).toHaveLength(1);
+    expect(failure[0]["@type"]).toBe("clipping");
+    expect(failure[0]["@message"]).toBe("2 findings failed the profile: clipping ×2");
+    // Escaped text comes back as it was written, each finding with its time.
+    expect(failure[0]["#text"]).toBe(`fail clipping (channel 1) at 1.250–1.500 s: clipping <at> "here" & 'there'\nfail clipping (channel 1) at 2.000–2.250 s: clipping <at> "here" & 'there'`);
     expect(clipped["system-out"]).toContain("warn hum");
     expect(cases[0].error).toMatchObject({ "@type": "not-riff" });
     expect(cases[0].failure).toBeUndefined();
     expect(cases[1].failure).toBeUndefined();
+  });
+
+  it("names the profile in its properties and counts warnings as failures with --fail-on warn", () => {
+    const xml = reportToJunitXml(sampleReport(), { failOn: "warn" });
+    const doc = new XMLParser({ ignoreAttributes: false, attributeNamePrefix: "@", isArray: (name) => ["testcase", "failure", "property"].includes(name) }).parse(xml);
+    const suite = doc.testsuites.testsuite;
+    const props = Object.fromEntries((suite.properties.property as Record<string, string>[]).map((p) => [p["@name"], p["@value"]]));
+    expect(props).toMatchObject({ profile: "access-copy", "fail-on": "warn" });
+    // The warn file and the fail file (which also warns) fail.
+    expect(suite["@failures"]).toBe("2");
+  });
+
+  it("makes one testsuite per scan root, each with its own counts", () => {
+    const r = sampleReport();
+    const xml = reportToJunitXml(r, { suites: [{ name: "day-1", prefix: r.files[0].path.split("/")[0] }, { name: "rest", prefix: "" }] });
+    expect(validateWithXmllint(xml, "junit-10.xsd")).toMatchObject({ valid: true });
+    const doc = new XMLParser({ ignoreAttributes: false, attributeNamePrefix: "@", isArray: (name) => ["testsuite", "testcase"].includes(name) }).parse(xml);
+    const suites = doc.testsuites.testsuite as Record<string, unknown>[];
+    const total = suites.reduce((n, s) => n + Number(s["@tests"]), 0);
+    expect(total).toBe(r.files.length);
+    expect(doc.testsuites["@tests"]).toBe(String(r.files.length));
   });
 
   it("escapes the five XML specials and replaces characters XML 1.0 forbids (XML 1.0 §2.2)", () => {

@@ -73,6 +73,7 @@ export function fileDetail(id: number, overrides: Partial<FileDetailDto> = {}): 
     comments: [],
     reviewEvents: [],
     fixityHistory: [{ fileResultId: id, batchId: 3, sha256: "a".repeat(64), scannedAt: "2026-11-20T10:00:00.000Z", changed: false }],
+    fixityChecks: [],
     spectrogramUrl: `/api/files/${id}/spectrogram.png`,
     waveformUrl: `/api/files/${id}/waveform.png`,
     ...overrides,

@@ -26,6 +26,8 @@ export interface AudioFileResult {
   info: AudioFileInfo;
   /** Lowercase hex SHA-256 of every byte of the file. */
   sha256: string;
+  /** The further digests asked for with `digests`, lowercase hex. */
+  digests: Map<"md5" | "sha1" | "sha512", string>;
   sizeBytes: number;
   /** Float samples that were NaN/±Inf and were replaced by 0 (0 when no block consumer was given). */
   nonFiniteSamples: number;
@@ -42,6 +44,10 @@ export interface ReadAudioFileOptions {
   /** Frames per block handed to the consumer (default 65536). */
   blockFrames?: number;
   signal?: AbortSignal;
+  /** Called after each read with the bytes read so far (progress within a long file). */
+  onRead?: (bytesRead: number) => void;
+  /** Further digests of the file's bytes, beside SHA-256, computed in the same read (checksum sidecars). */
+  digests?: readonly ("md5" | "sha1" | "sha512")[];
   /**
    * Called once the header is read. Return a block consumer to have the audio decoded; it gets every block
    * in order, and the block's arrays are reused afterwards (copy what you keep). Return nothing to only hash.
@@ -126,6 +132,7 @@ async function readOpenFile(
       })
     : null;
   const hash = createHash("sha256");
+  const extra = (opts.digests ?? []).map((a) => [a, createHash(a)] as const);
   const timings = { readMs: 0, decodeMs: 0, hashMs: 0 };
   const bufferBytes = Math.max(1, Math.min(READ_BUFFER_BYTES, sizeBytes));
   const buffers = [new Uint8Array(bufferBytes), new Uint8Array(bufferBytes)];
@@ -154,10 +161,12 @@ async function readOpenFile(
       const chunkOffset = position;
       position += bytesRead;
       opts.signal?.throwIfAborted();
+      opts.onRead?.(position);
       // Start the next read into the other buffer before working on this one.
       if (position < sizeBytes) pending = readInto(buffers[1 - current], position);
       const t1 = performance.now();
       hash.update(chunk);
+      for (const [, h] of extra) h.update(chunk);
       const t2 = performance.now();
       timings.hashMs += t2 - t1;
       if (decoder) {
@@ -181,6 +190,7 @@ async function readOpenFile(
   return {
     info,
     sha256: hash.digest("hex"),
+    digests: new Map(extra.map(([a, h]) => [a, h.digest("hex")])),
     sizeBytes,
     nonFiniteSamples: samples?.nonFiniteSamples ?? 0,
     firstNonFiniteFrame: samples?.firstNonFiniteFrame ?? null,

@@ -5,20 +5,23 @@
 import { mkdir, mkdtemp, rename, rm, stat, writeFile } from "node:fs/promises";
 import { tmpdir } from "node:os";
 import path from "node:path";
-import { assembleReport, hasFailures } from "@tidemark/shared/report/assembleReport";
+import { assembleReport } from "@tidemark/shared/report/assembleReport";
 import { reportToJson } from "@tidemark/shared/report/jsonReport";
 import { reportWriters, type ReportFormat } from "@tidemark/shared/report/reportFormats";
 import type { FileReport, ScanReport } from "@tidemark/shared/types/report";
 import { resolveCredentials } from "../config/storedLogin.ts";
-import { EXIT_CODES, UsageError } from "../errors.ts";
+import { EXIT_CODES, scanExitCode, UsageError } from "../errors.ts";
 import type { CliIo } from "../io.ts";
 import type { ScanOptions, UploadTarget } from "../options.ts";
 import { loadProfile } from "../profiles/loadProfile.ts";
 import type { ScanContext } from "../scan/analyseFile.ts";
 import { errorReport } from "../scan/errorReport.ts";
-import { crawlFiles } from "../scan/crawlFiles.ts";
+import { assertBagTarget, writeBag, type BagFile } from "../fixity/bag.ts";
+import { expectedChecksums } from "../fixity/sidecars.ts";
+import { crawlFiles, type CrawledFile } from "../scan/crawlFiles.ts";
+import { junitSuitesOf } from "../scan/scanRoots.ts";
 import { watchInterrupts } from "../scan/interruption.ts";
-import { createScanProgress } from "../scan/progress.ts";
+import { createScanProgress, progressDisplay } from "../scan/progress.ts";
 import { openResumeState, type ResumeState } from "../scan/resumeState.ts";
 import { runScan } from "../scan/runScan.ts";
 import { toolInfo } from "../toolInfo.ts";
@@ -63,12 +66,31 @@ async function uploadReport(report: ScanReport, target: UploadTarget, defaultCol
   }
   if (outcome.kind === "spooled") {
     log(`${outcome.reason}`);
-    log(`the batch is kept in ${outcome.dir}; send it later with: tidemark upload --spool`);
-    return EXIT_CODES.ok;
+    log(`not delivered: the batch is kept in ${outcome.dir}; send it later with: tidemark upload --spool`);
+    return EXIT_CODES.notDelivered;
   }
   log(outcome.reason);
   if (outcome.spooledDir) log(`the batch is kept in ${outcome.spooledDir}; fix the cause, then: tidemark upload --spool`);
   return EXIT_CODES.usage;
+}
+
+/** --bag: the readable files (their copies checked against the scan's SHA-256) and the JSON report as a tag file. */
+async function writeScanBag(dir: string, given: string[], report: ScanReport, files: readonly CrawledFile[], io: CliIo): Promise<void> {
+  const byPath = new Map(files.map((f) => [f.relPath, f]));
+  const bagged: BagFile[] = [];
+  for (const f of report.files) {
+    const crawled = byPath.get(f.path);
+    if (f.sha256 && crawled) bagged.push({ absPath: crawled.absPath, relPath: f.path, sha256: f.sha256 });
+    else io.stderr.write(`tidemark: warning: ${f.path} is not in the bag: it could not be read\n`);
+  }
+  const written = await writeBag(path.resolve(io.cwd, dir), bagged, {
+    info: [
+      ["External-Description", `Transfers scanned by ${report.tool.name} ${report.tool.version} from ${given.join(", ")}, judged with profile ${report.profile.name}`],
+      ["Internal-Sender-Description", "tidemark-report.json (a tag file) is the scan report of the payload"],
+    ],
+    tagFiles: [{ name: "tidemark-report.json", text: reportToJson(report) }],
+  });
+  io.stderr.write(`tidemark: wrote bag ${dir}: ${written.files} files, ${written.bytes} bytes (check it with: tidemark verify ${dir})\n`);
 }
 
 export async function scanCommand(paths: string[], options: ScanOptions, io: CliIo): Promise<number> {
@@ -76,6 +98,7 @@ export async function scanCommand(paths: string[], options: ScanOptions, io: Cli
   const loaded = await loadProfile(options.profile, io.cwd);
   const format = chooseFormat(options, io.stdout.isTTY === true);
   const outAbs = options.out ? await checkOutputFolder(options.out, io.cwd) : null;
+  if (options.bag) await assertBagTarget(path.resolve(io.cwd, options.bag));
   if (options.upload) await resolveCredentials(options.upload.server, io.env);
 
   const crawl = await crawlFiles(paths, { include: options.include, exclude: options.exclude, cwd: io.cwd });
@@ -109,18 +132,31 @@ export async function scanCommand(paths: string[], options: ScanOptions, io: Cli
     });
   }
 
-  const progress = createScanProgress({ total: crawl.files.length, alreadyDone: 0, stream: io.stderr as NodeJS.WritableStream, enabled: !options.quiet });
+  const progress = createScanProgress({
+    total: crawl.files.length,
+    totalBytes: crawl.files.reduce((n, f) => n + f.sizeBytes, 0),
+    alreadyDone: 0,
+    stream: io.stderr as NodeJS.WritableStream,
+    display: progressDisplay(options.quiet, options.progress),
+  });
   for (const p of crawl.problems) progress.note(`tidemark: ${p.code}: ${p.message}`);
   if (crawl.files.length === 0 && crawl.problems.length === 0) {
     progress.note(`tidemark: warning: no files matching ${options.include.join(" ")} under ${paths.join(" ")}`);
   }
+  const checksums = await expectedChecksums(
+    crawl.files.map((f) => f.absPath),
+    paths.map((p) => path.resolve(io.cwd, p)),
+    options.checksums.map((m) => path.resolve(io.cwd, m)),
+    (abs) => path.relative(io.cwd, abs).split(path.sep).join("/"),
+  );
+  for (const w of checksums.warnings) progress.note(`tidemark: warning: ${w}`);
   const interruption = watchInterrupts(() =>
     progress.note("tidemark: interrupted: finishing the files in progress, then writing the partial report (Ctrl-C again to stop now)"),
   );
 
   let result;
   try {
-    result = await runScan({ files: crawl.files, workers: options.workers, context, resume, progress, interruption });
+    result = await runScan({ files: crawl.files, workers: options.workers, context, resume, progress, interruption, expectedChecksums: checksums.byFile });
   } finally {
     interruption.dispose();
     progress.stop();
@@ -128,15 +164,26 @@ export async function scanCommand(paths: string[], options: ScanOptions, io: Cli
   }
 
   const problemReports: FileReport[] = crawl.problems.map((p) => errorReport(p.relPath, 0, { code: p.code, message: p.message }));
+  // A checksum for a file that is not there: the delivery is incomplete, and the report says so.
+  for (const o of checksums.orphans) {
+    const relPath = path.relative(crawl.rootDir, o.absPath).split(path.sep).join("/");
+    problemReports.push(errorReport(relPath, 0, { code: "missing-file", message: `${relPath}: ${o.source} has a checksum for it, but the file is not there` }));
+  }
   const report = assembleReport(
     { tool: toolInfo(), profile: { name: loaded.profile.name, hash: loaded.hash }, startedAt, finishedAt: new Date().toISOString() },
     [...result.reports, ...problemReports],
   );
   // Images drawn only for the upload are not part of what the user asked to see.
   const shown = temporaryImagesDir ? { ...report, files: report.files.map((f) => ({ ...f, spectrogram: null })) } : report;
-  const text = reportWriters[format](shown);
+  const text = reportWriters[format](shown, { suites: junitSuitesOf(paths, crawl.rootDir, io.cwd), failOn: options.failOn });
   if (outAbs) await writeAtomically(outAbs, text);
   else io.stdout.write(text);
+  // For the technician at a terminal; a pipeline reads the profile from the report itself.
+  if (options.profileFrom === "default" && !options.quiet && io.stderr.isTTY) {
+    io.stderr.write(
+      `tidemark: judged with the default profile ${loaded.profile.name}; for preservation masters give --profile preservation-master or set "profile" in tidemark.json (tidemark init)\n`,
+    );
+  }
 
   if (result.interrupted) {
     if (temporaryImagesDir) await rm(temporaryImagesDir, { recursive: true, force: true });
@@ -147,6 +194,8 @@ export async function scanCommand(paths: string[], options: ScanOptions, io: Cli
   }
   if (!options.quiet && result.reused > 0) io.stderr.write(`tidemark: ${result.reused} unchanged file(s) taken from ${options.resume}\n`);
 
+  if (options.bag) await writeScanBag(options.bag, paths, report, crawl.files, io);
+
   let uploadCode: number = EXIT_CODES.ok;
   try {
     if (options.upload) uploadCode = await uploadReport(report, options.upload, path.basename(crawl.rootDir) || "archive", io);
@@ -154,5 +203,5 @@ export async function scanCommand(paths: string[], options: ScanOptions, io: Cli
     if (temporaryImagesDir) await rm(temporaryImagesDir, { recursive: true, force: true });
   }
   if (uploadCode !== EXIT_CODES.ok) return uploadCode;
-  return hasFailures(report.summary) ? EXIT_CODES.failed : EXIT_CODES.ok;
+  return scanExitCode(report.summary, options.failOn);
 }

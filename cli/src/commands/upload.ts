@@ -13,7 +13,7 @@ import { readReport } from "./verify.ts";
 
 async function uploadOne(reportPath: string, options: UploadOptions, io: CliIo): Promise<number> {
   const log = (line: string): void => void io.stderr.write(`tidemark: ${line}\n`);
-  if (!options.collection) throw new UsageError("expected --collection NAME: which collection the batch belongs to");
+  if (!options.collection) throw new UsageError("expected --collection NAME (or a collection in tidemark.json): which collection the batch belongs to");
   const { report, text } = await readReport(reportPath, io.cwd);
   const { server, token } = await resolveCredentials(options.server, io.env);
   const reportDir = path.dirname(path.resolve(io.cwd, reportPath));
@@ -28,8 +28,8 @@ async function uploadOne(reportPath: string, options: UploadOptions, io: CliIo):
   }
   log(outcome.reason);
   if (outcome.kind === "spooled") {
-    log(`the batch is kept in ${outcome.dir}; send it later with: tidemark upload --spool`);
-    return EXIT_CODES.failed;
+    log(`not delivered: the batch is kept in ${outcome.dir}; send it later with: tidemark upload --spool`);
+    return EXIT_CODES.notDelivered;
   }
   return EXIT_CODES.usage;
 }
@@ -68,7 +68,8 @@ async function sendSpool(options: UploadOptions, io: CliIo): Promise<number> {
     }
   }
   if (rejected > 0) return EXIT_CODES.usage;
-  return unreachable > 0 ? EXIT_CODES.failed : EXIT_CODES.ok;
+  if (unreachable > 0) log(`not delivered: ${unreachable} batch(es) stay spooled; send them later with: tidemark upload --spool`);
+  return unreachable > 0 ? EXIT_CODES.notDelivered : EXIT_CODES.ok;
 }
 
 export async function uploadCommand(reportPath: string | null, options: UploadOptions, io: CliIo): Promise<number> {

@@ -1,26 +1,48 @@
 /**
  * `tidemark verify <paths> --against REPORT.json`: fixity check. Recomputes each file's SHA-256 and
- * compares it with the earlier report: changed, missing, new and unreadable files are listed.
+ * compares it with the earlier report: changed, missing, moved, new and unreadable files are listed. Files
+ * are matched on their paths whichever folder verify runs from (fixity/matchPaths.ts), then by SHA-256.
  */
 import { readFile } from "node:fs/promises";
 import path from "node:path";
 import { scanReportSchema, type ScanReport } from "@tidemark/shared/types/report";
-import { EXIT_CODES, UsageError } from "../errors.ts";
-import { sha256OfFile } from "../fixity/hashFile.ts";
+import { resolveCredentials } from "../config/storedLogin.ts";
+import { EXIT_CODES, oneLine, UsageError } from "../errors.ts";
+import { createApiClient, UploadRejectedError } from "../queue/apiClient.ts";
+import { retryPolicyFrom } from "../upload/ingestClient.ts";
 import type { CliIo } from "../io.ts";
 import type { VerifyOptions } from "../options.ts";
+import type { BagVerdict } from "@tidemark/shared/fixity/bagit";
+import { compareChecksums, type ChecksumAlgorithm, type ExpectedChecksum } from "@tidemark/shared/fixity/checksumFiles";
+import type { FixityCheckUploadRequest, FixityCheckUploadResultDto, FixityOutcome } from "@tidemark/shared/types/api";
+import type { ChecksumCheck } from "@tidemark/shared/types/report";
+import { bagSize, digestsOfFile, isBag, verifyBag } from "../fixity/bag.ts";
+import { expectedChecksums } from "../fixity/sidecars.ts";
+import { alignPaths } from "../fixity/matchPaths.ts";
 import { crawlFiles, type CrawledFile } from "../scan/crawlFiles.ts";
+import { createScanProgress, progressDisplay, type ScanProgress } from "../scan/progress.ts";
 
 export interface FixityComparison {
-  against: string;
+  /** The earlier report, or null when only checksum sidecars and manifests were the reference. */
+  against: string | null;
   unchanged: string[];
   changed: { path: string; expectedSha256: string; actualSha256: string }[];
   missing: string[];
   new: string[];
+  /** Same SHA-256 at another path: the earlier report's path and where the file is now. */
+  moved: { from: string; to: string }[];
   /** Hashed in the earlier report, but cannot be read now. */
   unreadable: { path: string; reason: string }[];
   /** Could not be read at the earlier scan either: nothing to compare with. */
   unverifiable: string[];
+  /** Sidecars (tape.wav.md5) and --checksums lines the file does not match. */
+  checksumMismatches: ({ path: string } & ChecksumCheck)[];
+  /** Sidecars and manifest lines whose file is gone. */
+  orphanChecksums: { path: string; source: string }[];
+  /** How many sidecar and manifest checksums were compared. */
+  checksumsChecked: number;
+  /** Each file's outcome with the earlier report's path, as `--upload` sends it (report mode only). */
+  checks: FixityCheckUploadRequest["checks"];
 }
 
 /** Reads and checks a JSON report against the report contract; errors name the bad field. */
@@ -49,52 +71,155 @@ export async function readReport(file: string, cwd: string): Promise<{ report: S
 
 const HASH_CONCURRENCY = 2;
 
-async function hashAll(files: readonly CrawledFile[]): Promise<Map<string, string | Error>> {
-  const out = new Map<string, string | Error>();
+type Digests = Map<ChecksumAlgorithm, string>;
+
+/** Each file read once for every algorithm it needs (SHA-256 always), two files at a time. */
+async function hashAll(files: readonly CrawledFile[], algorithmsOf: (f: CrawledFile) => ChecksumAlgorithm[], progress: ScanProgress): Promise<Map<string, Digests | Error>> {
+  const out = new Map<string, Digests | Error>();
   let next = 0;
   const lane = async (): Promise<void> => {
     while (next < files.length) {
       const file = files[next++];
-      out.set(file.relPath, await sha256OfFile(file.absPath).catch((e: unknown) => (e instanceof Error ? e : new Error(String(e)))));
+      progress.fileStarted(file.relPath);
+      const digests = await digestsOfFile(file.absPath, [...new Set<ChecksumAlgorithm>(["sha256", ...algorithmsOf(file)])], (bytes) =>
+        progress.fileBytes(file.relPath, bytes),
+      ).catch((e: unknown) => (e instanceof Error ? e : new Error(String(e))));
+      out.set(file.relPath, digests);
+      progress.fileDone(file.relPath, 0, file.sizeBytes);
     }
   };
   await Promise.all(Array.from({ length: HASH_CONCURRENCY }, lane));
   return out;
 }
 
+const toPosix = (p: string): string => p.split(path.sep).join("/");
+
+/**
+ * Compares today's files with an earlier report (`against`) and with their checksum sidecars and
+ * --checksums manifests; with no report, the checksums alone are the reference.
+ */
 export async function compareFixity(paths: string[], options: VerifyOptions, io: CliIo): Promise<FixityComparison> {
-  const { report } = await readReport(options.against, io.cwd);
+  const report = options.against === null ? null : (await readReport(options.against, io.cwd)).report;
   const crawl = await crawlFiles(paths, { include: options.include, exclude: options.exclude, cwd: io.cwd });
-  const earlier = new Map(report.files.map((f) => [f.path, f]));
-  const toHash = crawl.files.filter((f) => earlier.get(f.relPath)?.sha256);
-  const hashes = await hashAll(toHash);
-  const result: FixityComparison = { against: options.against, unchanged: [], changed: [], missing: [], new: [], unreadable: [], unverifiable: [] };
-  const present = new Set<string>();
+  const shown = (abs: string): string => toPosix(path.relative(io.cwd, abs));
+  const sidecars = await expectedChecksums(
+    crawl.files.map((f) => f.absPath),
+    paths.map((p) => path.resolve(io.cwd, p)),
+    options.checksums.map((m) => path.resolve(io.cwd, m)),
+    shown,
+  );
+  for (const w of sidecars.warnings) io.stderr.write(`tidemark: warning: ${w}\n`);
+  if (!report && sidecars.byFile.size === 0 && sidecars.orphans.length === 0) {
+    throw new UsageError(
+      "expected --against REPORT.json (the earlier scan's report), checksum sidecars or --checksums FILE, or one BagIt bag folder (with bagit.txt) to check against its manifests",
+    );
+  }
+
+  const earlier = new Map((report?.files ?? []).map((f) => [f.path, f]));
+  const { matches, inScope, toEarlier } = alignPaths(
+    crawl.files.map((f) => ({ relPath: f.relPath, absPosix: toPosix(f.absPath) })),
+    new Set(earlier.keys()),
+  );
+  const earlierOf = new Map(matches.map((m) => [m.relPath, m.earlier]));
+  const claimed = new Set(matches.flatMap((m) => (m.earlier === null ? [] : [m.earlier])));
+  // Files that may have moved: today's unmatched files are hashed too when an earlier file went unclaimed.
+  const unclaimedHashes = new Map<string, string>();
+  for (const f of report?.files ?? []) if (f.sha256 && !claimed.has(f.path) && inScope(f.path)) unclaimedHashes.set(f.sha256, f.path);
+  const expectedOf = (f: CrawledFile): ExpectedChecksum[] => sidecars.byFile.get(f.absPath) ?? [];
+  const toHash = crawl.files.filter((f) => {
+    if (expectedOf(f).length > 0) return true;
+    const before = earlierOf.get(f.relPath);
+    return before ? Boolean(earlier.get(before)?.sha256) : unclaimedHashes.size > 0;
+  });
+  const progress = createScanProgress({
+    total: toHash.length,
+    totalBytes: toHash.reduce((n, f) => n + f.sizeBytes, 0),
+    alreadyDone: 0,
+    stream: io.stderr as NodeJS.WritableStream,
+    display: progressDisplay(options.quiet, options.progress),
+  });
+  let hashes: Map<string, Digests | Error>;
+  try {
+    hashes = await hashAll(toHash, (f) => expectedOf(f).map((e) => e.algorithm), progress);
+  } finally {
+    progress.stop();
+  }
+
+  const result: FixityComparison = {
+    against: options.against,
+    unchanged: [],
+    changed: [],
+    missing: [],
+    new: [],
+    moved: [],
+    unreadable: [],
+    unverifiable: [],
+    checksumMismatches: [],
+    orphanChecksums: sidecars.orphans.map((o) => ({ path: shown(o.absPath), source: o.source })),
+    checksumsChecked: 0,
+    checks: [],
+  };
+  const check = (path: string, outcome: FixityOutcome, extra: Partial<FixityCheckUploadRequest["checks"][number]> = {}): void =>
+    void result.checks.push({ path, outcome, expectedSha256: null, actualSha256: null, movedTo: null, detail: "", ...extra });
+  const present = new Set<string>(claimed);
   for (const file of crawl.files) {
-    present.add(file.relPath);
-    const before = earlier.get(file.relPath);
-    if (!before) {
-      result.new.push(file.relPath);
+    const beforePath = earlierOf.get(file.relPath) ?? null;
+    const digests = hashes.get(file.relPath);
+    const now = digests instanceof Map ? digests.get("sha256") : digests;
+    const expected = expectedOf(file);
+    if (expected.length > 0 && digests instanceof Map) {
+      for (const check of compareChecksums(expected, digests)) {
+        result.checksumsChecked += 1;
+        if (!check.matches) result.checksumMismatches.push({ path: file.relPath, ...check });
+      }
+    }
+    if (beforePath === null) {
+      const from = typeof now === "string" ? unclaimedHashes.get(now) : undefined;
+      if (from !== undefined) {
+        unclaimedHashes.delete(now as string);
+        present.add(from);
+        result.moved.push({ from, to: file.relPath });
+        check(from, "moved", { expectedSha256: now as string, actualSha256: now as string, movedTo: toEarlier(file.relPath) });
+      } else if (!report && expected.length > 0 && digests instanceof Map) {
+        // Checked against its checksums alone.
+        if (compareChecksums(expected, digests).every((c) => c.matches)) result.unchanged.push(file.relPath);
+      } else if (!report && digests instanceof Error) {
+        result.unreadable.push({ path: file.relPath, reason: digests.message });
+      } else {
+        result.new.push(file.relPath);
+      }
       continue;
     }
+    const before = earlier.get(beforePath)!;
     if (!before.sha256) {
       result.unverifiable.push(file.relPath);
-      continue;
-    }
-    const now = hashes.get(file.relPath);
-    if (now instanceof Error || now === undefined) {
-      result.unreadable.push({ path: file.relPath, reason: now instanceof Error ? now.message : "not hashed" });
+    } else if (typeof now !== "string") {
+      const reason = now instanceof Error ? now.message : "not hashed";
+      result.unreadable.push({ path: file.relPath, reason });
+      check(beforePath, "unreadable", { expectedSha256: before.sha256, detail: reason });
     } else if (now === before.sha256) {
       result.unchanged.push(file.relPath);
+      check(beforePath, "unchanged", { expectedSha256: before.sha256, actualSha256: now });
     } else {
       result.changed.push({ path: file.relPath, expectedSha256: before.sha256, actualSha256: now });
+      check(beforePath, "changed", { expectedSha256: before.sha256, actualSha256: now });
     }
   }
   for (const p of crawl.problems) {
-    present.add(p.relPath);
-    if (earlier.get(p.relPath)?.sha256) result.unreadable.push({ path: p.relPath, reason: p.message });
+    const tail = [...earlier.keys()].find((e) => e === p.relPath || toPosix(p.absPath).endsWith(`/${e}`));
+    if (tail === undefined) continue;
+    present.add(tail);
+    const sha = earlier.get(tail)?.sha256;
+    if (sha) {
+      result.unreadable.push({ path: p.relPath, reason: p.message });
+      check(tail, "unreadable", { expectedSha256: sha, detail: p.message });
+    }
   }
-  for (const f of report.files) if (!present.has(f.path) && f.sha256) result.missing.push(f.path);
+  for (const f of report?.files ?? []) {
+    if (present.has(f.path) || !f.sha256 || !inScope(f.path)) continue;
+    result.missing.push(f.path);
+    check(f.path, "missing", { expectedSha256: f.sha256 });
+  }
   return result;
 }
 
@@ -103,17 +228,85 @@ export function fixityText(c: FixityComparison): string {
   for (const x of c.changed) lines.push(`changed     ${x.path}  (sha256 was ${x.expectedSha256.slice(0, 16)}…, now ${x.actualSha256.slice(0, 16)}…)`);
   for (const p of c.missing) lines.push(`missing     ${p}`);
   for (const x of c.unreadable) lines.push(`unreadable  ${x.path}  (${x.reason})`);
+  for (const x of c.moved) lines.push(`moved       ${x.from} → ${x.to}  (same SHA-256)`);
   for (const p of c.new) lines.push(`new         ${p}`);
   for (const p of c.unverifiable) lines.push(`unverified  ${p}  (no SHA-256 in the earlier report: it could not be read then)`);
+  for (const x of c.checksumMismatches) lines.push(`mismatch    ${x.path}  (${x.algorithm} is ${x.actual ?? "unknown"}, ${x.source} says ${x.expected})`);
+  for (const x of c.orphanChecksums) lines.push(`missing     ${x.path}  (${x.source} has a checksum for it)`);
+  const checksums = c.checksumsChecked + c.orphanChecksums.length > 0 ? `; checksums: ${c.checksumsChecked - c.checksumMismatches.length} match, ${c.checksumMismatches.length} mismatch, ${c.orphanChecksums.length} without file` : "";
   lines.push(
-    `${c.unchanged.length} unchanged, ${c.changed.length} changed, ${c.missing.length} missing, ${c.unreadable.length} unreadable, ${c.new.length} new (against ${c.against})`,
+    `${c.unchanged.length} unchanged, ${c.changed.length} changed, ${c.missing.length} missing, ${c.unreadable.length} unreadable, ${c.new.length} new, ${c.moved.length} moved (against ${c.against ?? "checksums"})${checksums}`,
   );
   return `${lines.join("\n")}\n`;
 }
 
+export function bagText(dir: string, v: BagVerdict): string {
+  const lines = v.problems.map((p) => `${p.kind.padEnd(11)} ${p.path ?? ""}${p.path ? "  " : ""}(${p.message})`);
+  const counts = (["changed", "missing", "extra", "unreadable"] as const).map((k) => `${v.problems.filter((p) => p.kind === k).length} ${k}`).join(", ");
+  lines.push(`bag ${dir}: ${v.valid ? "valid" : "NOT valid"} (RFC 8493): ${v.payloadFiles} payload files, ${v.payloadBytes} bytes, ${v.algorithms.join("+") || "no manifest"}; ${counts}`);
+  return `${lines.join("\n")}\n`;
+}
+
+async function verifyBagCommand(dir: string, options: VerifyOptions, io: CliIo): Promise<number> {
+  const abs = path.resolve(io.cwd, dir);
+  const size = await bagSize(abs);
+  const progress = createScanProgress({ total: size.files, totalBytes: size.bytes, alreadyDone: 0, stream: io.stderr as NodeJS.WritableStream, display: progressDisplay(options.quiet, options.progress) });
+  let verdict: BagVerdict;
+  try {
+    verdict = await verifyBag(abs, progress);
+  } finally {
+    progress.stop();
+  }
+  io.stdout.write(options.json ? `${JSON.stringify({ bag: dir, ...verdict }, null, 2)}\n` : bagText(dir, verdict));
+  if (verdict.valid) return EXIT_CODES.ok;
+  return verdict.problems.every((p) => p.kind === "unreadable") ? EXIT_CODES.unreadable : EXIT_CODES.failed;
+}
+
+/** The server takes at most this many checks a request. */
+const CHECKS_PER_REQUEST = 1000;
+
+/** verify --upload: each file's outcome to the server's fixity history, in slices. */
+async function uploadChecks(comparison: FixityComparison, target: { server: string | null; collection: string | null }, io: CliIo): Promise<number> {
+  const log = (line: string): void => void io.stderr.write(`tidemark: ${line}\n`);
+  const { server, token } = await resolveCredentials(target.server, io.env);
+  const client = createApiClient(server, token, retryPolicyFrom(io.env), (attempt, problem) => log(`fixity upload attempt ${attempt} failed (${problem}); retrying`));
+  const checkedAt = new Date().toISOString();
+  let sent = 0;
+  let changed = 0;
+  let unknown = 0;
+  try {
+    for (let i = 0; i < comparison.checks.length; i += CHECKS_PER_REQUEST) {
+      const body: FixityCheckUploadRequest = { collection: target.collection!, checkedAt, checks: comparison.checks.slice(i, i + CHECKS_PER_REQUEST) };
+      const answer = await client.postJson<FixityCheckUploadResultDto>("/api/fixity-checks", body);
+      sent += answer.body.stored;
+      changed += answer.body.changed;
+      unknown += answer.body.unknownPaths;
+    }
+  } catch (error) {
+    if (error instanceof UploadRejectedError) {
+      log(`the server refused the fixity checks after ${sent} of ${comparison.checks.length}: ${error.message}`);
+      return EXIT_CODES.usage;
+    }
+    log(`not delivered: ${sent} of ${comparison.checks.length} fixity checks reached ${server} (${oneLine(error)}); run the same verify again to send them`);
+    return EXIT_CODES.notDelivered;
+  }
+  log(`sent ${sent} fixity checks to ${server} (collection "${target.collection}"): ${changed} changed${unknown ? `, ${unknown} of paths the collection has no scan of` : ""}`);
+  return EXIT_CODES.ok;
+}
+
 export async function verifyCommand(paths: string[], options: VerifyOptions, io: CliIo): Promise<number> {
+  if (options.against === null && options.checksums.length === 0 && paths.length === 1 && (await isBag(path.resolve(io.cwd, paths[0])))) {
+    return verifyBagCommand(paths[0], options, io);
+  }
+  if (options.upload && options.against === null) throw new UsageError("--upload sends the comparison with an earlier report: add --against REPORT.json");
+  if (options.upload && !options.upload.collection) throw new UsageError("--upload needs the collection the files were scanned into: --collection NAME (or tidemark.json)");
   const comparison = await compareFixity(paths, options, io);
   io.stdout.write(options.json ? `${JSON.stringify(comparison, null, 2)}\n` : fixityText(comparison));
-  const bad = comparison.changed.length + comparison.missing.length + comparison.unreadable.length;
-  return bad > 0 ? EXIT_CODES.failed : EXIT_CODES.ok;
+  if (options.upload) {
+    const code = await uploadChecks(comparison, options.upload, io);
+    if (code !== EXIT_CODES.ok) return code;
+  }
+  const bad = comparison.changed.length + comparison.missing.length + comparison.checksumMismatches.length + comparison.orphanChecksums.length;
+  if (bad > 0) return EXIT_CODES.failed;
+  return comparison.unreadable.length > 0 ? EXIT_CODES.unreadable : EXIT_CODES.ok;
 }

@@ -6,6 +6,7 @@
 import { mkdir, writeFile } from "node:fs/promises";
 import path from "node:path";
 import { createFileAnalysis, type FileAnalysisResult } from "@tidemark/shared/engine/fileAnalysis";
+import { checksumFindings, compareChecksums, type ExpectedChecksum } from "@tidemark/shared/fixity/checksumFiles";
 import { judge } from "@tidemark/shared/profiles/judge";
 import type { Profile } from "@tidemark/shared/profiles/profileSchema";
 import { renderSpectrogramImage } from "@tidemark/shared/render/spectrogramImage";
@@ -33,6 +34,8 @@ export interface AnalyseTask {
   relPath: string;
   /** Size seen by the crawl, reported when the file cannot be opened at all. */
   sizeBytes: number;
+  /** Checksum sidecars and --checksums lines for this file, checked in the same read. */
+  expectedChecksums?: ExpectedChecksum[];
 }
 
 export interface AnalysedFile {
@@ -108,7 +111,12 @@ async function writeImages(
 }
 
 /** `signal` stops the read mid-file; an aborted file rejects instead of being reported as unreadable. */
-export async function analyseFile(task: AnalyseTask, ctx: ScanContext, signal?: AbortSignal): Promise<AnalysedFile> {
+export async function analyseFile(
+  task: AnalyseTask,
+  ctx: ScanContext,
+  signal?: AbortSignal,
+  onRead?: (bytesRead: number) => void,
+): Promise<AnalysedFile> {
   const timingsMs: AnalyseTimings = { read: 0, decode: 0, hash: 0, analyse: 0, level: 0, spectral: 0, fingerprint: 0, render: 0, paint: 0, png: 0 };
   let analysis: BlockAnalyser<FileAnalysisResult> | null = null;
   let analyseMs = 0;
@@ -116,6 +124,8 @@ export async function analyseFile(task: AnalyseTask, ctx: ScanContext, signal?: 
   try {
     read = await readAudioFile(task.absPath, {
       signal,
+      onRead,
+      digests: extraDigestsFor(task.expectedChecksums),
       onOpen: (info) => {
         const a = createFileAnalysis(info.stream, ctx.settings, { clock: () => performance.now(), fingerprint: ctx.fingerprint });
         analysis = a;
@@ -149,7 +159,8 @@ export async function analyseFile(task: AnalyseTask, ctx: ScanContext, signal?: 
   timingsMs.fingerprint = analysed.timings.fingerprint;
 
   const { format, metadata, layout } = read.info;
-  const findings = [...analysed.findings, ...readerFindings(layout, read)];
+  const checksums = task.expectedChecksums?.length ? compareChecksums(task.expectedChecksums, new Map([...read.digests, ["sha256", read.sha256]])) : undefined;
+  const findings = [...analysed.findings, ...readerFindings(layout, read), ...checksumFindings(checksums ?? [])];
   const judged = judge(ctx.profile, { format, metrics: analysed.metrics, findings, error: null });
 
   let spectrogram: string | null = null;
@@ -178,11 +189,19 @@ export async function analyseFile(task: AnalyseTask, ctx: ScanContext, signal?: 
       spectrogram,
       // Absent, not null, when --no-fingerprint asked for none: null means the rate is out of range.
       ...(ctx.fingerprint ? { fingerprint: analysed.fingerprint } : {}),
+      ...(checksums ? { checksums } : {}),
     },
     audioSeconds: format.durationSeconds,
     imageError,
     timingsMs,
   };
+}
+
+/** The digests to compute beside SHA-256 (which the reader always computes). */
+function extraDigestsFor(expected: readonly ExpectedChecksum[] | undefined): ("md5" | "sha1" | "sha512")[] {
+  const out = new Set<"md5" | "sha1" | "sha512">();
+  for (const e of expected ?? []) if (e.algorithm !== "sha256") out.add(e.algorithm);
+  return [...out];
 }
 
 function failNoAnalysis(): never {

@@ -15,10 +15,10 @@ export function createInlineRunner(context: ScanContext): WorkerPool<ScanTask, S
   let runner: Promise<typeof import("./scanTask.ts")> | null = null;
   return {
     size: 1,
-    async run(task) {
+    async run(task, onProgress) {
       if (closed) throw new WorkerCrashError("runner stopped");
       runner ??= import("./scanTask.ts");
-      return (await runner).runScanTask(task, context, stop.signal);
+      return (await runner).runScanTask(task, context, stop.signal, onProgress);
     },
     async close() {
       closed = true;

@@ -13,6 +13,7 @@ import { spectrogramPaths } from "./spectrogramPaths.ts";
 import type { CrawledFile } from "./crawlFiles.ts";
 import type { Interruption } from "./interruption.ts";
 import type { ScanProgress } from "./progress.ts";
+import type { ExpectedChecksum } from "@tidemark/shared/fixity/checksumFiles";
 import type { ResumeRecord, ResumeState } from "./resumeState.ts";
 import { createInlineRunner } from "./inlineRunner.ts";
 import type { ScanTask, ScanTaskResult } from "./scanTask.ts";
@@ -25,6 +26,8 @@ export interface RunScanOptions {
   resume: ResumeState | null;
   progress: ScanProgress;
   interruption: Interruption;
+  /** Checksum sidecars and --checksums lines, by absolute path, checked in each file's read. */
+  expectedChecksums?: ReadonlyMap<string, ExpectedChecksum[]>;
 }
 
 export interface RunScanResult {
@@ -87,7 +90,11 @@ export async function runScan(options: RunScanOptions): Promise<RunScanResult> {
 
   const measure = async (file: CrawledFile): Promise<{ report: FileReport; seconds: number } | null> => {
     try {
-      const result = await pool.run({ kind: "analyse", absPath: file.absPath, relPath: file.relPath, sizeBytes: file.sizeBytes });
+      const expectedChecksums = options.expectedChecksums?.get(file.absPath);
+      const task = { kind: "analyse" as const, absPath: file.absPath, relPath: file.relPath, sizeBytes: file.sizeBytes, ...(expectedChecksums ? { expectedChecksums } : {}) };
+      const result = await pool.run(task, (bytes) =>
+        progress.fileBytes(file.relPath, bytes),
+      );
       if (result.kind !== "analysed") throw new Error(`expected a measurement, got ${result.kind}`);
       if (result.file.imageError) progress.note(`tidemark: warning: ${result.file.imageError}`);
       const timingsFile = process.env[STAGE_TIMINGS_ENV];
@@ -114,7 +121,7 @@ export async function runScan(options: RunScanOptions): Promise<RunScanResult> {
       if (hashed?.kind === "hashed" && hashed.sha256 === record.report.sha256) {
         reports.push(record.report);
         reused += 1;
-        progress.fileDone(file.relPath, 0);
+        progress.fileDone(file.relPath, 0, file.sizeBytes);
         return;
       }
       if (interruption.immediate) return;
@@ -125,7 +132,7 @@ export async function runScan(options: RunScanOptions): Promise<RunScanResult> {
     measured += 1;
     audioSeconds += done.seconds;
     resume?.append({ kind: "file", relPath: file.relPath, sizeBytes: file.sizeBytes, mtimeMs: file.mtimeMs, report: done.report });
-    progress.fileDone(file.relPath, done.seconds);
+    progress.fileDone(file.relPath, done.seconds, file.sizeBytes);
   };
 
   let next = 0;

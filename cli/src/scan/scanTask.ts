@@ -5,10 +5,15 @@ import { analyseFile, type AnalyseTask, type AnalysedFile, type ScanContext } fr
 export type ScanTask = ({ kind: "analyse" } & AnalyseTask) | { kind: "hash"; absPath: string };
 export type ScanTaskResult = { kind: "analysed"; file: AnalysedFile } | { kind: "hashed"; sha256: string | null };
 
-export async function runScanTask(task: ScanTask, context: ScanContext, signal?: AbortSignal): Promise<ScanTaskResult> {
+export async function runScanTask(
+  task: ScanTask,
+  context: ScanContext,
+  signal?: AbortSignal,
+  onProgress?: (bytesRead: number) => void,
+): Promise<ScanTaskResult> {
   if (task.kind === "hash") {
     // A file that cannot be hashed now is simply measured again.
     return { kind: "hashed", sha256: await sha256OfFile(task.absPath).catch(() => null) };
   }
-  return { kind: "analysed", file: await analyseFile(task, context, signal) };
+  return { kind: "analysed", file: await analyseFile(task, context, signal, onProgress) };
 }

@@ -8,7 +8,8 @@ import type { WorkerReply } from "./workerPool.ts";
 const context = workerData as ScanContext;
 
 parentPort?.on("message", (message: { id: number; task: ScanTask }) => {
-  runScanTask(message.task, context).then(
+  const onProgress = (bytesRead: number): void => parentPort?.postMessage({ id: message.id, progress: bytesRead } satisfies WorkerReply<ScanTaskResult>);
+  runScanTask(message.task, context, undefined, onProgress).then(
     (result) => parentPort?.postMessage({ id: message.id, ok: true, result } satisfies WorkerReply<ScanTaskResult>),
     (error: unknown) => parentPort?.postMessage({ id: message.id, ok: false, message: oneLine(error) } satisfies WorkerReply<ScanTaskResult>),
   );

@@ -25,8 +25,8 @@ export class WorkerStartError extends Error {
 
 export interface WorkerPool<Task, Result> {
   readonly size: number;
-  /** Runs the task on the next free worker (queued while all are busy). */
-  run(task: Task): Promise<Result>;
+  /** Runs the task on the next free worker (queued while all are busy); `onProgress` gets the bytes read so far. */
+  run(task: Task, onProgress?: (bytesRead: number) => void): Promise<Result>;
   /** Waits for running tasks, then stops the workers; queued tasks are rejected. */
   close(): Promise<void>;
   /** Stops the workers now; running and queued tasks are rejected. */
@@ -42,13 +42,18 @@ export interface WorkerPoolOptions {
 }
 
 /** What a worker posts back for each task. */
-export type WorkerReply<Result> = { id: number; ok: true; result: Result } | { id: number; ok: false; message: string };
+export type WorkerReply<Result> =
+  | { id: number; ok: true; result: Result }
+  | { id: number; ok: false; message: string }
+  /** Not an answer: how far the task has read, while it runs. */
+  | { id: number; progress: number };
 
 interface Job<Task, Result> {
   id: number;
   task: Task;
   resolve(result: Result): void;
   reject(error: Error): void;
+  onProgress?: (bytesRead: number) => void;
 }
 
 interface Slot<Task, Result> {
@@ -94,6 +99,10 @@ export function createWorkerPool<Task, Result>(options: WorkerPoolOptions): Work
       }
       const job = slot.job;
       if (!job || job.id !== reply.id) return;
+      if ("progress" in reply) {
+        job.onProgress?.(reply.progress);
+        return;
+      }
       slot.job = null;
       if (reply.ok) job.resolve(reply.result);
       else job.reject(new Error(reply.message));
@@ -152,11 +161,11 @@ export function createWorkerPool<Task, Result>(options: WorkerPoolOptions): Work
 
   return {
     size: options.size,
-    run(task) {
+    run(task, onProgress) {
       if (startFailure) return Promise.reject(startFailure);
       if (closing) return Promise.reject(new WorkerCrashError("pool is closed"));
       return new Promise<Result>((resolve, reject) => {
-        queue.push({ id: nextId++, task, resolve, reject });
+        queue.push({ id: nextId++, task, resolve, reject, onProgress });
         dispatch();
       });
     },

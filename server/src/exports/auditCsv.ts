@@ -2,14 +2,14 @@
 import type { Response } from "express";
 import { stringify } from "csv-stringify";
 import { Op, type WhereOptions } from "sequelize";
+import { guardCsvText as safeText } from "@tidemark/shared/report/csvReport";
 import { AuditEntry, User } from "../models/index.ts";
-import { safeText } from "./csvCells.ts";
 import { streamCsv } from "./streamRows.ts";
 
 export const AUDIT_CSV_COLUMNS = ["id", "created_at", "actor_id", "actor_email", "action", "target_type", "target_id", "request_id", "details"] as const;
 
 export async function writeAuditCsv(res: Response, where: WhereOptions<AuditEntry>): Promise<void> {
-  const csv = stringify({ header: true, columns: [...AUDIT_CSV_COLUMNS] });
+  const csv = stringify({ header: true, columns: [...AUDIT_CSV_COLUMNS], record_delimiter: "windows" });
   await streamCsv(
     res,
     csv,

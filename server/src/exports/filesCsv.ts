@@ -1,34 +1,10 @@
-/** GET /api/exports/files.csv: one row per file result, streamed in id order. */
+/** GET /api/exports/files.csv: one row per file result, streamed in id order, in the CLI's CSV layout. */
 import type { Response } from "express";
 import { stringify } from "csv-stringify";
 import { Op, type WhereOptions } from "sequelize";
+import { CSV_STRINGIFY_OPTIONS, csvRecord, type CsvFileRow } from "@tidemark/shared/report/csvReport";
 import { Batch, Collection, FileResult } from "../models/index.ts";
-import { safeText } from "./csvCells.ts";
 import { streamCsv } from "./streamRows.ts";
-
-export const FILES_CSV_COLUMNS = [
-  "file_result_id",
-  "batch_id",
-  "batch_key",
-  "collection",
-  "path",
-  "size_bytes",
-  "sha256",
-  "container",
-  "encoding",
-  "sample_rate_hz",
-  "bit_depth",
-  "channels",
-  "duration_seconds",
-  "integrated_lufs",
-  "true_peak_dbtp",
-  "sample_peak_dbfs",
-  "loudness_range_lu",
-  "verdict",
-  "review_state",
-  "finding_codes",
-  "scanned_at",
-] as const;
 
 export interface FilesCsvFilter {
   collection?: number;
@@ -38,48 +14,53 @@ export interface FilesCsvFilter {
 
 const PAGE = 1000;
 
+function countBySeverity(f: FileResult, severity: string): number {
+  return f.worstFindings.reduce((n, w) => n + (w.severity === severity ? w.count : 0), 0);
+}
+
+export function csvRowOfFileResult(f: FileResult): CsvFileRow {
+  return {
+    path: f.path,
+    collection: f.collection?.name ?? null,
+    batchId: f.batchId,
+    batchKey: f.batch?.batchKey ?? null,
+    profile: f.batch?.profileName ?? "",
+    scannedAt: f.batch?.startedAt.toISOString() ?? "",
+    verdict: f.verdict,
+    reviewState: f.reviewState,
+    error: f.error,
+    sizeBytes: Number(f.sizeBytes),
+    sha256: f.sha256,
+    format: f.format,
+    metrics: f.metrics,
+    failFindings: countBySeverity(f, "fail"),
+    warnFindings: countBySeverity(f, "warn"),
+    findingCodes: f.findingCodes,
+    spectrogram: f.spectrogramKey ? `/api/files/${f.id}/spectrogram.png` : null,
+    fileResultId: f.id,
+  };
+}
+
 export async function writeFilesCsv(res: Response, filter: FilesCsvFilter): Promise<void> {
   const batchWhere: Record<string | symbol, unknown> = {};
   if (filter.from || filter.to) {
     batchWhere.startedAt = { ...(filter.from ? { [Op.gte]: filter.from } : {}), ...(filter.to ? { [Op.lte]: filter.to } : {}) };
   }
-  const csv = stringify({ header: true, columns: [...FILES_CSV_COLUMNS], cast: { number: (n) => String(n) } });
+  const csv = stringify(CSV_STRINGIFY_OPTIONS);
   await streamCsv(
     res,
     csv,
     (afterId) =>
       FileResult.findAll({
         where: { id: { [Op.gt]: afterId }, ...(filter.collection ? { collectionId: filter.collection } : {}) } as WhereOptions<FileResult>,
-        attributes: { exclude: ["metadata", "error", "worstFindings"] },
+        attributes: { exclude: ["metadata"] },
         include: [
-          { model: Batch, as: "batch", attributes: ["id", "batchKey", "startedAt"], where: batchWhere as WhereOptions<Batch>, required: true },
+          { model: Batch, as: "batch", attributes: ["id", "batchKey", "startedAt", "profileName"], where: batchWhere as WhereOptions<Batch>, required: true },
           { model: Collection, as: "collection", attributes: ["id", "name"] },
         ],
         order: [["id", "ASC"]],
         limit: PAGE,
       }),
-    (f) => ({
-      file_result_id: f.id,
-      batch_id: f.batchId,
-      batch_key: safeText(f.batch?.batchKey),
-      collection: safeText(f.collection?.name),
-      path: safeText(f.path),
-      size_bytes: f.sizeBytes,
-      sha256: f.sha256 ?? "",
-      container: f.format?.container ?? "",
-      encoding: f.format?.encoding ?? "",
-      sample_rate_hz: f.format?.sampleRateHz ?? "",
-      bit_depth: f.format?.bitDepth ?? "",
-      channels: f.format?.channels ?? "",
-      duration_seconds: f.durationSeconds ?? "",
-      integrated_lufs: f.integratedLufs ?? "",
-      true_peak_dbtp: f.truePeakDbtp ?? "",
-      sample_peak_dbfs: f.metrics?.samplePeakDbfs ?? "",
-      loudness_range_lu: f.metrics?.loudnessRangeLu ?? "",
-      verdict: f.verdict,
-      review_state: f.reviewState,
-      finding_codes: f.findingCodes.join(" "),
-      scanned_at: f.batch?.startedAt.toISOString() ?? "",
-    }),
+    (f) => csvRecord(csvRowOfFileResult(f)),
   );
 }

@@ -7,11 +7,12 @@ import { Collection } from "./Collection.ts";
 import { Comment } from "./Comment.ts";
 import { FileResult } from "./FileResult.ts";
 import { Finding } from "./Finding.ts";
+import { FixityCheck } from "./FixityCheck.ts";
 import { PasswordReset } from "./PasswordReset.ts";
 import { ReviewEvent } from "./ReviewEvent.ts";
 import { User } from "./User.ts";
 
-export { ApiToken, AuditEntry, Batch, Collection, Comment, FileResult, Finding, PasswordReset, ReviewEvent, User };
+export { ApiToken, AuditEntry, Batch, Collection, Comment, FileResult, Finding, FixityCheck, PasswordReset, ReviewEvent, User };
 
 let initialisedOn: Sequelize | null = null;
 
@@ -22,7 +23,7 @@ let initialisedOn: Sequelize | null = null;
 export function initModels(sequelize: Sequelize): void {
   if (initialisedOn === sequelize) return;
   initialisedOn = sequelize;
-  for (const model of [User, ApiToken, PasswordReset, Collection, Batch, FileResult, Finding, Comment, ReviewEvent, AuditEntry]) {
+  for (const model of [User, ApiToken, PasswordReset, Collection, Batch, FileResult, Finding, Comment, ReviewEvent, AuditEntry, FixityCheck]) {
     model.initModel(sequelize);
   }
   User.hasMany(ApiToken, { foreignKey: "userId", as: "tokens" });
@@ -40,4 +41,8 @@ export function initModels(sequelize: Sequelize): void {
   Comment.belongsTo(User, { foreignKey: "authorId", as: "author" });
   ReviewEvent.belongsTo(User, { foreignKey: "actorId", as: "actor" });
   AuditEntry.belongsTo(User, { foreignKey: "actorId", as: "actor", constraints: false });
+  FixityCheck.belongsTo(Collection, { foreignKey: "collectionId", as: "collection" });
+  FixityCheck.belongsTo(FileResult, { foreignKey: "fileResultId", as: "fileResult", constraints: false });
+  FixityCheck.belongsTo(User, { foreignKey: "userId", as: "user" });
+  FixityCheck.belongsTo(ApiToken, { foreignKey: "tokenId", as: "token" });
 }

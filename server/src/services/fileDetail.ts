@@ -1,7 +1,7 @@
-/** Everything the file page shows: findings, comments, review history and fixity history. */
+/** Everything the file page shows: findings, comments, review history, fixity history and fixity checks. */
 import type { FileDetailDto, FixityEntryDto } from "@tidemark/shared/types/api";
 import { toFileDetailDto } from "../dto.ts";
-import { Batch, Comment, FileResult, Finding, ReviewEvent, User } from "../models/index.ts";
+import { ApiToken, Batch, Comment, FileResult, Finding, FixityCheck, ReviewEvent, User } from "../models/index.ts";
 
 const HISTORY_LIMIT = 500;
 
@@ -29,11 +29,20 @@ export async function fixityHistory(file: FileResult): Promise<FixityEntryDto[]>
 }
 
 export async function fileDetail(file: FileResult): Promise<FileDetailDto> {
-  const [findings, comments, reviewEvents, history] = await Promise.all([
+  const [findings, comments, reviewEvents, history, checks] = await Promise.all([
     Finding.findAll({ where: { fileResultId: file.id }, order: [["id", "ASC"]] }),
     Comment.findAll({ where: { fileResultId: file.id }, include: [{ model: User, as: "author" }], order: [["createdAt", "ASC"], ["id", "ASC"]] }),
     ReviewEvent.findAll({ where: { fileResultId: file.id }, include: [{ model: User, as: "actor" }], order: [["createdAt", "ASC"], ["id", "ASC"]] }),
     fixityHistory(file),
+    FixityCheck.findAll({
+      where: { collectionId: file.collectionId, path: file.path },
+      include: [
+        { model: User, as: "user" },
+        { model: ApiToken, as: "token", attributes: ["id", "name"] },
+      ],
+      order: [["id", "ASC"]],
+      limit: HISTORY_LIMIT,
+    }),
   ]);
-  return toFileDetailDto(file, { findings, comments, reviewEvents, fixityHistory: history });
+  return toFileDetailDto(file, { findings, comments, reviewEvents, fixityHistory: history, fixityChecks: checks });
 }

@@ -28,6 +28,8 @@ const BASE_SEVERITIES: ProfileInput["severities"] = {
   unreadable: "fail",
   "possible-duplicate": "info",
   "fixity-changed": "fail",
+  // A vendor's or an earlier transfer's checksum sidecar that the file no longer matches.
+  "checksum-mismatch": "fail",
 };
 
 // Common practice: |DC| under 0.1 % of full scale is inaudible and harmless; 1 % costs headroom.

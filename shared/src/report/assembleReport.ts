@@ -32,7 +32,3 @@ export function assembleReport(header: ReportHeader, files: readonly FileReport[
   };
 }
 
-/** True when any file failed its profile or could not be read (exit code 1). */
-export function hasFailures(summary: ReportSummary): boolean {
-  return summary.fail > 0 || summary.error > 0;
-}

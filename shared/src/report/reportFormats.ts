@@ -2,15 +2,18 @@
 import type { ScanReport } from "../types/report.ts";
 import { reportToCsv } from "./csvReport.ts";
 import { reportToJson } from "./jsonReport.ts";
-import { reportToJunitXml } from "./junitReport.ts";
+import { reportToJunitXml, type JunitOptions } from "./junitReport.ts";
 import { reportToTable } from "./tableReport.ts";
+
+/** What a writer may need beyond the report: JUnit groups files into suites and honours --fail-on. */
+export type ReportWriteOptions = JunitOptions;
 
 export const reportWriters = {
   table: reportToTable,
   json: reportToJson,
   csv: reportToCsv,
   junit: reportToJunitXml,
-} as const satisfies Record<string, (report: ScanReport) => string>;
+} as const satisfies Record<string, (report: ScanReport, options?: ReportWriteOptions) => string>;
 
 export type ReportFormat = keyof typeof reportWriters;
 

@@ -171,6 +171,37 @@ export interface FixityEntryDto {
   changed: boolean;
 }
 
+export const FIXITY_OUTCOMES = ["unchanged", "changed", "missing", "unreadable", "moved"] as const;
+export type FixityOutcome = (typeof FIXITY_OUTCOMES)[number];
+
+/** One check of the file by `tidemark verify --upload`: when, by whom (which token), and what it found. */
+export interface FixityCheckDto {
+  id: number;
+  checkedAt: string;
+  outcome: FixityOutcome;
+  expectedSha256: string | null;
+  actualSha256: string | null;
+  movedTo: string | null;
+  detail: string;
+  by: UserRefDto;
+  /** Name of the API token the check was sent with, or null when the token is gone. */
+  tokenName: string | null;
+}
+
+/** POST /api/fixity-checks: the outcome of one `tidemark verify` run, paths as the collection knows them. */
+export interface FixityCheckUploadRequest {
+  collection: string;
+  checkedAt: string;
+  checks: { path: string; outcome: FixityOutcome; expectedSha256: string | null; actualSha256: string | null; movedTo: string | null; detail: string }[];
+}
+
+export interface FixityCheckUploadResultDto {
+  stored: number;
+  /** Paths the collection has never had a scan of (stored all the same, without a file link). */
+  unknownPaths: number;
+  changed: number;
+}
+
 export interface FileDetailDto extends FileSummaryDto {
   sizeBytes: number;
   sha256: string | null;
@@ -181,6 +212,8 @@ export interface FileDetailDto extends FileSummaryDto {
   comments: CommentDto[];
   reviewEvents: ReviewEventDto[];
   fixityHistory: FixityEntryDto[];
+  /** Checks of this path by `tidemark verify --upload`, oldest first. */
+  fixityChecks: FixityCheckDto[];
   /** API paths, or null when no image was uploaded. */
   spectrogramUrl: string | null;
   waveformUrl: string | null;
@@ -278,6 +311,15 @@ export interface IngestResultDto {
 export interface HealthDto {
   ok: boolean;
   db: "up" | "down";
+}
+
+/** The self-contained CLI tarball the server offers (`npm run pack:cli`), for the API-tokens page. */
+export interface CliPackageDto {
+  version: string;
+  sizeBytes: number;
+  /** Absolute URL of the tarball, as `npm install -g` takes it. */
+  url: string;
+  installCommand: string;
 }
 
 // ---- Distributed scanning: runs of queued file jobs (issue #10) ----

@@ -34,6 +34,7 @@ export const FINDING_CODES = [
   "truncated",
   "non-finite-samples",
   "possible-duplicate",
+  "checksum-mismatch",
 ] as const;
 
 export type Verdict = (typeof VERDICTS)[number];

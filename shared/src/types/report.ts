@@ -96,6 +96,16 @@ export const reportErrorSchema = z.object({ code: z.string(), message: z.string(
 /** Longest `fingerprint` text accepted (the fingerprinter's hash cap keeps it below ~12 MB). */
 export const MAX_FINGERPRINT_CHARS = 16 * 1024 * 1024;
 
+/** One expected checksum (a sidecar or a --checksums manifest line) and what the file's bytes gave. */
+export const checksumCheckSchema = z.object({
+  algorithm: z.enum(["md5", "sha1", "sha256", "sha512"]),
+  /** Where the expected value was read: "tape.wav.md5", "delivery.sha256:14". */
+  source: z.string().max(4096),
+  expected: z.string().regex(/^[0-9a-f]+$/),
+  actual: z.string().regex(/^[0-9a-f]+$/).nullable(),
+  matches: z.boolean(),
+});
+
 export const fileReportSchema = z.object({
   /** As given, relative to the scanned root, with forward slashes. */
   path: z.string().min(1).max(4096),
@@ -115,6 +125,8 @@ export const fileReportSchema = z.object({
    * Optional, so reports written before it stay valid.
    */
   fingerprint: z.string().max(MAX_FINGERPRINT_CHARS).regex(/^[A-Za-z0-9+/]*={0,2}$/).nullable().optional(),
+  /** Checksum sidecars and --checksums lines checked against this file; absent when there were none. */
+  checksums: z.array(checksumCheckSchema).optional(),
 });
 
 export const reportSummarySchema = z.object({
@@ -147,5 +159,6 @@ export type ChannelMetrics = z.infer<typeof channelMetricsSchema>;
 export type FileMetrics = z.infer<typeof fileMetricsSchema>;
 export type ReportError = z.infer<typeof reportErrorSchema>;
 export type FileReport = z.infer<typeof fileReportSchema>;
+export type ChecksumCheck = z.infer<typeof checksumCheckSchema>;
 export type ReportSummary = z.infer<typeof reportSummarySchema>;
 export type ScanReport = z.infer<typeof scanReportSchema>;

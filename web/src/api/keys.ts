@@ -41,6 +41,10 @@ export const collectionKeys = {
   list: () => [...collectionKeys.all, "list"] as const,
 };
 
+export const cliPackageKeys = {
+  all: ["cli-package"] as const,
+};
+
 export const tokenKeys = {
   all: ["tokens"] as const,
   mine: () => [...tokenKeys.all, "mine"] as const,

@@ -1,7 +1,23 @@
 import { queryOptions, useMutation, useQuery, useQueryClient } from "@tanstack/react-query";
-import type { CreatedTokenDto, TokenDto, UserRefDto } from "@tidemark/shared/types/api";
-import { getJson, sendJson } from "./client.ts";
-import { auditKeys, tokenKeys } from "./keys.ts";
+import type { CliPackageDto, CreatedTokenDto, TokenDto, UserRefDto } from "@tidemark/shared/types/api";
+import { ApiError, getJson, sendJson } from "./client.ts";
+import { auditKeys, cliPackageKeys, tokenKeys } from "./keys.ts";
+
+/** GET /api/cli-package: the CLI tarball this server offers, or null when it offers none (404). */
+export const cliPackageOptions = () =>
+  queryOptions({
+    queryKey: cliPackageKeys.all,
+    queryFn: ({ signal }) =>
+      getJson<CliPackageDto>("/api/cli-package", { signal }).catch((error: unknown) => {
+        if (error instanceof ApiError && error.status === 404) return null;
+        throw error;
+      }),
+    staleTime: 5 * 60_000,
+  });
+
+export function useCliPackage() {
+  return useQuery(cliPackageOptions());
+}
 
 export const myTokensOptions = () =>
   queryOptions({

@@ -1,12 +1,43 @@
 import { useState, type FormEvent } from "react";
 import type { CreatedTokenDto } from "@tidemark/shared/types/api";
 import { describeError } from "../api/client.ts";
-import { useCreateToken, useMyTokens } from "../api/tokens.ts";
+import { useCliPackage, useCreateToken, useMyTokens } from "../api/tokens.ts";
 import { CopyButton } from "../components/CopyButton.tsx";
 import { TokenRow, TokenTableHead } from "../components/TokenRow.tsx";
 import { PageHeader } from "../components/PageHeader.tsx";
 import { buttonClass, TextField } from "../components/fields.tsx";
 import { EmptyState, ErrorState, InlineError, LoadingState } from "../components/states.tsx";
+
+function CommandLine({ command, label, testId }: { command: string; label: string; testId: string }) {
+  return (
+    <div className="mt-1 flex flex-wrap items-center gap-2">
+      <code className="min-w-0 flex-1 rounded border border-line-strong bg-surface px-2 py-1.5 font-mono text-sm break-all select-all" data-testid={testId}>
+        {command}
+      </code>
+      <CopyButton text={command} label={label} />
+    </div>
+  );
+}
+
+/** The one-line install of the self-contained CLI this server offers (npm run pack:cli), when it offers one. */
+function InstallCli({ token }: { token: CreatedTokenDto | null }) {
+  const pkg = useCliPackage();
+  if (!pkg.data) return null;
+  const server = new URL(pkg.data.url).origin;
+  return (
+    <section aria-label="Install the tidemark command" className="mb-4 rounded-md border border-line bg-surface p-3 text-sm">
+      <h2 className="text-base">Install the tidemark command (version {pkg.data.version})</h2>
+      <p className="mt-1">On a studio workstation or ingest server with Node.js 20 or later:</p>
+      <CommandLine command={pkg.data.installCommand} label="Copy install command" testId="cli-install" />
+      <p className="mt-2">Then sign it in to this server{token ? " with the new token" : ""}:</p>
+      <CommandLine
+        command={`tidemark login --server ${server} --token ${token ? token.token : "ID:SECRET"}`}
+        label="Copy login command"
+        testId="cli-login"
+      />
+    </section>
+  );
+}
 
 /** The secret exists in the browser only until this box is dismissed; the server keeps just a hash. */
 function NewTokenNotice({ token, onDismiss }: { token: CreatedTokenDto; onDismiss: () => void }) {
@@ -56,6 +87,7 @@ export function TokensPage() {
     <>
       <PageHeader title="API tokens">Tokens let the tidemark CLI upload batches in your name. Revoke one as soon as it is no longer needed.</PageHeader>
       {created && <NewTokenNotice token={created} onDismiss={() => setCreated(null)} />}
+      <InstallCli token={created} />
       <CreateTokenForm onCreated={setCreated} />
       {tokens.isPending && <LoadingState label="Loading your tokens" />}
       {tokens.isError && <ErrorState title="Your tokens could not load" message={describeError(tokens.error)} onRetry={() => void tokens.refetch()} />}

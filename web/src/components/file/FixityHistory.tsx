@@ -1,6 +1,53 @@
 import { Link } from "react-router";
-import type { FileDetailDto } from "@tidemark/shared/types/api";
+import type { FileDetailDto, FixityCheckDto } from "@tidemark/shared/types/api";
 import { formatDateTime } from "../../format/units.ts";
+
+const OUTCOME_TEXT: Record<FixityCheckDto["outcome"], string> = {
+  unchanged: "same",
+  changed: "changed",
+  missing: "missing",
+  unreadable: "unreadable",
+  moved: "moved",
+};
+
+/** `tidemark verify --upload` runs over this path: when, by whom and with which token, and the outcome. */
+function FixityChecks({ checks }: { checks: FixityCheckDto[] }) {
+  if (checks.length === 0) return <p className="mt-2 text-sm text-ink-muted">No fixity check (tidemark verify --upload) has reported on this path yet.</p>;
+  return (
+    <table className="mt-2 w-full text-sm" aria-label="Fixity checks">
+      <caption className="mb-1 text-left font-semibold">Checks by tidemark verify</caption>
+      <thead>
+        <tr className="border-b border-line text-ink-muted">
+          <th scope="col" className="py-1 text-left font-medium">
+            Checked
+          </th>
+          <th scope="col" className="py-1 text-left font-medium">
+            By
+          </th>
+          <th scope="col" className="py-1 text-left font-medium">
+            Outcome
+          </th>
+        </tr>
+      </thead>
+      <tbody>
+        {checks.map((c) => (
+          <tr key={c.id} className="border-b border-line last:border-b-0">
+            <td className="py-1 whitespace-nowrap">{formatDateTime(c.checkedAt)}</td>
+            <td className="py-1">
+              {c.by.name}
+              <span className="text-ink-muted">{c.tokenName ? ` (token “${c.tokenName}”)` : ""}</span>
+            </td>
+            <td className={`py-1 ${c.outcome === "unchanged" ? "text-pass" : c.outcome === "moved" ? "" : "font-semibold text-fail"}`} title={c.actualSha256 ?? c.detail ?? undefined}>
+              {OUTCOME_TEXT[c.outcome]}
+              {c.movedTo ? ` to ${c.movedTo}` : ""}
+              {c.detail ? <span className="text-ink-muted"> ({c.detail})</span> : null}
+            </td>
+          </tr>
+        ))}
+      </tbody>
+    </table>
+  );
+}
 
 /** Every scan of this path in its collection; a changed checksum is the one thing an auditor must not miss. */
 export function FixityHistory({ file }: { file: FileDetailDto }) {
@@ -64,6 +111,7 @@ export function FixityHistory({ file }: { file: FileDetailDto }) {
           </table>
         </>
       )}
+      <FixityChecks checks={file.fixityChecks} />
     </section>
   );
 }
