@@ -108,7 +108,7 @@ export function createApp(deps: AppDeps): Express {
   api.use(usersRouter(ctx));
   api.use(tokensRouter(ctx));
   api.use(collectionsRouter());
-  api.use(batchesRouter());
+  api.use(batchesRouter(ctx));
   api.use(filesRouter(ctx));
   api.use(duplicatesRouter(ctx));
   api.use(commentsRouter(ctx));

@@ -15,9 +15,13 @@ export interface RateLimitSettings {
 export interface UploadLimits {
   /** The report JSON part. */
   maxReportBytes: number;
-  /** Each PNG part. */
+  /** Each PNG part (overview and close-up spectrograms and waveforms). */
   maxImageBytes: number;
-  /** PNG parts per upload. */
+  /** Each level-grid or loudness-curve JSON part. */
+  maxDataBytes: number;
+  /** Each close-up audio excerpt (FLAC or WAV). */
+  maxExcerptBytes: number;
+  /** Artefact parts of every kind (everything but the report) per upload. */
   maxImages: number;
 }
 
@@ -50,7 +54,8 @@ export const DEFAULT_SETTINGS: Omit<AppSettings, "publicUrl" | "sessionSecret"> 
   passwordResetRateLimit: { windowMs: 15 * 60_000, limit: 5 },
   passwordResetTtlMs: 60 * 60_000,
   sessionMaxAgeMs: 12 * 60 * 60_000,
-  upload: { maxReportBytes: 64 * 1024 * 1024, maxImageBytes: 16 * 1024 * 1024, maxImages: 20_000 },
+  // Excerpts: the CLI's default per-file budget is 20 MB for all of a file's excerpts together.
+  upload: { maxReportBytes: 64 * 1024 * 1024, maxImageBytes: 16 * 1024 * 1024, maxDataBytes: 32 * 1024 * 1024, maxExcerptBytes: 64 * 1024 * 1024, maxImages: 100_000 },
   uploadTmpDir: path.join(tmpdir(), "tidemark-uploads"),
 };
 

@@ -2,6 +2,7 @@
 import type {
   AuditEntryDto,
   BatchDto,
+  CloseupDto,
   CollectionDto,
   CommentDto,
   FileDetailDto,
@@ -9,6 +10,7 @@ import type {
   FindingDto,
   FixityCheckDto,
   FixityEntryDto,
+  ProfileLimitsDto,
   ReviewEventDto,
   TokenDto,
   UserDto,
@@ -93,6 +95,8 @@ export const toCommentDto = (c: Comment): CommentDto => ({
   author: toUserRefDto(required(c.author, "comment.author")),
   body: c.body,
   createdAt: iso(c.createdAt),
+  atSeconds: c.atSeconds ?? null,
+  channel: c.channel ?? null,
 });
 
 export const toReviewEventDto = (e: ReviewEvent): ReviewEventDto => ({
@@ -122,7 +126,28 @@ export interface FileDetailParts {
   reviewEvents: ReviewEvent[];
   fixityHistory: FixityEntryDto[];
   fixityChecks: FixityCheck[];
+  /** The batch's profile limits (the file page draws the loudness target band from them). */
+  profileLimits: ProfileLimitsDto | null;
 }
+
+/**
+ * Report finding indexes → finding ids. The report's findings are inserted first and in order, so they
+ * are the file's first rows by id (fixity and duplicate findings the server adds come after them).
+ */
+const findingIdAt = (findings: Finding[], index: number): number | null => findings[index]?.id ?? null;
+
+export const toCloseupDtos = (f: FileResult, findings: Finding[]): CloseupDto[] =>
+  (f.closeups ?? []).map((c) => ({
+    index: c.index,
+    findingIds: c.findings.map((i) => findingIdAt(findings, i)).filter((id): id is number => id !== null),
+    startSeconds: c.startSeconds,
+    endSeconds: c.endSeconds,
+    secondsPerColumn: c.secondsPerColumn,
+    spectrogramUrl: `/api/files/${f.id}/closeups/${c.index}/spectrogram.png`,
+    waveformUrl: `/api/files/${f.id}/closeups/${c.index}/waveform.png`,
+    excerptUrl: c.excerptKey ? `/api/files/${f.id}/closeups/${c.index}/excerpt` : null,
+    excerptMediaType: c.excerptKey ? c.excerptMediaType : null,
+  }));
 
 export const toFileDetailDto = (f: FileResult, parts: FileDetailParts): FileDetailDto => ({
   ...toFileSummaryDto(f),
@@ -138,6 +163,14 @@ export const toFileDetailDto = (f: FileResult, parts: FileDetailParts): FileDeta
   fixityChecks: parts.fixityChecks.map(toFixityCheckDto),
   spectrogramUrl: f.spectrogramKey ? `/api/files/${f.id}/spectrogram.png` : null,
   waveformUrl: f.waveformKey ? `/api/files/${f.id}/waveform.png` : null,
+  closeups: toCloseupDtos(f, parts.findings),
+  closeupsOmitted: (f.closeupsOmitted ?? []).flatMap((o) => {
+    const findingId = findingIdAt(parts.findings, o.finding);
+    return findingId === null ? [] : [{ findingId, reason: o.reason }];
+  }),
+  levelGridUrl: f.levelGridKey ? `/api/files/${f.id}/level-grid` : null,
+  loudnessCurveUrl: f.loudnessCurveKey ? `/api/files/${f.id}/loudness-curve` : null,
+  profileLimits: parts.profileLimits,
 });
 
 /** TokenDto plus `owner`, which admins need in the all-tokens list (a contract addition). */

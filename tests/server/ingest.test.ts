@@ -3,7 +3,7 @@ import { readdirSync, existsSync } from "node:fs";
 import path from "node:path";
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import { Batch, Collection, FileResult, Finding, AuditEntry } from "../../server/src/models/index.ts";
-import type { ObjectStore } from "../../server/src/storage/ObjectStore.ts";
+import type { ByteRange, ObjectStore } from "../../server/src/storage/ObjectStore.ts";
 import { createFsStore } from "../../server/src/storage/fsStore.ts";
 import { finding, ingest, pngBytes, scanReport, sha } from "./helpers/reports.ts";
 import { startTestApp, type TestApp } from "./helpers/testApp.ts";
@@ -24,7 +24,8 @@ function failingOnWrite(inner: ObjectStore, n: number): ObjectStore & { armed: b
       if (store.armed && ++writes === n) throw new Error("disk full (simulated)");
       return inner.put(key, body, type);
     },
-    get: (key: string) => inner.get(key),
+    get: (key: string, range?: ByteRange) => inner.get(key, range),
+    size: (key: string) => inner.size(key),
     delete: (key: string) => inner.delete(key),
     list: (prefix: string) => inner.list(prefix),
   };
@@ -39,7 +40,7 @@ beforeAll(async () => {
   t = await startTestApp({
     label: "ingest",
     store: (dir) => (store = failingOnWrite(createFsStore(dir), 2)),
-    settings: { upload: { maxReportBytes: 200_000, maxImageBytes: 50_000, maxImages: 10 } },
+    settings: { upload: { maxReportBytes: 200_000, maxImageBytes: 50_000, maxDataBytes: 50_000, maxExcerptBytes: 50_000, maxImages: 10 } },
   });
   token = await t.tokenFor(await t.createUser("technician"));
 });

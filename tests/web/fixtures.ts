@@ -76,6 +76,11 @@ export function fileDetail(id: number, overrides: Partial<FileDetailDto> = {}): 
     fixityChecks: [],
     spectrogramUrl: `/api/files/${id}/spectrogram.png`,
     waveformUrl: `/api/files/${id}/waveform.png`,
+    closeups: [],
+    closeupsOmitted: [],
+    levelGridUrl: null,
+    loudnessCurveUrl: null,
+    profileLimits: null,
     ...overrides,
   };
 }

@@ -8,6 +8,7 @@ import {
   type NonAttribute,
   type Sequelize,
 } from "sequelize";
+import type { ProfileLimitsDto } from "@tidemark/shared/types/api";
 import type { Collection } from "./Collection.ts";
 import type { User } from "./User.ts";
 
@@ -27,6 +28,8 @@ export class Batch extends Model<InferAttributes<Batch>, InferCreationAttributes
   declare warnCount: number;
   declare failCount: number;
   declare errorCount: number;
+  /** The scan profile's limits from the report (`profile.limits`), or null when it carried none. */
+  declare profileLimits: CreationOptional<ProfileLimitsDto | null>;
   declare createdAt: CreationOptional<Date>;
   declare updatedAt: CreationOptional<Date>;
   declare collection?: NonAttribute<Collection>;
@@ -50,6 +53,7 @@ export class Batch extends Model<InferAttributes<Batch>, InferCreationAttributes
         warnCount: count(),
         failCount: count(),
         errorCount: count(),
+        profileLimits: { type: DataTypes.JSONB, allowNull: true },
         createdAt: DataTypes.DATE,
         updatedAt: DataTypes.DATE,
       },

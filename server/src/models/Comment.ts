@@ -16,6 +16,8 @@ export class Comment extends Model<InferAttributes<Comment>, InferCreationAttrib
   declare fileResultId: ForeignKey<FileResult["id"]>;
   declare authorId: ForeignKey<User["id"]>;
   declare body: string;
+  declare atSeconds: CreationOptional<number | null>;
+  declare channel: CreationOptional<number | null>;
   declare createdAt: CreationOptional<Date>;
   declare updatedAt: CreationOptional<Date>;
   declare author?: NonAttribute<User>;
@@ -25,6 +27,8 @@ export class Comment extends Model<InferAttributes<Comment>, InferCreationAttrib
       {
         id: { type: DataTypes.INTEGER, autoIncrement: true, primaryKey: true },
         body: { type: DataTypes.TEXT, allowNull: false },
+        atSeconds: { type: DataTypes.DOUBLE, allowNull: true },
+        channel: { type: DataTypes.INTEGER, allowNull: true },
         createdAt: DataTypes.DATE,
         updatedAt: DataTypes.DATE,
       },

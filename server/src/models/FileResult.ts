@@ -8,11 +8,32 @@ import {
   type NonAttribute,
   type Sequelize,
 } from "sequelize";
-import type { FindingSummaryDto, ReviewState } from "@tidemark/shared/types/api";
+import type { CloseupOmittedReason, ExcerptMediaType, FindingSummaryDto, ReviewState } from "@tidemark/shared/types/api";
 import type { AudioFormat, FileMetadata, FileMetrics, ReportError, Verdict } from "@tidemark/shared/types/report";
 import type { Batch } from "./Batch.ts";
 import type { Collection } from "./Collection.ts";
 import type { Finding } from "./Finding.ts";
+
+/** One close-up as stored: the report's window and finding indexes, and the object keys of what arrived. */
+export interface StoredCloseup {
+  /** Index in the report's `closeups` of the file (the `k` of its URLs). */
+  index: number;
+  /** Indexes into the report's findings of the file, which are the file's first findings rows by id. */
+  findings: number[];
+  startSeconds: number;
+  endSeconds: number;
+  secondsPerColumn: number;
+  spectrogramKey: string;
+  waveformKey: string;
+  excerptKey: string | null;
+  excerptMediaType: ExcerptMediaType | null;
+  excerptSampleRateHz: number | null;
+}
+
+export interface StoredCloseupOmitted {
+  finding: number;
+  reason: CloseupOmittedReason;
+}
 
 export class FileResult extends Model<InferAttributes<FileResult>, InferCreationAttributes<FileResult>> {
   declare id: CreationOptional<number>;
@@ -37,6 +58,12 @@ export class FileResult extends Model<InferAttributes<FileResult>, InferCreation
   declare findingCodes: string[];
   declare spectrogramKey: string | null;
   declare waveformKey: string | null;
+  declare levelGridKey: CreationOptional<string | null>;
+  declare loudnessCurveKey: CreationOptional<string | null>;
+  declare closeups: CreationOptional<StoredCloseup[]>;
+  declare closeupsOmitted: CreationOptional<StoredCloseupOmitted[]>;
+  /** Every object key of the review artefacts above (not the overview PNGs): the sweep's and delete's list. */
+  declare artefactKeys: CreationOptional<string[]>;
   declare createdAt: CreationOptional<Date>;
   declare updatedAt: CreationOptional<Date>;
   declare collection?: NonAttribute<Collection>;
@@ -65,6 +92,11 @@ export class FileResult extends Model<InferAttributes<FileResult>, InferCreation
         findingCodes: { type: DataTypes.ARRAY(DataTypes.TEXT), allowNull: false, defaultValue: [] },
         spectrogramKey: { type: DataTypes.TEXT, allowNull: true },
         waveformKey: { type: DataTypes.TEXT, allowNull: true },
+        levelGridKey: { type: DataTypes.TEXT, allowNull: true },
+        loudnessCurveKey: { type: DataTypes.TEXT, allowNull: true },
+        closeups: { type: DataTypes.JSONB, allowNull: false, defaultValue: [] },
+        closeupsOmitted: { type: DataTypes.JSONB, allowNull: false, defaultValue: [] },
+        artefactKeys: { type: DataTypes.ARRAY(DataTypes.TEXT), allowNull: false, defaultValue: [] },
         createdAt: DataTypes.DATE,
         updatedAt: DataTypes.DATE,
       },

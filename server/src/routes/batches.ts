@@ -2,11 +2,13 @@ import { Router } from "express";
 import { Op, type Order, type OrderItem, type WhereOptions } from "sequelize";
 import { z } from "zod";
 import { BATCH_SORT_KEYS, type BatchDto, type Page } from "@tidemark/shared/types/api";
+import type { AppContext } from "../context.ts";
 import { toBatchDto } from "../dto.ts";
 import { requirePermission } from "../middleware/auth.ts";
 import { loadBatch } from "../middleware/loadEntity.ts";
 import { Batch, Collection, User } from "../models/index.ts";
 import { optionalDate, optionalDateTo, optionalEnum, optionalId, orderParam, pageParams } from "../queryParams.ts";
+import { batchOverview } from "../services/batchOverview.ts";
 import { parseWith } from "../validate.ts";
 
 const batchQuery = z
@@ -28,7 +30,7 @@ function orderFor(sort: BatchSortKey, direction: "ASC" | "DESC"): Order {
   return [by, ["id", direction]];
 }
 
-export function batchesRouter(): Router {
+export function batchesRouter(ctx: AppContext): Router {
   const router = Router();
 
   router.get("/batches", requirePermission("view"), async (req, res) => {
@@ -60,6 +62,10 @@ export function batchesRouter(): Router {
 
   router.get("/batches/:id", requirePermission("view"), loadBatch, (_req, res) => {
     res.json(toBatchDto(res.locals.batch!));
+  });
+
+  router.get("/batches/:id/overview", requirePermission("view"), loadBatch, async (_req, res) => {
+    res.json(await batchOverview(ctx.sequelize, res.locals.batch!));
   });
 
   return router;

@@ -4,11 +4,30 @@ import type { AppContext } from "../context.ts";
 import { toCommentDto } from "../dto.ts";
 import { requirePermission } from "../middleware/auth.ts";
 import { loadFileResult } from "../middleware/loadEntity.ts";
-import { Comment, User } from "../models/index.ts";
+import { badRequest } from "../errors.ts";
+import { Comment, User, type FileResult } from "../models/index.ts";
 import { recordAudit } from "../services/audit.ts";
 import { parseWith } from "../validate.ts";
 
-const commentSchema = z.object({ body: z.string().trim().min(1).max(5000) }).strict();
+const commentSchema = z
+  .object({
+    body: z.string().trim().min(1).max(5000),
+    atSeconds: z.number().finite().min(0).nullable().optional(),
+    channel: z.number().int().min(0).max(2_147_483_647).nullable().optional(),
+  })
+  .strict();
+
+/** An anchor must fall inside the file: atSeconds within its duration, channel within its channel count. */
+function checkAnchor(file: FileResult, atSeconds: number | null, channel: number | null): void {
+  const duration = file.durationSeconds;
+  if (atSeconds !== null && (duration === null || atSeconds > duration)) {
+    throw badRequest(`atSeconds must be within the file's duration (0–${duration ?? "unknown"} s), got ${atSeconds}`, "at_seconds_out_of_range");
+  }
+  const channels = file.format?.channels ?? null;
+  if (channel !== null && (channels === null || channel >= channels)) {
+    throw badRequest(`channel must be 0–${channels === null ? "?" : channels - 1} for this file (${channels ?? "unknown"} channel(s)), got ${channel}`, "channel_out_of_range");
+  }
+}
 
 export function commentsRouter(ctx: AppContext): Router {
   const router = Router();
@@ -23,12 +42,15 @@ export function commentsRouter(ctx: AppContext): Router {
   });
 
   router.post("/files/:id/comments", requirePermission("comment"), loadFileResult, async (req, res) => {
-    const { body } = parseWith(commentSchema, req.body, "comment");
+    const input = parseWith(commentSchema, req.body, "comment");
     const author = res.locals.auth!.user;
     const file = res.locals.file!;
+    const atSeconds = input.atSeconds ?? null;
+    const channel = input.channel ?? null;
+    checkAnchor(file, atSeconds, channel);
     const comment = await ctx.sequelize.transaction(async (transaction) => {
-      const made = await Comment.create({ fileResultId: file.id, authorId: author.id, body }, { transaction });
-      await recordAudit(res, { action: "comment.create", targetType: "file", targetId: file.id, details: { commentId: made.id } }, transaction);
+      const made = await Comment.create({ fileResultId: file.id, authorId: author.id, body: input.body, atSeconds, channel }, { transaction });
+      await recordAudit(res, { action: "comment.create", targetType: "file", targetId: file.id, details: { commentId: made.id, atSeconds, channel } }, transaction);
       return made;
     });
     comment.author = author;

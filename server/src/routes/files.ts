@@ -1,18 +1,21 @@
 import { Router, type RequestHandler } from "express";
 import { z } from "zod";
-import { REVIEW_STATES, type FileSummaryDto, type Page } from "@tidemark/shared/types/api";
+import { REASON_REQUIRED_STATES, REVIEW_STATES, type FileSummaryDto, type Page, type ReviewState } from "@tidemark/shared/types/api";
 import type { AppContext } from "../context.ts";
 import { toFileSummaryDto, toFileSummaryDtoFromRow } from "../dto.ts";
-import { notFound } from "../errors.ts";
+import { badRequest, notFound } from "../errors.ts";
 import { requirePermission } from "../middleware/auth.ts";
 import { loadFileResult } from "../middleware/loadEntity.ts";
 import { fileDetail } from "../services/fileDetail.ts";
 import { fileQuerySchema, listFiles } from "../services/fileList.ts";
 import { createListTotals } from "../services/listTotals.ts";
 import { changeReviewState } from "../services/review.ts";
+import type { StoredCloseup } from "../models/FileResult.ts";
+import type { FileResult } from "../models/index.ts";
 import { ObjectNotFoundError } from "../storage/ObjectStore.ts";
 import type { ImageKind } from "../storage/objectKeys.ts";
 import { parseWith } from "../validate.ts";
+import { sendObject, sendObjectWithRanges } from "./sendObject.ts";
 
 const reviewChange = {
   reviewState: z.enum(REVIEW_STATES),
@@ -22,6 +25,22 @@ const reviewSchema = z.object(reviewChange).strict();
 const bulkReviewSchema = z
   .object({ ids: z.array(z.number().int().min(1).max(2_147_483_647)).min(1).max(1000), ...reviewChange })
   .strict();
+
+/** Flagging or sending back for retransfer says why; accepting (or resetting to pending) need not. */
+function requireReason(reviewState: ReviewState, reason: string): void {
+  if ((REASON_REQUIRED_STATES as readonly ReviewState[]).includes(reviewState) && reason === "") {
+    throw badRequest(`a reason is required to mark a file ${reviewState}`, "reason_required");
+  }
+}
+
+/** The `:k` close-up of the loaded file, or 404. */
+function closeupOf(file: FileResult, raw: unknown): StoredCloseup {
+  const k = typeof raw === "string" && /^\d{1,6}$/.test(raw) ? Number(raw) : NaN;
+  if (Number.isNaN(k)) throw badRequest(`close-up index must be a non-negative integer, got "${String(raw)}"`, "invalid_id");
+  const closeup = (file.closeups ?? []).find((c) => c.index === k);
+  if (!closeup) throw notFound(`close-up ${k} of file`, file.id);
+  return closeup;
+}
 
 export function filesRouter(ctx: AppContext): Router {
   const router = Router();
@@ -36,6 +55,7 @@ export function filesRouter(ctx: AppContext): Router {
 
   router.post("/files/review", requirePermission("review"), async (req, res) => {
     const { ids, reviewState, reason } = parseWith(bulkReviewSchema, req.body, "bulk review change");
+    requireReason(reviewState, reason);
     const { files, changed } = await changeReviewState(ctx, res, ids, reviewState, reason);
     res.json({ items: files.map(toFileSummaryDto), changed });
   });
@@ -46,6 +66,7 @@ export function filesRouter(ctx: AppContext): Router {
 
   router.patch("/files/:id", requirePermission("review"), loadFileResult, async (req, res) => {
     const { reviewState, reason } = parseWith(reviewSchema, req.body, "review change");
+    requireReason(reviewState, reason);
     const { files } = await changeReviewState(ctx, res, [res.locals.file!.id], reviewState, reason);
     res.json(await fileDetail(files[0]));
   });
@@ -70,6 +91,30 @@ export function filesRouter(ctx: AppContext): Router {
   };
   router.get("/files/:id/spectrogram.png", requirePermission("view"), loadFileResult, image("spectrogram"));
   router.get("/files/:id/waveform.png", requirePermission("view"), loadFileResult, image("waveform"));
+
+  // Issue #16: close-ups, their excerpts (range requests, so the player can seek), the level grid and loudness curve.
+  const closeupImage = (kind: "spectrogram" | "waveform"): RequestHandler => async (req, res) => {
+    const file = res.locals.file!;
+    const closeup = closeupOf(file, req.params.k);
+    const key = kind === "spectrogram" ? closeup.spectrogramKey : closeup.waveformKey;
+    await sendObject(ctx, res, { key, contentType: "image/png", what: `close-up ${closeup.index} ${kind} of file`, fileId: file.id });
+  };
+  router.get("/files/:id/closeups/:k/spectrogram.png", requirePermission("view"), loadFileResult, closeupImage("spectrogram"));
+  router.get("/files/:id/closeups/:k/waveform.png", requirePermission("view"), loadFileResult, closeupImage("waveform"));
+  router.get("/files/:id/closeups/:k/excerpt", requirePermission("view"), loadFileResult, async (req, res) => {
+    const file = res.locals.file!;
+    const closeup = closeupOf(file, req.params.k);
+    const what = `close-up ${closeup.index} excerpt of file`;
+    await sendObjectWithRanges(ctx, req, res, { key: closeup.excerptKey, contentType: closeup.excerptMediaType ?? "application/octet-stream", what, fileId: file.id });
+  });
+  router.get("/files/:id/level-grid", requirePermission("view"), loadFileResult, async (_req, res) => {
+    const file = res.locals.file!;
+    await sendObject(ctx, res, { key: file.levelGridKey, contentType: "application/json", what: "level grid of file", fileId: file.id });
+  });
+  router.get("/files/:id/loudness-curve", requirePermission("view"), loadFileResult, async (_req, res) => {
+    const file = res.locals.file!;
+    await sendObject(ctx, res, { key: file.loudnessCurveKey, contentType: "application/json", what: "loudness curve of file", fileId: file.id });
+  });
 
   return router;
 }

@@ -7,7 +7,7 @@ import { HttpError } from "../errors.ts";
 import { requirePermission, requireTokenAuth } from "../middleware/auth.ts";
 import { recordAudit } from "../services/audit.ts";
 import { ingestBatch } from "../services/ingest.ts";
-import { ingestFieldsSchema, readImageParts, readReport, type UploadedPart } from "../services/ingestValidation.ts";
+import { ingestFieldsSchema, largestPartBytes, PART_KIND_NAMES, readArtefactParts, readReport, type UploadedPart } from "../services/ingestValidation.ts";
 import { parseWith } from "../validate.ts";
 
 type PartsByField = Record<string, Express.Multer.File[]>;
@@ -16,10 +16,11 @@ function multipartUpload(ctx: AppContext): RequestHandler {
   const { upload, uploadTmpDir } = ctx.settings;
   mkdirSync(uploadTmpDir, { recursive: true });
   return multer({
-    // Parts go to disk, not memory: a batch can carry thousands of PNGs.
+    // Parts go to disk, not memory: a batch can carry thousands of PNGs and excerpts.
     storage: multer.diskStorage({ destination: uploadTmpDir }),
     limits: {
-      fileSize: Math.max(upload.maxReportBytes, upload.maxImageBytes),
+      // The per-kind caps are checked after parsing (ingestValidation.ts, PART_KINDS).
+      fileSize: largestPartBytes(upload),
       files: upload.maxImages + 1,
       fields: 10,
       fieldSize: 4096,
@@ -29,14 +30,13 @@ function multipartUpload(ctx: AppContext): RequestHandler {
     },
   }).fields([
     { name: "report", maxCount: 1 },
-    { name: "spectrogram", maxCount: upload.maxImages },
-    { name: "waveform", maxCount: upload.maxImages },
+    ...PART_KIND_NAMES.map((name) => ({ name, maxCount: upload.maxImages })),
   ]);
 }
 
 const requireMultipart: RequestHandler = (req, _res, next) => {
   if (!req.is("multipart/form-data")) {
-    throw new HttpError(415, "unsupported_media_type", "send the report as multipart/form-data (part \"report\" plus optional PNG parts)");
+    throw new HttpError(415, "unsupported_media_type", "send the report as multipart/form-data (part \"report\" plus optional artefact parts)");
   }
   next();
 };
@@ -50,13 +50,13 @@ export function ingestRouter(ctx: AppContext): Router {
     try {
       const fields = parseWith(ingestFieldsSchema, req.body ?? {}, "upload fields");
       const report = await readReport(parts.report?.[0], ctx.settings.upload);
-      const images = await readImageParts([...(parts.spectrogram ?? []), ...(parts.waveform ?? [])], report.files.length, ctx.settings.upload);
+      const artefacts = await readArtefactParts(PART_KIND_NAMES.flatMap((kind) => parts[kind] ?? []), report, ctx.settings.upload);
       const result = await ingestBatch(ctx, res, {
         uploader: res.locals.auth!.user,
         collectionName: fields.collection,
         batchKey: fields.batchKey,
         report,
-        images,
+        artefacts,
       });
       if (!result.created) {
         await recordAudit(res, { action: "batch.ingest_repeat", targetType: "batch", targetId: result.batchId, details: { batchKey: fields.batchKey } });

@@ -1,6 +1,6 @@
 /**
  * The worker's endpoints (API token only): claim jobs, send one file's result (multipart: the one-file
- * report plus its PNGs, as ingest takes them), fail or release an attempt. Supervisors and admins
+ * report plus its artefact parts, as ingest takes them), fail or release an attempt. Supervisors and admins
  * retry dead-lettered jobs.
  */
 import { mkdirSync } from "node:fs";
@@ -14,7 +14,7 @@ import { requirePermission, requireTokenAuth } from "../middleware/auth.ts";
 import { idParam } from "../middleware/loadEntity.ts";
 import { initRunModels } from "../queue/models/index.ts";
 import { recordAudit } from "../services/audit.ts";
-import { readImageParts, readReport, type UploadedPart } from "../services/ingestValidation.ts";
+import { largestPartBytes, PART_KIND_NAMES, readArtefactParts, readReport, type UploadedPart } from "../services/ingestValidation.ts";
 import { claimJobs, failJob, releaseJob, retryJob } from "../services/runsJobs.ts";
 import { storeJobResult } from "../services/runsResults.ts";
 import { claimSchema, failSchema, releaseSchema, resultFieldsSchema } from "../services/runsValidation.ts";
@@ -27,17 +27,14 @@ function resultUpload(ctx: AppContext): RequestHandler {
   mkdirSync(uploadTmpDir, { recursive: true });
   return multer({
     storage: multer.diskStorage({ destination: uploadTmpDir }),
-    limits: { fileSize: Math.max(upload.maxReportBytes, upload.maxImageBytes), files: 3, fields: 4, fieldSize: 1024, parts: 8, headerPairs: 50 },
-  }).fields([
-    { name: "report", maxCount: 1 },
-    { name: "spectrogram", maxCount: 1 },
-    { name: "waveform", maxCount: 1 },
-  ]);
+    // One file's artefacts: its PNGs, level grid, loudness curve and close-ups (kinds and caps in PART_KINDS).
+    limits: { fileSize: largestPartBytes(upload), files: upload.maxImages + 1, fields: 4, fieldSize: 1024, parts: upload.maxImages + 5, headerPairs: 50 },
+  }).fields([{ name: "report", maxCount: 1 }, ...PART_KIND_NAMES.map((name) => ({ name, maxCount: upload.maxImages }))]);
 }
 
 const requireMultipart: RequestHandler = (req, _res, next) => {
   if (!req.is("multipart/form-data")) {
-    throw new HttpError(415, "unsupported_media_type", 'send the result as multipart/form-data (part "report" with a one-file report, optional PNG parts)');
+    throw new HttpError(415, "unsupported_media_type", 'send the result as multipart/form-data (part "report" with a one-file report, optional artefact parts)');
   }
   next();
 };
@@ -59,8 +56,8 @@ export function jobsRouter(ctx: AppContext): Router {
     try {
       const fields = parseWith(resultFieldsSchema, req.body ?? {}, "result fields");
       const report = await readReport(parts.report?.[0], ctx.settings.upload);
-      const images = await readImageParts([...(parts.spectrogram ?? []), ...(parts.waveform ?? [])], report.files.length, ctx.settings.upload);
-      const result = await storeJobResult(ctx, res, id, { report, images, worker: fields.worker, attempt: fields.attempt });
+      const artefacts = await readArtefactParts(PART_KIND_NAMES.flatMap((kind) => parts[kind] ?? []), report, ctx.settings.upload);
+      const result = await storeJobResult(ctx, res, id, { report, artefacts, worker: fields.worker, attempt: fields.attempt });
       if (!result.created) {
         await recordAudit(res, { action: "job.result_repeat", targetType: "job", targetId: id, details: { worker: fields.worker, attempt: fields.attempt, fileResultId: result.fileResultId } });
       }

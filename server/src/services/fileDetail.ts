@@ -29,7 +29,7 @@ export async function fixityHistory(file: FileResult): Promise<FixityEntryDto[]>
 }
 
 export async function fileDetail(file: FileResult): Promise<FileDetailDto> {
-  const [findings, comments, reviewEvents, history, checks] = await Promise.all([
+  const [findings, comments, reviewEvents, history, checks, batch] = await Promise.all([
     Finding.findAll({ where: { fileResultId: file.id }, order: [["id", "ASC"]] }),
     Comment.findAll({ where: { fileResultId: file.id }, include: [{ model: User, as: "author" }], order: [["createdAt", "ASC"], ["id", "ASC"]] }),
     ReviewEvent.findAll({ where: { fileResultId: file.id }, include: [{ model: User, as: "actor" }], order: [["createdAt", "ASC"], ["id", "ASC"]] }),
@@ -43,6 +43,7 @@ export async function fileDetail(file: FileResult): Promise<FileDetailDto> {
       order: [["id", "ASC"]],
       limit: HISTORY_LIMIT,
     }),
+    Batch.findByPk(file.batchId, { attributes: ["id", "profileLimits"] }),
   ]);
-  return toFileDetailDto(file, { findings, comments, reviewEvents, fixityHistory: history, fixityChecks: checks });
+  return toFileDetailDto(file, { findings, comments, reviewEvents, fixityHistory: history, fixityChecks: checks, profileLimits: batch?.profileLimits ?? null });
 }

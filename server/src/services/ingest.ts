@@ -1,19 +1,19 @@
 /**
- * Ingest of one scan report: images first (under a fresh upload folder), then every row in ONE
- * transaction. If the transaction fails the images are deleted; if the process dies in between, the
+ * Ingest of one scan report: artefacts first (under a fresh upload folder), then every row in ONE
+ * transaction. If the transaction fails the artefacts are deleted; if the process dies in between, the
  * startup sweep (orphanSweep.ts) removes them. Idempotent on (uploader, batch key).
  */
-import { readFile } from "node:fs/promises";
 import type { Response } from "express";
 import { QueryTypes, UniqueConstraintError, type Transaction } from "sequelize";
 import type { IngestResultDto } from "@tidemark/shared/types/api";
 import type { Finding as ReportFinding, ScanReport, Verdict } from "@tidemark/shared/types/report";
 import type { AppContext } from "../context.ts";
 import { Batch, type User } from "../models/index.ts";
-import { imageKey, newUploadId } from "../storage/objectKeys.ts";
+import { newUploadId } from "../storage/objectKeys.ts";
+import { deleteObjects, linksFor, writeArtefacts, type WrittenArtefacts } from "./artefacts.ts";
 import { recordAudit } from "./audit.ts";
 import { recordBatchDuplicates } from "./duplicatesIngest.ts";
-import type { ImagePart } from "./ingestValidation.ts";
+import type { ArtefactPart } from "./ingestValidation.ts";
 import { fileRowOf, insertFileRows, insertFindingRows, type FileRow } from "./ingestRows.ts";
 import { notifyFailingBatch } from "./notifications.ts";
 
@@ -22,7 +22,8 @@ export interface IngestInput {
   collectionName: string;
   batchKey: string;
   report: ScanReport;
-  images: ImagePart[];
+  /** Every artefact part (overview PNGs, level grids, loudness curves, close-ups, excerpts), checked. */
+  artefacts: ArtefactPart[];
 }
 
 interface PreviousScan {
@@ -70,24 +71,7 @@ async function upsertCollection(ctx: AppContext, res: Response, name: string, tr
   return found.id;
 }
 
-async function writeImages(ctx: AppContext, uploadId: string, images: ImagePart[], written: string[]): Promise<Map<string, string>> {
-  const keys = new Map<string, string>();
-  for (const image of images) {
-    const key = imageKey(uploadId, image.fileIndex, image.kind);
-    await ctx.store.put(key, await readFile(image.path), "image/png");
-    written.push(key);
-    keys.set(`${image.kind}:${image.fileIndex}`, key);
-  }
-  return keys;
-}
-
-async function deleteObjects(ctx: AppContext, keys: string[]): Promise<void> {
-  for (const key of keys) {
-    await ctx.store.delete(key).catch((e: unknown) => ctx.logger.warn(`could not delete ${key} (the startup sweep will): ${String(e)}`));
-  }
-}
-
-async function storeRows(ctx: AppContext, res: Response, input: IngestInput, keys: Map<string, string>, transaction: Transaction): Promise<IngestResultDto | { batch: Batch; fixityChanged: number }> {
+async function storeRows(ctx: AppContext, res: Response, input: IngestInput, keys: WrittenArtefacts, transaction: Transaction): Promise<IngestResultDto | { batch: Batch; fixityChanged: number }> {
   const { report, uploader, batchKey } = input;
   // Serialises ingests into one collection: fixity history and collection creation stay consistent.
   await ctx.sequelize.query(`select pg_advisory_xact_lock(hashtext($1))`, { bind: [`tidemark.collection:${input.collectionName}`], transaction });
@@ -135,6 +119,7 @@ async function storeRows(ctx: AppContext, res: Response, input: IngestInput, key
       warnCount: counts.warn,
       failCount: counts.fail,
       errorCount: counts.error,
+      profileLimits: report.profile.limits ?? null,
     },
     { transaction },
   );
@@ -143,11 +128,7 @@ async function storeRows(ctx: AppContext, res: Response, input: IngestInput, key
     fileRowOf(
       file,
       { findings, verdict },
-      {
-        previousId: latest.get(file.path)?.id ?? null,
-        spectrogramKey: keys.get(`spectrogram:${index}`) ?? null,
-        waveformKey: keys.get(`waveform:${index}`) ?? null,
-      },
+      { previousId: latest.get(file.path)?.id ?? null, ...linksFor(file, index, keys) },
     ),
   );
   const ids = await insertFileRows(ctx.sequelize, batch.id, collectionId, fileRows, transaction);
@@ -178,7 +159,7 @@ async function storeRows(ctx: AppContext, res: Response, input: IngestInput, key
       action: "batch.ingest",
       targetType: "batch",
       targetId: batch.id,
-      details: { collection: input.collectionName, batchKey, files: prepared.length, ...counts, fixityChanged: fixityEvents.length, images: keys.size, ...duplicates },
+      details: { collection: input.collectionName, batchKey, files: prepared.length, ...counts, fixityChanged: fixityEvents.length, objects: input.artefacts.length, closeups: fileRows.reduce((n, r) => n + r.closeups.length, 0), ...duplicates },
     },
     transaction,
   );
@@ -192,7 +173,7 @@ export async function ingestBatch(ctx: AppContext, res: Response, input: IngestI
   const written: string[] = [];
   let outcome: Awaited<ReturnType<typeof storeRows>>;
   try {
-    const keys = await writeImages(ctx, newUploadId(), input.images, written);
+    const keys = await writeArtefacts(ctx, newUploadId(), input.artefacts, written);
     outcome = await ctx.sequelize.transaction((transaction) => storeRows(ctx, res, input, keys, transaction));
   } catch (e) {
     await deleteObjects(ctx, written);

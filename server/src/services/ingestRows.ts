@@ -6,6 +6,8 @@
 import { QueryTypes, type Sequelize, type Transaction } from "sequelize";
 import type { FindingSummaryDto } from "@tidemark/shared/types/api";
 import type { AudioFormat, FileMetadata, FileMetrics, FileReport, Finding, ReportError, Verdict } from "@tidemark/shared/types/report";
+import type { StoredCloseup, StoredCloseupOmitted } from "../models/FileResult.ts";
+import type { FileArtefactLinks } from "./artefacts.ts";
 import { summariseFindings } from "./findingSummary.ts";
 
 export interface FileRow {
@@ -25,6 +27,11 @@ export interface FileRow {
   finding_codes: string[];
   spectrogram_key: string | null;
   waveform_key: string | null;
+  level_grid_key: string | null;
+  loudness_curve_key: string | null;
+  closeups: StoredCloseup[];
+  closeups_omitted: StoredCloseupOmitted[];
+  artefact_keys: string[];
 }
 
 /**
@@ -34,7 +41,7 @@ export interface FileRow {
 export function fileRowOf(
   file: FileReport,
   judged: { findings: Finding[]; verdict: Verdict },
-  links: { previousId: number | null; spectrogramKey: string | null; waveformKey: string | null },
+  links: { previousId: number | null } & FileArtefactLinks,
 ): FileRow {
   const { findings, verdict } = judged;
   return {
@@ -54,6 +61,11 @@ export function fileRowOf(
     finding_codes: [...new Set(findings.map((f) => f.code))],
     spectrogram_key: links.spectrogramKey,
     waveform_key: links.waveformKey,
+    level_grid_key: links.levelGridKey,
+    loudness_curve_key: links.loudnessCurveKey,
+    closeups: links.closeups,
+    closeups_omitted: links.closeupsOmitted,
+    artefact_keys: links.artefactKeys,
   };
 }
 
@@ -67,14 +79,18 @@ export async function insertFileRows(sequelize: Sequelize, batchId: number, coll
     const made = await sequelize.query<{ id: number; path: string }>(
       `insert into file_results (batch_id, collection_id, previous_id, path, size_bytes, sha256, format, metadata, metrics, error,
                                  verdict, duration_seconds, integrated_lufs, true_peak_dbtp, worst_findings, finding_codes,
-                                 spectrogram_key, waveform_key)
+                                 spectrogram_key, waveform_key, level_grid_key, loudness_curve_key, closeups, closeups_omitted,
+                                 artefact_keys)
        select $1, $2, r.previous_id, r.path, r.size_bytes, r.sha256, r.format, r.metadata, r.metrics, r.error,
               r.verdict::verdict, r.duration_seconds, r.integrated_lufs, r.true_peak_dbtp, r.worst_findings,
-              array(select jsonb_array_elements_text(r.finding_codes)), r.spectrogram_key, r.waveform_key
+              array(select jsonb_array_elements_text(r.finding_codes)), r.spectrogram_key, r.waveform_key,
+              r.level_grid_key, r.loudness_curve_key, r.closeups, r.closeups_omitted,
+              array(select jsonb_array_elements_text(r.artefact_keys))
          from jsonb_to_recordset($3::jsonb) as r(
               previous_id integer, path text, size_bytes bigint, sha256 text, format jsonb, metadata jsonb, metrics jsonb,
               error jsonb, verdict text, duration_seconds double precision, integrated_lufs double precision,
-              true_peak_dbtp double precision, worst_findings jsonb, finding_codes jsonb, spectrogram_key text, waveform_key text)
+              true_peak_dbtp double precision, worst_findings jsonb, finding_codes jsonb, spectrogram_key text, waveform_key text,
+              level_grid_key text, loudness_curve_key text, closeups jsonb, closeups_omitted jsonb, artefact_keys jsonb)
        returning id, path`,
       { bind: [batchId, collectionId, JSON.stringify(chunk)], type: QueryTypes.SELECT, transaction },
     );

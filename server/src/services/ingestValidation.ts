@@ -1,13 +1,12 @@
 /**
  * Everything an upload must satisfy before anything is stored: the report against the zod contract
- * (422 naming each bad field), values PostgreSQL could not hold, and the image parts (400/413).
+ * (422 naming each bad field), values PostgreSQL could not hold, and the artefact parts (400/413).
  */
 import { open, readFile } from "node:fs/promises";
 import { z } from "zod";
 import { scanReportSchema, type ScanReport } from "@tidemark/shared/types/report";
 import type { UploadLimits } from "../context.ts";
 import { badRequest, HttpError, payloadTooLarge, unprocessable } from "../errors.ts";
-import { IMAGE_KINDS, type ImageKind } from "../storage/objectKeys.ts";
 import { parseWith } from "../validate.ts";
 
 // No control characters: names are shown in the portal, e-mails and CSV.
@@ -29,12 +28,6 @@ export interface UploadedPart {
   originalname: string;
   path: string;
   size: number;
-}
-
-export interface ImagePart {
-  fileIndex: number;
-  kind: ImageKind;
-  path: string;
 }
 
 /** Where the first NUL is hiding: PostgreSQL text and jsonb cannot store U+0000. */
@@ -63,6 +56,17 @@ function checkConsistency(report: ScanReport): void {
     file.findings.forEach((f, j) => {
       if (f.channel !== null && f.channel > INT32_MAX) throw unprocessable(`invalid report: files.${i}.findings.${j}.channel is too large`);
     });
+    // Close-ups point into this file's findings by index; the portal maps them to finding ids.
+    const findingCount = file.findings.length;
+    (file.closeups ?? []).forEach((c, k) => {
+      const bad = c.findings.find((n) => n >= findingCount);
+      if (bad !== undefined) throw unprocessable(`invalid report: files.${i}.closeups.${k}.findings has ${bad}, but the file has ${findingCount} finding(s)`);
+      if (!(c.endSeconds > c.startSeconds)) throw unprocessable(`invalid report: files.${i}.closeups.${k} ends at ${c.endSeconds} s, not after its start ${c.startSeconds} s`);
+      if ((c.excerpt === null) !== (c.excerptMediaType === null)) throw unprocessable(`invalid report: files.${i}.closeups.${k} needs excerpt and excerptMediaType both set or both null`);
+    });
+    (file.closeupsOmitted ?? []).forEach((o, k) => {
+      if (o.finding >= findingCount) throw unprocessable(`invalid report: files.${i}.closeupsOmitted.${k}.finding is ${o.finding}, but the file has ${findingCount} finding(s)`);
+    });
   });
   if (report.summary.files !== report.files.length) {
     throw unprocessable(`invalid report: summary.files is ${report.summary.files} but files has ${report.files.length} entries`);
@@ -85,32 +89,131 @@ export async function readReport(part: UploadedPart | undefined, limits: UploadL
   return report;
 }
 
-/** Image parts are named "<n>.png", n an index into report.files; we check the bytes are PNG. */
-export async function readImageParts(parts: UploadedPart[], fileCount: number, limits: UploadLimits): Promise<ImagePart[]> {
-  if (parts.length > limits.maxImages) throw payloadTooLarge(`at most ${limits.maxImages} images per upload`);
-  const seen = new Set<string>();
-  const images: ImagePart[] = [];
-  for (const part of parts) {
-    const kind = part.fieldname as ImageKind;
-    if (!IMAGE_KINDS.includes(kind)) throw badRequest(`unexpected file part "${part.fieldname}"`, "bad_upload");
-    const match = /^(\d{1,9})\.png$/i.exec(part.originalname);
-    if (!match) throw badRequest(`${kind} part "${part.originalname}" must be named <n>.png, n being the file's index in the report`, "bad_image_name");
-    const fileIndex = Number(match[1]);
-    if (fileIndex >= fileCount) throw badRequest(`${kind} ${part.originalname}: the report has no file ${fileIndex} (it has ${fileCount})`, "unknown_file_index");
-    const id = `${kind}:${fileIndex}`;
-    if (seen.has(id)) throw badRequest(`two ${kind} parts for file ${fileIndex}`, "duplicate_image");
-    seen.add(id);
-    if (part.size > limits.maxImageBytes) throw new HttpError(413, "payload_too_large", `${kind} ${part.originalname} is larger than ${limits.maxImageBytes} bytes`);
-    const head = Buffer.alloc(PNG_MAGIC.length);
-    const handle = await open(part.path, "r");
-    try {
-      await handle.read(head, 0, head.length, 0);
-    } finally {
-      await handle.close();
-    }
-    // PNG spec (ISO/IEC 15948) §5.2: the 8-byte signature.
-    if (!head.equals(PNG_MAGIC)) throw badRequest(`${kind} ${part.originalname} is not a PNG image`, "not_png");
-    images.push({ fileIndex, kind, path: part.path });
+type Check = (part: UploadedPart) => Promise<string | null>;
+
+async function head(file: string, length: number): Promise<Buffer> {
+  const buf = Buffer.alloc(length);
+  const handle = await open(file, "r");
+  try {
+    const { bytesRead } = await handle.read(buf, 0, length, 0);
+    return buf.subarray(0, bytesRead);
+  } finally {
+    await handle.close();
   }
-  return images;
+}
+
+// PNG spec (ISO/IEC 15948) §5.2: the 8-byte signature.
+const isPng: Check = async (part) => ((await head(part.path, 8)).equals(PNG_MAGIC) ? null : "is not a PNG image (no PNG signature)");
+
+// FLAC (RFC 9639): a stream starts with the marker "fLaC".
+const isFlac = async (part: UploadedPart): Promise<string | null> =>
+  (await head(part.path, 4)).toString("latin1") === "fLaC" ? null : 'is not FLAC (it does not start with "fLaC")';
+
+// RIFF WAVE (Microsoft/IBM Multimedia Programming Interface and Data Specifications 1.0): "RIFF", a 32-bit size, "WAVE".
+const isWav = async (part: UploadedPart): Promise<string | null> => {
+  const b = await head(part.path, 12);
+  return b.length === 12 && b.toString("latin1", 0, 4) === "RIFF" && b.toString("latin1", 8, 12) === "WAVE" ? null : 'is not WAV (expected "RIFF" and "WAVE")';
+};
+
+const excerptCheck: Check = (part) => (/\.flac$/i.test(part.originalname) ? isFlac(part) : isWav(part));
+
+/** JSON artefacts carry their own schema id (CONTRACT-16 §2 and §3). */
+const jsonWithSchema =
+  (schema: string): Check =>
+  async (part) => {
+    let json: unknown;
+    try {
+      json = JSON.parse(await readFile(part.path, "utf8"));
+    } catch {
+      return "is not valid JSON";
+    }
+    const got = json && typeof json === "object" && !Array.isArray(json) ? (json as { schema?: unknown }).schema : undefined;
+    return got === schema ? null : `has schema ${JSON.stringify(got ?? null)}, expected "${schema}"`;
+  };
+
+/**
+ * Every artefact part an upload may carry, in one table: how it is named (n = the file's index in
+ * report.files, k = the close-up's index in that file's closeups), its size cap, how its bytes are
+ * checked, the Content-Type it is stored and served with, and the error code a bad one gets.
+ */
+export const PART_KINDS = {
+  spectrogram: { name: /^(\d{1,9})\.png$/i, shape: "<n>.png", maxBytes: (l: UploadLimits) => l.maxImageBytes, check: isPng, badCode: "not_png" },
+  waveform: { name: /^(\d{1,9})\.png$/i, shape: "<n>.png", maxBytes: (l: UploadLimits) => l.maxImageBytes, check: isPng, badCode: "not_png" },
+  levelGrid: { name: /^(\d{1,9})\.json$/i, shape: "<n>.json", maxBytes: (l: UploadLimits) => l.maxDataBytes, check: jsonWithSchema("tidemark.level-grid/1"), badCode: "bad_json" },
+  loudnessCurve: { name: /^(\d{1,9})\.json$/i, shape: "<n>.json", maxBytes: (l: UploadLimits) => l.maxDataBytes, check: jsonWithSchema("tidemark.loudness-curve/1"), badCode: "bad_json" },
+  closeupSpectrogram: { name: /^(\d{1,9})\.(\d{1,6})\.png$/i, shape: "<n>.<k>.png", maxBytes: (l: UploadLimits) => l.maxImageBytes, check: isPng, badCode: "not_png" },
+  closeupWaveform: { name: /^(\d{1,9})\.(\d{1,6})\.png$/i, shape: "<n>.<k>.png", maxBytes: (l: UploadLimits) => l.maxImageBytes, check: isPng, badCode: "not_png" },
+  excerpt: { name: /^(\d{1,9})\.(\d{1,6})\.(flac|wav)$/i, shape: "<n>.<k>.flac or <n>.<k>.wav", maxBytes: (l: UploadLimits) => l.maxExcerptBytes, check: excerptCheck, badCode: "bad_excerpt" },
+} as const satisfies Record<string, { name: RegExp; shape: string; maxBytes: (l: UploadLimits) => number; check: Check; badCode: string }>;
+
+export type PartKind = keyof typeof PART_KINDS;
+export const PART_KIND_NAMES = Object.keys(PART_KINDS) as PartKind[];
+
+/** The largest part any kind may be (for the multipart parser's per-file limit). */
+export const largestPartBytes = (limits: UploadLimits): number => Math.max(limits.maxReportBytes, ...PART_KIND_NAMES.map((k) => PART_KINDS[k].maxBytes(limits)));
+
+export interface ArtefactPart {
+  kind: PartKind;
+  fileIndex: number;
+  /** The close-up's index for closeup parts and excerpts, else null. */
+  closeupIndex: number | null;
+  /** For excerpts: "audio/flac" or "audio/wav", from the name (and checked against the bytes and the report). */
+  mediaType: "audio/flac" | "audio/wav" | null;
+  path: string;
+}
+
+/** What the report must declare for a part to be expected: a close-up part needs its close-up, etc. */
+function declared(report: ScanReport, part: ArtefactPart, label: string): void {
+  const file = report.files[part.fileIndex];
+  if (part.kind === "levelGrid" || part.kind === "loudnessCurve") {
+    if (!file[part.kind]) throw badRequest(`${label}: file ${part.fileIndex} of the report has no ${part.kind}`, "unexpected_part");
+    return;
+  }
+  if (part.closeupIndex === null) return;
+  const closeups = file.closeups ?? [];
+  const closeup = closeups[part.closeupIndex];
+  if (!closeup) throw badRequest(`${label}: file ${part.fileIndex} of the report has no close-up ${part.closeupIndex} (it has ${closeups.length})`, "unknown_closeup_index");
+  if (part.kind === "excerpt") {
+    if (!closeup.excerpt) throw badRequest(`${label}: close-up ${part.closeupIndex} of file ${part.fileIndex} has no excerpt in the report`, "unexpected_part");
+    if (closeup.excerptMediaType !== part.mediaType) {
+      throw badRequest(`${label}: the report says the excerpt is ${closeup.excerptMediaType ?? "null"}, the part is named for ${part.mediaType}`, "excerpt_type_mismatch");
+    }
+  }
+}
+
+/**
+ * Artefact parts (PART_KINDS) checked before anything is stored: known kind, name, indexes against
+ * report.files and the file's closeups, no duplicates, size (413) and content (400).
+ */
+export async function readArtefactParts(parts: UploadedPart[], report: ScanReport, limits: UploadLimits): Promise<ArtefactPart[]> {
+  if (parts.length > limits.maxImages) throw payloadTooLarge(`at most ${limits.maxImages} artefact parts per upload, got ${parts.length}`);
+  const fileCount = report.files.length;
+  const seen = new Set<string>();
+  const out: ArtefactPart[] = [];
+  for (const part of parts) {
+    if (!Object.hasOwn(PART_KINDS, part.fieldname)) throw badRequest(`unexpected file part "${part.fieldname}"; expected report, ${PART_KIND_NAMES.join(", ")}`, "bad_upload");
+    const kind = part.fieldname as PartKind;
+    const rule = PART_KINDS[kind];
+    const label = `${kind} ${JSON.stringify(part.originalname)}`;
+    const match = rule.name.exec(part.originalname);
+    if (!match) {
+      const image = kind === "spectrogram" || kind === "waveform";
+      throw badRequest(`${label} must be named ${rule.shape}, n being the file's index in the report${image ? "" : " (k the close-up's)"}`, image ? "bad_image_name" : "bad_part_name");
+    }
+    const fileIndex = Number(match[1]);
+    if (fileIndex >= fileCount) throw badRequest(`${label}: the report has no file ${fileIndex} (it has ${fileCount})`, "unknown_file_index");
+    const closeupIndex = rule.shape.includes("<k>") ? Number(match[2]) : null;
+    const mediaType = kind === "excerpt" ? (match[3].toLowerCase() === "flac" ? "audio/flac" : "audio/wav") : null;
+    const artefact: ArtefactPart = { kind, fileIndex, closeupIndex, mediaType, path: part.path };
+    declared(report, artefact, label);
+    const id = `${kind}:${fileIndex}:${closeupIndex ?? ""}`;
+    if (seen.has(id)) throw badRequest(`two ${kind} parts for file ${fileIndex}${closeupIndex === null ? "" : ` close-up ${closeupIndex}`}`, kind === "spectrogram" || kind === "waveform" ? "duplicate_image" : "duplicate_part");
+    seen.add(id);
+    const max = rule.maxBytes(limits);
+    if (part.size > max) throw new HttpError(413, "payload_too_large", `${label} is larger than ${max} bytes`);
+    const problem = await rule.check(part);
+    if (problem) throw badRequest(`${label} ${problem}`, rule.badCode);
+    out.push(artefact);
+  }
+  return out;
 }

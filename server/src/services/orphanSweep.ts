@@ -1,5 +1,6 @@
 /**
- * Start-up clean-up after a crash: images written for an upload whose transaction never committed, and
+ * Start-up clean-up after a crash: objects (images, level grids, loudness curves, close-ups, excerpts)
+ * written for an upload whose transaction never committed, or left by a batch deleted outside the API, and
  * multipart temp files, once older than a cut-off (default one hour, longer than any upload takes).
  */
 import { readdir, rm, stat } from "node:fs/promises";
@@ -25,7 +26,8 @@ export async function sweepOrphanObjects(
     const referenced = await deps.sequelize.query<{ key: string }>(
       `select k as key from unnest($1::text[]) as k
         where exists (select 1 from file_results where spectrogram_key = k)
-           or exists (select 1 from file_results where waveform_key = k)`,
+           or exists (select 1 from file_results where waveform_key = k)
+           or exists (select 1 from file_results where artefact_keys @> array[k])`,
       { bind: [candidates], type: QueryTypes.SELECT },
     );
     const keep = new Set(referenced.map((r) => r.key));

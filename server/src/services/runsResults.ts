@@ -4,7 +4,6 @@
  * together. Idempotent per job: a result that arrives again (a retried attempt, or a worker that died
  * between the commit and reading the answer) finds the job done and stores nothing new.
  */
-import { readFile } from "node:fs/promises";
 import type { Response } from "express";
 import { QueryTypes, type Transaction } from "sequelize";
 import type { JobResultDto } from "@tidemark/shared/types/api";
@@ -14,10 +13,11 @@ import { notFound, unprocessable } from "../errors.ts";
 import { Collection } from "../models/index.ts";
 import { jobQueueFor } from "../queue/jobQueue.ts";
 import { ScanJob, ScanJobAttempt, ScanRun } from "../queue/models/index.ts";
-import { imageKey, newUploadId } from "../storage/objectKeys.ts";
+import { newUploadId } from "../storage/objectKeys.ts";
+import { deleteObjects, linksFor, writeArtefacts, type WrittenArtefacts } from "./artefacts.ts";
 import { recordAudit } from "./audit.ts";
 import { recordBatchDuplicates } from "./duplicatesIngest.ts";
-import type { ImagePart } from "./ingestValidation.ts";
+import type { ArtefactPart } from "./ingestValidation.ts";
 import { fileRowOf, insertFileRows, insertFindingRows } from "./ingestRows.ts";
 import { notifyFailingBatch } from "./notifications.ts";
 import { lockCollection } from "./runs.ts";
@@ -26,7 +26,7 @@ import { markRunFinishedIfDone } from "./runsStatus.ts";
 
 export interface JobResultInput {
   report: ScanReport;
-  images: ImagePart[];
+  artefacts: ArtefactPart[];
   worker: string;
   attempt: number;
 }
@@ -63,24 +63,6 @@ function withFixity(file: FileReport, hashed: PreviousScan | null): { findings: 
   return { findings: [...file.findings, finding], verdict, changed: true };
 }
 
-async function writeImages(ctx: AppContext, images: ImagePart[], written: string[]): Promise<Map<string, string>> {
-  const uploadId = newUploadId();
-  const keys = new Map<string, string>();
-  for (const image of images) {
-    const key = imageKey(uploadId, 0, image.kind);
-    await ctx.store.put(key, await readFile(image.path), "image/png");
-    written.push(key);
-    keys.set(image.kind, key);
-  }
-  return keys;
-}
-
-async function deleteObjects(ctx: AppContext, keys: string[]): Promise<void> {
-  for (const key of keys) {
-    await ctx.store.delete(key).catch((e: unknown) => ctx.logger.warn(`could not delete ${key} (the startup sweep will): ${String(e)}`));
-  }
-}
-
 /** The delivering attempt is done, even if it had been given up as expired; any other open one is superseded. */
 async function recordDelivery(jobId: number, attempt: number, transaction: Transaction): Promise<void> {
   await ScanJobAttempt.update({ endedAt: new Date(), outcome: "done", message: null }, { where: { jobId, attempt }, transaction });
@@ -89,7 +71,7 @@ async function recordDelivery(jobId: number, attempt: number, transaction: Trans
 
 type Stored = { dto: JobResultDto; finishedRun: boolean };
 
-async function storeRows(ctx: AppContext, res: Response, jobId: number, input: JobResultInput, keys: Map<string, string>, transaction: Transaction): Promise<Stored> {
+async function storeRows(ctx: AppContext, res: Response, jobId: number, input: JobResultInput, keys: WrittenArtefacts, transaction: Transaction): Promise<Stored> {
   const job = await ScanJob.findByPk(jobId, { transaction, lock: transaction.LOCK.UPDATE });
   if (!job) throw notFound("job", jobId);
   const run = await ScanRun.findByPk(job.runId, { include: [{ model: Collection, as: "collection" }], transaction });
@@ -110,7 +92,7 @@ async function storeRows(ctx: AppContext, res: Response, jobId: number, input: J
       fileRowOf(
         file,
         { findings, verdict },
-        { previousId: latest?.id ?? null, spectrogramKey: keys.get("spectrogram") ?? null, waveformKey: keys.get("waveform") ?? null },
+        { previousId: latest?.id ?? null, ...linksFor(file, 0, keys) },
       ),
     ],
     transaction,
@@ -122,10 +104,20 @@ async function storeRows(ctx: AppContext, res: Response, jobId: number, input: J
   await ctx.sequelize.query(
     `update batches set file_count = file_count + 1,
             pass_count = pass_count + $2, warn_count = warn_count + $3, fail_count = fail_count + $4, error_count = error_count + $5,
-            tool_name = $6, tool_version = $7, finished_at = greatest(finished_at, now()), updated_at = now()
+            tool_name = $6, tool_version = $7, finished_at = greatest(finished_at, now()), updated_at = now(),
+            profile_limits = coalesce($8::jsonb, profile_limits)
       where id = $1`,
     {
-      bind: [run.batchId, +(verdict === "pass"), +(verdict === "warn"), +(verdict === "fail"), +(verdict === "error"), input.report.tool.name, input.report.tool.version],
+      bind: [
+        run.batchId,
+        +(verdict === "pass"),
+        +(verdict === "warn"),
+        +(verdict === "fail"),
+        +(verdict === "error"),
+        input.report.tool.name,
+        input.report.tool.version,
+        input.report.profile.limits ? JSON.stringify(input.report.profile.limits) : null,
+      ],
       type: QueryTypes.UPDATE,
       transaction,
     },
@@ -175,7 +167,7 @@ export async function storeJobResult(ctx: AppContext, res: Response, jobId: numb
   const written: string[] = [];
   let stored: Stored;
   try {
-    const keys = await writeImages(ctx, input.images, written);
+    const keys = await writeArtefacts(ctx, newUploadId(), input.artefacts, written);
     stored = await ctx.sequelize.transaction((transaction) => storeRows(ctx, res, jobId, input, keys, transaction));
   } catch (e) {
     await deleteObjects(ctx, written);

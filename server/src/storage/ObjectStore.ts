@@ -1,5 +1,5 @@
 /**
- * Where spectrogram and waveform PNGs live. Keys are made by the server (objectKeys.ts), never taken from
+ * Where uploaded artefacts live (PNGs, level grids, loudness curves, audio excerpts). Keys are made by the server (objectKeys.ts), never taken from
  * client strings; drivers still refuse unsafe keys as a second line of defence.
  */
 import type { Readable } from "node:stream";
@@ -9,10 +9,18 @@ export interface StoredObjectInfo {
   lastModified: Date;
 }
 
+/** Inclusive byte offsets, as in an HTTP byte range (RFC 9110 §14.1.2). */
+export interface ByteRange {
+  start: number;
+  end: number;
+}
+
 export interface ObjectStore {
   put(key: string, body: Buffer, contentType: string): Promise<void>;
-  /** Rejects with ObjectNotFoundError when the key does not exist. */
-  get(key: string): Promise<Readable>;
+  /** Rejects with ObjectNotFoundError when the key does not exist. With a range, only those bytes. */
+  get(key: string, range?: ByteRange): Promise<Readable>;
+  /** The object's length in bytes; rejects with ObjectNotFoundError when the key does not exist. */
+  size(key: string): Promise<number>;
   /** Deleting a missing key is not an error. */
   delete(key: string): Promise<void>;
   list(prefix: string): AsyncIterable<StoredObjectInfo>;

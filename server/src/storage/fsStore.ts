@@ -42,14 +42,23 @@ export function createFsStore(rootDir: string): ObjectStore {
       await writeFile(tmp, body);
       await rename(tmp, file);
     },
-    async get(key): Promise<Readable> {
+    async get(key, range): Promise<Readable> {
       const file = fileFor(key);
       try {
         await stat(file);
       } catch {
         throw new ObjectNotFoundError(key);
       }
-      return createReadStream(file);
+      // createReadStream's start/end are inclusive, like an HTTP byte range.
+      return createReadStream(file, range ? { start: range.start, end: range.end } : {});
+    },
+    async size(key) {
+      const file = fileFor(key);
+      try {
+        return (await stat(file)).size;
+      } catch {
+        throw new ObjectNotFoundError(key);
+      }
     },
     async delete(key) {
       const file = fileFor(key);

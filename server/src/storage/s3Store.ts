@@ -2,6 +2,7 @@
 import {
   DeleteObjectCommand,
   GetObjectCommand,
+  HeadObjectCommand,
   ListObjectsV2Command,
   NoSuchKey,
   PutObjectCommand,
@@ -46,11 +47,23 @@ export function createS3Store(options: S3StoreOptions): ObjectStore {
     async put(key, body, contentType) {
       await client.send(new PutObjectCommand({ Bucket: bucket, Key: full(key), Body: body, ContentType: contentType }));
     },
-    async get(key) {
+    async get(key, range) {
       try {
-        const out = await client.send(new GetObjectCommand({ Bucket: bucket, Key: full(key) }));
+        // The range goes to S3 as is (GetObject's Range, RFC 9110 §14.1.2 syntax), so only those bytes travel.
+        const Range = range ? `bytes=${range.start}-${range.end}` : undefined;
+        const out = await client.send(new GetObjectCommand({ Bucket: bucket, Key: full(key), Range }));
         if (!(out.Body instanceof Readable)) throw new Error(`S3 returned no readable body for ${key}`);
         return out.Body;
+      } catch (e) {
+        if (isNotFound(e)) throw new ObjectNotFoundError(key);
+        throw e;
+      }
+    },
+    async size(key) {
+      try {
+        const out = await client.send(new HeadObjectCommand({ Bucket: bucket, Key: full(key) }));
+        if (out.ContentLength === undefined) throw new Error(`S3 gave no length for ${key}`);
+        return out.ContentLength;
       } catch (e) {
         if (isNotFound(e)) throw new ObjectNotFoundError(key);
         throw e;

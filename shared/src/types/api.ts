@@ -150,6 +150,45 @@ export interface CommentDto {
   author: UserRefDto;
   body: string;
   createdAt: string;
+  /** Where in the file the comment points (seconds from the start), or null. */
+  atSeconds: number | null;
+  /** 0-based channel the comment points at, or null for all channels. */
+  channel: number | null;
+}
+
+/** POST /api/files/:id/comments body. */
+export interface CreateCommentRequest {
+  body: string;
+  atSeconds?: number | null;
+  channel?: number | null;
+}
+
+/** The scan profile's loudness and peak limits, as the report carried them (null where it set none). */
+export interface ProfileLimitsDto {
+  integratedLufs: { target: number; warnToleranceLu: number; failToleranceLu: number } | null;
+  truePeakMaxDbtp: number | null;
+}
+
+export type CloseupOmittedReason = "cap" | "budget" | "not-timed";
+export type ExcerptMediaType = "audio/flac" | "audio/wav";
+
+/** One close-up of a file: a detailed window around one or more findings (issue #16). */
+export interface CloseupDto {
+  /** The close-up's index in the report (`k` in its URLs). */
+  index: number;
+  findingIds: number[];
+  startSeconds: number;
+  endSeconds: number;
+  secondsPerColumn: number;
+  spectrogramUrl: string;
+  waveformUrl: string;
+  excerptUrl: string | null;
+  excerptMediaType: ExcerptMediaType | null;
+}
+
+export interface CloseupOmittedDto {
+  findingId: number;
+  reason: CloseupOmittedReason;
 }
 
 export interface ReviewEventDto {
@@ -217,7 +256,24 @@ export interface FileDetailDto extends FileSummaryDto {
   /** API paths, or null when no image was uploaded. */
   spectrogramUrl: string | null;
   waveformUrl: string | null;
+  closeups: CloseupDto[];
+  closeupsOmitted: CloseupOmittedDto[];
+  levelGridUrl: string | null;
+  loudnessCurveUrl: string | null;
+  profileLimits: ProfileLimitsDto | null;
 }
+
+/** GET /api/batches/:id/overview: the batch page's at-a-glance strip. */
+export interface BatchOverviewDto {
+  batchId: number;
+  profileLimits: ProfileLimitsDto | null;
+  /** At most BATCH_OVERVIEW_MAX_FILES, most recent first. */
+  files: Array<{ id: number; path: string; verdict: Verdict; integratedLufs: number | null; truePeakDbtp: number | null }>;
+  /** Over the whole batch: per code and severity, how many files and how many findings. */
+  findingCounts: Array<{ code: FindingCode; severity: Severity; files: number; findings: number }>;
+}
+
+export const BATCH_OVERVIEW_MAX_FILES = 5000;
 
 /** Another file result holding the same recording, found by its fingerprint (issue #11). */
 export interface FingerprintMatchDto {
@@ -249,10 +305,13 @@ export interface FingerprintLookupDto {
   matches: FingerprintMatchDto[];
 }
 
-/** PATCH /api/files/:id body. */
+/** Review states that need a (non-blank) reason; the server answers 400 `reason_required` otherwise. */
+export const REASON_REQUIRED_STATES = ["flagged", "retransfer"] as const satisfies readonly ReviewState[];
+
+/** PATCH /api/files/:id body. `reason` is optional for accepted/pending, required for flagged/retransfer. */
 export interface ReviewChangeRequest {
   reviewState: ReviewState;
-  reason: string;
+  reason?: string;
 }
 
 /** POST /api/files/review (bulk) body. */

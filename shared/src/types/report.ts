@@ -5,7 +5,7 @@
  * Quiet values (−Infinity dB) are written as null, hence the nullable dB fields.
  */
 import { z } from "zod";
-import { FINDING_CODES, REPORT_SCHEMA_ID, SEVERITIES, VERDICTS } from "./codes.ts";
+import { FINDING_CODES, SEVERITIES, VERDICTS } from "./codes.ts";
 
 export { FINDING_CODES, REPORT_SCHEMA_ID, SEVERITIES, VERDICTS } from "./codes.ts";
 export type { FindingCode, Severity, Verdict } from "./codes.ts";
@@ -106,6 +106,32 @@ export const checksumCheckSchema = z.object({
   matches: z.boolean(),
 });
 
+/** A detailed window around one or more findings (issue #16). */
+export const closeupSchema = z.object({
+  /** Indexes into this file's findings[]. */
+  findings: z.array(z.number().int().min(0)),
+  startSeconds: z.number(),
+  endSeconds: z.number(),
+  secondsPerColumn: z.number().positive().max(0.01),
+  /** PNG paths, same base rules as `spectrogram`. */
+  spectrogram: z.string(),
+  waveform: z.string(),
+  /** Path of the .flac or .wav excerpt, or null. */
+  excerpt: z.string().nullable(),
+  excerptMediaType: z.enum(["audio/flac", "audio/wav"]).nullable(),
+  excerptSampleRateHz: z.number().nullable(),
+});
+
+export const closeupOmittedSchema = z.object({
+  finding: z.number().int().min(0),
+  reason: z.enum(["cap", "budget", "not-timed"]),
+});
+
+export const profileLimitsSchema = z.object({
+  integratedLufs: z.object({ target: z.number(), warnToleranceLu: z.number(), failToleranceLu: z.number() }).nullable(),
+  truePeakMaxDbtp: z.number().nullable(),
+});
+
 export const fileReportSchema = z.object({
   /** As given, relative to the scanned root, with forward slashes. */
   path: z.string().min(1).max(4096),
@@ -127,6 +153,12 @@ export const fileReportSchema = z.object({
   fingerprint: z.string().max(MAX_FINGERPRINT_CHARS).regex(/^[A-Za-z0-9+/]*={0,2}$/).nullable().optional(),
   /** Checksum sidecars and --checksums lines checked against this file; absent when there were none. */
   checksums: z.array(checksumCheckSchema).optional(),
+  /** Path of the level-grid JSON ("tidemark.level-grid/1"), or null; absent in /1 reports and with --no-closeups. */
+  levelGrid: z.string().nullable().optional(),
+  /** Path of the loudness-curve JSON ("tidemark.loudness-curve/1"), or null. */
+  loudnessCurve: z.string().nullable().optional(),
+  closeups: z.array(closeupSchema).optional(),
+  closeupsOmitted: z.array(closeupOmittedSchema).optional(),
 });
 
 export const reportSummarySchema = z.object({
@@ -138,9 +170,9 @@ export const reportSummarySchema = z.object({
 });
 
 export const scanReportSchema = z.object({
-  schema: z.literal(REPORT_SCHEMA_ID),
+  schema: z.enum(["tidemark.report/1", "tidemark.report/2"]),
   tool: z.object({ name: z.string(), version: z.string() }),
-  profile: z.object({ name: z.string(), hash: z.string().optional() }),
+  profile: z.object({ name: z.string(), hash: z.string().optional(), limits: profileLimitsSchema.optional() }),
   startedAt: z.iso.datetime(),
   finishedAt: z.iso.datetime(),
   summary: reportSummarySchema,
@@ -162,3 +194,6 @@ export type FileReport = z.infer<typeof fileReportSchema>;
 export type ChecksumCheck = z.infer<typeof checksumCheckSchema>;
 export type ReportSummary = z.infer<typeof reportSummarySchema>;
 export type ScanReport = z.infer<typeof scanReportSchema>;
+export type Closeup = z.infer<typeof closeupSchema>;
+export type CloseupOmitted = z.infer<typeof closeupOmittedSchema>;
+export type ProfileLimits = z.infer<typeof profileLimitsSchema>;

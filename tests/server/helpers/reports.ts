@@ -78,10 +78,13 @@ export function pngBytes(width = 4, height = 2): Buffer {
 }
 
 export interface IngestPart {
-  field: "spectrogram" | "waveform";
+  /** A part kind of server/src/services/ingestValidation.ts PART_KINDS (spectrogram, waveform, levelGrid, …). */
+  field: string;
   name: string;
   bytes: Buffer;
 }
+
+const PART_TYPES: Record<string, string> = { png: "image/png", json: "application/json", flac: "audio/flac", wav: "audio/wav" };
 
 export function ingest(
   app: Express,
@@ -96,6 +99,9 @@ export function ingest(
     const json = typeof body.report === "string" ? body.report : JSON.stringify(body.report);
     req = req.attach("report", Buffer.from(json), { filename: "report.json", contentType: "application/json" });
   }
-  for (const image of body.images ?? []) req = req.attach(image.field, image.bytes, { filename: image.name, contentType: "image/png" });
+  for (const image of body.images ?? []) {
+    const ext = image.name.split(".").pop()!.toLowerCase();
+    req = req.attach(image.field, image.bytes, { filename: image.name, contentType: PART_TYPES[ext] ?? "application/octet-stream" });
+  }
   return req;
 }
