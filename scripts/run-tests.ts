@@ -64,6 +64,7 @@ async function main(): Promise<number> {
     ["ffmpeg", "ffmpeg"],
     ["sox", "sox"],
     ["espeak-ng", "espeak-ng"],
+    ["flac", "flac"],
   ]
     .filter(([cmd]) => !hasCommand(cmd))
     .map(([, pkg]) => pkg);

@@ -5,7 +5,7 @@
 import type { Role } from "@tidemark/shared/types/api";
 
 export const PERMISSIONS = {
-  /** View batches, files, spectrograms. */
+  /** View batches, files, spectrograms; close-ups, level grids, loudness curves and batch overviews; listen to excerpts. */
   view: ["admin", "supervisor", "technician", "auditor"],
   /** Upload via API token (CLI); also the queue work of distributed scans: enqueue, claim, result, fail, release. */
   upload: ["admin", "supervisor", "technician"],
@@ -16,6 +16,8 @@ export const PERMISSIONS = {
   export: ["admin", "supervisor", "auditor"],
   /** Manage users, revoke any token. */
   manageUsers: ["admin"],
+  /** Delete a batch with its files and stored objects (issue #16: no orphans); not in the product notes' table, so the narrowest role. */
+  deleteBatches: ["admin"],
   manageOwnTokens: ["admin", "supervisor", "technician"],
 } as const satisfies Record<string, readonly Role[]>;
 

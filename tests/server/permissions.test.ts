@@ -10,7 +10,8 @@ import { encodeFingerprint, FINGERPRINT_VERSION } from "@tidemark/shared/fingerp
 import { CSRF_HEADER, ROLES, type ClaimedJobDto, type Role } from "@tidemark/shared/types/api";
 import { ApiToken, FileResult, type User } from "../../server/src/models/index.ts";
 import { createApiToken } from "../../server/src/services/apiTokens.ts";
-import { finding, ingest, pngBytes, scanReport } from "./helpers/reports.ts";
+import { reviewParts, reviewReport } from "./helpers/artefacts.ts";
+import { finding, ingest, scanReport } from "./helpers/reports.ts";
 import { claimedJobs, createRun, deadJob, fileOf, runRequest } from "./helpers/runs.ts";
 import { startTestApp, TEST_PASSWORD, type TestApp } from "./helpers/testApp.ts";
 
@@ -23,6 +24,8 @@ const README_TABLE = {
   export: ["admin", "supervisor", "auditor"],
   manageUsers: ["admin"],
   ownTokens: ["admin", "supervisor", "technician"],
+  // Not a row of the notes' table: deleting a batch (issue #16, no orphans) is given to admins only.
+  deleteBatches: ["admin"],
 } as const satisfies Record<string, readonly Role[]>;
 
 type Access = keyof typeof README_TABLE | "signedIn" | "public";
@@ -75,6 +78,12 @@ const freshJob = async (fx: Fixture, dead = false): Promise<number> => {
 };
 const attemptBody = () => ({ attempt: lastJob!.attempt, worker: "matrix-worker" });
 
+/** A batch of its own for each delete call. */
+async function freshBatch(fx: Fixture): Promise<string> {
+  const res = await ingest(t.app, fx.adminsToken, { collection: "Matrix Collection", batchKey: `matrix-delete-${unique()}`, report: scanReport([{ path: "d.wav" }]) });
+  return `/api/batches/${res.body.batchId}`;
+}
+
 async function ownTokenId(caller: Caller): Promise<string> {
   if (!caller.user) return "tmnotatoken";
   return (await createApiToken(caller.user.id, "to revoke")).token.id;
@@ -96,9 +105,19 @@ const ROUTES: RouteCase[] = [
   { method: "get", path: (fx) => `/api/files/${fx.fileId}/spectrogram.png`, access: "view", accepts: both, ok: 200 },
   { method: "get", path: (fx) => `/api/files/${fx.fileId}/waveform.png`, access: "view", accepts: both, ok: 200 },
   { method: "get", path: (fx) => `/api/files/${fx.fileId}/comments`, access: "view", accepts: both, ok: 200 },
+  // Issue #16: close-ups, excerpts (auditors may listen), level grid, loudness curve, batch overview.
+  { method: "get", path: (fx) => `/api/files/${fx.fileId}/closeups/0/spectrogram.png`, access: "view", accepts: both, ok: 200 },
+  { method: "get", path: (fx) => `/api/files/${fx.fileId}/closeups/0/waveform.png`, access: "view", accepts: both, ok: 200 },
+  { method: "get", path: (fx) => `/api/files/${fx.fileId}/closeups/0/excerpt`, access: "view", accepts: both, ok: 200 },
+  { method: "get", path: (fx) => `/api/files/${fx.fileId}/closeups/1/excerpt`, access: "view", accepts: both, ok: 200 },
+  { method: "get", path: (fx) => `/api/files/${fx.fileId}/level-grid`, access: "view", accepts: both, ok: 200 },
+  { method: "get", path: (fx) => `/api/files/${fx.fileId}/loudness-curve`, access: "view", accepts: both, ok: 200 },
+  { method: "get", path: (fx) => `/api/batches/${fx.batchId}/overview`, access: "view", accepts: both, ok: 200 },
+  { method: "delete", path: (fx) => freshBatch(fx), access: "deleteBatches", accepts: both, ok: 204 },
   { method: "get", path: (fx) => `/api/files/${fx.fileId}/duplicates`, access: "view", accepts: both, ok: 200 },
   { method: "post", path: () => "/api/duplicates/lookup", access: "view", accepts: ["token"], ok: 200, textBody: () => EMPTY_FINGERPRINT },
   { method: "post", path: (fx) => `/api/files/${fx.fileId}/comments`, access: "comment", accepts: both, ok: 201, body: () => ({ body: "Matrix comment" }) },
+  { method: "post", path: (fx) => `/api/files/${fx.fileId}/comments`, access: "comment", accepts: both, ok: 201, body: () => ({ body: "Anchored matrix comment", atSeconds: 12.5, channel: 1 }) },
   { method: "patch", path: (fx) => `/api/files/${fx.fileId}`, access: "review", accepts: both, ok: 200, body: () => ({ reviewState: n % 2 ? "flagged" : "accepted", reason: "matrix" }) },
   { method: "post", path: () => "/api/files/review", access: "review", accepts: both, ok: 200, body: (fx) => ({ ids: [fx.fileId], reviewState: "pending", reason: "matrix" }) },
   { method: "get", path: () => "/api/exports/files.csv", access: "export", accepts: both, ok: 200 },
@@ -187,11 +206,9 @@ beforeAll(async () => {
   const upload = await ingest(t.app, tokens.admin, {
     collection: "Matrix Collection",
     batchKey: "matrix-fixture",
-    report: scanReport([{ path: "m.wav", verdict: "fail", findings: [finding("hum", "fail")] }]),
-    images: [
-      { field: "spectrogram", name: "0.png", bytes: pngBytes() },
-      { field: "waveform", name: "0.png", bytes: pngBytes() },
-    ],
+    // A "tidemark.report/2" file with every review artefact: overview PNGs, grid, curve, two close-ups.
+    report: reviewReport([{ path: "m.wav", findings: [finding("hum", "fail"), finding("dropout", "fail"), finding("clipping", "fail")] }]),
+    images: reviewParts(0).parts,
   });
   expect(upload.status).toBe(201);
   const file = await FileResult.findOne({ where: { batchId: upload.body.batchId } });

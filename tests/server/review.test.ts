@@ -286,6 +286,35 @@ describe("no orphans", () => {
     expect(objectKeys(t.objectsDir)).toEqual(after);
   });
 
+  it("deleting a batch removes its rows and every object it stored, and nothing of other batches", async () => {
+    const doomed = await uploadReview(["delete/a.wav", "delete/b.wav"]);
+    const kept = await uploadReview(["delete/kept.wav"]);
+    const doomedKeys = doomed.files.flatMap((f) => [...f.artefactKeys, f.spectrogramKey!, f.waveformKey!]);
+    expect(doomedKeys).toHaveLength(20);
+    const comment = await technician.post(`/api/files/${doomed.files[0].id}/comments`).set(CSRF_HEADER, "1").send({ body: "about to go", atSeconds: 1 });
+    expect(comment.status).toBe(201);
+    const before = objectKeys(t.objectsDir);
+    for (const k of doomedKeys) expect(before).toContain(k);
+
+    const { agent: admin } = await t.signIn("admin");
+    expect((await supervisor.delete(`/api/batches/${doomed.batchId}`).set(CSRF_HEADER, "1")).status).toBe(403);
+    const res = await admin.delete(`/api/batches/${doomed.batchId}`).set(CSRF_HEADER, "1");
+    expect(res.status).toBe(204);
+    expect(await Batch.findByPk(doomed.batchId)).toBeNull();
+    expect(await FileResult.count({ where: { batchId: doomed.batchId } })).toBe(0);
+    expect(objectKeys(t.objectsDir)).toEqual(before.filter((k) => !doomedKeys.includes(k)));
+    for (const f of kept.files) for (const k of f.artefactKeys) expect(existsSync(path.join(t.objectsDir, k)), k).toBe(true);
+    const audit = await AuditEntry.findOne({ where: { action: "batch.delete", targetId: String(doomed.batchId) } });
+    expect(audit!.details).toMatchObject({ files: 2, objects: 20 });
+    expect((await admin.delete(`/api/batches/${doomed.batchId}`).set(CSRF_HEADER, "1")).status).toBe(404);
+
+    // A distributed run's batch keeps receiving results: refused.
+    const [job] = await claimedJobs(t.app, token, 1, "delete-worker");
+    const runBatch = (await auditor.get(`/api/runs/${job.runId}`)).body.batchId as number;
+    const refused = await admin.delete(`/api/batches/${runBatch}`).set(CSRF_HEADER, "1");
+    expect({ status: refused.status, code: refused.body.error?.code }).toEqual({ status: 409, code: "batch_has_run" });
+  });
+
   it("the start-up sweep removes unreferenced artefacts and keeps every referenced one", async () => {
     const { files } = await uploadReview(["sweep/a.wav"]);
     const keep = [...files[0].artefactKeys, files[0].spectrogramKey!, files[0].waveformKey!];

@@ -7,13 +7,14 @@ import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import { FileResult } from "../../server/src/models/index.ts";
 import { ObjectNotFoundError } from "../../server/src/storage/ObjectStore.ts";
 import { createS3Store } from "../../server/src/storage/s3Store.ts";
+import { excerptFlacBytes, reviewParts, reviewReport } from "./helpers/artefacts.ts";
 import { ingest, pngBytes, scanReport } from "./helpers/reports.ts";
 import { startTestApp, type TestApp } from "./helpers/testApp.ts";
 
 interface FakeS3 {
   endpoint: string;
   objects: Map<string, { body: Buffer; contentType: string; lastModified: Date }>;
-  requests: { method: string; url: string; authorization: string }[];
+  requests: { method: string; url: string; authorization: string; range: string | null }[];
   close(): Promise<void>;
 }
 
@@ -31,7 +32,7 @@ async function startFakeS3(bucket: string): Promise<FakeS3> {
   const requests: FakeS3["requests"] = [];
   const server: Server = createServer(async (req, res) => {
     const url = new URL(req.url ?? "/", "http://fake");
-    requests.push({ method: req.method ?? "", url: req.url ?? "", authorization: String(req.headers.authorization ?? "") });
+    requests.push({ method: req.method ?? "", url: req.url ?? "", authorization: String(req.headers.authorization ?? ""), range: req.headers.range ?? null });
     const [, b, ...rest] = url.pathname.split("/");
     const key = decodeURIComponent(rest.join("/"));
     const error = (status: number, code: string) => {
@@ -42,10 +43,23 @@ async function startFakeS3(bucket: string): Promise<FakeS3> {
       objects.set(key, { body: await body(req), contentType: String(req.headers["content-type"] ?? ""), lastModified: new Date() });
       return res.writeHead(200, { etag: '"fake"' }).end();
     }
+    if (req.method === "HEAD" && key) {
+      const found = objects.get(key);
+      if (!found) return res.writeHead(404).end();
+      return res.writeHead(200, { "content-type": found.contentType, "content-length": found.body.length, "last-modified": found.lastModified.toUTCString() }).end();
+    }
     if (req.method === "GET" && key) {
       const found = objects.get(key);
       if (!found) return error(404, "NoSuchKey");
-      return res.writeHead(200, { "content-type": found.contentType, "content-length": found.body.length, "last-modified": found.lastModified.toUTCString() }).end(found.body);
+      const headers = { "content-type": found.contentType, "last-modified": found.lastModified.toUTCString() };
+      // GetObject's Range: only the single "bytes=first-last" form, which is all the driver sends.
+      const range = /^bytes=(\d+)-(\d+)$/.exec(req.headers.range ?? "");
+      if (range) {
+        const [first, last] = [Number(range[1]), Math.min(Number(range[2]), found.body.length - 1)];
+        const part = found.body.subarray(first, last + 1);
+        return res.writeHead(206, { ...headers, "content-length": part.length, "content-range": `bytes ${first}-${last}/${found.body.length}` }).end(part);
+      }
+      return res.writeHead(200, { ...headers, "content-length": found.body.length }).end(found.body);
     }
     if (req.method === "DELETE" && key) {
       objects.delete(key);
@@ -151,5 +165,40 @@ describe("ingest with the S3 driver", () => {
     const served = await agent.get(`/api/files/${file!.id}/spectrogram.png`).buffer(true);
     expect(served.status).toBe(200);
     expect(Buffer.compare(served.body as Buffer, png)).toBe(0);
+  });
+
+  it("stores the review artefacts in the bucket, passes an excerpt's Range through to GetObject, and leaves nothing on a repeat", async () => {
+    const token = await t.tokenFor(await t.createUser("technician"));
+    const flac = excerptFlacBytes();
+    const upload = () =>
+      ingest(t.app, token, { collection: "Lighthouse Choir Reels", batchKey: "s3-review", report: reviewReport([{ path: "choir/reel-07.wav" }]), images: reviewParts(0, flac).parts });
+    const res = await upload();
+    expect(res.status).toBe(201);
+    const file = await FileResult.findOne({ where: { batchId: res.body.batchId } });
+    for (const key of file!.artefactKeys) expect(fake.objects.has(`ingest/${key}`), key).toBe(true);
+    const excerptKey = file!.closeups[0].excerptKey!;
+    expect(fake.objects.get(`ingest/${excerptKey}`)!.contentType).toBe("audio/flac");
+
+    const { agent } = await t.signIn("auditor");
+    const ranged = await agent
+      .get(`/api/files/${file!.id}/closeups/0/excerpt`)
+      .set("Range", "bytes=10-209")
+      .buffer(true)
+      .parse((r, done) => {
+        const chunks: Buffer[] = [];
+        r.on("data", (c: Buffer) => chunks.push(c));
+        r.on("end", () => done(null, Buffer.concat(chunks)));
+      });
+    expect(ranged.status).toBe(206);
+    expect(ranged.headers["content-range"]).toBe(`bytes 10-209/${flac.length}`);
+    expect(Buffer.compare(ranged.body as Buffer, flac.subarray(10, 210))).toBe(0);
+    // Only the requested bytes travelled from the bucket.
+    const gets = fake.requests.filter((r) => r.method === "GET" && r.url.includes(excerptKey));
+    expect(gets.at(-1)!.range).toBe("bytes=10-209");
+
+    const before = [...fake.objects.keys()].sort();
+    const again = await upload();
+    expect(again.status).toBe(200);
+    expect([...fake.objects.keys()].sort()).toEqual(before);
   });
 });

@@ -56,6 +56,7 @@ const permissionVerb: Record<Permission, string> = {
   review: "change review states",
   export: "export reports or read the audit trail",
   manageUsers: "manage users or other people's tokens",
+  deleteBatches: "delete batches",
   manageOwnTokens: "manage API tokens",
 };
 

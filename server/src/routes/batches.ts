@@ -5,9 +5,10 @@ import { BATCH_SORT_KEYS, type BatchDto, type Page } from "@tidemark/shared/type
 import type { AppContext } from "../context.ts";
 import { toBatchDto } from "../dto.ts";
 import { requirePermission } from "../middleware/auth.ts";
-import { loadBatch } from "../middleware/loadEntity.ts";
+import { idParam, loadBatch } from "../middleware/loadEntity.ts";
 import { Batch, Collection, User } from "../models/index.ts";
 import { optionalDate, optionalDateTo, optionalEnum, optionalId, orderParam, pageParams } from "../queryParams.ts";
+import { deleteBatch } from "../services/batchDelete.ts";
 import { batchOverview } from "../services/batchOverview.ts";
 import { parseWith } from "../validate.ts";
 
@@ -62,6 +63,11 @@ export function batchesRouter(ctx: AppContext): Router {
 
   router.get("/batches/:id", requirePermission("view"), loadBatch, (_req, res) => {
     res.json(toBatchDto(res.locals.batch!));
+  });
+
+  router.delete("/batches/:id", requirePermission("deleteBatches"), async (req, res) => {
+    await deleteBatch(ctx, res, idParam(req, "batch"));
+    res.status(204).end();
   });
 
   router.get("/batches/:id/overview", requirePermission("view"), loadBatch, async (_req, res) => {
