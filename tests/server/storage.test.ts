@@ -4,7 +4,7 @@ import { tmpdir } from "node:os";
 import path from "node:path";
 import { afterAll, describe, expect, it } from "vitest";
 import { createFsStore } from "../../server/src/storage/fsStore.ts";
-import { imageKey, newUploadId } from "../../server/src/storage/objectKeys.ts";
+import { closeupKey, fileDataKey, imageKey, newUploadId } from "../../server/src/storage/objectKeys.ts";
 import { ObjectNotFoundError } from "../../server/src/storage/ObjectStore.ts";
 
 const dir = mkdtempSync(path.join(process.env.TIDEMARK_TEST_TMP ?? tmpdir(), "fsstore-"));
@@ -48,5 +48,26 @@ describe("fs store", () => {
     expect(imageKey("0b6f4c1e-8f7a-4c3e-9a35-3f5c2f9b8e11", 12, "waveform")).toBe("images/0b6f4c1e-8f7a-4c3e-9a35-3f5c2f9b8e11/12-waveform.png");
     expect(() => imageKey("../x", 0, "waveform")).toThrow();
     expect(() => imageKey(newUploadId(), -1, "waveform")).toThrow();
+  });
+
+  it("reads a byte range (inclusive, as HTTP ranges are) and an object's size", async () => {
+    const store = createFsStore(root);
+    const key = closeupKey(newUploadId(), 3, 1, "excerpt.wav");
+    const bytes = Buffer.from(Array.from({ length: 256 }, (_, i) => i));
+    await store.put(key, bytes, "audio/wav");
+    expect(await store.size(key)).toBe(256);
+    expect((await read(await store.get(key, { start: 10, end: 19 }))).equals(bytes.subarray(10, 20))).toBe(true);
+    expect((await read(await store.get(key, { start: 255, end: 255 })))[0]).toBe(255);
+    await store.delete(key);
+    await expect(store.size(key)).rejects.toBeInstanceOf(ObjectNotFoundError);
+  });
+
+  it("builds artefact keys under the upload's folder from indexes and fixed kinds only", () => {
+    const id = "0b6f4c1e-8f7a-4c3e-9a35-3f5c2f9b8e11";
+    expect(fileDataKey(id, 2, "level-grid")).toBe(`images/${id}/2-level-grid.json`);
+    expect(closeupKey(id, 2, 7, "excerpt.flac")).toBe(`images/${id}/2-closeup-7-excerpt.flac`);
+    expect(() => closeupKey(id, 2, -1, "spectrogram.png")).toThrow();
+    expect(() => closeupKey(id, 2, 1.5, "waveform.png")).toThrow();
+    expect(() => fileDataKey("../x", 0, "loudness-curve")).toThrow();
   });
 });
