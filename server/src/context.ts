@@ -17,8 +17,8 @@ export interface UploadLimits {
   maxReportBytes: number;
   /** Each PNG part (overview and close-up spectrograms and waveforms). */
   maxImageBytes: number;
-  /** Each level-grid or loudness-curve JSON part. */
-  maxDataBytes: number;
+  /** Each JSON artefact part (level grid, loudness curve). */
+  maxJsonPartBytes: number;
   /** Each close-up audio excerpt (FLAC or WAV). */
   maxExcerptBytes: number;
   /** Artefact parts of every kind (everything but the report) per upload. */
@@ -55,7 +55,7 @@ export const DEFAULT_SETTINGS: Omit<AppSettings, "publicUrl" | "sessionSecret"> 
   passwordResetTtlMs: 60 * 60_000,
   sessionMaxAgeMs: 12 * 60 * 60_000,
   // Excerpts: the CLI's default per-file budget is 20 MB for all of a file's excerpts together.
-  upload: { maxReportBytes: 64 * 1024 * 1024, maxImageBytes: 16 * 1024 * 1024, maxDataBytes: 32 * 1024 * 1024, maxExcerptBytes: 64 * 1024 * 1024, maxImages: 100_000 },
+  upload: { maxReportBytes: 64 * 1024 * 1024, maxImageBytes: 16 * 1024 * 1024, maxJsonPartBytes: 16 * 1024 * 1024, maxExcerptBytes: 32 * 1024 * 1024, maxImages: 100_000 },
   uploadTmpDir: path.join(tmpdir(), "tidemark-uploads"),
 };
 

@@ -40,7 +40,7 @@ beforeAll(async () => {
   t = await startTestApp({
     label: "ingest",
     store: (dir) => (store = failingOnWrite(createFsStore(dir), 2)),
-    settings: { upload: { maxReportBytes: 200_000, maxImageBytes: 50_000, maxDataBytes: 50_000, maxExcerptBytes: 50_000, maxImages: 10 } },
+    settings: { upload: { maxReportBytes: 200_000, maxImageBytes: 50_000, maxJsonPartBytes: 50_000, maxExcerptBytes: 50_000, maxImages: 10 } },
   });
   token = await t.tokenFor(await t.createUser("technician"));
 });

@@ -190,9 +190,10 @@ describe("checks on artefact parts", () => {
     const batchesBefore = await Batch.count();
     const plain = scanReport([{ path: "plain.wav" }]);
     const cases: [string, IngestPart[], number, string, object?][] = [
-      ["PNG signature (ISO/IEC 15948 §5.2)", [{ field: "closeupSpectrogram", name: "0.0.png", bytes: gif }], 400, "not_png"],
-      ["fLaC marker (RFC 9639)", [{ field: "excerpt", name: "0.0.flac", bytes: excerptWavBytes() }], 400, "bad_excerpt"],
-      ["RIFF…WAVE", [{ field: "excerpt", name: "0.1.wav", bytes: flac }], 400, "bad_excerpt"],
+      ["PNG signature (ISO/IEC 15948 §5.2)", [{ field: "closeupSpectrogram", name: "0.0.png", bytes: gif }], 415, "wrong_file_type"],
+      ["fLaC marker (RFC 9639)", [{ field: "excerpt", name: "0.0.flac", bytes: excerptWavBytes() }], 415, "wrong_file_type"],
+      ["RIFF…WAVE (RIFF spec, Microsoft/IBM 1991)", [{ field: "excerpt", name: "0.1.wav", bytes: flac }], 415, "wrong_file_type"],
+      ["JSON object (RFC 8259)", [{ field: "loudnessCurve", name: "0.json", bytes: pngBytes() }], 415, "wrong_file_type"],
       ["grid schema", [{ field: "levelGrid", name: "0.json", bytes: loudnessCurveBytes() }], 400, "bad_json"],
       ["curve schema", [{ field: "loudnessCurve", name: "0.json", bytes: levelGridBytes() }], 400, "bad_json"],
       ["not JSON", [{ field: "levelGrid", name: "0.json", bytes: Buffer.from("{not json") }], 400, "bad_json"],
@@ -223,7 +224,7 @@ describe("checks on artefact parts", () => {
   });
 
   it("applies each kind's size cap from the settings (413)", async () => {
-    const small = t.makeApp({ upload: { maxReportBytes: 200_000, maxImageBytes: 50_000, maxDataBytes: 100, maxExcerptBytes: 1000, maxImages: 20 } });
+    const small = t.makeApp({ upload: { maxReportBytes: 200_000, maxImageBytes: 50_000, maxJsonPartBytes: 100, maxExcerptBytes: 1000, maxImages: 20 } });
     const grid = await ingest(small, token, { collection: "C", batchKey: key(), report: report(), images: [{ field: "levelGrid", name: "0.json", bytes: levelGridBytes() }] });
     expect(grid.status).toBe(413);
     expect(grid.body.error.message).toContain("100 bytes");
@@ -262,7 +263,7 @@ describe("the worker's job result carries the same parts", () => {
       return req;
     };
     const bad = await post(other, [{ field: "excerpt", name: "0.0.flac", bytes: pngBytes() }]);
-    expect({ status: bad.status, code: bad.body.error.code }).toEqual({ status: 400, code: "bad_excerpt" });
+    expect({ status: bad.status, code: bad.body.error.code }).toEqual({ status: 415, code: "wrong_file_type" });
 
     const res = await post(job, reviewParts(0, flac).parts);
     expect(res.status, JSON.stringify(res.body)).toBe(201);

@@ -89,8 +89,6 @@ export async function readReport(part: UploadedPart | undefined, limits: UploadL
   return report;
 }
 
-type Check = (part: UploadedPart) => Promise<string | null>;
-
 async function head(file: string, length: number): Promise<Buffer> {
   const buf = Buffer.alloc(length);
   const handle = await open(file, "r");
@@ -102,49 +100,36 @@ async function head(file: string, length: number): Promise<Buffer> {
   }
 }
 
-// PNG spec (ISO/IEC 15948) §5.2: the 8-byte signature.
-const isPng: Check = async (part) => ((await head(part.path, 8)).equals(PNG_MAGIC) ? null : "is not a PNG image (no PNG signature)");
-
+// PNG (ISO/IEC 15948 §5.2): the 8-byte signature.
+const isPng = (b: Buffer): boolean => b.subarray(0, 8).equals(PNG_MAGIC);
 // FLAC (RFC 9639): a stream starts with the marker "fLaC".
-const isFlac = async (part: UploadedPart): Promise<string | null> =>
-  (await head(part.path, 4)).toString("latin1") === "fLaC" ? null : 'is not FLAC (it does not start with "fLaC")';
-
+const isFlac = (b: Buffer): boolean => b.toString("latin1", 0, 4) === "fLaC";
 // RIFF WAVE (Microsoft/IBM Multimedia Programming Interface and Data Specifications 1.0): "RIFF", a 32-bit size, "WAVE".
-const isWav = async (part: UploadedPart): Promise<string | null> => {
-  const b = await head(part.path, 12);
-  return b.length === 12 && b.toString("latin1", 0, 4) === "RIFF" && b.toString("latin1", 8, 12) === "WAVE" ? null : 'is not WAV (expected "RIFF" and "WAVE")';
-};
-
-const excerptCheck: Check = (part) => (/\.flac$/i.test(part.originalname) ? isFlac(part) : isWav(part));
-
-/** JSON artefacts carry their own schema id (CONTRACT-16 §2 and §3). */
-const jsonWithSchema =
-  (schema: string): Check =>
-  async (part) => {
-    let json: unknown;
-    try {
-      json = JSON.parse(await readFile(part.path, "utf8"));
-    } catch {
-      return "is not valid JSON";
-    }
-    const got = json && typeof json === "object" && !Array.isArray(json) ? (json as { schema?: unknown }).schema : undefined;
-    return got === schema ? null : `has schema ${JSON.stringify(got ?? null)}, expected "${schema}"`;
-  };
+const isWav = (b: Buffer): boolean => b.length >= 12 && b.toString("latin1", 0, 4) === "RIFF" && b.toString("latin1", 8, 12) === "WAVE";
+// JSON (RFC 8259 §2): our documents are objects, so after optional whitespace the first byte is "{".
+const isJsonObject = (b: Buffer): boolean => b.toString("latin1").trimStart().startsWith("{");
 
 /**
  * Every artefact part an upload may carry, in one table: how it is named (n = the file's index in
- * report.files, k = the close-up's index in that file's closeups), its size cap, how its bytes are
- * checked, the Content-Type it is stored and served with, and the error code a bad one gets.
+ * report.files, k = the close-up's index in that file's closeups), its size cap (AppSettings.upload) and
+ * what its first bytes must be (415 otherwise). What the report must say about a part, and a JSON part's
+ * `schema`, are checked afterwards by artefactPartsOf().
  */
 export const PART_KINDS = {
-  spectrogram: { name: /^(\d{1,9})\.png$/i, shape: "<n>.png", maxBytes: (l: UploadLimits) => l.maxImageBytes, check: isPng, badCode: "not_png" },
-  waveform: { name: /^(\d{1,9})\.png$/i, shape: "<n>.png", maxBytes: (l: UploadLimits) => l.maxImageBytes, check: isPng, badCode: "not_png" },
-  levelGrid: { name: /^(\d{1,9})\.json$/i, shape: "<n>.json", maxBytes: (l: UploadLimits) => l.maxDataBytes, check: jsonWithSchema("tidemark.level-grid/1"), badCode: "bad_json" },
-  loudnessCurve: { name: /^(\d{1,9})\.json$/i, shape: "<n>.json", maxBytes: (l: UploadLimits) => l.maxDataBytes, check: jsonWithSchema("tidemark.loudness-curve/1"), badCode: "bad_json" },
-  closeupSpectrogram: { name: /^(\d{1,9})\.(\d{1,6})\.png$/i, shape: "<n>.<k>.png", maxBytes: (l: UploadLimits) => l.maxImageBytes, check: isPng, badCode: "not_png" },
-  closeupWaveform: { name: /^(\d{1,9})\.(\d{1,6})\.png$/i, shape: "<n>.<k>.png", maxBytes: (l: UploadLimits) => l.maxImageBytes, check: isPng, badCode: "not_png" },
-  excerpt: { name: /^(\d{1,9})\.(\d{1,6})\.(flac|wav)$/i, shape: "<n>.<k>.flac or <n>.<k>.wav", maxBytes: (l: UploadLimits) => l.maxExcerptBytes, check: excerptCheck, badCode: "bad_excerpt" },
-} as const satisfies Record<string, { name: RegExp; shape: string; maxBytes: (l: UploadLimits) => number; check: Check; badCode: string }>;
+  spectrogram: { name: /^(\d{1,9})\.png$/i, shape: "<n>.png", maxBytes: (l: UploadLimits) => l.maxImageBytes, type: "a PNG image", magic: isPng },
+  waveform: { name: /^(\d{1,9})\.png$/i, shape: "<n>.png", maxBytes: (l: UploadLimits) => l.maxImageBytes, type: "a PNG image", magic: isPng },
+  levelGrid: { name: /^(\d{1,9})\.json$/i, shape: "<n>.json", maxBytes: (l: UploadLimits) => l.maxJsonPartBytes, type: "a JSON object", magic: isJsonObject },
+  loudnessCurve: { name: /^(\d{1,9})\.json$/i, shape: "<n>.json", maxBytes: (l: UploadLimits) => l.maxJsonPartBytes, type: "a JSON object", magic: isJsonObject },
+  closeupSpectrogram: { name: /^(\d{1,9})\.(\d{1,4})\.png$/i, shape: "<n>.<k>.png", maxBytes: (l: UploadLimits) => l.maxImageBytes, type: "a PNG image", magic: isPng },
+  closeupWaveform: { name: /^(\d{1,9})\.(\d{1,4})\.png$/i, shape: "<n>.<k>.png", maxBytes: (l: UploadLimits) => l.maxImageBytes, type: "a PNG image", magic: isPng },
+  excerpt: {
+    name: /^(\d{1,9})\.(\d{1,4})\.(?:flac|wav)$/i,
+    shape: "<n>.<k>.flac or <n>.<k>.wav",
+    maxBytes: (l: UploadLimits) => l.maxExcerptBytes,
+    type: "FLAC or WAV audio matching its extension",
+    magic: (b: Buffer, name: string) => (/\.flac$/i.test(name) ? isFlac(b) : isWav(b)),
+  },
+} as const satisfies Record<string, { name: RegExp; shape: string; maxBytes: (l: UploadLimits) => number; type: string; magic: (head: Buffer, name: string) => boolean }>;
 
 export type PartKind = keyof typeof PART_KINDS;
 export const PART_KIND_NAMES = Object.keys(PART_KINDS) as PartKind[];
@@ -152,19 +137,43 @@ export const PART_KIND_NAMES = Object.keys(PART_KINDS) as PartKind[];
 /** The largest part any kind may be (for the multipart parser's per-file limit). */
 export const largestPartBytes = (limits: UploadLimits): number => Math.max(limits.maxReportBytes, ...PART_KIND_NAMES.map((k) => PART_KINDS[k].maxBytes(limits)));
 
+/** A part whose name, indexes, size and first bytes were checked (shape of the multipart reader's parts). */
+export interface NamedPart {
+  kind: string;
+  fileIndex: number;
+  closeupIndex: number | null;
+  originalname: string;
+  path: string;
+}
+
 export interface ArtefactPart {
   kind: PartKind;
   fileIndex: number;
   /** The close-up's index for closeup parts and excerpts, else null. */
   closeupIndex: number | null;
-  /** For excerpts: "audio/flac" or "audio/wav", from the name (and checked against the bytes and the report). */
+  /** For excerpts: "audio/flac" or "audio/wav", from the name (checked against the bytes and the report). */
   mediaType: "audio/flac" | "audio/wav" | null;
   path: string;
+}
+
+const JSON_SCHEMAS: Partial<Record<PartKind, string>> = { levelGrid: "tidemark.level-grid/1", loudnessCurve: "tidemark.loudness-curve/1" };
+
+/** JSON artefacts carry their own schema id (CONTRACT-16 §2 and §3). */
+async function jsonSchemaProblem(file: string, schema: string): Promise<string | null> {
+  let json: unknown;
+  try {
+    json = JSON.parse(await readFile(file, "utf8"));
+  } catch {
+    return "is not valid JSON";
+  }
+  const got = json && typeof json === "object" && !Array.isArray(json) ? (json as { schema?: unknown }).schema : undefined;
+  return got === schema ? null : `has schema ${JSON.stringify(got ?? null)}, expected "${schema}"`;
 }
 
 /** What the report must declare for a part to be expected: a close-up part needs its close-up, etc. */
 function declared(report: ScanReport, part: ArtefactPart, label: string): void {
   const file = report.files[part.fileIndex];
+  if (!file) throw badRequest(`${label}: the report has no file ${part.fileIndex} (it has ${report.files.length})`, "unknown_file_index");
   if (part.kind === "levelGrid" || part.kind === "loudnessCurve") {
     if (!file[part.kind]) throw badRequest(`${label}: file ${part.fileIndex} of the report has no ${part.kind}`, "unexpected_part");
     return;
@@ -182,38 +191,60 @@ function declared(report: ScanReport, part: ArtefactPart, label: string): void {
 }
 
 /**
- * Artefact parts (PART_KINDS) checked before anything is stored: known kind, name, indexes against
- * report.files and the file's closeups, no duplicates, size (413) and content (400).
+ * Checked parts → what ingest stores, after the checks that need the report or the whole part: the report
+ * names the artefact (its grid, curve, close-up k, an excerpt of the type named), and a JSON part has the
+ * right `schema` (400 `bad_json`).
+ */
+export async function artefactPartsOf(parts: NamedPart[], report: ScanReport): Promise<ArtefactPart[]> {
+  const out: ArtefactPart[] = [];
+  for (const part of parts) {
+    if (!Object.hasOwn(PART_KINDS, part.kind)) throw badRequest(`unexpected file part "${part.kind}"; expected report, ${PART_KIND_NAMES.join(", ")}`, "bad_upload");
+    const kind = part.kind as PartKind;
+    const label = `${kind} ${JSON.stringify(part.originalname)}`;
+    const mediaType = kind === "excerpt" ? (/\.flac$/i.test(part.originalname) ? "audio/flac" : "audio/wav") : null;
+    const artefact: ArtefactPart = { kind, fileIndex: part.fileIndex, closeupIndex: part.closeupIndex, mediaType, path: part.path };
+    declared(report, artefact, label);
+    const schema = JSON_SCHEMAS[kind];
+    const problem = schema ? await jsonSchemaProblem(part.path, schema) : null;
+    if (problem) throw badRequest(`${label} ${problem}`, "bad_json");
+    out.push(artefact);
+  }
+  return out;
+}
+
+const wrongType = (message: string): HttpError => new HttpError(415, "wrong_file_type", message);
+
+/**
+ * Multipart parts as multer left them on disk: known kind, name (400), file index, no duplicates, size
+ * (413), first bytes (415); then artefactPartsOf().
  */
 export async function readArtefactParts(parts: UploadedPart[], report: ScanReport, limits: UploadLimits): Promise<ArtefactPart[]> {
   if (parts.length > limits.maxImages) throw payloadTooLarge(`at most ${limits.maxImages} artefact parts per upload, got ${parts.length}`);
   const fileCount = report.files.length;
   const seen = new Set<string>();
-  const out: ArtefactPart[] = [];
+  const named: NamedPart[] = [];
   for (const part of parts) {
     if (!Object.hasOwn(PART_KINDS, part.fieldname)) throw badRequest(`unexpected file part "${part.fieldname}"; expected report, ${PART_KIND_NAMES.join(", ")}`, "bad_upload");
     const kind = part.fieldname as PartKind;
     const rule = PART_KINDS[kind];
     const label = `${kind} ${JSON.stringify(part.originalname)}`;
+    const image = kind === "spectrogram" || kind === "waveform";
     const match = rule.name.exec(part.originalname);
-    if (!match) {
-      const image = kind === "spectrogram" || kind === "waveform";
-      throw badRequest(`${label} must be named ${rule.shape}, n being the file's index in the report${image ? "" : " (k the close-up's)"}`, image ? "bad_image_name" : "bad_part_name");
-    }
+    if (!match) throw badRequest(`${label} must be named ${rule.shape}, n being the file's index in the report${image ? "" : " (k the close-up's)"}`, image ? "bad_image_name" : "bad_part_name");
     const fileIndex = Number(match[1]);
     if (fileIndex >= fileCount) throw badRequest(`${label}: the report has no file ${fileIndex} (it has ${fileCount})`, "unknown_file_index");
     const closeupIndex = rule.shape.includes("<k>") ? Number(match[2]) : null;
-    const mediaType = kind === "excerpt" ? (match[3].toLowerCase() === "flac" ? "audio/flac" : "audio/wav") : null;
-    const artefact: ArtefactPart = { kind, fileIndex, closeupIndex, mediaType, path: part.path };
-    declared(report, artefact, label);
     const id = `${kind}:${fileIndex}:${closeupIndex ?? ""}`;
-    if (seen.has(id)) throw badRequest(`two ${kind} parts for file ${fileIndex}${closeupIndex === null ? "" : ` close-up ${closeupIndex}`}`, kind === "spectrogram" || kind === "waveform" ? "duplicate_image" : "duplicate_part");
+    if (seen.has(id)) throw badRequest(`two ${kind} parts for file ${fileIndex}${closeupIndex === null ? "" : ` close-up ${closeupIndex}`}`, image ? "duplicate_image" : "duplicate_part");
     seen.add(id);
     const max = rule.maxBytes(limits);
     if (part.size > max) throw new HttpError(413, "payload_too_large", `${label} is larger than ${max} bytes`);
-    const problem = await rule.check(part);
-    if (problem) throw badRequest(`${label} ${problem}`, rule.badCode);
-    out.push(artefact);
+    if (!rule.magic(await head(part.path, 16), part.originalname)) {
+      // The overview PNGs keep their older 400 not_png.
+      if (image) throw badRequest(`${label} is not a PNG image`, "not_png");
+      throw wrongType(`${label} is not ${rule.type}`);
+    }
+    named.push({ kind, fileIndex, closeupIndex, originalname: part.originalname, path: part.path });
   }
-  return out;
+  return artefactPartsOf(named, report);
 }
