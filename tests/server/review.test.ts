@@ -4,7 +4,9 @@
  * overview, anchored comments and review reasons. Artefacts are hand-made (helpers/artefacts.ts): PNGs by
  * pngjs, the WAV excerpt by tests/fixtures/wavWriter.ts, the FLAC excerpt by Debian's `flac`.
  */
-import { existsSync, readdirSync } from "node:fs";
+import { execFileSync } from "node:child_process";
+import { existsSync, mkdtempSync, readdirSync, rmSync, writeFileSync } from "node:fs";
+import { tmpdir } from "node:os";
 import path from "node:path";
 import request from "supertest";
 import type TestAgent from "supertest/lib/agent.js";
@@ -163,6 +165,30 @@ describe("upload and serving of review artefacts", () => {
     const flacPart = await binary(auditor.get(detail.closeups[0].excerptUrl!).set("Range", "bytes=0-3"));
     expect(flacPart.status).toBe(206);
     expect((flacPart.body as Buffer).toString("latin1")).toBe("fLaC");
+  });
+
+  it("serves a FLAC excerpt in ranges that, put together, Debian's ffmpeg decodes to the original samples", async () => {
+    const url = detail.closeups[0].excerptUrl!;
+    const cuts = [0, 1000, Math.floor(flac.length / 2), flac.length];
+    const pieces: Buffer[] = [];
+    for (let i = 0; i + 1 < cuts.length; i++) {
+      const res = await binary(auditor.get(url).set("Range", `bytes=${cuts[i]}-${cuts[i + 1] - 1}`));
+      expect(res.status).toBe(206);
+      pieces.push(res.body as Buffer);
+    }
+    const dir = mkdtempSync(path.join(process.env.TIDEMARK_TEST_TMP ?? tmpdir(), "excerpt-"));
+    try {
+      const file = path.join(dir, "served.flac");
+      writeFileSync(file, Buffer.concat(pieces));
+      const pcm = execFileSync("ffmpeg", ["-v", "error", "-i", file, "-f", "s16le", "-acodec", "pcm_s16le", "-"], { maxBuffer: 16 * 1024 * 1024 });
+      // The WAV fixture's data chunk follows a 44-byte canonical header (RIFF 12 + fmt 24 + data header 8).
+      const wav = excerptWavBytes();
+      expect(wav.toString("latin1", 36, 40)).toBe("data");
+      expect(pcm.length).toBe(wav.length - 44);
+      expect(Buffer.compare(pcm, wav.subarray(44))).toBe(0);
+    } finally {
+      rmSync(dir, { recursive: true, force: true });
+    }
   });
 
   it("answers 404 for a close-up or artefact the file does not have, 400 for a bad index, 401 to anonymous", async () => {
