@@ -161,6 +161,9 @@ describe("upload and serving of review artefacts", () => {
     const etag = (await auditor.get(url)).headers.etag as string;
     expect((await auditor.get(url).set("Range", "bytes=0-9").set("If-Range", etag)).status).toBe(206);
     expect((await auditor.get(url).set("Range", "bytes=0-9").set("If-Range", '"something-else"')).status).toBe(200);
+    // §13.1.2 If-None-Match: 304 for the current validator, the excerpt for another.
+    expect((await auditor.get(url).set("If-None-Match", etag)).status).toBe(304);
+    expect((await auditor.get(url).set("If-None-Match", '"something-else"')).status).toBe(200);
     // The FLAC excerpt seeks the same way.
     const flacPart = await binary(auditor.get(detail.closeups[0].excerptUrl!).set("Range", "bytes=0-3"));
     expect(flacPart.status).toBe(206);

@@ -59,6 +59,11 @@ export async function sendObjectWithRanges(ctx: AppContext, req: Request, res: R
   const size = await sizeOf(ctx, object.key, object.what, object.fileId);
   const etag = etagOf(object.key, size);
   res.set({ "Content-Type": object.contentType, "Cache-Control": "private, max-age=86400, immutable", "Accept-Ranges": "bytes", ETag: etag });
+  // If-None-Match with our ETag (RFC 9110 §13.1.2): the copy the browser has is current.
+  if (req.fresh) {
+    res.status(304).end();
+    return;
+  }
   const ifRange = req.get("If-Range");
   // express's req.range() is the range-parser package; combine merges overlapping/adjacent ranges.
   const ranges = ifRange === undefined || ifRange === etag ? req.range(size, { combine: true }) : undefined;
