@@ -102,8 +102,23 @@ class KWeightedLoudnessMeter implements LoudnessMeter {
   private readonly hopEnergy = new Float64Array(SHORT_TERM_HOPS);
   private readonly hopFrames = new Float64Array(SHORT_TERM_HOPS);
   private hopsCompleted = 0;
-  /** Energy and frames of the sub-block so far (its completed hops). */
-  private subBlockEnergy = 0;
+  /** Suffix sums: from each hop to the end of its sub-block (set when the sub-block completes). */
+  private readonly suffixEnergy = new Float64Array(SHORT_TERM_HOPS);
+  private readonly suffixFrames = new Float64Array(SHORT_TERM_HOPS);
+  /** Energy and frames of the current sub-block so far (its completed hops). */
+  private partialEnergy = 0;
+  private partialFrames = 0;
+  /** The last 3 and 29 whole sub-blocks, and the last 4 and 30 (the windows ending on a sub-block boundary). */
+  private recentEnergy3 = 0;
+  private recentFrames3 = 0;
+  private recentEnergy29 = 0;
+  private recentFrames29 = 0;
+  private lastMomentaryEnergy = 0;
+  private lastMomentaryFrames = 0;
+  private lastShortTermEnergy = 0;
+  private lastShortTermFrames = 0;
+  private sumEnergy = 0;
+  private sumFrames = 0;
   private completed = 0;
   private position = 0;
   private subBlockStart = 0;
@@ -251,72 +266,103 @@ class KWeightedLoudnessMeter implements LoudnessMeter {
     this.hopEnergy[slot] = energy;
     this.hopFrames[slot] = this.hopEnd - hopStart;
     this.hopsCompleted++;
-    this.subBlockEnergy += energy;
+    this.partialEnergy += energy;
+    this.partialFrames += this.hopEnd - hopStart;
+    if (hopIndex === HOPS_PER_SUB_BLOCK - 1) this.completeSubBlock();
     this.updateMaxima();
-    if (hopIndex === HOPS_PER_SUB_BLOCK - 1) {
-      this.completeSubBlock(this.subBlockEnergy);
-      this.subBlockEnergy = 0;
-    }
     this.hopEnd = this.hopBoundary((this.hopsCompleted % HOPS_PER_SUB_BLOCK) + 1);
   }
 
-  /** Windows ending at this hop: 400 ms and 3 s, summed oldest first (same result for any block size). */
+  /**
+   * The 400 ms and 3 s windows ending at this hop, without re-summing 80 or 600 hops: the hops done of the
+   * current sub-block, plus the whole sub-blocks before them (summed once per sub-block), plus the tail of
+   * the oldest sub-block (its suffix sums, also made once per sub-block). Additions only, in a fixed order,
+   * so the result is the same for any block size and nothing cancels.
+   */
   private updateMaxima(): void {
     const hops = this.hopsCompleted;
+    const inSubBlock = hops % HOPS_PER_SUB_BLOCK;
     let momentary = 0;
     let shortTerm = 0;
     if (hops >= MOMENTARY_HOPS) {
-      momentary = this.hopWindowPower(MOMENTARY_HOPS);
+      let e = this.lastMomentaryEnergy;
+      let f = this.lastMomentaryFrames;
+      if (inSubBlock !== 0) {
+        const old = (hops - MOMENTARY_HOPS) % SHORT_TERM_HOPS;
+        e = this.partialEnergy + this.recentEnergy3 + this.suffixEnergy[old];
+        f = this.partialFrames + this.recentFrames3 + this.suffixFrames[old];
+      }
+      momentary = e / f;
       if (momentary > this.maxMomentary) {
         this.maxMomentary = momentary;
-        this.maxMomentaryFrame = this.position - this.hopWindowFrames;
+        this.maxMomentaryFrame = this.position - f;
       }
     }
     if (hops >= SHORT_TERM_HOPS) {
-      shortTerm = this.hopWindowPower(SHORT_TERM_HOPS);
+      let e = this.lastShortTermEnergy;
+      let f = this.lastShortTermFrames;
+      if (inSubBlock !== 0) {
+        const old = (hops - SHORT_TERM_HOPS) % SHORT_TERM_HOPS;
+        e = this.partialEnergy + this.recentEnergy29 + this.suffixEnergy[old];
+        f = this.partialFrames + this.recentFrames29 + this.suffixFrames[old];
+      }
+      shortTerm = e / f;
       if (shortTerm > this.maxShortTerm) this.maxShortTerm = shortTerm;
     }
     this.onHop?.(this.position, momentary, shortTerm);
   }
 
-  /** Frames of the window last summed by hopWindowPower. */
-  private hopWindowFrames = 0;
-
-  private hopWindowPower(count: number): number {
-    let energy = 0;
-    let frames = 0;
-    const e = this.hopEnergy;
-    const f = this.hopFrames;
-    for (let k = this.hopsCompleted - count; k < this.hopsCompleted; k++) {
+  private completeSubBlock(): void {
+    // Suffix sums of this sub-block's hops, for windows that start inside it later.
+    let e = 0;
+    let f = 0;
+    const first = this.hopsCompleted - HOPS_PER_SUB_BLOCK;
+    for (let k = this.hopsCompleted - 1; k >= first; k--) {
       const slot = k % SHORT_TERM_HOPS;
-      energy += e[slot];
-      frames += f[slot];
+      e += this.hopEnergy[slot];
+      f += this.hopFrames[slot];
+      this.suffixEnergy[slot] = e;
+      this.suffixFrames[slot] = f;
     }
-    this.hopWindowFrames = frames;
-    return energy / frames;
-  }
-
-  private completeSubBlock(energy: number): void {
     const slot = this.completed % SHORT_TERM_SUB_BLOCKS;
-    this.ringEnergy[slot] = energy;
+    this.ringEnergy[slot] = this.partialEnergy;
     this.ringFrames[slot] = this.subBlockEnd - this.subBlockStart;
+    this.partialEnergy = 0;
+    this.partialFrames = 0;
     this.completed++;
     this.subBlockStart = this.subBlockEnd;
     this.subBlockEnd = this.grid.boundary(this.completed + 1);
-    if (this.completed >= MOMENTARY_SUB_BLOCKS) this.momentary.push(this.windowPower(MOMENTARY_SUB_BLOCKS));
-    if (this.completed >= SHORT_TERM_SUB_BLOCKS) this.shortTerm.push(this.windowPower(SHORT_TERM_SUB_BLOCKS));
+    this.sumRecent(MOMENTARY_SUB_BLOCKS - 1);
+    this.recentEnergy3 = this.sumEnergy;
+    this.recentFrames3 = this.sumFrames;
+    this.sumRecent(SHORT_TERM_SUB_BLOCKS - 1);
+    this.recentEnergy29 = this.sumEnergy;
+    this.recentFrames29 = this.sumFrames;
+    if (this.completed >= MOMENTARY_SUB_BLOCKS) {
+      this.sumRecent(MOMENTARY_SUB_BLOCKS);
+      this.lastMomentaryEnergy = this.sumEnergy;
+      this.lastMomentaryFrames = this.sumFrames;
+      this.momentary.push(this.sumEnergy / this.sumFrames);
+    }
+    if (this.completed >= SHORT_TERM_SUB_BLOCKS) {
+      this.sumRecent(SHORT_TERM_SUB_BLOCKS);
+      this.lastShortTermEnergy = this.sumEnergy;
+      this.lastShortTermFrames = this.sumFrames;
+      this.shortTerm.push(this.sumEnergy / this.sumFrames);
+    }
   }
 
-  /** Mean weighted power over the last `count` sub-blocks (summed oldest first, for reproducibility). */
-  private windowPower(count: number): number {
+  /** Energy and frames of the last `count` sub-blocks (summed oldest first, for reproducibility) into sumEnergy/sumFrames. */
+  private sumRecent(count: number): void {
     let energy = 0;
     let frames = 0;
-    for (let k = this.completed - count; k < this.completed; k++) {
+    for (let k = Math.max(0, this.completed - count); k < this.completed; k++) {
       const slot = k % SHORT_TERM_SUB_BLOCKS;
       energy += this.ringEnergy[slot];
       frames += this.ringFrames[slot];
     }
-    return energy / frames;
+    this.sumEnergy = energy;
+    this.sumFrames = frames;
   }
 
   finish(): LoudnessResult {
