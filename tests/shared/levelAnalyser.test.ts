@@ -1,6 +1,7 @@
 import { describe, expect, it } from "vitest";
 import { createLevelAnalyser } from "../../shared/src/analysis/levelAnalyser.ts";
 import { MAX_FINDINGS_PER_CODE } from "../../shared/src/analysis/findings.ts";
+import { lfeChannelIndex } from "../../shared/src/analysis/speakers.ts";
 import type { LevelAnalysisResult, StreamFormat } from "../../shared/src/types/analysis.ts";
 import { fileMetricsSchema, findingSchema, type FindingCode } from "../../shared/src/types/report.ts";
 import { DEFAULT_ANALYSIS_SETTINGS, type AnalysisSettings } from "../../shared/src/types/settings.ts";
@@ -12,7 +13,7 @@ const RATE = 48000;
 
 function analyse(
   channels: Float32Array[],
-  o: { sampleRateHz?: number; bitDepth?: number; encoding?: "pcm" | "float"; blockFrames?: number; settings?: Partial<AnalysisSettings> } = {},
+  o: { sampleRateHz?: number; bitDepth?: number; encoding?: "pcm" | "float"; blockFrames?: number; settings?: Partial<AnalysisSettings>; channelMask?: number } = {},
 ): LevelAnalysisResult {
   const format: StreamFormat = {
     sampleRateHz: o.sampleRateHz ?? RATE,
@@ -20,6 +21,7 @@ function analyse(
     bitDepth: o.bitDepth ?? 32,
     encoding: o.encoding ?? "float",
     totalFrames: channels[0].length,
+    channelMask: o.channelMask ?? null,
   };
   const analyser = createLevelAnalyser(format, { ...DEFAULT_ANALYSIS_SETTINGS, ...o.settings });
   const step = o.blockFrames ?? 65536;
@@ -183,6 +185,38 @@ describe("silence and dead channels", () => {
     const dead = findingsOf(result, "dead-channel");
     expect(dead.map((f) => f.channel)).toEqual([1]);
     expect(codes(analyse([noise(3, -20, 1), noise(3, -20, 2)]))).not.toContain("dead-channel");
+  });
+});
+
+describe("dead channel and the LFE", () => {
+  // Speaker bits of WAVE_FORMAT_EXTENSIBLE (Microsoft's KSAUDIO_SPEAKER definitions, from memory): FL 0x1,
+  // FR 0x2, FC 0x4, LFE 0x8, BL 0x10, BR 0x20, SL 0x200, SR 0x400.
+  const speech = (seed: number) => speechLike({ sampleRateHz: RATE, seconds: 4, rmsDbfs: -24, seed });
+  const fiveOne = (silent: number) => Array.from({ length: 6 }, (_, c) => (c === silent ? new Float32Array(4 * RATE) : speech(40 + c)));
+  const deadChannels = (r: LevelAnalysisResult) => findingsOf(r, "dead-channel").map((f) => f.channel);
+
+  it("finds the LFE by the speaker mask, else by the default 5.1/7.1 order", () => {
+    expect(lfeChannelIndex(6, 0x3f)).toBe(3);
+    expect(lfeChannelIndex(6, 0x60f)).toBe(3);
+    expect(lfeChannelIndex(5, 0x3b)).toBe(2); // FL FR LFE BL BR: no centre before it
+    expect(lfeChannelIndex(3, 0x7)).toBeNull(); // 3.0: no LFE bit
+    expect(lfeChannelIndex(6, null)).toBe(3);
+    expect(lfeChannelIndex(8, 0)).toBe(3);
+    expect(lfeChannelIndex(2, null)).toBeNull();
+    expect(lfeChannelIndex(4, null)).toBeNull();
+  });
+
+  it("a silent LFE in 5.1 is no dead channel, with or without a mask; a silent centre is", () => {
+    expect(deadChannels(analyse(fiveOne(3)))).toEqual([]);
+    expect(deadChannels(analyse(fiveOne(3), { channelMask: 0x60f }))).toEqual([]);
+    expect(deadChannels(analyse(fiveOne(2)))).toEqual([2]);
+    // With mask 0x3b (FL FR LFE BL BR, no centre) the LFE is channel 2, so a silent channel 3 (BL) is dead.
+    const noCentre = Array.from({ length: 5 }, (_, c) => (c === 3 ? new Float32Array(4 * RATE) : speech(50 + c)));
+    expect(deadChannels(analyse(noCentre, { channelMask: 0x3b }))).toEqual([3]);
+  });
+
+  it("the profile setting deadChannelIncludesLfe puts the LFE back into the check", () => {
+    expect(deadChannels(analyse(fiveOne(3), { settings: { deadChannelIncludesLfe: true } }))).toEqual([3]);
   });
 });
 

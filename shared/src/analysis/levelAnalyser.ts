@@ -20,6 +20,7 @@ import { createLevelWindows } from "./levelWindows.ts";
 import { createLoudnessMeter, loudnessChannelWeights } from "./loudness.ts";
 import { createNoiseFloorEstimator } from "./noiseFloor.ts";
 import { createSilenceDetector } from "./silence.ts";
+import { lfeChannelIndex } from "./speakers.ts";
 import { createStereoAnalyser } from "./stereo.ts";
 import { createStuckSampleDetector } from "./stuckSamples.ts";
 import { createTruePeakMeter } from "./truePeak.ts";
@@ -36,7 +37,7 @@ export function createLevelAnalyser(format: StreamFormat, settings: AnalysisSett
   const clipping = createClipDetector(format, settings, (region) => add(clipRegionFinding(region, sampleRateHz)));
   const bitDepth = createBitDepthMeter(format);
   const totals = createChannelLevelTotals(channels);
-  const silence = createSilenceDetector(sampleRateHz, channels, settings);
+  const silence = createSilenceDetector(sampleRateHz, channels, settings, lfeChannelIndex(channels, format.channelMask));
   const noiseFloor = createNoiseFloorEstimator(channels);
   const dropouts = createDropoutDetector(sampleRateHz, channels, settings, add);
   const stuck = createStuckSampleDetector(format, settings, add);

@@ -2,7 +2,8 @@
  * Silence from the 50 ms window levels: the file is silent in a window when every channel's RMS is below
  * the threshold (−60 dBFS by default). Leading, trailing and inner runs of silent windows at least
  * `silenceMinSeconds` long (2 s) are findings; so is a channel that never rises above the threshold while
- * another does (dead channel).
+ * another does (dead channel) — except the LFE of a 5.1/7.1 file, which is often silent by design, unless
+ * the profile's `deadChannelIncludesLfe` asks for it.
  */
 import type { Finding } from "../types/report.ts";
 import type { AnalysisSettings } from "../types/settings.ts";
@@ -18,12 +19,17 @@ export interface SilenceDetector {
   readonly channelHasSignal: boolean[];
 }
 
+/**
+ * `lfeChannel`: the LFE's index (see speakers.ts), left out of the dead-channel check unless the
+ * settings include it. Silence itself still counts every channel.
+ */
 export function createSilenceDetector(
   sampleRateHz: number,
   channels: number,
-  settings: Pick<AnalysisSettings, "silenceThresholdDbfs" | "silenceMinSeconds">,
+  settings: Pick<AnalysisSettings, "silenceThresholdDbfs" | "silenceMinSeconds"> & Partial<Pick<AnalysisSettings, "deadChannelIncludesLfe">>,
+  lfeChannel: number | null = null,
 ): SilenceDetector {
-  return new WindowSilenceDetector(sampleRateHz, channels, settings);
+  return new WindowSilenceDetector(sampleRateHz, channels, settings, settings.deadChannelIncludesLfe === true ? null : lfeChannel);
 }
 
 class WindowSilenceDetector implements SilenceDetector {
@@ -39,6 +45,8 @@ class WindowSilenceDetector implements SilenceDetector {
     private readonly sampleRateHz: number,
     private readonly channels: number,
     private readonly settings: Pick<AnalysisSettings, "silenceThresholdDbfs" | "silenceMinSeconds">,
+    /** Channel exempt from the dead-channel check (the LFE), or null. */
+    private readonly exemptChannel: number | null,
   ) {
     this.channelHasSignal = new Array<boolean>(channels).fill(false);
     this.thresholdPower = dbToPower(settings.silenceThresholdDbfs);
@@ -90,7 +98,7 @@ class WindowSilenceDetector implements SilenceDetector {
     }
     if (this.channelHasSignal.some(Boolean)) {
       for (let c = 0; c < this.channels; c++) {
-        if (this.channelHasSignal[c]) continue;
+        if (this.channelHasSignal[c] || c === this.exemptChannel) continue;
         findings.push({
           code: "dead-channel",
           severity: "fail",

@@ -59,6 +59,7 @@ export const settingsOverrideSchema = z.strictObject({
   silenceThresholdDbfs: z.number().max(0).optional(),
   silenceMinSeconds: z.number().positive().optional(),
   dropoutMinSeconds: z.number().positive().optional(),
+  deadChannelIncludesLfe: z.boolean().optional(),
   stuckMinSamples: z.number().int().min(2).optional(),
   imbalanceDb: z.number().positive().optional(),
   dualMonoCorrelation: z.number().min(-1).max(1).optional(),

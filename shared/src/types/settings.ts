@@ -15,6 +15,11 @@ export interface AnalysisSettings {
   silenceMinSeconds: number;
   /** Minimum run of exact digital zero inside signal that counts as a dropout, s (0.001). */
   dropoutMinSeconds: number;
+  /**
+   * Whether a silent LFE channel counts as a dead channel (false): a 5.1/7.1 programme often has nothing
+   * for the LFE (common practice), so by default it is left out of the dead-channel check.
+   */
+  deadChannelIncludesLfe: boolean;
   /** Minimum run of identical non-zero samples that counts as stuck (16). */
   stuckMinSamples: number;
   /** RMS difference between channels that gives `channel-imbalance`, dB (3). */
@@ -47,6 +52,7 @@ export const DEFAULT_ANALYSIS_SETTINGS: AnalysisSettings = {
   silenceThresholdDbfs: -60,
   silenceMinSeconds: 2,
   dropoutMinSeconds: 0.001,
+  deadChannelIncludesLfe: false,
   stuckMinSamples: 16,
   imbalanceDb: 3,
   dualMonoCorrelation: 0.999,
