@@ -8,6 +8,7 @@ import { DEFAULT_ANALYSIS_SETTINGS, type AnalysisSettings } from "../../shared/s
 import { byteSourceFromBytes, createDataChunkDecoder, readWavLayout } from "../../shared/src/wav/index.ts";
 import { concat, gainDb, hardClip, mix, pinkNoise, silence, sine, sineSteps, speechLike, whiteNoise } from "../fixtures/synth.ts";
 import { encodeWav } from "../fixtures/wavWriter.ts";
+import { espeakAvailable, espeakSpeech } from "../helpers/externalAudio.ts";
 
 const RATE = 48000;
 
@@ -243,6 +244,50 @@ describe("dropouts and stuck samples", () => {
     const leading = noise(3, -20, 9);
     leading.fill(0, 0, 480);
     expect(codes(analyse([leading]))).not.toContain("dropout");
+  });
+
+  it("an analogue transfer (noise floor everywhere) keeps its dropouts as fails, several of them", () => {
+    const floor = pinkNoise({ sampleRateHz: RATE, seconds: 12, rmsDbfs: -66, seed: 61 });
+    const x = mix(speechLike({ sampleRateHz: RATE, seconds: 12, rmsDbfs: -22, seed: 62 }), floor);
+    // Mid-phrase positions (the speech-like signal pauses 2.6–3.2 s in every 3.2 s).
+    for (const at of [1.2, 4.5, 7.7]) x.fill(0, Math.round(at * RATE), Math.round(at * RATE) + 240);
+    const result = analyse([x]);
+    expect(findingsOf(result, "dropout").map((f) => Number(f.startSeconds?.toFixed(2)))).toEqual([1.2, 4.5, 7.7]);
+    expect(findingsOf(result, "digital-silence")).toEqual([]);
+  });
+
+  it("born digital: zero pauses in speech with no noise floor are digital-silence (info), not dropouts", () => {
+    // speechLike pauses are exact zero: the file's quietest passages are digital silence.
+    const x = speechLike({ sampleRateHz: RATE, seconds: 12, rmsDbfs: -22, seed: 63 });
+    for (const at of [1.2, 4.5]) x.fill(0, Math.round(at * RATE), Math.round(at * RATE) + 240);
+    const result = analyse([x]);
+    expect(findingsOf(result, "dropout")).toEqual([]);
+    const info = findingsOf(result, "digital-silence");
+    expect(info.length).toBeGreaterThanOrEqual(2);
+    expect(info.every((f) => f.severity === "info")).toBe(true);
+    expect(info[0].message).toMatch(/born digital/);
+  });
+
+  it.runIf(espeakAvailable)("one sentence of espeak-ng speech (born digital, zero gaps in its stops) has no dropout", () => {
+    const { sampleRateHz, samples } = espeakSpeech("The ferry leaves the harbour at nine.");
+    const result = analyse([samples], { sampleRateHz });
+    expect(findingsOf(result, "dropout")).toEqual([]);
+    expect(findingsOf(result, "digital-silence").length).toBeGreaterThan(0);
+  });
+
+  it("a zero run the signal fades into is digital-silence even in an analogue transfer", () => {
+    const x = mix(pinkNoise({ sampleRateHz: RATE, seconds: 4, rmsDbfs: -20, seed: 64 }), pinkNoise({ sampleRateHz: RATE, seconds: 4, rmsDbfs: -66, seed: 65 }));
+    const start = 2 * RATE;
+    const fade = Math.round(0.1 * RATE);
+    for (let i = 0; i < fade; i++) x[start - fade + i] *= 1 - i / fade;
+    x.fill(0, start, start + Math.round(0.02 * RATE));
+    const result = analyse([x]);
+    expect(findingsOf(result, "dropout")).toEqual([]);
+    expect(findingsOf(result, "digital-silence")[0].message).toMatch(/fades to silence/);
+    // The same run cut abruptly into the signal is a dropout.
+    const cut = mix(pinkNoise({ sampleRateHz: RATE, seconds: 4, rmsDbfs: -20, seed: 64 }), pinkNoise({ sampleRateHz: RATE, seconds: 4, rmsDbfs: -66, seed: 65 }));
+    cut.fill(0, start, start + Math.round(0.02 * RATE));
+    expect(findingsOf(analyse([cut]), "dropout").length).toBe(1);
   });
 
   it("a held value for 100 samples is stuck; a quiet 16-bit 20 Hz staircase is not", async () => {

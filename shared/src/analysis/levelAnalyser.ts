@@ -71,7 +71,9 @@ export function createLevelAnalyser(format: StreamFormat, settings: AnalysisSett
       const input = block.channels;
       // Per-sample detectors first, so that run candidates exist before the windows that judge them. True
       // peak before clipping: its running maximum bounds every sample, so unclipped blocks are not rescanned.
+      dropouts.beginBlock(input, frames);
       runs.push(input, frames);
+      dropouts.endBlock();
       truePeak.push(input, frames);
       clipping.push(input, frames, truePeak.runningPeak);
       bitDepth.push(input, frames);

@@ -15,6 +15,7 @@ const BASE_SEVERITIES: ProfileInput["severities"] = {
   "silent-gap": "warn",
   "dead-channel": "fail",
   dropout: "fail",
+  "digital-silence": "info",
   "stuck-samples": "warn",
   "band-limited": "warn",
   upsampled: "warn",

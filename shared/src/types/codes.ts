@@ -35,6 +35,8 @@ export const FINDING_CODES = [
   "non-finite-samples",
   "possible-duplicate",
   "checksum-mismatch",
+  "click",
+  "digital-silence",
 ] as const;
 
 export type Verdict = (typeof VERDICTS)[number];
