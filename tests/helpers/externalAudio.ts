@@ -57,3 +57,33 @@ export function espeakSpeech(text: string, rateHz?: number): { sampleRateHz: num
     rmSync(dir, { recursive: true, force: true });
   }
 }
+
+/** Which of Debian's ffmpeg lossy encoders are built in (libmp3lame, the native aac). */
+export const ffmpegEncoders: { mp3: boolean; aac: boolean } = (() => {
+  const run = spawnSync("ffmpeg", ["-hide_banner", "-encoders"], { encoding: "utf8" });
+  const list = run.status === 0 ? run.stdout : "";
+  return { mp3: /\blibmp3lame\b/.test(list), aac: /^\s*A\S*\s+aac\s/m.test(list) };
+})();
+
+/**
+ * A lossy round trip through Debian's ffmpeg: mono float samples encoded with `codec` at `bitrate`
+ * ("320k"), decoded back to float at the same rate. The decoder's delay is left in (it does not matter
+ * to a spectrum).
+ */
+export function lossyRoundTrip(x: Float32Array, rateHz: number, codec: "libmp3lame" | "aac", bitrate: string): Float32Array {
+  const dir = mkdtempSync(join(tmpdir(), "tidemark-lossy-"));
+  try {
+    const encoded = join(dir, codec === "aac" ? "x.m4a" : "x.mp3");
+    const raw = ["-f", "f32le", "-ar", String(rateHz), "-ac", "1"];
+    const input = Buffer.from(x.buffer, x.byteOffset, x.byteLength);
+    const enc = spawnSync("ffmpeg", ["-hide_banner", "-loglevel", "error", ...raw, "-i", "-", "-c:a", codec, "-b:a", bitrate, encoded], { input });
+    if (enc.status !== 0) throw new Error(`ffmpeg ${codec} encode failed: ${enc.stderr.toString().trim()}`);
+    const dec = spawnSync("ffmpeg", ["-hide_banner", "-loglevel", "error", "-i", encoded, ...raw, "-"], { maxBuffer: 1 << 28 });
+    if (dec.status !== 0) throw new Error(`ffmpeg decode failed: ${dec.stderr.toString().trim()}`);
+    const copy = new Uint8Array(dec.stdout.length);
+    copy.set(dec.stdout);
+    return new Float32Array(copy.buffer, 0, Math.floor(copy.length / 4));
+  } finally {
+    rmSync(dir, { recursive: true, force: true });
+  }
+}

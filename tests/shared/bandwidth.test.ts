@@ -5,6 +5,8 @@ import type { SpectralAnalysisResult } from "../../shared/src/types/analysis.ts"
 import { DEFAULT_ANALYSIS_SETTINGS } from "../../shared/src/types/settings.ts";
 import { blocksOf, resampleWithSox, streamFormat, windowedSincLowpass } from "../fixtures/spectralSignals.ts";
 import { mix, pinkNoise, sine, whiteNoise } from "../fixtures/synth.ts";
+import { recordAccuracy } from "../helpers/accuracyLog.ts";
+import { ffmpegEncoders, lossyRoundTrip, soxAvailable } from "../helpers/externalAudio.ts";
 
 function analyse(channels: Float32Array[], sampleRateHz: number): SpectralAnalysisResult {
   const a = createSpectralAnalyser(streamFormat(channels, sampleRateHz), DEFAULT_ANALYSIS_SETTINGS);
@@ -88,6 +90,42 @@ describe("bandwidth and lossy-origin findings", () => {
   });
 });
 
+describe("upsampled or lossy: test material made with Debian's sox and ffmpeg", () => {
+  const pink44 = pinkNoise({ sampleRateHz: 44100, seconds: 6, rmsDbfs: -20, seed: 41 });
+  const pink48 = pinkNoise({ sampleRateHz: 48000, seconds: 6, rmsDbfs: -20, seed: 42 });
+  const row = (name: string, reference: string, expected: string, r: SpectralAnalysisResult, passed: boolean) =>
+    recordAccuracy({ measure: "bandwidth verdict", case: name, reference, expected, measured: (r.metrics.bandwidthHz ?? 0) / 1000, unit: `kHz edge → ${codes(r).join(", ") || "no finding"}`, tolerance: "verdict", passed });
+
+  it.runIf(soxAvailable)("44.1 kHz pink noise resampled to 48 kHz by sox is upsampled from 44.1 kHz", () => {
+    const r = analyse([resampleWithSox(pink44, 44100, 48000)], 48000);
+    row("pink noise, sox rate -h 44.1 → 48 kHz", "Debian sox", "upsampled from 44.1 kHz", r, codes(r).join() === "upsampled");
+    expect(codes(r)).toEqual(["upsampled"]);
+    expect(r.findings[0].message).toMatch(/from 44\.1 kHz to 48 kHz/);
+  });
+
+  it.runIf(ffmpegEncoders.mp3)("48 kHz pink noise through LAME at 320 kbit/s is band-limited (lossy origin suspected), not upsampled", () => {
+    const r = analyse([lossyRoundTrip(pink48, 48000, "libmp3lame", "320k")], 48000);
+    row("pink noise, LAME 320 kbit/s at 48 kHz", "Debian ffmpeg (libmp3lame)", "band-limited", r, codes(r).join() === "band-limited");
+    expect(codes(r)).toEqual(["band-limited"]);
+    expect(r.findings[0].message).toMatch(/lossy origin suspected/);
+    // LAME's low-pass at 320 kbit/s is near 20 kHz (common practice).
+    expect(r.metrics.bandwidthHz).toBeGreaterThan(19000);
+    expect(r.metrics.bandwidthHz).toBeLessThan(21000);
+  });
+
+  it.runIf(ffmpegEncoders.mp3)("44.1 kHz pink noise through LAME at 256 kbit/s is band-limited too", () => {
+    const r = analyse([lossyRoundTrip(pink44, 44100, "libmp3lame", "256k")], 44100);
+    row("pink noise, LAME 256 kbit/s at 44.1 kHz", "Debian ffmpeg (libmp3lame)", "band-limited", r, codes(r).join() === "band-limited");
+    expect(codes(r)).toEqual(["band-limited"]);
+  });
+
+  it("a shelf at the old Nyquist with something standing above it is not upsampled (the band must be empty to the floor)", () => {
+    const estimate = { bandwidthHz: 21700, hasShelf: true, shelfDepthDb: 80, floorSpreadDb: 30 };
+    expect(judgeBandwidth(estimate, 48000)).toBeNull();
+    expect(judgeBandwidth({ ...estimate, floorSpreadDb: 3 }, 48000)).toEqual({ code: "upsampled", fromSampleRateHz: 44100 });
+  });
+});
+
 describe("judgeBandwidth", () => {
   const shelf = (bandwidthHz: number) => ({ bandwidthHz, hasShelf: true, shelfDepthDb: 80 });
 
@@ -105,13 +143,17 @@ describe("judgeBandwidth", () => {
     [16000, 48000],
     [15000, 44100],
     [12000, 96000],
+    // An encoder's steep low-pass between 15 and 20.5 kHz at 44.1/48 kHz (its −40 dB point a little higher).
+    [20540, 48000],
+    [19900, 44100],
+    [20500, 44100],
   ])("an edge at %i Hz in a %i Hz file is band-limited", (edgeHz, rateHz) => {
     expect(judgeBandwidth(shelf(edgeHz), rateHz)).toEqual({ code: "band-limited" });
   });
 
   it("accepts a converter's own anti-alias edge just below Nyquist", () => {
-    // 0.9 × Nyquist is where ADC anti-alias filters start (common practice): no finding.
-    expect(judgeBandwidth(shelf(19900), 44100)).toBeNull();
+    // An ADC's anti-alias filter is 40 dB down only near Nyquist (0.95 × Nyquist and up, common practice): no finding.
+    expect(judgeBandwidth(shelf(21200), 44100)).toBeNull();
     expect(judgeBandwidth({ bandwidthHz: 24000, hasShelf: false, shelfDepthDb: 0 }, 48000)).toBeNull();
   });
 });

@@ -27,9 +27,24 @@ export const BAND_LIMITED_MAX_FRACTION_OF_NYQUIST = 0.85;
  * that `band-limited` is the safer reading.
  */
 export const STANDARD_SAMPLE_RATES_HZ = [44100, 48000, 88200, 96000, 176400, 192000] as const;
-/** A resampler's edge sits just under the old Nyquist: accept 88 % … 101 % of it (common practice). */
-const UPSAMPLED_EDGE_MIN_FRACTION = 0.88;
+/**
+ * A resampler's edge (the −40 dB point) sits just under the old Nyquist: 95 % … 101 % of it. Measured:
+ * sox `rate -h` 44.1 → 48 kHz puts it at 98.5 %; a lossy encoder's low-pass sits lower — LAME at 320 kbit/s
+ * and 48 kHz at 20.54 kHz, 93 % of 22.05 kHz — and must not read as upsampled (tests/shared/bandwidth.test.ts).
+ */
+const UPSAMPLED_EDGE_MIN_FRACTION = 0.95;
 const UPSAMPLED_EDGE_MAX_FRACTION = 1.01;
+/**
+ * Upsampled also needs the band above the edge empty to the noise floor: the smoothed spectrum there may
+ * rise at most this far above its own median (a resampler leaves a flat floor; common practice).
+ */
+const UPSAMPLED_MAX_FLOOR_SPREAD_DB = 12;
+/**
+ * At 44.1 and 48 kHz, lossy encoders low-pass between about 15 and 20.5 kHz (common practice); with the
+ * −40 dB point a little above the nominal cut-off, a shelf from 15 kHz up to the upsampled range is lossy.
+ */
+const LOSSY_EDGE_MIN_HZ = 15000;
+const LOSSY_RATES_HZ = [44100, 48000];
 
 export interface BandwidthEstimate {
   /** Highest frequency within `thresholdDb` of the in-band level below the shelf; Nyquist when there is no shelf. */
@@ -37,6 +52,8 @@ export interface BandwidthEstimate {
   hasShelf: boolean;
   /** In-band level (dB, mean over 1/3 octave below the edge) minus the highest level above the gap. */
   shelfDepthDb: number;
+  /** Above the gap: the highest smoothed level minus the median, dB (0 without a shelf). Small when empty to the floor. */
+  floorSpreadDb?: number;
 }
 
 export type BandwidthVerdict =
@@ -87,7 +104,9 @@ export function estimateBandwidth(s: LongTermSpectrum, thresholdDb: number): Ban
       depthDb = referenceDb - beyondDb;
     }
   }
-  if (edgeBin < 0) return { bandwidthHz: nyquistHz, hasShelf: false, shelfDepthDb: 0 };
+  if (edgeBin < 0) return { bandwidthHz: nyquistHz, hasShelf: false, shelfDepthDb: 0, floorSpreadDb: 0 };
+  const above = smoothed.slice(gapBin, top + 1).sort();
+  const floorSpreadDb = above.length > 0 ? above[above.length - 1] - above[(above.length - 1) >> 1] : 0;
 
   // The edge itself: the highest frequency still within thresholdDb of the in-band reference.
   const referenceDb = meanOver(Math.floor(edgeBin / referenceRatio), edgeBin);
@@ -95,24 +114,31 @@ export function estimateBandwidth(s: LongTermSpectrum, thresholdDb: number): Ban
   let j = gapBin;
   while (j > 0 && smoothed[j] < limitDb) j--;
   // Linear interpolation of the crossing between bins j (above the limit) and j + 1 (below it).
-  const above = smoothed[j];
-  const below = smoothed[j + 1];
-  const fraction = above > below ? (above - limitDb) / (above - below) : 0;
-  return { bandwidthHz: (j + fraction) * s.binHz, hasShelf: true, shelfDepthDb: depthDb };
+  const levelAbove = smoothed[j];
+  const levelBelow = smoothed[j + 1];
+  const fraction = levelAbove > levelBelow ? (levelAbove - limitDb) / (levelAbove - levelBelow) : 0;
+  return { bandwidthHz: (j + fraction) * s.binHz, hasShelf: true, shelfDepthDb: depthDb, floorSpreadDb };
 }
 
-/** Decides whether a shelf means `upsampled` (edge at a lower standard rate's Nyquist) or `band-limited`. */
+/**
+ * Decides whether a shelf means `upsampled` or `band-limited`. Upsampled: the edge sits at 95–101 % of a
+ * lower standard rate's Nyquist and the band above it is empty to the noise floor. Band-limited (lossy
+ * origin suspected): any other shelf below 85 % of Nyquist, or at 44.1/48 kHz a shelf from 15 kHz up to
+ * the upsampled range (an encoder's steep low-pass).
+ */
 export function judgeBandwidth(estimate: BandwidthEstimate, sampleRateHz: number): BandwidthVerdict {
   if (!estimate.hasShelf) return null;
   const edgeHz = estimate.bandwidthHz;
+  const isEmptyAbove = (estimate.floorSpreadDb ?? 0) <= UPSAMPLED_MAX_FLOOR_SPREAD_DB;
   for (const rateHz of STANDARD_SAMPLE_RATES_HZ) {
     if (rateHz >= sampleRateHz) break;
     const lowerNyquistHz = rateHz / 2;
-    if (edgeHz >= UPSAMPLED_EDGE_MIN_FRACTION * lowerNyquistHz && edgeHz <= UPSAMPLED_EDGE_MAX_FRACTION * lowerNyquistHz) {
+    if (isEmptyAbove && edgeHz >= UPSAMPLED_EDGE_MIN_FRACTION * lowerNyquistHz && edgeHz <= UPSAMPLED_EDGE_MAX_FRACTION * lowerNyquistHz) {
       return { code: "upsampled", fromSampleRateHz: rateHz };
     }
   }
   if (edgeHz < BAND_LIMITED_MAX_FRACTION_OF_NYQUIST * (sampleRateHz / 2)) return { code: "band-limited" };
+  if (LOSSY_RATES_HZ.includes(sampleRateHz) && edgeHz >= LOSSY_EDGE_MIN_HZ && edgeHz < UPSAMPLED_EDGE_MIN_FRACTION * 22050) return { code: "band-limited" };
   return null;
 }
 

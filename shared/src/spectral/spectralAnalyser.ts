@@ -295,7 +295,7 @@ function bandwidthMessage(
     );
   }
   return (
-    `Energy stops at ${formatKhz(e.bandwidthHz)} (a ${depth} shelf within 1/6 octave), well below the ` +
+    `Energy stops at ${formatKhz(e.bandwidthHz)} (a ${depth} shelf within 1/6 octave), below the ` +
     `${formatKhz(sampleRateHz / 2)} Nyquist frequency: lossy origin suspected`
   );
 }
