@@ -249,10 +249,11 @@ describe("dropouts and stuck samples", () => {
   it("an analogue transfer (noise floor everywhere) keeps its dropouts as fails, several of them", () => {
     const floor = pinkNoise({ sampleRateHz: RATE, seconds: 12, rmsDbfs: -66, seed: 61 });
     const x = mix(speechLike({ sampleRateHz: RATE, seconds: 12, rmsDbfs: -22, seed: 62 }), floor);
-    // Mid-phrase positions (the speech-like signal pauses 2.6–3.2 s in every 3.2 s).
-    for (const at of [1.2, 4.5, 7.7]) x.fill(0, Math.round(at * RATE), Math.round(at * RATE) + 240);
+    // Mid-phrase positions (the speech-like signal pauses 2.6–3.2 s in every 3.2 s); at 2.0 s its syllable
+    // envelope is at zero, so the run cuts into the noise floor alone: still a dropout, not a fade.
+    for (const at of [1.2, 2.0, 4.5, 7.7]) x.fill(0, Math.round(at * RATE), Math.round(at * RATE) + 240);
     const result = analyse([x]);
-    expect(findingsOf(result, "dropout").map((f) => Number(f.startSeconds?.toFixed(2)))).toEqual([1.2, 4.5, 7.7]);
+    expect(findingsOf(result, "dropout").map((f) => Number(f.startSeconds?.toFixed(2)))).toEqual([1.2, 2.0, 4.5, 7.7]);
     expect(findingsOf(result, "digital-silence")).toEqual([]);
   });
 

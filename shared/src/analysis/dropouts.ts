@@ -8,8 +8,9 @@
  *    QUIET_SHARE of the 50 ms windows between the first and last signal, at least BORN_DIGITAL_SHARE hold
  *    a run of exact zero (an analogue transfer has its noise floor there, and its dropouts sit in signal); or
  *  - the signal fades into the run or rises out of it: the EDGE_SECONDS just before (or after) the run are
- *    FADE_DB below the 50 ms window beyond them, or under the silence threshold. A dropout cuts the
- *    signal at its running level; edited or synthesised speech fades to zero between words.
+ *    FADE_DB below the 50 ms window beyond them and FLOOR_MARGIN_DB below the file's own noise floor (the
+ *    10th percentile of window levels). A dropout cuts the signal at its running level, or at worst at the
+ *    noise floor in a pause between syllables; a fade to digital zero passes under the floor first.
  * Decisions wait for the end of the file (born digital is a whole-file property); the candidates are kept
  * up to MAX_CANDIDATES, and any beyond are counted into one closing finding, never dropped silently.
  */
@@ -31,8 +32,10 @@ const HIST_LOWEST_DB = -200;
 const HIST_BINS = 420;
 /** The run's edges: the signal this close to it is compared with the window beyond (5 ms). */
 const EDGE_SECONDS = 0.005;
-/** A fade: the edge at least this far below the neighbouring 50 ms window (common practice). */
+/** A fade: the edge at least this far below the neighbouring 50 ms window (common practice) … */
 export const FADE_DB = 20;
+/** … and this far below the noise floor, where the signal's own pauses never go. */
+export const FLOOR_MARGIN_DB = 6;
 /** Candidates kept for the end-of-file decision. */
 const MAX_CANDIDATES = 10000;
 
@@ -115,15 +118,16 @@ export function createDropoutDetector(
     return sum / (to - from);
   };
 
-  const isFade = (edge: number, beyond: number): boolean => !Number.isNaN(edge) && (edge < thresholdPower || edge <= beyond * dbToPower(-FADE_DB));
+  const isFade = (edge: number, beyond: number, floor: number): boolean =>
+    !Number.isNaN(edge) && edge <= beyond * dbToPower(-FADE_DB) && edge <= floor * dbToPower(-FLOOR_MARGIN_DB);
 
-  const report = (k: Candidate, bornDigital: boolean) => {
+  const report = (k: Candidate, bornDigital: boolean, floor: number) => {
     const start = k.startFrame / sampleRateHz;
     const end = k.endFrame / sampleRateHz;
     const ms = (((k.endFrame - k.startFrame) / sampleRateHz) * 1000).toFixed(1);
     const where = `${ms} ms of digital zero on ${channelLabel(k.channel)} at ${formatTimestamp(start)} (${k.endFrame - k.startFrame} samples)`;
     const around = `between signal at ${formatDb(powerToDb(k.beforePower))} and ${formatDb(powerToDb(k.afterPower))} dBFS RMS`;
-    const faded = isFade(k.beforeEdgePower, k.beforePower) || isFade(k.afterEdgePower, k.afterPower);
+    const faded = isFade(k.beforeEdgePower, k.beforePower, floor) || isFade(k.afterEdgePower, k.afterPower, floor);
     if (bornDigital || faded) {
       const why = bornDigital ? "the file is born digital (its quietest passages are digital silence)" : "the signal fades to silence at the run";
       onFinding({ code: "digital-silence", severity: "info", channel: k.channel, startSeconds: start, endSeconds: end, message: `${where}, ${around}: ${why}, so no dropout` });
@@ -235,7 +239,8 @@ export function createDropoutDetector(
       // Runs whose following window never came are at the very end of the file: tail, not dropout.
       pending.length = 0;
       const bornDigital = isBornDigital(allHist, zeroHist);
-      for (const k of decided) report(k, bornDigital);
+      const floor = floorPower(allHist);
+      for (const k of decided) report(k, bornDigital, floor);
       if (overflow > 0) {
         onFinding({
           code: bornDigital ? "digital-silence" : "dropout",
@@ -263,4 +268,18 @@ function isBornDigital(allHist: Uint32Array, zeroHist: Uint32Array): boolean {
     zeros += zeroHist[b];
   }
   return zeros >= BORN_DIGITAL_SHARE * seen;
+}
+
+/** The noise floor: 10th percentile of the inner windows that are not all zero (as noiseFloor.ts), as power. */
+function floorPower(allHist: Uint32Array): number {
+  let total = 0;
+  for (let b = 1; b < allHist.length; b++) total += allHist[b];
+  if (total === 0) return 0;
+  const rank = Math.max(1, Math.ceil(total * QUIET_SHARE));
+  let seen = 0;
+  for (let b = 1; b < allHist.length; b++) {
+    seen += allHist[b];
+    if (seen >= rank) return 10 ** ((HIST_LOWEST_DB + (b + 1) * HIST_BIN_DB) / 10);
+  }
+  return 0;
 }
