@@ -12,6 +12,7 @@ import type { ChannelMetrics, Finding } from "../types/report.ts";
 import type { AnalysisSettings } from "../types/settings.ts";
 import { createBitDepthMeter, paddedBitDepthFinding } from "./bitDepth.ts";
 import { createChannelLevelTotals, dcOffsetPercent, rmsAmplitude } from "./channelLevels.ts";
+import { createClickDetector } from "./clicks.ts";
 import { clipRegionFinding, createClipDetector, nearClipFinding } from "./clipping.ts";
 import { amplitudeToDb, dbOrNull } from "./decibels.ts";
 import { createDropoutDetector } from "./dropouts.ts";
@@ -36,6 +37,7 @@ export function createLevelAnalyser(format: StreamFormat, settings: AnalysisSett
   const truePeak = createTruePeakMeter(sampleRateHz, channels);
   const clipping = createClipDetector(format, settings, (region) => add(clipRegionFinding(region, sampleRateHz)));
   const bitDepth = createBitDepthMeter(format);
+  const clicks = createClickDetector(sampleRateHz, channels, settings);
   const totals = createChannelLevelTotals(channels);
   const silence = createSilenceDetector(sampleRateHz, channels, settings, lfeChannelIndex(channels, format.channelMask));
   const noiseFloor = createNoiseFloorEstimator(channels);
@@ -77,6 +79,7 @@ export function createLevelAnalyser(format: StreamFormat, settings: AnalysisSett
       truePeak.push(input, frames);
       clipping.push(input, frames, truePeak.runningPeak);
       bitDepth.push(input, frames);
+      clicks.push(input, frames);
       stereo?.push(input, frames);
       loudness.push(input, frames);
       windows.push(input, frames);
@@ -95,6 +98,7 @@ export function createLevelAnalyser(format: StreamFormat, settings: AnalysisSett
       const peaks = truePeak.finish();
       const effectiveBitDepth = bitDepth.finish();
       for (const f of silence.finish(framesSeen)) add(f);
+      for (const f of clicks.finish().findings) add(f);
       const stereoResult = stereo ? stereo.finish(silence.channelHasSignal, add) : null;
 
       const perChannel: ChannelMetrics[] = [];

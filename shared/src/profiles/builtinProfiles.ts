@@ -17,6 +17,7 @@ const BASE_SEVERITIES: ProfileInput["severities"] = {
   dropout: "fail",
   "digital-silence": "info",
   "stuck-samples": "warn",
+  click: "warn",
   "band-limited": "warn",
   upsampled: "warn",
   hum: "warn",

@@ -60,6 +60,7 @@ export const settingsOverrideSchema = z.strictObject({
   silenceMinSeconds: z.number().positive().optional(),
   dropoutMinSeconds: z.number().positive().optional(),
   deadChannelIncludesLfe: z.boolean().optional(),
+  clickThresholdDb: z.number().min(6).max(80).optional(),
   stuckMinSamples: z.number().int().min(2).optional(),
   imbalanceDb: z.number().positive().optional(),
   dualMonoCorrelation: z.number().min(-1).max(1).optional(),

@@ -20,6 +20,11 @@ export interface AnalysisSettings {
    * for the LFE (common practice), so by default it is left out of the dead-channel check.
    */
   deadChannelIncludesLfe: boolean;
+  /**
+   * A click's AR prediction residual must stand this far above the residual's robust local level
+   * (1.4826 × median absolute residual), dB. See analysis/clicks.ts for the default's measured false alarms.
+   */
+  clickThresholdDb: number;
   /** Minimum run of identical non-zero samples that counts as stuck (16). */
   stuckMinSamples: number;
   /** RMS difference between channels that gives `channel-imbalance`, dB (3). */
@@ -53,6 +58,7 @@ export const DEFAULT_ANALYSIS_SETTINGS: AnalysisSettings = {
   silenceMinSeconds: 2,
   dropoutMinSeconds: 0.001,
   deadChannelIncludesLfe: false,
+  clickThresholdDb: 40,
   stuckMinSamples: 16,
   imbalanceDb: 3,
   dualMonoCorrelation: 0.999,
