@@ -69,16 +69,16 @@ function score(found: Finding[], at: number[]): { hits: number; falseAlarms: num
   return { hits, falseAlarms: found.length - used.size, worstOffsetMs: worst };
 }
 
-function record(name: string, reference: string, planted: number, result: { hits: number; falseAlarms: number }): void {
+function record(name: string, reference: string, planted: number, result: { hits: number; falseAlarms: number }, reportOnly = false): void {
   recordAccuracy({
     measure: "clicks found",
     case: name,
     reference,
-    expected: `${planted} of ${planted}, 0 false`,
+    expected: reportOnly ? `(measured only; ${planted} planted)` : `${planted} of ${planted}, 0 false`,
     measured: result.hits,
-    unit: `found, ${result.falseAlarms} false`,
-    tolerance: "±2 ms",
-    passed: result.hits === planted && result.falseAlarms === 0,
+    unit: `of ${planted} found, ${result.falseAlarms} false`,
+    tolerance: "within 2 ms",
+    passed: reportOnly || (result.hits === planted && result.falseAlarms === 0),
   });
 }
 
@@ -157,7 +157,7 @@ describe.runIf(espeakAvailable)("clicks over synthesised speech (espeak-ng, resa
   it("reports what it finds at +12 dB (weaker clicks hide among the voice's own pulses)", () => {
     const at = voicedPositions(10, 13);
     const result = score(detect(plant(speech, at, [1, -0.6, 0.3], { aboveLocalDb: 12 })), at);
-    record("3-sample clicks +12 dB re local RMS over espeak-ng speech", "planted by the test; espeak-ng", at.length, result);
+    record("3-sample clicks +12 dB re local RMS over espeak-ng speech", "planted by the test; espeak-ng", at.length, result, true);
     expect(result.hits).toBeGreaterThanOrEqual(1);
   });
 

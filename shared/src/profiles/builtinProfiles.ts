@@ -34,6 +34,24 @@ const BASE_SEVERITIES: ProfileInput["severities"] = {
   "checksum-mismatch": "fail",
 };
 
+/**
+ * The detection rules every built-in states in its sources (so `tidemark profiles` shows them), with the
+ * defaults of the settings behind them (shared/src/types/settings.ts). The fade and born-digital margins,
+ * the LFE rule and the lossy low-pass range are common practice; the click method is Godsill & Rayner's.
+ */
+const DETECTION_RULES = [
+  "dropout vs digital-silence: a run of digital zero (≥ 1 ms, < 2 s) inside continuous signal is a dropout (fail); in a born-digital file " +
+    "(half of its quietest 10 % of 50 ms windows hold digital zero) or where the signal fades into the run (its 5 ms edge 20 dB under the " +
+    "signal beside it and 6 dB under the noise floor) it is digital-silence (info)",
+  "click: an impulsive disturbance (≤ 5 ms) whose AR(16) prediction residual stands clickThresholdDb (default 40 dB) above the residual's " +
+    "robust local level (1.4826 × median absolute residual), per Godsill & Rayner, Digital Audio Restoration (1998); default measured at " +
+    "0 false alarms in 10 min of pink noise (scripts/click-false-alarms.ts)",
+  "dead-channel: a silent LFE channel (WAVE_FORMAT_EXTENSIBLE mask, else the default 5.1/7.1 order) is normal and not checked unless " +
+    "deadChannelIncludesLfe is true",
+  "upsampled: a shelf at 95–101 % of a lower standard rate's Nyquist with an empty band above it; a steeper low-pass from 15 kHz up at " +
+    "44.1/48 kHz is band-limited, lossy origin suspected",
+];
+
 // Common practice: |DC| under 0.1 % of full scale is inaudible and harmless; 1 % costs headroom.
 const DC_OFFSET_LIMITS = { warn: 0.1, fail: 1 };
 
@@ -46,6 +64,7 @@ const preservationMaster: ProfileInput = {
   sources: [
     "IASA TC-04 (2nd ed., 2009): 48 kHz / 24-bit minimum for analogue transfers, 96 kHz recommended",
     "README › Profiles: |DC| < 0.1 % FS warn / 1 % fail (common practice)",
+    ...DETECTION_RULES,
   ],
   format: { encodings: ["pcm"], minSampleRateHz: 48000, minBitDepth: 24 },
   thresholds: { dcOffsetPercent: DC_OFFSET_LIMITS },
@@ -59,6 +78,7 @@ const accessCopy: ProfileInput = {
   sources: [
     "Red Book CD audio: 44.1 kHz / 16-bit (common practice)",
     "−1 dBTP leaves headroom for lossy encoding of access copies (common practice)",
+    ...DETECTION_RULES,
   ],
   format: { minSampleRateHz: 44100, minBitDepth: 16 },
   thresholds: { truePeakDbtp: { fail: -1 }, dcOffsetPercent: DC_OFFSET_LIMITS },
@@ -74,6 +94,7 @@ const broadcastLoudness: ProfileInput = {
   sources: [
     "EBU R 128 (2020): target −23.0 LUFS, tolerance ± 0.5 LU (± 1 LU where normalisation is not feasible), max true peak −1 dBTP",
     "ITU-R BS.1770-4: integrated loudness and true-peak measurement",
+    ...DETECTION_RULES,
   ],
   format: {},
   thresholds: {
