@@ -8,6 +8,7 @@ import { createHash } from "node:crypto";
 import { readFile } from "node:fs/promises";
 import { createBitDepthMeter } from "@tidemark/shared/analysis/bitDepth";
 import { createChannelLevelTotals } from "@tidemark/shared/analysis/channelLevels";
+import { createClickDetector } from "@tidemark/shared/analysis/clicks";
 import { createClipDetector } from "@tidemark/shared/analysis/clipping";
 import { createLevelAnalyser } from "@tidemark/shared/analysis/levelAnalyser";
 import { createLevelWindows } from "@tidemark/shared/analysis/levelWindows";
@@ -65,6 +66,11 @@ export async function runStages(file: string, maxSeconds: number, repeats: numbe
     },
     clipping: () => {
       const c = createClipDetector(format, settings, () => undefined);
+      feed((x, n) => c.push(x, n));
+      c.finish();
+    },
+    clicks: () => {
+      const c = createClickDetector(format.sampleRateHz, format.channels, settings);
       feed((x, n) => c.push(x, n));
       c.finish();
     },
