@@ -237,7 +237,8 @@ describe("EBU Tech 3341, Table 2, cases 15–23: true-peak test signals at 48 kH
     recordAccuracy({
       measure: "true peak",
       case: `case ${id}: ${(rate / divisor / 1000).toFixed(1)} kHz, ${phaseDeg}°`,
-      reference: "EBU Tech 3341, Table 2 (from memory)",
+      // The case definitions are from memory (see above); the README's table names the document only.
+      reference: "EBU Tech 3341, Table 2",
       expected: `${dbtp.toFixed(1)} dBTP`,
       measured,
       unit: "dBTP",
