@@ -1,9 +1,11 @@
-import { useState, type CSSProperties } from "react";
+import { useState, type CSSProperties, type PointerEvent } from "react";
 import type { FindingDto } from "@tidemark/shared/types/api";
 import type { Severity } from "@tidemark/shared/types/report";
 import { wracklineCssGradient } from "@tidemark/shared/render/colourMap";
 import { SPECTROGRAM_DB_RANGE } from "@tidemark/shared/render/spectrogramImage";
 import { formatTimestamp } from "../../format/units.ts";
+import { cellAt, readoutOf, type LevelGrid, type Readout } from "./levelGrid.ts";
+import { levelColour } from "./levelColour.ts";
 import { placeFindings, plotAreaInset, type TimedFinding, SPECTROGRAM_MARGINS, WAVEFORM_MARGINS, type Margins, type NaturalSize } from "./plotGeometry.ts";
 
 const MARKER_FILL: Record<Severity, string> = {
@@ -89,9 +91,11 @@ interface PlotImageProps {
   markers: Omit<MarkerLayerProps, "interactive">;
   interactive: boolean;
   missingText: string;
+  /** Pointer position over the plot area as fractions (0–1) of its width and height; null when it leaves. */
+  onPointer?: (at: { fx: number; fy: number } | null) => void;
 }
 
-function PlotImage({ src, alt, margins, markers, interactive, missingText }: PlotImageProps) {
+function PlotImage({ src, alt, margins, markers, interactive, missingText, onPointer }: PlotImageProps) {
   const [size, setSize] = useState<NaturalSize | null>(null);
   const [failed, setFailed] = useState(false);
   if (failed) {
@@ -107,7 +111,19 @@ function PlotImage({ src, alt, margins, markers, interactive, missingText }: Plo
         onError={() => setFailed(true)}
       />
       {size && size.width > 0 && size.height > 0 && markers.durationSeconds > 0 && (
-        <div className="absolute" style={plotAreaInset(margins, size)} data-plot-area>
+        <div
+          className="absolute"
+          style={plotAreaInset(margins, size)}
+          data-plot-area
+          onPointerMove={
+            onPointer &&
+            ((e: PointerEvent<HTMLDivElement>) => {
+              const rect = e.currentTarget.getBoundingClientRect();
+              if (rect.width > 0 && rect.height > 0) onPointer({ fx: (e.clientX - rect.left) / rect.width, fy: (e.clientY - rect.top) / rect.height });
+            })
+          }
+          onPointerLeave={onPointer && (() => onPointer(null))}
+        >
           <MarkerLayer {...markers} interactive={interactive} />
         </div>
       )}
@@ -123,11 +139,46 @@ interface SpectrogramViewProps {
   findings: FindingDto[];
   selectedId: number | null;
   onSelect: (id: number) => void;
+  /** The level grid behind the spectrogram's colours; with it, the pointer reads time, frequency and level. */
+  levelGrid?: LevelGrid | null;
+}
+
+/** Frequencies to the hertz below 10 kHz: the read-out is checked against a known tone. */
+export function formatReadoutHz(hz: number): string {
+  return hz >= 10_000 ? `${(hz / 1000).toFixed(2)} kHz` : `${Math.round(hz)} Hz`;
+}
+
+function ReadoutLine({ grid, readout }: { grid: LevelGrid | null | undefined; readout: Readout | null }) {
+  if (!grid) return null;
+  if (!readout) return <p className="px-1 text-xs text-white/70" data-readout="none">Point at the spectrogram to read time, frequency and level.</p>;
+  const level = readout.levelDbfs === null ? `\u2264 \u2212${Math.abs(grid.dbMin)} dBFS` : `${readout.levelDbfs < 0 ? "\u2212" : ""}${Math.abs(readout.levelDbfs).toFixed(1)} dBFS`;
+  return (
+    <p
+      className="flex flex-wrap items-center gap-x-4 px-1 font-mono text-xs text-white"
+      data-readout
+      data-seconds={readout.seconds.toFixed(4)}
+      data-frequency-hz={readout.frequencyHz.toFixed(2)}
+      data-level-dbfs={readout.levelDbfs === null ? "" : readout.levelDbfs.toFixed(2)}
+    >
+      <span>Time {formatTimestamp(readout.seconds)}</span>
+      <span>Frequency {formatReadoutHz(readout.frequencyHz)}</span>
+      <span className="inline-flex items-center gap-1">
+        <span aria-hidden="true" className="inline-block h-3 w-3 rounded-sm border border-white/40" style={{ backgroundColor: levelColour(readout.level) }} />
+        Level {level}
+      </span>
+    </p>
+  );
 }
 
 /** The server's spectrogram with its waveform strip below, both with finding markers on the same time axis. */
-export function SpectrogramView({ spectrogramUrl, waveformUrl, path, durationSeconds, findings, selectedId, onSelect }: SpectrogramViewProps) {
+export function SpectrogramView({ spectrogramUrl, waveformUrl, path, durationSeconds, findings, selectedId, onSelect, levelGrid }: SpectrogramViewProps) {
   const markers = { findings, durationSeconds: durationSeconds ?? 0, selectedId, onSelect };
+  const [readout, setReadout] = useState<Readout | null>(null);
+  // Fractions of the plot area, so the contract's formula runs on a unit plot (§2).
+  const onPointer = (at: { fx: number; fy: number } | null) => {
+    const cell = levelGrid && at ? cellAt(levelGrid, { left: 0, top: 0, width: 1, height: 1 }, at.fx, at.fy) : null;
+    setReadout(levelGrid && cell ? readoutOf(levelGrid, cell) : null);
+  };
   if (!spectrogramUrl && !waveformUrl) {
     return (
       <p className="rounded-md border border-dashed border-line-strong bg-surface px-4 py-6 text-center text-ink-muted">
@@ -145,6 +196,7 @@ export function SpectrogramView({ spectrogramUrl, waveformUrl, path, durationSec
             margins={SPECTROGRAM_MARGINS}
             markers={markers}
             interactive
+            onPointer={levelGrid ? onPointer : undefined}
             missingText="The spectrogram image could not be loaded. It may have been removed from storage; reload to try again."
           />
         )}
@@ -159,6 +211,7 @@ export function SpectrogramView({ spectrogramUrl, waveformUrl, path, durationSec
           />
         )}
       </div>
+      <ReadoutLine grid={levelGrid} readout={readout} />
       <figcaption className="mt-2 flex flex-wrap gap-x-4 gap-y-1 px-1 text-xs text-white/85">
         <span>Markers:</span>
         <LegendSwatch color="var(--color-marker-fail)" label="fail" />

@@ -1,0 +1,84 @@
+/**
+ * The file page's keys. Single letters without modifiers, ignored while typing in a form control, so
+ * browser and screen-reader shortcuts keep working. Space on a focused button stays that button's.
+ */
+import { useEffect } from "react";
+
+export interface FileShortcutActions {
+  togglePlay: () => void;
+  nextFinding: () => void;
+  previousFinding: () => void;
+  accept: () => void;
+  flag: () => void;
+  toggleLoop: () => void;
+  previousFile: () => void;
+  nextFile: () => void;
+  toggleHelp: () => void;
+  closeHelp: () => void;
+}
+
+/** Shown in the page's "?" help, in this order; the hook below is the only place the keys are bound. */
+export const FILE_SHORTCUTS: ReadonlyArray<{ keys: string[]; does: string }> = [
+  { keys: ["Space"], does: "play or pause the open close-up" },
+  { keys: ["n"], does: "next finding (opens its close-up)" },
+  { keys: ["p"], does: "previous finding" },
+  { keys: ["l"], does: "loop the close-up on or off" },
+  { keys: ["a"], does: "accept: picks “accepted” and puts the cursor in the reason (optional); Enter saves" },
+  { keys: ["f"], does: "flag: picks “flagged” and puts the cursor in the reason (required); Enter saves" },
+  { keys: ["["], does: "previous file of the list you came from" },
+  { keys: ["]"], does: "next file of the list" },
+  { keys: ["?"], does: "show or hide this help" },
+];
+
+function isTyping(target: EventTarget | null): boolean {
+  if (!(target instanceof HTMLElement)) return false;
+  if (target.isContentEditable) return true;
+  return target.matches("input, textarea, select, [role='textbox']");
+}
+
+export function useFileShortcuts(actions: FileShortcutActions): void {
+  useEffect(() => {
+    function onKeyDown(event: KeyboardEvent) {
+      if (event.defaultPrevented || event.altKey || event.ctrlKey || event.metaKey || isTyping(event.target)) return;
+      const onControl = event.target instanceof HTMLElement && event.target.matches("button, a, [role='button'], summary");
+      const run = (action: () => void) => {
+        event.preventDefault();
+        action();
+      };
+      switch (event.key) {
+        case " ":
+          if (!onControl) run(actions.togglePlay);
+          break;
+        case "n":
+          run(actions.nextFinding);
+          break;
+        case "p":
+          run(actions.previousFinding);
+          break;
+        case "l":
+          run(actions.toggleLoop);
+          break;
+        case "a":
+          run(actions.accept);
+          break;
+        case "f":
+          run(actions.flag);
+          break;
+        case "[":
+          run(actions.previousFile);
+          break;
+        case "]":
+          run(actions.nextFile);
+          break;
+        case "?":
+          run(actions.toggleHelp);
+          break;
+        case "Escape":
+          actions.closeHelp();
+          break;
+      }
+    }
+    document.addEventListener("keydown", onKeyDown);
+    return () => document.removeEventListener("keydown", onKeyDown);
+  }, [actions]);
+}
