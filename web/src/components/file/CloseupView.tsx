@@ -107,8 +107,8 @@ export function CloseupView({ closeup, findings, selectedFindingId, channels, pa
   const player = useExcerptPlayer(channels);
   const [cautionOpen, setCautionOpen] = useState(false);
   const inWindow = findings.filter((f) => closeup.findingIds.includes(f.id));
-  const playheadSeconds = closeup.startSeconds + player.currentSeconds;
-  const { seek, setSolo, play, pause, isPlaying, setLoop, loop, solo } = player;
+  const { seek, setSolo, play, pause, isPlaying, setLoop, loop, solo, audioRef, canSolo, gainDb, setGainDb, error: playerError, currentSeconds } = player;
+  const playheadSeconds = closeup.startSeconds + currentSeconds;
 
   useEffect(() => {
     if (!jump) return;
@@ -157,7 +157,7 @@ export function CloseupView({ closeup, findings, selectedFindingId, channels, pa
       </div>
       {closeup.excerptUrl ? (
         <div className="mt-2 flex flex-wrap items-center gap-x-4 gap-y-2 rounded bg-surface px-2 py-2 text-sm text-ink">
-          <audio ref={player.audioRef} src={closeup.excerptUrl} preload="metadata" data-excerpt />
+          <audio ref={audioRef} src={closeup.excerptUrl} preload="metadata" data-excerpt />
           <button
             type="button"
             onClick={togglePlay}
@@ -179,9 +179,9 @@ export function CloseupView({ closeup, findings, selectedFindingId, channels, pa
             <select
               value={solo === null ? "" : String(solo)}
               onChange={(e) => setSolo(e.target.value === "" ? null : Number(e.target.value))}
-              disabled={!player.canSolo}
+              disabled={!canSolo}
               className="rounded border border-line-strong bg-surface px-1.5 py-0.5"
-              title={player.canSolo ? "Solo one channel, heard in both ears" : "Solo needs a recording with more than one channel"}
+              title={canSolo ? "Solo one channel, heard in both ears" : "Solo needs a recording with more than one channel"}
             >
               <option value="">All channels</option>
               {Array.from({ length: channels }, (_, c) => (
@@ -198,11 +198,11 @@ export function CloseupView({ closeup, findings, selectedFindingId, channels, pa
               min={GAIN_MIN_DB}
               max={GAIN_MAX_DB}
               step={1}
-              value={player.gainDb}
-              onChange={(e) => player.setGainDb(Number(e.target.value))}
-              aria-valuetext={`${player.gainDb} dB`}
+              value={gainDb}
+              onChange={(e) => setGainDb(Number(e.target.value))}
+              aria-valuetext={`${gainDb} dB`}
             />
-            <span className="w-14 font-mono text-xs">{player.gainDb === 0 ? "0 dB" : `\u2212${Math.abs(player.gainDb)} dB`}</span>
+            <span className="w-14 font-mono text-xs">{gainDb === 0 ? "0 dB" : `\u2212${Math.abs(gainDb)} dB`}</span>
           </label>
         </div>
       ) : (
@@ -218,9 +218,9 @@ export function CloseupView({ closeup, findings, selectedFindingId, channels, pa
           onCancel={() => setCautionOpen(false)}
         />
       )}
-      {player.error && (
+      {playerError && (
         <p role="alert" className="mt-2 rounded bg-fail-soft px-2 py-1.5 text-sm text-fail">
-          {player.error}
+          {playerError}
         </p>
       )}
     </div>
