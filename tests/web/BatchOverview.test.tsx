@@ -49,6 +49,7 @@ describe("batch overview", () => {
     const strip = await screen.findByRole("region", { name: "At a glance" });
     expect(within(strip).getByText("2 outside the limits")).toBeTruthy();
     expect(within(strip).getByText("1 outside the limits")).toBeTruthy();
+    await waitFor(() => expect(charts.filter((c) => !c.destroyed)).toHaveLength(2));
     const live = charts.filter((c) => !c.destroyed);
     expect(live.map((c) => c.data[1])).toEqual([
       [-26.1, -23.2, -18.4],

@@ -1,15 +1,13 @@
 /**
- * The one wrapper around uPlot: the chart is created when the element mounts, rebuilt when its options or
- * data change, resized with its container and destroyed on unmount. Charts describe themselves in
- * `summary` text as well, since a canvas says nothing to a screen reader.
+ * Charts load uPlot on demand (its own chunk), so the file page's pictures and controls are interactive
+ * before the chart library has arrived.
  */
-import { useEffect, useRef } from "react";
-import uPlot from "uplot";
-import "uplot/dist/uPlot.min.css";
+import { lazy, Suspense } from "react";
+import type uPlot from "uplot";
 
 export type ChartOptions = Omit<uPlot.Options, "width">;
 
-interface UPlotChartProps {
+export interface UPlotChartProps {
   options: ChartOptions;
   data: uPlot.AlignedData;
   /** Read by screen readers instead of the canvas. */
@@ -17,24 +15,12 @@ interface UPlotChartProps {
   className?: string;
 }
 
-export function UPlotChart({ options, data, summary, className }: UPlotChartProps) {
-  const container = useRef<HTMLDivElement>(null);
-  useEffect(() => {
-    const element = container.current;
-    if (!element) return;
-    const width = Math.max(240, Math.floor(element.clientWidth || 640));
-    const chart = new uPlot({ ...options, width }, data, element);
-    const observer = typeof ResizeObserver === "function" ? new ResizeObserver(() => chart.setSize({ width: Math.max(240, Math.floor(element.clientWidth)), height: options.height })) : null;
-    observer?.observe(element);
-    return () => {
-      observer?.disconnect();
-      chart.destroy();
-    };
-  }, [options, data]);
+const UPlotCanvas = lazy(() => import("./UPlotCanvas.tsx"));
+
+export function UPlotChart(props: UPlotChartProps) {
   return (
-    <figure className={className}>
-      <div ref={container} aria-hidden="true" />
-      <figcaption className="sr-only">{summary}</figcaption>
-    </figure>
+    <Suspense fallback={<p className="py-6 text-sm text-ink-muted">Drawing the chart…</p>}>
+      <UPlotCanvas {...props} />
+    </Suspense>
   );
 }
