@@ -262,6 +262,11 @@ describe("keyboard", () => {
     await waitFor(() => expect(played).toHaveLength(1));
     fireEvent.keyDown(document.body, { key: " " });
     expect(await screen.findByRole("button", { name: "Play the excerpt" })).toBeTruthy();
+    const audio = document.querySelector("audio[data-excerpt]") as HTMLAudioElement;
+    expect(audio.loop).toBe(false);
+    fireEvent.keyDown(document.body, { key: "l" });
+    await waitFor(() => expect(audio.loop).toBe(true));
+    expect((screen.getByRole("checkbox", { name: "Loop" }) as HTMLInputElement).checked).toBe(true);
 
     const form = screen.getByRole("form", { name: "Change review state" });
     fireEvent.keyDown(document.body, { key: "f" });

@@ -57,6 +57,8 @@ export interface ExcerptPlayer {
 
 export function useExcerptPlayer(channels: number): ExcerptPlayer {
   const elementRef = useRef<HTMLAudioElement | null>(null);
+  // Also in state, so the element's listeners are attached once per element rather than every render.
+  const [element, setElement] = useState<HTMLAudioElement | null>(null);
   const graphRef = useRef<Graph | null>(null);
   const [isPlaying, setIsPlaying] = useState(false);
   const [currentSeconds, setCurrentSeconds] = useState(0);
@@ -91,10 +93,11 @@ export function useExcerptPlayer(channels: number): ExcerptPlayer {
   );
 
   const audioRef = useCallback(
-    (element: HTMLAudioElement | null) => {
-      elementRef.current = element;
+    (node: HTMLAudioElement | null) => {
+      elementRef.current = node;
+      setElement(node);
       // Quiet from the first moment, before any graph exists.
-      if (element) applyGain();
+      if (node) applyGain();
     },
     [applyGain],
   );
@@ -125,10 +128,6 @@ export function useExcerptPlayer(channels: number): ExcerptPlayer {
     if (graph) route(graph, Math.max(1, Math.min(32, channels)), solo);
   }, [channels, solo]);
 
-  useEffect(() => {
-    if (elementRef.current) elementRef.current.loop = loop;
-  }, [loop]);
-
   // The playhead follows the element once per frame while playing.
   useEffect(() => {
     if (!isPlaying) return;
@@ -144,7 +143,6 @@ export function useExcerptPlayer(channels: number): ExcerptPlayer {
 
   // Element events keep the state honest (the end of the excerpt, a pause from the OS media keys).
   useEffect(() => {
-    const element = elementRef.current;
     if (!element) return;
     const onPlay = () => setIsPlaying(true);
     const onPause = () => setIsPlaying(false);
@@ -164,7 +162,7 @@ export function useExcerptPlayer(channels: number): ExcerptPlayer {
       element.removeEventListener("seeked", onTime);
       element.removeEventListener("error", onError);
     };
-  });
+  }, [element]);
 
   useEffect(
     () => () => {

@@ -14,7 +14,7 @@ interface Limits {
   lines: Array<{ value: number; colour: string; dash: number[] }>;
 }
 
-function rankOptions(unit: string, limits: Limits): ChartOptions {
+function rankOptions(unit: string, limits: Limits, xLabel: string): ChartOptions {
   const draw = (u: uPlot) => {
     const { ctx, bbox } = u;
     ctx.save();
@@ -45,15 +45,24 @@ function rankOptions(unit: string, limits: Limits): ChartOptions {
       y: { range: (_u, min, max) => [Math.min(min, ...lineValues) - 1, Math.max(max, ...lineValues) + 1] },
     },
     series: [{ label: "Rank" }, { label: unit, stroke: "#123f45", paths: () => null, points: { show: true, size: 6, fill: "#123f45" } }],
-    axes: [{ label: "files, quietest to loudest", values: (_u, ticks) => ticks.map((t) => (Number.isInteger(t) ? String(t) : "")) }, { label: unit, size: 52 }],
+    axes: [{ label: xLabel, values: (_u, ticks) => ticks.map((t) => (Number.isInteger(t) ? String(t) : "")) }, { label: unit, size: 52 }],
     legend: { show: false },
     cursor: { drag: { x: false, y: false } },
     hooks: { drawClear: [draw] },
   };
 }
 
-function RankChart({ title, unit, ranking, limits, limitText }: { title: string; unit: string; ranking: RankedMeasure; limits: Limits; limitText: string }) {
-  const options = useMemo(() => rankOptions(unit, limits), [unit, limits]);
+interface RankChartProps {
+  title: string;
+  unit: string;
+  ranking: RankedMeasure;
+  limits: Limits;
+  limitText: string;
+  xLabel: string;
+}
+
+function RankChart({ title, unit, ranking, limits, limitText, xLabel }: RankChartProps) {
+  const options = useMemo(() => rankOptions(unit, limits, xLabel), [unit, limits, xLabel]);
   const data = useMemo(() => [ranking.ranks, ranking.values] as uPlot.AlignedData, [ranking]);
   const summary = `${title}: ${ranking.values.length} files measured, ${ranking.outside} outside the profile's limits. ${limitText}`;
   return (
@@ -102,6 +111,7 @@ export function BatchOverviewStrip({ overview }: { overview: BatchOverviewDto })
           unit="LUFS"
           ranking={loudness}
           limits={loudnessLimits}
+          xLabel="files, quietest to loudest"
           limitText={target ? `target ${formatLevel(target.target, "LUFS")} ± ${formatLevel(target.failToleranceLu, "LU")}` : "the profile sets no target"}
         />
         <RankChart
@@ -109,6 +119,7 @@ export function BatchOverviewStrip({ overview }: { overview: BatchOverviewDto })
           unit="dBTP"
           ranking={peaks}
           limits={peakLimits}
+          xLabel="files, lowest peak to highest"
           limitText={ceiling !== null ? `ceiling ${formatLevel(ceiling, "dBTP")}` : "the profile sets no ceiling"}
         />
         <div className="min-w-0 flex-1">

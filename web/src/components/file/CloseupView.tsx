@@ -1,4 +1,4 @@
-import { useEffect, useImperativeHandle, useState, type CSSProperties, type PointerEvent, type Ref } from "react";
+import { useEffect, useImperativeHandle, useRef, useState, type CSSProperties, type PointerEvent, type Ref } from "react";
 import type { FileDetailDto, FindingDto } from "@tidemark/shared/types/api";
 import { formatTimestamp } from "../../format/units.ts";
 import { useExcerptPlayer } from "../../hooks/useExcerptPlayer.ts";
@@ -106,6 +106,7 @@ function CloseupImage({ src, alt, margins, closeup, findings, selectedFindingId,
 export function CloseupView({ closeup, findings, selectedFindingId, channels, path, jump, onPosition, ref }: CloseupViewProps) {
   const player = useExcerptPlayer(channels);
   const [cautionOpen, setCautionOpen] = useState(false);
+  const playButton = useRef<HTMLButtonElement>(null);
   const inWindow = findings.filter((f) => closeup.findingIds.includes(f.id));
   const { seek, setSolo, play, pause, isPlaying, setLoop, loop, solo, audioRef, canSolo, gainDb, setGainDb, error: playerError, currentSeconds } = player;
   const playheadSeconds = closeup.startSeconds + currentSeconds;
@@ -157,8 +158,9 @@ export function CloseupView({ closeup, findings, selectedFindingId, channels, pa
       </div>
       {closeup.excerptUrl ? (
         <div className="mt-2 flex flex-wrap items-center gap-x-4 gap-y-2 rounded bg-surface px-2 py-2 text-sm text-ink">
-          <audio ref={audioRef} src={closeup.excerptUrl} preload="metadata" data-excerpt />
+          <audio ref={audioRef} src={closeup.excerptUrl} preload="metadata" loop={loop} data-excerpt />
           <button
+            ref={playButton}
             type="button"
             onClick={togglePlay}
             aria-label={isPlaying ? "Pause the excerpt" : "Play the excerpt"}
@@ -213,9 +215,14 @@ export function CloseupView({ closeup, findings, selectedFindingId, channels, pa
           onConfirm={() => {
             markHearingCautionSeen();
             setCautionOpen(false);
+            // The dialog's button disappears: keep the keyboard user on the player.
+            playButton.current?.focus();
             void play();
           }}
-          onCancel={() => setCautionOpen(false)}
+          onCancel={() => {
+            setCautionOpen(false);
+            playButton.current?.focus();
+          }}
         />
       )}
       {playerError && (
