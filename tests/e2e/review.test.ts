@@ -151,6 +151,7 @@ describe("reviewing where the fault is, in chromium", () => {
     const tone = sine({ frequencyHz: TONE_HZ, sampleRateHz: TONE_RATE_HZ, seconds: TONE_SECONDS, peakDbfs: TONE_PEAK_DBFS });
     writeFileSync(path.join(folder, "reference tone 1 kHz.wav"), encodeWav([tone], { sampleRateHz: TONE_RATE_HZ, bitDepth: 24 }));
     const out = path.join(work, "tone-out");
+    mkdirSync(path.join(out, "png"), { recursive: true });
     const run = await runCli(
       ["scan", folder, "--spectrograms", path.join(out, "png"), "--out", path.join(out, "report.json"), "--quiet", "--upload", "--server", stack.baseUrl, "--collection", "Reference tones", "--batch-key", "e2e-tone"],
       { ...process.env, TIDEMARK_TOKEN: token.body.token, TIDEMARK_CONFIG_DIR: path.join(work, "config"), TIDEMARK_SPOOL_DIR: path.join(work, "spool") },
