@@ -171,14 +171,29 @@ describe("reviewing where the fault is, in chromium", () => {
     await page.locator("[data-readout]").waitFor();
     const plot = page.locator("[data-plot-area]").first();
     const box = (await plot.boundingBox())!;
-    // Sweep the middle column from top to bottom; the loudest cell is where the tone is.
-    const x = box.x + box.width / 2;
-    let best = { levelDbfs: -Infinity, frequencyHz: 0, y: 0 };
-    for (let y = box.y + 0.5; y < box.y + box.height; y += 1) {
-      await page.mouse.move(x, y);
-      const attrs = await page.locator("[data-readout]").evaluate((el) => ({ level: el.getAttribute("data-level-dbfs"), hz: el.getAttribute("data-frequency-hz") }));
-      if (attrs.level && Number(attrs.level) > best.levelDbfs) best = { levelDbfs: Number(attrs.level), frequencyHz: Number(attrs.hz), y };
-    }
+    const rows = grid.rowCenterHz.length;
+    // The picture is drawn smaller than its PNG (532 rows in a few hundred CSS pixels), so whole-pixel
+    // mouse steps skip rows. Sweep the middle column at each row's centre with pointer events at fractional
+    // positions (contract §2's formula run backwards); the loudest cell is where the tone is.
+    const sweep = await plot.evaluate((el, rowCount) => {
+      const rect = el.getBoundingClientRect();
+      const x = rect.left + rect.width / 2;
+      const out: Array<{ hz: number; level: number | null }> = [];
+      for (let r = 0; r < rowCount; r++) {
+        const y = rect.top + ((rowCount - 1 - r + 0.5) / rowCount) * rect.height;
+        el.dispatchEvent(new PointerEvent("pointermove", { clientX: x, clientY: y, bubbles: true }));
+        const readout = document.querySelector("[data-readout]");
+        const level = readout?.getAttribute("data-level-dbfs");
+        out.push({ hz: Number(readout?.getAttribute("data-frequency-hz")), level: level ? Number(level) : null });
+      }
+      return out;
+    }, rows);
+    // Each row read back its own centre frequency: the pointer → cell mapping is exact.
+    expect(sweep.map((s) => Math.round(s.hz))).toEqual(grid.rowCenterHz.map((hz) => Math.round(hz)));
+    let best = { levelDbfs: -Infinity, frequencyHz: 0, row: 0 };
+    sweep.forEach((s, row) => {
+      if (s.level !== null && s.level > best.levelDbfs) best = { levelDbfs: s.level, frequencyHz: s.hz, row };
+    });
     // One frequency bin: the spacing of the grid's rows around 1 kHz.
     const centres = grid.rowCenterHz;
     const nearest = centres.reduce((bestIndex, hz, i) => (Math.abs(hz - TONE_HZ) < Math.abs(centres[bestIndex] - TONE_HZ) ? i : bestIndex), 0);
@@ -186,9 +201,13 @@ describe("reviewing where the fault is, in chromium", () => {
     console.error(`[e2e] tone read-out: ${best.frequencyHz.toFixed(1)} Hz at ${best.levelDbfs.toFixed(2)} dBFS (bin ${binHz.toFixed(1)} Hz)`);
     expect(Math.abs(best.frequencyHz - TONE_HZ)).toBeLessThanOrEqual(binHz);
     expect(Math.abs(best.levelDbfs - TONE_PEAK_DBFS)).toBeLessThanOrEqual(1);
-    const text = await page.locator("[data-readout]").textContent();
-    expect(text).toMatch(/Frequency \d+ Hz/);
-    await page.mouse.move(x, best.y);
+
+    // And with the real mouse, at the tone's row: the line under the picture names a frequency near 1 kHz.
+    const y = box.y + ((rows - 1 - best.row + 0.5) / rows) * box.height;
+    await page.mouse.move(box.x + box.width / 2, y);
+    const shown = await page.locator("[data-readout]").evaluate((el) => ({ hz: Number(el.getAttribute("data-frequency-hz")), text: el.textContent ?? "" }));
+    expect(Math.abs(shown.hz - TONE_HZ)).toBeLessThanOrEqual(3 * binHz);
+    expect(shown.text).toMatch(/Frequency \d+ Hz.*Level \u2212\d+\.\d dBFS/);
     await screenshot(page, "tone-readout");
   });
 });
