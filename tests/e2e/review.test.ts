@@ -175,14 +175,20 @@ describe("reviewing where the fault is, in chromium", () => {
     // The picture is drawn smaller than its PNG (532 rows in a few hundred CSS pixels), so whole-pixel
     // mouse steps skip rows. Sweep the middle column at each row's centre with pointer events at fractional
     // positions (contract §2's formula run backwards); the loudest cell is where the tone is.
-    const sweep = await plot.evaluate((el, rowCount) => {
+    const sweep = await plot.evaluate(async (el, rowCount) => {
       const rect = el.getBoundingClientRect();
       const x = rect.left + rect.width / 2;
       const out: Array<{ hz: number; level: number | null }> = [];
+      let previous: string | null = null;
       for (let r = 0; r < rowCount; r++) {
         const y = rect.top + ((rowCount - 1 - r + 0.5) / rowCount) * rect.height;
         el.dispatchEvent(new PointerEvent("pointermove", { clientX: x, clientY: y, bubbles: true }));
+        // React renders pointer moves a moment later; neighbouring rows differ in frequency, so wait for the change.
+        for (let waited = 0; waited < 200 && document.querySelector("[data-readout]")?.getAttribute("data-frequency-hz") === previous; waited++) {
+          await new Promise((resolve) => setTimeout(resolve, 1));
+        }
         const readout = document.querySelector("[data-readout]");
+        previous = readout?.getAttribute("data-frequency-hz") ?? null;
         const level = readout?.getAttribute("data-level-dbfs");
         out.push({ hz: Number(readout?.getAttribute("data-frequency-hz")), level: level ? Number(level) : null });
       }
