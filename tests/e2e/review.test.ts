@@ -217,4 +217,27 @@ describe("reviewing where the fault is, in chromium", () => {
     expect(shown.text).toMatch(/Frequency \d+ Hz.*Level \u2212\d+\.\d dBFS/);
     await screenshot(page, "tone-readout");
   });
+
+  it("shows a batch at a glance and opens the files list filtered by a finding bar", async () => {
+    const page = await signIn("auditor", "/batches");
+    const failing = await apiFrom<ApiPage<FileSummaryDto>>(page, "GET", "/api/files?verdict=fail&pageSize=1");
+    const batchId = failing.body.items[0]?.batchId;
+    expect(batchId, "the demo seed has a failing file").toBeDefined();
+    await page.getByRole("link", { name: `Overview of batch #${batchId}` }).click();
+    await page.waitForURL((url) => url.pathname === `/batches/${batchId}`);
+    const strip = page.getByRole("region", { name: "At a glance" });
+    await strip.waitFor();
+    // uPlot drew the two dot strips on canvases.
+    await expect.poll(() => strip.locator("canvas").count()).toBeGreaterThanOrEqual(2);
+    await screenshot(page, "batch-overview");
+    const bar = strip.getByRole("list", { name: "Files per finding code" }).getByRole("link").first();
+    const code = (await bar.getAttribute("href"))!.split("finding=")[1];
+    await bar.click();
+    await page.waitForURL((url) => url.pathname === "/files" && url.searchParams.get("batch") === String(batchId) && url.searchParams.get("finding") === code);
+    await page.locator("[data-list-row]").first().waitFor();
+    const listed = await apiFrom<ApiPage<FileSummaryDto>>(page, "GET", `/api/files?batch=${batchId}&finding=${code}`);
+    expect(listed.body.items.length).toBeGreaterThan(0);
+    for (const f of listed.body.items) expect(f.worstFindings.map((w) => w.code)).toContain(code);
+    expect(await page.locator("[data-list-row]").count()).toBe(listed.body.items.length);
+  });
 });

@@ -274,7 +274,9 @@ function FileReview({ f }: { f: FileDetailDto }) {
               {selectedFindingId === null
                 ? closeups.length > 0
                   ? "Pick a finding (in the table, on the spectrogram, or with n) to see and hear it up close."
-                  : "This scan has no close-ups: it was made with --no-closeups or by an older version of the scanner."
+                  : ordered.length === 0
+                    ? "No finding has a time in this file, so there is nothing to zoom into."
+                    : "This scan has no close-ups: it was made with --no-closeups or by an older version of the scanner."
                 : omitted
                   ? `No close-up for this finding. ${OMITTED_REASON[omitted.reason]}`
                   : "No close-up was made for this finding."}

@@ -1,7 +1,7 @@
 import { useMemo } from "react";
 import type uPlot from "uplot";
 import type { FindingDto } from "@tidemark/shared/types/api";
-import { formatDuration, formatLevel } from "../../format/units.ts";
+import { formatDuration, formatLevel, formatTimestamp } from "../../format/units.ts";
 import { UPlotChart, type ChartOptions } from "../charts/UPlotChart.tsx";
 import { curveChartData, findingTimes, loudnessBand, type LoudnessBand, type LoudnessCurve, type ProfileLimits } from "./loudnessCurve.ts";
 
@@ -58,7 +58,8 @@ export function loudnessChartOptions(band: LoudnessBand | null, findings: Findin
     series,
     bands: band ? [{ series: [3, 4], fill: "rgba(43,100,59,0.12)" }] : [],
     axes: [
-      { values: (_u, ticks) => ticks.map((t) => formatDuration(t)) },
+      // Ticks closer than a second (short files) need the fraction, or labels repeat.
+      { values: (_u, ticks) => ticks.map((t) => (ticks.length > 1 && ticks[1] - ticks[0] < 1 ? formatTimestamp(t).replace(/0$/, "") : formatDuration(t))) },
       { label: "LUFS", values: (_u, ticks) => ticks.map((t) => formatLevel(t, "", 0)), size: 56 },
     ],
     legend: { show: true },
