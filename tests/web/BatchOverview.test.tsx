@@ -47,14 +47,20 @@ describe("batch overview", () => {
     const { router } = renderApp("/batches/3");
     expect(await screen.findByRole("heading", { name: "Batch #3" })).toBeTruthy();
     const strip = await screen.findByRole("region", { name: "At a glance" });
-    expect(within(strip).getByText("2 outside the limits")).toBeTruthy();
-    expect(within(strip).getByText("1 outside the limits")).toBeTruthy();
+    expect(within(strip).getByText("2 outside the limits ·")).toBeTruthy();
+    expect(within(strip).getByText("1 outside the limits ·")).toBeTruthy();
     await waitFor(() => expect(charts.filter((c) => !c.destroyed)).toHaveLength(2));
     const live = charts.filter((c) => !c.destroyed);
     expect(live.map((c) => c.data[1])).toEqual([
       [-26.1, -23.2, -18.4],
       [-3, -1.5, 0.3],
     ]);
+
+    // Hovering a dot names its file: the quietest is file 4, the highest true peak file 2.
+    const nameAt = (chart: number, index: number) =>
+      (live[chart].options.series[0] as unknown as { value: (u: unknown, v: unknown, s: number, i: number) => string }).value(null, null, 0, index);
+    expect(nameAt(0, 0)).toBe("ferry/interview-04.wav");
+    expect(nameAt(1, 2)).toBe("ferry/interview-02.wav");
 
     const clipping = within(strip).getByRole("link", { name: "clipping (fail): 2 files, 5 findings" });
     expect(clipping.getAttribute("href")).toBe("/files?batch=3&finding=clipping");

@@ -1,5 +1,5 @@
 import { useMemo } from "react";
-import { Link } from "react-router";
+import { Link, useNavigate } from "react-router";
 import type uPlot from "uplot";
 import type { BatchOverviewDto } from "@tidemark/shared/types/api";
 import { formatLevel } from "../../format/units.ts";
@@ -14,7 +14,13 @@ interface Limits {
   lines: Array<{ value: number; colour: string; dash: number[] }>;
 }
 
-function rankOptions(unit: string, limits: Limits, xLabel: string): ChartOptions {
+/** Hovering a dot names its file in the legend; clicking it opens the file. */
+interface DotFiles {
+  label: (index: number) => string;
+  open: (index: number) => void;
+}
+
+function rankOptions(unit: string, limits: Limits, xLabel: string, dots: DotFiles): ChartOptions {
   const draw = (u: uPlot) => {
     const { ctx, bbox } = u;
     ctx.save();
@@ -44,11 +50,22 @@ function rankOptions(unit: string, limits: Limits, xLabel: string): ChartOptions
       // Keep the limits in view even when every file is well inside them.
       y: { range: (_u, min, max) => [Math.min(min, ...lineValues) - 1, Math.max(max, ...lineValues) + 1] },
     },
-    series: [{ label: "Rank" }, { label: unit, stroke: "#123f45", paths: () => null, points: { show: true, size: 6, fill: "#123f45" } }],
+    series: [
+      { label: "File", value: (_u, _v, _s, index) => (index === null ? "—" : dots.label(index)) },
+      { label: unit, stroke: "#123f45", paths: () => null, points: { show: true, size: 6, fill: "#123f45" } },
+    ],
     axes: [{ label: xLabel, values: (_u, ticks) => ticks.map((t) => (Number.isInteger(t) ? String(t) : "")) }, { label: unit, size: 52 }],
-    legend: { show: false },
+    legend: { show: true, live: true },
     cursor: { drag: { x: false, y: false } },
-    hooks: { drawClear: [draw] },
+    hooks: {
+      drawClear: [draw],
+      ready: [
+        (u: uPlot) =>
+          u.over.addEventListener("click", () => {
+            if (u.cursor.idx !== null && u.cursor.idx !== undefined) dots.open(u.cursor.idx);
+          }),
+      ],
+    },
   };
 }
 
@@ -62,14 +79,26 @@ interface RankChartProps {
 }
 
 function RankChart({ title, unit, ranking, limits, limitText, xLabel }: RankChartProps) {
-  const options = useMemo(() => rankOptions(unit, limits, xLabel), [unit, limits, xLabel]);
+  const navigate = useNavigate();
+  const options = useMemo(
+    () =>
+      rankOptions(unit, limits, xLabel, {
+        label: (i) => ranking.files[i]?.path ?? "—",
+        open: (i) => {
+          const file = ranking.files[i];
+          if (file) void navigate(`/files/${file.id}`);
+        },
+      }),
+    [unit, limits, xLabel, ranking, navigate],
+  );
   const data = useMemo(() => [ranking.ranks, ranking.values] as uPlot.AlignedData, [ranking]);
-  const summary = `${title}: ${ranking.values.length} files measured, ${ranking.outside} outside the profile's limits. ${limitText}`;
+  const summary = `${title}: ${ranking.values.length} files measured${limits.lines.length ? `, ${ranking.outside} outside the profile's limits` : ""}. ${limitText}. Hover a dot to name its file; click to open it.`;
   return (
     <div className="min-w-0 flex-1">
       <h3 className="text-sm font-semibold">{title}</h3>
       <p className="text-xs text-ink-muted">
-        {ranking.outside > 0 ? <strong className="text-fail">{ranking.outside} outside the limits</strong> : "all within the limits"} · {limitText}
+        {!limits.lines.length ? null : ranking.outside > 0 ? <strong className="text-fail">{ranking.outside} outside the limits · </strong> : "all within the limits · "}
+        {limitText}
         {ranking.missing > 0 && ` · ${ranking.missing} not measured`}
       </p>
       {ranking.values.length > 0 ? <UPlotChart options={options} data={data} summary={summary} /> : <p className="py-4 text-sm text-ink-muted">No file has this measure.</p>}
