@@ -267,6 +267,15 @@ describe("keyboard", () => {
     fireEvent.keyDown(document.body, { key: "l" });
     await waitFor(() => expect(audio.loop).toBe(true));
     expect((screen.getByRole("checkbox", { name: "Loop" }) as HTMLInputElement).checked).toBe(true);
+    // , and . step the playhead by 0.1 s, Shift by 1 s, inside the window; letters still work on the slider.
+    fireEvent.keyDown(document.body, { key: "." });
+    fireEvent.keyDown(document.body, { key: ">", shiftKey: true });
+    expect(audio.currentTime).toBeCloseTo(1.1, 6);
+    fireEvent.keyDown(screen.getByRole("slider"), { key: "," });
+    expect(audio.currentTime).toBeCloseTo(1.0, 6);
+    fireEvent.keyDown(screen.getByRole("slider"), { key: "<", shiftKey: true });
+    fireEvent.keyDown(screen.getByRole("slider"), { key: "<", shiftKey: true });
+    expect(audio.currentTime).toBe(0);
 
     const form = screen.getByRole("form", { name: "Change review state" });
     fireEvent.keyDown(document.body, { key: "f" });

@@ -11,6 +11,8 @@ export interface FileShortcutActions {
   accept: () => void;
   flag: () => void;
   toggleLoop: () => void;
+  /** Moves the close-up's playhead by this many seconds (negative: back). */
+  nudge: (seconds: number) => void;
   previousFile: () => void;
   nextFile: () => void;
   toggleHelp: () => void;
@@ -23,6 +25,7 @@ export const FILE_SHORTCUTS: ReadonlyArray<{ keys: string[]; does: string }> = [
   { keys: ["n"], does: "next finding (opens its close-up)" },
   { keys: ["p"], does: "previous finding" },
   { keys: ["l"], does: "loop the close-up on or off" },
+  { keys: [",", "."], does: "move the playhead back / forward by 0.1 s (with Shift: 1 s)" },
   { keys: ["a"], does: "accept: picks “accepted” and puts the cursor in the reason (optional); Enter saves" },
   { keys: ["f"], does: "flag: picks “flagged” and puts the cursor in the reason (required); Enter saves" },
   { keys: ["["], does: "previous file of the list you came from" },
@@ -30,17 +33,19 @@ export const FILE_SHORTCUTS: ReadonlyArray<{ keys: string[]; does: string }> = [
   { keys: ["?"], does: "show or hide this help" },
 ];
 
+/** Boxes that take text; checkboxes, sliders and buttons do not, so letters stay shortcuts there. */
 function isTyping(target: EventTarget | null): boolean {
   if (!(target instanceof HTMLElement)) return false;
   if (target.isContentEditable) return true;
-  return target.matches("input, textarea, select, [role='textbox']");
+  if (target instanceof HTMLInputElement) return !["checkbox", "radio", "range", "button", "submit", "reset"].includes(target.type);
+  return target.matches("textarea, select, [role='textbox']");
 }
 
 export function useFileShortcuts(actions: FileShortcutActions): void {
   useEffect(() => {
     function onKeyDown(event: KeyboardEvent) {
       if (event.defaultPrevented || event.altKey || event.ctrlKey || event.metaKey || isTyping(event.target)) return;
-      const onControl = event.target instanceof HTMLElement && event.target.matches("button, a, [role='button'], summary");
+      const onControl = event.target instanceof HTMLElement && event.target.matches("button, a, input, [role='button'], summary");
       const run = (action: () => void) => {
         event.preventDefault();
         action();
@@ -63,6 +68,14 @@ export function useFileShortcuts(actions: FileShortcutActions): void {
           break;
         case "f":
           run(actions.flag);
+          break;
+        case ",":
+        case "<":
+          run(() => actions.nudge(event.shiftKey ? -1 : -0.1));
+          break;
+        case ".":
+        case ">":
+          run(() => actions.nudge(event.shiftKey ? 1 : 0.1));
           break;
         case "[":
           run(actions.previousFile);

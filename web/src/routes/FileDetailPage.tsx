@@ -156,6 +156,7 @@ function FileReview({ f }: { f: FileDetailDto }) {
       accept: () => reviewRef.current?.start("accepted"),
       flag: () => reviewRef.current?.start("flagged"),
       toggleLoop: () => closeupRef.current?.toggleLoop(),
+      nudge: (seconds: number) => closeupRef.current?.nudge(seconds),
       previousFile: () => {
         if (previous) void navigate(neighbourHref(previous));
       },

@@ -17,6 +17,8 @@ export interface CloseupJump {
 export interface CloseupHandle {
   togglePlay: () => void;
   toggleLoop: () => void;
+  /** Moves the playhead by `seconds` within the window. */
+  nudge: (seconds: number) => void;
   /** Absolute time in the file and the soloed channel, for anchoring a comment. */
   position: () => { seconds: number; channel: number | null };
 }
@@ -141,6 +143,7 @@ export function CloseupView({ closeup, findings, selectedFindingId, channels, pa
     () => ({
       togglePlay,
       toggleLoop: () => setLoop(!loop),
+      nudge: (seconds) => seek(Math.min(closeup.endSeconds - closeup.startSeconds, Math.max(0, currentSeconds + seconds))),
       position: () => ({ seconds: playheadSeconds, channel: solo }),
     }),
   );
