@@ -117,6 +117,21 @@ describe("level read-out", () => {
     expect(document.querySelector("[data-readout]")?.textContent).toContain("Level \u2264 \u2212120 dBFS");
     fireEvent.pointerLeave(plot);
     expect(document.querySelector("[data-readout]")?.getAttribute("data-readout")).toBe("none");
+
+    // From the keyboard: the first arrow puts the cross-hair mid-plot (column 4, row 2), the next ones move it.
+    const group = screen.getByRole("group", { name: /Spectrogram read-out/ });
+    expect(group.tabIndex).toBe(0);
+    fireEvent.keyDown(group, { key: "ArrowRight" });
+    expect(document.querySelector("[data-readout]")?.textContent).toContain("Time 1:07.50"); // (4 + 0.5) × 15 s
+    fireEvent.keyDown(group, { key: "ArrowRight" });
+    fireEvent.keyDown(group, { key: "ArrowUp" });
+    expect(document.querySelector("[data-readout]")?.textContent).toContain("Frequency 15.00 kHz");
+    fireEvent.keyDown(group, { key: "ArrowDown" });
+    expect(document.querySelector("[data-readout]")?.textContent).toContain("Time 1:22.50");
+    expect(document.querySelector("[data-readout]")?.textContent).toContain("Level \u221224.0 dBFS");
+    expect((document.querySelector("[data-crosshair]") as HTMLElement).style.left).toBe("68.75%");
+    fireEvent.keyDown(group, { key: "Escape" });
+    expect(document.querySelector("[data-crosshair]")).toBeNull();
   });
 });
 

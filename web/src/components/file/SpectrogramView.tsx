@@ -1,10 +1,10 @@
-import { useState, type CSSProperties, type PointerEvent } from "react";
+import { useState, type CSSProperties, type KeyboardEvent, type PointerEvent } from "react";
 import type { FindingDto } from "@tidemark/shared/types/api";
 import type { Severity } from "@tidemark/shared/types/report";
 import { wracklineCssGradient } from "@tidemark/shared/render/colourMap";
 import { SPECTROGRAM_DB_RANGE } from "@tidemark/shared/render/spectrogramImage";
 import { formatTimestamp } from "../../format/units.ts";
-import { cellAt, readoutOf, type LevelGrid, type Readout } from "./levelGrid.ts";
+import { cellAt, readoutOf, type GridCell, type LevelGrid, type Readout } from "./levelGrid.ts";
 import { levelColour } from "./levelColour.ts";
 import { placeFindings, plotAreaInset, type TimedFinding, SPECTROGRAM_MARGINS, WAVEFORM_MARGINS, type Margins, type NaturalSize } from "./plotGeometry.ts";
 
@@ -93,9 +93,11 @@ interface PlotImageProps {
   missingText: string;
   /** Pointer position over the plot area as fractions (0–1) of its width and height; null when it leaves. */
   onPointer?: (at: { fx: number; fy: number } | null) => void;
+  /** The read-out's cell, drawn as a cross-hair, and keys that move it (for the keyboard). */
+  cursor?: { cell: GridCell | null; columns: number; rows: number; onKey: (event: KeyboardEvent<HTMLDivElement>) => void };
 }
 
-function PlotImage({ src, alt, margins, markers, interactive, missingText, onPointer }: PlotImageProps) {
+function PlotImage({ src, alt, margins, markers, interactive, missingText, onPointer, cursor }: PlotImageProps) {
   const [size, setSize] = useState<NaturalSize | null>(null);
   const [failed, setFailed] = useState(false);
   if (failed) {
@@ -123,7 +125,22 @@ function PlotImage({ src, alt, margins, markers, interactive, missingText, onPoi
             })
           }
           onPointerLeave={onPointer && (() => onPointer(null))}
+          tabIndex={cursor ? 0 : undefined}
+          role={cursor ? "group" : undefined}
+          aria-label={cursor ? "Spectrogram read-out: arrow keys move the cross-hair (Shift: 10 steps), Escape hides it" : undefined}
+          onKeyDown={cursor?.onKey}
         >
+          {cursor?.cell && (
+            <span
+              aria-hidden="true"
+              data-crosshair
+              className="pointer-events-none absolute z-30 size-2.5 -translate-x-1/2 -translate-y-1/2 rounded-full border-2 border-white shadow-[0_0_0_1px_black]"
+              style={{
+                left: `${((cursor.cell.column + 0.5) / cursor.columns) * 100}%`,
+                top: `${((cursor.rows - 1 - cursor.cell.row + 0.5) / cursor.rows) * 100}%`,
+              }}
+            />
+          )}
           <MarkerLayer {...markers} interactive={interactive} />
         </div>
       )}
@@ -173,11 +190,28 @@ function ReadoutLine({ grid, readout }: { grid: LevelGrid | null | undefined; re
 /** The server's spectrogram with its waveform strip below, both with finding markers on the same time axis. */
 export function SpectrogramView({ spectrogramUrl, waveformUrl, path, durationSeconds, findings, selectedId, onSelect, levelGrid }: SpectrogramViewProps) {
   const markers = { findings, durationSeconds: durationSeconds ?? 0, selectedId, onSelect };
-  const [readout, setReadout] = useState<Readout | null>(null);
+  const [cell, setCell] = useState<GridCell | null>(null);
+  const readout: Readout | null = levelGrid && cell && cell.column < levelGrid.columns && cell.row < levelGrid.rows ? readoutOf(levelGrid, cell) : null;
   // Fractions of the plot area, so the contract's formula runs on a unit plot (§2).
   const onPointer = (at: { fx: number; fy: number } | null) => {
-    const cell = levelGrid && at ? cellAt(levelGrid, { left: 0, top: 0, width: 1, height: 1 }, at.fx, at.fy) : null;
-    setReadout(levelGrid && cell ? readoutOf(levelGrid, cell) : null);
+    setCell(levelGrid && at ? cellAt(levelGrid, { left: 0, top: 0, width: 1, height: 1 }, at.fx, at.fy) : null);
+  };
+  const onKey = (event: KeyboardEvent<HTMLDivElement>) => {
+    if (!levelGrid) return;
+    const step = event.shiftKey ? 10 : 1;
+    const move: Record<string, [number, number]> = { ArrowLeft: [-step, 0], ArrowRight: [step, 0], ArrowUp: [0, step], ArrowDown: [0, -step] };
+    if (event.key === "Escape") {
+      setCell(null);
+      return;
+    }
+    const delta = move[event.key];
+    if (!delta) return;
+    event.preventDefault();
+    const from = cell ?? { column: Math.floor(levelGrid.columns / 2), row: Math.floor(levelGrid.rows / 2) };
+    setCell({
+      column: Math.min(levelGrid.columns - 1, Math.max(0, from.column + (cell ? delta[0] : 0))),
+      row: Math.min(levelGrid.rows - 1, Math.max(0, from.row + (cell ? delta[1] : 0))),
+    });
   };
   if (!spectrogramUrl && !waveformUrl) {
     return (
@@ -197,6 +231,7 @@ export function SpectrogramView({ spectrogramUrl, waveformUrl, path, durationSec
             markers={markers}
             interactive
             onPointer={levelGrid ? onPointer : undefined}
+            cursor={levelGrid ? { cell, columns: levelGrid.columns, rows: levelGrid.rows, onKey } : undefined}
             missingText="The spectrogram image could not be loaded. It may have been removed from storage; reload to try again."
           />
         )}
