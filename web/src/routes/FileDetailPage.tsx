@@ -23,6 +23,7 @@ import { fileQueryToParams, parseFileQuery } from "../components/files/fileQuery
 import { formatAudioFormat, formatDuration, formatTimestamp } from "../format/units.ts";
 import { FILE_SHORTCUTS, useFileShortcuts } from "../hooks/useFileShortcuts.ts";
 import { useFileNeighbours, type Neighbour } from "../hooks/useFileNeighbours.ts";
+import { useWarmCloseups } from "../hooks/useWarmCloseups.ts";
 
 const OMITTED_REASON: Record<FileDetailDto["closeupsOmitted"][number]["reason"], string> = {
   cap: "The profile keeps close-ups for the most severe findings only, and this one was past the cap.",
@@ -97,6 +98,7 @@ function FileReview({ f }: { f: FileDetailDto }) {
   const levelGrid = useLevelGrid(f.id, f.levelGridUrl ?? null);
   const curve = useLoudnessCurve(f.id, f.loudnessCurveUrl ?? null);
   const closeups = useMemo(() => f.closeups ?? [], [f.closeups]);
+  useWarmCloseups(closeups);
 
   const [selectedFindingId, setSelectedFindingId] = useState<number | null>(null);
   /** Set by a comment link: which close-up to open and where to put the playhead. */
