@@ -157,6 +157,10 @@ describe("close-up player", () => {
     // The span of finding 11 (30–30.5 s) inside the window 28–32.5 s.
     const span = document.querySelector("[data-closeup-span='11']") as HTMLElement;
     expect(parseFloat(span.style.left)).toBeCloseTo((2 / 4.5) * 100, 3);
+    // The overview shows where the window lies in the whole file (28 s of 120 s).
+    loadImage(screen.getByAltText(/^Spectrogram of/), 1600, 600);
+    const windowBox = document.querySelector("[data-overview-window]") as HTMLElement;
+    expect(parseFloat(windowBox.style.left)).toBeCloseTo((28 / 120) * 100, 3);
 
     fireEvent.click(screen.getByRole("button", { name: "Play the excerpt" }));
     const caution = screen.getByRole("alertdialog");

@@ -245,6 +245,7 @@ function FileReview({ f }: { f: FileDetailDto }) {
             selectedId={selectedFindingId}
             onSelect={selectFinding}
             levelGrid={levelGrid.data ?? null}
+            focus={openCloseup ? { startSeconds: openCloseup.startSeconds, endSeconds: openCloseup.endSeconds, playheadSeconds: anchor?.seconds ?? null } : null}
           />
           {levelGrid.isError && <p className="mt-1 text-sm text-fail">The level read-out is unavailable: {describeError(levelGrid.error)}</p>}
         </section>

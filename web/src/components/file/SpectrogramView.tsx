@@ -93,11 +93,36 @@ interface PlotImageProps {
   missingText: string;
   /** Pointer position over the plot area as fractions (0–1) of its width and height; null when it leaves. */
   onPointer?: (at: { fx: number; fy: number } | null) => void;
+  /** The open close-up's window and playhead, shown on the whole file's time axis. */
+  focus?: OverviewFocus | null;
   /** The read-out's cell, drawn as a cross-hair, and keys that move it (for the keyboard). */
   cursor?: { cell: GridCell | null; columns: number; rows: number; onKey: (event: KeyboardEvent<HTMLDivElement>) => void };
 }
 
-function PlotImage({ src, alt, margins, markers, interactive, missingText, onPointer, cursor }: PlotImageProps) {
+export interface OverviewFocus {
+  startSeconds: number;
+  endSeconds: number;
+  playheadSeconds: number | null;
+}
+
+function FocusLayer({ focus, durationSeconds }: { focus: OverviewFocus; durationSeconds: number }) {
+  const pct = (s: number) => Math.min(100, Math.max(0, (s / durationSeconds) * 100));
+  return (
+    <>
+      <span
+        aria-hidden="true"
+        data-overview-window
+        className="pointer-events-none absolute inset-y-0 border-y-2 border-[#7cf3ff]/80 bg-[#7cf3ff]/10"
+        style={{ left: `${pct(focus.startSeconds)}%`, width: `max(${pct(focus.endSeconds) - pct(focus.startSeconds)}%, 3px)` }}
+      />
+      {focus.playheadSeconds !== null && (
+        <span aria-hidden="true" data-overview-playhead className="pointer-events-none absolute inset-y-0 w-px bg-[#7cf3ff]" style={{ left: `${pct(focus.playheadSeconds)}%` }} />
+      )}
+    </>
+  );
+}
+
+function PlotImage({ src, alt, margins, markers, interactive, missingText, onPointer, cursor, focus }: PlotImageProps) {
   const [size, setSize] = useState<NaturalSize | null>(null);
   const [failed, setFailed] = useState(false);
   if (failed) {
@@ -130,6 +155,7 @@ function PlotImage({ src, alt, margins, markers, interactive, missingText, onPoi
           aria-label={cursor ? "Spectrogram read-out: arrow keys move the cross-hair (Shift: 10 steps), Escape hides it" : undefined}
           onKeyDown={cursor?.onKey}
         >
+          {focus && markers.durationSeconds > 0 && <FocusLayer focus={focus} durationSeconds={markers.durationSeconds} />}
           {cursor?.cell && (
             <span
               aria-hidden="true"
@@ -158,6 +184,7 @@ interface SpectrogramViewProps {
   onSelect: (id: number) => void;
   /** The level grid behind the spectrogram's colours; with it, the pointer reads time, frequency and level. */
   levelGrid?: LevelGrid | null;
+  focus?: OverviewFocus | null;
 }
 
 /** Frequencies to the hertz below 10 kHz: the read-out is checked against a known tone. */
@@ -188,7 +215,7 @@ function ReadoutLine({ grid, readout }: { grid: LevelGrid | null | undefined; re
 }
 
 /** The server's spectrogram with its waveform strip below, both with finding markers on the same time axis. */
-export function SpectrogramView({ spectrogramUrl, waveformUrl, path, durationSeconds, findings, selectedId, onSelect, levelGrid }: SpectrogramViewProps) {
+export function SpectrogramView({ spectrogramUrl, waveformUrl, path, durationSeconds, findings, selectedId, onSelect, levelGrid, focus }: SpectrogramViewProps) {
   const markers = { findings, durationSeconds: durationSeconds ?? 0, selectedId, onSelect };
   const [cell, setCell] = useState<GridCell | null>(null);
   const readout: Readout | null = levelGrid && cell && cell.column < levelGrid.columns && cell.row < levelGrid.rows ? readoutOf(levelGrid, cell) : null;
@@ -230,6 +257,7 @@ export function SpectrogramView({ spectrogramUrl, waveformUrl, path, durationSec
             margins={SPECTROGRAM_MARGINS}
             markers={markers}
             interactive
+            focus={focus}
             onPointer={levelGrid ? onPointer : undefined}
             cursor={levelGrid ? { cell, columns: levelGrid.columns, rows: levelGrid.rows, onKey } : undefined}
             missingText="The spectrogram image could not be loaded. It may have been removed from storage; reload to try again."
@@ -242,6 +270,7 @@ export function SpectrogramView({ spectrogramUrl, waveformUrl, path, durationSec
             margins={WAVEFORM_MARGINS}
             markers={markers}
             interactive={!spectrogramUrl}
+            focus={focus}
             missingText="The waveform image could not be loaded; reload to try again."
           />
         )}
