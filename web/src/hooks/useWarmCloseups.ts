@@ -6,7 +6,7 @@ import { useEffect } from "react";
 
 /** Enough for the usual first findings; files with many close-ups load the rest on demand. */
 const WARM_CLOSEUPS = 4;
-const SETTLE_MS = 300;
+const SETTLE_MS = 100;
 
 export function useWarmCloseups(closeups: ReadonlyArray<{ spectrogramUrl: string; waveformUrl: string }>): void {
   useEffect(() => {
