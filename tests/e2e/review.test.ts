@@ -98,15 +98,15 @@ describe("reviewing where the fault is, in chromium", () => {
     // Timing of "interactive with a close-up" on loopback, measured in the page on animation frames:
     // navigation start → the findings can be picked; the pick → the close-up's pictures decoded and Play shown.
     await page.goto(`${stack.baseUrl}/files/${file.id}`);
-    const pageReadyMs = await (
+    const pageReadyMs = (await (
       await page.waitForFunction(() => (document.querySelector("#findings-heading") && document.querySelector("table button") ? performance.now() : false), undefined, { polling: "raf" })
-    ).jsonValue();
+    ).jsonValue()) as number;
     const row = page.getByRole("region", { name: /^Findings/ }).getByRole("row").filter({ hasText: finding.message });
     await page.evaluate(() =>
       document.addEventListener("click", () => ((window as unknown as { pickedAt: number }).pickedAt = performance.now()), { capture: true, once: true }),
     );
     await row.getByRole("button").first().click();
-    const closeupReadyMs = await (
+    const closeupReadyMs = (await (
       await page.waitForFunction(
         () => {
           const images = [...document.querySelectorAll<HTMLImageElement>('img[alt^="Close-up"]')];
@@ -116,7 +116,7 @@ describe("reviewing where the fault is, in chromium", () => {
         undefined,
         { polling: "raf" },
       )
-    ).jsonValue();
+    ).jsonValue()) as number;
     console.error(`[e2e] file page interactive after ${pageReadyMs.toFixed(0)} ms; close-up ready ${closeupReadyMs.toFixed(0)} ms after picking the finding; total ${(pageReadyMs + closeupReadyMs).toFixed(0)} ms`);
     expect(pageReadyMs + closeupReadyMs).toBeLessThan(5000); // a sanity bound; the < 1 s figure is reported, not asserted
 
