@@ -7,6 +7,8 @@
 import { afterEach, beforeEach, describe, expect, it, vi } from "vitest";
 import { act, fireEvent, screen, waitFor, within } from "@testing-library/react";
 import { spectrogramPlotArea } from "@tidemark/shared/render/layout";
+import { COLOUR_MAP_SIZE, wracklineColourMap } from "@tidemark/shared/render/colourMap";
+import { SPECTROGRAM_DB_RANGE } from "@tidemark/shared/render/spectrogramImage";
 import type { CommentDto, FileDetailDto, Role } from "@tidemark/shared/types/api";
 import { stubFetch, type FetchStub } from "./fetchStub.ts";
 import { fileSummary, page, user } from "./fixtures.ts";
@@ -113,6 +115,12 @@ describe("level read-out", () => {
     expect(readout.textContent).toContain("Time 1:22.50");
     expect(readout.textContent).toContain("Frequency 5000 Hz");
     expect(readout.textContent).toContain("Level \u221224.0 dBFS");
+    // The swatch is the shared palette's colour for that level on the renderer's dB scale, as in the PNG.
+    const { minDb, maxDb } = SPECTROGRAM_DB_RANGE;
+    const index = Math.round(((-120 + (204 / 255) * 120 - minDb) / (maxDb - minDb)) * (COLOUR_MAP_SIZE - 1));
+    const map = wracklineColourMap();
+    const swatch = readout.querySelector("span[aria-hidden='true']") as HTMLElement;
+    expect(swatch.style.backgroundColor).toBe(`rgb(${map[3 * index]}, ${map[3 * index + 1]}, ${map[3 * index + 2]})`);
     fireEvent.pointerMove(plot, { clientX: 101, clientY: 449 });
     expect(document.querySelector("[data-readout]")?.textContent).toContain("Level \u2264 \u2212120 dBFS");
     fireEvent.pointerLeave(plot);

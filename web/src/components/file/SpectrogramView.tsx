@@ -5,7 +5,7 @@ import { wracklineCssGradient } from "@tidemark/shared/render/colourMap";
 import { SPECTROGRAM_DB_RANGE } from "@tidemark/shared/render/spectrogramImage";
 import { formatTimestamp } from "../../format/units.ts";
 import { cellAt, readoutOf, type GridCell, type LevelGrid, type Readout } from "./levelGrid.ts";
-import { levelColour } from "./levelColour.ts";
+import { dbColour } from "./levelColour.ts";
 import { placeFindings, plotAreaInset, type TimedFinding, SPECTROGRAM_MARGINS, WAVEFORM_MARGINS, type Margins, type NaturalSize } from "./plotGeometry.ts";
 
 const MARKER_FILL: Record<Severity, string> = {
@@ -192,6 +192,12 @@ export function formatReadoutHz(hz: number): string {
   return hz >= 10_000 ? `${(hz / 1000).toFixed(2)} kHz` : `${Math.round(hz)} Hz`;
 }
 
+/** The colour the PNG used for this level: the shared palette over the renderer's own dB range. */
+function readoutColour(readout: Readout): string {
+  const { minDb, maxDb } = SPECTROGRAM_DB_RANGE;
+  return dbColour(readout.levelDbfs ?? minDb, minDb, maxDb);
+}
+
 function ReadoutLine({ grid, readout }: { grid: LevelGrid | null | undefined; readout: Readout | null }) {
   if (!grid) return null;
   if (!readout) return <p className="px-1 text-xs text-white/70" data-readout="none">Point at the spectrogram to read time, frequency and level.</p>;
@@ -207,7 +213,7 @@ function ReadoutLine({ grid, readout }: { grid: LevelGrid | null | undefined; re
       <span>Time {formatTimestamp(readout.seconds)}</span>
       <span>Frequency {formatReadoutHz(readout.frequencyHz)}</span>
       <span className="inline-flex items-center gap-1">
-        <span aria-hidden="true" className="inline-block h-3 w-3 rounded-sm border border-white/40" style={{ backgroundColor: levelColour(readout.level) }} />
+        <span aria-hidden="true" className="inline-block h-3 w-3 rounded-sm border border-white/40" style={{ backgroundColor: readoutColour(readout) }} />
         Level {level}
       </span>
     </p>
