@@ -278,6 +278,11 @@ describe("keyboard", () => {
     fireEvent.keyDown(document.body, { key: "Escape" });
     expect(screen.queryByRole("dialog", { name: "Keyboard shortcuts" })).toBeNull();
 
+    // With no close-up open, Space is left to scroll the page.
+    const space = new KeyboardEvent("keydown", { key: " ", bubbles: true, cancelable: true });
+    document.body.dispatchEvent(space);
+    expect(space.defaultPrevented).toBe(false);
+
     // n: the first timed finding (clipping at 0:30) opens its close-up; n again: the dropout; p: back.
     fireEvent.keyDown(document.body, { key: "n" });
     expect(await screen.findByAltText(/^Close-up spectrogram of/)).toBeTruthy();

@@ -5,7 +5,8 @@
 import { useEffect } from "react";
 
 export interface FileShortcutActions {
-  togglePlay: () => void;
+  /** False when there is nothing to play: Space then keeps scrolling the page. */
+  togglePlay: () => boolean;
   nextFinding: () => void;
   previousFinding: () => void;
   accept: () => void;
@@ -52,7 +53,7 @@ export function useFileShortcuts(actions: FileShortcutActions): void {
       };
       switch (event.key) {
         case " ":
-          if (!onControl) run(actions.togglePlay);
+          if (!onControl && actions.togglePlay()) event.preventDefault();
           break;
         case "n":
           run(actions.nextFinding);

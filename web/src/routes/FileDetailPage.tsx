@@ -152,7 +152,11 @@ function FileReview({ f }: { f: FileDetailDto }) {
   const { previous, next } = neighbours;
   const shortcuts = useMemo(
     () => ({
-      togglePlay: () => closeupRef.current?.togglePlay(),
+      togglePlay: () => {
+        if (!closeupRef.current) return false;
+        closeupRef.current.togglePlay();
+        return true;
+      },
       nextFinding: () => stepFinding(1),
       previousFinding: () => stepFinding(-1),
       accept: () => reviewRef.current?.start("accepted"),
