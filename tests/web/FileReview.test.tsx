@@ -16,6 +16,7 @@ import { renderApp } from "./renderApp.tsx";
 import { CLOSEUP, levelGridJson, loudnessCurveJson, reviewDetail } from "./reviewFixtures.ts";
 import { charts } from "./uplotMock.ts";
 import { cellAt, decodeLevelGrid, readoutOf } from "../../web/src/components/file/levelGrid.ts";
+import { curveChartData, decodeLoudnessCurve, loudnessBand } from "../../web/src/components/file/loudnessCurve.ts";
 import { clampGainDb, gainDbToLinear, GAIN_MAX_DB, GAIN_START_DB } from "../../web/src/components/file/playbackSafety.ts";
 
 /** jsdom has no PointerEvent; React listens for "pointermove", so a MouseEvent of that name carries clientX/Y. */
@@ -443,6 +444,23 @@ describe("comments anchored to a time", () => {
 });
 
 describe("loudness curve", () => {
+  it("refuses a curve whose series differ in length and gives no band without a profile target", () => {
+    const good = loudnessCurveJson();
+    expect(() => decodeLoudnessCurve({ ...good, shortTermLufs: good.shortTermLufs.slice(1) })).toThrow(/same length/);
+    expect(() => decodeLoudnessCurve({ ...good, schema: "tidemark.loudness-curve/9" })).toThrow(/tidemark.loudness-curve\/1/);
+    expect(loudnessBand(null)).toBeNull();
+    expect(loudnessBand({ integratedLufs: null, truePeakMaxDbtp: -1 })).toBeNull();
+    expect(loudnessBand({ integratedLufs: { target: -16, warnToleranceLu: 1, failToleranceLu: 3 }, truePeakMaxDbtp: null })).toEqual({
+      target: -16,
+      warnLow: -17,
+      warnHigh: -15,
+      failLow: -19,
+      failHigh: -13,
+    });
+    // Without a band the chart gets just time, momentary and short-term.
+    expect(curveChartData(decodeLoudnessCurve(good), null)).toHaveLength(3);
+  });
+
   it("hands the chart the momentary and short-term series with the profile's band and the findings", async () => {
     charts.splice(0);
     serve("auditor");
