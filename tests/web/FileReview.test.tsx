@@ -414,8 +414,10 @@ describe("comments anchored to a time", () => {
         close = () => Promise.resolve();
       },
     );
-    serve("auditor", reviewDetail({ comments: [anchored] }));
+    serve("auditor", reviewDetail({ comments: [anchored, { ...anchored, id: 91, body: "Hiss here", atSeconds: 100, channel: null }] }));
     await openPage();
+    // 100 s lies in no close-up's window: the time is shown, but not as a link.
+    expect(screen.getByText("at 1:40.00 (no close-up covers this moment)")).toBeTruthy();
     const link = screen.getByRole("button", { name: "Go to 0:31.50, channel 2 in the close-up" });
     fireEvent.click(link);
     const img = await screen.findByAltText(/^Close-up spectrogram of/);

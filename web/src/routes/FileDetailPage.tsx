@@ -299,7 +299,13 @@ function FileReview({ f }: { f: FileDetailDto }) {
         </section>
         <aside className="space-y-4 md:grid md:grid-cols-2 md:gap-4 md:space-y-0 lg:col-start-2 lg:row-span-6 lg:row-start-1 lg:block lg:space-y-4" aria-label="Review and comments">
           <ReviewPanel file={f} ref={reviewRef} />
-          <CommentsThread fileId={f.id} comments={f.comments} anchor={openCloseup ? anchor : null} onJump={jumpTo} />
+          <CommentsThread
+            fileId={f.id}
+            comments={f.comments}
+            anchor={openCloseup ? anchor : null}
+            onJump={jumpTo}
+            canJump={(seconds) => closeups.some((c) => c.startSeconds <= seconds && seconds <= c.endSeconds)}
+          />
         </aside>
         {f.loudnessCurveUrl && (
           <section aria-labelledby="loudness-heading" className="min-w-0 rounded-md border border-line bg-surface p-3 lg:col-start-1">

@@ -55,9 +55,11 @@ interface CommentsThreadProps {
   anchor?: CommentAnchor | null;
   /** Moves the close-up and playhead to an anchored comment's time. */
   onJump?: (seconds: number, channel: number | null) => void;
+  /** Whether a close-up covers this time; otherwise the anchor is shown as plain text. */
+  canJump?: (seconds: number) => boolean;
 }
 
-export function CommentsThread({ fileId, comments, anchor = null, onJump }: CommentsThreadProps) {
+export function CommentsThread({ fileId, comments, anchor = null, onJump, canJump = () => true }: CommentsThreadProps) {
   const canComment = useCan("comment");
   return (
     <section aria-labelledby="comments-heading" className="rounded-md border border-line bg-surface p-3">
@@ -73,7 +75,10 @@ export function CommentsThread({ fileId, comments, anchor = null, onJump }: Comm
               <p className="text-xs text-ink-muted">
                 <span className="font-semibold text-ink">{comment.author.name || comment.author.email}</span> · {formatDateTime(comment.createdAt)}
               </p>
-              {comment.atSeconds !== null && comment.atSeconds !== undefined && (
+              {comment.atSeconds !== null && comment.atSeconds !== undefined && !canJump(comment.atSeconds) && (
+                <p className="mt-0.5 font-mono text-xs text-ink-muted">at {anchorText(comment.atSeconds, comment.channel ?? null)} (no close-up covers this moment)</p>
+              )}
+              {comment.atSeconds !== null && comment.atSeconds !== undefined && canJump(comment.atSeconds) && (
                 <button
                   type="button"
                   onClick={() => onJump?.(comment.atSeconds as number, comment.channel ?? null)}
