@@ -144,7 +144,7 @@ describe("File page", () => {
     expect(await screen.findByText("Crackle at 0:30 on the left.")).toBeTruthy();
     const [post] = stub.requests("POST", "/api/files/7/comments");
     // No close-up is open, so the comment is not anchored to a time.
-    expect(post.body).toEqual({ body: "Crackle at 0:30 on the left.", atSeconds: null, channel: null });
+    expect(post.body).toEqual({ body: "Crackle at 0:30 on the left." });
     expect(post.headers.get("x-tidemark-request")).toBe("1");
     await waitFor(() => expect(stub.requests("GET", "/api/files/7").length).toBeGreaterThan(readsBefore));
     expect((screen.getByLabelText("Add a comment") as HTMLTextAreaElement).value).toBe("");

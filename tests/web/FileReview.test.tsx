@@ -442,6 +442,13 @@ describe("comments anchored to a time", () => {
     fireEvent.click(screen.getByRole("button", { name: "Post comment" }));
     await waitFor(() => expect(stub.requests("POST", "/api/files/7/comments")).toHaveLength(1));
     expect(stub.requests("POST", "/api/files/7/comments")[0].body).toEqual({ body: "Crackle starts here", atSeconds: 29.5, channel: null });
+
+    // Unticked, the next comment is not anchored.
+    fireEvent.click(box);
+    fireEvent.change(screen.getByLabelText("Add a comment"), { target: { value: "General note" } });
+    fireEvent.click(screen.getByRole("button", { name: "Post comment" }));
+    await waitFor(() => expect(stub.requests("POST", "/api/files/7/comments")).toHaveLength(2));
+    expect(stub.requests("POST", "/api/files/7/comments")[1].body).toEqual({ body: "General note" });
   });
 });
 

@@ -26,10 +26,8 @@ function CommentForm({ fileId, anchor }: { fileId: number; anchor: CommentAnchor
   function submit(event: FormEvent) {
     event.preventDefault();
     const anchored = atPlayhead && anchor !== null;
-    add.mutate(
-      { body: body.trim(), atSeconds: anchored ? anchor.seconds : null, channel: anchored ? anchor.channel : null },
-      { onSuccess: () => setBody("") },
-    );
+    // Unanchored comments send the body alone, as before anchors existed.
+    add.mutate(anchored ? { body: body.trim(), atSeconds: anchor.seconds, channel: anchor.channel } : { body: body.trim() }, { onSuccess: () => setBody("") });
   }
   return (
     <form onSubmit={submit} className="mt-3">
