@@ -50,8 +50,8 @@ export function HearingCaution({ onConfirm, onCancel }: HearingCautionProps) {
       </p>
       <p id="hearing-caution-text" className="mt-1">
         Faulty recordings can jump in level without warning. A clipped passage, a dropout or a click can be far louder than the material around it,
-        and on headphones that can hurt. Turn your speakers or headphones down first; playback starts 20 dB below full level and this page never
-        raises it above the recording&apos;s own level.
+        and on headphones that can hurt. Turn your speakers or headphones down first; playback starts 20 dB below the recording's own level and this page never
+        raises it above that.
       </p>
       <div className="mt-2 flex gap-2">
         <button type="button" autoFocus onClick={onConfirm} className="rounded bg-harbour px-3 py-1 font-medium text-white hover:bg-harbour-strong">
