@@ -109,11 +109,12 @@ describe("review portal in chromium", () => {
     const index = rows.findIndex((f) => f.id === target.id);
     expect(index).toBeGreaterThanOrEqual(0);
     await page.goto(`${stack.baseUrl}/files?${view}`);
-    await page.locator(`a[href="/files/${target.id}"]`).waitFor();
+    // The row links carry the list's query, so the file page's previous/next walk this same list.
+    await page.locator(`a[href="/files/${target.id}?${view}"]`).waitFor();
     for (let i = 0; i <= index; i++) await page.keyboard.press("j");
     expect(await page.locator("[data-list-row]").nth(index).getAttribute("aria-current")).toBe("true");
     await page.keyboard.press("Enter");
-    await page.waitForURL(`**/files/${target.id}`);
+    await page.waitForURL((url) => url.pathname === `/files/${target.id}` && url.search === `?${view}`);
 
     await page.getByRole("heading", { name: target.path }).waitFor();
     expect(await expectImageDecoded(page, "Spectrogram of")).toBeGreaterThan(0);

@@ -128,7 +128,14 @@ describe("File page", () => {
   });
 
   it("posts a comment, shows it at once and re-reads the file", async () => {
-    const comment = { id: 90, author: { id: 1, email: "technician@harbourside.test", name: "Technician Demo" }, body: "Crackle at 0:30 on the left.", createdAt: "2026-11-21T08:00:00.000Z" };
+    const comment = {
+      id: 90,
+      author: { id: 1, email: "technician@harbourside.test", name: "Technician Demo" },
+      body: "Crackle at 0:30 on the left.",
+      createdAt: "2026-11-21T08:00:00.000Z",
+      atSeconds: null,
+      channel: null,
+    };
     const stub = serve("technician").on("POST", "/api/files/7/comments", { status: 201, body: comment });
     renderApp("/files/7");
     fireEvent.change(await screen.findByLabelText("Add a comment"), { target: { value: "  Crackle at 0:30 on the left. " } });
@@ -136,6 +143,7 @@ describe("File page", () => {
     fireEvent.click(screen.getByRole("button", { name: "Post comment" }));
     expect(await screen.findByText("Crackle at 0:30 on the left.")).toBeTruthy();
     const [post] = stub.requests("POST", "/api/files/7/comments");
+    // No close-up is open, so the comment is not anchored to a time.
     expect(post.body).toEqual({ body: "Crackle at 0:30 on the left." });
     expect(post.headers.get("x-tidemark-request")).toBe("1");
     await waitFor(() => expect(stub.requests("GET", "/api/files/7").length).toBeGreaterThan(readsBefore));

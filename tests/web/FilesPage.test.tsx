@@ -142,9 +142,10 @@ describe("Files table", () => {
     const bar = screen.getByRole("form", { name: /selected files/ });
     expect(within(bar).getByText("2 files selected")).toBeTruthy();
     const apply = within(bar).getByRole("button", { name: "Apply to 2" }) as HTMLButtonElement;
-    expect(apply.disabled).toBe(true);
-
+    // Accepting needs no reason; flagging does (issue #16), so the button waits for one.
+    expect(apply.disabled).toBe(false);
     fireEvent.change(within(bar).getByLabelText("New review state"), { target: { value: "flagged" } });
+    expect(apply.disabled).toBe(true);
     fireEvent.change(within(bar).getByLabelText(/Reason/), { target: { value: "clipping on both" } });
     const listReadsBefore = stub.requests("GET", "/api/files").length;
     fireEvent.click(apply);

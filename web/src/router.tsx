@@ -7,6 +7,7 @@ import { SignInPage } from "./routes/SignInPage.tsx";
 import { ForgotPasswordPage } from "./routes/ForgotPasswordPage.tsx";
 import { ResetPasswordPage } from "./routes/ResetPasswordPage.tsx";
 import { BatchesPage } from "./routes/BatchesPage.tsx";
+import { BatchDetailPage } from "./routes/BatchDetailPage.tsx";
 import { FilesPage } from "./routes/FilesPage.tsx";
 import { FileDetailPage } from "./routes/FileDetailPage.tsx";
 import { RunsPage } from "./routes/RunsPage.tsx";
@@ -34,6 +35,7 @@ export const routes: RouteObject[] = [
         children: [
           { index: true, element: <Navigate to="/batches" replace /> },
           { path: "/batches", element: <BatchesPage /> },
+          { path: "/batches/:batchId", element: <BatchDetailPage /> },
           { path: "/files", element: <FilesPage /> },
           { path: "/files/:fileId", element: <FileDetailPage /> },
           { path: "/runs", element: <RunsPage /> },

@@ -1,5 +1,5 @@
 import { keepPreviousData, queryOptions, useQuery } from "@tanstack/react-query";
-import type { BatchDto, BatchQuery, CollectionDto, Page } from "@tidemark/shared/types/api";
+import type { BatchDto, BatchOverviewDto, BatchQuery, CollectionDto, Page } from "@tidemark/shared/types/api";
 import { getJson, withQuery } from "./client.ts";
 import { batchKeys, collectionKeys } from "./keys.ts";
 
@@ -33,4 +33,14 @@ export function useBatch(id: number | undefined) {
 
 export function useCollections() {
   return useQuery(collectionListOptions());
+}
+
+export const batchOverviewOptions = (id: number) =>
+  queryOptions({
+    queryKey: batchKeys.overview(id),
+    queryFn: ({ signal }) => getJson<BatchOverviewDto>(`/api/batches/${id}/overview`, { signal }),
+  });
+
+export function useBatchOverview(id: number) {
+  return useQuery({ ...batchOverviewOptions(id), enabled: Number.isInteger(id) && id > 0 });
 }

@@ -8,6 +8,8 @@ import type {
   Page,
   ReviewChangeRequest,
 } from "@tidemark/shared/types/api";
+import { decodeLevelGrid } from "../components/file/levelGrid.ts";
+import { decodeLoudnessCurve } from "../components/file/loudnessCurve.ts";
 import { getJson, sendJson, withQuery } from "./client.ts";
 import { auditKeys, fileKeys } from "./keys.ts";
 
@@ -30,6 +32,25 @@ export function useFiles(query: FileQuery) {
 
 export function useFile(id: number) {
   return useQuery({ ...fileDetailOptions(id), enabled: Number.isInteger(id) && id > 0 });
+}
+
+/** The overview's level grid, decoded once and kept: it never changes for a stored scan. */
+export function useLevelGrid(id: number, url: string | null) {
+  return useQuery({
+    queryKey: fileKeys.levelGrid(id),
+    queryFn: async ({ signal }) => decodeLevelGrid(await getJson<unknown>(url as string, { signal })),
+    enabled: url !== null,
+    staleTime: Infinity,
+  });
+}
+
+export function useLoudnessCurve(id: number, url: string | null) {
+  return useQuery({
+    queryKey: fileKeys.loudnessCurve(id),
+    queryFn: async ({ signal }) => decodeLoudnessCurve(await getJson<unknown>(url as string, { signal })),
+    enabled: url !== null,
+    staleTime: Infinity,
+  });
 }
 
 /**
@@ -75,12 +96,19 @@ export function useBulkReview() {
   });
 }
 
+/** POST /api/files/:id/comments body: a comment may be anchored to a time (and channel) of the recording. */
+export interface NewCommentRequest {
+  body: string;
+  atSeconds?: number | null;
+  channel?: number | null;
+}
+
 /** The thread lives inside the file detail; the new comment is appended at once, then re-read. */
 export function useAddComment(fileId: number) {
   const client = useQueryClient();
   const detailKey = fileDetailOptions(fileId).queryKey;
   return useMutation({
-    mutationFn: (body: { body: string }) => sendJson<CommentDto>("POST", `/api/files/${fileId}/comments`, body),
+    mutationFn: (body: NewCommentRequest) => sendJson<CommentDto>("POST", `/api/files/${fileId}/comments`, body),
     onSuccess: (comment) => {
       client.setQueryData(detailKey, (detail) =>
         detail && !detail.comments.some((c) => c.id === comment.id) ? { ...detail, comments: [...detail.comments, comment] } : detail,

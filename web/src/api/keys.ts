@@ -26,6 +26,9 @@ export const fileKeys = {
   detail: (id: number) => [...fileKeys.details(), id] as const,
   /** The file's possible-duplicate links (issue #11), read apart from the detail. */
   duplicates: (id: number) => [...fileKeys.all, "duplicates", id] as const,
+  /** The overview spectrogram's level grid and the loudness curve (issue #16), fetched by URL from the detail. */
+  levelGrid: (id: number) => [...fileKeys.all, "level-grid", id] as const,
+  loudnessCurve: (id: number) => [...fileKeys.all, "loudness-curve", id] as const,
 };
 
 export const batchKeys = {
@@ -34,6 +37,7 @@ export const batchKeys = {
   list: (query: BatchQuery) => [...batchKeys.lists(), query] as const,
   details: () => [...batchKeys.all, "detail"] as const,
   detail: (id: number) => [...batchKeys.details(), id] as const,
+  overview: (id: number) => [...batchKeys.all, "overview", id] as const,
 };
 
 export const collectionKeys = {

@@ -1,4 +1,4 @@
-import { useId, type InputHTMLAttributes, type ReactNode, type SelectHTMLAttributes, type TextareaHTMLAttributes } from "react";
+import { useId, type InputHTMLAttributes, type ReactNode, type Ref, type SelectHTMLAttributes, type TextareaHTMLAttributes } from "react";
 
 const CONTROL =
   "w-full rounded border border-line-strong bg-surface px-2.5 py-1.5 text-ink placeholder:text-ink-muted/80 disabled:bg-sunken disabled:text-ink-muted";
@@ -12,7 +12,7 @@ function Label({ htmlFor, children, hint }: { htmlFor: string; children: ReactNo
   );
 }
 
-type TextFieldProps = InputHTMLAttributes<HTMLInputElement> & { label: ReactNode; hint?: ReactNode };
+type TextFieldProps = InputHTMLAttributes<HTMLInputElement> & { label: ReactNode; hint?: ReactNode; ref?: Ref<HTMLInputElement> };
 
 export function TextField({ label, hint, className, id, ...input }: TextFieldProps) {
   const generated = useId();

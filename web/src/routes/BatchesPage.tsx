@@ -139,6 +139,10 @@ export function BatchesPage() {
                       <Link to={`/files?batch=${batch.id}`} className="font-medium text-harbour-strong underline-offset-2 hover:underline">
                         #{batch.id}
                       </Link>
+                      {" "}
+                      <Link to={`/batches/${batch.id}`} className="text-xs text-harbour underline-offset-2 hover:underline" aria-label={`Overview of batch #${batch.id}`}>
+                        overview
+                      </Link>
                       <span className="block max-w-48 truncate font-mono text-xs text-ink-muted" title={batch.batchKey}>
                         {batch.batchKey}
                       </span>

@@ -29,6 +29,9 @@ export function FilesPage() {
   const [params, setParams] = useSearchParams();
   const query = useMemo(() => parseFileQuery(params), [params]);
   const view = params.toString();
+  // The file page keeps the list's query (without defaults), so its previous/next walk this same list.
+  const listSearch = fileQueryToParams(query).toString();
+  const linkSearch = listSearch ? `?${listSearch}` : "";
   const files = useFiles(query);
   const canReview = useCan("review");
   const navigate = useNavigate();
@@ -71,9 +74,9 @@ export function FilesPage() {
   const open = useCallback(
     (index: number) => {
       const file = items[index];
-      if (file) void navigate(`/files/${file.id}`);
+      if (file) void navigate(`/files/${file.id}${linkSearch}`);
     },
-    [items, navigate],
+    [items, navigate, linkSearch],
   );
   const toggleAt = useCallback(
     (index: number) => {
@@ -126,6 +129,7 @@ export function FilesPage() {
             onSort={(sort, order) => update({ sort, order })}
             selection={canReview ? { ids: selectedIds, onToggle: toggle, onToggleAll: toggleAll } : undefined}
             isRefreshing={files.isPlaceholderData}
+            linkSearch={linkSearch}
           />
           <Pagination
             page={page}

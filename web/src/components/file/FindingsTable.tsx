@@ -52,7 +52,7 @@ export function FindingsTable({ findings, selectedId, onSelect }: FindingsTableP
                     onClick={() => onSelect(finding.id)}
                     disabled={finding.startSeconds === null}
                     className="rounded font-mono text-harbour-strong underline underline-offset-2 disabled:text-ink-muted disabled:no-underline"
-                    title={finding.startSeconds === null ? "Concerns the whole file: no marker" : "Show on the spectrogram"}
+                    title={finding.startSeconds === null ? "Concerns the whole file: no marker" : "Open its close-up and mark it on the spectrogram"}
                   >
                     {span(finding)}
                   </button>

@@ -1,9 +1,11 @@
-import { useState, type CSSProperties } from "react";
+import { useState, type CSSProperties, type KeyboardEvent, type PointerEvent } from "react";
 import type { FindingDto } from "@tidemark/shared/types/api";
 import type { Severity } from "@tidemark/shared/types/report";
 import { wracklineCssGradient } from "@tidemark/shared/render/colourMap";
 import { SPECTROGRAM_DB_RANGE } from "@tidemark/shared/render/spectrogramImage";
 import { formatTimestamp } from "../../format/units.ts";
+import { cellAt, readoutOf, type GridCell, type LevelGrid, type Readout } from "./levelGrid.ts";
+import { dbColour } from "./levelColour.ts";
 import { placeFindings, plotAreaInset, type TimedFinding, SPECTROGRAM_MARGINS, WAVEFORM_MARGINS, type Margins, type NaturalSize } from "./plotGeometry.ts";
 
 const MARKER_FILL: Record<Severity, string> = {
@@ -89,9 +91,38 @@ interface PlotImageProps {
   markers: Omit<MarkerLayerProps, "interactive">;
   interactive: boolean;
   missingText: string;
+  /** Pointer position over the plot area as fractions (0–1) of its width and height; null when it leaves. */
+  onPointer?: (at: { fx: number; fy: number } | null) => void;
+  /** The open close-up's window and playhead, shown on the whole file's time axis. */
+  focus?: OverviewFocus | null;
+  /** The read-out's cell, drawn as a cross-hair, and keys that move it (for the keyboard). */
+  cursor?: { cell: GridCell | null; columns: number; rows: number; onKey: (event: KeyboardEvent<HTMLDivElement>) => void };
 }
 
-function PlotImage({ src, alt, margins, markers, interactive, missingText }: PlotImageProps) {
+export interface OverviewFocus {
+  startSeconds: number;
+  endSeconds: number;
+  playheadSeconds: number | null;
+}
+
+function FocusLayer({ focus, durationSeconds }: { focus: OverviewFocus; durationSeconds: number }) {
+  const pct = (s: number) => Math.min(100, Math.max(0, (s / durationSeconds) * 100));
+  return (
+    <>
+      <span
+        aria-hidden="true"
+        data-overview-window
+        className="pointer-events-none absolute inset-y-0 border-y-2 border-[#7cf3ff]/80 bg-[#7cf3ff]/10"
+        style={{ left: `${pct(focus.startSeconds)}%`, width: `max(${pct(focus.endSeconds) - pct(focus.startSeconds)}%, 3px)` }}
+      />
+      {focus.playheadSeconds !== null && (
+        <span aria-hidden="true" data-overview-playhead className="pointer-events-none absolute inset-y-0 w-px bg-[#7cf3ff]" style={{ left: `${pct(focus.playheadSeconds)}%` }} />
+      )}
+    </>
+  );
+}
+
+function PlotImage({ src, alt, margins, markers, interactive, missingText, onPointer, cursor, focus }: PlotImageProps) {
   const [size, setSize] = useState<NaturalSize | null>(null);
   const [failed, setFailed] = useState(false);
   if (failed) {
@@ -107,7 +138,35 @@ function PlotImage({ src, alt, margins, markers, interactive, missingText }: Plo
         onError={() => setFailed(true)}
       />
       {size && size.width > 0 && size.height > 0 && markers.durationSeconds > 0 && (
-        <div className="absolute" style={plotAreaInset(margins, size)} data-plot-area>
+        <div
+          className="absolute"
+          style={plotAreaInset(margins, size)}
+          data-plot-area
+          onPointerMove={
+            onPointer &&
+            ((e: PointerEvent<HTMLDivElement>) => {
+              const rect = e.currentTarget.getBoundingClientRect();
+              if (rect.width > 0 && rect.height > 0) onPointer({ fx: (e.clientX - rect.left) / rect.width, fy: (e.clientY - rect.top) / rect.height });
+            })
+          }
+          onPointerLeave={onPointer && (() => onPointer(null))}
+          tabIndex={cursor ? 0 : undefined}
+          role={cursor ? "group" : undefined}
+          aria-label={cursor ? "Spectrogram read-out: arrow keys move the cross-hair (Shift: 10 steps), Escape hides it" : undefined}
+          onKeyDown={cursor?.onKey}
+        >
+          {focus && markers.durationSeconds > 0 && <FocusLayer focus={focus} durationSeconds={markers.durationSeconds} />}
+          {cursor?.cell && (
+            <span
+              aria-hidden="true"
+              data-crosshair
+              className="pointer-events-none absolute z-30 size-2.5 -translate-x-1/2 -translate-y-1/2 rounded-full border-2 border-white shadow-[0_0_0_1px_black]"
+              style={{
+                left: `${((cursor.cell.column + 0.5) / cursor.columns) * 100}%`,
+                top: `${((cursor.rows - 1 - cursor.cell.row + 0.5) / cursor.rows) * 100}%`,
+              }}
+            />
+          )}
           <MarkerLayer {...markers} interactive={interactive} />
         </div>
       )}
@@ -123,11 +182,70 @@ interface SpectrogramViewProps {
   findings: FindingDto[];
   selectedId: number | null;
   onSelect: (id: number) => void;
+  /** The level grid behind the spectrogram's colours; with it, the pointer reads time, frequency and level. */
+  levelGrid?: LevelGrid | null;
+  focus?: OverviewFocus | null;
+}
+
+/** Frequencies to the hertz below 10 kHz: the read-out is checked against a known tone. */
+export function formatReadoutHz(hz: number): string {
+  return hz >= 10_000 ? `${(hz / 1000).toFixed(2)} kHz` : `${Math.round(hz)} Hz`;
+}
+
+/** The colour the PNG used for this level: the shared palette over the renderer's own dB range. */
+function readoutColour(readout: Readout): string {
+  const { minDb, maxDb } = SPECTROGRAM_DB_RANGE;
+  return dbColour(readout.levelDbfs ?? minDb, minDb, maxDb);
+}
+
+function ReadoutLine({ grid, readout }: { grid: LevelGrid | null | undefined; readout: Readout | null }) {
+  if (!grid) return null;
+  if (!readout) return <p className="px-1 text-xs text-white/70" data-readout="none">Point at the spectrogram to read time, frequency and level.</p>;
+  const level = readout.levelDbfs === null ? `\u2264 \u2212${Math.abs(grid.dbMin)} dBFS` : `${readout.levelDbfs < 0 ? "\u2212" : ""}${Math.abs(readout.levelDbfs).toFixed(1)} dBFS`;
+  return (
+    <p
+      className="flex flex-wrap items-center gap-x-4 px-1 font-mono text-xs text-white"
+      data-readout
+      data-seconds={readout.seconds.toFixed(4)}
+      data-frequency-hz={readout.frequencyHz.toFixed(2)}
+      data-level-dbfs={readout.levelDbfs === null ? "" : readout.levelDbfs.toFixed(2)}
+    >
+      <span>Time {formatTimestamp(readout.seconds)}</span>
+      <span>Frequency {formatReadoutHz(readout.frequencyHz)}</span>
+      <span className="inline-flex items-center gap-1">
+        <span aria-hidden="true" className="inline-block h-3 w-3 rounded-sm border border-white/40" style={{ backgroundColor: readoutColour(readout) }} />
+        Level {level}
+      </span>
+    </p>
+  );
 }
 
 /** The server's spectrogram with its waveform strip below, both with finding markers on the same time axis. */
-export function SpectrogramView({ spectrogramUrl, waveformUrl, path, durationSeconds, findings, selectedId, onSelect }: SpectrogramViewProps) {
+export function SpectrogramView({ spectrogramUrl, waveformUrl, path, durationSeconds, findings, selectedId, onSelect, levelGrid, focus }: SpectrogramViewProps) {
   const markers = { findings, durationSeconds: durationSeconds ?? 0, selectedId, onSelect };
+  const [cell, setCell] = useState<GridCell | null>(null);
+  const readout: Readout | null = levelGrid && cell && cell.column < levelGrid.columns && cell.row < levelGrid.rows ? readoutOf(levelGrid, cell) : null;
+  // Fractions of the plot area, so the contract's formula runs on a unit plot (§2).
+  const onPointer = (at: { fx: number; fy: number } | null) => {
+    setCell(levelGrid && at ? cellAt(levelGrid, { left: 0, top: 0, width: 1, height: 1 }, at.fx, at.fy) : null);
+  };
+  const onKey = (event: KeyboardEvent<HTMLDivElement>) => {
+    if (!levelGrid) return;
+    const step = event.shiftKey ? 10 : 1;
+    const move: Record<string, [number, number]> = { ArrowLeft: [-step, 0], ArrowRight: [step, 0], ArrowUp: [0, step], ArrowDown: [0, -step] };
+    if (event.key === "Escape") {
+      setCell(null);
+      return;
+    }
+    const delta = move[event.key];
+    if (!delta) return;
+    event.preventDefault();
+    const from = cell ?? { column: Math.floor(levelGrid.columns / 2), row: Math.floor(levelGrid.rows / 2) };
+    setCell({
+      column: Math.min(levelGrid.columns - 1, Math.max(0, from.column + (cell ? delta[0] : 0))),
+      row: Math.min(levelGrid.rows - 1, Math.max(0, from.row + (cell ? delta[1] : 0))),
+    });
+  };
   if (!spectrogramUrl && !waveformUrl) {
     return (
       <p className="rounded-md border border-dashed border-line-strong bg-surface px-4 py-6 text-center text-ink-muted">
@@ -145,6 +263,9 @@ export function SpectrogramView({ spectrogramUrl, waveformUrl, path, durationSec
             margins={SPECTROGRAM_MARGINS}
             markers={markers}
             interactive
+            focus={focus}
+            onPointer={levelGrid ? onPointer : undefined}
+            cursor={levelGrid ? { cell, columns: levelGrid.columns, rows: levelGrid.rows, onKey } : undefined}
             missingText="The spectrogram image could not be loaded. It may have been removed from storage; reload to try again."
           />
         )}
@@ -155,10 +276,12 @@ export function SpectrogramView({ spectrogramUrl, waveformUrl, path, durationSec
             margins={WAVEFORM_MARGINS}
             markers={markers}
             interactive={!spectrogramUrl}
+            focus={focus}
             missingText="The waveform image could not be loaded; reload to try again."
           />
         )}
       </div>
+      <ReadoutLine grid={levelGrid} readout={readout} />
       <figcaption className="mt-2 flex flex-wrap gap-x-4 gap-y-1 px-1 text-xs text-white/85">
         <span>Markers:</span>
         <LegendSwatch color="var(--color-marker-fail)" label="fail" />

@@ -5,6 +5,7 @@ import { useBulkReview } from "../../api/files.ts";
 import { buttonClass, SelectField, TextField } from "../fields.tsx";
 import { InlineError } from "../states.tsx";
 import { reviewStateOptions } from "../ReviewStateSelect.tsx";
+import { reasonRequired } from "../file/ReviewPanel.tsx";
 
 interface BulkReviewBarProps {
   ids: number[];
@@ -16,6 +17,7 @@ export function BulkReviewBar({ ids, onDone, onClear }: BulkReviewBarProps) {
   const [reviewState, setReviewState] = useState<ReviewState>("accepted");
   const [reason, setReason] = useState("");
   const bulk = useBulkReview();
+  const required = reasonRequired(reviewState);
 
   function submit(event: FormEvent) {
     event.preventDefault();
@@ -31,8 +33,16 @@ export function BulkReviewBar({ ids, onDone, onClear }: BulkReviewBarProps) {
         <SelectField label="New review state" value={reviewState} onChange={(e) => setReviewState(e.target.value as ReviewState)} className="w-72">
           {reviewStateOptions()}
         </SelectField>
-        <TextField label="Reason" required value={reason} onChange={(e) => setReason(e.target.value)} placeholder="Why, for the review history" className="min-w-64 flex-1" />
-        <button type="submit" className={buttonClass.primary} disabled={bulk.isPending || !reason.trim()}>
+        <TextField
+          label="Reason"
+          hint={required ? "(required)" : "(optional)"}
+          required={required}
+          value={reason}
+          onChange={(e) => setReason(e.target.value)}
+          placeholder="Why, for the review history"
+          className="min-w-64 flex-1"
+        />
+        <button type="submit" className={buttonClass.primary} disabled={bulk.isPending || (required && !reason.trim())}>
           {bulk.isPending ? "Applying…" : `Apply to ${ids.length}`}
         </button>
         <button type="button" className={buttonClass.secondary} onClick={onClear}>

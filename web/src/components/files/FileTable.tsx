@@ -14,9 +14,11 @@ interface FileTableProps {
   /** Present only for roles that may change review states. */
   selection?: { ids: ReadonlySet<number>; onToggle: (id: number) => void; onToggleAll: () => void };
   isRefreshing: boolean;
+  /** The list's query string ("?batch=3&…" or ""), carried into each file's address for previous/next. */
+  linkSearch?: string;
 }
 
-export function FileTable({ items, activeIndex, onActivate, sort, order, onSort, selection, isRefreshing }: FileTableProps) {
+export function FileTable({ items, activeIndex, onActivate, sort, order, onSort, selection, isRefreshing, linkSearch = "" }: FileTableProps) {
   const allSelected = selection !== undefined && items.length > 0 && items.every((f) => selection.ids.has(f.id));
   const header = (key: FileSortKey, label: string, className?: string) => (
     <SortableHeader sortKey={key} activeKey={sort} order={order} onSort={onSort} className={className}>
@@ -66,7 +68,7 @@ export function FileTable({ items, activeIndex, onActivate, sort, order, onSort,
                   </td>
                 )}
                 <td className="max-w-[13rem] px-1.5 py-1.5 lg:px-2 lg:max-w-[24rem]">
-                  <Link to={`/files/${file.id}`} onFocus={() => onActivate(index)} className="block truncate font-medium text-harbour-strong underline-offset-2 hover:underline" title={file.path}>
+                  <Link to={`/files/${file.id}${linkSearch}`} onFocus={() => onActivate(index)} className="block truncate font-medium text-harbour-strong underline-offset-2 hover:underline" title={file.path}>
                     {file.path}
                   </Link>
                   <span className="block truncate text-xs text-ink-muted">{file.collection.name}</span>
