@@ -161,7 +161,7 @@ export async function analyseFile(
   const { format, metadata, layout } = read.info;
   const checksums = task.expectedChecksums?.length ? compareChecksums(task.expectedChecksums, new Map([...read.digests, ["sha256", read.sha256]])) : undefined;
   const findings = [...analysed.findings, ...readerFindings(layout, read), ...checksumFindings(checksums ?? [])];
-  const judged = judge(ctx.profile, { format, metrics: analysed.metrics, findings, error: null });
+  const judged = judge(ctx.profile, { format, metrics: analysed.metrics, findings, error: null, metadata });
 
   let spectrogram: string | null = null;
   let imageError: string | null = null;

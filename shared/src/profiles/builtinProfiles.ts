@@ -52,6 +52,19 @@ const DETECTION_RULES = [
     "44.1/48 kHz is band-limited, lossy origin suspected",
 ];
 
+/**
+ * FADGI, "Embedding Metadata in Digital Audio Files: Guideline for Federal Agency Use of Broadcast WAVE Files",
+ * version 2 (approved 23 April 2012). Its classification: strongly recommended bext Originator,
+ * OriginatorReference, Description, OriginationDate, Version, UMID; recommended TimeReference and INFO IARL;
+ * the rest optional. A version 3 (2021) exists; we have not checked whether it reclassifies any field.
+ */
+export const FADGI_BWF_GUIDELINE = "FADGI Guideline for Federal Agency Use of Broadcast WAVE Files, version 2 (2012)";
+const FADGI_STRONGLY_RECOMMENDED = ["bext", "bext.Description", "bext.Originator", "bext.OriginatorReference", "bext.OriginationDate", "bext.UMID"];
+const FADGI_RECOMMENDED = ["bext.TimeReference", "INFO.IARL"];
+
+/** Judge what metadata is there (formats, version, CodingHistory, loudness fields) without demanding any. */
+const METADATA_CONSISTENCY = { required: [], recommended: [], formats: true, codingHistory: true, loudnessToleranceLu: 0.5 };
+
 // Common practice: |DC| under 0.1 % of full scale is inaudible and harmless; 1 % costs headroom.
 const DC_OFFSET_LIMITS = { warn: 0.1, fail: 1 };
 
@@ -65,11 +78,15 @@ const preservationMaster: ProfileInput = {
     "IASA TC-04 (2nd ed., 2009): 48 kHz / 24-bit minimum for analogue transfers, 96 kHz recommended",
     "README › Profiles: |DC| < 0.1 % FS warn / 1 % fail (common practice)",
     ...DETECTION_RULES,
+    `${FADGI_BWF_GUIDELINE}: its strongly recommended fields are required here, its recommended ones recommended`,
+    "EBU Tech 3285 (v2, 2011): OriginationDate yyyy-mm-dd, OriginationTime hh:mm:ss, loudness fields; EBU R 98: CodingHistory; SMPTE 330M: UMID",
+    "bext loudness fields may differ from the measured values by 0.5 LU / 0.5 dB (common practice)",
   ],
   format: { encodings: ["pcm"], minSampleRateHz: 48000, minBitDepth: 24 },
   thresholds: { dcOffsetPercent: DC_OFFSET_LIMITS },
-  severities: { ...BASE_SEVERITIES, "padded-bit-depth": "fail", upsampled: "fail" },
+  severities: { ...BASE_SEVERITIES, "padded-bit-depth": "fail", upsampled: "fail", "metadata-format": "fail", "coding-history-mismatch": "fail" },
   settings: {},
+  metadata: { ...METADATA_CONSISTENCY, required: FADGI_STRONGLY_RECOMMENDED, recommended: FADGI_RECOMMENDED },
 };
 
 const accessCopy: ProfileInput = {
@@ -85,6 +102,7 @@ const accessCopy: ProfileInput = {
   // An access copy is often made from a 24-bit master: unused low bits say nothing about it.
   severities: { ...BASE_SEVERITIES, "padded-bit-depth": "info" },
   settings: {},
+  metadata: METADATA_CONSISTENCY,
 };
 
 const broadcastLoudness: ProfileInput = {
@@ -105,6 +123,7 @@ const broadcastLoudness: ProfileInput = {
   // True peak is ruled by the threshold above; a near-clip sample peak says nothing more.
   severities: { ...BASE_SEVERITIES, "near-clip": "info", "padded-bit-depth": "info" },
   settings: {},
+  metadata: METADATA_CONSISTENCY,
 };
 
 export const BUILTIN_PROFILES: readonly Profile[] = [preservationMaster, accessCopy, broadcastLoudness].map((p) =>

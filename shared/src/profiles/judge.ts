@@ -2,7 +2,8 @@
  * Judges one file against a profile: re-assigns the analysers' severities, adds the findings the
  * profile's own thresholds rule on (format, true peak, loudness, DC offset) and gives the verdict.
  */
-import type { AudioFormat, FileMetrics, Finding, FindingCode, ReportError, Severity, Verdict } from "../types/report.ts";
+import type { AudioFormat, FileMetadata, FileMetrics, Finding, FindingCode, ReportError, Severity, Verdict } from "../types/report.ts";
+import { METADATA_CODES, metadataFindings } from "../metadata/metadataRules.ts";
 import { formatMismatches } from "./formatDemands.ts";
 import type { Limit, Profile } from "./profileSchema.ts";
 
@@ -11,6 +12,8 @@ export interface JudgeInput {
   metrics: FileMetrics | null;
   findings: Finding[];
   error: ReportError | null;
+  /** Embedded metadata, judged when the profile has metadata rules. */
+  metadata?: FileMetadata;
 }
 
 export interface Judgement {
@@ -48,6 +51,7 @@ function codesRuledByProfile(profile: Profile): Set<FindingCode> {
   if (profile.thresholds.samplePeakDbfs) ruled.add("near-clip");
   if (profile.thresholds.loudness) ruled.add("loudness-off-target");
   if (profile.thresholds.dcOffsetPercent) ruled.add("dc-offset");
+  if (profile.metadata) for (const code of METADATA_CODES) ruled.add(code);
   return ruled;
 }
 
@@ -135,6 +139,9 @@ export function judge(profile: Profile, input: JudgeInput): Judgement {
     if (input.metrics) {
       // Thresholds set the severity; "off" in the severity map still silences the code.
       findings.push(...thresholdFindings(profile, input.metrics).filter((f) => profile.severities[f.code] !== "off"));
+    }
+    if (profile.metadata && input.metadata) {
+      findings.push(...metadataFindings(profile.metadata, { format: input.format, metadata: input.metadata, metrics: input.metrics }, (code) => profile.severities[code]));
     }
   }
   findings.sort(compareFindings);

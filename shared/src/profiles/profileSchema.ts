@@ -6,6 +6,7 @@
 import { z } from "zod";
 import { FINDING_CODES, SEVERITIES } from "../types/report.ts";
 import type { AnalysisSettings } from "../types/settings.ts";
+import { isMetadataFieldName, type MetadataFieldName } from "../metadata/metadataFields.ts";
 
 /** A severity for a finding code, or "off" to drop that finding. */
 export const PROFILE_SEVERITIES = [...SEVERITIES, "off"] as const;
@@ -87,6 +88,28 @@ export const settingsOverrideSchema = z.strictObject({
     .optional(),
 });
 
+const metadataFieldSchema = z
+  .string()
+  .refine(isMetadataFieldName, {
+    message: "expected a bext field (e.g. bext.Originator), bext, iXML or INFO.XXXX (four upper-case letters or digits)",
+  })
+  .transform((s) => s as MetadataFieldName);
+
+/** Embedded-metadata rules (shared/src/metadata/metadataRules.ts); absent: metadata is not judged. */
+export const metadataRulesSchema = z
+  .strictObject({
+    required: z.array(metadataFieldSchema).default([]),
+    recommended: z.array(metadataFieldSchema).default([]),
+    formats: z.boolean().default(true),
+    codingHistory: z.boolean().default(true),
+    loudnessToleranceLu: z.number().min(0).max(10).nullable().default(0.5),
+  })
+  .superRefine((rules, ctx) => {
+    rules.recommended.forEach((f, i) => {
+      if (rules.required.includes(f)) ctx.addIssue({ code: "custom", path: ["recommended", i], message: `${f} is already required` });
+    });
+  });
+
 export const profileSchema = z.strictObject({
   /** Lets editors find the schema; ignored otherwise. */
   $schema: z.string().optional(),
@@ -100,6 +123,7 @@ export const profileSchema = z.strictObject({
   thresholds: thresholdsSchema.default({}),
   severities: z.partialRecord(z.enum(FINDING_CODES), z.enum(PROFILE_SEVERITIES)).default({}),
   settings: settingsOverrideSchema.default({}),
+  metadata: metadataRulesSchema.optional(),
 });
 
 export type Profile = z.infer<typeof profileSchema>;
@@ -108,6 +132,7 @@ export type FormatDemands = z.infer<typeof formatDemandsSchema>;
 export type ProfileThresholds = z.infer<typeof thresholdsSchema>;
 export type Limit = z.infer<typeof limitSchema>;
 export type SettingsOverride = z.infer<typeof settingsOverrideSchema>;
+export type ProfileMetadataRules = z.infer<typeof metadataRulesSchema>;
 
 // Compile-time guard: the override schema must not drift from AnalysisSettings.
 type MissingOverride = Exclude<keyof AnalysisSettings, keyof SettingsOverride>;

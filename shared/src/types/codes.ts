@@ -37,6 +37,13 @@ export const FINDING_CODES = [
   "checksum-mismatch",
   "click",
   "digital-silence",
+  // Embedded-metadata rules of a profile (shared/src/metadata/metadataRules.ts).
+  "metadata-missing",
+  "metadata-recommended-missing",
+  "metadata-format",
+  "bext-version-mismatch",
+  "coding-history-mismatch",
+  "bext-loudness-mismatch",
 ] as const;
 
 export type Verdict = (typeof VERDICTS)[number];

@@ -42,6 +42,19 @@ export const bextSchema = z.object({
   version: z.number().int(),
   umid: z.string().nullable(),
   codingHistory: z.string(),
+  /**
+   * Loudness fields of a version-2 bext (EBU Tech 3285 v2, 2011), in LUFS / LU / dBTP; null where the writer
+   * marked a value as not computed (0x7FFF). Absent when the chunk is shorter or the bytes are unused.
+   */
+  loudness: z
+    .object({
+      loudnessValue: z.number().nullable(),
+      loudnessRange: z.number().nullable(),
+      maxTruePeakLevel: z.number().nullable(),
+      maxMomentaryLoudness: z.number().nullable(),
+      maxShortTermLoudness: z.number().nullable(),
+    })
+    .optional(),
 });
 
 export const fileMetadataSchema = z.object({

@@ -18,12 +18,39 @@ function umidHex(bytes: Uint8Array): string | null {
   return out;
 }
 
+/** Through the loudness fields of version 2 (EBU Tech 3285 v2, 2.3: five 16-bit values at 412). */
+const BEXT_LOUDNESS_END = 422;
+/** EBU Tech 3285 v2: a loudness value that was not computed is written as 0x7FFF (from memory). */
+const LOUDNESS_NOT_SET = 0x7fff;
+
+/** The five loudness fields (signed, ×100), or undefined when the bytes are absent or all zero before version 2. */
+function bextLoudness(body: Uint8Array, version: number): BextMetadata["loudness"] {
+  if (body.length < BEXT_LOUDNESS_END) return undefined;
+  const raw: number[] = [];
+  let anySet = false;
+  for (let at = 412; at < BEXT_LOUDNESS_END; at += 2) {
+    const u = readUint16(body, at);
+    if (u !== 0) anySet = true;
+    raw.push(u);
+  }
+  if (!anySet && version < 2) return undefined;
+  const value = (u: number): number | null => (u === LOUDNESS_NOT_SET ? null : (u >= 0x8000 ? u - 0x10000 : u) / 100);
+  return {
+    loudnessValue: value(raw[0]),
+    loudnessRange: value(raw[1]),
+    maxTruePeakLevel: value(raw[2]),
+    maxMomentaryLoudness: value(raw[3]),
+    maxShortTermLoudness: value(raw[4]),
+  };
+}
+
 /** Parses a bext body (possibly cut at the reader's bound); null when too short to hold the fixed fields. */
 export function parseBextChunk(body: Uint8Array): BextMetadata | null {
   if (body.length < BEXT_MIN_BYTES) return null;
   const version = readUint16(body, 346);
   // TimeReference: sample count since midnight, low then high 32 bits (EBU Tech 3285, 2.3).
   const timeReference = readUint32(body, 338) + readUint32(body, 342) * 0x100000000;
+  const loudness = bextLoudness(body, version);
   return {
     description: decodeTextField(body.subarray(0, 256)),
     originator: decodeTextField(body.subarray(256, 288)),
@@ -32,8 +59,10 @@ export function parseBextChunk(body: Uint8Array): BextMetadata | null {
     originationTime: decodeTextField(body.subarray(330, 338)),
     timeReference,
     version,
-    // The UMID field exists from version 1 on; version 0 writers left it reserved.
-    umid: version >= 1 && body.length >= 412 ? umidHex(body.subarray(348, 412)) : null,
+    // The UMID field exists from version 1 on; read for any version so a version-0 chunk that uses it
+    // can be reported as inconsistent (metadata rules) rather than hidden.
+    umid: body.length >= 412 ? umidHex(body.subarray(348, 412)) : null,
     codingHistory: body.length > BEXT_FIXED_BYTES ? decodeTextField(body.subarray(BEXT_FIXED_BYTES)) : "",
+    ...(loudness ? { loudness } : {}),
   };
 }
