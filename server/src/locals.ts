@@ -1,5 +1,5 @@
 /** Types of what middleware puts on res.locals and in the session. */
-import type { ApiToken, Batch, FileResult, User } from "./models/index.ts";
+import type { ApiToken, Batch, Collection, FileResult, User } from "./models/index.ts";
 
 export interface AuthContext {
   user: User;
@@ -17,6 +17,7 @@ declare global {
       batch?: Batch;
       targetUser?: User;
       token?: ApiToken;
+      collection?: Collection;
     }
   }
 }

@@ -15,6 +15,8 @@ import { finding, ingest, scanReport } from "./helpers/reports.ts";
 import { claimedJobs, createRun, deadJob, fileOf, runRequest } from "./helpers/runs.ts";
 import { startTestApp, TEST_PASSWORD, type TestApp } from "./helpers/testApp.ts";
 
+const collectionOf = async (fx: Fixture): Promise<number> => (await FileResult.findByPk(fx.fileId))!.collectionId;
+
 // shared/README.md, "Who uses it": the roles table, row by row.
 const README_TABLE = {
   view: ["admin", "supervisor", "technician", "auditor"],
@@ -124,6 +126,9 @@ const ROUTES: RouteCase[] = [
   { method: "get", path: () => "/api/exports/audit.csv", access: "export", accepts: both, ok: 200 },
   { method: "get", path: (fx) => `/api/exports/batches/${fx.batchId}.json`, access: "export", accepts: both, ok: 200 },
   { method: "get", path: (fx) => `/api/exports/batches/${fx.batchId}.pdf`, access: "export", accepts: both, ok: 200 },
+  { method: "get", path: (fx) => `/api/exports/batches/${fx.batchId}.premis.xml`, access: "export", accepts: both, ok: 200 },
+  { method: "get", path: async (fx) => `/api/exports/collections/${await collectionOf(fx)}.premis.xml`, access: "export", accepts: both, ok: 200 },
+  { method: "get", path: async (fx) => `/api/exports/collections/${await collectionOf(fx)}.json`, access: "export", accepts: both, ok: 200 },
   { method: "get", path: () => "/api/audit", access: "export", accepts: both, ok: 200 },
   { method: "post", path: () => "/api/ingest", access: "upload", accepts: ["token"], ok: 201, multipart: true },
   { method: "post", path: () => "/api/runs", access: "upload", accepts: ["token"], ok: 201, body: () => runRequest({ name: `matrix ${unique()}` }) },

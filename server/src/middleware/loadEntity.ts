@@ -53,3 +53,11 @@ export const loadToken: RequestHandler = async (req, res, next) => {
   res.locals.token = token;
   next();
 };
+
+export const loadCollection: RequestHandler = async (req, res, next) => {
+  const id = idParam(req, "collection");
+  const collection = await Collection.findByPk(id);
+  if (!collection) throw notFound("collection", id);
+  res.locals.collection = collection;
+  next();
+};

@@ -15,6 +15,7 @@ import { parseWith } from "../validate.ts";
 const batchQuery = z
   .object({
     collection: optionalId,
+    q: z.string().trim().max(200).optional(),
     from: optionalDate,
     to: optionalDateTo,
     sort: optionalEnum(BATCH_SORT_KEYS),
@@ -31,6 +32,19 @@ function orderFor(sort: BatchSortKey, direction: "ASC" | "DESC"): Order {
   return [by, ["id", direction]];
 }
 
+/** `q`: a batch number ("42", "#42") matches that batch; any text matches part of the batch key or collection name. */
+function searchWhere(q: string): WhereOptions<Batch> {
+  const like = `%${q.replace(/[\\%_]/g, (c) => `\\${c}`)}%`;
+  const number = /^#?(\d{1,9})$/.exec(q);
+  return {
+    [Op.or]: [
+      ...(number ? [{ id: Number(number[1]) }] : []),
+      { batchKey: { [Op.iLike]: like } },
+      { "$collection.name$": { [Op.iLike]: like } },
+    ],
+  } as WhereOptions<Batch>;
+}
+
 export function batchesRouter(ctx: AppContext): Router {
   const router = Router();
 
@@ -38,6 +52,7 @@ export function batchesRouter(ctx: AppContext): Router {
     const query = parseWith(batchQuery, req.query, "query");
     const where: WhereOptions<Batch> = {};
     if (query.collection) Object.assign(where, { collectionId: query.collection });
+    if (query.q) Object.assign(where, searchWhere(query.q));
     // from/to are when the scan ran (batch startedAt), inclusive.
     if (query.from || query.to) {
       Object.assign(where, { startedAt: { ...(query.from ? { [Op.gte]: query.from } : {}), ...(query.to ? { [Op.lte]: query.to } : {}) } });
@@ -45,7 +60,7 @@ export function batchesRouter(ctx: AppContext): Router {
     const sort = query.sort ?? "createdAt";
     const direction = (query.order ?? (query.sort ? "asc" : "desc")).toUpperCase() as "ASC" | "DESC";
     const [total, rows] = await Promise.all([
-      Batch.count({ where }),
+      Batch.count({ where, include: [{ model: Collection, as: "collection" }] }),
       Batch.findAll({
         where,
         include: [

@@ -1,4 +1,4 @@
-import { Router } from "express";
+import { Router, type Response } from "express";
 import { z } from "zod";
 import type { AppContext } from "../context.ts";
 import { writeAuditCsv } from "../exports/auditCsv.ts";
@@ -6,7 +6,11 @@ import { batchExport } from "../exports/batchJson.ts";
 import { writeBatchPdf } from "../exports/batchPdf.ts";
 import { writeFilesCsv } from "../exports/filesCsv.ts";
 import { requirePermission } from "../middleware/auth.ts";
-import { loadBatch } from "../middleware/loadEntity.ts";
+import { loadBatch, loadCollection } from "../middleware/loadEntity.ts";
+import { conflict } from "../errors.ts";
+import { writeCollectionJson } from "../exports/collectionJson.ts";
+import { premisForBatch, premisForCollection } from "../exports/premisData.ts";
+import { premisXml, type PremisDocument } from "../exports/premisXml.ts";
 import { optionalDate, optionalDateTo, optionalId } from "../queryParams.ts";
 import { auditQueryFilters, auditWhere } from "../services/auditQuery.ts";
 import { parseWith } from "../validate.ts";
@@ -45,5 +49,27 @@ export function exportsRouter(ctx: AppContext): Router {
     ctx.logger.info(`exported batch ${batch.id} as PDF`);
   });
 
+  router.get("/exports/batches/:id.premis.xml", loadBatch, async (_req, res) => {
+    const batch = res.locals.batch!;
+    sendPremis(res, await premisForBatch(batch), `tidemark-batch-${batch.id}.premis.xml`, `batch ${batch.id}`);
+  });
+
+  router.get("/exports/collections/:id.premis.xml", loadCollection, async (_req, res) => {
+    const collection = res.locals.collection!;
+    sendPremis(res, await premisForCollection(collection), `tidemark-collection-${collection.id}.premis.xml`, `collection "${collection.name}"`);
+  });
+
+  router.get("/exports/collections/:id.json", loadCollection, async (_req, res) => {
+    const collection = res.locals.collection!;
+    res.set({ "Content-Type": "application/json; charset=utf-8", "Content-Disposition": `attachment; filename="tidemark-collection-${collection.id}.json"` });
+    await writeCollectionJson(collection, res);
+  });
+
   return router;
+}
+
+/** PREMIS needs at least one object: an empty batch or collection has nothing to describe. */
+function sendPremis(res: Response, doc: PremisDocument, filename: string, what: string): void {
+  if (doc.objects.length === 0) throw conflict(`${what} has no files, so there is nothing to describe in PREMIS`, "nothing_to_export");
+  res.set({ "Content-Type": "application/xml; charset=utf-8", "Content-Disposition": `attachment; filename="${filename}"` }).send(premisXml(doc));
 }

@@ -103,6 +103,8 @@ export interface FileQuery {
 /** Query of GET /api/batches (all optional). */
 export interface BatchQuery {
   collection?: number;
+  /** Finds a batch by number ("42" or "#42"), or by part of its batch key or collection name. */
+  q?: string;
   from?: string;
   to?: string;
   sort?: BatchSortKey;

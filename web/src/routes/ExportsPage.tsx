@@ -3,6 +3,7 @@ import { useBatches, useCollections } from "../api/batches.ts";
 import { describeError } from "../api/client.ts";
 import { exportUrls } from "../api/exports.ts";
 import { PageHeader } from "../components/PageHeader.tsx";
+import { Pagination } from "../components/Pagination.tsx";
 import { SelectField, TextField } from "../components/fields.tsx";
 import { DownloadIcon } from "../components/icons.tsx";
 import { InlineError } from "../components/states.tsx";
@@ -65,29 +66,108 @@ function FilesCsvCard() {
   );
 }
 
+const BATCH_PAGE_SIZE = 10;
+
+/** Finds any batch: text search (number, key, collection), collection and date filters, paged on the server. */
 function BatchReportCard() {
-  const batches = useBatches({ page: 1, pageSize: 100, sort: "startedAt", order: "desc" });
+  const collections = useCollections();
+  const [q, setQ] = useState("");
+  const [collection, setCollection] = useState<number | undefined>(undefined);
+  const [from, setFrom] = useState("");
+  const [to, setTo] = useState("");
+  const [page, setPage] = useState(1);
+  const badRange = Boolean(from && to && from > to);
+  const batches = useBatches({
+    q: q.trim() || undefined,
+    collection,
+    from: badRange ? undefined : from || undefined,
+    to: badRange ? undefined : to || undefined,
+    page,
+    pageSize: BATCH_PAGE_SIZE,
+    sort: "startedAt",
+    order: "desc",
+  });
   const [batchId, setBatchId] = useState<number | undefined>(undefined);
+  const filter = <T,>(set: (v: T) => void) => (v: T) => {
+    set(v);
+    setPage(1);
+  };
   return (
-    <Card title="Batch report (JSON or PDF)" description="Everything recorded for one scan run: profile, tool version, every file and finding.">
+    <Card title="Batch report (JSON, PDF or PREMIS)" description="Everything recorded for one scan run: profile, tool version, every file and finding; PREMIS 3.0 for preservation systems.">
       <div className="flex flex-wrap items-end gap-3">
-        <SelectField label="Batch" value={batchId ?? ""} onChange={(e) => setBatchId(e.target.value ? Number(e.target.value) : undefined)} className="w-96 max-w-full" disabled={batches.isPending}>
-          <option value="">{batches.isPending ? "Loading batches…" : "Choose a batch"}</option>
-          {batches.data?.items.map((b) => (
-            <option key={b.id} value={b.id}>
-              #{b.id} · {b.collection.name} · {formatDate(b.startedAt)} · {b.counts.fail} failing
+        <TextField label="Find a batch" placeholder="number, batch key or collection" value={q} onChange={(e) => filter(setQ)(e.target.value)} className="w-64" />
+        <SelectField label="Collection" value={collection ?? ""} onChange={(e) => filter(setCollection)(e.target.value ? Number(e.target.value) : undefined)} className="w-52">
+          <option value="">All collections</option>
+          {collections.data?.map((c) => (
+            <option key={c.id} value={c.id}>
+              {c.name}
             </option>
           ))}
         </SelectField>
+        <TextField label="Scanned from" type="date" value={from} onChange={(e) => filter(setFrom)(e.target.value)} className="w-40" />
+        <TextField label="Scanned until" type="date" value={to} onChange={(e) => filter(setTo)(e.target.value)} className="w-40" />
+      </div>
+      {badRange && <InlineError message="The start date is after the end date." />}
+      {batches.isError && <InlineError message={`The batch list could not load: ${describeError(batches.error)}`} />}
+      {batches.data && batches.data.total === 0 && <p className="mt-2 text-sm text-ink-muted">No batch matches.</p>}
+      {batches.data && batches.data.items.length > 0 && (
+        <fieldset className="mt-3">
+          <legend className="sr-only">Batch</legend>
+          <ul className="divide-y divide-line rounded border border-line">
+            {batches.data.items.map((b) => (
+              <li key={b.id}>
+                <label className="flex cursor-pointer items-center gap-2 px-3 py-1.5 text-sm">
+                  <input type="radio" name="export-batch" value={b.id} checked={batchId === b.id} onChange={() => setBatchId(b.id)} />
+                  <span>
+                    #{b.id} · {b.batchKey} · {b.collection.name} · {formatDate(b.startedAt)} · {b.counts.fail} failing
+                  </span>
+                </label>
+              </li>
+            ))}
+          </ul>
+          <Pagination page={batches.data.page} pageSize={batches.data.pageSize} total={batches.data.total} noun="batches" onPageChange={setPage} />
+        </fieldset>
+      )}
+      <div className="flex flex-wrap items-end gap-3">
         <DownloadLink href={batchId ? exportUrls.batchJson(batchId) : "#"} disabled={!batchId}>
           JSON
         </DownloadLink>
         <DownloadLink href={batchId ? exportUrls.batchPdf(batchId) : "#"} disabled={!batchId}>
           PDF
         </DownloadLink>
+        <DownloadLink href={batchId ? exportUrls.batchPremis(batchId) : "#"} disabled={!batchId}>
+          PREMIS XML
+        </DownloadLink>
       </div>
-      {batches.isError && <InlineError message={`The batch list could not load: ${describeError(batches.error)}`} />}
-      {batches.data && batches.data.items.length === 0 && <p className="mt-2 text-sm text-ink-muted">No batches have been uploaded yet.</p>}
+    </Card>
+  );
+}
+
+function CollectionExportCard() {
+  const collections = useCollections();
+  const [collection, setCollection] = useState<number | undefined>(undefined);
+  return (
+    <Card title="Whole collection" description="Every batch of one collection: all scans as JSON, every file result as CSV, or PREMIS 3.0 with each file's fixity history.">
+      <div className="flex flex-wrap items-end gap-3">
+        <SelectField label="Collection" value={collection ?? ""} onChange={(e) => setCollection(e.target.value ? Number(e.target.value) : undefined)} className="w-60">
+          <option value="">Choose a collection</option>
+          {collections.data?.map((c) => (
+            <option key={c.id} value={c.id}>
+              {c.name}
+            </option>
+          ))}
+        </SelectField>
+        <DownloadLink href={collection ? exportUrls.collectionJson(collection) : "#"} disabled={!collection}>
+          JSON
+        </DownloadLink>
+        <DownloadLink href={collection ? exportUrls.collectionCsv(collection) : "#"} disabled={!collection}>
+          CSV
+        </DownloadLink>
+        <DownloadLink href={collection ? exportUrls.collectionPremis(collection) : "#"} disabled={!collection}>
+          PREMIS XML
+        </DownloadLink>
+      </div>
+      {collections.isError && <InlineError message={`The collection list could not load: ${describeError(collections.error)}`} />}
     </Card>
   );
 }
@@ -107,6 +187,7 @@ export function ExportsPage() {
       <div className="grid gap-4 xl:grid-cols-2">
         <FilesCsvCard />
         <BatchReportCard />
+        <CollectionExportCard />
         <AuditCsvCard />
       </div>
     </>
