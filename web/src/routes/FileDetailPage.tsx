@@ -12,6 +12,7 @@ import { FindingsTable } from "../components/file/FindingsTable.tsx";
 import { ListeningCaution } from "../components/file/ListeningCaution.tsx";
 import { FixityHistory } from "../components/file/FixityHistory.tsx";
 import { MetricsPanels } from "../components/file/MetricsPanels.tsx";
+import { MetadataPanel } from "../components/file/MetadataPanel.tsx";
 import { ReviewPanel } from "../components/file/ReviewPanel.tsx";
 import { SameRecordingPanel } from "../components/file/SameRecordingPanel.tsx";
 import { SpectrogramView } from "../components/file/SpectrogramView.tsx";
@@ -334,6 +335,7 @@ function FileReview({ f }: { f: FileDetailDto }) {
         <div className="min-w-0 lg:col-start-1">
           <FixityHistory file={f} />
         </div>
+        <MetadataPanel file={f} />
         <div className="min-w-0 lg:col-start-1">
           <SameRecordingPanel fileId={f.id} />
         </div>
