@@ -65,6 +65,9 @@ async function main(): Promise<number> {
     ["sox", "sox"],
     ["espeak-ng", "espeak-ng"],
     ["flac", "flac"],
+    // PREMIS exports are checked against the PREMIS 3.0 schema, batch PDFs read back as text.
+    ["xmllint", "libxml2-utils"],
+    ["pdftotext", "poppler-utils"],
   ]
     .filter(([cmd]) => !hasCommand(cmd))
     .map(([, pkg]) => pkg);

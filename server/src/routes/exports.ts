@@ -4,6 +4,7 @@ import type { AppContext } from "../context.ts";
 import { writeAuditCsv } from "../exports/auditCsv.ts";
 import { batchExport } from "../exports/batchJson.ts";
 import { writeBatchPdf } from "../exports/batchPdf.ts";
+import { loadThumbnails } from "../exports/batchPdfImages.ts";
 import { writeFilesCsv } from "../exports/filesCsv.ts";
 import { requirePermission } from "../middleware/auth.ts";
 import { loadBatch, loadCollection } from "../middleware/loadEntity.ts";
@@ -44,8 +45,9 @@ export function exportsRouter(ctx: AppContext): Router {
   router.get("/exports/batches/:id.pdf", loadBatch, async (_req, res) => {
     const batch = res.locals.batch!;
     const data = await batchExport(batch);
+    const thumbnails = await loadThumbnails(ctx.store, data, ctx.logger);
     res.set({ "Content-Type": "application/pdf", "Content-Disposition": `attachment; filename="tidemark-batch-${batch.id}.pdf"` });
-    writeBatchPdf(data, res);
+    writeBatchPdf(data, res, thumbnails);
     ctx.logger.info(`exported batch ${batch.id} as PDF`);
   });
 
