@@ -263,6 +263,42 @@ function recipes(): Recipe[] {
   ];
 }
 
+/** A basic SMPTE 330M UMID (universal label, length byte 0x13), its material number drawn from the path. */
+function demoUmid(seed: string): Uint8Array {
+  const u = new Uint8Array(64);
+  u.set([0x06, 0x0a, 0x2b, 0x34, 0x01, 0x01, 0x01, 0x05, 0x01, 0x01, 0x0d, 0x20, 0x13], 0);
+  let h = 2166136261;
+  for (let i = 13; i < 32; i++) {
+    for (const ch of `${seed}#${i}`) h = Math.imul(h ^ ch.charCodeAt(0), 16777619);
+    u[i] = h & 0xff;
+  }
+  return u;
+}
+
+/**
+ * What the archive embeds in every master (FADGI BWF guideline v2's strongly recommended fields, and INFO
+ * IARL), so the demo's preservation-master scan shows the planted faults rather than missing metadata.
+ * A recipe's own bext wins; the UMID and a CodingHistory row for this file are added where missing.
+ */
+function withArchiveMetadata(r: Recipe, channels: number): WavEncodeOptions {
+  const name = path.basename(r.path).replace(/\.[^.]+$/, "");
+  const mode = channels === 1 ? "mono" : channels === 2 ? "stereo" : "multitrack";
+  const own = r.encode.bext;
+  const bextFields = own ?? {
+    description: `${path.dirname(r.path)}: ${name}`,
+    originator: "Harbourside Sound Archive",
+    originatorReference: `HSA-${name.split(" ")[0]}`,
+    originationDate: "2026-01-15",
+    originationTime: "10:00:00",
+    codingHistory: `A=ANALOGUE,M=${mode},T=quarter-inch tape\r\nA=PCM,F=${r.encode.sampleRateHz},W=${r.encode.bitDepth},M=${mode},T=transfer desk 2\r\n`,
+  };
+  return {
+    ...r.encode,
+    bext: { ...bextFields, umid: bextFields.umid ?? demoUmid(r.path), version: bextFields.version ?? 1 },
+    info: r.encode.info ?? { IARL: "GB, Harbourside Sound Archive", INAM: name },
+  };
+}
+
 export function makeDemoArchive(outDir: string, options: { speech?: boolean } = {}): { files: DemoFile[]; speech: boolean } {
   const useSpeech = (options.speech ?? true) && hasEspeak();
   rmSync(path.join(outDir, FERRY), { recursive: true, force: true });
@@ -271,7 +307,8 @@ export function makeDemoArchive(outDir: string, options: { speech?: boolean } = 
   for (const r of recipes()) {
     const target = path.join(outDir, r.path);
     mkdirSync(path.dirname(target), { recursive: true });
-    writeFileSync(target, encodeWav(r.channels(useSpeech), r.encode));
+    const channels = r.channels(useSpeech);
+    writeFileSync(target, encodeWav(channels, withArchiveMetadata(r, channels.length)));
     files.push({ path: r.path, fault: r.fault });
   }
   return { files, speech: useSpeech };
