@@ -190,18 +190,21 @@ describe("review portal in chromium", () => {
     await screenshot(page, "audit-auditor");
   });
 
-  it("lets an auditor download a batch report as JSON and as PDF", async () => {
+  it("lets an auditor find a batch and download it as JSON, PDF and PREMIS", async () => {
     const page = await signIn("auditor", "/exports");
-    const batchSelect = page.getByLabel("Batch", { exact: true });
-    const ferry = batchSelect.locator("option", { hasText: "Ferry Terminal Interviews 1978" }).first();
-    await ferry.waitFor({ state: "attached" });
-    await batchSelect.selectOption((await ferry.getAttribute("value")) ?? "");
-    const [json] = await Promise.all([page.waitForEvent("download"), page.getByRole("link", { name: "JSON" }).click()]);
+    const card = page.getByRole("region", { name: /Batch report/ });
+    await card.getByLabel("Find a batch").fill("Ferry Terminal");
+    const ferry = card.getByRole("radio", { name: /Ferry Terminal Interviews 1978/ }).first();
+    await ferry.check();
+    const [json] = await Promise.all([page.waitForEvent("download"), card.getByRole("link", { name: "JSON" }).click()]);
     const report = JSON.parse(readFileSync(await json.path(), "utf8")) as Record<string, unknown>;
     expect(JSON.stringify(report)).toContain("Ferry Terminal Interviews 1978");
     expect(JSON.stringify(report)).toMatch(/\.wav"/);
-    const [pdf] = await Promise.all([page.waitForEvent("download"), page.getByRole("link", { name: "PDF" }).click()]);
+    const [pdf] = await Promise.all([page.waitForEvent("download"), card.getByRole("link", { name: "PDF" }).click()]);
     expect(readFileSync(await pdf.path()).subarray(0, 5).toString("latin1")).toBe("%PDF-");
+    const [premis] = await Promise.all([page.waitForEvent("download"), card.getByRole("link", { name: "PREMIS XML" }).click()]);
+    expect(readFileSync(await premis.path(), "utf8")).toContain('<premis xmlns="http://www.loc.gov/premis/v3" version="3.0"');
+    await screenshot(page, "exports-batch-search");
   });
 
   it("lets a supervisor accept several files at once from the table", async () => {
