@@ -160,7 +160,7 @@ export async function analyseFile(
 
   const { format, metadata, layout } = read.info;
   const checksums = task.expectedChecksums?.length ? compareChecksums(task.expectedChecksums, new Map([...read.digests, ["sha256", read.sha256]])) : undefined;
-  const findings = [...analysed.findings, ...readerFindings(layout, read), ...checksumFindings(checksums ?? [])];
+  const findings = [...analysed.findings, ...readerFindings(layout, read), ...checksumFindings(checksums ?? []), ...read.integrityFindings];
   const judged = judge(ctx.profile, { format, metrics: analysed.metrics, findings, error: null });
 
   let spectrogram: string | null = null;
