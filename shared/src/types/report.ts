@@ -141,8 +141,13 @@ export const profileLimitsSchema = z.object({
 });
 
 export const fileReportSchema = z.object({
-  /** As given, relative to the scanned root, with forward slashes. */
+  /** As given, relative to the scanned root, with forward slashes; bytes that are not UTF-8 shown as U+FFFD. */
   path: z.string().min(1).max(4096),
+  /**
+   * The exact bytes of `path`, base64 (RFC 4648), present only when the file name is not valid UTF-8 and `path`
+   * is therefore lossy: verify and --resume match files on it. Optional, so earlier reports stay valid.
+   */
+  pathBytes: z.string().max(8192).regex(/^[A-Za-z0-9+/]*={0,2}$/).optional(),
   sizeBytes: z.number().int().min(0),
   sha256: z.string().regex(/^[0-9a-f]{64}$/).nullable(),
   format: audioFormatSchema.nullable(),
