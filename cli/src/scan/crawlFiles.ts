@@ -11,7 +11,7 @@ import path from "node:path";
 import { Minimatch } from "minimatch";
 import { compareReportPaths } from "@tidemark/shared/report/assembleReport";
 import { UsageError } from "../errors.ts";
-import { displayPath, fileKey, joinPath, pathBytesOf, resolveLossyPath, type FsPath } from "./rawPath.ts";
+import { displayPath, fileKey, joinPath, pathBytesOf, rawArgument, resolveLossyPath, type FsPath } from "./rawPath.ts";
 
 export interface CrawledFile {
   /** A Buffer when the name is not valid UTF-8 (rawPath.ts). */
@@ -90,9 +90,11 @@ export async function crawlFiles(paths: readonly string[], options: CrawlOptions
     const resolved = path.resolve(options.cwd, given);
     try {
       const stats = await stat(resolved).catch(async (error: unknown) => {
-        // A name that is not UTF-8 arrives here lossily decoded: find the file(s) it names by their bytes.
+        // A name that is not UTF-8 arrives here lossily decoded: take its bytes from the command line when the
+        // process can see them, else every file whose name looks like it.
         if (errnoOf(error) !== "ENOENT" || !resolved.includes("\ufffd")) throw error;
-        const found = await resolveLossyPath(resolved);
+        const exact = rawArgument(given);
+        const found = exact ? [path.isAbsolute(given) ? exact : joinPath(options.cwd, exact)] : await resolveLossyPath(resolved);
         if (found.length === 0) throw error;
         for (const abs of found.slice(1)) roots.push({ abs, stats: await stat(abs), given });
         roots.push({ abs: found[0], stats: await stat(found[0]), given });

@@ -5,6 +5,7 @@
  * path's raw bytes in base64, present only when they are not valid UTF-8.
  */
 import { isUtf8 } from "node:buffer";
+import { readFileSync } from "node:fs";
 import { readdir } from "node:fs/promises";
 import path from "node:path";
 
@@ -56,6 +57,43 @@ export function pathBytesOf(abs: FsPath, rootDir: string): string | undefined {
  */
 export function fileKey(file: { path?: string; relPath?: string; pathBytes?: string | undefined }): string {
   return file.pathBytes ? `\u0000${file.pathBytes.replaceAll("/", "_")}` : (file.relPath ?? file.path ?? "");
+}
+
+let rawArgs: Map<string, Buffer[]> | null = null;
+
+/**
+ * The command-line arguments as the shell passed them, by their lossy form (Linux /proc/self/cmdline; empty
+ * elsewhere): the user's arguments are the last process.argv.length − 2 entries.
+ */
+function rawArguments(): Map<string, Buffer[]> {
+  if (rawArgs) return rawArgs;
+  rawArgs = new Map();
+  try {
+    const cmdline = readFileSync("/proc/self/cmdline");
+    const entries: Buffer[] = [];
+    let start = 0;
+    for (let i = 0; i < cmdline.length; i++) {
+      if (cmdline[i] === 0) {
+        entries.push(cmdline.subarray(start, i));
+        start = i + 1;
+      }
+    }
+    const user = process.argv.slice(2);
+    const tail = entries.slice(entries.length - user.length);
+    if (tail.length === user.length && tail.every((b, i) => b.toString("utf8") === user[i])) {
+      for (const b of tail) rawArgs.set(b.toString("utf8"), [...(rawArgs.get(b.toString("utf8")) ?? []), b]);
+    }
+  } catch {
+    // No /proc: look-alike names are resolved by listing folders instead.
+  }
+  return rawArgs;
+}
+
+/** The exact bytes of a command-line argument that arrived lossily decoded, when the process can see them. */
+export function rawArgument(given: string): Buffer | null {
+  const found = rawArguments().get(given);
+  // Two arguments that look the same cannot be told apart from their lossy form.
+  return found && found.length === 1 && !isUtf8(found[0]) ? found[0] : null;
 }
 
 /**
