@@ -54,6 +54,7 @@ class FlacStream implements FlacStreamDecoder {
   private md5Buffer = new Uint8Array(0);
   private decodeErrors = 0;
   private afterGap = false;
+  private overran = false;
   private dataStarted = false;
 
   constructor(
@@ -63,7 +64,7 @@ class FlacStream implements FlacStreamDecoder {
     private readonly decoder: FLACDecoder,
   ) {
     const channels = layout.channels;
-    this.planar = Array.from({ length: channels }, () => new Float32Array(Math.max(1, Math.min(blockFrames, layout.totalFrames || blockFrames))));
+    this.planar = Array.from({ length: channels }, () => new Float32Array(blockFrames));
     this.framer = createFlacFramer(layout.streamInfo, layout.dataOffset, {
       frame: (bytes, header) => this.events.push({ kind: "frame", bytes: bytes.slice(), sample: header.sampleNumber }),
       gap: (sample, frames, _offset, why) => this.events.push({ kind: "gap", sample, frames, why }),
@@ -179,7 +180,22 @@ class FlacStream implements FlacStreamDecoder {
     });
   }
 
-  private emit(channels: Float32Array[], frames: number): void {
+  private emit(channels: Float32Array[], all: number): void {
+    // The analysers were laid out for STREAMINFO's total: audio past it is reported, not measured.
+    const room = this.layout.totalFrames - this.blockStart - this.filled;
+    const frames = Math.min(all, room);
+    if (all > frames && !this.overran) {
+      this.overran = true;
+      const at = this.layout.totalFrames / this.layout.sampleRateHz;
+      this.findings.push({
+        code: "decode-error",
+        severity: "fail",
+        channel: null,
+        startSeconds: at,
+        endSeconds: null,
+        message: `the stream holds more than the ${this.layout.totalFrames} sample frames STREAMINFO announces; audio after ${at.toFixed(3)} s is not measured`,
+      });
+    }
     if (frames <= 0) return;
     if (this.md5) this.hashSamples(channels, frames);
     let at = 0;

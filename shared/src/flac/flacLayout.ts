@@ -10,6 +10,7 @@ import { decodeUtf8OrLatin1 } from "../wav/bytes.ts";
 import { WavFormatError } from "../wav/errors.ts";
 import { MAX_CHANNELS, MAX_SAMPLE_RATE_HZ, MIN_SAMPLE_RATE_HZ } from "../wav/fmtChunk.ts";
 import type { WavChunkInfo, WavLayout } from "../wav/wavLayout.ts";
+import { parseFrameHeader } from "./flacFramer.ts";
 
 export interface FlacStreamInfo {
   minBlockSize: number;
@@ -109,6 +110,20 @@ function parseVorbisComments(b: Uint8Array, out: { key: string; value: string }[
   }
 }
 
+/** Tail bytes searched for the last frame header when STREAMINFO does not give the total. */
+const TAIL_SEARCH_BYTES = 4 * 1024 * 1024;
+
+async function samplesFromLastFrame(reader: ByteSource, dataOffset: number, fileSize: number, info: FlacStreamInfo): Promise<number> {
+  const from = Math.max(dataOffset, fileSize - TAIL_SEARCH_BYTES);
+  const tail = await reader.readAt(from, fileSize - from);
+  for (let i = tail.length - 2; i >= 0; i--) {
+    if (tail[i] !== 0xff || (tail[i + 1] & 0xfe) !== 0xf8) continue;
+    const header = parseFrameHeader(tail, i, tail.length, info);
+    if (header) return header.sampleNumber + header.blockSize;
+  }
+  return 0;
+}
+
 export async function readFlacLayout(source: ByteSource): Promise<FlacLayout> {
   const fileSize = source.sizeBytes;
   if (fileSize === 0) throw new WavFormatError("empty-file", "file is empty (0 bytes)");
@@ -152,6 +167,8 @@ export async function readFlacLayout(source: ByteSource): Promise<FlacLayout> {
   }
   if (!streamInfo || !streamInfoBytes) throw new WavFormatError("no-fmt-chunk", "no STREAMINFO metadata block");
   validate(streamInfo);
+  // An encoder that streamed its output may leave the total unknown (0): the last frame's header says it.
+  if (streamInfo.totalSamples === 0 && fileSize > at) streamInfo.totalSamples = await samplesFromLastFrame(reader, at, fileSize, streamInfo);
   const streamHeader = new Uint8Array(4 + 4 + 34);
   streamHeader.set([0x66, 0x4c, 0x61, 0x43, 0x80, 0, 0, 34]);
   streamHeader.set(streamInfoBytes.subarray(0, 34), 8);
