@@ -130,15 +130,17 @@ class FlacStream implements FlacStreamDecoder {
       this.decodeError(this.blockStart + this.filled, 0, `libFLAC: ${error.message}`);
     }
     this.afterGap = false;
-    this.rescale(decoded.channelData, decoded.samplesDecoded);
-    this.emit(decoded.channelData, decoded.samplesDecoded);
+    const kept = this.room(decoded.samplesDecoded);
+    if (kept > 0) this.rescaleAndHash(decoded.channelData, kept);
+    this.emit(decoded.channelData, kept);
   }
 
   /**
    * libFLAC's WebAssembly build divides by 2^(bits−1) − 1; the codes are recovered exactly (up to 24 bits) and
    * put on the reader's common scale, 2^(bits−1), so a FLAC and the WAV it came from give identical samples.
+   * The same pass writes the codes, interleaved little-endian in whole bytes, as STREAMINFO's MD5 input.
    */
-  private rescale(channels: Float32Array[], frames: number): void {
+  private rescaleAndHash(channels: Float32Array[], frames: number): void {
     const bits = this.layout.streamInfo.bitsPerSample;
     const libScale = 2 ** (bits - 1) - 1;
     const inverse = 1 / 2 ** (bits - 1);
@@ -147,7 +149,43 @@ class FlacStream implements FlacStreamDecoder {
       for (const x of channels) for (let i = 0; i < frames; i++) x[i] *= k;
       return;
     }
-    for (const x of channels) for (let i = 0; i < frames; i++) x[i] = Math.round(x[i] * libScale) * inverse;
+    if (!this.md5) {
+      for (const x of channels) for (let i = 0; i < frames; i++) x[i] = Math.round(x[i] * libScale) * inverse;
+      return;
+    }
+    const width = this.md5Bytes;
+    const count = channels.length;
+    const stride = count * width;
+    const need = frames * stride;
+    if (this.md5Buffer.length < need) this.md5Buffer = new Uint8Array(need);
+    const out = this.md5Buffer;
+    for (let c = 0; c < count; c++) {
+      const x = channels[c];
+      let j = c * width;
+      if (width === 3) {
+        for (let i = 0; i < frames; i++, j += stride) {
+          const v = Math.round(x[i] * libScale);
+          x[i] = v * inverse;
+          out[j] = v;
+          out[j + 1] = v >> 8;
+          out[j + 2] = v >> 16;
+        }
+      } else if (width === 2) {
+        for (let i = 0; i < frames; i++, j += stride) {
+          const v = Math.round(x[i] * libScale);
+          x[i] = v * inverse;
+          out[j] = v;
+          out[j + 1] = v >> 8;
+        }
+      } else {
+        for (let i = 0; i < frames; i++, j += stride) {
+          const v = Math.round(x[i] * libScale);
+          x[i] = v * inverse;
+          out[j] = v;
+        }
+      }
+    }
+    this.md5.update(out.subarray(0, need));
   }
 
   private gap(sample: number, frames: number, why: string): void {
@@ -155,8 +193,9 @@ class FlacStream implements FlacStreamDecoder {
     this.afterGap = true;
     // Silence keeps every later time right; the MD5 then disagrees, as it should for damaged audio.
     const zeros = this.planar.map(() => new Float32Array(Math.min(frames, 65536)));
-    for (let left = frames; left > 0; ) {
+    for (let left = this.room(frames); left > 0; ) {
       const n = Math.min(left, 65536);
+      this.md5?.update(new Uint8Array(n * this.planar.length * this.md5Bytes));
       this.emit(zeros, n);
       left -= n;
     }
@@ -180,10 +219,9 @@ class FlacStream implements FlacStreamDecoder {
     });
   }
 
-  private emit(channels: Float32Array[], all: number): void {
-    // The analysers were laid out for STREAMINFO's total: audio past it is reported, not measured.
-    const room = this.layout.totalFrames - this.blockStart - this.filled;
-    const frames = Math.min(all, room);
+  /** How many of `all` new frames fit: the analysers were laid out for STREAMINFO's total; audio past it is reported, not measured. */
+  private room(all: number): number {
+    const frames = Math.max(0, Math.min(all, this.layout.totalFrames - this.blockStart - this.filled));
     if (all > frames && !this.overran) {
       this.overran = true;
       const at = this.layout.totalFrames / this.layout.sampleRateHz;
@@ -196,8 +234,10 @@ class FlacStream implements FlacStreamDecoder {
         message: `the stream holds more than the ${this.layout.totalFrames} sample frames STREAMINFO announces; audio after ${at.toFixed(3)} s is not measured`,
       });
     }
-    if (frames <= 0) return;
-    if (this.md5) this.hashSamples(channels, frames);
+    return frames;
+  }
+
+  private emit(channels: Float32Array[], frames: number): void {
     let at = 0;
     while (at < frames) {
       const n = Math.min(frames - at, this.blockFrames - this.filled);
@@ -216,27 +256,6 @@ class FlacStream implements FlacStreamDecoder {
     this.blockStart += frames;
     this.framesDecoded += frames;
     this.onBlock({ channels: this.planar, frames, startFrame });
-  }
-
-  /** Rebuilds the integer samples (float × 2^(bits−1), exact up to 24 bits) as STREAMINFO's MD5 input. */
-  private hashSamples(channels: Float32Array[], frames: number): void {
-    const width = this.md5Bytes;
-    const count = channels.length;
-    const need = frames * count * width;
-    if (this.md5Buffer.length < need) this.md5Buffer = new Uint8Array(need);
-    const out = this.md5Buffer;
-    const scale = 2 ** (this.layout.streamInfo.bitsPerSample - 1);
-    let j = 0;
-    for (let i = 0; i < frames; i++) {
-      for (let c = 0; c < count; c++) {
-        const v = Math.round(channels[c][i] * scale);
-        out[j] = v & 0xff;
-        if (width > 1) out[j + 1] = (v >> 8) & 0xff;
-        if (width > 2) out[j + 2] = (v >> 16) & 0xff;
-        j += width;
-      }
-    }
-    (this.md5 as Hash).update(out.subarray(0, need));
   }
 
   private closingFindings(): void {

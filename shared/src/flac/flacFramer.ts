@@ -133,146 +133,190 @@ export interface FlacFramer {
 }
 
 /**
- * `firstOffset` is the file offset of the first byte pushed; `totalSamples` (0 = unknown) bounds the gaps.
+ * `firstOffset` is the file offset of the first byte pushed; STREAMINFO's total (0 = unknown) bounds the gaps.
  */
 export function createFlacFramer(info: FlacStreamInfo, firstOffset: number, events: FlacFramerEvents): FlacFramer {
-  // A frame can hardly exceed its raw PCM size plus headers (RFC 9639 10: the verbatim fallback).
-  const rawFrameBytes = info.maxBlockSize * info.channels * Math.ceil((info.bitsPerSample + 1) / 8) + 1024;
-  const maxFrameBytes = Math.max(rawFrameBytes, info.maxFrameSize) + 64;
-  let buf = new Uint8Array(Math.max(1 << 20, 2 * maxFrameBytes));
-  let len = 0;
+  return new Framer(info, firstOffset, events);
+}
+
+/**
+ * Slice-by-4 tables: CRC16_K[k][x] is the register after a top byte x is followed by k more zero bytes, so four
+ * input bytes cost four lookups and one step (the CRC is linear; the framer's per-byte cost is this loop).
+ */
+const CRC16_K = [CRC16, new Uint16Array(256), new Uint16Array(256), new Uint16Array(256)];
+for (let k = 1; k < 4; k++) {
+  for (let x = 0; x < 256; x++) {
+    const r = CRC16_K[k - 1][x];
+    CRC16_K[k][x] = ((r << 8) & 0xffff) ^ CRC16[r >> 8];
+  }
+}
+
+/** CRC-16 of b[from, to) continuing from `crc`. */
+export function crc16(b: Uint8Array, from: number, to: number, crc: number): number {
+  const [t0, t1, t2, t3] = CRC16_K;
+  let c = crc;
+  let i = from;
+  for (const end4 = to - 3; i < end4; i += 4) c = t3[(c >> 8) ^ b[i]] ^ t2[(c & 0xff) ^ b[i + 1]] ^ t1[b[i + 2]] ^ t0[b[i + 3]];
+  for (; i < to; i++) c = ((c << 8) & 0xffff) ^ t0[(c >> 8) ^ b[i]];
+  return c;
+}
+
+class Framer implements FlacFramer {
+  nextSample = 0;
+  /** A frame can hardly exceed its raw PCM size plus headers (RFC 9639, 10: the verbatim fallback). */
+  private readonly maxFrameBytes: number;
+  private buf: Uint8Array;
+  /** buf[0, len): the bytes held; `view` is that range, for indexOf. */
+  private len = 0;
+  private view: Uint8Array;
   /** File offset of buf[0]. */
-  let base = firstOffset;
-  /** Current frame: start index in buf and header, or null while searching for sync. */
-  let cur: FlacFrameHeader | null = null;
-  let curStart = 0;
-  let scan = 0;
-  let crc = 0;
-  /** Index just past the last position where the running CRC-16 was 0 (a possible frame end), or -1. */
-  let lastZero = -1;
-  let nextSample = 0;
+  private base: number;
+  /** The open frame's header and start, or null while searching for sync. */
+  private cur: FlacFrameHeader | null = null;
+  private curStart = 0;
+  /** Next index to look for a sync code at. */
+  private scan = 0;
+  /** CRC-16 of buf[curStart, crcPos). */
+  private crc = 0;
+  private crcPos = 0;
+  /** A sync code where the CRC-16 was 0: where this frame ends if the next header turns out damaged. */
+  private lastZero = -1;
 
-  const append = (bytes: Uint8Array): void => {
-    const keepFrom = cur ? curStart : Math.max(0, scan - 1);
-    if (len + bytes.length > buf.length) {
+  constructor(
+    private readonly info: FlacStreamInfo,
+    firstOffset: number,
+    private readonly events: FlacFramerEvents,
+  ) {
+    this.maxFrameBytes = Math.max(info.maxBlockSize * info.channels * Math.ceil((info.bitsPerSample + 1) / 8) + 1024, info.maxFrameSize) + 64;
+    this.buf = new Uint8Array(Math.max(1 << 20, 2 * this.maxFrameBytes));
+    this.view = this.buf.subarray(0, 0);
+    this.base = firstOffset;
+  }
+
+  push(bytes: Uint8Array): void {
+    this.append(bytes);
+    this.process(false);
+  }
+
+  finish(): { trailingBytes: number } {
+    this.process(true);
+    let trailingBytes = 0;
+    const h = this.cur;
+    if (h) {
+      // The last frame ends where the CRC-16 last comes to 0; anything after it belongs to no frame.
+      let end = -1;
+      let c = 0;
+      const b = this.buf;
+      const minEnd = this.curStart + h.headerBytes + 2;
+      for (let i = this.curStart; i < this.len; i++) {
+        c = ((c << 8) & 0xffff) ^ CRC16[(c >> 8) ^ b[i]];
+        if (c === 0 && i + 1 >= minEnd) end = i + 1;
+      }
+      if (end > 0) {
+        trailingBytes = this.len - end;
+        this.close(end, true);
+      } else this.close(this.len, false);
+    }
+    // With no frame open, the bytes since the last one were already reported as a gap.
+    return { trailingBytes };
+  }
+
+  private append(bytes: Uint8Array): void {
+    if (this.len + bytes.length > this.buf.length) {
       // Drop what is done; grow only when one frame plus the new bytes need it.
-      const kept = len - keepFrom;
-      const target = kept + bytes.length > buf.length ? new Uint8Array(Math.max(buf.length * 2, kept + bytes.length)) : buf;
-      target.set(buf.subarray(keepFrom, len), 0);
-      buf = target;
-      len = kept;
-      base += keepFrom;
-      curStart -= keepFrom;
-      scan -= keepFrom;
-      if (lastZero >= 0) lastZero -= keepFrom;
+      const keepFrom = this.cur ? this.curStart : Math.max(0, this.scan - 1);
+      const kept = this.len - keepFrom;
+      const target = kept + bytes.length > this.buf.length ? new Uint8Array(Math.max(this.buf.length * 2, kept + bytes.length)) : this.buf;
+      if (target === this.buf) target.copyWithin(0, keepFrom, this.len);
+      else target.set(this.buf.subarray(keepFrom, this.len), 0);
+      this.buf = target;
+      this.len = kept;
+      this.base += keepFrom;
+      this.curStart -= keepFrom;
+      this.scan -= keepFrom;
+      this.crcPos -= keepFrom;
+      if (this.lastZero >= 0) this.lastZero -= keepFrom;
     }
-    buf.set(bytes, len);
-    len += bytes.length;
-  };
+    this.buf.set(bytes, this.len);
+    this.len += bytes.length;
+    this.view = this.buf.subarray(0, this.len);
+  }
 
-  const gapTo = (sample: number, offset: number, why: string): void => {
-    let to = sample;
-    if (info.totalSamples > 0) to = Math.min(to, info.totalSamples);
-    if (to > nextSample) {
-      events.gap(nextSample, to - nextSample, offset, why);
-      nextSample = to;
+  private gapTo(sample: number, offset: number, why: string): void {
+    const to = this.info.totalSamples > 0 ? Math.min(sample, this.info.totalSamples) : sample;
+    if (to > this.nextSample) {
+      this.events.gap(this.nextSample, to - this.nextSample, offset, why);
+      this.nextSample = to;
     }
-  };
+  }
 
-  const begin = (header: FlacFrameHeader, at: number): void => {
-    cur = header;
-    curStart = at;
-    crc = 0;
-    scan = at;
-    lastZero = -1;
-  };
+  private begin(header: FlacFrameHeader, at: number): void {
+    this.cur = header;
+    this.curStart = at;
+    this.crc = 0;
+    this.crcPos = at;
+    this.scan = at + header.headerBytes + 2;
+    this.lastZero = -1;
+  }
 
-  /** Ends the current frame at `end`, whole or damaged. */
-  const close = (end: number, isWhole: boolean): void => {
-    const h = cur as FlacFrameHeader;
-    if (h.sampleNumber > nextSample) gapTo(h.sampleNumber, base + curStart, "lost sync: frames missing before this point");
+  /** Ends the open frame at `end`, whole or damaged. */
+  private close(end: number, isWhole: boolean): void {
+    const h = this.cur as FlacFrameHeader;
+    const offset = this.base + this.curStart;
+    if (h.sampleNumber > this.nextSample) this.gapTo(h.sampleNumber, offset, "lost sync: frames missing before this point");
     if (isWhole) {
-      events.frame(buf.subarray(curStart, end), h, base + curStart);
-      nextSample = h.sampleNumber + h.blockSize;
-    } else gapTo(h.sampleNumber + h.blockSize, base + curStart, "frame CRC-16 mismatch");
-    cur = null;
-  };
+      this.events.frame(this.buf.subarray(this.curStart, end), h, offset);
+      this.nextSample = h.sampleNumber + h.blockSize;
+    } else this.gapTo(h.sampleNumber + h.blockSize, offset, "frame CRC-16 mismatch");
+    this.cur = null;
+    this.scan = end;
+  }
 
-  const startsWithSync = (at: number): boolean => at > curStart && at + 1 < len && buf[at] === 0xff && (buf[at + 1] & 0xfe) === 0xf8;
-
-  const process = (isFinal: boolean): void => {
+  private process(isFinal: boolean): void {
+    const info = this.info;
     for (;;) {
-      if (!cur) {
-        // Searching: the next sync code whose header fits and does not go back in time.
-        let found = false;
-        while (scan + 1 < len) {
-          if (buf[scan] === 0xff && (buf[scan + 1] & 0xfe) === 0xf8) {
-            if (scan + MAX_HEADER_BYTES > len && !isFinal) return;
-            const h = parseFrameHeader(buf, scan, len, info);
-            if (h && h.sampleNumber >= nextSample) {
-              begin(h, scan);
-              found = true;
-              break;
-            }
-          }
-          scan++;
-        }
-        if (!found) return;
+      const b = this.buf;
+      const len = this.len;
+      const q = this.view.indexOf(0xff, this.scan);
+      if (q < 0 || q + 1 >= len) {
+        if (q >= 0 && !isFinal) this.scan = q;
+        else this.scan = Math.max(this.scan, len);
+        // A frame that never ends within any real frame's length is given up; the search starts again.
+        if (this.cur && len - this.curStart > this.maxFrameBytes) this.close(this.curStart + this.maxFrameBytes, false);
+        else return;
+        continue;
       }
-      const h = cur as unknown as FlacFrameHeader;
+      if ((b[q + 1] & 0xfe) !== 0xf8) {
+        this.scan = q + 1;
+        continue;
+      }
+      if (q + MAX_HEADER_BYTES > len && !isFinal) {
+        this.scan = q;
+        return;
+      }
+      const h = this.cur;
+      if (!h) {
+        // Searching: the next header that fits and does not go back in time.
+        const found = parseFrameHeader(b, q, len, info);
+        if (found && found.sampleNumber >= this.nextSample) this.begin(found, q);
+        else this.scan = q + 1;
+        continue;
+      }
+      if (q - this.curStart > this.maxFrameBytes) {
+        this.close(this.curStart + this.maxFrameBytes, false);
+        continue;
+      }
+      this.crc = crc16(b, this.crcPos, q, this.crc);
+      this.crcPos = q;
+      if (this.crc === 0) this.lastZero = q;
       const expected = h.sampleNumber + h.blockSize;
-      // Resume the CRC-16 walk; look for the next header at each sync code past this header.
-      const minEnd = curStart + h.headerBytes + 2;
-      let closed = false;
-      while (scan < len) {
-        if (scan >= minEnd && buf[scan] === 0xff && scan + 1 < len && (buf[scan + 1] & 0xfe) === 0xf8) {
-          if (scan + MAX_HEADER_BYTES > len && !isFinal) return;
-          const next = parseFrameHeader(buf, scan, len, info);
-          if (next && next.sampleNumber >= expected && (crc === 0 || next.sampleNumber <= expected + 16 * info.maxBlockSize)) {
-            const at = scan;
-            if (crc !== 0 && next.sampleNumber > expected && startsWithSync(lastZero)) {
-              // This frame was whole; the bytes after it are a frame whose header was damaged.
-              close(lastZero, true);
-            } else close(at, crc === 0);
-            begin(next, at);
-            closed = true;
-            break;
-          }
-        } else if (scan >= minEnd && buf[scan] === 0xff && scan + 1 >= len && !isFinal) return;
-        crc = ((crc << 8) & 0xffff) ^ CRC16[(crc >> 8) ^ buf[scan]];
-        scan++;
-        if (crc === 0 && scan >= minEnd) lastZero = scan;
-        if (scan - curStart > maxFrameBytes) {
-          // No next header within any real frame's length: give this one up and search again.
-          close(scan, false);
-          closed = true;
-          break;
-        }
-      }
-      if (!closed) return;
+      const next = parseFrameHeader(b, q, len, info);
+      if (next && next.sampleNumber >= expected && (this.crc === 0 || next.sampleNumber <= expected + 16 * info.maxBlockSize)) {
+        // A frame was whole up to an earlier sync code, and what followed it lost its header.
+        if (this.crc !== 0 && next.sampleNumber > expected && this.lastZero > this.curStart) this.close(this.lastZero, true);
+        else this.close(q, this.crc === 0);
+        this.begin(next, q);
+      } else this.scan = q + 1;
     }
-  };
-
-  return {
-    push(bytes) {
-      append(bytes);
-      process(false);
-    },
-    finish() {
-      process(true);
-      let trailingBytes = 0;
-      if (cur) {
-        if (lastZero >= 0) {
-          trailingBytes = len - lastZero;
-          close(lastZero, true);
-        } else close(len, false);
-      }
-      // With no frame open, the bytes since the last one were already reported as a gap.
-      // A stream that ends early is not padded here: the caller reports the truncation.
-      return { trailingBytes };
-    },
-    get nextSample() {
-      return nextSample;
-    },
-  };
+  }
 }
