@@ -15,7 +15,8 @@ import type { FlacLayout } from "@tidemark/shared/flac/flacLayout";
 type Event = { kind: "frame"; bytes: Uint8Array; sample: number } | { kind: "gap"; sample: number; frames: number; why: string };
 
 /** Frames handed to libFLAC per call: fewer calls, bounded memory. */
-const FRAMES_PER_CALL = 16;
+const FRAMES_PER_CALL = 8;
+const FRAMER_SLICE_BYTES = 256 * 1024;
 /** At most this many decode-error findings per file; the last one says how many more. */
 const MAX_DECODE_FINDINGS = 50;
 
@@ -80,8 +81,11 @@ class FlacStream implements FlacStreamDecoder {
     if (fileOffset + bytes.length <= start) return;
     const from = Math.max(0, start - fileOffset);
     this.dataStarted = true;
-    this.framer.push(bytes.subarray(from));
-    await this.drain();
+    // In slices, so the framer's buffer stays near one frame's size instead of one read's (4 MiB).
+    for (let at = from; at < bytes.length; at += FRAMER_SLICE_BYTES) {
+      this.framer.push(bytes.subarray(at, Math.min(bytes.length, at + FRAMER_SLICE_BYTES)));
+      await this.drain();
+    }
   }
 
   async finish(): Promise<void> {
