@@ -153,8 +153,12 @@ class FlacStream implements FlacStreamDecoder {
       for (const x of channels) for (let i = 0; i < frames; i++) x[i] *= k;
       return;
     }
+    // Rounding by a bias and |0 (exact here: every value is within 1e-6 of an integer code ≤ 2^23): Math.round in
+    // this loop measured about ten times slower on the project's machine (Node 20).
+    const offset = 2 ** (bits - 1);
+    const bias = offset + 0.5;
     if (!this.md5) {
-      for (const x of channels) for (let i = 0; i < frames; i++) x[i] = Math.round(x[i] * libScale) * inverse;
+      for (const x of channels) for (let i = 0; i < frames; i++) x[i] = (((x[i] * libScale + bias) | 0) - offset) * inverse;
       return;
     }
     const width = this.md5Bytes;
@@ -168,7 +172,7 @@ class FlacStream implements FlacStreamDecoder {
       let j = c * width;
       if (width === 3) {
         for (let i = 0; i < frames; i++, j += stride) {
-          const v = Math.round(x[i] * libScale);
+          const v = ((x[i] * libScale + bias) | 0) - offset;
           x[i] = v * inverse;
           out[j] = v;
           out[j + 1] = v >> 8;
@@ -176,14 +180,14 @@ class FlacStream implements FlacStreamDecoder {
         }
       } else if (width === 2) {
         for (let i = 0; i < frames; i++, j += stride) {
-          const v = Math.round(x[i] * libScale);
+          const v = ((x[i] * libScale + bias) | 0) - offset;
           x[i] = v * inverse;
           out[j] = v;
           out[j + 1] = v >> 8;
         }
       } else {
         for (let i = 0; i < frames; i++, j += stride) {
-          const v = Math.round(x[i] * libScale);
+          const v = ((x[i] * libScale + bias) | 0) - offset;
           x[i] = v * inverse;
           out[j] = v;
         }
