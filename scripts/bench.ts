@@ -10,7 +10,7 @@
  *                                          (--only render,decode: just those stages)
  *
  * Options: --seconds N (main file, default 600), --files N (files for the worker comparison, default 8),
- * --repeats N (default 3), --no-rf64, --no-linearity, --no-white, --only single,white,workers,linearity,rf64
+ * --repeats N (default 3), --no-rf64, --no-linearity, --no-white, --no-flac, --only single,white,workers,linearity,rf64,flac
  * (just those sections), --from-source (run through tsx instead of the bundle), --keep (leave the inputs),
  * --tmp DIR (where the inputs go), --baseline REV (also time the CLI as of git revision REV on the main
  * file, alternating, for a before/after ratio in the same run), --wait-calm S (before each run, wait up to S seconds for the other
@@ -35,6 +35,7 @@ interface Options {
   rf64: boolean;
   linearity: boolean;
   white: boolean;
+  flac: boolean;
   fromSource: boolean;
   keep: boolean;
   tmp: string;
@@ -47,10 +48,10 @@ interface Options {
 /** Other processes using less than this many cores count as a calm machine. */
 const CALM_BUSY_CORES = 0.25;
 
-const SECTIONS = ["single", "white", "workers", "linearity", "rf64"];
+const SECTIONS = ["single", "white", "workers", "linearity", "rf64", "flac"];
 
 function parseOptions(argv: string[]): Options {
-  const o: Options = { out: null, quick: false, seconds: 600, files: 8, repeats: 3, rf64: true, linearity: true, white: true, fromSource: false, keep: false, tmp: tmpdir(), stages: null, only: null, waitCalmSeconds: 0, baseline: null };
+  const o: Options = { out: null, quick: false, seconds: 600, files: 8, repeats: 3, rf64: true, linearity: true, white: true, flac: true, fromSource: false, keep: false, tmp: tmpdir(), stages: null, only: null, waitCalmSeconds: 0, baseline: null };
   const explicit = new Set<string>();
   for (let i = 0; i < argv.length; i++) {
     const a = argv[i];
@@ -73,6 +74,7 @@ function parseOptions(argv: string[]): Options {
     else if (a === "--no-rf64") o.rf64 = false;
     else if (a === "--no-linearity") o.linearity = false;
     else if (a === "--no-white") o.white = false;
+    else if (a === "--no-flac") o.flac = false;
     else if (a === "--from-source") o.fromSource = true;
     else if (a === "--keep") o.keep = true;
     else if (a === "--tmp") o.tmp = path.resolve(value());
@@ -92,6 +94,7 @@ function parseOptions(argv: string[]): Options {
     o.white &&= o.only.has("white");
     o.linearity &&= o.only.has("linearity");
     o.rf64 &&= o.only.has("rf64");
+    o.flac &&= o.only.has("flac");
   }
   if (o.quick) {
     if (!explicit.has("--seconds")) o.seconds = 120;
@@ -113,7 +116,7 @@ const RF64_BYTES = 4.5e9;
 /** Linearity: base × 1, 4, 16. */
 const LINEARITY_FACTORS = [1, 4, 16];
 /** Issue #8; vsFfmpeg is its "about twice as fast as the loudness pass" (150x against ≈ 73x). */
-const TARGETS = { realtime: 150, vsFfmpeg: 2, workerScaling: 1.8, peakRssMb: 150, linearity: 1.15 };
+const TARGETS = { realtime: 150, vsFfmpeg: 2, workerScaling: 1.8, peakRssMb: 150, linearity: 1.15, flacVsWav: 1.5 };
 
 interface ScanSample extends Measured {
   /** Stage times of the file(s), summed over files, ms. */
@@ -205,6 +208,18 @@ async function ffmpegPass(file: string, o: Options, scratch: string): Promise<Me
   const m = await measure("ffmpeg", args, { cwd: scratch, scratchDir: scratch });
   if (m.exitCode !== 0) throw new Error(`ffmpeg exited with ${m.exitCode}:\n${m.stderr.slice(-2000)}`);
   return m;
+}
+
+/** Debian's reference decoder testing the file (decode + CRC + MD5 check), the yardstick for our FLAC reading. */
+async function flacTest(file: string, o: Options, scratch: string): Promise<Measured> {
+  await waitForCalm(o);
+  const m = await measure("flac", ["-s", "-t", file], { cwd: scratch, scratchDir: scratch });
+  if (m.exitCode !== 0) throw new Error(`flac -t exited with ${m.exitCode}:\n${m.stderr.slice(-2000)}`);
+  return m;
+}
+
+function hasFlac(): boolean {
+  return spawnSync("flac", ["--version"], { stdio: "ignore" }).status === 0;
 }
 
 function hasFfmpeg(): boolean {
@@ -412,6 +427,29 @@ async function main(): Promise<void> {
       await rm(dir, { recursive: true, force: true });
     }
 
+    // 6. The main file as FLAC (issue #17): the same audio, scanned from FLAC and from WAV in the same rounds.
+    if (o.flac && hasFlac()) {
+      log(`\n6. ${o.seconds} s file as FLAC (flac -5) vs the same audio as WAV, --workers 1, ${o.repeats} run(s) each, with flac -t beside`);
+      const dir = path.join(root, "flac");
+      await mkdir(dir, { recursive: true });
+      const flacFile = path.join(dir, "pink.flac");
+      execFileSync("flac", ["-s", "-f", "-5", mainFile, "-o", flacFile]);
+      const wavRuns: ScanSample[] = [];
+      const flacRuns: ScanSample[] = [];
+      const testRuns: Measured[] = [];
+      for (let r = 0; r < o.repeats; r++) {
+        wavRuns.push(await scan(path.dirname(mainFile), 1, o, scratch));
+        flacRuns.push(await scan(dir, 1, o, scratch));
+        testRuns.push(await flacTest(flacFile, o, scratch));
+        log(`  wav ${fmt(wavRuns[r].wallSeconds, 2)} s; flac ${fmt(flacRuns[r].wallSeconds, 2)} s, ${fmt(flacRuns[r].peakRssMb, 0)} MB${busyNote(flacRuns[r])}; flac -t ${fmt(testRuns[r].wallSeconds, 2)} s`);
+      }
+      const wav = summarise(wavRuns, o.seconds, audioBytes(o.seconds));
+      const fl = summarise(flacRuns, o.seconds, audioBytes(o.seconds));
+      const t = { wallSeconds: median(testRuns.map((m) => m.wallSeconds)), cpuSeconds: median(testRuns.map((m) => m.cpuSeconds)) };
+      result.flac = { wav, flac: fl, flacTest: t, ratioToWav: fl.wallSeconds / wav.wallSeconds, ratioToFlacTest: fl.wallSeconds / t.wallSeconds };
+      await rm(dir, { recursive: true, force: true });
+    }
+
     result.finishedAt = new Date().toISOString();
     result.targets = judgeTargets(result);
     printTable(result, o);
@@ -429,7 +467,8 @@ function judgeTargets(r: Record<string, unknown>): Record<string, { value: numbe
   const single = r.single as Summary | undefined;
   const workers = r.workers as { scaling: number; one: Summary } | undefined;
   const linearity = r.linearity as { ratio16: number; rows: Summary[] } | undefined;
-  const rss = [single?.peakRssMb, workers?.one.peakRssMb, ...(linearity?.rows.map((x) => x.peakRssMb) ?? []), (r.rf64 as Summary | undefined)?.peakRssMb];
+  const flac = r.flac as { flac: Summary; ratioToWav: number } | undefined;
+  const rss = [single?.peakRssMb, workers?.one.peakRssMb, ...(linearity?.rows.map((x) => x.peakRssMb) ?? []), (r.rf64 as Summary | undefined)?.peakRssMb, flac?.flac.peakRssMb];
   const peakRss = Math.max(...rss.filter((x): x is number => x !== undefined));
   const t: Record<string, { value: number; target: string; met: boolean }> = {};
   const only = r.measuresOnly as Summary | undefined;
@@ -442,6 +481,7 @@ function judgeTargets(r: Record<string, unknown>): Record<string, { value: numbe
   }
   if (workers) t.workerScaling = { value: workers.scaling, target: `≥ ${TARGETS.workerScaling}x`, met: workers.scaling >= TARGETS.workerScaling };
   if (Number.isFinite(peakRss)) t.peakRssMbOneWorker = { value: peakRss, target: `≤ ${TARGETS.peakRssMb} MB`, met: peakRss <= TARGETS.peakRssMb };
+  if (flac) t.flacVsWav = { value: flac.ratioToWav, target: `≤ ${TARGETS.flacVsWav} (FLAC scan wall / WAV scan wall, same audio, same rounds)`, met: flac.ratioToWav <= TARGETS.flacVsWav };
   if (linearity) t.linearity16x = { value: linearity.ratio16, target: `≤ ${TARGETS.linearity} (per audio second, 16× vs 1×)`, met: linearity.ratio16 <= TARGETS.linearity };
   return t;
 }
@@ -498,6 +538,11 @@ function otherRows(lines: string[], r: Record<string, unknown>): void {
   }
   const rf = r.rf64 as Summary | undefined;
   if (rf) lines.push(`| RF64 4.5 GB: wall, realtime, peak RSS | ${fmt(rf.wallSeconds, 1)} s, ${fmt(rf.realtimeWall, 0)}x, ${fmt(rf.peakRssMb, 0)} MB |`);
+  const fl = r.flac as { wav: Summary; flac: Summary; flacTest: { wallSeconds: number }; ratioToWav: number; ratioToFlacTest: number } | undefined;
+  if (fl) {
+    lines.push(`| FLAC: scan wall / WAV scan wall (ratio); flac -t wall (our scan ÷ flac -t) | ${fmt(fl.flac.wallSeconds, 2)} s / ${fmt(fl.wav.wallSeconds, 2)} s (${fmt(fl.ratioToWav, 2)}x); ${fmt(fl.flacTest.wallSeconds, 2)} s (${fmt(fl.ratioToFlacTest, 2)}x) |`);
+    lines.push(`| FLAC: peak RSS; decode stage ms | ${fmt(fl.flac.peakRssMb, 0)} MB; ${fmt(fl.flac.stagesMs.decode ?? NaN, 0)} |`);
+  }
 }
 
 main().catch((error: unknown) => {

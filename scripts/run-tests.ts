@@ -63,6 +63,8 @@ async function main(): Promise<number> {
     ["chromium", "chromium"],
     ["ffmpeg", "ffmpeg"],
     ["sox", "sox"],
+    // Debian's reference FLAC encoder/decoder: makes the FLAC test inputs and is the bench's `flac -t` yardstick.
+    ["flac", "flac"],
     ["espeak-ng", "espeak-ng"],
     ["flac", "flac"],
     // PREMIS exports are checked against the PREMIS 3.0 schema, batch PDFs read back as text.

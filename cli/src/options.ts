@@ -8,8 +8,8 @@ import { REPORT_FORMATS, type ReportFormat } from "@tidemark/shared/report/repor
 
 export { REPORT_FORMATS, type ReportFormat };
 
-/** Matched case-insensitively against file names (README.md › `tidemark scan`: WAV, BWF, RF64 transfers). */
-export const DEFAULT_INCLUDE_GLOBS = ["*.wav", "*.bwf", "*.rf64"] as const;
+/** Matched case-insensitively against file names (README.md › `tidemark scan`: WAV, BWF, RF64, FLAC, AIFF transfers). */
+export const DEFAULT_INCLUDE_GLOBS = ["*.wav", "*.bwf", "*.rf64", "*.flac", "*.aif", "*.aiff", "*.aifc"] as const;
 
 export const MAX_WORKERS = 64;
 

@@ -151,6 +151,7 @@ export const toCloseupDtos = (f: FileResult, findings: Finding[]): CloseupDto[] 
 
 export const toFileDetailDto = (f: FileResult, parts: FileDetailParts): FileDetailDto => ({
   ...toFileSummaryDto(f),
+  ...(f.pathBytes ? { pathBytes: f.pathBytes } : {}),
   sizeBytes: Number(f.sizeBytes),
   sha256: f.sha256,
   metadata: f.metadata,

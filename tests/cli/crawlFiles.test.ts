@@ -43,7 +43,7 @@ describe("crawlFiles", () => {
     // find exits 1 after warning about the loop; its list is still complete.
     const found = spawnSync(
       "find",
-      ["-L", ".", "-type", "f", "(", "-iname", "*.wav", "-o", "-iname", "*.bwf", "-o", "-iname", "*.rf64", ")", "-not", "-name", ".*"],
+      ["-L", ".", "-type", "f", "(", ...["*.wav", "*.bwf", "*.rf64", "*.flac", "*.aif", "*.aiff", "*.aifc"].flatMap((g, i) => [...(i ? ["-o"] : []), "-iname", g]), ")", "-not", "-name", ".*"],
       { cwd: root, encoding: "utf8" },
     )
       .stdout.split("\n")

@@ -54,7 +54,7 @@ const scanDefaults = {
   spectrograms: null,
   fingerprint: true,
   workers: availableParallelism(),
-  include: ["*.wav", "*.bwf", "*.rf64"],
+  include: ["*.wav", "*.bwf", "*.rf64", "*.flac", "*.aif", "*.aiff", "*.aifc"],
   exclude: [],
   resume: null,
   quiet: false,

@@ -24,7 +24,7 @@ export class AudioFileError extends Error {
 }
 
 /** Maps a Node system error (errno code) met while opening or reading `path` to an AudioFileError. */
-export function audioFileErrorFromSystem(error: unknown, path: string): AudioFileError {
+export function audioFileErrorFromSystem(error: unknown, path: string | Buffer): AudioFileError {
   const errno = (error as { code?: unknown } | null)?.code;
   switch (errno) {
     case "ENOENT":

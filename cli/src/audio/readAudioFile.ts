@@ -1,5 +1,6 @@
 /**
- * Reads one WAV/BWF/RF64 file for analysis: walks the header with small positioned reads, then reads the
+ * Reads one WAV/BWF/RF64, AIFF/AIFF-C or FLAC file for analysis (the first bytes say which): walks the header
+ * with small positioned reads, then reads the
  * whole file once, sequentially, into two reusable buffers (the next read runs while the current buffer is
  * hashed and decoded). Every byte feeds one SHA-256; the data chunk is decoded from the same buffers into
  * reused planar blocks. Memory stays flat whatever the file length; positions go up to 2^53 (RF64 > 4 GB).
@@ -8,12 +9,16 @@ import { createHash } from "node:crypto";
 import { open, stat, type FileHandle } from "node:fs/promises";
 import { performance } from "node:perf_hooks";
 import type { AudioBlock, StreamFormat } from "@tidemark/shared/types/analysis";
-import type { AudioFormat, FileMetadata } from "@tidemark/shared/types/report";
-import { createDataChunkDecoder, type DataChunkDecoder } from "@tidemark/shared/wav/dataChunkDecoder";
+import { isAiffHeader, readAiffLayout } from "@tidemark/shared/aiff/aiffLayout";
+import { isFlacHeader, readFlacLayout, type FlacLayout } from "@tidemark/shared/flac/flacLayout";
+import type { AudioFormat, FileMetadata, Finding } from "@tidemark/shared/types/report";
+import type { ByteSource } from "@tidemark/shared/wav/byteSource";
+import { createDataChunkDecoder } from "@tidemark/shared/wav/dataChunkDecoder";
 import { WavFormatError } from "@tidemark/shared/wav/errors";
 import { readWavLayout, type WavLayout } from "@tidemark/shared/wav/wavLayout";
 import { AudioFileError, audioFileErrorFromSystem } from "./errors.ts";
 import { fileByteSource } from "./fileByteSource.ts";
+import { createFlacStreamDecoder } from "./flacStreamDecoder.ts";
 
 export interface AudioFileInfo {
   layout: WavLayout;
@@ -36,6 +41,8 @@ export interface AudioFileResult {
   lastNonFiniteFrame: number | null;
   /** The data chunk is shorter than its header claims; the blocks cover what is there. */
   isTruncated: boolean;
+  /** Checks of the stream itself: FLAC decode errors and MD5, BWF `MD5 ` chunk, FLAC truncation. */
+  integrityFindings: Finding[];
   /** Time spent waiting for reads, decoding (excluding the block consumer) and hashing. */
   timings: { readMs: number; decodeMs: number; hashMs: number };
 }
@@ -64,7 +71,8 @@ export function describeAudioFile(layout: WavLayout): AudioFileInfo {
     container: layout.container,
     encoding: layout.encoding,
     sampleRateHz: layout.sampleRateHz,
-    bitDepth: layout.bitDepth,
+    // The significant bits: a 20-bit file in 24-bit words is a 20-bit file (the stream keeps the container).
+    bitDepth: layout.encoding === "pcm" ? layout.validBits : layout.bitDepth,
     channels: layout.channels,
     durationSeconds: layout.totalFrames / layout.sampleRateHz,
   };
@@ -75,11 +83,60 @@ export function describeAudioFile(layout: WavLayout): AudioFileInfo {
     encoding: layout.encoding,
     totalFrames: layout.totalFrames,
     channelMask: layout.channelMask,
+    validBits: layout.validBits,
   };
   return { layout, format, stream, metadata: layout.metadata };
 }
 
-export async function readAudioFile(path: string, opts: ReadAudioFileOptions = {}): Promise<AudioFileResult> {
+/** Picks the header walker from the first bytes; anything unknown goes to the WAV walker, which names what it found. */
+async function readLayout(source: ByteSource): Promise<WavLayout> {
+  const head = await source.readAt(0, 16);
+  if (isFlacHeader(head)) return readFlacLayout(source);
+  if (isAiffHeader(head)) return readAiffLayout(source);
+  return readWavLayout(source);
+}
+
+interface StreamSink {
+  push(bytes: Uint8Array, fileOffset: number): void | Promise<void>;
+  finish(): void | Promise<void>;
+  nonFinite: { nonFiniteSamples: number; firstNonFiniteFrame: number | null; lastNonFiniteFrame: number | null } | null;
+  findings(): Finding[];
+}
+
+/** MD5 of the data chunk's bytes, compared with the BWF `MD5 ` chunk at the end. */
+function audioMd5Check(layout: WavLayout): StreamSink | null {
+  if (!layout.audioMd5) return null;
+  const hash = createHash("md5");
+  const start = layout.dataOffset;
+  const end = layout.dataOffset + layout.dataBytes;
+  let digest = "";
+  return {
+    push(bytes, offset) {
+      const from = Math.max(start, offset);
+      const to = Math.min(end, offset + bytes.length);
+      if (to > from) hash.update(bytes.subarray(from - offset, to - offset));
+    },
+    finish() {
+      digest = hash.digest("hex");
+    },
+    nonFinite: null,
+    findings() {
+      if (digest === layout.audioMd5) return [];
+      return [
+        {
+          code: "audio-md5-mismatch",
+          severity: "fail",
+          channel: null,
+          startSeconds: null,
+          endSeconds: null,
+          message: `MD5 of the data chunk's ${layout.dataBytes} bytes is ${digest}; the file's "MD5 " chunk says ${layout.audioMd5}: the audio changed after the checksum was written`,
+        },
+      ];
+    },
+  };
+}
+
+export async function readAudioFile(path: string | Buffer, opts: ReadAudioFileOptions = {}): Promise<AudioFileResult> {
   const blockFrames = opts.blockFrames ?? DEFAULT_BLOCK_FRAMES;
   if (!Number.isInteger(blockFrames) || blockFrames < 1) {
     throw new Error(`blockFrames must be a positive integer, got ${blockFrames}`);
@@ -105,7 +162,7 @@ export async function readAudioFile(path: string, opts: ReadAudioFileOptions = {
 }
 
 async function readOpenFile(
-  path: string,
+  path: string | Buffer,
   handle: FileHandle,
   blockFrames: number,
   opts: ReadAudioFileOptions,
@@ -116,7 +173,7 @@ async function readOpenFile(
   if (!opened.isFile()) throw new AudioFileError("not-a-file", `${path}: changed into a non-regular file while opening`);
   const sizeBytes = opened.size;
 
-  const layout = await readWavLayout(fileByteSource(handle, sizeBytes)).catch((error: unknown) => {
+  const layout = await readLayout(fileByteSource(handle, sizeBytes)).catch((error: unknown) => {
     if (error instanceof WavFormatError) throw error;
     throw audioFileErrorFromSystem(error, path);
   });
@@ -124,13 +181,30 @@ async function readOpenFile(
   const consumer = opts.onOpen?.(info) ?? undefined;
 
   let consumerMs = 0;
-  const decoder: DataChunkDecoder | null = consumer
-    ? createDataChunkDecoder(layout, blockFrames, (block) => {
-        const t = performance.now();
-        consumer(block);
-        consumerMs += performance.now() - t;
-      })
-    : null;
+  const onBlock = (block: AudioBlock): void => {
+    const t = performance.now();
+    consumer?.(block);
+    consumerMs += performance.now() - t;
+  };
+  const sinks: StreamSink[] = [];
+  if (layout.container === "flac") {
+    // Even when only hashing, FLAC is decoded: its MD5 and frame checks are part of reading it.
+    const flac = await createFlacStreamDecoder(layout as FlacLayout, blockFrames, onBlock);
+    sinks.push({
+      push: (bytes, offset) => flac.push(bytes, offset),
+      finish: async () => {
+        await flac.finish();
+        layout.trailingBytes = flac.trailingBytes;
+      },
+      nonFinite: null,
+      findings: () => flac.findings,
+    });
+  } else if (consumer) {
+    const decoder = createDataChunkDecoder(layout, blockFrames, onBlock);
+    sinks.push({ push: (b, o) => decoder.push(b, o), finish: () => decoder.finish(), nonFinite: decoder.samples, findings: () => [] });
+  }
+  const md5 = audioMd5Check(layout);
+  if (md5) sinks.push(md5);
   const hash = createHash("sha256");
   const extra = (opts.digests ?? []).map((a) => [a, createHash(a)] as const);
   const timings = { readMs: 0, decodeMs: 0, hashMs: 0 };
@@ -169,9 +243,9 @@ async function readOpenFile(
       for (const [, h] of extra) h.update(chunk);
       const t2 = performance.now();
       timings.hashMs += t2 - t1;
-      if (decoder) {
+      if (sinks.length > 0) {
         const before = consumerMs;
-        decoder.push(chunk, chunkOffset);
+        for (const sink of sinks) await sink.push(chunk, chunkOffset);
         timings.decodeMs += performance.now() - t2 - (consumerMs - before);
       }
       current = 1 - current;
@@ -180,13 +254,11 @@ async function readOpenFile(
     // Never close the file under an in-flight read.
     if (pending) await pending.catch(() => undefined);
   }
-  if (decoder) {
-    const before = consumerMs;
-    const t = performance.now();
-    decoder.finish();
-    timings.decodeMs += performance.now() - t - (consumerMs - before);
-  }
-  const samples = decoder?.samples;
+  const before = consumerMs;
+  const t = performance.now();
+  for (const sink of sinks) await sink.finish();
+  timings.decodeMs += performance.now() - t - (consumerMs - before);
+  const samples = sinks.find((s) => s.nonFinite)?.nonFinite;
   return {
     info,
     sha256: hash.digest("hex"),
@@ -196,6 +268,7 @@ async function readOpenFile(
     firstNonFiniteFrame: samples?.firstNonFiniteFrame ?? null,
     lastNonFiniteFrame: samples?.lastNonFiniteFrame ?? null,
     isTruncated: layout.isTruncated,
+    integrityFindings: sinks.flatMap((s) => s.findings()),
     timings,
   };
 }

@@ -16,6 +16,7 @@ import type { ScanOptions, UploadTarget } from "../options.ts";
 import { loadProfile } from "../profiles/loadProfile.ts";
 import type { ScanContext } from "../scan/analyseFile.ts";
 import { errorReport } from "../scan/errorReport.ts";
+import { fileKey } from "../scan/rawPath.ts";
 import { assertBagTarget, writeBag, type BagFile } from "../fixity/bag.ts";
 import { expectedChecksums } from "../fixity/sidecars.ts";
 import { crawlFiles, type CrawledFile } from "../scan/crawlFiles.ts";
@@ -76,11 +77,13 @@ async function uploadReport(report: ScanReport, target: UploadTarget, defaultCol
 
 /** --bag: the readable files (their copies checked against the scan's SHA-256) and the JSON report as a tag file. */
 async function writeScanBag(dir: string, given: string[], report: ScanReport, files: readonly CrawledFile[], io: CliIo): Promise<void> {
-  const byPath = new Map(files.map((f) => [f.relPath, f]));
+  const byPath = new Map(files.map((f) => [fileKey(f), f]));
   const bagged: BagFile[] = [];
   for (const f of report.files) {
-    const crawled = byPath.get(f.path);
-    if (f.sha256 && crawled) bagged.push({ absPath: crawled.absPath, relPath: f.path, sha256: f.sha256 });
+    const crawled = byPath.get(fileKey(f));
+    // BagIt manifests name files in UTF-8 (RFC 8493, 2.1.3): a name that is not UTF-8 cannot be listed.
+    if (crawled && typeof crawled.absPath !== "string") io.stderr.write(`tidemark: warning: ${f.path} is not in the bag: its name is not UTF-8\n`);
+    else if (f.sha256 && crawled && typeof crawled.absPath === "string") bagged.push({ absPath: crawled.absPath, relPath: f.path, sha256: f.sha256 });
     else io.stderr.write(`tidemark: warning: ${f.path} is not in the bag: it could not be read\n`);
   }
   const written = await writeBag(path.resolve(io.cwd, dir), bagged, {
@@ -143,8 +146,9 @@ export async function scanCommand(paths: string[], options: ScanOptions, io: Cli
   if (crawl.files.length === 0 && crawl.problems.length === 0) {
     progress.note(`tidemark: warning: no files matching ${options.include.join(" ")} under ${paths.join(" ")}`);
   }
+  // Sidecars are found by path string; a name that is not UTF-8 has none.
   const checksums = await expectedChecksums(
-    crawl.files.map((f) => f.absPath),
+    crawl.files.flatMap((f) => (typeof f.absPath === "string" ? [f.absPath] : [])),
     paths.map((p) => path.resolve(io.cwd, p)),
     options.checksums.map((m) => path.resolve(io.cwd, m)),
     (abs) => path.relative(io.cwd, abs).split(path.sep).join("/"),
@@ -163,7 +167,10 @@ export async function scanCommand(paths: string[], options: ScanOptions, io: Cli
     resume?.close();
   }
 
-  const problemReports: FileReport[] = crawl.problems.map((p) => errorReport(p.relPath, 0, { code: p.code, message: p.message }));
+  const problemReports: FileReport[] = crawl.problems.map((p) => ({
+    ...errorReport(p.relPath, 0, { code: p.code, message: p.message }),
+    ...(p.pathBytes ? { pathBytes: p.pathBytes } : {}),
+  }));
   // A checksum for a file that is not there: the delivery is incomplete, and the report says so.
   for (const o of checksums.orphans) {
     const relPath = path.relative(crawl.rootDir, o.absPath).split(path.sep).join("/");

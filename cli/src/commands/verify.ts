@@ -20,6 +20,7 @@ import { bagSize, digestsOfFile, isBag, verifyBag } from "../fixity/bag.ts";
 import { expectedChecksums } from "../fixity/sidecars.ts";
 import { alignPaths } from "../fixity/matchPaths.ts";
 import { crawlFiles, type CrawledFile } from "../scan/crawlFiles.ts";
+import { displayPath, fileKey } from "../scan/rawPath.ts";
 import { createScanProgress, progressDisplay, type ScanProgress } from "../scan/progress.ts";
 
 export interface FixityComparison {
@@ -84,7 +85,7 @@ async function hashAll(files: readonly CrawledFile[], algorithmsOf: (f: CrawledF
       const digests = await digestsOfFile(file.absPath, [...new Set<ChecksumAlgorithm>(["sha256", ...algorithmsOf(file)])], (bytes) =>
         progress.fileBytes(file.relPath, bytes),
       ).catch((e: unknown) => (e instanceof Error ? e : new Error(String(e))));
-      out.set(file.relPath, digests);
+      out.set(fileKey(file), digests);
       progress.fileDone(file.relPath, 0, file.sizeBytes);
     }
   };
@@ -102,8 +103,9 @@ export async function compareFixity(paths: string[], options: VerifyOptions, io:
   const report = options.against === null ? null : (await readReport(options.against, io.cwd)).report;
   const crawl = await crawlFiles(paths, { include: options.include, exclude: options.exclude, cwd: io.cwd });
   const shown = (abs: string): string => toPosix(path.relative(io.cwd, abs));
+  // Sidecars are found by path string; a name that is not UTF-8 is checked against the report only.
   const sidecars = await expectedChecksums(
-    crawl.files.map((f) => f.absPath),
+    crawl.files.flatMap((f) => (typeof f.absPath === "string" ? [f.absPath] : [])),
     paths.map((p) => path.resolve(io.cwd, p)),
     options.checksums.map((m) => path.resolve(io.cwd, m)),
     shown,
@@ -115,20 +117,22 @@ export async function compareFixity(paths: string[], options: VerifyOptions, io:
     );
   }
 
-  const earlier = new Map((report?.files ?? []).map((f) => [f.path, f]));
+  // Keyed by fileKey: a name that is not UTF-8 is matched on its exact bytes (only where it was before).
+  const earlier = new Map((report?.files ?? []).map((f) => [fileKey(f), f]));
+  const shownEarlier = (key: string): string => earlier.get(key)?.path ?? key;
   const { matches, inScope, toEarlier } = alignPaths(
-    crawl.files.map((f) => ({ relPath: f.relPath, absPosix: toPosix(f.absPath) })),
+    crawl.files.map((f) => ({ relPath: fileKey(f), absPosix: f.pathBytes ? fileKey(f) : toPosix(displayPath(f.absPath)) })),
     new Set(earlier.keys()),
   );
   const earlierOf = new Map(matches.map((m) => [m.relPath, m.earlier]));
   const claimed = new Set(matches.flatMap((m) => (m.earlier === null ? [] : [m.earlier])));
   // Files that may have moved: today's unmatched files are hashed too when an earlier file went unclaimed.
   const unclaimedHashes = new Map<string, string>();
-  for (const f of report?.files ?? []) if (f.sha256 && !claimed.has(f.path) && inScope(f.path)) unclaimedHashes.set(f.sha256, f.path);
-  const expectedOf = (f: CrawledFile): ExpectedChecksum[] => sidecars.byFile.get(f.absPath) ?? [];
+  for (const f of report?.files ?? []) if (f.sha256 && !claimed.has(fileKey(f)) && inScope(fileKey(f))) unclaimedHashes.set(f.sha256, fileKey(f));
+  const expectedOf = (f: CrawledFile): ExpectedChecksum[] => (typeof f.absPath === "string" ? sidecars.byFile.get(f.absPath) : undefined) ?? [];
   const toHash = crawl.files.filter((f) => {
     if (expectedOf(f).length > 0) return true;
-    const before = earlierOf.get(f.relPath);
+    const before = earlierOf.get(fileKey(f));
     return before ? Boolean(earlier.get(before)?.sha256) : unclaimedHashes.size > 0;
   });
   const progress = createScanProgress({
@@ -163,8 +167,8 @@ export async function compareFixity(paths: string[], options: VerifyOptions, io:
     void result.checks.push({ path, outcome, expectedSha256: null, actualSha256: null, movedTo: null, detail: "", ...extra });
   const present = new Set<string>(claimed);
   for (const file of crawl.files) {
-    const beforePath = earlierOf.get(file.relPath) ?? null;
-    const digests = hashes.get(file.relPath);
+    const beforePath = earlierOf.get(fileKey(file)) ?? null;
+    const digests = hashes.get(fileKey(file));
     const now = digests instanceof Map ? digests.get("sha256") : digests;
     const expected = expectedOf(file);
     if (expected.length > 0 && digests instanceof Map) {
@@ -178,8 +182,8 @@ export async function compareFixity(paths: string[], options: VerifyOptions, io:
       if (from !== undefined) {
         unclaimedHashes.delete(now as string);
         present.add(from);
-        result.moved.push({ from, to: file.relPath });
-        check(from, "moved", { expectedSha256: now as string, actualSha256: now as string, movedTo: toEarlier(file.relPath) });
+        result.moved.push({ from: shownEarlier(from), to: file.relPath });
+        check(shownEarlier(from), "moved", { expectedSha256: now as string, actualSha256: now as string, movedTo: toEarlier(file.relPath) });
       } else if (!report && expected.length > 0 && digests instanceof Map) {
         // Checked against its checksums alone.
         if (compareChecksums(expected, digests).every((c) => c.matches)) result.unchanged.push(file.relPath);
@@ -196,27 +200,28 @@ export async function compareFixity(paths: string[], options: VerifyOptions, io:
     } else if (typeof now !== "string") {
       const reason = now instanceof Error ? now.message : "not hashed";
       result.unreadable.push({ path: file.relPath, reason });
-      check(beforePath, "unreadable", { expectedSha256: before.sha256, detail: reason });
+      check(before.path, "unreadable", { expectedSha256: before.sha256, detail: reason });
     } else if (now === before.sha256) {
       result.unchanged.push(file.relPath);
-      check(beforePath, "unchanged", { expectedSha256: before.sha256, actualSha256: now });
+      check(before.path, "unchanged", { expectedSha256: before.sha256, actualSha256: now });
     } else {
       result.changed.push({ path: file.relPath, expectedSha256: before.sha256, actualSha256: now });
-      check(beforePath, "changed", { expectedSha256: before.sha256, actualSha256: now });
+      check(before.path, "changed", { expectedSha256: before.sha256, actualSha256: now });
     }
   }
   for (const p of crawl.problems) {
-    const tail = [...earlier.keys()].find((e) => e === p.relPath || toPosix(p.absPath).endsWith(`/${e}`));
+    const key = fileKey(p);
+    const tail = [...earlier.keys()].find((e) => e === key || (!p.pathBytes && toPosix(displayPath(p.absPath)).endsWith(`/${e}`)));
     if (tail === undefined) continue;
     present.add(tail);
     const sha = earlier.get(tail)?.sha256;
     if (sha) {
       result.unreadable.push({ path: p.relPath, reason: p.message });
-      check(tail, "unreadable", { expectedSha256: sha, detail: p.message });
+      check(shownEarlier(tail), "unreadable", { expectedSha256: sha, detail: p.message });
     }
   }
   for (const f of report?.files ?? []) {
-    if (present.has(f.path) || !f.sha256 || !inScope(f.path)) continue;
+    if (present.has(fileKey(f)) || !f.sha256 || !inScope(fileKey(f))) continue;
     result.missing.push(f.path);
     check(f.path, "missing", { expectedSha256: f.sha256 });
   }

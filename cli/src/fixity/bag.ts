@@ -53,7 +53,7 @@ async function listFiles(root: string, sub: string, out: Map<string, number>, sk
 }
 
 /** Digests of one file for several algorithms in one read; `onRead` gets the bytes read so far. */
-export async function digestsOfFile(file: string, algorithms: readonly BagAlgorithm[], onRead?: (bytes: number) => void): Promise<Map<BagAlgorithm, string>> {
+export async function digestsOfFile(file: string | Buffer, algorithms: readonly BagAlgorithm[], onRead?: (bytes: number) => void): Promise<Map<BagAlgorithm, string>> {
   const hashes = algorithms.map((a) => [a, createHash(a)] as [BagAlgorithm, Hash]);
   let read = 0;
   for await (const chunk of createReadStream(file, { highWaterMark: 4 * 1024 * 1024 })) {

@@ -8,6 +8,7 @@ import { assembleReport } from "@tidemark/shared/report/assembleReport";
 import { reportToJson } from "@tidemark/shared/report/jsonReport";
 import type { ClaimedJobDto } from "@tidemark/shared/types/api";
 import type { ScanReport } from "@tidemark/shared/types/report";
+import { resolveLossyPath, type FsPath } from "../scan/rawPath.ts";
 import { spectrogramPaths } from "../scan/spectrogramPaths.ts";
 import { toolInfo } from "../toolInfo.ts";
 import type { ScanEngine } from "./scanEngines.ts";
@@ -25,13 +26,24 @@ export interface JobOutcome {
 /** The file is not on this machine's storage (or not a file): another worker, or a fixed mount, may do better. */
 export class FileMissingError extends Error {}
 
+/**
+ * The queue carries display paths; a name that is not UTF-8 shows U+FFFD there and is found again by its
+ * bytes (rawPath.ts) when exactly one file in its folder looks like it.
+ */
+async function locate(localPath: string): Promise<FsPath> {
+  if (!localPath.includes("\ufffd")) return localPath;
+  const found = await resolveLossyPath(localPath);
+  return found.length === 1 ? found[0] : localPath;
+}
+
 export async function scanJob(job: ClaimedJobDto, localPath: string, engine: ScanEngine): Promise<JobOutcome> {
-  const found = await stat(localPath).catch((e: { code?: string }) => {
+  const absPath = await locate(localPath);
+  const found = await stat(absPath).catch((e: { code?: string }) => {
     throw new FileMissingError(`${localPath} is not reachable from this worker (${e.code ?? String(e)}): is the shared storage mounted here?`);
   });
   if (!found.isFile()) throw new FileMissingError(`${localPath} is not a regular file`);
   const startedAt = new Date().toISOString();
-  const result = await engine.pool.run({ kind: "analyse", absPath: localPath, relPath: job.path, sizeBytes: found.size });
+  const result = await engine.pool.run({ kind: "analyse", absPath, relPath: job.path, sizeBytes: found.size });
   if (result.kind !== "analysed") throw new Error(`expected a measurement, got ${result.kind}`);
   const { file } = result;
   const report = assembleReport(

@@ -19,6 +19,7 @@ import { readAudioFile, type AudioFileResult } from "../audio/readAudioFile.ts";
 import { encodePng } from "../render/encodePng.ts";
 import { oneLine } from "../errors.ts";
 import { errorReport } from "./errorReport.ts";
+import { displayPath, type FsPath } from "./rawPath.ts";
 import { spectrogramPaths, type SpectrogramTarget } from "./spectrogramPaths.ts";
 
 export interface ScanContext {
@@ -30,8 +31,12 @@ export interface ScanContext {
 }
 
 export interface AnalyseTask {
-  absPath: string;
+  /** A Buffer for a name that is not valid UTF-8 (rawPath.ts). */
+  absPath: FsPath;
+  /** As shown (U+FFFD for bytes that are not UTF-8). */
   relPath: string;
+  /** Exact bytes of relPath, base64, when it is not valid UTF-8; copied into the report. */
+  pathBytes?: string;
   /** Size seen by the crawl, reported when the file cannot be opened at all. */
   sizeBytes: number;
   /** Checksum sidecars and --checksums lines for this file, checked in the same read. */
@@ -72,7 +77,7 @@ function reportErrorOf(error: unknown, task: AnalyseTask, fallbackCode: string):
   const code = (error as { code?: unknown } | null)?.code;
   const isTyped = typeof code === "string" && /^[a-z][a-z0-9-]*$/.test(code);
   // Messages name the file as the report does (relative), not by its absolute path.
-  const message = oneLine(error).split(task.absPath).join(task.relPath);
+  const message = oneLine(error).split(displayPath(task.absPath)).join(task.relPath);
   return { code: isTyped ? code : fallbackCode, message: isTyped || message.startsWith(task.relPath) ? message : `${task.relPath}: ${message}` };
 }
 
@@ -139,7 +144,7 @@ export async function analyseFile(
   } catch (error) {
     if (signal?.aborted) throw error;
     const code = analysis ? "analysis-failed" : "unreadable";
-    return { report: errorReport(task.relPath, task.sizeBytes, reportErrorOf(error, task, code)), audioSeconds: 0, imageError: null, timingsMs };
+    return { report: withPathBytes(errorReport(task.relPath, task.sizeBytes, reportErrorOf(error, task, code)), task), audioSeconds: 0, imageError: null, timingsMs };
   }
   timingsMs.read = read.timings.readMs;
   timingsMs.decode = read.timings.decodeMs;
@@ -151,7 +156,7 @@ export async function analyseFile(
     analysed = (analysis as BlockAnalyser<FileAnalysisResult> | null)?.finish() ?? failNoAnalysis();
     analyseMs += performance.now() - t;
   } catch (error) {
-    return { report: errorReport(task.relPath, read.sizeBytes, reportErrorOf(error, task, "analysis-failed")), audioSeconds: 0, imageError: null, timingsMs };
+    return { report: withPathBytes(errorReport(task.relPath, read.sizeBytes, reportErrorOf(error, task, "analysis-failed")), task), audioSeconds: 0, imageError: null, timingsMs };
   }
   timingsMs.analyse = analyseMs;
   timingsMs.level = analysed.timings.level;
@@ -160,7 +165,7 @@ export async function analyseFile(
 
   const { format, metadata, layout } = read.info;
   const checksums = task.expectedChecksums?.length ? compareChecksums(task.expectedChecksums, new Map([...read.digests, ["sha256", read.sha256]])) : undefined;
-  const findings = [...analysed.findings, ...readerFindings(layout, read), ...checksumFindings(checksums ?? [])];
+  const findings = [...analysed.findings, ...readerFindings(layout, read), ...checksumFindings(checksums ?? []), ...read.integrityFindings];
   const judged = judge(ctx.profile, { format, metrics: analysed.metrics, findings, error: null, metadata });
 
   let spectrogram: string | null = null;
@@ -178,6 +183,7 @@ export async function analyseFile(
   return {
     report: {
       path: task.relPath,
+      ...(task.pathBytes ? { pathBytes: task.pathBytes } : {}),
       sizeBytes: read.sizeBytes,
       sha256: read.sha256,
       format,
@@ -202,6 +208,10 @@ function extraDigestsFor(expected: readonly ExpectedChecksum[] | undefined): ("m
   const out = new Set<"md5" | "sha1" | "sha512">();
   for (const e of expected ?? []) if (e.algorithm !== "sha256") out.add(e.algorithm);
   return [...out];
+}
+
+function withPathBytes(report: FileReport, task: AnalyseTask): FileReport {
+  return task.pathBytes ? { ...report, pathBytes: task.pathBytes } : report;
 }
 
 function failNoAnalysis(): never {

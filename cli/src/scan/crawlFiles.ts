@@ -11,18 +11,23 @@ import path from "node:path";
 import { Minimatch } from "minimatch";
 import { compareReportPaths } from "@tidemark/shared/report/assembleReport";
 import { UsageError } from "../errors.ts";
+import { displayPath, fileKey, joinPath, pathBytesOf, rawArgument, resolveLossyPath, type FsPath } from "./rawPath.ts";
 
 export interface CrawledFile {
-  absPath: string;
-  /** Relative to the crawl root, forward slashes. */
+  /** A Buffer when the name is not valid UTF-8 (rawPath.ts). */
+  absPath: FsPath;
+  /** Relative to the crawl root, forward slashes; invalid UTF-8 shown as U+FFFD. */
   relPath: string;
+  /** Exact bytes of relPath, base64, when it is not valid UTF-8 (then relPath alone is lossy). */
+  pathBytes?: string;
   sizeBytes: number;
   mtimeMs: number;
 }
 
 export interface CrawlProblem {
-  absPath: string;
+  absPath: FsPath;
   relPath: string;
+  pathBytes?: string;
   /** Same codes as the audio reader's I/O errors (cli/src/audio/errors.ts). */
   code: "symlink-loop" | "not-found" | "is-directory" | "not-a-file" | "permission-denied" | "io-error";
   message: string;
@@ -60,6 +65,13 @@ export function commonAncestor(dirs: readonly string[]): string {
   return shared <= 1 ? path.parse(path.resolve(dirs[0])).root : joined;
 }
 
+function parentOf(p: FsPath): FsPath {
+  if (typeof p === "string") return path.dirname(p);
+  const bytes = Buffer.from(p);
+  const slash = bytes.lastIndexOf(0x2f);
+  return slash <= 0 ? "/" : bytes.subarray(0, slash).toString("utf8");
+}
+
 function errnoOf(error: unknown): string | undefined {
   return (error as { code?: string } | null)?.code;
 }
@@ -73,11 +85,22 @@ export async function crawlFiles(paths: readonly string[], options: CrawlOptions
   const isExcluded = (rel: string, isDir: boolean): boolean =>
     exclude.some((m) => m.match(rel) || (isDir && m.match(`${rel}/`)));
 
-  const roots: { abs: string; stats: Stats; given: string }[] = [];
+  const roots: { abs: FsPath; stats: Stats; given: string }[] = [];
   for (const given of paths) {
-    const abs = path.resolve(options.cwd, given);
+    const resolved = path.resolve(options.cwd, given);
     try {
-      roots.push({ abs, stats: await stat(abs), given });
+      const stats = await stat(resolved).catch(async (error: unknown) => {
+        // A name that is not UTF-8 arrives here lossily decoded: take its bytes from the command line when the
+        // process can see them, else every file whose name looks like it.
+        if (errnoOf(error) !== "ENOENT" || !resolved.includes("\ufffd")) throw error;
+        const exact = rawArgument(given);
+        const found = exact ? [path.isAbsolute(given) ? exact : joinPath(options.cwd, exact)] : await resolveLossyPath(resolved);
+        if (found.length === 0) throw error;
+        for (const abs of found.slice(1)) roots.push({ abs, stats: await stat(abs), given });
+        roots.push({ abs: found[0], stats: await stat(found[0]), given });
+        return null;
+      });
+      if (stats) roots.push({ abs: resolved, stats, given });
     } catch (error) {
       const errno = errnoOf(error);
       if (errno === "ENOENT" || errno === "ENOTDIR") throw new UsageError(`path not found: ${given}`);
@@ -86,23 +109,30 @@ export async function crawlFiles(paths: readonly string[], options: CrawlOptions
       throw new UsageError(`cannot read ${given}: ${errno ?? String(error)}`);
     }
   }
-  const rootDir = commonAncestor(roots.map((r) => (r.stats.isDirectory() ? r.abs : path.dirname(r.abs))));
-  const rel = (abs: string): string => toPosix(path.relative(rootDir, abs)) || path.basename(abs);
+  // Relative paths are worked out on the display form; a root folder that is not UTF-8 is shown lossily too.
+  const rootDir = commonAncestor(roots.map((r) => displayPath(r.stats.isDirectory() ? r.abs : parentOf(r.abs))));
+  const rel = (abs: FsPath): string => toPosix(path.relative(rootDir, displayPath(abs))) || path.basename(displayPath(abs));
+  const bytesOf = (abs: FsPath): { pathBytes?: string } => {
+    const pathBytes = pathBytesOf(abs, rootDir);
+    return pathBytes ? { pathBytes } : {};
+  };
 
   const files = new Map<string, CrawledFile>();
   const problems = new Map<string, CrawlProblem>();
   const visitedDirs = new Set<string>();
-  const problem = (abs: string, code: CrawlProblem["code"], why: string): void => {
+  const problem = (abs: FsPath, code: CrawlProblem["code"], why: string): void => {
     const relPath = rel(abs);
-    problems.set(relPath, { absPath: abs, relPath, code, message: `${relPath}: ${why}` });
+    const entry: CrawlProblem = { absPath: abs, relPath, ...bytesOf(abs), code, message: `${relPath}: ${why}` };
+    problems.set(fileKey(entry), entry);
   };
-  const addFile = (abs: string, stats: Stats): void => {
+  const addFile = (abs: FsPath, stats: Stats): void => {
     const relPath = rel(abs);
-    files.set(relPath, { absPath: abs, relPath, sizeBytes: stats.size, mtimeMs: stats.mtimeMs });
+    const entry: CrawledFile = { absPath: abs, relPath, ...bytesOf(abs), sizeBytes: stats.size, mtimeMs: stats.mtimeMs };
+    files.set(fileKey(entry), entry);
   };
 
-  async function walk(dir: string, ancestors: ReadonlySet<string>, depth: number): Promise<void> {
-    const real = await realpath(dir).catch(() => dir);
+  async function walk(dir: FsPath, ancestors: ReadonlySet<string>, depth: number): Promise<void> {
+    const real = await realpath(dir, { encoding: "buffer" }).then((b) => b.toString("latin1"), () => Buffer.from(displayPath(dir)).toString("latin1"));
     if (ancestors.has(real)) {
       problem(dir, "symlink-loop", "symbolic link back into one of its own parent folders, not followed");
       return;
@@ -114,18 +144,19 @@ export async function crawlFiles(paths: readonly string[], options: CrawlOptions
       problem(dir, "io-error", `folders nested deeper than ${MAX_DEPTH} levels, not walked further`);
       return;
     }
-    let entries: Dirent[];
+    let entries: Dirent<Buffer>[];
     try {
-      entries = await readdir(dir, { withFileTypes: true });
+      // Names as bytes: a name that is not UTF-8 must be opened by its bytes, not a lossy string.
+      entries = await readdir(dir, { withFileTypes: true, encoding: "buffer" });
     } catch (error) {
       const errno = errnoOf(error);
       problem(dir, errno === "EACCES" || errno === "EPERM" ? "permission-denied" : "io-error", `folder cannot be read (${errno ?? "unknown error"})`);
       return;
     }
-    entries.sort((a, b) => compareReportPaths(a.name, b.name));
+    entries.sort((a, b) => compareReportPaths(a.name.toString("utf8"), b.name.toString("utf8")) || Buffer.compare(a.name, b.name));
     const inner = new Set(ancestors).add(real);
     for (const entry of entries) {
-      const abs = path.join(dir, entry.name);
+      const abs = joinPath(dir, entry.name);
       const relPath = rel(abs);
       let stats: Stats;
       try {

@@ -7,6 +7,7 @@ import { closeSync, openSync, readFileSync, writeSync } from "node:fs";
 import path from "node:path";
 import type { FileReport } from "@tidemark/shared/types/report";
 import { UsageError } from "../errors.ts";
+import { fileKey } from "./rawPath.ts";
 
 export const RESUME_STATE_KIND = "tidemark.resume/1";
 
@@ -21,13 +22,15 @@ export interface ResumeHeader {
 export interface ResumeRecord {
   kind: "file";
   relPath: string;
+  /** Exact bytes of a name that is not UTF-8 (rawPath.ts); records are keyed on them when present. */
+  pathBytes?: string;
   sizeBytes: number;
   mtimeMs: number;
   report: FileReport;
 }
 
 export interface ResumeState {
-  /** Records by path; a later line for the same path wins. */
+  /** Records by fileKey (path, or exact bytes for a name that is not UTF-8); a later line for the same file wins. */
   records: Map<string, ResumeRecord>;
   /** Appends one finished file; synchronous so it is on disk before the next file is taken. */
   append(record: ResumeRecord): void;
@@ -65,7 +68,7 @@ function readExisting(file: string): ExistingState {
   for (const line of lines.slice(1)) {
     try {
       const record = JSON.parse(line) as ResumeRecord;
-      if (record.kind === "file" && typeof record.relPath === "string") records.set(record.relPath, record);
+      if (record.kind === "file" && typeof record.relPath === "string") records.set(fileKey(record), record);
     } catch {
       // A line torn by a kill mid-write: that file is simply measured again.
     }

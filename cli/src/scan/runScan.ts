@@ -9,6 +9,7 @@ import type { FileReport } from "@tidemark/shared/types/report";
 import { oneLine } from "../errors.ts";
 import type { ScanContext } from "./analyseFile.ts";
 import { errorReport } from "./errorReport.ts";
+import { fileKey } from "./rawPath.ts";
 import { spectrogramPaths } from "./spectrogramPaths.ts";
 import type { CrawledFile } from "./crawlFiles.ts";
 import type { Interruption } from "./interruption.ts";
@@ -90,8 +91,9 @@ export async function runScan(options: RunScanOptions): Promise<RunScanResult> {
 
   const measure = async (file: CrawledFile): Promise<{ report: FileReport; seconds: number } | null> => {
     try {
-      const expectedChecksums = options.expectedChecksums?.get(file.absPath);
-      const task = { kind: "analyse" as const, absPath: file.absPath, relPath: file.relPath, sizeBytes: file.sizeBytes, ...(expectedChecksums ? { expectedChecksums } : {}) };
+      // Sidecars are matched by path string; a name that is not UTF-8 has none.
+      const expectedChecksums = typeof file.absPath === "string" ? options.expectedChecksums?.get(file.absPath) : undefined;
+      const task = { kind: "analyse" as const, absPath: file.absPath, relPath: file.relPath, pathBytes: file.pathBytes, sizeBytes: file.sizeBytes, ...(expectedChecksums ? { expectedChecksums } : {}) };
       const result = await pool.run(task, (bytes) =>
         progress.fileBytes(file.relPath, bytes),
       );
@@ -109,13 +111,14 @@ export async function runScan(options: RunScanOptions): Promise<RunScanResult> {
       // Nothing can be measured: stop the scan rather than report every file as an error.
       if (error instanceof WorkerStartError) throw error;
       const code = error instanceof WorkerCrashError ? "worker-crashed" : "analysis-failed";
-      return { report: errorReport(file.relPath, file.sizeBytes, { code, message: `${file.relPath}: measurement stopped (${oneLine(error)})` }), seconds: 0 };
+      const report = errorReport(file.relPath, file.sizeBytes, { code, message: `${file.relPath}: measurement stopped (${oneLine(error)})` });
+      return { report: file.pathBytes ? { ...report, pathBytes: file.pathBytes } : report, seconds: 0 };
     }
   };
 
   const processFile = async (file: CrawledFile): Promise<void> => {
     progress.fileStarted(file.relPath);
-    const record = resume?.records.get(file.relPath);
+    const record = resume?.records.get(fileKey(file));
     if (record && (await reusable(record, file, context))) {
       const hashed = await pool.run({ kind: "hash", absPath: file.absPath }).catch(() => null);
       if (hashed?.kind === "hashed" && hashed.sha256 === record.report.sha256) {
@@ -131,7 +134,7 @@ export async function runScan(options: RunScanOptions): Promise<RunScanResult> {
     reports.push(done.report);
     measured += 1;
     audioSeconds += done.seconds;
-    resume?.append({ kind: "file", relPath: file.relPath, sizeBytes: file.sizeBytes, mtimeMs: file.mtimeMs, report: done.report });
+    resume?.append({ kind: "file", relPath: file.relPath, ...(file.pathBytes ? { pathBytes: file.pathBytes } : {}), sizeBytes: file.sizeBytes, mtimeMs: file.mtimeMs, report: done.report });
     progress.fileDone(file.relPath, done.seconds, file.sizeBytes);
   };
 

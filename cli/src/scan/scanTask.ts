@@ -1,8 +1,9 @@
 /** The two jobs a scan hands out per file: measure it, or (for --resume checks) only hash it. */
 import { sha256OfFile } from "../fixity/hashFile.ts";
 import { analyseFile, type AnalyseTask, type AnalysedFile, type ScanContext } from "./analyseFile.ts";
+import { revivePath, type FsPath } from "./rawPath.ts";
 
-export type ScanTask = ({ kind: "analyse" } & AnalyseTask) | { kind: "hash"; absPath: string };
+export type ScanTask = ({ kind: "analyse" } & AnalyseTask) | { kind: "hash"; absPath: FsPath };
 export type ScanTaskResult = { kind: "analysed"; file: AnalysedFile } | { kind: "hashed"; sha256: string | null };
 
 export async function runScanTask(
@@ -13,7 +14,7 @@ export async function runScanTask(
 ): Promise<ScanTaskResult> {
   if (task.kind === "hash") {
     // A file that cannot be hashed now is simply measured again.
-    return { kind: "hashed", sha256: await sha256OfFile(task.absPath).catch(() => null) };
+    return { kind: "hashed", sha256: await sha256OfFile(revivePath(task.absPath)).catch(() => null) };
   }
-  return { kind: "analysed", file: await analyseFile(task, context, signal, onProgress) };
+  return { kind: "analysed", file: await analyseFile({ ...task, absPath: revivePath(task.absPath) }, context, signal, onProgress) };
 }

@@ -9,6 +9,8 @@ export const BATCH_EXPORT_SCHEMA = "tidemark.batch-export/1";
 export interface BatchExportFile {
   id: number;
   path: string;
+  /** Exact bytes of a path that is not UTF-8, base64; absent otherwise. */
+  pathBytes?: string;
   sizeBytes: number;
   sha256: string | null;
   format: AudioFormat | null;
@@ -59,6 +61,7 @@ export async function batchExport(batch: Batch): Promise<BatchExport> {
     files: files.map((f) => ({
       id: f.id,
       path: f.path,
+      ...(f.pathBytes ? { pathBytes: f.pathBytes } : {}),
       sizeBytes: Number(f.sizeBytes),
       sha256: f.sha256,
       format: f.format,

@@ -42,6 +42,8 @@ export class FileResult extends Model<InferAttributes<FileResult>, InferCreation
   /** The same path's scan before this one in the same collection. */
   declare previousId: number | null;
   declare path: string;
+  /** Exact bytes of a path that is not UTF-8, base64 (the report's `pathBytes`); null otherwise. */
+  declare pathBytes: CreationOptional<string | null>;
   /** BIGINT: pg returns it as a string. */
   declare sizeBytes: string | number;
   declare sha256: string | null;
@@ -76,6 +78,7 @@ export class FileResult extends Model<InferAttributes<FileResult>, InferCreation
         id: { type: DataTypes.INTEGER, autoIncrement: true, primaryKey: true },
         previousId: { type: DataTypes.INTEGER, allowNull: true },
         path: { type: DataTypes.TEXT, allowNull: false },
+        pathBytes: { type: DataTypes.TEXT, allowNull: true },
         sizeBytes: { type: DataTypes.BIGINT, allowNull: false },
         sha256: { type: DataTypes.TEXT, allowNull: true },
         format: { type: DataTypes.JSONB, allowNull: true },

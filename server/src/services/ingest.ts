@@ -14,7 +14,7 @@ import { deleteObjects, linksFor, writeArtefacts, type WrittenArtefacts } from "
 import { recordAudit } from "./audit.ts";
 import { recordBatchDuplicates } from "./duplicatesIngest.ts";
 import type { ArtefactPart } from "./ingestValidation.ts";
-import { fileRowOf, insertFileRows, insertFindingRows, type FileRow } from "./ingestRows.ts";
+import { fileRowOf, insertFileRows, insertFindingRows, pathKey, type FileRow } from "./ingestRows.ts";
 import { notifyFailingBatch } from "./notifications.ts";
 
 export interface IngestInput {
@@ -41,16 +41,16 @@ async function existingBatch(uploaderId: number, batchKey: string, transaction?:
 /** Latest scan of each path in the collection, and latest scan with a known SHA-256 (for fixity). */
 async function previousScans(ctx: AppContext, collectionId: number, paths: string[], transaction: Transaction) {
   const query = (extra: string) =>
-    ctx.sequelize.query<PreviousScan>(
-      `select distinct on (path) id, batch_id, path, sha256 from file_results
+    ctx.sequelize.query<PreviousScan & { path_bytes: string | null }>(
+      `select distinct on (path, path_bytes) id, batch_id, path, path_bytes, sha256 from file_results
         where collection_id = $1 and path = any($2::text[]) ${extra}
-        order by path, id desc`,
+        order by path, path_bytes, id desc`,
       { bind: [collectionId, paths], type: QueryTypes.SELECT, transaction },
     );
   const [latest, latestHashed] = paths.length ? await Promise.all([query(""), query("and sha256 is not null")]) : [[], []];
   return {
-    latest: new Map(latest.map((r) => [r.path, r])),
-    latestHashed: new Map(latestHashed.map((r) => [r.path, r])),
+    latest: new Map(latest.map((r) => [pathKey(r.path, r.path_bytes), r])),
+    latestHashed: new Map(latestHashed.map((r) => [pathKey(r.path, r.path_bytes), r])),
   };
 }
 
@@ -85,7 +85,7 @@ async function storeRows(ctx: AppContext, res: Response, input: IngestInput, key
   const prepared = report.files.map((file, index) => {
     const findings: ReportFinding[] = [...file.findings];
     let verdict: Verdict = file.verdict;
-    const hashed = latestHashed.get(file.path);
+    const hashed = latestHashed.get(pathKey(file.path, file.pathBytes));
     if (hashed?.sha256 && file.sha256 && hashed.sha256 !== file.sha256) {
       findings.push({
         code: "fixity-changed",
@@ -128,7 +128,7 @@ async function storeRows(ctx: AppContext, res: Response, input: IngestInput, key
     fileRowOf(
       file,
       { findings, verdict },
-      { previousId: latest.get(file.path)?.id ?? null, ...linksFor(file, index, keys) },
+      { previousId: latest.get(pathKey(file.path, file.pathBytes))?.id ?? null, ...linksFor(file, index, keys) },
     ),
   );
   const ids = await insertFileRows(ctx.sequelize, batch.id, collectionId, fileRows, transaction);

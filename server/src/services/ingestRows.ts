@@ -13,6 +13,7 @@ import { summariseFindings } from "./findingSummary.ts";
 export interface FileRow {
   previous_id: number | null;
   path: string;
+  path_bytes: string | null;
   size_bytes: number;
   sha256: string | null;
   format: AudioFormat | null;
@@ -47,6 +48,7 @@ export function fileRowOf(
   return {
     previous_id: links.previousId,
     path: file.path,
+    path_bytes: file.pathBytes ?? null,
     size_bytes: file.sizeBytes,
     sha256: file.sha256,
     format: file.format,
@@ -71,32 +73,38 @@ export function fileRowOf(
 
 const CHUNK = 5000;
 
+/** One file's identity in a collection: its path, and its exact bytes when the name is not UTF-8. */
+export function pathKey(path: string, pathBytes: string | null | undefined): string {
+  return pathBytes ? `${path}\u0000${pathBytes}` : path;
+}
+
 /** Inserts the batch's file rows; returns their ids in the order given. */
 export async function insertFileRows(sequelize: Sequelize, batchId: number, collectionId: number, rows: FileRow[], transaction: Transaction): Promise<number[]> {
   const ids: number[] = [];
   for (let start = 0; start < rows.length; start += CHUNK) {
     const chunk = rows.slice(start, start + CHUNK);
-    const made = await sequelize.query<{ id: number; path: string }>(
-      `insert into file_results (batch_id, collection_id, previous_id, path, size_bytes, sha256, format, metadata, metrics, error,
+    const made = await sequelize.query<{ id: number; path: string; path_bytes: string | null }>(
+      `insert into file_results (batch_id, collection_id, previous_id, path, path_bytes, size_bytes, sha256, format, metadata, metrics, error,
                                  verdict, duration_seconds, integrated_lufs, true_peak_dbtp, worst_findings, finding_codes,
                                  spectrogram_key, waveform_key, level_grid_key, loudness_curve_key, closeups, closeups_omitted,
                                  artefact_keys)
-       select $1, $2, r.previous_id, r.path, r.size_bytes, r.sha256, r.format, r.metadata, r.metrics, r.error,
+       select $1, $2, r.previous_id, r.path, r.path_bytes, r.size_bytes, r.sha256, r.format, r.metadata, r.metrics, r.error,
               r.verdict::verdict, r.duration_seconds, r.integrated_lufs, r.true_peak_dbtp, r.worst_findings,
               array(select jsonb_array_elements_text(r.finding_codes)), r.spectrogram_key, r.waveform_key,
               r.level_grid_key, r.loudness_curve_key, r.closeups, r.closeups_omitted,
               array(select jsonb_array_elements_text(r.artefact_keys))
          from jsonb_to_recordset($3::jsonb) as r(
-              previous_id integer, path text, size_bytes bigint, sha256 text, format jsonb, metadata jsonb, metrics jsonb,
+              previous_id integer, path text, path_bytes text, size_bytes bigint, sha256 text, format jsonb, metadata jsonb, metrics jsonb,
               error jsonb, verdict text, duration_seconds double precision, integrated_lufs double precision,
               true_peak_dbtp double precision, worst_findings jsonb, finding_codes jsonb, spectrogram_key text, waveform_key text,
               level_grid_key text, loudness_curve_key text, closeups jsonb, closeups_omitted jsonb, artefact_keys jsonb)
-       returning id, path`,
+       returning id, path, path_bytes`,
       { bind: [batchId, collectionId, JSON.stringify(chunk)], type: QueryTypes.SELECT, transaction },
     );
-    // Match by path (unique within a batch) rather than trusting RETURNING order.
-    const byPath = new Map(made.map((m) => [m.path, m.id]));
-    for (const row of chunk) ids.push(byPath.get(row.path)!);
+    // Match by path and exact bytes (unique within a batch: two look-alike names differ in path_bytes)
+    // rather than trusting RETURNING order.
+    const byPath = new Map(made.map((m) => [pathKey(m.path, m.path_bytes), m.id]));
+    for (const row of chunk) ids.push(byPath.get(pathKey(row.path, row.path_bytes))!);
   }
   return ids;
 }

@@ -8,6 +8,7 @@ import { scanReportSchema, type ScanReport } from "@tidemark/shared/types/report
 import type { UploadLimits } from "../context.ts";
 import { badRequest, HttpError, payloadTooLarge, unprocessable } from "../errors.ts";
 import { parseWith } from "../validate.ts";
+import { pathKey } from "./ingestRows.ts";
 
 // No control characters: names are shown in the portal, e-mails and CSV.
 const label = (max: number) =>
@@ -50,9 +51,11 @@ function findNul(value: unknown, at: string): string | null {
 function checkConsistency(report: ScanReport): void {
   const seen = new Map<string, number>();
   report.files.forEach((file, i) => {
-    const earlier = seen.get(file.path);
+    // Two names that are not UTF-8 may show the same path; their pathBytes tell them apart.
+    const key = pathKey(file.path, file.pathBytes);
+    const earlier = seen.get(key);
     if (earlier !== undefined) throw unprocessable(`invalid report: files.${i}.path duplicates files.${earlier}.path ("${file.path}")`);
-    seen.set(file.path, i);
+    seen.set(key, i);
     file.findings.forEach((f, j) => {
       if (f.channel !== null && f.channel > INT32_MAX) throw unprocessable(`invalid report: files.${i}.findings.${j}.channel is too large`);
     });

@@ -2,7 +2,7 @@
  * Effective bit depth of integer PCM: the bits actually used, i.e. the container depth minus the low bits
  * that are zero in every sample (a 24-bit file whose low 8 bits never change carries 16-bit content).
  * Each sample is rescaled to its integer code and OR-ed into one word; scanning stops once bit 0 is set.
- * Float data has no fixed quantisation: null.
+ * Float and G.711 data have no fixed linear quantisation: null.
  */
 import type { StreamFormat } from "../types/analysis.ts";
 import type { Finding } from "../types/report.ts";
@@ -14,7 +14,8 @@ export interface BitDepthMeter {
 }
 
 export function createBitDepthMeter(format: Pick<StreamFormat, "encoding" | "bitDepth" | "channels">): BitDepthMeter {
-  if (format.encoding === "float") return { push: () => undefined, finish: () => null };
+  // Float and companded (A-law/µ-law) data have no fixed linear quantisation step to count.
+  if (format.encoding !== "pcm") return { push: () => undefined, finish: () => null };
   const scale = 2 ** (format.bitDepth - 1);
   let used = 0;
   let isDone = false;

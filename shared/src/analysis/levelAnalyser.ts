@@ -129,7 +129,7 @@ export function createLevelAnalyser(format: StreamFormat, settings: AnalysisSett
         const nearClip = nearClipFinding(c, peak, totals.peakFrame[c], clipping.clipEvents[c], settings.nearClipDbfs, sampleRateHz);
         if (nearClip) add(nearClip);
       }
-      const padded = paddedBitDepthFinding(effectiveBitDepth, format.bitDepth, duration);
+      const padded = paddedBitDepthFinding(effectiveBitDepth, format.validBits ?? format.bitDepth, duration);
       if (padded) add(padded);
 
       const metrics: LevelMetrics = {

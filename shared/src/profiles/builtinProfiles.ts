@@ -32,6 +32,13 @@ const BASE_SEVERITIES: ProfileInput["severities"] = {
   "fixity-changed": "fail",
   // A vendor's or an earlier transfer's checksum sidecar that the file no longer matches.
   "checksum-mismatch": "fail",
+  // A file with no audio, or whose checksum of the audio disagrees, is never a pass (issue #17).
+  "no-audio": "fail",
+  "trailing-data": "warn",
+  "decode-error": "fail",
+  "flac-md5-mismatch": "fail",
+  "flac-md5-unset": "info",
+  "audio-md5-mismatch": "fail",
 };
 
 /**

@@ -4,7 +4,7 @@
  * silently ignored setting.
  */
 import { z } from "zod";
-import { FINDING_CODES, SEVERITIES } from "../types/report.ts";
+import { CONTAINERS, ENCODINGS, FINDING_CODES, SEVERITIES } from "../types/report.ts";
 import type { AnalysisSettings } from "../types/settings.ts";
 import { isMetadataFieldName, type MetadataFieldName } from "../metadata/metadataFields.ts";
 
@@ -33,8 +33,8 @@ export const loudnessTargetSchema = z
 const positiveInts = z.array(z.number().int().positive()).min(1);
 
 export const formatDemandsSchema = z.strictObject({
-  encodings: z.array(z.enum(["pcm", "float"])).min(1).optional(),
-  containers: z.array(z.enum(["wav", "bwf", "rf64"])).min(1).optional(),
+  encodings: z.array(z.enum(ENCODINGS)).min(1).optional(),
+  containers: z.array(z.enum(CONTAINERS)).min(1).optional(),
   /** Exactly these rates (when given). */
   sampleRatesHz: positiveInts.optional(),
   minSampleRateHz: z.number().int().positive().optional(),

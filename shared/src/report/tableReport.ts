@@ -3,6 +3,9 @@ import type { FileReport, Finding, ScanReport } from "../types/report.ts";
 
 const MISSING = "n/a";
 
+/** Short marks after the bit depth: "32f" float, "8a" A-law, "8u" µ-law. */
+const ENCODING_SUFFIX: Record<string, string> = { pcm: "", float: "f", alaw: "a", mulaw: "u" };
+
 function num(value: number | null | undefined, digits = 1): string {
   return value === null || value === undefined || !Number.isFinite(value) ? MISSING : value.toFixed(digits);
 }
@@ -20,7 +23,7 @@ export function formatDuration(totalSeconds: number): string {
 function formatCell(f: FileReport): string {
   if (!f.format) return MISSING;
   const { container, encoding, sampleRateHz, bitDepth, channels } = f.format;
-  return `${container} ${sampleRateHz / 1000}k/${bitDepth}${encoding === "float" ? "f" : ""} ${channels}ch`;
+  return `${container} ${sampleRateHz / 1000}k/${bitDepth}${ENCODING_SUFFIX[encoding]} ${channels}ch`;
 }
 
 /** "clipping ×3, hum" for the findings of one severity. */

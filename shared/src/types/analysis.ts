@@ -14,6 +14,8 @@ export interface StreamFormat {
   totalFrames: number;
   /** WAVE_FORMAT_EXTENSIBLE speaker mask (which speaker each channel feeds), when the file has one. */
   channelMask?: number | null;
+  /** Significant bits of integer PCM when fewer than `bitDepth` (20-bit audio in 24-bit words); else absent. */
+  validBits?: number;
 }
 
 /**

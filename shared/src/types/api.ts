@@ -244,6 +244,8 @@ export interface FixityCheckUploadResultDto {
 }
 
 export interface FileDetailDto extends FileSummaryDto {
+  /** Exact bytes of a path that is not UTF-8, base64 (`path` shows U+FFFD for them); absent otherwise. */
+  pathBytes?: string;
   sizeBytes: number;
   sha256: string | null;
   metadata: FileMetadata;

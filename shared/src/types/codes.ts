@@ -44,7 +44,18 @@ export const FINDING_CODES = [
   "bext-version-mismatch",
   "coding-history-mismatch",
   "bext-loudness-mismatch",
+  "no-audio",
+  "trailing-data",
+  "decode-error",
+  "flac-md5-mismatch",
+  "flac-md5-unset",
+  "audio-md5-mismatch",
 ] as const;
+
+/** Containers the readers open: RIFF (wav, bwf, rf64), FLAC, AIFF and AIFF-C. */
+export const CONTAINERS = ["wav", "bwf", "rf64", "flac", "aiff", "aifc"] as const;
+/** Sample encodings as stored: integer PCM (also what FLAC decodes to), IEEE float, G.711 A-law and µ-law. */
+export const ENCODINGS = ["pcm", "float", "alaw", "mulaw"] as const;
 
 export type Verdict = (typeof VERDICTS)[number];
 export type Severity = (typeof SEVERITIES)[number];

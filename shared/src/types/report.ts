@@ -5,9 +5,9 @@
  * Quiet values (−Infinity dB) are written as null, hence the nullable dB fields.
  */
 import { z } from "zod";
-import { FINDING_CODES, SEVERITIES, VERDICTS } from "./codes.ts";
+import { CONTAINERS, ENCODINGS, FINDING_CODES, SEVERITIES, VERDICTS } from "./codes.ts";
 
-export { FINDING_CODES, REPORT_SCHEMA_ID, SEVERITIES, VERDICTS } from "./codes.ts";
+export { CONTAINERS, ENCODINGS, FINDING_CODES, REPORT_SCHEMA_ID, SEVERITIES, VERDICTS } from "./codes.ts";
 export type { FindingCode, Severity, Verdict } from "./codes.ts";
 
 const db = z.number().nullable();
@@ -23,8 +23,8 @@ export const findingSchema = z.object({
 });
 
 export const audioFormatSchema = z.object({
-  container: z.enum(["wav", "bwf", "rf64"]),
-  encoding: z.enum(["pcm", "float"]),
+  container: z.enum(CONTAINERS),
+  encoding: z.enum(ENCODINGS),
   sampleRateHz: z.number().int().positive(),
   bitDepth: z.number().int().positive(),
   channels: z.number().int().positive(),
@@ -63,6 +63,14 @@ export const fileMetadataSchema = z.object({
   info: z.record(z.string(), z.string()).optional(),
   /** iXML text, bounded in size. */
   ixml: z.string().optional(),
+  /**
+   * Text chunks of AIFF/AIFF-C (NAME, AUTH, `(c) `, ANNO, in file order) and FLAC Vorbis comments
+   * (FIELD=value, as written): descriptive text kept as found, bounded in size.
+   */
+  text: z
+    .array(z.object({ key: z.string(), value: z.string() }))
+    .max(1024)
+    .optional(),
 });
 
 export const bandLevelSchema = z.object({ centerHz: z.number().positive(), db });
@@ -146,8 +154,13 @@ export const profileLimitsSchema = z.object({
 });
 
 export const fileReportSchema = z.object({
-  /** As given, relative to the scanned root, with forward slashes. */
+  /** As given, relative to the scanned root, with forward slashes; bytes that are not UTF-8 shown as U+FFFD. */
   path: z.string().min(1).max(4096),
+  /**
+   * The exact bytes of `path`, base64 (RFC 4648), present only when the file name is not valid UTF-8 and `path`
+   * is therefore lossy: verify and --resume match files on it. Optional, so earlier reports stay valid.
+   */
+  pathBytes: z.string().max(8192).regex(/^[A-Za-z0-9+/]*={0,2}$/).optional(),
   sizeBytes: z.number().int().min(0),
   sha256: z.string().regex(/^[0-9a-f]{64}$/).nullable(),
   format: audioFormatSchema.nullable(),

@@ -4,10 +4,11 @@
  * small carry buffer; the planar block arrays are allocated once and reused for every block.
  */
 import type { AudioBlock } from "../types/analysis.ts";
-import { createSampleDecoder, type SampleDecoder } from "./sampleDecoder.ts";
+import { createSampleDecoder, type SampleDecoder, type SampleFormat } from "./sampleDecoder.ts";
 import type { WavLayout } from "./wavLayout.ts";
 
-export type DataChunkLayout = Pick<WavLayout, "dataOffset" | "totalFrames" | "blockAlign" | "channels" | "encoding" | "bitDepth">;
+export type DataChunkLayout = Pick<WavLayout, "dataOffset" | "totalFrames" | "blockAlign" | "channels" | "encoding" | "bitDepth"> &
+  Pick<SampleFormat, "bigEndian" | "signed8Bit">;
 
 export interface DataChunkDecoder {
   /** Feeds the next bytes of the file, which start at file offset `fileOffset` (contiguous with the last push). */

@@ -1,6 +1,7 @@
 /**
  * The `fmt ` chunk: WAVEFORMATEX and WAVE_FORMAT_EXTENSIBLE (Microsoft's multichannel WAVE extension),
- * validated against what Tidemark decodes: PCM 8/16/24/32, IEEE float 32/64, 1–8 channels, 8–384 kHz.
+ * validated against what Tidemark decodes: PCM 8/16/24/32 (12 and 20 bits in 16/24-bit containers), IEEE float
+ * 32/64, 8-bit G.711 A-law/µ-law, 1–8 channels, 8–384 kHz.
  */
 import type { Encoding } from "../types/report.ts";
 import { WavFormatError } from "./errors.ts";
@@ -8,6 +9,8 @@ import { readUint16, readUint32 } from "./bytes.ts";
 
 export const WAVE_FORMAT_PCM = 0x0001;
 export const WAVE_FORMAT_IEEE_FLOAT = 0x0003;
+export const WAVE_FORMAT_ALAW = 0x0006;
+export const WAVE_FORMAT_MULAW = 0x0007;
 export const WAVE_FORMAT_EXTENSIBLE = 0xfffe;
 
 export const MIN_SAMPLE_RATE_HZ = 8_000;
@@ -17,8 +20,6 @@ export const MAX_CHANNELS = 8;
 /** Names of common compressed tags, so the error says what the file is (Microsoft's mmreg.h registry). */
 const COMPRESSED_TAG_NAMES: Record<number, string> = {
   0x0002: "Microsoft ADPCM",
-  0x0006: "A-law",
-  0x0007: "µ-law",
   0x0011: "IMA ADPCM",
   0x0031: "GSM 6.10",
   0x0050: "MPEG",
@@ -55,10 +56,13 @@ const hex4 = (tag: number): string => `0x${tag.toString(16).padStart(4, "0")}`;
 function encodingForTag(tag: number): Encoding {
   if (tag === WAVE_FORMAT_PCM) return "pcm";
   if (tag === WAVE_FORMAT_IEEE_FLOAT) return "float";
+  if (tag === WAVE_FORMAT_ALAW) return "alaw";
+  if (tag === WAVE_FORMAT_MULAW) return "mulaw";
   const name = COMPRESSED_TAG_NAMES[tag];
   throw new WavFormatError(
     "unsupported-encoding",
-    `format tag ${hex4(tag)}${name ? ` (${name})` : ""} is not supported; expected PCM (0x0001) or IEEE float (0x0003)`,
+    `format tag ${hex4(tag)}${name ? ` (${name})` : ""} is not supported; ` +
+      "expected PCM (0x0001), IEEE float (0x0003), A-law (0x0006) or µ-law (0x0007)",
   );
 }
 
@@ -71,7 +75,7 @@ export function parseFmtChunk(body: Uint8Array): FmtChunk {
   const channels = readUint16(body, 2);
   const sampleRateHz = readUint32(body, 4);
   const blockAlign = readUint16(body, 12);
-  const bitDepth = readUint16(body, 14);
+  let bitDepth = readUint16(body, 14);
   const isExtensible = formatTag === WAVE_FORMAT_EXTENSIBLE;
   let encoding: Encoding;
   let validBits = bitDepth;
@@ -95,6 +99,11 @@ export function parseFmtChunk(body: Uint8Array): FmtChunk {
   } else {
     encoding = encodingForTag(formatTag);
   }
+  // 12- and 20-bit PCM sit left-justified in 16/24-bit containers (the fmt depth names the valid bits).
+  if (encoding === "pcm" && !isExtensible && (bitDepth === 12 || bitDepth === 20)) {
+    validBits = bitDepth;
+    bitDepth += 4;
+  }
   validateFormat({ encoding, channels, sampleRateHz, bitDepth, validBits, blockAlign });
   return { formatTag, encoding, channels, sampleRateHz, blockAlign, bitDepth, validBits, channelMask, isExtensible };
 }
@@ -116,12 +125,10 @@ function validateFormat(f: {
       `sample rate ${f.sampleRateHz} Hz; ${MIN_SAMPLE_RATE_HZ} to ${MAX_SAMPLE_RATE_HZ} Hz supported`,
     );
   }
-  const allowed = f.encoding === "float" ? [32, 64] : [8, 16, 24, 32];
+  const allowed = f.encoding === "float" ? [32, 64] : f.encoding === "pcm" ? [8, 16, 24, 32] : [8];
   if (!allowed.includes(f.bitDepth)) {
-    throw new WavFormatError(
-      "bad-bit-depth",
-      `${f.bitDepth} bits per sample in ${f.encoding === "float" ? "float" : "PCM"} data; ${allowed.join(", ")} expected`,
-    );
+    const name = { pcm: "PCM", float: "float", alaw: "A-law", mulaw: "µ-law" }[f.encoding];
+    throw new WavFormatError("bad-bit-depth", `${f.bitDepth} bits per sample in ${name} data; ${allowed.join(", ")} expected`);
   }
   if (f.validBits > f.bitDepth) {
     throw new WavFormatError("bad-bit-depth", `${f.validBits} valid bits in a ${f.bitDepth}-bit container`);

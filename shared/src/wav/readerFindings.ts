@@ -17,10 +17,33 @@ export function readerFindings(
   layout: Pick<
     WavLayout,
     "isTruncated" | "isDataSizeUnwritten" | "claimedDataBytes" | "dataBytes" | "totalFrames" | "sampleRateHz" | "blockAlign"
-  >,
+  > &
+    Partial<Pick<WavLayout, "trailingBytes" | "container">>,
   decoded: NonFiniteCount,
 ): Finding[] {
   const findings: Finding[] = [];
+  if (layout.totalFrames === 0) {
+    // Nothing was measured, so nothing can pass: every level would read as silence.
+    findings.push({
+      code: "no-audio",
+      severity: "fail",
+      channel: null,
+      startSeconds: null,
+      endSeconds: null,
+      message: `the file holds no audio: 0 sample frames (${layout.dataBytes} bytes of sample data)`,
+    });
+  }
+  if ((layout.trailingBytes ?? 0) > 0) {
+    const where = layout.container === "flac" ? "the last audio frame" : "the last chunk";
+    findings.push({
+      code: "trailing-data",
+      severity: "warn",
+      channel: null,
+      startSeconds: null,
+      endSeconds: null,
+      message: `${layout.trailingBytes} byte(s) after ${where} belong to no chunk: appended or left over from a longer file, not measured`,
+    });
+  }
   if (layout.isDataSizeUnwritten) {
     // Measured to the end of the file, but how much is missing cannot be known: the finding ends where the audio does.
     const presentSeconds = seconds(layout.totalFrames, layout.sampleRateHz);

@@ -4,7 +4,8 @@
  * 8-bit unsigned re-centred on 128. Float NaN/±Inf (and float64 values beyond float32 range) become 0
  * and are counted. Hot loops index typed arrays directly; aligned 16/32-bit and float data are read
  * through typed-array views of the caller's bytes; 24-bit mono and stereo, four samples from three aligned
- * 32-bit words, other 24-bit layouts by byte assembly.
+ * 32-bit words, other 24-bit layouts by byte assembly. Big-endian data (AIFF) is byte-swapped into a scratch
+ * copy and then takes the same paths; G.711 A-law and µ-law bytes expand through 256-entry tables.
  */
 import type { Encoding } from "../types/report.ts";
 
@@ -13,6 +14,10 @@ export interface SampleFormat {
   /** Container bits per sample. */
   bitDepth: number;
   channels: number;
+  /** Samples stored most significant byte first (AIFF, AIFF-C "NONE"/"fl32"/"fl64"). */
+  bigEndian?: boolean;
+  /** 8-bit samples are signed two's complement (AIFF) rather than unsigned around 128 (WAV). */
+  signed8Bit?: boolean;
 }
 
 export interface SampleDecoder {
@@ -32,12 +37,44 @@ const IS_LITTLE_ENDIAN = new Uint8Array(new Uint16Array([1]).buffer)[0] === 1;
 
 export function createSampleDecoder(format: SampleFormat): SampleDecoder {
   const { encoding, bitDepth, channels } = format;
-  const supported = encoding === "float" ? bitDepth === 32 || bitDepth === 64 : [8, 16, 24, 32].includes(bitDepth);
+  const supported =
+    encoding === "float" ? bitDepth === 32 || bitDepth === 64 : encoding === "pcm" ? [8, 16, 24, 32].includes(bitDepth) : bitDepth === 8;
   if (!supported || !Number.isInteger(channels) || channels < 1) {
-    throw new Error(`cannot decode ${channels} channel(s) of ${bitDepth}-bit ${encoding}; expected PCM 8/16/24/32 or float 32/64`);
+    throw new Error(
+      `cannot decode ${channels} channel(s) of ${bitDepth}-bit ${encoding}; expected PCM 8/16/24/32, float 32/64 or 8-bit A-law/µ-law`,
+    );
   }
-  return new InterleavedDecoder(encoding, bitDepth, channels);
+  return new InterleavedDecoder(encoding, bitDepth, channels, format.bigEndian === true, format.signed8Bit === true);
 }
+
+/**
+ * ITU-T G.711 expansion to linear values on a 16-bit scale (A-law: 13-bit codes × 8, µ-law: 14-bit codes × 4),
+ * per the Recommendation's decoding tables (section 4, tables 1a/2a): A-law bytes are stored with even bits
+ * inverted (XOR 0x55), µ-law bytes with all bits inverted.
+ */
+function g711Table(law: "alaw" | "mulaw"): Float32Array {
+  const table = new Float32Array(256);
+  for (let code = 0; code < 256; code++) {
+    let value: number;
+    if (law === "alaw") {
+      const a = code ^ 0x55;
+      const segment = (a >> 4) & 7;
+      let magnitude = (a & 0x0f) << 4;
+      magnitude += segment === 0 ? 8 : 0x108;
+      if (segment > 1) magnitude <<= segment - 1;
+      value = a & 0x80 ? magnitude : -magnitude;
+    } else {
+      const u = ~code & 0xff;
+      const magnitude = (((u & 0x0f) << 3) + 0x84) << ((u & 0x70) >> 4);
+      value = u & 0x80 ? 0x84 - magnitude : magnitude - 0x84;
+    }
+    table[code] = value / 32768;
+  }
+  return table;
+}
+
+let alawTable: Float32Array | null = null;
+let mulawTable: Float32Array | null = null;
 
 class InterleavedDecoder implements SampleDecoder {
   nonFiniteSamples = 0;
@@ -48,13 +85,20 @@ class InterleavedDecoder implements SampleDecoder {
   /** Aligned copy for float data that sits at an odd address in the caller's buffer. */
   private scratch = new Uint8Array(0);
 
+  private readonly g711: Float32Array | null;
+
   constructor(
     private readonly encoding: Encoding,
     private readonly bitDepth: number,
     private readonly channels: number,
+    private readonly bigEndian: boolean,
+    private readonly signed8Bit: boolean,
   ) {
     this.bytesPerSample = bitDepth / 8;
     this.blockAlign = this.bytesPerSample * channels;
+    if (encoding === "alaw") this.g711 = alawTable ??= g711Table("alaw");
+    else if (encoding === "mulaw") this.g711 = mulawTable ??= g711Table("mulaw");
+    else this.g711 = null;
   }
 
   decode(bytes: Uint8Array, byteOffset: number, frames: number, out: Float32Array[], outOffset: number, firstFrame: number): void {
@@ -63,9 +107,22 @@ class InterleavedDecoder implements SampleDecoder {
     if (byteOffset < 0 || byteOffset + byteLength > bytes.length) {
       throw new Error(`decode needs ${byteLength} bytes at ${byteOffset}; the buffer holds ${bytes.length}`);
     }
+    if (this.g711) {
+      decodeTable(this.g711, bytes, byteOffset, frames, this.channels, out, outOffset);
+      return;
+    }
     if (this.encoding === "float") {
       this.decodeFloat(bytes, byteOffset, frames, out, outOffset, firstFrame);
       return;
+    }
+    if (this.bigEndian || (this.bitDepth === 8 && this.signed8Bit)) {
+      // Swap (and re-centre signed 8-bit) in an aligned copy, then decode it as little-endian unsigned-8 WAV data.
+      const copy = this.scratchCopy(bytes, byteOffset, byteLength);
+      if (this.bitDepth === 8) {
+        if (this.signed8Bit) for (let i = 0; i < byteLength; i++) copy[i] ^= 0x80;
+      } else swapBytes(copy, byteLength, this.bytesPerSample);
+      bytes = copy;
+      byteOffset = 0;
     }
     const address = bytes.byteOffset + byteOffset;
     switch (this.bitDepth) {
@@ -93,7 +150,7 @@ class InterleavedDecoder implements SampleDecoder {
     const align = this.bytesPerSample;
     let source = bytes;
     let offset = byteOffset;
-    if (!IS_LITTLE_ENDIAN) {
+    if (this.bigEndian === IS_LITTLE_ENDIAN) {
       source = this.scratchCopy(bytes, byteOffset, byteLength);
       swapBytes(source, byteLength, align);
       offset = 0;
@@ -140,6 +197,14 @@ const SCALE_8 = 1 / 128;
 const SCALE_16 = 1 / 32768;
 const SCALE_24 = 1 / 8388608;
 const SCALE_32 = 1 / 2147483648;
+
+function decodeTable(table: Float32Array, b: Uint8Array, at: number, frames: number, channels: number, out: Float32Array[], o: number): void {
+  for (let c = 0; c < channels; c++) {
+    const dst = out[c];
+    let j = at + c;
+    for (let i = 0; i < frames; i++, j += channels) dst[o + i] = table[b[j]];
+  }
+}
 
 function decodeUint8(b: Uint8Array, at: number, frames: number, channels: number, out: Float32Array[], o: number): void {
   for (let c = 0; c < channels; c++) {

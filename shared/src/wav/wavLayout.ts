@@ -56,6 +56,10 @@ export interface WavLayout {
   metadata: FileMetadata;
   /** The chunks walked, in file order (bounded by MAX_CHUNKS). */
   chunks: WavChunkInfo[];
+  /** Bytes after the last well-formed chunk (garbage appended, or a chunk header cut short): 0 when none. */
+  trailingBytes: number;
+  /** Lowercase hex of the `MD5 ` chunk (MD5 of the data chunk's audio bytes), or null when there is none. */
+  audioMd5: string | null;
 }
 
 /** The first read covers typical headers (fmt, bext with coding history, LIST, iXML) in one I/O. */
@@ -86,6 +90,8 @@ interface WalkState {
   metadata: FileMetadata;
   info: Record<string, string>;
   chunks: WavChunkInfo[];
+  trailingBytes: number;
+  audioMd5: string | null;
 }
 
 /** Reads the header of a WAV/BWF/RF64 file. Throws WavFormatError (never a RangeError) on malformed input. */
@@ -122,6 +128,8 @@ export async function readWavLayout(source: ByteSource): Promise<WavLayout> {
     metadata: {},
     info: {},
     chunks: [],
+    trailingBytes: 0,
+    audioMd5: null,
   };
   await walkChunks(reader, fileSize, isRf64, state);
 
@@ -151,6 +159,8 @@ export async function readWavLayout(source: ByteSource): Promise<WavLayout> {
     fileSizeBytes: fileSize,
     metadata: state.metadata,
     chunks: state.chunks,
+    trailingBytes: state.data.isSizeUnwritten || state.data.claimedBytes > available ? 0 : state.trailingBytes,
+    audioMd5: state.audioMd5,
   };
 }
 
@@ -160,7 +170,10 @@ async function walkChunks(reader: ByteSource, fileSize: number, isRf64: boolean,
     const header = await reader.readAt(at, 8);
     if (!isPrintableFourCC(header, 0)) {
       // Past the audio, trailing garbage is common (tools append padding); before it, the header is broken.
-      if (state.data && state.fmt) return;
+      if (state.data && state.fmt) {
+        state.trailingBytes = fileSize - at;
+        return;
+      }
       throw new WavFormatError("bad-chunk", `unreadable chunk id ${describeFourCC(header, 0)} at byte ${at}`);
     }
     const id = readFourCC(header, 0);
@@ -185,7 +198,10 @@ async function walkChunks(reader: ByteSource, fileSize: number, isRf64: boolean,
       if (id === "ds64" && size > MAX_REAL_DS64_BYTES) {
         throw new WavFormatError("bad-ds64", `ds64 chunk claims ${size} bytes; only ${remaining} remain in the file`);
       }
-      if (state.data && state.fmt) return;
+      if (state.data && state.fmt) {
+        state.trailingBytes = fileSize - at;
+        return;
+      }
       throw new WavFormatError(
         "truncated",
         `file ends inside the "${id}" chunk at byte ${at} (claims ${size} bytes, ${remaining} remain)`,
@@ -195,6 +211,8 @@ async function walkChunks(reader: ByteSource, fileSize: number, isRf64: boolean,
     }
     at = await nextChunkOffset(reader, fileSize, bodyOffset, size);
   }
+  // A few bytes too short to be a chunk header after a complete file.
+  if (at < fileSize && at + 8 > fileSize && state.fmt && state.data) state.trailingBytes = fileSize - at;
   // Stopped by the end of the file part-way into a chunk header, before the header was complete.
   if (at < fileSize && at + 8 > fileSize && !(state.fmt && state.data) && state.chunks.length < MAX_CHUNKS) {
     throw new WavFormatError("truncated", `file ends inside a chunk header at byte ${at} (${fileSize - at} of 8 bytes present)`);
@@ -253,6 +271,13 @@ async function readChunkBody(reader: ByteSource, id: string, offset: number, siz
     case "LIST":
       parseListInfoChunk(await reader.readAt(offset, Math.min(size, MAX_LIST_BYTES)), state.info);
       return;
+    case "MD5 ": {
+      // 16 bytes: the MD5 digest (RFC 1321) of the data chunk's audio bytes.
+      if (state.audioMd5 !== null || size !== 16) return;
+      const digest = await reader.readAt(offset, 16);
+      state.audioMd5 = Array.from(digest, (b) => b.toString(16).padStart(2, "0")).join("");
+      return;
+    }
     case "iXML": {
       if (state.metadata.ixml !== undefined) return;
       const bytes = await reader.readAt(offset, Math.min(size, MAX_IXML_BYTES));

@@ -64,9 +64,16 @@ export function formatChannels(channels: number): string {
   return `${channels} ch`;
 }
 
+const ENCODING_NAMES: Record<AudioFormat["encoding"], string> = { pcm: "PCM", float: "floating point", alaw: "A-law", mulaw: "µ-law" };
+
+export function formatEncoding(encoding: AudioFormat["encoding"]): string {
+  return ENCODING_NAMES[encoding];
+}
+
 export function formatAudioFormat(format: AudioFormat | null): string {
   if (!format) return NOT_MEASURED;
-  const depth = format.encoding === "float" ? `${format.bitDepth}-bit float` : `${format.bitDepth}-bit`;
+  const depth =
+    format.encoding === "float" ? `${format.bitDepth}-bit float` : format.encoding === "pcm" ? `${format.bitDepth}-bit` : formatEncoding(format.encoding);
   return `${formatSampleRate(format.sampleRateHz)} · ${depth} · ${formatChannels(format.channels)}`;
 }
 

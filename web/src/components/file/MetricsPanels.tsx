@@ -5,6 +5,7 @@ import {
   formatBytes,
   formatChannels,
   formatDuration,
+  formatEncoding,
   formatHz,
   formatLevel,
   formatNumber,
@@ -44,7 +45,7 @@ export function MetricsPanels({ file }: { file: FileDetailDto }) {
   const f = file.format;
   const formatRows: [string, ReactNode][] = [
     ["Container", f ? f.container.toUpperCase() : NOT_MEASURED],
-    ["Encoding", f ? (f.encoding === "float" ? "floating point" : "PCM") : NOT_MEASURED],
+    ["Encoding", f ? formatEncoding(f.encoding) : NOT_MEASURED],
     ["Sample rate", f ? formatSampleRate(f.sampleRateHz) : NOT_MEASURED],
     ["Bit depth", f ? `${f.bitDepth} bit` : NOT_MEASURED],
     ["Channels", f ? formatChannels(f.channels) : NOT_MEASURED],

@@ -1,0 +1,322 @@
+/**
+ * Splits a FLAC stream's frame bytes, fed in order in buffers of any size, into frames (RFC 9639, section 9),
+ * checking each one: a frame runs from a sync code whose header passes its CRC-8 to the next such header that
+ * continues the sample count, and is whole when its CRC-16 holds. A frame whose CRC-16 fails, or a stretch of
+ * bytes with no valid header, comes out as a gap of known length (from the sample numbers), so the caller can
+ * fill it with silence, report it with its time, and keep measuring. Memory stays bounded: a frame that
+ * never ends within `maxFrameBytes` is given up and the framer searches for the next header.
+ */
+import type { FlacStreamInfo } from "./flacLayout.ts";
+
+export interface FlacFrameHeader {
+  /** First sample of the frame (frame number × nominal block size in fixed-blocksize streams). */
+  sampleNumber: number;
+  blockSize: number;
+  /** Bytes of the header including its CRC-8. */
+  headerBytes: number;
+}
+
+export interface FlacFramerEvents {
+  /** A whole frame (valid CRC-16); `bytes` is only valid during the call. */
+  frame(bytes: Uint8Array, header: FlacFrameHeader, fileOffset: number): void;
+  /** `frames` samples from `startSample` were lost (bad CRC-16, lost sync); `why` says which. */
+  gap(startSample: number, frames: number, fileOffset: number, why: string): void;
+}
+
+const CRC8 = new Uint8Array(256);
+const CRC16 = new Uint16Array(256);
+for (let i = 0; i < 256; i++) {
+  // CRC-8 polynomial x^8+x^2+x+1 (0x07), CRC-16 x^16+x^15+x^2+1 (0x8005), both MSB first, initial 0 (RFC 9639, 9.1.8, 9.3).
+  let c8 = i;
+  let c16 = i << 8;
+  for (let k = 0; k < 8; k++) {
+    c8 = c8 & 0x80 ? ((c8 << 1) ^ 0x07) & 0xff : (c8 << 1) & 0xff;
+    c16 = c16 & 0x8000 ? ((c16 << 1) ^ 0x8005) & 0xffff : (c16 << 1) & 0xffff;
+  }
+  CRC8[i] = c8;
+  CRC16[i] = c16;
+}
+
+export function crc8(b: Uint8Array, start: number, end: number): number {
+  let crc = 0;
+  for (let i = start; i < end; i++) crc = CRC8[crc ^ b[i]];
+  return crc;
+}
+
+const SAMPLE_RATES = [0, 88200, 176400, 192000, 8000, 16000, 22050, 24000, 32000, 44100, 48000, 96000];
+const SAMPLE_SIZES = [0, 8, 12, -1, 16, 20, 24, 32];
+/** Longest header: 4 fixed bytes, 7-byte coded number, 2 bytes block size, 2 bytes rate, CRC-8. */
+export const MAX_HEADER_BYTES = 16;
+
+/**
+ * Parses a frame header at `at` (RFC 9639, 9.1), or null when it is not one that fits this stream (bad CRC-8,
+ * reserved values, a rate, channel count or bit depth that disagrees with STREAMINFO). Needs MAX_HEADER_BYTES
+ * bytes or the end of the data.
+ */
+export function parseFrameHeader(b: Uint8Array, at: number, end: number, info: FlacStreamInfo): FlacFrameHeader | null {
+  if (at + 6 > end || b[at] !== 0xff || (b[at + 1] & 0xfe) !== 0xf8) return null;
+  const isVariable = (b[at + 1] & 1) === 1;
+  const blockCode = b[at + 2] >> 4;
+  const rateCode = b[at + 2] & 0x0f;
+  const channelCode = b[at + 3] >> 4;
+  const sizeCode = (b[at + 3] >> 1) & 7;
+  if (blockCode === 0 || rateCode === 15 || channelCode > 10 || SAMPLE_SIZES[sizeCode] < 0 || (b[at + 3] & 1) !== 0) return null;
+  const channels = channelCode < 8 ? channelCode + 1 : 2;
+  if (channels !== info.channels) return null;
+  if (sizeCode !== 0 && SAMPLE_SIZES[sizeCode] !== info.bitsPerSample) return null;
+  // The coded number: UTF-8-like, 1 to 7 bytes (9.1.5).
+  let p = at + 4;
+  const first = b[p++];
+  let extra: number;
+  let value: number;
+  if (first < 0x80) {
+    extra = 0;
+    value = first;
+  } else if (first >= 0xc0 && first < 0xe0) {
+    extra = 1;
+    value = first & 0x1f;
+  } else if (first >= 0xe0 && first < 0xf0) {
+    extra = 2;
+    value = first & 0x0f;
+  } else if (first >= 0xf0 && first < 0xf8) {
+    extra = 3;
+    value = first & 0x07;
+  } else if (first >= 0xf8 && first < 0xfc) {
+    extra = 4;
+    value = first & 0x03;
+  } else if (first >= 0xfc && first < 0xfe) {
+    extra = 5;
+    value = first & 0x01;
+  } else if (first === 0xfe) {
+    extra = 6;
+    value = 0;
+  } else return null;
+  if (p + extra > end) return null;
+  for (let k = 0; k < extra; k++) {
+    const c = b[p++];
+    if ((c & 0xc0) !== 0x80) return null;
+    value = value * 64 + (c & 0x3f);
+  }
+  let blockSize: number;
+  if (blockCode === 1) blockSize = 192;
+  else if (blockCode <= 5) blockSize = 576 << (blockCode - 2);
+  else if (blockCode === 6) {
+    if (p + 1 > end) return null;
+    blockSize = b[p++] + 1;
+  } else if (blockCode === 7) {
+    if (p + 2 > end) return null;
+    blockSize = ((b[p] << 8) | b[p + 1]) + 1;
+    p += 2;
+  } else blockSize = 256 << (blockCode - 8);
+  let rate = SAMPLE_RATES[rateCode] ?? 0;
+  if (rateCode === 12) {
+    if (p + 1 > end) return null;
+    rate = b[p++] * 1000;
+  } else if (rateCode === 13 || rateCode === 14) {
+    if (p + 2 > end) return null;
+    rate = ((b[p] << 8) | b[p + 1]) * (rateCode === 14 ? 10 : 1);
+    p += 2;
+  }
+  if (rateCode !== 0 && rate !== info.sampleRateHz) return null;
+  if (p + 1 > end || crc8(b, at, p) !== b[p]) return null;
+  if (blockSize > info.maxBlockSize) return null;
+  const sampleNumber = isVariable ? value : value * info.maxBlockSize;
+  return { sampleNumber, blockSize, headerBytes: p + 1 - at };
+}
+
+export interface FlacFramer {
+  push(bytes: Uint8Array): void;
+  /** Ends the stream; returns the bytes after the last whole frame that belong to no frame. */
+  finish(): { trailingBytes: number };
+  /** Samples accounted for so far (decoded frames and gaps). */
+  readonly nextSample: number;
+}
+
+/**
+ * `firstOffset` is the file offset of the first byte pushed; STREAMINFO's total (0 = unknown) bounds the gaps.
+ */
+export function createFlacFramer(info: FlacStreamInfo, firstOffset: number, events: FlacFramerEvents): FlacFramer {
+  return new Framer(info, firstOffset, events);
+}
+
+/**
+ * Slice-by-4 tables: CRC16_K[k][x] is the register after a top byte x is followed by k more zero bytes, so four
+ * input bytes cost four lookups and one step (the CRC is linear; the framer's per-byte cost is this loop).
+ */
+const CRC16_K = [CRC16, new Uint16Array(256), new Uint16Array(256), new Uint16Array(256)];
+for (let k = 1; k < 4; k++) {
+  for (let x = 0; x < 256; x++) {
+    const r = CRC16_K[k - 1][x];
+    CRC16_K[k][x] = ((r << 8) & 0xffff) ^ CRC16[r >> 8];
+  }
+}
+
+/** CRC-16 of b[from, to) continuing from `crc`. */
+export function crc16(b: Uint8Array, from: number, to: number, crc: number): number {
+  const [t0, t1, t2, t3] = CRC16_K;
+  let c = crc;
+  let i = from;
+  for (const end4 = to - 3; i < end4; i += 4) c = t3[(c >> 8) ^ b[i]] ^ t2[(c & 0xff) ^ b[i + 1]] ^ t1[b[i + 2]] ^ t0[b[i + 3]];
+  for (; i < to; i++) c = ((c << 8) & 0xffff) ^ t0[(c >> 8) ^ b[i]];
+  return c;
+}
+
+class Framer implements FlacFramer {
+  nextSample = 0;
+  /** A frame can hardly exceed its raw PCM size plus headers (RFC 9639, 10: the verbatim fallback). */
+  private readonly maxFrameBytes: number;
+  private buf: Uint8Array;
+  /** buf[0, len): the bytes held; `view` is that range, for indexOf. */
+  private len = 0;
+  private view: Uint8Array;
+  /** File offset of buf[0]. */
+  private base: number;
+  /** The open frame's header and start, or null while searching for sync. */
+  private cur: FlacFrameHeader | null = null;
+  private curStart = 0;
+  /** Next index to look for a sync code at. */
+  private scan = 0;
+  /** CRC-16 of buf[curStart, crcPos). */
+  private crc = 0;
+  private crcPos = 0;
+  /** A sync code where the CRC-16 was 0: where this frame ends if the next header turns out damaged. */
+  private lastZero = -1;
+
+  constructor(
+    private readonly info: FlacStreamInfo,
+    firstOffset: number,
+    private readonly events: FlacFramerEvents,
+  ) {
+    this.maxFrameBytes = Math.max(info.maxBlockSize * info.channels * Math.ceil((info.bitsPerSample + 1) / 8) + 1024, info.maxFrameSize) + 64;
+    this.buf = new Uint8Array(Math.max(1 << 20, 2 * this.maxFrameBytes));
+    this.view = this.buf.subarray(0, 0);
+    this.base = firstOffset;
+  }
+
+  push(bytes: Uint8Array): void {
+    this.append(bytes);
+    this.process(false);
+  }
+
+  finish(): { trailingBytes: number } {
+    this.process(true);
+    let trailingBytes = 0;
+    const h = this.cur;
+    if (h) {
+      // The last frame ends where the CRC-16 last comes to 0; anything after it belongs to no frame.
+      let end = -1;
+      let c = 0;
+      const b = this.buf;
+      const minEnd = this.curStart + h.headerBytes + 2;
+      for (let i = this.curStart; i < this.len; i++) {
+        c = ((c << 8) & 0xffff) ^ CRC16[(c >> 8) ^ b[i]];
+        if (c === 0 && i + 1 >= minEnd) end = i + 1;
+      }
+      if (end > 0) {
+        trailingBytes = this.len - end;
+        this.close(end, true);
+      } else this.close(this.len, false);
+    }
+    // With no frame open, the bytes since the last one were already reported as a gap.
+    return { trailingBytes };
+  }
+
+  private append(bytes: Uint8Array): void {
+    if (this.len + bytes.length > this.buf.length) {
+      // Drop what is done; grow only when one frame plus the new bytes need it.
+      const keepFrom = this.cur ? this.curStart : Math.max(0, this.scan - 1);
+      const kept = this.len - keepFrom;
+      const target = kept + bytes.length > this.buf.length ? new Uint8Array(Math.max(this.buf.length * 2, kept + bytes.length)) : this.buf;
+      if (target === this.buf) target.copyWithin(0, keepFrom, this.len);
+      else target.set(this.buf.subarray(keepFrom, this.len), 0);
+      this.buf = target;
+      this.len = kept;
+      this.base += keepFrom;
+      this.curStart -= keepFrom;
+      this.scan -= keepFrom;
+      this.crcPos -= keepFrom;
+      if (this.lastZero >= 0) this.lastZero -= keepFrom;
+    }
+    this.buf.set(bytes, this.len);
+    this.len += bytes.length;
+    this.view = this.buf.subarray(0, this.len);
+  }
+
+  private gapTo(sample: number, offset: number, why: string): void {
+    const to = this.info.totalSamples > 0 ? Math.min(sample, this.info.totalSamples) : sample;
+    if (to > this.nextSample) {
+      this.events.gap(this.nextSample, to - this.nextSample, offset, why);
+      this.nextSample = to;
+    }
+  }
+
+  private begin(header: FlacFrameHeader, at: number): void {
+    this.cur = header;
+    this.curStart = at;
+    this.crc = 0;
+    this.crcPos = at;
+    this.scan = at + header.headerBytes + 2;
+    this.lastZero = -1;
+  }
+
+  /** Ends the open frame at `end`, whole or damaged. */
+  private close(end: number, isWhole: boolean): void {
+    const h = this.cur as FlacFrameHeader;
+    const offset = this.base + this.curStart;
+    if (h.sampleNumber > this.nextSample) this.gapTo(h.sampleNumber, offset, "lost sync: frames missing before this point");
+    if (isWhole) {
+      this.events.frame(this.buf.subarray(this.curStart, end), h, offset);
+      this.nextSample = h.sampleNumber + h.blockSize;
+    } else this.gapTo(h.sampleNumber + h.blockSize, offset, "frame CRC-16 mismatch");
+    this.cur = null;
+    this.scan = end;
+  }
+
+  private process(isFinal: boolean): void {
+    const info = this.info;
+    for (;;) {
+      const b = this.buf;
+      const len = this.len;
+      const q = this.view.indexOf(0xff, this.scan);
+      if (q < 0 || q + 1 >= len) {
+        if (q >= 0 && !isFinal) this.scan = q;
+        else this.scan = Math.max(this.scan, len);
+        // A frame that never ends within any real frame's length is given up; the search starts again.
+        if (this.cur && len - this.curStart > this.maxFrameBytes) this.close(this.curStart + this.maxFrameBytes, false);
+        else return;
+        continue;
+      }
+      if ((b[q + 1] & 0xfe) !== 0xf8) {
+        this.scan = q + 1;
+        continue;
+      }
+      if (q + MAX_HEADER_BYTES > len && !isFinal) {
+        this.scan = q;
+        return;
+      }
+      const h = this.cur;
+      if (!h) {
+        // Searching: the next header that fits and does not go back in time.
+        const found = parseFrameHeader(b, q, len, info);
+        if (found && found.sampleNumber >= this.nextSample) this.begin(found, q);
+        else this.scan = q + 1;
+        continue;
+      }
+      if (q - this.curStart > this.maxFrameBytes) {
+        this.close(this.curStart + this.maxFrameBytes, false);
+        continue;
+      }
+      this.crc = crc16(b, this.crcPos, q, this.crc);
+      this.crcPos = q;
+      if (this.crc === 0) this.lastZero = q;
+      const expected = h.sampleNumber + h.blockSize;
+      const next = parseFrameHeader(b, q, len, info);
+      if (next && next.sampleNumber >= expected && (this.crc === 0 || next.sampleNumber <= expected + 16 * info.maxBlockSize)) {
+        // A frame was whole up to an earlier sync code, and what followed it lost its header.
+        if (this.crc !== 0 && next.sampleNumber > expected && this.lastZero > this.curStart) this.close(this.lastZero, true);
+        else this.close(q, this.crc === 0);
+        this.begin(next, q);
+      } else this.scan = q + 1;
+    }
+  }
+}
