@@ -1,9 +1,10 @@
 /**
  * Measures one claimed job's file and packs what the server takes as its result: a one-file
- * "tidemark.report/1" report (the same contract as `scan --format json`) and the file's PNGs as
+ * one-file report (the same contract as `scan --format json`) and the file's PNGs as
  * multipart parts named `0.png`, exactly as ingest takes a batch.
  */
 import { readFile, rm, stat } from "node:fs/promises";
+import { profileLimits } from "@tidemark/shared/profiles/profileSettings";
 import { assembleReport } from "@tidemark/shared/report/assembleReport";
 import { reportToJson } from "@tidemark/shared/report/jsonReport";
 import type { ClaimedJobDto } from "@tidemark/shared/types/api";
@@ -35,7 +36,7 @@ export async function scanJob(job: ClaimedJobDto, localPath: string, engine: Sca
   if (result.kind !== "analysed") throw new Error(`expected a measurement, got ${result.kind}`);
   const { file } = result;
   const report = assembleReport(
-    { tool: toolInfo(), profile: { name: engine.profile.profile.name, hash: engine.profile.hash }, startedAt, finishedAt: new Date().toISOString() },
+    { tool: toolInfo(), profile: { name: engine.profile.profile.name, hash: engine.profile.hash, limits: profileLimits(engine.profile.profile) }, startedAt, finishedAt: new Date().toISOString() },
     [file.report],
   );
 
