@@ -175,8 +175,8 @@ describe("scan writes close-ups beside the PNGs", () => {
 });
 
 describe("older reports", () => {
-  it("a tidemark.report/1 report still validates (zod and the published JSON Schema)", () => {
-    const old = JSON.parse(readFileSync(path.join(repoRoot, "examples", "sample-report.json"), "utf8")) as ScanReport;
+  it("a tidemark.report/1 report (the demo report as written before close-ups) still validates (zod and the published JSON Schema)", () => {
+    const old = JSON.parse(readFileSync(path.join(repoRoot, "tests", "fixtures", "sample-report-v1.json"), "utf8")) as ScanReport;
     expect(old.schema).toBe("tidemark.report/1");
     expect(scanReportSchema.safeParse(old).success).toBe(true);
     expect(validateReport(old), JSON.stringify(validateReport.errors)).toBe(true);
