@@ -98,7 +98,7 @@ describe("scan writes close-ups beside the PNGs", () => {
       const columns = Math.round((c.endSeconds - c.startSeconds) / c.secondsPerColumn);
       const spectrogram = PNG.sync.read(readFileSync(path.join(dir, c.spectrogram)));
       expect(spectrogram.width).toBe(columns + SPECTROGRAM_MARGINS.leftPx + SPECTROGRAM_MARGINS.rightPx);
-      expect(spectrogram.height).toBe(600);
+      expect(spectrogram.height).toBe(300); // half the overview's 600 (writeCloseups.ts)
       const waveform = PNG.sync.read(readFileSync(path.join(dir, c.waveform)));
       expect(waveform.width).toBe(columns + WAVEFORM_MARGINS.leftPx + WAVEFORM_MARGINS.rightPx);
       expect(waveform.height).toBe(120);

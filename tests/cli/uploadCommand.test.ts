@@ -242,7 +242,7 @@ describe("tidemark scan --upload", () => {
     // RIFF….WAVE magic (Microsoft RIFF/WAVE layout) and a PNG pngjs decodes.
     const wav = Buffer.from(await files("excerpt")[0].arrayBuffer());
     expect([wav.toString("latin1", 0, 4), wav.toString("latin1", 8, 12)]).toEqual(["RIFF", "WAVE"]);
-    expect(PNG.sync.read(Buffer.from(await files("closeupSpectrogram")[0].arrayBuffer())).height).toBe(600);
+    expect(PNG.sync.read(Buffer.from(await files("closeupSpectrogram")[0].arrayBuffer())).height).toBe(300);
     // The printed report points at none of the files drawn only for the upload.
     const printed = (JSON.parse(r.stdout) as ScanReport).files[0];
     for (const key of ["levelGrid", "loudnessCurve", "closeups", "closeupsOmitted"]) expect(printed).not.toHaveProperty(key);

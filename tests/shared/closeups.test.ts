@@ -93,13 +93,18 @@ describe("createCloseupCapture", () => {
     expect(seg.channels[0].length).toBe(10 * RATE);
   });
 
-  it("keeps the loudest sample's window when a peak trigger is set", () => {
+  it("keeps the loudest sample's window when a peak trigger is set (peaks as the level windows report them)", () => {
     const total = 30 * RATE;
     const x = new Float32Array(total).fill(0.1);
     x[5_000] = 0.95;
     x[21_000] = 0.99; // louder, later: the candidate moves here
     const capture = createCloseupCapture({ sampleRateHz: RATE, channels: 1, settings: SETTINGS, silenceMinSeconds: 2, peakTrigger: { amplitude: 0.9, rank: 2 } });
-    for (let at = 0; at < total; at += 500) capture.push({ channels: [x.subarray(at, at + 500)], frames: 500, startFrame: at });
+    for (let at = 0; at < total; at += 500) {
+      capture.push({ channels: [x.subarray(at, at + 500)], frames: 500, startFrame: at });
+      let best = 0;
+      for (let i = at; i < at + 500; i++) if (x[i] > x[best]) best = i;
+      capture.peak(0, x[best], best);
+    }
     const segments = capture.finish();
     expect(covers(segments, 19_000, 23_000)).toBeDefined();
     expect(covers(segments, 3_000, 7_000)).toBeUndefined();

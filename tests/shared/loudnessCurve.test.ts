@@ -3,6 +3,7 @@
  * own max momentary / short-term loudness (the meter is checked against EBU Tech 3341 in loudness.test.ts).
  */
 import { describe, expect, it } from "vitest";
+import { createLevelWindows } from "../../shared/src/analysis/levelWindows.ts";
 import { createLoudnessMeter } from "../../shared/src/analysis/loudness.ts";
 import { createLoudnessCurveAccumulator, curveStepSeconds, MAX_CURVE_POINTS, reduceByMax } from "../../shared/src/closeups/loudnessCurve.ts";
 import { sineSteps } from "../fixtures/synth.ts";
@@ -28,12 +29,15 @@ describe("createLoudnessCurveAccumulator", () => {
     const rate = 48000;
     const x = sineSteps({ frequencyHz: 1000, sampleRateHz: rate, steps });
     const curve = createLoudnessCurveAccumulator({ sampleRateHz: rate, channels: 1, totalFrames: x.length }, maxPoints);
-    const meter = createLoudnessMeter(rate, 1, undefined, curve.onBlock);
+    const meter = createLoudnessMeter(rate, 1, undefined, curve.onHop);
+    // The sample-peak envelope is fed from the level analyser's 50 ms windows, as in fileAnalysis.ts.
+    const windows = createLevelWindows(rate, 1, (w) => curve.peak(0, w.peakAbs[0], w.peakFrame[0]));
     for (let at = 0; at < x.length; at += 4096) {
       const block = x.subarray(at, Math.min(x.length, at + 4096));
       meter.push([block], block.length);
-      curve.push({ channels: [block], frames: block.length, startFrame: at });
+      windows.push([block], block.length);
     }
+    windows.finish();
     return { result: meter.finish(), curve: curve.finish(), seconds };
   }
   const max = (xs: (number | null)[]) => Math.max(...xs.filter((v): v is number => v !== null));

@@ -64,7 +64,8 @@ export async function writeCloseups(o: {
     const suffix = `.closeup-${k + 1}`;
     const spectrogramWidth = columns + SPECTROGRAM_MARGINS.leftPx + SPECTROGRAM_MARGINS.rightPx;
     const waveformWidth = columns + WAVEFORM_MARGINS.leftPx + WAVEFORM_MARGINS.rightPx;
-    const { height, frequencyScale } = settings.spectrogram;
+    const { frequencyScale } = settings.spectrogram;
+    const height = closeupHeightPx(settings.spectrogram.height);
     const plotRows = height - SPECTROGRAM_MARGINS.topPx - SPECTROGRAM_MARGINS.bottomPx;
     await writeFile(
       paths.abs(`${suffix}.png`),
@@ -93,6 +94,16 @@ export async function writeCloseups(o: {
   }
   return { levelGrid: paths.shown(".levels.json"), loudnessCurve, closeups, closeupsOmitted: selection.omitted };
 }
+
+/**
+ * Close-ups are half the overview's height (300 px by default): they are about time, and painting and
+ * PNG-encoding ten of them at full height cost more than issue #16's +15 % of the scan (measured).
+ */
+export function closeupHeightPx(overviewHeightPx: number): number {
+  return Math.max(CLOSEUP_MIN_HEIGHT_PX, Math.round(overviewHeightPx / 2));
+}
+/** Room for the axes and a plot of ≥ 64 rows. */
+const CLOSEUP_MIN_HEIGHT_PX = SPECTROGRAM_MARGINS.topPx + SPECTROGRAM_MARGINS.bottomPx + 64;
 
 function shift(f: Finding, by: number): Finding {
   return {

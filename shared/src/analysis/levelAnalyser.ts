@@ -17,7 +17,7 @@ import { clipRegionFinding, createClipDetector, nearClipFinding } from "./clippi
 import { amplitudeToDb, dbOrNull } from "./decibels.ts";
 import { createDropoutDetector } from "./dropouts.ts";
 import { FindingCollector } from "./findings.ts";
-import { createLevelWindows } from "./levelWindows.ts";
+import { createLevelWindows, type LevelWindow } from "./levelWindows.ts";
 import { createLoudnessMeter, loudnessChannelWeights, type LoudnessHopListener } from "./loudness.ts";
 import { createNoiseFloorEstimator } from "./noiseFloor.ts";
 import { createSilenceDetector } from "./silence.ts";
@@ -35,6 +35,8 @@ export interface LevelAnalyserHooks {
   onFinding?: (f: Finding) => void;
   /** A silent run long enough to be a finding, as it grows (frames). */
   onSilentRun?: (startFrame: number, endFrame: number) => void;
+  /** Each 50 ms level window (per-channel peaks and where they are), read during the call only. */
+  onLevelWindow?: (w: LevelWindow) => void;
 }
 
 export function createLevelAnalyser(format: StreamFormat, settings: AnalysisSettings, hooks: LevelAnalyserHooks = {}): BlockAnalyser<LevelAnalysisResult> {
@@ -64,7 +66,9 @@ export function createLevelAnalyser(format: StreamFormat, settings: AnalysisSett
     else stuck.addRun(run);
   });
   const stereo = channels >= 2 ? createStereoAnalyser(sampleRateHz, settings) : null;
+  const onLevelWindow = hooks.onLevelWindow;
   const windows = createLevelWindows(sampleRateHz, channels, (w) => {
+    onLevelWindow?.(w);
     totals.add(w);
     silence.add(w);
     noiseFloor.add(w);

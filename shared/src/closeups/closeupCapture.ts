@@ -6,7 +6,8 @@
  * - a ring of the last `lookBack` seconds (the window before an event plus the time a detector takes to
  *   recognise it: a dropout is known when it ends, a silence once it has lasted silenceMinSeconds);
  * - captured segments: when a detector raises a candidate (a finding as it is emitted during the pass, a
- *   silent run once long enough, a new loudest sample above the near-clip threshold), the window around
+ *   silent run once long enough, a new loudest sample above the near-clip threshold, read from the level
+ *   analyser's 50 ms windows, so the capture adds no per-sample work but one copy), the window around
  *   it is copied out of the ring and then extended block by block up to the window's end. Candidates
  *   whose windows overlap share one segment.
  *
@@ -36,6 +37,8 @@ export interface CloseupCapture {
   push(block: AudioBlock): void;
   /** The frames [startFrame, endFrame] hold an event of this rank (> 0) that may become a finding. */
   candidate(startFrame: number, endFrame: number, rank: number): void;
+  /** A channel's loudest |sample| in a stretch just pushed, and its frame (the level analyser's windows). */
+  peak(channel: number, amplitude: number, frame: number): void;
   finish(): CapturedSegment[];
   /** Bytes of samples held now (ring plus segments). */
   readonly heldBytes: number;
@@ -165,28 +168,15 @@ export function createCloseupCapture(o: CloseupCaptureOptions): CloseupCapture {
     return seg;
   };
 
-  const scanPeaks = (block: AudioBlock): void => {
+  const peak = (c: number, amplitude: number, frame: number): void => {
     const trigger = o.peakTrigger;
-    if (!trigger) return;
-    for (let c = 0; c < channels; c++) {
-      const x = block.channels[c];
-      let best = Math.max(peakBest[c], trigger.amplitude - Number.EPSILON);
-      let at = -1;
-      for (let i = 0; i < block.frames; i++) {
-        const v = x[i] < 0 ? -x[i] : x[i];
-        if (v > best) {
-          best = v;
-          at = i;
-        }
-      }
-      if (at < 0) continue;
-      peakBest[c] = best;
-      // Only the loudest sample can become the near-clip finding: the earlier candidate is let go.
-      const old = peakSegment[c];
-      if (old && old.peakOf === c) remove(old);
-      const frame = block.startFrame + at;
-      peakSegment[c] = addCandidate(frame, frame, trigger.rank, c);
-    }
+    // Strictly louder, as the near-clip finding takes the first of equal peaks.
+    if (!trigger || amplitude < trigger.amplitude || amplitude <= peakBest[c]) return;
+    peakBest[c] = amplitude;
+    // Only the loudest sample can become the near-clip finding: the earlier candidate is let go.
+    const old = peakSegment[c];
+    if (old && old.peakOf === c) remove(old);
+    peakSegment[c] = addCandidate(frame, frame, trigger.rank, c);
   };
 
   return {
@@ -208,8 +198,8 @@ export function createCloseupCapture(o: CloseupCaptureOptions): CloseupCapture {
       }
       ringEnd = block.startFrame + frames;
       for (const seg of segments) if (seg.end < seg.wantedEnd) catchUp(seg);
-      scanPeaks(block);
     },
+    peak,
     candidate(startFrame, endFrame, rank) {
       addCandidate(startFrame, endFrame, rank, null);
     },

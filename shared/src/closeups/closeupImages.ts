@@ -21,8 +21,9 @@ export function closeupColumns(frames: number, sampleRateHz: number): { columns:
 }
 
 /**
- * Half the overview's FFT (≈ 21 ms at 48 kHz): a click or a dropout stays a few columns wide, while bins
- * stay ≈ 47 Hz. One frame a column, the channels' powers averaged as in the overview.
+ * A quarter of the overview's FFT (512 points, ≈ 11 ms at 48 kHz): about one 10 ms column, so a click or a
+ * dropout stays one or two columns wide; bins are ≈ 94 Hz, and the lowest rows of a log axis interpolate
+ * between them as in the overview. One frame a column, the channels' powers averaged as in the overview.
  */
 export function closeupSpectrogramGrid(
   samples: readonly Float32Array[],
@@ -32,7 +33,7 @@ export function closeupSpectrogramGrid(
   frequencyScale: "log" | "linear",
 ): SpectrogramGrid {
   const frames = samples[0]?.length ?? 0;
-  let fftSize = Math.max(64, defaultFftSize(sampleRateHz) / 2);
+  let fftSize = Math.max(64, defaultFftSize(sampleRateHz) / 4);
   while (fftSize > 64 && fftSize > frames) fftSize /= 2;
   const analyzer = createSpectrumAnalyzer(fftSize);
   const layout = spectrogramRowLayout(rows, frequencyScale, sampleRateHz, fftSize);
@@ -58,9 +59,13 @@ export function closeupSpectrogramGrid(
     const start = frameStart(schedule, k);
     mean.fill(0);
     for (const x of samples) {
-      frame.fill(0);
-      frame.set(x.subarray(start, Math.min(frames, start + fftSize)));
-      analyzer.amplitudeSquared(frame, power);
+      if (start + fftSize <= frames) analyzer.amplitudeSquared(x.subarray(start, start + fftSize), power);
+      else {
+        // A window shorter than one frame: zero-padded.
+        frame.fill(0);
+        frame.set(x.subarray(start, frames));
+        analyzer.amplitudeSquared(frame, power);
+      }
       for (let b = 0; b < power.length; b++) mean[b] += power[b] * share;
     }
     accumulator.addFrame(mean, k);

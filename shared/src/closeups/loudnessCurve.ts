@@ -2,12 +2,14 @@
  * The whole file's loudness curve (issue #16, "tidemark.loudness-curve/1"): momentary and short-term
  * LUFS and the per-channel sample-peak envelope, bucketed in the same pass. The loudness values are the
  * meter's own powers at every hop (loudness.ts's LoudnessHopListener), so the curve's maxima are the report's
- * maxMomentaryLufs / maxShortTermLufs whatever hop the meter uses. Buckets are fixed before the first
+ * maxMomentaryLufs / maxShortTermLufs whatever hop the meter uses. The sample-peak envelope comes from
+ * the level analyser's 50 ms windows (each window's peak counts in the bucket holding it), so the curve
+ * adds no per-sample work. Buckets are fixed before the first
  * block from the stream's length: 0.1 s, widened in 0.1 s steps so a file never has more than
  * MAX_CURVE_POINTS; each bucket keeps its maximum.
  */
 import { powerToLufs } from "../analysis/loudnessGating.ts";
-import type { AudioBlock, StreamFormat } from "../types/analysis.ts";
+import type { StreamFormat } from "../types/analysis.ts";
 
 export const LOUDNESS_CURVE_SCHEMA = "tidemark.loudness-curve/1";
 export const MAX_CURVE_POINTS = 20_000;
@@ -48,8 +50,8 @@ export function reduceByMax(values: Float64Array, factor: number): Float64Array 
 export interface LoudnessCurveAccumulator {
   /** The loudness meter's hop listener (powers are 0 until the stream is long enough for the window). */
   onHop(endFrame: number, momentaryPower: number, shortTermPower: number): void;
-  /** Feeds the sample-peak envelope. */
-  push(block: AudioBlock): void;
+  /** Feeds the sample-peak envelope: a channel's loudest |sample| over a stretch, and its frame. */
+  peak(channel: number, amplitude: number, frame: number): void;
   finish(): LoudnessCurve;
 }
 
@@ -73,26 +75,10 @@ export function createLoudnessCurveAccumulator(format: Pick<StreamFormat, "sampl
       if (momentaryPower > 0 && momentaryPower > momentary[b]) momentary[b] = momentaryPower;
       if (shortTermPower > 0 && shortTermPower > shortTerm[b]) shortTerm[b] = shortTermPower;
     },
-    push(block) {
+    peak(channel, amplitude, frame) {
       if (points === 0) return;
-      let i = 0;
-      let frame = block.startFrame;
-      while (i < block.frames) {
-        const b = bucketOf(frame);
-        const bucketEnd = b === points - 1 ? Infinity : Math.ceil((b + 1) * stepFrames);
-        const n = Math.min(block.frames - i, Math.max(1, bucketEnd - frame));
-        for (let c = 0; c < channels; c++) {
-          const x = block.channels[c];
-          let peak = peaks[c][b];
-          for (let j = i; j < i + n; j++) {
-            const v = x[j] < 0 ? -x[j] : x[j];
-            if (v > peak) peak = v;
-          }
-          peaks[c][b] = peak;
-        }
-        i += n;
-        frame += n;
-      }
+      const b = bucketOf(frame);
+      if (amplitude > peaks[channel][b]) peaks[channel][b] = amplitude;
     },
     finish() {
       const lufs = (series: Float64Array): (number | null)[] =>

@@ -65,6 +65,13 @@ export function createFileAnalysis(format: StreamFormat, settings: AnalysisSetti
       if (f.startSeconds !== null) c.candidate(f.startSeconds * rate, (f.endSeconds ?? f.startSeconds) * rate, closeups.rankOf(f.code, f.severity));
     };
     hooks.onSilentRun = (start, end) => c.candidate(start, end, silenceRank);
+    const k = curve;
+    hooks.onLevelWindow = (w) => {
+      for (let ch = 0; ch < w.peakAbs.length; ch++) {
+        k.peak(ch, w.peakAbs[ch], w.peakFrame[ch]);
+        c.peak(ch, w.peakAbs[ch], w.peakFrame[ch]);
+      }
+    };
   }
   const level = createLevelAnalyser(format, settings, hooks);
   const spectral = createSpectralAnalyser(format, settings);
@@ -74,10 +81,11 @@ export function createFileAnalysis(format: StreamFormat, settings: AnalysisSetti
   return {
     push(block: AudioBlock): void {
       // Before the level analyser: the candidates it raises are cut from the ring, which must hold this block.
-      const tc = clock?.() ?? 0;
-      capture?.push(block);
-      curve?.push(block);
-      if (clock) timings.closeups += clock() - tc;
+      if (capture) {
+        const tc = clock?.() ?? 0;
+        capture.push(block);
+        if (clock) timings.closeups += clock() - tc;
+      }
       if (!clock) {
         level.push(block);
         spectral.push(block);
@@ -128,10 +136,10 @@ export function createFileAnalysis(format: StreamFormat, settings: AnalysisSetti
         channels: m.channels,
       };
       const findings = [...l.findings, ...s.findings].sort(compareFindings);
-      const t3 = clock?.() ?? 0;
+      const t3 = capture && clock ? clock() : 0;
       const closeupSegments = capture?.finish() ?? null;
       const loudnessCurve = curve?.finish() ?? null;
-      if (clock) timings.closeups += clock() - t3;
+      if (capture && clock) timings.closeups += clock() - t3;
       return {
         metrics,
         findings,
