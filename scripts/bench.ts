@@ -437,8 +437,12 @@ async function main(): Promise<void> {
       const on = summarise(withRuns, o.seconds, audioBytes(o.seconds));
       const off = summarise(withoutRuns, o.seconds, audioBytes(o.seconds));
       const overhead = on.wallSeconds / off.wallSeconds;
-      result.closeups = { findings: CLOSEUP_FINDINGS, closeupsMade, on, off, overhead };
+      // CPU time as well: on a shared machine the wall-clock ratio moves with the neighbours' load.
+      const cpuOverhead = on.cpuSeconds / off.cpuSeconds;
+      const pairs = withRuns.map((w, i) => w.wallSeconds / withoutRuns[i].wallSeconds);
+      result.closeups = { findings: CLOSEUP_FINDINGS, closeupsMade, on, off, overhead, cpuOverhead, pairs };
       log(`  close-ups cost ${fmt((overhead - 1) * 100, 1)} % wall (target ≤ +${fmt((TARGETS.closeupsOverhead - 1) * 100, 0)} %): ${overhead <= TARGETS.closeupsOverhead ? "met" : "NOT met"}`);
+      log(`  (pairs ${pairs.map((p) => `${fmt((p - 1) * 100, 0)} %`).join(", ")}; CPU ${fmt((cpuOverhead - 1) * 100, 1)} %, medians ${fmt(on.cpuSeconds, 2)} s against ${fmt(off.cpuSeconds, 2)} s)`);
       await rm(dir, { recursive: true, force: true });
     }
 
