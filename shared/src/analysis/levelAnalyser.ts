@@ -33,6 +33,8 @@ export interface LevelAnalyserHooks {
   onLoudnessHop?: LoudnessHopListener;
   /** Each finding as it is raised during the pass (before the per-code bound of FindingCollector). */
   onFinding?: (f: Finding) => void;
+  /** An event a detector will only judge at the end (a dropout, a click), as soon as it is seen (frames). */
+  onCandidate?: (code: "dropout" | "click", startFrame: number, endFrame: number) => void;
   /** A silent run long enough to be a finding, as it grows (frames). */
   onSilentRun?: (startFrame: number, endFrame: number) => void;
   /** Each 50 ms level window (per-channel peaks and where they are), read during the call only. */
@@ -55,11 +57,12 @@ export function createLevelAnalyser(format: StreamFormat, settings: AnalysisSett
   const truePeak = createTruePeakMeter(sampleRateHz, channels);
   const clipping = createClipDetector(format, settings, (region) => add(clipRegionFinding(region, sampleRateHz)));
   const bitDepth = createBitDepthMeter(format);
-  const clicks = createClickDetector(sampleRateHz, channels, settings);
+  const onCandidate = hooks.onCandidate;
+  const clicks = createClickDetector(sampleRateHz, channels, settings, onCandidate ? (s, e) => onCandidate("click", s, e) : null);
   const totals = createChannelLevelTotals(channels);
   const silence = createSilenceDetector(sampleRateHz, channels, settings, lfeChannelIndex(channels, format.channelMask), hooks.onSilentRun ?? null);
   const noiseFloor = createNoiseFloorEstimator(channels);
-  const dropouts = createDropoutDetector(sampleRateHz, channels, settings, add);
+  const dropouts = createDropoutDetector(sampleRateHz, channels, settings, add, onCandidate ? (s, e) => onCandidate("dropout", s, e) : null);
   const stuck = createStuckSampleDetector(format, settings, add);
   const runs = createValueRunTracker(channels, Math.min(dropouts.minFrames, stuck.minFrames), (run) => {
     if (run.value === 0) dropouts.addRun(run);

@@ -65,6 +65,10 @@ export function createFileAnalysis(format: StreamFormat, settings: AnalysisSetti
       if (f.startSeconds !== null) c.candidate(f.startSeconds * rate, (f.endSeconds ?? f.startSeconds) * rate, closeups.rankOf(f.code, f.severity));
     };
     hooks.onSilentRun = (start, end) => c.candidate(start, end, silenceRank);
+    // Detectors that judge at the end (dropouts against the file's noise floor, clicks) name their events early.
+    const dropoutRank = closeups.rankOf("dropout", "fail");
+    const clickRank = closeups.rankOf("click", "warn");
+    hooks.onCandidate = (code, start, end) => c.candidate(start, end, code === "dropout" ? dropoutRank : clickRank);
     const k = curve;
     hooks.onLevelWindow = (w) => {
       for (let ch = 0; ch < w.peakAbs.length; ch++) {
