@@ -137,8 +137,30 @@ function voice(text: string, rateHz: number, seed: number, useSpeech: boolean): 
   return fitLength(raw, SECONDS * rateHz);
 }
 
+/**
+ * A long interview (issue #16's demo: a short fault in the middle of minutes of speech): utterances one
+ * after another with short pauses (under the 2 s of a silent gap), until `seconds` are filled. Each
+ * utterance is synthesised once and repeated, so minutes cost no more espeak-ng time than a sentence.
+ */
+function longInterview(lines: string[], rateHz: number, seconds: number, seed: number, useSpeech: boolean): Float32Array {
+  const out = new Float32Array(Math.round(seconds * rateHz));
+  const utterances = lines.map((text, i) => (useSpeech ? speak(text, rateHz, "en-gb") : speechLike(rateHz, seed + i)));
+  const pause = Math.round(0.6 * rateHz);
+  let at = 0;
+  for (let k = 0; at < out.length; k++) {
+    const u = utterances[k % utterances.length];
+    out.set(u.subarray(0, Math.min(u.length, out.length - at)), at);
+    at += u.length + pause;
+  }
+  return atRms(out, -24);
+}
+
 /** Tape hiss well under the programme: it also carries the spectrum up to Nyquist, as real transfers do. */
-const hiss = (rateHz: number, seed: number, db = -66): Float32Array => whiteNoise({ sampleRateHz: rateHz, seconds: SECONDS, rmsDbfs: db, seed });
+const hiss = (rateHz: number, seed: number, db = -66, seconds = SECONDS): Float32Array => whiteNoise({ sampleRateHz: rateHz, seconds, rmsDbfs: db, seed });
+
+/** FTI-05's length and where its dropout falls: minutes of speech, 40 ms missing in the middle. */
+const LONG_SECONDS = 240;
+const LONG_DROPOUT_SECONDS = 120;
 
 /**
  * The chords the choir sings, one a piece. No two share a pitch class (nor so a harmonic), so each piece
@@ -223,6 +245,22 @@ function recipes(): Recipe[] {
       channels: (s) => {
         const x = mix(atRms(voice("Tape four. The deckhands sang while they coiled the ropes.", 44100, 14, s), -24), hiss(44100, 4, -50));
         return [faded(lowPass(x, 15000, 44100), 44100)];
+      },
+    },
+    {
+      path: `${FERRY}/FTI-05 pier master (long).wav`,
+      fault: "dropout: 40 ms of digital silence at 2:00 in a 4-minute interview (the close-up shows it; the overview cannot)",
+      encode: { sampleRateHz: 48000, bitDepth: 24 },
+      channels: (s) => {
+        const lines = [
+          "Tape five. The pier master kept a log of every sailing, and the weather, and who was late.",
+          "In nineteen seventy eight the new ramp opened, and the old gangway went to the museum.",
+          "On foggy mornings we rang the bell by hand, every two minutes, until the ferry answered.",
+          "The cafe sold tea in thick white cups, and the gulls waited on the railings for the crusts.",
+        ];
+        const x = faded(mix(longInterview(lines, 48000, LONG_SECONDS, 15, s), hiss(48000, 11, -66, LONG_SECONDS)), 48000);
+        x.fill(0, LONG_DROPOUT_SECONDS * 48000, Math.round((LONG_DROPOUT_SECONDS + 0.04) * 48000));
+        return [x];
       },
     },
     {

@@ -9,8 +9,11 @@
  *   npm run bench -- --stages FILE.wav     in-process time of each analyser part on one file
  *                                          (--only render,decode: just those stages)
  *
+ * Section 7 (closeups, issue #16) times the default scan against `--no-closeups` on the main length with
+ * 10 planted 40 ms dropouts: `npm run bench -- --only closeups` runs just that.
+ *
  * Options: --seconds N (main file, default 600), --files N (files for the worker comparison, default 8),
- * --repeats N (default 3), --no-rf64, --no-linearity, --no-white, --no-flac, --only single,white,workers,linearity,rf64,flac
+ * --repeats N (default 3), --no-rf64, --no-linearity, --no-white, --no-flac, --only single,white,workers,linearity,rf64,flac,closeups
  * (just those sections), --from-source (run through tsx instead of the bundle), --keep (leave the inputs),
  * --tmp DIR (where the inputs go), --baseline REV (also time the CLI as of git revision REV on the main
  * file, alternating, for a before/after ratio in the same run), --wait-calm S (before each run, wait up to S seconds for the other
@@ -24,6 +27,7 @@ import { projectRoot } from "./lib/paths.ts";
 import { hasGnuTime, machineBusyCores, measure, median, type Measured } from "./bench/measure.ts";
 import { runStages } from "./bench/stages.ts";
 import { staleBundleSources } from "../cli/bin/bundleState.mjs";
+import { plantDropouts } from "./bench/plantFaults.ts";
 import { synthesiseWav, type SynthOptions } from "./bench/synthWav.ts";
 
 interface Options {
@@ -48,7 +52,7 @@ interface Options {
 /** Other processes using less than this many cores count as a calm machine. */
 const CALM_BUSY_CORES = 0.25;
 
-const SECTIONS = ["single", "white", "workers", "linearity", "rf64", "flac"];
+const SECTIONS = ["single", "white", "workers", "linearity", "rf64", "flac", "closeups"];
 
 function parseOptions(argv: string[]): Options {
   const o: Options = { out: null, quick: false, seconds: 600, files: 8, repeats: 3, rf64: true, linearity: true, white: true, flac: true, fromSource: false, keep: false, tmp: tmpdir(), stages: null, only: null, waitCalmSeconds: 0, baseline: null };
@@ -116,7 +120,9 @@ const RF64_BYTES = 4.5e9;
 /** Linearity: base × 1, 4, 16. */
 const LINEARITY_FACTORS = [1, 4, 16];
 /** Issue #8; vsFfmpeg is its "about twice as fast as the loudness pass" (150x against ≈ 73x). */
-const TARGETS = { realtime: 150, vsFfmpeg: 2, workerScaling: 1.8, peakRssMb: 150, linearity: 1.15, flacVsWav: 1.5 };
+const TARGETS = { realtime: 150, vsFfmpeg: 2, workerScaling: 1.8, peakRssMb: 150, linearity: 1.15, flacVsWav: 1.5, closeupsOverhead: 1.15 };
+/** Issue #16: findings planted in the close-up section's file. */
+const CLOSEUP_FINDINGS = 10;
 
 interface ScanSample extends Measured {
   /** Stage times of the file(s), summed over files, ms. */
@@ -306,14 +312,14 @@ async function main(): Promise<void> {
     const audioBytes = (seconds: number) => seconds * BYTES_PER_SECOND;
 
     log("synthesising inputs (24-bit / 48 kHz stereo pink noise at −20 dBFS RMS)");
-    const mainFile = await synth(path.join(root, "single"), "pink.wav", o.seconds, { seed: 1 });
+    const doSingle = !o.only || o.only.has("single");
+    const mainFile = doSingle ? await synth(path.join(root, "single"), "pink.wav", o.seconds, { seed: 1 }) : "";
     const whiteFile = o.white ? await synth(path.join(root, "white"), "white.wav", o.seconds, { noise: "white", seed: 2 }) : null;
     const doWorkers = !o.only || o.only.has("workers");
     const batchDir = path.join(root, "batch");
     for (let i = 0; i < (doWorkers ? o.files : 0); i++) await synth(batchDir, `pink-${i + 1}.wav`, o.seconds, { seed: 10 + i });
 
     // 1. One file, one worker, against ffmpeg's loudness + true-peak + statistics pass.
-    const doSingle = !o.only || o.only.has("single");
     if (doSingle) log(`\n1. ${o.seconds} s file, --workers 1, ${o.repeats} run(s) each, alternating with ffmpeg`);
     const ffmpeg = doSingle && hasFfmpeg();
     const singles: ScanSample[] = [];
@@ -450,6 +456,34 @@ async function main(): Promise<void> {
       await rm(dir, { recursive: true, force: true });
     }
 
+    // 7. Close-ups (issue #16): the default scan against --no-closeups, alternating, on one file with planted findings.
+    if (!o.only || o.only.has("closeups")) {
+      log(`\n7. close-ups: ${o.seconds} s with ${CLOSEUP_FINDINGS} planted 40 ms dropouts, default vs --no-closeups, --workers 1, ${o.repeats} run(s) each`);
+      const dir = path.join(root, "closeups");
+      const file = await synth(dir, "pink-faults.wav", o.seconds, { seed: 60 });
+      await plantDropouts({ path: file, seconds: o.seconds, sampleRateHz: SAMPLE_RATE_HZ, channels: CHANNELS, bitDepth: BIT_DEPTH, count: CLOSEUP_FINDINGS, dropoutSeconds: 0.04 });
+      const withRuns: ScanSample[] = [];
+      const withoutRuns: ScanSample[] = [];
+      let closeupsMade = 0;
+      for (let r = 0; r < o.repeats; r++) {
+        withRuns.push(await scan(dir, 1, o, scratch));
+        const report = JSON.parse(await readFile(path.join(scratch, "report.json"), "utf8")) as { files: { closeups?: unknown[] }[] };
+        closeupsMade = report.files[0]?.closeups?.length ?? 0;
+        withoutRuns.push(await scan(dir, 1, o, scratch, undefined, ["--no-closeups"]));
+        log(`  close-ups ${fmt(withRuns[r].wallSeconds, 2)} s wall (${closeupsMade} made)${busyNote(withRuns[r])}; --no-closeups ${fmt(withoutRuns[r].wallSeconds, 2)} s${busyNote(withoutRuns[r])}`);
+      }
+      const on = summarise(withRuns, o.seconds, audioBytes(o.seconds));
+      const off = summarise(withoutRuns, o.seconds, audioBytes(o.seconds));
+      const overhead = on.wallSeconds / off.wallSeconds;
+      // CPU time as well: on a shared machine the wall-clock ratio moves with the neighbours' load.
+      const cpuOverhead = on.cpuSeconds / off.cpuSeconds;
+      const pairs = withRuns.map((w, i) => w.wallSeconds / withoutRuns[i].wallSeconds);
+      result.closeups = { findings: CLOSEUP_FINDINGS, closeupsMade, on, off, overhead, cpuOverhead, pairs };
+      log(`  close-ups cost ${fmt((overhead - 1) * 100, 1)} % wall (target ≤ +${fmt((TARGETS.closeupsOverhead - 1) * 100, 0)} %): ${overhead <= TARGETS.closeupsOverhead ? "met" : "NOT met"}`);
+      log(`  (pairs ${pairs.map((p) => `${fmt((p - 1) * 100, 0)} %`).join(", ")}; CPU ${fmt((cpuOverhead - 1) * 100, 1)} %, medians ${fmt(on.cpuSeconds, 2)} s against ${fmt(off.cpuSeconds, 2)} s)`);
+      await rm(dir, { recursive: true, force: true });
+    }
+
     result.finishedAt = new Date().toISOString();
     result.targets = judgeTargets(result);
     printTable(result, o);
@@ -482,6 +516,8 @@ function judgeTargets(r: Record<string, unknown>): Record<string, { value: numbe
   if (workers) t.workerScaling = { value: workers.scaling, target: `≥ ${TARGETS.workerScaling}x`, met: workers.scaling >= TARGETS.workerScaling };
   if (Number.isFinite(peakRss)) t.peakRssMbOneWorker = { value: peakRss, target: `≤ ${TARGETS.peakRssMb} MB`, met: peakRss <= TARGETS.peakRssMb };
   if (flac) t.flacVsWav = { value: flac.ratioToWav, target: `≤ ${TARGETS.flacVsWav} (FLAC scan wall / WAV scan wall, same audio, same rounds)`, met: flac.ratioToWav <= TARGETS.flacVsWav };
+  const closeups = r.closeups as { overhead: number } | undefined;
+  if (closeups) t.closeupsOverhead = { value: closeups.overhead, target: `≤ ${TARGETS.closeupsOverhead} (#16: close-ups vs --no-closeups, wall)`, met: closeups.overhead <= TARGETS.closeupsOverhead };
   if (linearity) t.linearity16x = { value: linearity.ratio16, target: `≤ ${TARGETS.linearity} (per audio second, 16× vs 1×)`, met: linearity.ratio16 <= TARGETS.linearity };
   return t;
 }

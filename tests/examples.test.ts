@@ -50,14 +50,14 @@ const codes = (name: string, severity?: string) =>
 describe("examples/scan-folder.sh on the demo archive", () => {
   it("prints the table, then a clean fixity check", () => {
     expect(stdout).toMatch(/VERDICT\s+PATH/);
-    expect(stdout).toContain("8 file(s):");
-    expect(stdout).toMatch(/8 unchanged, 0 changed, 0 missing, 0 unreadable, 0 new/);
+    expect(stdout).toContain("9 file(s):");
+    expect(stdout).toMatch(/9 unchanged, 0 changed, 0 missing, 0 unreadable, 0 new/);
   });
 
   it("writes a report that validates against report.schema.json (ajv), with spectrograms", () => {
     expect(validate(report), JSON.stringify(validate.errors)).toBe(true);
     expect(report.profile.name).toBe("preservation-master");
-    expect(report.files).toHaveLength(8);
+    expect(report.files).toHaveLength(9);
     expect(report.files.every((f) => f.spectrogram?.endsWith(`${f.path}.png`))).toBe(true);
   });
 
@@ -65,6 +65,12 @@ describe("examples/scan-folder.sh on the demo archive", () => {
     expect(codes("LCR-02 reel 1 side B.wav", "fail")).toContain("clipping");
     expect(codes("FTI-02 ticket office.bwf")).toContain("hum");
     expect(codes("FTI-03 night shift.wav")).toContain("dropout");
+    // Issue #16's demo: a 40 ms dropout at 2:00 of a 4-minute interview, with a close-up 2 s either side of it.
+    const long = file("FTI-05 pier master (long).wav");
+    expect(long.format?.durationSeconds).toBe(240);
+    const dropout = long.findings.findIndex((f) => f.code === "dropout");
+    expect(long.findings[dropout].startSeconds).toBeCloseTo(120, 3);
+    expect(long.closeups?.find((c) => c.findings.includes(dropout))).toMatchObject({ startSeconds: 118, endSeconds: 122.04 });
     expect(codes("FTI-04 deckhands (access copy).wav")).toContain("band-limited");
     // IASA TC-04 (from memory): 48 kHz / 24-bit minimum for preservation masters.
     expect(codes("FTI-04 deckhands (access copy).wav", "fail")).toContain("format-mismatch");
@@ -84,7 +90,7 @@ describe("examples/scan-folder.sh on the demo archive", () => {
     // The CLI's `match` and the server's ingest decide with the same index scoring and isSameRecording rule.
     const index = createFingerprintIndex();
     const fingerprints = new Map(report.files.filter((f) => typeof f.fingerprint === "string").map((f) => [f.path, decodeFingerprint(f.fingerprint!)]));
-    expect(fingerprints.size).toBe(8);
+    expect(fingerprints.size).toBe(9);
     for (const [p, fp] of fingerprints) index.add(p, fp);
     const pairs = new Set<string>();
     for (const [p, fp] of fingerprints) {

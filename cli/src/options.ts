@@ -87,6 +87,8 @@ export interface ScanOptions {
   spectrograms: string | null;
   /** false with --no-fingerprint: no duplicate-detection fingerprint in the report. */
   fingerprint: boolean;
+  /** false with --no-closeups: no close-ups, level grid or loudness curve beside the PNGs. */
+  closeups: boolean;
   workers: number;
   include: string[];
   exclude: string[];

@@ -104,6 +104,7 @@ export function createProgram(actions: Partial<CommandActions & QueueCommandActi
     .option("-o, --out <file>", "write the report to a file instead of stdout (format from its extension if --format is not given)")
     .option("--spectrograms <dir>", "write a spectrogram PNG (and a waveform strip) for each file, mirroring the folder tree")
     .option("--no-fingerprint", "skip the fingerprint that finds the same recording elsewhere (about a third faster; uploads are then not compared)")
+    .option("--no-closeups", "skip the close-ups around findings (detailed images and audio excerpts), the level grid and the loudness curve written beside the PNGs")
     .option("-w, --workers <n>", "parallel workers (default: number of cores)", parseWorkerCount)
     .option("--resume <state-file>", "record progress there, and skip files already measured and unchanged")
     .addOption(new Option("--fail-on <level>", "exit 1 when a file gets this verdict or worse (default: tidemark.json's, else fail)").choices(FAIL_ON_LEVELS))
@@ -132,6 +133,7 @@ export function createProgram(actions: Partial<CommandActions & QueueCommandActi
       out: (o.out as string | undefined) ?? null,
       spectrograms: project.spectrograms(o.spectrograms as string | undefined),
       fingerprint: o.fingerprint !== false,
+      closeups: o.closeups !== false,
       workers: (o.workers as number | undefined) ?? defaultWorkerCount(),
       include: project.include(o.include as string[], DEFAULT_INCLUDE_GLOBS),
       exclude: project.exclude(o.exclude as string[]),

@@ -21,7 +21,7 @@ beforeAll(async () => {
   writeFileSync(path.join(dir, "clipped.wav"), encodeWav([x, x], { sampleRateHz: rate, bitDepth: 24 }));
   writeFileSync(path.join(dir, "text.wav"), "not audio at all");
   const loaded = await loadProfile("preservation-master", dir);
-  context = { profile: loaded.profile, settings: { ...loaded.settings, spectrogram: { ...loaded.settings.spectrogram, width: 400, height: 200 } }, spectrograms: { dirAbs: path.join(dir, "png"), dirShown: "png" }, fingerprint: true };
+  context = { profile: loaded.profile, settings: { ...loaded.settings, spectrogram: { ...loaded.settings.spectrogram, width: 400, height: 200 } }, spectrograms: { dirAbs: path.join(dir, "png"), dirShown: "png" }, fingerprint: true, closeups: true };
 });
 
 afterAll(() => rmSync(dir, { recursive: true, force: true }));

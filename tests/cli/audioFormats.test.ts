@@ -31,7 +31,7 @@ const run = (cmd: string, args: string[]): void => {
 beforeAll(async () => {
   dir = mkdtempSync(path.join(tmpdir(), "tidemark-formats-"));
   const loaded = await loadProfile("preservation-master", dir);
-  context = { profile: loaded.profile, settings: loaded.settings, spectrograms: null, fingerprint: false };
+  context = { profile: loaded.profile, settings: loaded.settings, spectrograms: null, fingerprint: false, closeups: false };
   if (!toolsPresent) return;
   // 6 s of 48 kHz 24-bit stereo: a tone and noise on each side, made by our synthesiser, written by our WAV writer.
   const rate = 48000;

@@ -62,7 +62,7 @@ function aiff(o: AiffOptions = {}): Uint8Array {
 beforeAll(async () => {
   dir = mkdtempSync(path.join(tmpdir(), "tidemark-hostile-formats-"));
   const loaded = await loadProfile("preservation-master", dir);
-  context = { profile: loaded.profile, settings: loaded.settings, spectrograms: null, fingerprint: false };
+  context = { profile: loaded.profile, settings: loaded.settings, spectrograms: null, fingerprint: false, closeups: false };
   if (hasFlac) {
     const x = sine({ frequencyHz: 440, sampleRateHz: 8000, seconds: 2, peakDbfs: -6 });
     writeFileSync(path.join(dir, "src.wav"), encodeWav([x], { sampleRateHz: 8000, bitDepth: 16 }));

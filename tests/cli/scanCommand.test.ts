@@ -79,7 +79,7 @@ describe("tidemark scan (real binary)", () => {
 
   it("reports every file relative to the scanned folder, sorted, and validates against report.schema.json (ajv)", () => {
     expect(report.files.map((f) => f.path)).toEqual(["Ferry/hiss.bwf", "Ferry/tone-1k.wav", "Reels/clipped.wav", "Reels/notes.wav", "Reels/sub/quiet.rf64"]);
-    expect(report.schema).toBe("tidemark.report/1");
+    expect(report.schema).toBe("tidemark.report/2");
     expect(report.profile.name).toBe("access-copy");
     expect(report.profile.hash).toMatch(/^[0-9a-f]{64}$/);
     expect(report.summary).toEqual({

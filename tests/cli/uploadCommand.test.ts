@@ -218,6 +218,37 @@ describe("tidemark scan --upload", () => {
     expect(png).toEqual(new Uint8Array(readFileSync(path.join(dir, "png", "reel-1.wav.png"))));
   });
 
+  it("uploads the close-up parts named as CONTRACT-16 §4 says: levelGrid/loudnessCurve <n>.json, closeups <n>.<k>.png and .wav", async () => {
+    server = await fakeServer();
+    const rate = 48000;
+    mkdirSync(path.join(dir, "ferry"), { recursive: true });
+    const voice = sine({ frequencyHz: 220, sampleRateHz: rate, seconds: 6, peakDbfs: -12 });
+    voice.fill(0, 3 * rate, 3 * rate + Math.round(0.04 * rate)); // a 40 ms dropout in the middle
+    writeFileSync(path.join(dir, "ferry", "interview.wav"), encodeWav([voice], { sampleRateHz: rate, bitDepth: 16 }));
+    const tmp = mkdtempSync(path.join(tmpdir(), "tidemark-tmp-"));
+    const r = await cli(["scan", "ferry", "--upload", "--server", server.url, "--format", "json", "-q"], { TIDEMARK_TOKEN: "tok7:s3cret", TMPDIR: tmp });
+    expect(r.exitCode, r.stderr).toBe(1);
+    const form = await formOf(server.requests[0]);
+    const files = (field: string) => form.getAll(field) as File[];
+    const sent = JSON.parse(await (form.get("report") as File).text()) as ScanReport;
+    expect(sent.files[0].closeups).toHaveLength(1);
+    expect(files("levelGrid").map((f) => f.name)).toEqual(["0.json"]);
+    expect(JSON.parse(await files("levelGrid")[0].text()).schema).toBe("tidemark.level-grid/1");
+    expect(files("loudnessCurve").map((f) => f.name)).toEqual(["0.json"]);
+    expect(JSON.parse(await files("loudnessCurve")[0].text()).schema).toBe("tidemark.loudness-curve/1");
+    expect(files("closeupSpectrogram").map((f) => f.name)).toEqual(["0.0.png"]);
+    expect(files("closeupWaveform").map((f) => f.name)).toEqual(["0.0.png"]);
+    expect(files("excerpt").map((f) => [f.name, f.type])).toEqual([["0.0.wav", "audio/wav"]]);
+    // RIFF….WAVE magic (Microsoft RIFF/WAVE layout) and a PNG pngjs decodes.
+    const wav = Buffer.from(await files("excerpt")[0].arrayBuffer());
+    expect([wav.toString("latin1", 0, 4), wav.toString("latin1", 8, 12)]).toEqual(["RIFF", "WAVE"]);
+    expect(PNG.sync.read(Buffer.from(await files("closeupSpectrogram")[0].arrayBuffer())).height).toBe(300);
+    // The printed report points at none of the files drawn only for the upload.
+    const printed = (JSON.parse(r.stdout) as ScanReport).files[0];
+    for (const key of ["levelGrid", "loudnessCurve", "closeups", "closeupsOmitted"]) expect(printed).not.toHaveProperty(key);
+    rmSync(tmp, { recursive: true, force: true });
+  });
+
   it("draws and uploads the PNGs even without --spectrograms, and leaves no temporary folder behind", async () => {
     server = await fakeServer();
     mkdirSync(path.join(dir, "tapes"), { recursive: true });

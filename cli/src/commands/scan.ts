@@ -5,6 +5,7 @@
 import { mkdir, mkdtemp, rename, rm, stat, writeFile } from "node:fs/promises";
 import { tmpdir } from "node:os";
 import path from "node:path";
+import { profileLimits } from "@tidemark/shared/profiles/profileSettings";
 import { assembleReport } from "@tidemark/shared/report/assembleReport";
 import { reportToJson } from "@tidemark/shared/report/jsonReport";
 import { reportWriters, type ReportFormat } from "@tidemark/shared/report/reportFormats";
@@ -96,6 +97,12 @@ async function writeScanBag(dir: string, given: string[], report: ScanReport, fi
   io.stderr.write(`tidemark: wrote bag ${dir}: ${written.files} files, ${written.bytes} bytes (check it with: tidemark verify ${dir})\n`);
 }
 
+/** A file's report without the images drawn only for an upload (the close-up fields go with them). */
+function withoutImages(file: FileReport): FileReport {
+  const { levelGrid: _g, loudnessCurve: _c, closeups: _k, closeupsOmitted: _o, ...rest } = file;
+  return { ...rest, spectrogram: null };
+}
+
 export async function scanCommand(paths: string[], options: ScanOptions, io: CliIo): Promise<number> {
   const startedAt = new Date().toISOString();
   const loaded = await loadProfile(options.profile, io.cwd);
@@ -124,7 +131,7 @@ export async function scanCommand(paths: string[], options: ScanOptions, io: Cli
     await mkdir(dirAbs, { recursive: true });
     spectrograms = { dirAbs, dirShown: dirAbs.split(path.sep).join("/") };
   }
-  const context: ScanContext = { profile: loaded.profile, settings: loaded.settings, spectrograms, fingerprint: options.fingerprint };
+  const context: ScanContext = { profile: loaded.profile, settings: loaded.settings, spectrograms, fingerprint: options.fingerprint, closeups: options.closeups };
 
   let resume: ResumeState | null = null;
   if (options.resume) {
@@ -177,11 +184,11 @@ export async function scanCommand(paths: string[], options: ScanOptions, io: Cli
     problemReports.push(errorReport(relPath, 0, { code: "missing-file", message: `${relPath}: ${o.source} has a checksum for it, but the file is not there` }));
   }
   const report = assembleReport(
-    { tool: toolInfo(), profile: { name: loaded.profile.name, hash: loaded.hash }, startedAt, finishedAt: new Date().toISOString() },
+    { tool: toolInfo(), profile: { name: loaded.profile.name, hash: loaded.hash, limits: profileLimits(loaded.profile) }, startedAt, finishedAt: new Date().toISOString() },
     [...result.reports, ...problemReports],
   );
   // Images drawn only for the upload are not part of what the user asked to see.
-  const shown = temporaryImagesDir ? { ...report, files: report.files.map((f) => ({ ...f, spectrogram: null })) } : report;
+  const shown = temporaryImagesDir ? { ...report, files: report.files.map(withoutImages) } : report;
   const text = reportWriters[format](shown, { suites: junitSuitesOf(paths, crawl.rootDir, io.cwd), failOn: options.failOn });
   if (outAbs) await writeAtomically(outAbs, text);
   else io.stdout.write(text);

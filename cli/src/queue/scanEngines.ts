@@ -47,7 +47,7 @@ export async function createScanEngines(options: { concurrency: number; images: 
       if (checked.hash !== profile.hash) throw new Error(`the run's profile ${profile.name} hashes to ${checked.hash}, not ${profile.hash}`);
       // One folder per profile: two engines never write the same PNG path.
       const dirAbs = imageDir ? path.join(imageDir, profile.hash.slice(0, 16)) : null;
-      const context: ScanContext = { profile: checked.profile, settings: checked.settings, spectrograms: dirAbs ? { dirAbs, dirShown: "spectrograms" } : null, fingerprint: true };
+      const context: ScanContext = { profile: checked.profile, settings: checked.settings, spectrograms: dirAbs ? { dirAbs, dirShown: "spectrograms" } : null, fingerprint: true, closeups: true };
       const pool =
         options.concurrency === 1
           ? createInlineRunner(context)

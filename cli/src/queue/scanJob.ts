@@ -1,21 +1,25 @@
 /**
- * Measures one claimed job's file and packs what the server takes as its result: a one-file
- * "tidemark.report/1" report (the same contract as `scan --format json`) and the file's PNGs as
- * multipart parts named `0.png`, exactly as ingest takes a batch.
+ * Measures one claimed job's file and packs what the server takes as its result: a one-file report
+ * (the same contract as `scan --format json`) and the files beside it as multipart parts named exactly
+ * as ingest takes a batch (`0.png`, `0.json`, `0.<k>.png`, `0.<k>.wav`; upload/reportImages.ts).
  */
 import { readFile, rm, stat } from "node:fs/promises";
+import path from "node:path";
+import { profileLimits } from "@tidemark/shared/profiles/profileSettings";
 import { assembleReport } from "@tidemark/shared/report/assembleReport";
 import { reportToJson } from "@tidemark/shared/report/jsonReport";
 import type { ClaimedJobDto } from "@tidemark/shared/types/api";
 import type { ScanReport } from "@tidemark/shared/types/report";
 import { resolveLossyPath, type FsPath } from "../scan/rawPath.ts";
 import { spectrogramPaths } from "../scan/spectrogramPaths.ts";
+import type { PartField } from "../upload/ingestClient.ts";
+import { partsOfFile } from "../upload/reportImages.ts";
 import { toolInfo } from "../toolInfo.ts";
 import type { ScanEngine } from "./scanEngines.ts";
 
 export interface JobOutcome {
   report: ScanReport;
-  images: { field: "spectrogram" | "waveform"; bytes: Uint8Array }[];
+  images: { field: PartField; name: string; mediaType: string; bytes: Uint8Array }[];
   audioSeconds: number;
   /** A warning (PNGs not written); the measurements still stand. */
   imageError: string | null;
@@ -47,16 +51,17 @@ export async function scanJob(job: ClaimedJobDto, localPath: string, engine: Sca
   if (result.kind !== "analysed") throw new Error(`expected a measurement, got ${result.kind}`);
   const { file } = result;
   const report = assembleReport(
-    { tool: toolInfo(), profile: { name: engine.profile.profile.name, hash: engine.profile.hash }, startedAt, finishedAt: new Date().toISOString() },
+    { tool: toolInfo(), profile: { name: engine.profile.profile.name, hash: engine.profile.hash, limits: profileLimits(engine.profile.profile) }, startedAt, finishedAt: new Date().toISOString() },
     [file.report],
   );
 
   const target = engine.context.spectrograms;
   const paths = target ? spectrogramPaths(target, job.path) : null;
   const images: JobOutcome["images"] = [];
-  if (paths && file.report.spectrogram && !file.imageError) {
-    images.push({ field: "spectrogram", bytes: await readFile(paths.png) }, { field: "waveform", bytes: await readFile(paths.waveform) });
-  }
+  // The report shows paths under the target's dirShown; the files are under its dirAbs.
+  const absOf = (shown: string): string => (target ? path.join(target.dirAbs, ...shown.slice(target.dirShown.length + 1).split("/")) : shown);
+  const parts = paths && file.report.spectrogram && !file.imageError ? partsOfFile(file.report, 0) : [];
+  for (const part of parts) images.push({ field: part.field, name: part.name, mediaType: part.mediaType, bytes: await readFile(absOf(part.shown)) });
   return {
     report,
     images,
@@ -65,7 +70,8 @@ export async function scanJob(job: ClaimedJobDto, localPath: string, engine: Sca
     async cleanUp() {
       if (!paths) return;
       const channels = (file.report.format?.channels ?? 0) > 1 ? Array.from({ length: file.report.format!.channels }, (_, c) => paths.png.replace(/\.png$/, `.ch${c + 1}.png`)) : [];
-      await Promise.all([paths.png, paths.waveform, ...channels].map((p) => rm(p, { force: true })));
+      const written = partsOfFile(file.report, 0).map((p) => absOf(p.shown));
+      await Promise.all([...new Set([paths.png, paths.waveform, ...channels, ...written])].map((p) => rm(p, { force: true })));
     },
   };
 }
@@ -75,6 +81,6 @@ export function resultForm(job: ClaimedJobDto, worker: string, outcome: JobOutco
   form.append("attempt", String(job.attempt));
   form.append("worker", worker);
   form.append("report", new Blob([reportToJson(outcome.report)], { type: "application/json" }), "report.json");
-  for (const image of outcome.images) form.append(image.field, new Blob([image.bytes], { type: "image/png" }), "0.png");
+  for (const image of outcome.images) form.append(image.field, new Blob([image.bytes], { type: image.mediaType }), image.name);
   return form;
 }

@@ -12,7 +12,7 @@ import type { Profile } from "@tidemark/shared/profiles/profileSchema";
 import { renderSpectrogramImage } from "@tidemark/shared/render/spectrogramImage";
 import { renderWaveformImage } from "@tidemark/shared/render/waveformImage";
 import type { BlockAnalyser, RgbaImage } from "@tidemark/shared/types/analysis";
-import type { FileReport, Finding, ReportError } from "@tidemark/shared/types/report";
+import type { AudioFormat, FileReport, Finding, FindingCode, ReportError, Severity } from "@tidemark/shared/types/report";
 import type { AnalysisSettings } from "@tidemark/shared/types/settings";
 import { readerFindings } from "@tidemark/shared/wav/readerFindings";
 import { readAudioFile, type AudioFileResult } from "../audio/readAudioFile.ts";
@@ -21,6 +21,7 @@ import { oneLine } from "../errors.ts";
 import { errorReport } from "./errorReport.ts";
 import { displayPath, type FsPath } from "./rawPath.ts";
 import { spectrogramPaths, type SpectrogramTarget } from "./spectrogramPaths.ts";
+import { writeCloseups, type CloseupFields } from "./writeCloseups.ts";
 
 export interface ScanContext {
   profile: Profile;
@@ -28,6 +29,8 @@ export interface ScanContext {
   spectrograms: SpectrogramTarget | null;
   /** Compute the duplicate-detection fingerprint (the default; `scan --no-fingerprint` turns it off). */
   fingerprint: boolean;
+  /** Close-ups, level grid and loudness curve beside the PNGs (the default; `scan --no-closeups` turns them off). */
+  closeups: boolean;
 }
 
 export interface AnalyseTask {
@@ -64,6 +67,8 @@ export interface AnalyseTimings {
   level: number;
   spectral: number;
   fingerprint: number;
+  /** Keeping samples for close-ups and the loudness curve, within analyse. */
+  closeups: number;
   render: number;
   paint: number;
   png: number;
@@ -84,11 +89,13 @@ function reportErrorOf(error: unknown, task: AnalyseTask, fallbackCode: string):
 async function writeImages(
   analysed: FileAnalysisResult,
   findings: Finding[],
+  format: AudioFormat,
   target: SpectrogramTarget,
   task: AnalyseTask,
-  settings: AnalysisSettings,
+  ctx: ScanContext,
   timings: AnalyseTimings,
-): Promise<string> {
+): Promise<{ spectrogram: string; closeups: CloseupFields | null }> {
+  const settings = ctx.settings;
   const paths = spectrogramPaths(target, task.relPath);
   // Loaded on the first image only: Skia and fontkit cost a scan without images nothing.
   (await import("../render/fontTypesetter.ts")).installFontTypesetter();
@@ -112,7 +119,16 @@ async function writeImages(
       await writeFile(paths.png.replace(/\.png$/, `.ch${c + 1}.png`), png(() => renderSpectrogramImage(grid, { width, height, markers, title })));
     }
   }
-  return paths.shown;
+  const closeups = ctx.closeups
+    ? await writeCloseups({ analysed, findings, format, target, relPath: task.relPath, settings, waveformHeightPx: WAVEFORM_HEIGHT_PX, png })
+    : null;
+  return { spectrogram: paths.shown, closeups };
+}
+
+/** Candidates rank by the severity the profile will give their code (0: the profile turns it off). */
+function rankerFor(profile: Profile): (code: FindingCode, severity: Severity) => number {
+  const rank: Record<Severity | "off", number> = { off: 0, info: 1, warn: 2, fail: 3 };
+  return (code, severity) => rank[profile.severities[code] ?? severity];
 }
 
 /** `signal` stops the read mid-file; an aborted file rejects instead of being reported as unreadable. */
@@ -122,7 +138,7 @@ export async function analyseFile(
   signal?: AbortSignal,
   onRead?: (bytesRead: number) => void,
 ): Promise<AnalysedFile> {
-  const timingsMs: AnalyseTimings = { read: 0, decode: 0, hash: 0, analyse: 0, level: 0, spectral: 0, fingerprint: 0, render: 0, paint: 0, png: 0 };
+  const timingsMs: AnalyseTimings = { read: 0, decode: 0, hash: 0, analyse: 0, level: 0, spectral: 0, fingerprint: 0, closeups: 0, render: 0, paint: 0, png: 0 };
   let analysis: BlockAnalyser<FileAnalysisResult> | null = null;
   let analyseMs = 0;
   let read: AudioFileResult;
@@ -132,7 +148,12 @@ export async function analyseFile(
       onRead,
       digests: extraDigestsFor(task.expectedChecksums),
       onOpen: (info) => {
-        const a = createFileAnalysis(info.stream, ctx.settings, { clock: () => performance.now(), fingerprint: ctx.fingerprint });
+        const a = createFileAnalysis(info.stream, ctx.settings, {
+          clock: () => performance.now(),
+          fingerprint: ctx.fingerprint,
+          // Close-ups are drawn beside the PNGs, so without them there is nothing to keep samples for.
+          closeups: ctx.closeups && ctx.spectrograms ? { rankOf: rankerFor(ctx.profile) } : null,
+        });
         analysis = a;
         return (block) => {
           const t = performance.now();
@@ -162,6 +183,7 @@ export async function analyseFile(
   timingsMs.level = analysed.timings.level;
   timingsMs.spectral = analysed.timings.spectral;
   timingsMs.fingerprint = analysed.timings.fingerprint;
+  timingsMs.closeups = analysed.timings.closeups;
 
   const { format, metadata, layout } = read.info;
   const checksums = task.expectedChecksums?.length ? compareChecksums(task.expectedChecksums, new Map([...read.digests, ["sha256", read.sha256]])) : undefined;
@@ -169,11 +191,12 @@ export async function analyseFile(
   const judged = judge(ctx.profile, { format, metrics: analysed.metrics, findings, error: null, metadata });
 
   let spectrogram: string | null = null;
+  let closeups: CloseupFields | null = null;
   let imageError: string | null = null;
   if (ctx.spectrograms) {
     const t = performance.now();
     try {
-      spectrogram = await writeImages(analysed, judged.findings, ctx.spectrograms, task, ctx.settings, timingsMs);
+      ({ spectrogram, closeups } = await writeImages(analysed, judged.findings, format, ctx.spectrograms, task, ctx, timingsMs));
     } catch (error) {
       imageError = `${task.relPath}: spectrogram not written (${oneLine(error)})`;
     }
@@ -196,6 +219,7 @@ export async function analyseFile(
       // Absent, not null, when --no-fingerprint asked for none: null means the rate is out of range.
       ...(ctx.fingerprint ? { fingerprint: analysed.fingerprint } : {}),
       ...(checksums ? { checksums } : {}),
+      ...(closeups ?? {}),
     },
     audioSeconds: format.durationSeconds,
     imageError,

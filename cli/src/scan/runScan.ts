@@ -69,6 +69,8 @@ async function reusable(record: ResumeRecord | undefined, file: CrawledFile, con
   if (context.fingerprint && record.report.fingerprint === undefined && record.report.error === null) return false;
   if (context.spectrograms) {
     if (!record.report.spectrogram) return false;
+    // Close-ups asked for now but not then (or the other way round): measure again.
+    if (context.closeups !== (record.report.closeups !== undefined) && record.report.error === null) return false;
     if (!(await exists(spectrogramPaths(context.spectrograms, file.relPath).png))) return false;
   }
   return true;

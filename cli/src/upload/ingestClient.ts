@@ -1,15 +1,23 @@
 /**
  * Sends one batch to the server: `POST {server}/api/ingest`, multipart/form-data with the text fields
- * `collection` and `batchKey`, the JSON report as file part `report`, and PNG parts `spectrogram` /
- * `waveform` named `<n>.png` (n = index of the file in report.files). Retries network errors and 5xx with
+ * `collection` and `batchKey`, the JSON report as file part `report`, and the files it points at
+ * (reportImages.ts names them: `spectrogram` / `waveform` `<n>.png`, and per CONTRACT-16 `levelGrid` /
+ * `loudnessCurve` `<n>.json`, `closeupSpectrogram` / `closeupWaveform` `<n>.<k>.png`, `excerpt` `<n>.<k>.wav`). Retries network errors and 5xx with
  * exponential backoff (bounded); a 4xx is final and carries the server's `{error:{code,message}}`.
  */
 import type { ApiErrorBody, IngestResultDto } from "@tidemark/shared/types/api";
 
+export type PartField = "spectrogram" | "waveform" | "levelGrid" | "loudnessCurve" | "closeupSpectrogram" | "closeupWaveform" | "excerpt";
+
+/** One file sent beside the report (named for ingest by reportImages.ts). */
 export interface ImagePart {
-  field: "spectrogram" | "waveform";
+  field: PartField;
   fileIndex: number;
   bytes: Uint8Array;
+  /** The part's file name, e.g. `3.png`, `3.0.wav`; `<fileIndex>.png` when absent. */
+  name?: string;
+  /** `image/png` when absent. */
+  mediaType?: string;
 }
 
 export interface IngestBatch {
@@ -61,7 +69,7 @@ function formFor(batch: IngestBatch): FormData {
   form.append("batchKey", batch.batchKey);
   form.append("report", new Blob([batch.reportJson], { type: "application/json" }), "report.json");
   for (const image of batch.images) {
-    form.append(image.field, new Blob([image.bytes], { type: "image/png" }), `${image.fileIndex}.png`);
+    form.append(image.field, new Blob([image.bytes], { type: image.mediaType ?? "image/png" }), image.name ?? `${image.fileIndex}.png`);
   }
   return form;
 }

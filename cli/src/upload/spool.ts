@@ -21,7 +21,8 @@ interface SpoolManifest {
   collection: string;
   batchKey: string;
   spooledAt: string;
-  images: { field: ImagePart["field"]; fileIndex: number; file: string }[];
+  /** `name` and `mediaType` are absent in batches spooled before close-ups (PNG parts `<n>.png`). */
+  images: { field: ImagePart["field"]; fileIndex: number; file: string; name?: string; mediaType?: string }[];
 }
 
 const safeName = (s: string): string => s.replace(/[^A-Za-z0-9._-]+/g, "_").slice(0, 64);
@@ -31,7 +32,12 @@ export async function spoolBatch(spoolRoot: string, server: string, batch: Inges
   const name = `${now.toISOString().replace(/[:.]/g, "-")}-${safeName(batch.batchKey)}`;
   const temp = path.join(spoolRoot, `.incoming-${name}-${process.pid}`);
   await mkdir(temp, { recursive: true });
-  const images = batch.images.map((image) => ({ field: image.field, fileIndex: image.fileIndex, file: `${image.field}-${image.fileIndex}.png` }));
+  // A named part (close-ups: several a file and field) is stored under its field and name, which are unique.
+  const images = batch.images.map((image) =>
+    image.name
+      ? { field: image.field, fileIndex: image.fileIndex, file: `${image.field}-${safeName(image.name)}`, name: image.name, ...(image.mediaType ? { mediaType: image.mediaType } : {}) }
+      : { field: image.field, fileIndex: image.fileIndex, file: `${image.field}-${image.fileIndex}.png` },
+  );
   for (const [i, image] of batch.images.entries()) await writeFile(path.join(temp, images[i].file), image.bytes);
   await writeFile(path.join(temp, "report.json"), batch.reportJson);
   const manifest: SpoolManifest = {
@@ -66,7 +72,13 @@ export async function loadSpooled(dir: string): Promise<SpooledBatch> {
   if (manifest.kind !== "tidemark.spool/1") throw new Error(`${dir}: not a spooled tidemark batch`);
   const images: ImagePart[] = [];
   for (const image of manifest.images) {
-    images.push({ field: image.field, fileIndex: image.fileIndex, bytes: await readFile(path.join(dir, image.file)) });
+    images.push({
+      field: image.field,
+      fileIndex: image.fileIndex,
+      bytes: await readFile(path.join(dir, image.file)),
+      ...(image.name ? { name: image.name } : {}),
+      ...(image.mediaType ? { mediaType: image.mediaType } : {}),
+    });
   }
   return {
     dir,

@@ -65,8 +65,14 @@ export interface ClickDetector {
   finish(): { findings: Finding[]; counts: number[] };
 }
 
-export function createClickDetector(sampleRateHz: number, channels: number, settings: Pick<AnalysisSettings, "clickThresholdDb">): ClickDetector {
-  return new ArResidualClickDetector(sampleRateHz, channels, settings.clickThresholdDb);
+/** `onCandidate` hears of each click as it is found, before the findings are made at the end (close-ups keep its samples). */
+export function createClickDetector(
+  sampleRateHz: number,
+  channels: number,
+  settings: Pick<AnalysisSettings, "clickThresholdDb">,
+  onCandidate: ((startFrame: number, endFrame: number) => void) | null = null,
+): ClickDetector {
+  return new ArResidualClickDetector(sampleRateHz, channels, settings.clickThresholdDb, onCandidate);
 }
 
 class ArResidualClickDetector implements ClickDetector {
@@ -107,6 +113,7 @@ class ArResidualClickDetector implements ClickDetector {
     private readonly sampleRateHz: number,
     private readonly channels: number,
     thresholdDb: number,
+    private readonly onCandidate: ((startFrame: number, endFrame: number) => void) | null = null,
   ) {
     this.blockFrames = Math.max(4 * this.p, Math.round(BLOCK_SECONDS * sampleRateHz));
     this.maxClickFrames = Math.max(1, Math.round(CLICK_MAX_SECONDS * sampleRateHz));
@@ -266,7 +273,10 @@ class ArResidualClickDetector implements ClickDetector {
     if (after > this.stepRatio * before || before > this.stepRatio * after) return;
     this.lastEnd[c] = frameEnd;
     this.counts[c]++;
-    if (k.length < MAX_KEPT) k.push({ channel: c, startFrame: frameStart, endFrame: frameEnd, prominenceDb: 20 * Math.log10(peak / sigma) });
+    if (k.length < MAX_KEPT) {
+      k.push({ channel: c, startFrame: frameStart, endFrame: frameEnd, prominenceDb: 20 * Math.log10(peak / sigma) });
+      this.onCandidate?.(frameStart, frameEnd);
+    }
   }
 
   /** The AR fit (clipped, Hann-windowed autocorrelation) and the residual |e| into `residual`; returns σ. */

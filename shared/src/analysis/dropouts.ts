@@ -70,6 +70,8 @@ export function createDropoutDetector(
   channels: number,
   settings: Pick<AnalysisSettings, "dropoutMinSeconds" | "silenceMinSeconds" | "silenceThresholdDbfs">,
   onFinding: (f: Finding) => void,
+  /** Told of each run that may become a finding once the file is judged at the end (close-ups keep its samples). */
+  onCandidate: ((startFrame: number, endFrame: number) => void) | null = null,
 ): DropoutDetector {
   const minFrames = Math.max(1, Math.round(settings.dropoutMinSeconds * sampleRateHz));
   const maxFrames = Math.max(minFrames, Math.round(settings.silenceMinSeconds * sampleRateHz));
@@ -227,8 +229,10 @@ export function createDropoutDetector(
         k.beforePower = ring[(k.beforeWindow % ringSize) * channels + k.channel];
         k.afterPower = w.sumSquares[k.channel] / w.frames;
         if (k.beforePower < thresholdPower || k.afterPower < thresholdPower) continue;
-        if (decided.length < MAX_CANDIDATES) decided.push(k);
-        else {
+        if (decided.length < MAX_CANDIDATES) {
+          decided.push(k);
+          onCandidate?.(k.startFrame, k.endFrame);
+        } else {
           if (overflow === 0) overflowFirst = k.startFrame;
           overflow++;
           overflowLast = k.endFrame;

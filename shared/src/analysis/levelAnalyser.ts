@@ -17,8 +17,8 @@ import { clipRegionFinding, createClipDetector, nearClipFinding } from "./clippi
 import { amplitudeToDb, dbOrNull } from "./decibels.ts";
 import { createDropoutDetector } from "./dropouts.ts";
 import { FindingCollector } from "./findings.ts";
-import { createLevelWindows } from "./levelWindows.ts";
-import { createLoudnessMeter, loudnessChannelWeights } from "./loudness.ts";
+import { createLevelWindows, type LevelWindow } from "./levelWindows.ts";
+import { createLoudnessMeter, loudnessChannelWeights, type LoudnessHopListener } from "./loudness.ts";
 import { createNoiseFloorEstimator } from "./noiseFloor.ts";
 import { createSilenceDetector } from "./silence.ts";
 import { lfeChannelIndex } from "./speakers.ts";
@@ -27,28 +27,51 @@ import { createStuckSampleDetector } from "./stuckSamples.ts";
 import { createTruePeakMeter } from "./truePeak.ts";
 import { createValueRunTracker } from "./valueRuns.ts";
 
-export function createLevelAnalyser(format: StreamFormat, settings: AnalysisSettings): BlockAnalyser<LevelAnalysisResult> {
+/** Optional observers for what is learnt during the pass (close-ups and the loudness curve, issue #16). */
+export interface LevelAnalyserHooks {
+  /** Momentary and short-term power at every loudness hop (loudness.ts), the values its maxima come from. */
+  onLoudnessHop?: LoudnessHopListener;
+  /** Each finding as it is raised during the pass (before the per-code bound of FindingCollector). */
+  onFinding?: (f: Finding) => void;
+  /** An event a detector will only judge at the end (a dropout, a click), as soon as it is seen (frames). */
+  onCandidate?: (code: "dropout" | "click", startFrame: number, endFrame: number) => void;
+  /** A silent run long enough to be a finding, as it grows (frames). */
+  onSilentRun?: (startFrame: number, endFrame: number) => void;
+  /** Each 50 ms level window (per-channel peaks and where they are), read during the call only. */
+  onLevelWindow?: (w: LevelWindow) => void;
+}
+
+export function createLevelAnalyser(format: StreamFormat, settings: AnalysisSettings, hooks: LevelAnalyserHooks = {}): BlockAnalyser<LevelAnalysisResult> {
   validateFormat(format);
   const { sampleRateHz, channels } = format;
   const findings = new FindingCollector();
-  const add = (f: Finding) => findings.add(f);
+  const onFinding = hooks.onFinding;
+  const add = onFinding
+    ? (f: Finding) => {
+        onFinding(f);
+        findings.add(f);
+      }
+    : (f: Finding) => findings.add(f);
 
-  const loudness = createLoudnessMeter(sampleRateHz, channels, loudnessChannelWeights(channels, format.channelMask));
+  const loudness = createLoudnessMeter(sampleRateHz, channels, loudnessChannelWeights(channels, format.channelMask), hooks.onLoudnessHop ?? null);
   const truePeak = createTruePeakMeter(sampleRateHz, channels);
   const clipping = createClipDetector(format, settings, (region) => add(clipRegionFinding(region, sampleRateHz)));
   const bitDepth = createBitDepthMeter(format);
-  const clicks = createClickDetector(sampleRateHz, channels, settings);
+  const onCandidate = hooks.onCandidate;
+  const clicks = createClickDetector(sampleRateHz, channels, settings, onCandidate ? (s, e) => onCandidate("click", s, e) : null);
   const totals = createChannelLevelTotals(channels);
-  const silence = createSilenceDetector(sampleRateHz, channels, settings, lfeChannelIndex(channels, format.channelMask));
+  const silence = createSilenceDetector(sampleRateHz, channels, settings, lfeChannelIndex(channels, format.channelMask), hooks.onSilentRun ?? null);
   const noiseFloor = createNoiseFloorEstimator(channels);
-  const dropouts = createDropoutDetector(sampleRateHz, channels, settings, add);
+  const dropouts = createDropoutDetector(sampleRateHz, channels, settings, add, onCandidate ? (s, e) => onCandidate("dropout", s, e) : null);
   const stuck = createStuckSampleDetector(format, settings, add);
   const runs = createValueRunTracker(channels, Math.min(dropouts.minFrames, stuck.minFrames), (run) => {
     if (run.value === 0) dropouts.addRun(run);
     else stuck.addRun(run);
   });
   const stereo = channels >= 2 ? createStereoAnalyser(sampleRateHz, settings) : null;
+  const onLevelWindow = hooks.onLevelWindow;
   const windows = createLevelWindows(sampleRateHz, channels, (w) => {
+    onLevelWindow?.(w);
     totals.add(w);
     silence.add(w);
     noiseFloor.add(w);

@@ -28,8 +28,9 @@ export function createSilenceDetector(
   channels: number,
   settings: Pick<AnalysisSettings, "silenceThresholdDbfs" | "silenceMinSeconds"> & Partial<Pick<AnalysisSettings, "deadChannelIncludesLfe">>,
   lfeChannel: number | null = null,
+  onSilentRun: ((startFrame: number, endFrame: number) => void) | null = null,
 ): SilenceDetector {
-  return new WindowSilenceDetector(sampleRateHz, channels, settings, settings.deadChannelIncludesLfe === true ? null : lfeChannel);
+  return new WindowSilenceDetector(sampleRateHz, channels, settings, settings.deadChannelIncludesLfe === true ? null : lfeChannel, onSilentRun);
 }
 
 class WindowSilenceDetector implements SilenceDetector {
@@ -47,6 +48,8 @@ class WindowSilenceDetector implements SilenceDetector {
     private readonly settings: Pick<AnalysisSettings, "silenceThresholdDbfs" | "silenceMinSeconds">,
     /** Channel exempt from the dead-channel check (the LFE), or null. */
     private readonly exemptChannel: number | null,
+    /** Told, window by window, of a silent run once it is long enough to be a finding (close-ups keep its samples). */
+    private readonly onSilentRun: ((startFrame: number, endFrame: number) => void) | null,
   ) {
     this.channelHasSignal = new Array<boolean>(channels).fill(false);
     this.thresholdPower = dbToPower(settings.silenceThresholdDbfs);
@@ -63,6 +66,8 @@ class WindowSilenceDetector implements SilenceDetector {
     }
     if (isSilent) {
       if (this.silentFrom === null) this.silentFrom = w.startFrame;
+      const end = w.startFrame + w.frames;
+      if (this.onSilentRun && end - this.silentFrom >= this.minFrames) this.onSilentRun(this.silentFrom, end);
       return;
     }
     if (this.firstSignalFrame === null) this.firstSignalFrame = w.startFrame;

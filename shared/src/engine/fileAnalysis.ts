@@ -4,13 +4,15 @@
  * their results into the report's FileMetrics (in the contract's field order) and one sorted finding list.
  * With a clock (shared/ has no timer of its own), the time each analyser took is measured per block.
  */
-import { createLevelAnalyser } from "../analysis/levelAnalyser.ts";
+import { createLevelAnalyser, type LevelAnalyserHooks } from "../analysis/levelAnalyser.ts";
+import { createCloseupCapture, type CapturedSegment, type CloseupCapture } from "../closeups/closeupCapture.ts";
+import { createLoudnessCurveAccumulator, type LoudnessCurve, type LoudnessCurveAccumulator } from "../closeups/loudnessCurve.ts";
 import { encodeFingerprint } from "../fingerprint/codec.ts";
 import { canFingerprint, createFingerprinter } from "../fingerprint/fingerprinter.ts";
 import { compareFindings } from "../profiles/judge.ts";
 import { createSpectralAnalyser } from "../spectral/spectralAnalyser.ts";
 import type { AudioBlock, BlockAnalyser, SpectrogramGrid, StreamFormat, WaveformEnvelope } from "../types/analysis.ts";
-import type { FileMetrics, Finding } from "../types/report.ts";
+import type { FileMetrics, Finding, FindingCode, Severity } from "../types/report.ts";
 import type { AnalysisSettings } from "../types/settings.ts";
 
 export interface FileAnalysisResult {
@@ -21,8 +23,12 @@ export interface FileAnalysisResult {
   waveform: WaveformEnvelope;
   /** Encoded fingerprint for the report; null when the rate is outside what the fingerprinter takes. */
   fingerprint: string | null;
-  /** Time in each analyser, push and finish, in the clock's unit (0 without a clock). */
-  timings: { level: number; spectral: number; fingerprint: number };
+  /** Samples kept around candidate events for close-ups (issue #16); null with close-ups off. */
+  closeupSegments: CapturedSegment[] | null;
+  /** The whole file's loudness curve; null with close-ups off. */
+  loudnessCurve: LoudnessCurve | null;
+  /** Time in each analyser, push and finish, in the clock's unit (0 without a clock); `closeups` is the capture and the curve. */
+  timings: { level: number; spectral: number; fingerprint: number; closeups: number };
 }
 
 export interface FileAnalysisOptions {
@@ -30,16 +36,60 @@ export interface FileAnalysisOptions {
   clock?: () => number;
   /** Compute the fingerprint (default true): `tidemark scan --no-fingerprint` skips it. */
   fingerprint?: boolean;
+  /**
+   * Keep samples for close-ups and build the loudness curve (issue #16); absent or null = off
+   * (`--no-closeups`). `rankOf` ranks a candidate by the severity the profile will give its code (0 = off).
+   */
+  closeups?: { rankOf(code: FindingCode, severity: Severity): number } | null;
 }
 
 export function createFileAnalysis(format: StreamFormat, settings: AnalysisSettings, options: FileAnalysisOptions = {}): BlockAnalyser<FileAnalysisResult> {
-  const level = createLevelAnalyser(format, settings);
+  let capture: CloseupCapture | null = null;
+  let curve: LoudnessCurveAccumulator | null = null;
+  const hooks: LevelAnalyserHooks = {};
+  const closeups = options.closeups;
+  if (closeups) {
+    const rate = format.sampleRateHz;
+    capture = createCloseupCapture({
+      sampleRateHz: rate,
+      channels: format.channels,
+      settings: settings.closeups,
+      silenceMinSeconds: settings.silenceMinSeconds,
+      peakTrigger: { amplitude: 10 ** (settings.nearClipDbfs / 20), rank: closeups.rankOf("near-clip", "warn") },
+    });
+    curve = createLoudnessCurveAccumulator(format);
+    const c = capture;
+    const silenceRank = Math.max(closeups.rankOf("silent-gap", "warn"), closeups.rankOf("lead-silence", "info"), closeups.rankOf("tail-silence", "info"));
+    hooks.onLoudnessHop = curve.onHop;
+    hooks.onFinding = (f) => {
+      if (f.startSeconds !== null) c.candidate(f.startSeconds * rate, (f.endSeconds ?? f.startSeconds) * rate, closeups.rankOf(f.code, f.severity));
+    };
+    hooks.onSilentRun = (start, end) => c.candidate(start, end, silenceRank);
+    // Detectors that judge at the end (dropouts against the file's noise floor, clicks) name their events early.
+    const dropoutRank = closeups.rankOf("dropout", "fail");
+    const clickRank = closeups.rankOf("click", "warn");
+    hooks.onCandidate = (code, start, end) => c.candidate(start, end, code === "dropout" ? dropoutRank : clickRank);
+    const k = curve;
+    hooks.onLevelWindow = (w) => {
+      for (let ch = 0; ch < w.peakAbs.length; ch++) {
+        k.peak(ch, w.peakAbs[ch], w.peakFrame[ch]);
+        c.peak(ch, w.peakAbs[ch], w.peakFrame[ch]);
+      }
+    };
+  }
+  const level = createLevelAnalyser(format, settings, hooks);
   const spectral = createSpectralAnalyser(format, settings);
   const fingerprinter = options.fingerprint !== false && canFingerprint(format) ? createFingerprinter(format) : null;
   const clock = options.clock;
-  const timings = { level: 0, spectral: 0, fingerprint: 0 };
+  const timings = { level: 0, spectral: 0, fingerprint: 0, closeups: 0 };
   return {
     push(block: AudioBlock): void {
+      // Before the level analyser: the candidates it raises are cut from the ring, which must hold this block.
+      if (capture) {
+        const tc = clock?.() ?? 0;
+        capture.push(block);
+        if (clock) timings.closeups += clock() - tc;
+      }
       if (!clock) {
         level.push(block);
         spectral.push(block);
@@ -90,7 +140,21 @@ export function createFileAnalysis(format: StreamFormat, settings: AnalysisSetti
         channels: m.channels,
       };
       const findings = [...l.findings, ...s.findings].sort(compareFindings);
-      return { metrics, findings, spectrogram: s.spectrogram, channelSpectrograms: s.channelSpectrograms, waveform: s.waveform, fingerprint, timings };
+      const t3 = capture && clock ? clock() : 0;
+      const closeupSegments = capture?.finish() ?? null;
+      const loudnessCurve = curve?.finish() ?? null;
+      if (capture && clock) timings.closeups += clock() - t3;
+      return {
+        metrics,
+        findings,
+        spectrogram: s.spectrogram,
+        channelSpectrograms: s.channelSpectrograms,
+        waveform: s.waveform,
+        fingerprint,
+        closeupSegments,
+        loudnessCurve,
+        timings,
+      };
     },
   };
 }

@@ -86,6 +86,15 @@ export const settingsOverrideSchema = z.strictObject({
       perChannel: z.boolean().optional(),
     })
     .optional(),
+  closeups: z
+    .strictObject({
+      cap: z.number().int().min(0).max(1000).optional(),
+      beforeSeconds: z.number().min(0).max(30).optional(),
+      afterSeconds: z.number().min(0).max(30).optional(),
+      maxSeconds: z.number().min(0.1).max(30).optional(),
+      budgetBytes: z.number().int().min(0).max(2_000_000_000).optional(),
+    })
+    .optional(),
 });
 
 const metadataFieldSchema = z

@@ -1,9 +1,9 @@
-/** Builds the "tidemark.report/1" document from file results: stable file order and the verdict summary. */
-import { REPORT_SCHEMA_ID, type FileReport, type ReportSummary, type ScanReport } from "../types/report.ts";
+/** Builds the report document (REPORT_SCHEMA_ID) from file results: stable file order and the verdict summary. */
+import { REPORT_SCHEMA_ID, type FileReport, type ProfileLimits, type ReportSummary, type ScanReport } from "../types/report.ts";
 
 export interface ReportHeader {
   tool: { name: string; version: string };
-  profile: { name: string; hash?: string };
+  profile: { name: string; hash?: string; limits?: ProfileLimits };
   startedAt: string;
   finishedAt: string;
 }

@@ -3,7 +3,7 @@
  * scripts/generate-report-schema.ts writes it to shared/schema/report.schema.json; a test keeps them in sync.
  */
 import { z } from "zod";
-import { scanReportSchema } from "../types/report.ts";
+import { REPORT_SCHEMA_ID, scanReportSchema } from "../types/report.ts";
 
 export const REPORT_JSON_SCHEMA_ID = "https://tidemark.invalid/schema/report.schema.json";
 
@@ -12,7 +12,7 @@ export function reportJsonSchema(): Record<string, unknown> {
   return {
     ...generated,
     $id: REPORT_JSON_SCHEMA_ID,
-    title: "Tidemark scan report (tidemark.report/1)",
+    title: `Tidemark scan report (${REPORT_SCHEMA_ID}; also accepts tidemark.report/1)`,
     description: "Output of `tidemark scan --format json`. Generated from shared/src/types/report.ts; do not edit by hand.",
   };
 }

@@ -3,7 +3,10 @@
  * the schema library. report.ts builds its schema from these and re-exports them.
  */
 
-export const REPORT_SCHEMA_ID = "tidemark.report/1" as const;
+/** The id new reports carry. */
+export const REPORT_SCHEMA_ID = "tidemark.report/2" as const;
+/** Ids a report may carry and still load: /1 lacks the close-up fields and profile limits of /2 (issue #16). */
+export const REPORT_SCHEMA_IDS = ["tidemark.report/1", REPORT_SCHEMA_ID] as const;
 
 export const VERDICTS = ["pass", "warn", "fail", "error"] as const;
 export const SEVERITIES = ["info", "warn", "fail"] as const;

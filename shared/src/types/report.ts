@@ -1,13 +1,13 @@
 /**
- * The report contract of `tidemark scan --format json` ("tidemark.report/1"), as one zod schema.
+ * The report contract of `tidemark scan --format json` ("tidemark.report/2", and still "tidemark.report/1"), as one zod schema.
  * CLI, server (ingest validation) and portal read the types inferred here; the shipped JSON Schema
  * (shared/schema/report.schema.json) is generated from it. Change it only through an issue.
  * Quiet values (−Infinity dB) are written as null, hence the nullable dB fields.
  */
 import { z } from "zod";
-import { CONTAINERS, ENCODINGS, FINDING_CODES, SEVERITIES, VERDICTS } from "./codes.ts";
+import { CONTAINERS, ENCODINGS, FINDING_CODES, REPORT_SCHEMA_IDS, SEVERITIES, VERDICTS } from "./codes.ts";
 
-export { CONTAINERS, ENCODINGS, FINDING_CODES, REPORT_SCHEMA_ID, SEVERITIES, VERDICTS } from "./codes.ts";
+export { CONTAINERS, ENCODINGS, FINDING_CODES, REPORT_SCHEMA_ID, REPORT_SCHEMA_IDS, SEVERITIES, VERDICTS } from "./codes.ts";
 export type { FindingCode, Severity, Verdict } from "./codes.ts";
 
 const db = z.number().nullable();
@@ -127,30 +127,28 @@ export const checksumCheckSchema = z.object({
   matches: z.boolean(),
 });
 
-/** A detailed window around one or more findings (issue #16). */
+/**
+ * One close-up (issue #16): a window around one or more findings, drawn at ≤ 10 ms a pixel column, with
+ * a lossless excerpt of the same samples. Paths follow the same base rules as `spectrogram`.
+ */
 export const closeupSchema = z.object({
   /** Indexes into this file's findings[]. */
-  findings: z.array(z.number().int().min(0)),
-  startSeconds: z.number(),
-  endSeconds: z.number(),
+  findings: z.array(z.number().int().min(0)).min(1),
+  startSeconds: z.number().min(0),
+  endSeconds: z.number().min(0),
   secondsPerColumn: z.number().positive().max(0.01),
-  /** PNG paths, same base rules as `spectrogram`. */
-  spectrogram: z.string(),
-  waveform: z.string(),
-  /** Path of the .flac or .wav excerpt, or null. */
-  excerpt: z.string().nullable(),
+  spectrogram: z.string().min(1),
+  waveform: z.string().min(1),
+  excerpt: z.string().min(1).nullable(),
   excerptMediaType: z.enum(["audio/flac", "audio/wav"]).nullable(),
-  excerptSampleRateHz: z.number().nullable(),
+  excerptSampleRateHz: z.number().int().positive().nullable(),
 });
+
+export const CLOSEUP_OMISSION_REASONS = ["cap", "budget", "not-timed"] as const;
 
 export const closeupOmittedSchema = z.object({
   finding: z.number().int().min(0),
-  reason: z.enum(["cap", "budget", "not-timed"]),
-});
-
-export const profileLimitsSchema = z.object({
-  integratedLufs: z.object({ target: z.number(), warnToleranceLu: z.number(), failToleranceLu: z.number() }).nullable(),
-  truePeakMaxDbtp: z.number().nullable(),
+  reason: z.enum(CLOSEUP_OMISSION_REASONS),
 });
 
 export const fileReportSchema = z.object({
@@ -179,11 +177,12 @@ export const fileReportSchema = z.object({
   fingerprint: z.string().max(MAX_FINGERPRINT_CHARS).regex(/^[A-Za-z0-9+/]*={0,2}$/).nullable().optional(),
   /** Checksum sidecars and --checksums lines checked against this file; absent when there were none. */
   checksums: z.array(checksumCheckSchema).optional(),
-  /** Path of the level-grid JSON ("tidemark.level-grid/1"), or null; absent in /1 reports and with --no-closeups. */
+  /** Path of the overview spectrogram's level grid JSON ("tidemark.level-grid/1"); absent in /1 reports and with --no-closeups. */
   levelGrid: z.string().nullable().optional(),
-  /** Path of the loudness-curve JSON ("tidemark.loudness-curve/1"), or null. */
+  /** Path of the loudness curve JSON ("tidemark.loudness-curve/1"); absent in /1 reports and with --no-closeups. */
   loudnessCurve: z.string().nullable().optional(),
   closeups: z.array(closeupSchema).optional(),
+  /** Findings that got no close-up, and why. */
   closeupsOmitted: z.array(closeupOmittedSchema).optional(),
 });
 
@@ -195,8 +194,16 @@ export const reportSummarySchema = z.object({
   error: z.number().int().min(0),
 });
 
+/** The judging profile's loudness and true-peak limits, for charts (null where the profile sets none). */
+export const profileLimitsSchema = z.object({
+  integratedLufs: z
+    .object({ target: z.number(), warnToleranceLu: z.number().min(0), failToleranceLu: z.number().min(0) })
+    .nullable(),
+  truePeakMaxDbtp: z.number().nullable(),
+});
+
 export const scanReportSchema = z.object({
-  schema: z.enum(["tidemark.report/1", "tidemark.report/2"]),
+  schema: z.enum(REPORT_SCHEMA_IDS),
   tool: z.object({ name: z.string(), version: z.string() }),
   profile: z.object({ name: z.string(), hash: z.string().optional(), limits: profileLimitsSchema.optional() }),
   startedAt: z.iso.datetime(),
@@ -222,4 +229,5 @@ export type ReportSummary = z.infer<typeof reportSummarySchema>;
 export type ScanReport = z.infer<typeof scanReportSchema>;
 export type Closeup = z.infer<typeof closeupSchema>;
 export type CloseupOmitted = z.infer<typeof closeupOmittedSchema>;
+export type CloseupOmissionReason = (typeof CLOSEUP_OMISSION_REASONS)[number];
 export type ProfileLimits = z.infer<typeof profileLimitsSchema>;

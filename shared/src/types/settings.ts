@@ -48,6 +48,23 @@ export interface AnalysisSettings {
     aggregate: "max" | "mean";
     perChannel: boolean;
   };
+  /** Close-ups around findings (issue #16); `tidemark scan --no-closeups` turns them off. */
+  closeups: CloseupSettings;
+}
+
+export interface CloseupSettings {
+  /** At most this many close-ups a file, most severe findings first (20). */
+  cap: number;
+  /** Window before a finding's start and after its end, s (2 and 2). */
+  beforeSeconds: number;
+  afterSeconds: number;
+  /** Longest window, s (30): a longer finding shows its first 30 s. */
+  maxSeconds: number;
+  /**
+   * Per-file budget, bytes (20 MB): bounds both the samples kept in memory during the pass and the
+   * close-up files written (excerpts plus images, estimated before they are written).
+   */
+  budgetBytes: number;
 }
 
 export const DEFAULT_ANALYSIS_SETTINGS: AnalysisSettings = {
@@ -68,4 +85,5 @@ export const DEFAULT_ANALYSIS_SETTINGS: AnalysisSettings = {
   bandwidthThresholdDb: 40,
   humProminenceDb: 12,
   spectrogram: { width: 1600, height: 600, frequencyScale: "log", aggregate: "max", perChannel: false },
+  closeups: { cap: 20, beforeSeconds: 2, afterSeconds: 2, maxSeconds: 30, budgetBytes: 20_000_000 },
 };

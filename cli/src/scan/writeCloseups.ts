@@ -1,0 +1,114 @@
+/**
+ * Writes a file's review artefacts beside its PNGs (issue #16): the overview's level grid, the loudness
+ * curve, and per close-up a detailed spectrogram, a waveform strip and a WAV excerpt, cut from the
+ * samples the single pass kept (shared/src/closeups). Returns the report's fields for them.
+ */
+import { writeFile } from "node:fs/promises";
+import type { FileAnalysisResult } from "@tidemark/shared/engine/fileAnalysis";
+import { formatTimestamp } from "@tidemark/shared/analysis/findings";
+import { closeupColumns, closeupSpectrogramGrid, closeupWaveform } from "@tidemark/shared/closeups/closeupImages";
+import { selectCloseups } from "@tidemark/shared/closeups/closeupSelection";
+import { levelGridJson } from "@tidemark/shared/closeups/levelGrid";
+import { encodeWavExcerpt, excerptFormatFor } from "@tidemark/shared/closeups/wavExcerpt";
+import { SPECTROGRAM_MARGINS, WAVEFORM_MARGINS } from "@tidemark/shared/render/layout";
+import { renderSpectrogramImage } from "@tidemark/shared/render/spectrogramImage";
+import { renderWaveformImage } from "@tidemark/shared/render/waveformImage";
+import type { RgbaImage } from "@tidemark/shared/types/analysis";
+import type { AudioFormat, Closeup, FileReport, Finding } from "@tidemark/shared/types/report";
+import type { AnalysisSettings } from "@tidemark/shared/types/settings";
+import { artefactPaths, type SpectrogramTarget } from "./spectrogramPaths.ts";
+
+export type CloseupFields = Required<Pick<FileReport, "levelGrid" | "loudnessCurve" | "closeups" | "closeupsOmitted">>;
+
+export async function writeCloseups(o: {
+  analysed: FileAnalysisResult;
+  findings: Finding[];
+  format: AudioFormat;
+  target: SpectrogramTarget;
+  relPath: string;
+  settings: AnalysisSettings;
+  waveformHeightPx: number;
+  /** Paints and encodes one PNG, timing it. */
+  png(paint: () => RgbaImage): Buffer;
+}): Promise<CloseupFields> {
+  const { analysed, findings, format, target, relPath, settings } = o;
+  const paths = artefactPaths(target, relPath);
+  const rate = format.sampleRateHz;
+
+  await writeFile(paths.abs(".levels.json"), JSON.stringify(levelGridJson(analysed.spectrogram)));
+  let loudnessCurve: string | null = null;
+  if (analysed.loudnessCurve) {
+    await writeFile(paths.abs(".loudness.json"), JSON.stringify(analysed.loudnessCurve));
+    loudnessCurve = paths.shown(".loudness.json");
+  }
+
+  const excerptFormat = excerptFormatFor(format);
+  const selection = selectCloseups({
+    findings,
+    segments: analysed.closeupSegments ?? [],
+    settings: settings.closeups,
+    sampleRateHz: rate,
+    totalFrames: Math.round(format.durationSeconds * rate),
+    excerptBytesPerSample: excerptFormat ? excerptFormat.bitDepth / 8 : 0,
+  });
+
+  const closeups: Closeup[] = [];
+  for (const [k, plan] of selection.plans.entries()) {
+    const frames = plan.endFrame - plan.startFrame;
+    const startSeconds = plan.startFrame / rate;
+    const { columns, secondsPerColumn } = closeupColumns(frames, rate);
+    // Markers in the window's own time: the plot's axis runs from its start.
+    const markers = plan.findings.map((i) => shift(findings[i], startSeconds));
+    // The file is named on the page around it; a narrow close-up has room for its times only.
+    const title = `${formatTimestamp(startSeconds)} to ${formatTimestamp(plan.endFrame / rate)}`;
+    const suffix = `.closeup-${k + 1}`;
+    const spectrogramWidth = columns + SPECTROGRAM_MARGINS.leftPx + SPECTROGRAM_MARGINS.rightPx;
+    const waveformWidth = columns + WAVEFORM_MARGINS.leftPx + WAVEFORM_MARGINS.rightPx;
+    const { frequencyScale } = settings.spectrogram;
+    const height = closeupHeightPx(settings.spectrogram.height);
+    const plotRows = height - SPECTROGRAM_MARGINS.topPx - SPECTROGRAM_MARGINS.bottomPx;
+    await writeFile(
+      paths.abs(`${suffix}.png`),
+      o.png(() => renderSpectrogramImage(closeupSpectrogramGrid(plan.channels, rate, columns, plotRows, frequencyScale), { width: spectrogramWidth, height, markers, title })),
+    );
+    await writeFile(
+      paths.abs(`${suffix}.waveform.png`),
+      o.png(() => renderWaveformImage(closeupWaveform(plan.channels, rate, columns), { width: waveformWidth, height: o.waveformHeightPx, markers })),
+    );
+    let excerpt: string | null = null;
+    if (excerptFormat) {
+      await writeFile(paths.abs(`${suffix}.wav`), encodeWavExcerpt(plan.channels, rate, excerptFormat));
+      excerpt = paths.shown(`${suffix}.wav`);
+    }
+    closeups.push({
+      findings: plan.findings,
+      startSeconds,
+      endSeconds: plan.endFrame / rate,
+      secondsPerColumn,
+      spectrogram: paths.shown(`${suffix}.png`),
+      waveform: paths.shown(`${suffix}.waveform.png`),
+      excerpt,
+      excerptMediaType: excerpt ? "audio/wav" : null,
+      excerptSampleRateHz: excerpt ? rate : null,
+    });
+  }
+  return { levelGrid: paths.shown(".levels.json"), loudnessCurve, closeups, closeupsOmitted: selection.omitted };
+}
+
+/**
+ * Close-ups are half the overview's height (300 px by default): they are about time, and painting and
+ * PNG-encoding ten of them at full height cost more than issue #16's +15 % of the scan (measured).
+ */
+export function closeupHeightPx(overviewHeightPx: number): number {
+  return Math.max(CLOSEUP_MIN_HEIGHT_PX, Math.round(overviewHeightPx / 2));
+}
+/** Room for the axes and a plot of ≥ 64 rows. */
+const CLOSEUP_MIN_HEIGHT_PX = SPECTROGRAM_MARGINS.topPx + SPECTROGRAM_MARGINS.bottomPx + 64;
+
+function shift(f: Finding, by: number): Finding {
+  return {
+    ...f,
+    startSeconds: f.startSeconds === null ? null : Math.max(0, f.startSeconds - by),
+    endSeconds: f.endSeconds === null ? null : Math.max(0, f.endSeconds - by),
+  };
+}
