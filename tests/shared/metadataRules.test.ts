@@ -260,3 +260,15 @@ describe("metadata rules in custom profiles (schema-validated)", () => {
     expect(judge(profile, { format: file.format, metrics: null, findings: [], error: null, metadata: file.metadata }).findings).toEqual([]);
   });
 });
+
+describe("containers without bext or LIST/INFO", () => {
+  it("asks a FLAC or AIFF master for no BWF fields, while a RIFF file without them misses them", async () => {
+    const bare = await metadataOf({});
+    const riff = judged("preservation-master", bare).map((f) => f.code);
+    expect(riff).toContain("metadata-missing");
+    for (const container of ["flac", "aiff", "aifc"] as const) {
+      const codes = judged("preservation-master", { metadata: {}, format: { ...bare.format, container } }).map((f) => f.code);
+      expect(codes.filter((c) => c.startsWith("metadata-")), container).toEqual([]);
+    }
+  });
+});

@@ -149,16 +149,23 @@ function missingFindings(metadata: FileMetadata, fields: readonly MetadataFieldN
   return missing.length === 0 ? [] : [{ code, message: `${what} metadata missing or empty: ${missing.join(", ")}` }];
 }
 
+const RIFF_CONTAINERS: ReadonlySet<string> = new Set(["wav", "bwf", "rf64"]);
+
 /** The metadata findings for one file; `severityOf` gives each code's severity, or "off" to drop it. */
 export function metadataFindings(
   rules: MetadataRules,
   input: MetadataRuleInput,
   severityOf: (code: FindingCode) => Severity | "off" | undefined,
 ): Finding[] {
-  const drafts: Draft[] = [
-    ...missingFindings(input.metadata, rules.required, "metadata-missing", "required"),
-    ...missingFindings(input.metadata, rules.recommended, "metadata-recommended-missing", "recommended"),
-  ];
+  // The bext and LIST/INFO fields exist only in RIFF files: a FLAC or AIFF master cannot carry them, so
+  // their absence there says nothing (its own text chunks or Vorbis comments land in metadata.text).
+  const riff = input.format === null || RIFF_CONTAINERS.has(input.format.container);
+  const drafts: Draft[] = riff
+    ? [
+        ...missingFindings(input.metadata, rules.required, "metadata-missing", "required"),
+        ...missingFindings(input.metadata, rules.recommended, "metadata-recommended-missing", "recommended"),
+      ]
+    : [];
   const b = input.metadata.bext;
   if (b) {
     if (rules.formats) drafts.push(...formatFindings(b));
