@@ -30,8 +30,8 @@ export interface JobQueue {
   fetch(max: number, transaction: Transaction): Promise<FetchedJob[]>;
   /** Completes an active job; one that is no longer active (expired into retry) is cancelled instead. */
   finish(queueJobId: string, output: object, transaction: Transaction): Promise<void>;
-  /** Takes a job out of the queue for good (dead-lettered by our own count of failures). */
-  cancel(queueJobId: string, transaction: Transaction): Promise<void>;
+  /** Fails the job for good, whatever pg-boss's own retry count, so pg-boss files its dead-letter copy. */
+  deadLetter(queueJobId: string, output: object, transaction: Transaction): Promise<void>;
   /**
    * Puts an active job straight back in the queue, at its old place, without spending a pg-boss retry:
    * a re-fetch counts a retry only when `started_on` is set, so it is cleared here.
@@ -85,8 +85,14 @@ export function jobQueueFor(sequelize: Sequelize): JobQueue {
       const completed = affected(await boss.complete(SCAN_QUEUE, queueJobId, output, db(transaction)));
       if (completed === 0) await boss.cancel(SCAN_QUEUE, queueJobId, db(transaction));
     },
-    async cancel(queueJobId, transaction) {
-      await boss.cancel(SCAN_QUEUE, queueJobId, db(transaction));
+    async deadLetter(queueJobId, output, transaction) {
+      // Our own count decided (a release re-fetch is no retry to us); pg-boss fails a job at its limit.
+      await sequelize.query(`update ${QUEUE_SCHEMA}.job set retry_count = retry_limit where name = $1 and id = $2`, {
+        bind: [SCAN_QUEUE, queueJobId],
+        type: QueryTypes.UPDATE,
+        transaction,
+      });
+      await boss.fail(SCAN_QUEUE, queueJobId, output, db(transaction));
     },
     async release(queueJobId, transaction) {
       // pg-boss has no "un-fetch"; its cancel + resume would keep started_on, and the next fetch would count a retry.

@@ -111,7 +111,10 @@ const isAdmin = (res: Response): boolean => res.locals.auth?.user.role === "admi
 export async function assertJobHolder(res: Response, jobId: number, action: string, attempt?: number): Promise<void> {
   if (isAdmin(res)) return;
   const tokenId = res.locals.auth?.tokenId ?? null;
-  const held = tokenId !== null && (await ScanJobAttempt.count({ where: { jobId, tokenId, ...(attempt !== undefined ? { attempt } : {}) } })) > 0;
+  const attempts = await ScanJobAttempt.findAll({ where: { jobId }, attributes: ["attempt", "tokenId"] });
+  // A named attempt that exists must be this token's; an unknown one is left to the stale-attempt check.
+  const named = attempt === undefined ? [] : attempts.filter((a) => a.attempt === attempt);
+  const held = tokenId !== null && (named.length ? named : attempts).some((a) => a.tokenId === tokenId);
   if (held) return;
   if (!(await ScanJob.count({ where: { id: jobId } }))) throw notFound("job", jobId);
   await recordAudit(res, { action: "job.forbidden", targetType: "job", targetId: jobId, details: { attempted: action, attempt: attempt ?? null, tokenId } });
@@ -147,13 +150,13 @@ export async function endAttempt(
   let state: ScanJobState = "queued";
   let lastError = end.message ?? job.lastError;
   if (failures >= limit) {
+    // The last error stands as it came: a dead-lettered job's state already says its retries are spent.
     state = "failed";
-    lastError = `${end.message ?? "failed"} (${failures} failed attempts: retries spent)`;
   } else if (unreachableBy.length >= limit) {
     state = "failed";
     lastError = `${unreachableBy.length} workers could not reach the file (${unreachableBy.join(", ")}); is the storage mounted on them (tidemark worker --mount)?`;
   }
-  if (state === "failed") await queue.cancel(job.queueJobId, transaction);
+  if (state === "failed") await queue.deadLetter(job.queueJobId, { message: lastError, worker: end.worker, attempt: job.attempts }, transaction);
   else await queue.release(job.queueJobId, transaction);
   await job.update({ state, failures, unreachableBy, lastError, expiresAt: null, heartbeatAt: null }, { transaction });
   await closeAttempts(job.id, end.outcome, end.message, transaction, job.attempts);
