@@ -6,7 +6,8 @@ import { tmpdir } from "node:os";
 import path from "node:path";
 import { afterEach, beforeEach, describe, expect, it } from "vitest";
 import { defaultBatchKey, deliverBatch } from "../../cli/src/upload/deliverBatch.ts";
-import { postBatch, ServerUnreachableError, UploadRejectedError, type IngestBatch } from "../../cli/src/upload/ingestClient.ts";
+import { ApiError, ServerUnreachableError } from "../../cli/src/api/apiClient.ts";
+import { postBatch, type IngestBatch } from "../../cli/src/upload/ingestClient.ts";
 import { listSpooled, loadSpooled } from "../../cli/src/upload/spool.ts";
 
 interface Recorded {
@@ -49,7 +50,7 @@ const batch: IngestBatch = {
     { field: "waveform", fileIndex: 0, bytes: PNG_MAGIC },
   ],
 };
-const fast = { maxAttempts: 4, baseDelayMs: 5, attemptTimeoutMs: 5000 };
+const fast = { maxAttempts: 4, baseDelayMs: 5, maxDelayMs: 1000, attemptTimeoutMs: 5000, totalMs: 10_000 };
 
 let running: Server | null = null;
 let spool: string;
@@ -112,7 +113,7 @@ describe("ingest upload", () => {
     const s = await recordingServer([{ status: 401, body: { error: { code: "bad-token", message: "token revoked" } } }]);
     running = s.server;
     const attempt = postBatch(s.url, "t:s", batch, fast);
-    await expect(attempt).rejects.toBeInstanceOf(UploadRejectedError);
+    await expect(attempt).rejects.toBeInstanceOf(ApiError);
     await expect(attempt).rejects.toThrow("401 bad-token: token revoked");
     expect(s.requests).toHaveLength(1);
   });
