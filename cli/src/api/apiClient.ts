@@ -66,9 +66,13 @@ export class ApiError extends Error {
 
 /** Every attempt, for the whole retry time, met a network error, a timeout or a 5xx. */
 export class ServerUnreachableError extends Error {
-  constructor(message: string) {
+  /** The last problem met (an error code such as ECONNREFUSED, "timed out", or a 5xx line). */
+  readonly last: string;
+
+  constructor(message: string, last = "") {
     super(message);
     this.name = "ServerUnreachableError";
+    this.last = last;
   }
 }
 
@@ -223,7 +227,7 @@ export function createApiClient(server: string, token: string | null, policy: Re
       const elapsed = Date.now() - started;
       if (attempt >= maxAttempts || elapsed + delayMs > policy.totalMs) {
         const over = attempt > 1 ? ` over ${(elapsed / 1000).toFixed(1)} s` : "";
-        throw new ServerUnreachableError(`${url} did not answer after ${attempt} attempt${attempt === 1 ? "" : "s"} (last: ${last})${over}: ${networkHint(last)}`);
+        throw new ServerUnreachableError(`${url} did not answer after ${attempt} attempt${attempt === 1 ? "" : "s"} (last: ${last})${over}: ${networkHint(last)}`, last);
       }
       onRetry(attempt, last, delayMs);
       await sleep(delayMs);

@@ -18,7 +18,7 @@
  * answered, `offlineLimitMs` of silence before the worker gives up.
  */
 import type { ClaimedJobDto, ClaimJobsResultDto, JobHeartbeatResultDto, JobResultDto } from "@tidemark/shared/types/api";
-import { ApiError, ServerUnreachableError, WrongServerError, type ApiClient } from "../api/apiClient.ts";
+import { ApiError, networkHint, ServerUnreachableError, WrongServerError, type ApiClient } from "../api/apiClient.ts";
 import { oneLine } from "../errors.ts";
 import { WorkerCrashError, WorkerStartError } from "../scan/workerPool.ts";
 import { localPath, type PathMount } from "./pathMounts.ts";
@@ -110,10 +110,12 @@ export function startWorkerLoop(o: WorkerLoopOptions): WorkerControl {
   /** True once the server has been silent for longer than allowed. */
   const outOfPatience = (): boolean =>
     lastContact === null ? Date.now() - started > o.firstContactMs : Date.now() - lastContact > o.offlineLimitMs;
-  const giveUpMessage = (last: string): string =>
-    lastContact === null
+  const giveUpMessage = (error: unknown): string => {
+    const last = error instanceof ServerUnreachableError ? `${error.last}: ${networkHint(error.last)}` : oneLine(error);
+    return lastContact === null
       ? `no answer from ${o.api.server} within ${Math.round(o.firstContactMs / 1000)} s (last: ${last})`
       : `${o.api.server} unreachable for more than ${Math.round(o.offlineLimitMs / 1000)} s (last: ${last})`;
+  };
 
   const sleep = (ms: number): Promise<void> =>
     new Promise((resolve) => {
@@ -235,7 +237,7 @@ export function startWorkerLoop(o: WorkerLoopOptions): WorkerControl {
           if (aborting || outOfPatience()) {
             o.log(`job ${job.id} ${job.path}: result not delivered (${last}); it returns to the queue after the server's heartbeat limit`);
             settle(entry, "left");
-            if (!aborting) stopFor(new WorkerStopError("unreachable", giveUpMessage(last)));
+            if (!aborting) stopFor(new WorkerStopError("unreachable", giveUpMessage(error)));
             return;
           }
           o.log(`job ${job.id}: sending the result failed (${last}); trying again in ${(backoffMs / 1000).toFixed(0)} s`);
@@ -313,7 +315,7 @@ export function startWorkerLoop(o: WorkerLoopOptions): WorkerControl {
           if (stop) return stopFor(stop);
           if (error instanceof ApiError) return stopFor(new WorkerStopError("refused", `the server refused to hand out jobs: ${error.message}`, error));
           const last = error instanceof ServerUnreachableError ? error.message : oneLine(error);
-          if (outOfPatience()) return stopFor(new WorkerStopError("unreachable", giveUpMessage(last)));
+          if (outOfPatience()) return stopFor(new WorkerStopError("unreachable", giveUpMessage(error)));
           o.log(`claiming: ${last}; trying again in ${(backoffMs / 1000).toFixed(0)} s`);
           await sleep(backoffMs);
           backoffMs = Math.min(MAX_BACKOFF_MS, Math.max(1_000, backoffMs * 2));
