@@ -31,7 +31,7 @@ export function absolutePath(root: string, relPath: string): string {
   return windows ? path.win32.join(root, ...relPath.split("/")) : path.posix.join(root, relPath);
 }
 
-/** Jobs fetched beyond the ones asked for, so a worker's claim can pass over files it cannot reach. */
+/** Jobs a claim may look at beyond the ones asked for, passing over files the worker cannot reach. */
 const CLAIM_LOOKAHEAD = 16;
 
 export interface ClaimAnswer {
@@ -48,47 +48,54 @@ export async function claimJobs(ctx: AppContext, res: Response, worker: string, 
   const queue = jobQueueFor(ctx.sequelize);
   const tokenId = res.locals.auth?.tokenId ?? null;
   const jobs = await ctx.sequelize.transaction(async (transaction) => {
-    const fetched = await queue.fetch(max + CLAIM_LOOKAHEAD, transaction);
-    if (fetched.length === 0) return [];
-    const jobs = await ScanJob.findAll({
-      where: { queueJobId: fetched.map((f) => f.queueJobId) },
-      include: [{ model: ScanRun, as: "run", include: [{ model: Collection, as: "collection" }] }],
-      transaction,
-      lock: { level: transaction.LOCK.UPDATE, of: ScanJob },
-    });
-    const byQueueId = new Map(jobs.map((j) => [j.queueJobId, j]));
     const claimed: ClaimedJobDto[] = [];
-    for (const f of fetched) {
-      const job = byQueueId.get(f.queueJobId);
-      // A queue entry without a live row (its run was removed, or the file is done): nothing to scan.
-      if (!job || job.state === "done" || job.state === "failed") {
-        await queue.finish(f.queueJobId, { skipped: true }, transaction);
-        continue;
-      }
-      // Enough in hand, or a file this worker said it cannot reach: back in its place for others.
-      if (claimed.length >= max || job.unreachableBy.includes(worker)) {
-        await queue.release(f.queueJobId, transaction);
-        continue;
-      }
-      await closeAttempts(job.id, "expired", "no result before the visibility timeout", transaction);
-      const attempt = job.attempts + 1;
-      const now = new Date();
-      await job.update({ state: "active", attempts: attempt, worker, claimedAt: now, heartbeatAt: now, expiresAt: f.expiresAt }, { transaction });
-      await ScanJobAttempt.create({ jobId: job.id, attempt, worker, tokenId, endedAt: null, outcome: null, message: null }, { transaction });
-      const run = job.run!;
-      claimed.push({
-        id: job.id,
-        attempt,
-        runId: run.id,
-        collection: run.collection!.name,
-        path: job.path,
-        absPath: absolutePath(run.root, job.path),
-        sizeBytes: Number(job.sizeBytes),
-        mtimeMs: job.mtimeMs,
-        expiresAt: f.expiresAt.toISOString(),
-        profile: { name: run.profileName, hash: run.profileHash, definition: run.profile } satisfies RunProfileDto,
+    const passedOver: string[] = [];
+    // Fetch only what is wanted; fetch again (a little further) only for files this worker cannot reach.
+    let budget = max + CLAIM_LOOKAHEAD;
+    while (claimed.length < max && budget > 0) {
+      const fetched = await queue.fetch(Math.min(max - claimed.length, budget), transaction);
+      if (fetched.length === 0) break;
+      budget -= fetched.length;
+      const jobs = await ScanJob.findAll({
+        where: { queueJobId: fetched.map((f) => f.queueJobId) },
+        include: [{ model: ScanRun, as: "run", include: [{ model: Collection, as: "collection" }] }],
+        transaction,
+        lock: { level: transaction.LOCK.UPDATE, of: ScanJob },
       });
+      const byQueueId = new Map(jobs.map((j) => [j.queueJobId, j]));
+      for (const f of fetched) {
+        const job = byQueueId.get(f.queueJobId);
+        // A queue entry without a live row (its run was removed, or the file is done): nothing to scan.
+        if (!job || job.state === "done" || job.state === "failed") {
+          await queue.finish(f.queueJobId, { skipped: true }, transaction);
+          continue;
+        }
+        // A file this worker said it cannot reach: back in its place (after this claim) for others.
+        if (job.unreachableBy.includes(worker)) {
+          passedOver.push(f.queueJobId);
+          continue;
+        }
+        await closeAttempts(job.id, "expired", "no result before the visibility timeout", transaction);
+        const attempt = job.attempts + 1;
+        const now = new Date();
+        await job.update({ state: "active", attempts: attempt, worker, claimedAt: now, heartbeatAt: now, expiresAt: f.expiresAt }, { transaction });
+        await ScanJobAttempt.create({ jobId: job.id, attempt, worker, tokenId, endedAt: null, outcome: null, message: null }, { transaction });
+        const run = job.run!;
+        claimed.push({
+          id: job.id,
+          attempt,
+          runId: run.id,
+          collection: run.collection!.name,
+          path: job.path,
+          absPath: absolutePath(run.root, job.path),
+          sizeBytes: Number(job.sizeBytes),
+          mtimeMs: job.mtimeMs,
+          expiresAt: f.expiresAt.toISOString(),
+          profile: { name: run.profileName, hash: run.profileHash, definition: run.profile } satisfies RunProfileDto,
+        });
+      }
     }
+    for (const queueJobId of passedOver) await queue.release(queueJobId, transaction);
     if (claimed.length === 0) return [];
     const runIds = [...new Set(claimed.map((c) => c.runId))];
     await ctx.sequelize.query(`update scan_runs set started_at = now(), updated_at = now() where id = any($1::int[]) and started_at is null`, {
