@@ -163,9 +163,15 @@ export async function endAttempt(
     state = "failed";
     lastError = `${unreachableBy.length} workers could not reach the file (${unreachableBy.join(", ")}); is the storage mounted on them (tidemark worker --mount)?`;
   }
-  if (state === "failed") await queue.deadLetter(job.queueJobId, { message: lastError, worker: end.worker, attempt: job.attempts }, transaction);
-  else await queue.release(job.queueJobId, transaction);
-  await job.update({ state, failures, unreachableBy, lastError, expiresAt: null, heartbeatAt: null }, { transaction });
+  let queueJobId = job.queueJobId;
+  if (state === "failed") {
+    await queue.deadLetter(queueJobId, { message: lastError, worker: end.worker, attempt: job.attempts }, transaction);
+  } else if (!(await queue.release(queueJobId, transaction))) {
+    // pg-boss gave up on it meanwhile (its own visibility timeout): the file goes back as a fresh queue job.
+    queueJobId = orderedJobId();
+    await queue.insert([{ queueJobId, data: { scanJobId: job.id, runId: job.runId, queueJobId } }], transaction);
+  }
+  await job.update({ state, failures, unreachableBy, lastError, queueJobId, expiresAt: null, heartbeatAt: null }, { transaction });
   await closeAttempts(job.id, end.outcome, end.message, transaction, job.attempts);
   if (state === "failed") await markRunFinishedIfDone(sequelize, job.runId, transaction);
   return state;
