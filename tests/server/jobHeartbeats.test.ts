@@ -180,3 +180,24 @@ describe("throughput", () => {
     expect(finished.throughput.filesPerMinute).toBeGreaterThan(0);
   });
 });
+
+describe("waiting claims", () => {
+  it("holds an idle claim open until a job arrives (a long poll), and answers an empty queue after the wait", async () => {
+    const started = Date.now();
+    const empty = await request(t.app).post("/api/jobs/claim").set(bearer(token)).send({ worker: "w-wait", max: 1, wait: 1 });
+    expect(empty.body.jobs).toEqual([]);
+    expect(Date.now() - started).toBeGreaterThanOrEqual(700);
+
+    const run = (await createRun(t.app, token, runRequest({ name: "long poll" }))).body.run as { id: number };
+    const waiting = request(t.app).post("/api/jobs/claim").set(bearer(token)).send({ worker: "w-wait", max: 1, wait: 8 }).then((r) => ({ r, at: Date.now() }));
+    await new Promise((r) => setTimeout(r, 600));
+    const addedAt = Date.now();
+    await addFiles(t.app, token, run.id, [fileOf("late-arrival.wav")]);
+    const { r, at } = await waiting;
+    expect((r.body.jobs as ClaimedJobDto[]).map((j) => j.path)).toEqual(["late-arrival.wav"]);
+    // Picked up within a few of the server's 300 ms looks, not at the end of the 8 s wait.
+    expect(at - addedAt).toBeLessThan(2_000);
+    expect((await postResult(t.app, token, r.body.jobs[0])).status).toBe(201);
+    expect((await request(t.app).post("/api/jobs/claim").set(bearer(token)).send({ worker: "w", wait: 11 })).status).toBe(400);
+  });
+});

@@ -100,13 +100,15 @@ export interface RequestOptions {
   retry?: boolean;
   /** This request's per-attempt limit instead of the policy's (a heartbeat must not hang for minutes). */
   timeoutMs?: number;
+  /** Aborts the request (a worker stopping while its claim waits on the server). */
+  signal?: AbortSignal;
 }
 
 export interface ApiClient {
   readonly server: string;
   request<T>(path: string, options?: RequestOptions): Promise<ApiAnswer<T>>;
   getJson<T>(path: string): Promise<ApiAnswer<T>>;
-  postJson<T>(path: string, body: unknown, options?: Pick<RequestOptions, "retry" | "timeoutMs">): Promise<ApiAnswer<T>>;
+  postJson<T>(path: string, body: unknown, options?: Pick<RequestOptions, "retry" | "timeoutMs" | "signal">): Promise<ApiAnswer<T>>;
   postForm<T>(path: string, form: () => FormData, options?: Pick<RequestOptions, "retry" | "timeoutMs">): Promise<ApiAnswer<T>>;
 }
 
@@ -180,6 +182,10 @@ const sleep = (ms: number): Promise<void> => new Promise((resolve) => setTimeout
 
 export function createApiClient(server: string, token: string | null, policy: RetryPolicy, onRetry: OnRetry = () => undefined): ApiClient {
   const origin = server.replace(/\/+$/, "");
+  const abortSignal = (options: RequestOptions): AbortSignal => {
+    const timeout = AbortSignal.timeout(options.timeoutMs ?? policy.attemptTimeoutMs);
+    return options.signal ? AbortSignal.any([timeout, options.signal]) : timeout;
+  };
   const request = async <T>(path: string, options: RequestOptions = {}): Promise<ApiAnswer<T>> => {
     const url = `${origin}${path}`;
     const method = options.method ?? "GET";
@@ -194,8 +200,9 @@ export function createApiClient(server: string, token: string | null, policy: Re
         const headers: Record<string, string> = { accept: "application/json", ...options.headers };
         if (token) headers.authorization = `Bearer ${token}`;
         if (options.contentType) headers["content-type"] = options.contentType;
-        response = await fetch(url, { method, headers, body: options.body?.(), signal: AbortSignal.timeout(options.timeoutMs ?? policy.attemptTimeoutMs) });
+        response = await fetch(url, { method, headers, body: options.body?.(), signal: abortSignal(options) });
       } catch (error) {
+        if (options.signal?.aborted) throw error;
         const mistake = protocolMistake(url, error);
         if (mistake) throw new WrongServerError(mistake);
         last = describeNetworkError(error);

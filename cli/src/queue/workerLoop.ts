@@ -14,6 +14,9 @@
  * Either way the loop ends within a few seconds: a job that cannot be handed back (server unreachable)
  * is left to the heartbeat limit and counted in `left`.
  *
+ * An idle worker's claim waits on the server for up to 10 s (a long poll), so a new job is started within
+ * a fraction of a second instead of after the next poll.
+ *
  * The server is given `firstContactMs` to answer at all (a wrong URL fails fast) and, once it has
  * answered, `offlineLimitMs` of silence before the worker gives up.
  */
@@ -79,6 +82,8 @@ const RELEASE_TIMEOUT_MS = 3_000;
 /** After an abort, the loop is ended by force this long later whatever is still pending. */
 const ABORT_DEADLINE_MS = 6_000;
 const CLAIM_TIMEOUT_MS = 30_000;
+/** How long a claim may wait on the server for a job (a long poll), so an idle worker starts at once. */
+const CLAIM_WAIT_SECONDS = 10;
 const RESULT_TIMEOUT_MS = 120_000;
 
 interface Held {
@@ -102,6 +107,8 @@ export function startWorkerLoop(o: WorkerLoopOptions): WorkerControl {
   /** Lanes and uploads waiting; a stop wakes them. */
   const sleepers = new Set<() => void>();
   let unreachableStreak = 0;
+  /** Claims waiting on the server; a stop cancels them. */
+  const waitingClaims = new Set<AbortController>();
   let releaseUnreachableLogged = false;
 
   const contact = (): void => {
@@ -129,6 +136,7 @@ export function startWorkerLoop(o: WorkerLoopOptions): WorkerControl {
     });
   const wakeAll = (): void => {
     for (const wake of [...sleepers]) wake();
+    for (const claim of [...waitingClaims]) claim.abort();
   };
 
   const stopFor = (error: WorkerStopError): void => {
@@ -306,11 +314,17 @@ export function startWorkerLoop(o: WorkerLoopOptions): WorkerControl {
     try {
       while (!stopping) {
         let answer: ClaimJobsResultDto;
+        const wait = o.exitWhenIdle ? 0 : CLAIM_WAIT_SECONDS;
+        const asked = Date.now();
+        const cancel = new AbortController();
+        waitingClaims.add(cancel);
         try {
-          answer = (await o.api.postJson<ClaimJobsResultDto>("/api/jobs/claim", { worker: o.worker, max: 1 }, { retry: false, timeoutMs: CLAIM_TIMEOUT_MS })).body;
+          answer = (await o.api.postJson<ClaimJobsResultDto>("/api/jobs/claim", { worker: o.worker, max: 1, wait }, { retry: false, timeoutMs: CLAIM_TIMEOUT_MS, signal: cancel.signal })).body;
           contact();
           backoffMs = o.pollMs;
         } catch (error) {
+          // Cancelled by a stop: the server hands back anything it claimed for this request.
+          if (cancel.signal.aborted) break;
           const stop = fatalOf(error, "hand out jobs");
           if (stop) return stopFor(stop);
           if (error instanceof ApiError) return stopFor(new WorkerStopError("refused", `the server refused to hand out jobs: ${error.message}`, error));
@@ -320,6 +334,8 @@ export function startWorkerLoop(o: WorkerLoopOptions): WorkerControl {
           await sleep(backoffMs);
           backoffMs = Math.min(MAX_BACKOFF_MS, Math.max(1_000, backoffMs * 2));
           continue;
+        } finally {
+          waitingClaims.delete(cancel);
         }
         if (answer.heartbeatIntervalSeconds && answer.heartbeatIntervalSeconds * 1000 !== heartbeatMs) {
           heartbeatMs = Math.max(250, answer.heartbeatIntervalSeconds * 1000);
@@ -327,7 +343,9 @@ export function startWorkerLoop(o: WorkerLoopOptions): WorkerControl {
         }
         if (answer.jobs.length === 0) {
           if (o.exitWhenIdle) break;
-          await sleep(o.pollMs);
+          // The server held the claim open for the wait: ask again at once. An answer that came back
+          // sooner (a server that does not wait) is followed by the poll pause.
+          if (Date.now() - asked < (wait * 1000) / 2) await sleep(o.pollMs);
           continue;
         }
         for (const job of answer.jobs) {

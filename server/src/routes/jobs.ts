@@ -16,12 +16,15 @@ import { idParam } from "../middleware/loadEntity.ts";
 import { initRunModels } from "../queue/models/index.ts";
 import { recordAudit } from "../services/audit.ts";
 import { largestPartBytes, PART_KIND_NAMES, readArtefactParts, readReport, type UploadedPart } from "../services/ingestValidation.ts";
-import { assertJobHolder, claimJobs, failJob, heartbeatJobs, releaseJob, requeueJob, retryJob } from "../services/runsJobs.ts";
+import { assertJobHolder, claimJobs, failJob, heartbeatJobs, releaseJob, releaseUndelivered, requeueJob, retryJob } from "../services/runsJobs.ts";
 import { storeJobResult } from "../services/runsResults.ts";
 import { claimSchema, failSchema, heartbeatSchema, releaseSchema, resultFieldsSchema } from "../services/runsValidation.ts";
 import { parseWith } from "../validate.ts";
 
 type PartsByField = Record<string, Express.Multer.File[]>;
+
+/** How often a waiting claim looks at the queue again: the most an idle worker waits for a new job. */
+const CLAIM_WAIT_STEP_MS = 300;
 
 function resultUpload(ctx: AppContext): RequestHandler {
   const { upload, uploadTmpDir } = ctx.settings;
@@ -46,8 +49,20 @@ export function jobsRouter(ctx: AppContext): Router {
 
   router.post("/jobs/claim", requireTokenAuth, requirePermission("upload"), async (req, res) => {
     const input = parseWith(claimSchema, req.body ?? {}, "claim");
-    const body: ClaimJobsResultDto = await claimJobs(ctx, res, input.worker, input.max);
-    res.json(body);
+    // A long poll: with `wait`, an empty queue is looked at again every few hundred ms until a job comes,
+    // the wait ends, the worker hangs up, or the server starts shutting down (it stops listening).
+    let hungUp = false;
+    res.on("close", () => {
+      hungUp = !res.writableEnded;
+    });
+    const listener = (req.socket as { server?: { listening?: boolean } }).server;
+    const deadline = Date.now() + input.wait * 1000;
+    for (;;) {
+      const body: ClaimJobsResultDto = await claimJobs(ctx, res, input.worker, input.max);
+      if (hungUp && body.jobs.length > 0) return void (await releaseUndelivered(ctx, body.jobs));
+      if (body.jobs.length > 0 || hungUp || Date.now() + CLAIM_WAIT_STEP_MS > deadline || listener?.listening === false) return void res.json(body);
+      await new Promise((resolve) => setTimeout(resolve, CLAIM_WAIT_STEP_MS));
+    }
   });
 
   router.post("/jobs/heartbeat", requireTokenAuth, requirePermission("upload"), async (req, res) => {

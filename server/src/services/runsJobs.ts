@@ -109,6 +109,17 @@ export async function claimJobs(ctx: AppContext, res: Response, worker: string, 
   return { jobs, heartbeatIntervalSeconds: heartbeatIntervalSeconds(queue.limits.heartbeatSeconds) };
 }
 
+/** Jobs claimed for a worker that hung up before the answer reached it: straight back, no retry spent. */
+export async function releaseUndelivered(ctx: AppContext, jobs: ClaimedJobDto[]): Promise<void> {
+  for (const claimed of jobs) {
+    await ctx.sequelize.transaction(async (transaction) => {
+      const job = await ScanJob.findByPk(claimed.id, { transaction, lock: transaction.LOCK.UPDATE });
+      if (!job || job.state !== "active" || job.attempts !== claimed.attempt) return;
+      await endAttempt(ctx.sequelize, job, { outcome: "released", message: null, worker: job.worker }, transaction);
+    });
+  }
+}
+
 const isAdmin = (res: Response): boolean => res.locals.auth?.user.role === "admin";
 
 /**

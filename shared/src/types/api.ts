@@ -537,6 +537,8 @@ export interface ClaimJobsRequest {
   worker: string;
   /** Jobs wanted, 1–16 (default 1). */
   max?: number;
+  /** Seconds (0–10, default 0) the server may hold the request open for a job to arrive: a long poll. */
+  wait?: number;
 }
 
 export interface ClaimedJobDto {
