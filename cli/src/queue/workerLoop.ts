@@ -90,6 +90,8 @@ interface Held {
   job: ClaimedJobDto;
   /** Set once the job is settled (stored, failed, released or left). */
   settled: boolean;
+  /** The server said it took the job back (logged once). */
+  lost?: boolean;
 }
 
 export function startWorkerLoop(o: WorkerLoopOptions): WorkerControl {
@@ -190,7 +192,9 @@ export function startWorkerLoop(o: WorkerLoopOptions): WorkerControl {
       contact();
       for (const id of body.lost) {
         const entry = held.get(id);
-        if (entry) o.log(`job ${id} ${entry.job.path}: the server took it back (this worker was silent too long, or a supervisor sent it back); its result is still sent if it gets there first`);
+        if (!entry || entry.lost) continue;
+        entry.lost = true;
+        o.log(`job ${id} ${entry.job.path}: the server took it back (this worker was silent too long, or a supervisor sent it back); its result is still sent if it gets there first`);
       }
     } catch (error) {
       if (o.verbose) o.log(`heartbeat not delivered (${oneLine(error)})`);
