@@ -1,6 +1,6 @@
 /**
  * What a `tidemark worker` process does when things go wrong, against the real server on loopback with a
- * short heartbeat limit (3 s) and a long visibility timeout (600 s), so only heartbeats can explain a
+ * short heartbeat limit (4 s) and a long visibility timeout (600 s), so only heartbeats can explain a
  * quick return: a SIGKILLed worker's job is measured again within the limit and stored once; a worker
  * without the storage beside a healthy one costs no retries (the healthy one measures every file); and a
  * worker stopped with --grace while the server is down exits within the grace period plus a few seconds,
@@ -22,7 +22,7 @@ import { binPath, isolatedEnv, runCli } from "../cli/runCli.ts";
 import { startChildServer, type ChildServer } from "./helpers/childServer.ts";
 import { writeTransferSet } from "./helpers/transferSet.ts";
 
-const HEARTBEAT_SECONDS = 3;
+const HEARTBEAT_SECONDS = 4;
 
 let testDb: TestDatabase;
 let db: Database;
@@ -125,15 +125,16 @@ it("measures a SIGKILLed worker's job again within the heartbeat limit, and stor
   const rescuer = startWorker("rescuer");
   const second = await until("the job claimed again", () => ScanJobAttempt.findOne({ where: { jobId: held.jobId, attempt: held.attempt + 1 } }), 60_000);
   const back = Date.now() - killedAt;
-  // The limit plus the server's check interval and a poll, far below the 600 s visibility timeout.
-  expect(back).toBeLessThan((HEARTBEAT_SECONDS + 5) * 1000);
+  // The limit plus the server's check interval and the rescuer's start-up (slow on a busy machine), far
+  // below the 600 s visibility timeout.
+  expect(back).toBeLessThan((HEARTBEAT_SECONDS + 12) * 1000);
   expect(second.worker).toBe("rescuer");
   const run = await allDone(runId, 2);
   expect(run.counts).toMatchObject({ done: 2, failed: 0 });
   expect(await FileResult.count({ where: { batchId: run.batchId } })).toBe(2);
   const first = await ScanJobAttempt.findOne({ where: { jobId: held.jobId, attempt: held.attempt } });
   expect(first).toMatchObject({ outcome: "expired" });
-  expect(first!.message).toMatch(/^attempt 1 by victim: no heartbeat for \d+ s \(limit 3 s\)/);
+  expect(first!.message).toMatch(/^attempt 1 by victim: no heartbeat for \d+ s \(limit 4 s\)/);
   rescuer.child.kill("SIGTERM");
   expect((await rescuer.exit).code).toBe(0);
 });
