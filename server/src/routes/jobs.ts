@@ -57,11 +57,15 @@ export function jobsRouter(ctx: AppContext): Router {
     });
     const listener = (req.socket as { server?: { listening?: boolean } }).server;
     const deadline = Date.now() + input.wait * 1000;
+    const stopWaiting = (): boolean => hungUp || listener?.listening === false;
+    let body: ClaimJobsResultDto = await claimJobs(ctx, res, input.worker, input.max);
     for (;;) {
-      const body: ClaimJobsResultDto = await claimJobs(ctx, res, input.worker, input.max);
       if (hungUp && body.jobs.length > 0) return void (await releaseUndelivered(ctx, body.jobs));
-      if (body.jobs.length > 0 || hungUp || Date.now() + CLAIM_WAIT_STEP_MS > deadline || listener?.listening === false) return void res.json(body);
+      if (body.jobs.length > 0 || stopWaiting() || Date.now() + CLAIM_WAIT_STEP_MS > deadline) return void res.json(body);
       await new Promise((resolve) => setTimeout(resolve, CLAIM_WAIT_STEP_MS));
+      // Looked at again before touching the database: a shutdown may have closed it meanwhile.
+      if (stopWaiting()) return void res.json(body);
+      body = await claimJobs(ctx, res, input.worker, input.max);
     }
   });
 
