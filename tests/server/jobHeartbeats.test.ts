@@ -122,6 +122,10 @@ describe("supervisor's requeue", () => {
     const [job] = await claimedJobs(t.app, token, 1, "w-stuck");
     const technician = await request(t.app).post(`/api/jobs/${job.id}/requeue`).set(bearer(token));
     expect(technician.status).toBe(403);
+    // A retry of a held job points to the requeue instead of only refusing.
+    const retry = await supervisorAgent.post(`/api/jobs/${job.id}/retry`).set(CSRF_HEADER, "1");
+    expect(retry.status).toBe(409);
+    expect(retry.body.error.message).toBe(`job ${job.id} is held by w-stuck; send it back to the queue instead (Back to queue, POST /api/jobs/${job.id}/requeue)`);
     const done = await supervisorAgent.post(`/api/jobs/${job.id}/requeue`).set(CSRF_HEADER, "1");
     expect(done.body).toEqual({ jobId: job.id, state: "queued", attempts: 1 });
     const row = (await ScanJob.findByPk(job.id))!;

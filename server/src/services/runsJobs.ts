@@ -264,6 +264,7 @@ export async function retryJob(ctx: AppContext, res: Response, jobId: number): P
   return ctx.sequelize.transaction(async (transaction) => {
     const job = await ScanJob.findByPk(jobId, { transaction, lock: transaction.LOCK.UPDATE });
     if (!job) throw notFound("job", jobId);
+    if (job.state === "active") throw conflict(`job ${jobId} is held by ${job.worker ?? "a worker"}; send it back to the queue instead (Back to queue, POST /api/jobs/${jobId}/requeue)`, "not_failed");
     if (job.state !== "failed") throw conflict(`job ${jobId} is ${job.state}; only failed (dead-lettered) jobs can be retried`, "not_failed");
     await requeueFailed(ctx, [job], transaction);
     await recordAudit(res, { action: "job.retry", targetType: "job", targetId: job.id, details: { runId: job.runId, path: job.path, attempts: job.attempts } }, transaction);
