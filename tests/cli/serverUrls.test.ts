@@ -1,8 +1,8 @@
 /**
  * Wrong server URLs and bad tokens, as `worker` and `enqueue` meet them, with the real binary: a port with
- * nothing listening (retried for the bounded time, TIDEMARK_RETRY_SECONDS, then exit 4), https:// against
- * plain HTTP and a foreign web server answering HTML (exit 4 at once, naming the URL and the likely
- * mistake, no HTML dumped), a refused token (exit 3 from every command, with "run tidemark login"), and an
+ * nothing listening (retried for the bounded time, TIDEMARK_RETRY_SECONDS, then exit 6), https:// against
+ * plain HTTP and a foreign web server answering HTML (exit 6 at once, naming the URL and the likely
+ * mistake, no HTML dumped), a refused token (exit 5 from every command, with "run tidemark login"), and an
  * empty enqueue (exit 2, no request sent, so no run and no batch).
  */
 import { mkdirSync, mkdtempSync, rmSync, writeFileSync } from "node:fs";
@@ -67,29 +67,29 @@ describe.each([
   ["worker", worker],
   ["enqueue", enqueue],
 ] as const)("tidemark %s", (command, run) => {
-  it("gives up on a port with nothing listening after the bounded retry time, exit 4", { timeout: 30_000 }, async () => {
+  it("gives up on a port with nothing listening after the bounded retry time, exit 6", { timeout: 30_000 }, async () => {
     const url = await deadUrl();
     const r = await run(url);
-    expect(r.exitCode, r.stderr).toBe(4);
+    expect(r.exitCode, r.stderr).toBe(6);
     expect(r.stderr).toMatch(/ECONNREFUSED/);
     expect(r.stderr).toMatch(/nothing is listening at that address and port|within 2 s/);
     // TIDEMARK_RETRY_SECONDS=2, plus start-up.
     expect(r.seconds).toBeLessThan(2 + 8);
   });
 
-  it("stops at once on https:// against a plain HTTP server, exit 4, suggesting http://", { timeout: 30_000 }, async () => {
+  it("stops at once on https:// against a plain HTTP server, exit 6, suggesting http://", { timeout: 30_000 }, async () => {
     const plain = await answering(200, "application/json", "{}");
     const r = await run(plain.url.replace("http://", "https://"));
-    expect(r.exitCode, r.stderr).toBe(4);
+    expect(r.exitCode, r.stderr).toBe(6);
     expect(r.stderr).toMatch(/the TLS handshake failed .*try http:\/\/ instead of https:\/\//);
     expect(r.seconds).toBeLessThan(8);
   });
 
-  it("stops at once on a foreign web server answering HTML, exit 4, without dumping the page", { timeout: 30_000 }, async () => {
+  it("stops at once on a foreign web server answering HTML, exit 6, without dumping the page", { timeout: 30_000 }, async () => {
     const page = "<!DOCTYPE html><html><head><title>Harbourside intranet</title></head><body><h1>404 Not Found</h1>" + "<p>padding</p>".repeat(200) + "</body></html>";
     const foreign = await answering(404, "text/html; charset=utf-8", page);
     const r = await run(foreign.url);
-    expect(r.exitCode, r.stderr).toBe(4);
+    expect(r.exitCode, r.stderr).toBe(6);
     expect(r.stderr).toContain(`answered 404 Not Found with text/html; charset=utf-8`);
     expect(r.stderr).toMatch(/not Tidemark's JSON: is http:\/\/127\.0\.0\.1:\d+ the Tidemark server's address and port\?/);
     expect(r.stderr).not.toContain("<html");
@@ -98,19 +98,19 @@ describe.each([
     expect(r.seconds).toBeLessThan(8);
   });
 
-  it(`exits 3 with "run tidemark login" when the server refuses the token`, { timeout: 30_000 }, async () => {
+  it(`exits 5 with "run tidemark login" when the server refuses the token`, { timeout: 30_000 }, async () => {
     const refusing = await answering(401, "application/json", JSON.stringify({ error: { code: "invalid_token", message: "the API token is not valid" } }));
     const r = await run(refusing.url);
-    expect(r.exitCode, r.stderr).toBe(3);
+    expect(r.exitCode, r.stderr).toBe(5);
     expect(r.stderr).toContain(`run tidemark login --server ${refusing.url}`);
     expect(refusing.requests()).toBe(1);
     expect(command === "worker" || r.stderr.includes("refused the API token (invalid_token")).toBe(true);
   });
 });
 
-it("exits 3 with the same advice when there is no token at all", async () => {
+it("exits 5 with the same advice when there is no token at all", async () => {
   const r = await runCli(["worker", "--server", "http://127.0.0.1:9"], { cwd: dir, env: isolatedEnv() });
-  expect(r.exitCode).toBe(3);
+  expect(r.exitCode).toBe(5);
   expect(r.stderr).toContain("run tidemark login --server http://127.0.0.1:9");
 });
 

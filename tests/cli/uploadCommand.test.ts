@@ -157,11 +157,11 @@ describe("tidemark upload", () => {
     expect(again.stderr).toMatch(/batch 1 was already on .* \(same batch key\)/);
   });
 
-  it("shows a refused token with how to log in, exits 3 (the bad-token code of every command), and does not retry", async () => {
+  it("shows a refused token with how to log in, exits 5 (the bad-token code of every command), and does not retry", async () => {
     server = await fakeServer();
     writeReport("day-15.json");
     const r = await cli(["upload", "day-15.json", "--collection", "Lighthouse Choir Reels", "--server", server.url], { TIDEMARK_TOKEN: "tok9:wrong" });
-    expect(r.exitCode).toBe(3);
+    expect(r.exitCode).toBe(5);
     expect(r.stderr).toContain("401 bad-token: unknown API token");
     expect(r.stderr).toContain(`run tidemark login --server ${server.url}`);
     expect(server.requests).toHaveLength(1);

@@ -171,7 +171,7 @@ it("exits within the grace period when stopped while the server is down, leaving
   const stoppedAt = Date.now();
   const exit = await worker.exit;
   const took = Date.now() - stoppedAt;
-  expect(exit, worker.output()).toEqual({ code: 5, signal: null });
+  expect(exit, worker.output()).toEqual({ code: 7, signal: null });
   expect(took).toBeLessThan(3_000 + 8_000);
   expect(worker.output()).toMatch(/1 left to the heartbeat limit/);
   expect(worker.output()).toMatch(/they return to the queue after its heartbeat limit/);

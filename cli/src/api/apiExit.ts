@@ -1,6 +1,6 @@
 /**
  * What a failed server request means for the command's exit code, the same for every command:
- * a refused token exits 3 (with how to log in), an unreachable or wrong server 4, any other refusal 2.
+ * a refused token exits 5 (with how to log in), an unreachable or wrong server 6, any other refusal 2.
  */
 import { EXIT_CODES, ExitError, loginAdvice, oneLine } from "../errors.ts";
 import { ApiError, ServerUnreachableError, WrongServerError } from "./apiClient.ts";

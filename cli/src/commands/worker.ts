@@ -4,8 +4,8 @@
  * login) and the shared storage at the path the files were enqueued from (or --mount). It runs until
  * SIGTERM/SIGINT (or, with --exit-when-idle, until the queue is empty).
  *
- * Exit codes: 0 stopped with every job finished or handed back; 3 the server refused the token; 4 the
- * server could not be reached (or is not a Tidemark server); 5 stopped while the server was unreachable,
+ * Exit codes: 0 stopped with every job finished or handed back; 5 the server refused the token; 6 the
+ * server could not be reached (or is not a Tidemark server); 7 stopped while the server was unreachable,
  * with jobs left to the server's heartbeat limit; 1 anything else.
  */
 import { hostname } from "node:os";

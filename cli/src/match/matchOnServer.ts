@@ -1,7 +1,7 @@
 /**
  * `match --server URL`: sends the encoded fingerprint to POST /api/duplicates/lookup (token auth, as
  * upload) through the CLI's one API client, and reads the matches the server's index holds. Any failure
- * exits non-zero (a refused token 3, an unreachable or wrong server 4, another refusal 2), so a script
+ * exits non-zero (a refused token 5, an unreachable or wrong server 6, another refusal 2), so a script
  * never mistakes an unreachable server for "no match" (exit 1).
  */
 import { encodeFingerprint, type Fingerprint } from "@tidemark/shared/fingerprint/index";
