@@ -196,7 +196,7 @@ describe("tidemark upload", () => {
     await probe.close();
     writeReport("day-17.json");
     const spoolEnv = { TIDEMARK_TOKEN: "tok7:s3cret", TIDEMARK_SPOOL_DIR: path.join(dir, "spool-17"), TIDEMARK_RETRY_BASE_MS: "1" };
-    expect((await cli(["upload", "day-17.json", "--collection", "Lighthouse Choir Reels", "--server", url], spoolEnv)).exitCode).toBe(1);
+    expect((await cli(["upload", "day-17.json", "--collection", "Lighthouse Choir Reels", "--server", url], spoolEnv)).exitCode).toBe(4);
     const [name] = readdirSync(spoolEnv.TIDEMARK_SPOOL_DIR);
 
     // The same batch key with other content: the server answers 409 (issue #19's batch-key conflict).
