@@ -3,7 +3,8 @@
  * part of `npm test`: a throwaway PostgreSQL, the real server (pg-boss included) on a loopback port,
  * synthesised 24-bit stereo files, `tidemark enqueue` into a fresh run per worker count, then that many
  * `tidemark worker` processes. Figures come from the server's own run status (first claim to last result)
- * and from the wall clock; a single `tidemark scan --workers 1` of the same files is the baseline.
+ * and from the wall clock; a local `tidemark scan --workers N` of the same files, for each N measured,
+ * is the baseline (issue #24's target: 2 workers within 1.25× of `scan --workers 2`).
  *
  *   node --import tsx scripts/bench-workers.ts [--files 24] [--seconds 60] [--workers 1,2,3]
  *                                              [--concurrency 1] [--no-images] [--from-source] [--out result.json]
@@ -56,6 +57,10 @@ interface RunFigures {
   otherLoadCores: number;
   /** Every repeat's first-claim-to-last-result time; busySeconds is their median. */
   samples: number[];
+  /** `tidemark scan --workers <workers>` of the same files on this machine, wall time, start-up included. */
+  localScanSeconds: number;
+  /** wallSeconds / localScanSeconds: both include one CLI start-up. */
+  vsLocal: number;
 }
 
 /** Other processes using less than this count as a calm machine. */
@@ -178,14 +183,22 @@ async function main(): Promise<void> {
       }
     };
 
-    const scanLoad = await calmLoad();
-    ensureBundle();
-    log("baseline: tidemark scan --workers 1 of the same files");
-    const scanStart = performance.now();
-    const scan = await run(["scan", audio, "--workers", "1", "--format", "json", "--quiet", ...(o.images ? ["--spectrograms", path.join(work, "png")] : [])], env);
-    const scanSeconds = (performance.now() - scanStart) / 1000;
-    if (scan.code !== 0 && scan.code !== 1) throw new Error(`scan failed (${scan.code}): ${scan.stderr}`);
-    log(`scan: ${scanSeconds.toFixed(1)} s`);
+    /** A local scan of the same files with `workers` threads: the figure distributed scanning is held to. */
+    const localScan = async (workers: number): Promise<{ seconds: number; load: number }> => {
+      const load = await calmLoad();
+      ensureBundle();
+      log(`baseline: tidemark scan --workers ${workers} of the same files`);
+      const start = performance.now();
+      const scan = await run(["scan", audio, "--workers", String(workers), "--format", "json", "--quiet", ...(o.images ? ["--spectrograms", path.join(work, `png-${workers}`)] : [])], env);
+      const seconds = (performance.now() - start) / 1000;
+      if (scan.code !== 0 && scan.code !== 1) throw new Error(`scan failed (${scan.code}): ${scan.stderr}`);
+      log(`scan --workers ${workers}: ${seconds.toFixed(1)} s`);
+      return { seconds, load };
+    };
+    const local = new Map<number, { seconds: number; load: number }>();
+    for (const count of new Set([1, ...o.workers])) local.set(count, await localScan(count));
+    const scanSeconds = local.get(1)!.seconds;
+    const scanLoad = local.get(1)!.load;
 
     /** One run: `count` workers, a fresh run of every file; seconds from first claim to last result. */
     const measureOnce = async (count: number, repeat: number): Promise<{ busySeconds: number; wallSeconds: number }> => {
@@ -195,7 +208,10 @@ async function main(): Promise<void> {
       children.push(...workers);
       const exits = workers.map((w) => new Promise<number | null>((resolve) => w.once("exit", (code) => resolve(code))));
       const started = performance.now();
-      const enqueued = await run(["enqueue", audio, "--server", url, "--collection", "Harbourside benchmark", "--run", `${count} worker(s), repeat ${repeat}, ${Date.now()}`, "--json"], env);
+      // A collection of its own per run: the same files scanned again would otherwise be matched as duplicate
+      // transfers of every earlier run's, work a real first scan does not do.
+      const stamp = `${count} worker(s), repeat ${repeat}, ${Date.now()}`;
+      const enqueued = await run(["enqueue", audio, "--server", url, "--collection", `Harbourside benchmark ${stamp}`, "--run", stamp, "--json"], env);
       if (enqueued.code !== 0) throw new Error(`enqueue failed (${enqueued.code}): ${enqueued.stderr}`);
       const runId = (JSON.parse(enqueued.stdout) as { run: { id: number } }).run.id;
       const done = await waitFor(
@@ -246,6 +262,8 @@ async function main(): Promise<void> {
         speedUp: figures.length ? figures[0].busySeconds / busySeconds : 1,
         otherLoadCores,
         samples,
+        localScanSeconds: local.get(count)?.seconds ?? Number.NaN,
+        vsLocal: median(walls) / (local.get(count)?.seconds ?? Number.NaN),
       };
       figures.push(figure);
       log(`${count} worker(s): ${busySeconds.toFixed(1)} s, ${figure.filesPerMinute.toFixed(1)} files/min, ${figure.realTimeFactor.toFixed(0)}× real time (other load up to ${otherLoadCores.toFixed(2)} cores)`);
@@ -254,19 +272,20 @@ async function main(): Promise<void> {
     const cpu = cpus()[0]?.model ?? "unknown CPU";
     const lines = [
       `Machine: ${availableParallelism()} cores (${cpu}), Node ${process.version}; ${o.files} files × ${o.seconds} s, 48 kHz 24-bit stereo, images ${o.images ? "on" : "off"}, ${o.concurrency} job(s) per worker`,
-      `Baseline: tidemark scan --workers 1: ${scanSeconds.toFixed(1)} s wall (start-up included; other load ${scanLoad.toFixed(2)} cores)`,
+      `Baseline: tidemark scan --workers 1: ${scanSeconds.toFixed(1)} s wall (start-up included; other load ${scanLoad.toFixed(2)} cores); ` +
+        [...local.entries()].map(([n, l]) => `--workers ${n}: ${l.seconds.toFixed(1)} s`).join(", "),
       "",
       `Median of ${o.repeats} run(s) each; "other load" is what other processes kept busy just before a run (worst of the repeats).`,
       "",
-      "| workers | first claim → last result | files/min | × real time | speed-up | wall from enqueue | other load | runs |",
-      "|---|---|---|---|---|---|---|---|",
+      "| workers | first claim → last result | files/min | × real time | speed-up | wall from enqueue | local scan --workers N | wall ÷ local | other load | runs |",
+      "|---|---|---|---|---|---|---|---|---|---|",
       ...figures.map(
         (f) =>
-          `| ${f.workers} | ${f.busySeconds.toFixed(1)} s | ${f.filesPerMinute.toFixed(1)} | ${f.realTimeFactor.toFixed(0)}× | ${f.speedUp.toFixed(2)} | ${f.wallSeconds.toFixed(1)} s | ${f.otherLoadCores.toFixed(2)} cores | ${f.samples.map((x) => x.toFixed(1)).join(", ")} s |`,
+          `| ${f.workers} | ${f.busySeconds.toFixed(1)} s | ${f.filesPerMinute.toFixed(1)} | ${f.realTimeFactor.toFixed(0)}× | ${f.speedUp.toFixed(2)} | ${f.wallSeconds.toFixed(1)} s | ${f.localScanSeconds.toFixed(1)} s | ${f.vsLocal.toFixed(2)}× | ${f.otherLoadCores.toFixed(2)} cores | ${f.samples.map((x) => x.toFixed(1)).join(", ")} s |`,
       ),
     ];
     process.stdout.write(`${lines.join("\n")}\n`);
-    if (o.out) writeFileSync(o.out, `${JSON.stringify({ machine: { cores: availableParallelism(), cpu, node: process.version }, options: o, scanSeconds, figures }, null, 2)}\n`);
+    if (o.out) writeFileSync(o.out, `${JSON.stringify({ machine: { cores: availableParallelism(), cpu, node: process.version }, options: o, scanSeconds, localScans: Object.fromEntries(local), figures }, null, 2)}\n`);
   } finally {
     await cleanUp();
   }

@@ -303,6 +303,7 @@ export function createProgram(actions: Partial<CommandActions & QueueCommandActi
     .option("--name <name>", "this worker's name in the portal (default: host#pid)")
     .option("--poll <seconds>", "wait between claims while the queue is empty", secondsParser(0.2, 300), 2)
     .option("--grace <seconds>", "after SIGTERM, how long jobs in hand may finish before they are released", secondsParser(0, 86_400), 60)
+    .option("--offline-limit <seconds>", "give up when the server, once reached, stays unreachable this long", secondsParser(1, 604_800), 600)
     .addOption(new Option("--mount <from=to>", "the storage is mounted elsewhere here: read enqueued paths under FROM from TO (repeatable)").argParser(parseMount).default([], "none"))
     .option("--no-images", "send no spectrogram or waveform PNGs (faster; the portal shows none)")
     .option("--exit-when-idle", "exit once the queue is empty instead of waiting for more")
@@ -315,6 +316,7 @@ export function createProgram(actions: Partial<CommandActions & QueueCommandActi
         name: (o.name as string | undefined) ?? null,
         pollSeconds: o.poll as number,
         graceSeconds: o.grace as number,
+        offlineSeconds: o.offlineLimit as number,
         mounts: o.mount as PathMount[],
         images: o.images !== false,
         exitWhenIdle: o.exitWhenIdle === true,

@@ -1,13 +1,14 @@
 import { createHash } from "node:crypto";
 import { createServer, type IncomingMessage, type Server } from "node:http";
 import type { AddressInfo } from "node:net";
-import { mkdtempSync, readdirSync, rmSync } from "node:fs";
+import { mkdtempSync, readdirSync, readFileSync, rmSync } from "node:fs";
 import { tmpdir } from "node:os";
 import path from "node:path";
 import { afterEach, beforeEach, describe, expect, it } from "vitest";
 import { defaultBatchKey, deliverBatch } from "../../cli/src/upload/deliverBatch.ts";
-import { postBatch, ServerUnreachableError, UploadRejectedError, type IngestBatch } from "../../cli/src/upload/ingestClient.ts";
-import { listSpooled, loadSpooled } from "../../cli/src/upload/spool.ts";
+import { ApiError, ServerUnreachableError } from "../../cli/src/api/apiClient.ts";
+import { postBatch, type IngestBatch } from "../../cli/src/upload/ingestClient.ts";
+import { listRejected, listSpooled, loadSpooled } from "../../cli/src/upload/spool.ts";
 
 interface Recorded {
   method: string;
@@ -49,7 +50,7 @@ const batch: IngestBatch = {
     { field: "waveform", fileIndex: 0, bytes: PNG_MAGIC },
   ],
 };
-const fast = { maxAttempts: 4, baseDelayMs: 5, attemptTimeoutMs: 5000 };
+const fast = { maxAttempts: 4, baseDelayMs: 5, maxDelayMs: 1000, attemptTimeoutMs: 5000, totalMs: 10_000 };
 
 let running: Server | null = null;
 let spool: string;
@@ -112,7 +113,7 @@ describe("ingest upload", () => {
     const s = await recordingServer([{ status: 401, body: { error: { code: "bad-token", message: "token revoked" } } }]);
     running = s.server;
     const attempt = postBatch(s.url, "t:s", batch, fast);
-    await expect(attempt).rejects.toBeInstanceOf(UploadRejectedError);
+    await expect(attempt).rejects.toBeInstanceOf(ApiError);
     await expect(attempt).rejects.toThrow("401 bad-token: token revoked");
     expect(s.requests).toHaveLength(1);
   });
@@ -134,5 +135,26 @@ describe("ingest upload", () => {
     expect(spooled.server).toBe(deadUrl);
     expect(spooled.batch).toEqual({ ...batch, images: batch.images.map((i) => ({ ...i, bytes: Buffer.from(i.bytes) })) });
     expect(readdirSync(dirs[0]).sort()).toEqual(["batch.json", "report.json", "spectrogram-0.png", "waveform-0.png"]);
+  });
+
+  it("keeps a batch refused with 409 aside in rejected/ with the reason, and one refused for its token in the spool", async () => {
+    const s = await recordingServer([{ status: 409, body: { error: { code: "batch_key_conflict", message: "batch key already used for other content (files differ: tape-04.bwf)" } } }]);
+    running = s.server;
+    const options = { env: { TIDEMARK_SPOOL_DIR: spool, TIDEMARK_RETRY_BASE_MS: "1" }, log: () => undefined, spoolWhenRejected: true };
+    const conflict = await deliverBatch(s.url, "t:s", batch, options);
+    expect(conflict.kind).toBe("rejected");
+    expect(s.requests).toHaveLength(1);
+    const dir = conflict.kind === "rejected" ? conflict.spooledDir! : "";
+    expect(path.dirname(dir)).toBe(path.join(spool, "rejected"));
+    expect(JSON.parse(readFileSync(path.join(dir, "rejected.json"), "utf8"))).toMatchObject({ status: 409, code: "batch_key_conflict", server: s.url });
+    expect(await listSpooled(spool)).toEqual([]);
+    expect((await listRejected(spool)).map((r) => r.reason?.code)).toEqual(["batch_key_conflict"]);
+
+    running.close();
+    const t = await recordingServer([{ status: 401, body: { error: { code: "invalid_token", message: "the API token is not valid" } } }]);
+    running = t.server;
+    const refused = await deliverBatch(t.url, "t:s", batch, options);
+    expect(refused.kind === "rejected" && path.dirname(refused.spooledDir!)).toBe(spool);
+    expect(await listSpooled(spool)).toHaveLength(1);
   });
 });

@@ -157,15 +157,16 @@ describe("tidemark match --against (real binary)", () => {
     expect(r.stderr).not.toMatch(/\n\s+at /); // no stack trace
   });
 
-  it("exits 2, not 1, when the server cannot be reached", async () => {
+  it("exits 6, not 1, when the server cannot be reached", async () => {
     // A port that was free a moment ago: nothing listens there.
     const probe = createServer();
     await new Promise<void>((resolve) => probe.listen(0, "127.0.0.1", resolve));
     const { port } = probe.address() as AddressInfo;
     await new Promise((resolve) => probe.close(resolve));
     const server = `http://127.0.0.1:${port}`;
-    const r = await runCli(["match", "louder.wav", "--server", server], { cwd: dir, env: { ...env, TIDEMARK_TOKEN: "tmid:secret" } });
-    expect(r.exitCode).toBe(2);
-    expect(r.stderr).toContain(`no answer from ${server}: ECONNREFUSED`);
+    const r = await runCli(["match", "louder.wav", "--server", server], { cwd: dir, env: { ...env, TIDEMARK_TOKEN: "tmid:secret", TIDEMARK_RETRY_BASE_MS: "1" } });
+    expect(r.exitCode).toBe(6);
+    expect(r.stderr).toContain(`${server}/api/duplicates/lookup?limit=`);
+    expect(r.stderr).toMatch(/did not answer after 5 attempts \(last: ECONNREFUSED\)/);
   });
 });

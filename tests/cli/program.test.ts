@@ -160,14 +160,14 @@ describe("createProgram argv table", () => {
     expect(exitCodeFor(error)).toBe(1);
   });
 
-  // Exit codes as the README's table fixes them (0 / 1 / 2 / 3 / 4 / 130).
+  // Exit codes as the README's table fixes them (0 / 1 / 2 / 3 / 4 / 130), and issue #24's 5 token, 6 server, 7 jobs left.
   it("prints the version from cli/package.json and lists the exit codes in --help", async () => {
     const pkg = JSON.parse(readFileSync(new URL("../../cli/package.json", import.meta.url), "utf8")) as { version: string };
     const version = await parse(["--version"]);
     expect(version.output.trim()).toBe(pkg.version);
     expect(exitCodeFor(version.error)).toBe(0);
     const help = await parse(["--help"]);
-    expect(help.output).toMatch(/Exit codes:\n\s+0\s+no file failed.*\n\s+1\s+.*\n\s+2\s+bad invocation.*\n\s+3\s+a file could not be read.*\n\s+4\s+the upload was only spooled.*\n\s+130\s+interrupted/);
+    expect(help.output).toMatch(/Exit codes:\n\s+0\s+no file failed.*\n\s+1\s+.*\n\s+2\s+bad invocation.*\n\s+3\s+a file could not be read.*\n\s+4\s+the upload was only spooled.*\n\s+5\s+no API token.*\n\s+6\s+the server could not be reached.*\n\s+7\s+worker: .*\n\s+130\s+interrupted/);
     expect(exitCodeFor(help.error)).toBe(0);
   });
 });

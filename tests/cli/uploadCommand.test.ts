@@ -157,12 +157,13 @@ describe("tidemark upload", () => {
     expect(again.stderr).toMatch(/batch 1 was already on .* \(same batch key\)/);
   });
 
-  it("shows a 4xx error from the server and exits 2 without retrying", async () => {
+  it("shows a refused token with how to log in, exits 5 (the bad-token code of every command), and does not retry", async () => {
     server = await fakeServer();
     writeReport("day-15.json");
     const r = await cli(["upload", "day-15.json", "--collection", "Lighthouse Choir Reels", "--server", server.url], { TIDEMARK_TOKEN: "tok9:wrong" });
-    expect(r.exitCode).toBe(2);
+    expect(r.exitCode).toBe(5);
     expect(r.stderr).toContain("401 bad-token: unknown API token");
+    expect(r.stderr).toContain(`run tidemark login --server ${server.url}`);
     expect(server.requests).toHaveLength(1);
   });
 
@@ -176,7 +177,7 @@ describe("tidemark upload", () => {
     const down = await cli(["upload", "day-16.json", "--collection", "Lighthouse Choir Reels", "--server", url], spoolEnv);
     // Exit-code table (README): 4 = only spooled, never 0, with the command that sends it later.
     expect(down.exitCode).toBe(4);
-    expect(down.stderr).toMatch(/did not take the batch after 5 attempts \(last: ECONNREFUSED\)/);
+    expect(down.stderr).toMatch(/did not answer after 5 attempts \(last: ECONNREFUSED\)/);
     expect(down.stderr).toContain("tidemark upload --spool");
     expect(readdirSync(spoolEnv.TIDEMARK_SPOOL_DIR)).toHaveLength(1);
 
@@ -186,6 +187,35 @@ describe("tidemark upload", () => {
     expect(later.stderr).toMatch(/uploaded batch 1/);
     expect(readdirSync(spoolEnv.TIDEMARK_SPOOL_DIR)).toHaveLength(0);
     expect((await formOf(server.requests[0])).get("collection")).toBe("Lighthouse Choir Reels");
+  });
+
+  it("moves a spooled batch the server refuses (4xx) to rejected/ with the reason, never retries it, and reports it", async () => {
+    const probe = await fakeServer();
+    const url = probe.url;
+    const port = Number(new URL(url).port);
+    await probe.close();
+    writeReport("day-17.json");
+    const spoolEnv = { TIDEMARK_TOKEN: "tok7:s3cret", TIDEMARK_SPOOL_DIR: path.join(dir, "spool-17"), TIDEMARK_RETRY_BASE_MS: "1" };
+    expect((await cli(["upload", "day-17.json", "--collection", "Lighthouse Choir Reels", "--server", url], spoolEnv)).exitCode).toBe(4);
+    const [name] = readdirSync(spoolEnv.TIDEMARK_SPOOL_DIR);
+
+    // The same batch key with other content: the server answers 409 (issue #19's batch-key conflict).
+    server = await fakeServer(port);
+    server.ingestStatus = 409;
+    const refused = await cli(["upload", "--spool"], spoolEnv);
+    expect(refused.exitCode).toBe(2);
+    expect(server.requests).toHaveLength(1);
+    expect(refused.stderr).toContain(`${name} was refused (409 unavailable: try later); moved to ${path.join(spoolEnv.TIDEMARK_SPOOL_DIR, "rejected", name)}`);
+    expect(readdirSync(spoolEnv.TIDEMARK_SPOOL_DIR)).toEqual(["rejected"]);
+    const reason = JSON.parse(readFileSync(path.join(spoolEnv.TIDEMARK_SPOOL_DIR, "rejected", name, "rejected.json"), "utf8"));
+    expect(reason).toMatchObject({ status: 409, code: "unavailable", message: "409 unavailable: try later", server: url });
+
+    // Sent again: nothing is retried, the refused batch is still reported.
+    server.ingestStatus = 201;
+    const again = await cli(["upload", "--spool"], spoolEnv);
+    expect(server.requests).toHaveLength(1);
+    expect(again.stderr).toContain("1 batch(es) the server refused wait in");
+    expect(again.stderr).toContain(`${name}: 409 unavailable: try later (${url}, `);
   });
 });
 

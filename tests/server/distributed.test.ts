@@ -25,8 +25,11 @@ import { writeTransferSet } from "./helpers/transferSet.ts";
 
 const FILES = 40;
 const SECONDS = 6;
-/** Far above a job's few hundred milliseconds here, short enough that the killed worker's job returns soon. */
-const EXPIRE_SECONDS = 5;
+/**
+ * Far above the heartbeat interval (a quarter of it), short enough that the killed worker's job returns
+ * soon; the visibility timeout stays long, so a job slowed by a busy machine is never taken back by it.
+ */
+const HEARTBEAT_SECONDS = 5;
 
 let testDb: TestDatabase;
 let db: Database;
@@ -101,7 +104,8 @@ beforeAll(async () => {
     DATA_DIR: dir,
     OBJECT_STORE_DIR: path.join(dir, "objects"),
     SESSION_SECRET: "distributed-test-secret-0123456789abcdef",
-    TIDEMARK_JOB_EXPIRE_SECONDS: String(EXPIRE_SECONDS),
+    TIDEMARK_JOB_EXPIRE_SECONDS: "600",
+    TIDEMARK_JOB_HEARTBEAT_SECONDS: String(HEARTBEAT_SECONDS),
     TIDEMARK_JOB_RETRY_LIMIT: "3",
     TIDEMARK_QUEUE_MAINTENANCE_SECONDS: "1",
   });
@@ -171,7 +175,7 @@ it("scans 40 files on 3 worker processes, survives a SIGKILLed worker, and match
   expect(results.map((r) => r.path).sort()).toEqual(single.files.map((f) => f.path).sort());
   expect(results.every((r) => r.spectrogramKey !== null && r.waveformKey !== null)).toBe(true);
 
-  // The killed worker's job went to another worker after the visibility timeout, and pg-boss counted a retry.
+  // The killed worker's job went to another worker once its heartbeats stopped, counted as a failed attempt.
   const retriedJob = await ScanJob.findByPk(victim.jobId);
   expect(retriedJob?.state).toBe("done");
   expect(retriedJob!.attempts).toBeGreaterThanOrEqual(2);
@@ -185,7 +189,8 @@ it("scans 40 files on 3 worker processes, survives a SIGKILLed worker, and match
     type: QueryTypes.SELECT,
   });
   expect(queueRow).toEqual({ retry_count: expect.any(Number), state: "completed" });
-  expect(queueRow.retry_count).toBeGreaterThanOrEqual(1);
+  expect(retriedJob!.failures).toBeGreaterThanOrEqual(1);
+  expect(attempts[0].message).toMatch(/^attempt \d+ by w2: no heartbeat for \d+ s \(limit 5 s\)/);
   const openAttemptsOfW2 = await ScanJobAttempt.count({ where: { worker: "w2", endedAt: null } });
   expect(openAttemptsOfW2).toBe(0);
 

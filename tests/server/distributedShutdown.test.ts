@@ -1,7 +1,7 @@
 /**
  * How a `tidemark worker` process stops and what it does with its job: one SIGTERM lets the job in hand
  * finish and be stored, a second releases it to the queue at once; a file missing from the worker's
- * storage fails its job into the dead-letter queue; `--mount` reads the storage from another mount
+ * storage is handed to other workers (no retry spent) and dead-lettered only when two workers cannot reach it; `--mount` reads the storage from another mount
  * point; `--exit-when-idle` ends the process once the queue is empty.
  */
 import { spawn, type ChildProcess } from "node:child_process";
@@ -132,18 +132,29 @@ it("finishes the job in hand on SIGTERM, releases it on a second SIGTERM, and ex
   expect((await runDetail(runId)).counts).toMatchObject({ done: 2, queued: 0, active: 0, failed: 0 });
 });
 
-it("fails the job of a file this worker cannot reach, and dead-letters it when no worker can", { timeout: 60_000 }, async () => {
+it("hands a file this worker cannot reach to other workers without spending a retry, and dead-letters it once two workers cannot reach it", { timeout: 60_000 }, async () => {
   const folder = path.join(dir, "mounted-elsewhere", "choir");
   const runId = await enqueue(folder, "vanishing reels");
   renameSync(path.join(dir, "mounted-elsewhere"), path.join(dir, "unmounted"));
+  // Not offered the same files again, the worker finds the queue empty for it and exits.
   const worker = startWorker("no-storage", ["--exit-when-idle"]);
   expect(await worker.exit, worker.output()).toEqual({ code: 0, signal: null });
   expect(worker.output()).toMatch(/is not reachable from this worker \(ENOENT\): is the shared storage mounted here\?/);
+  expect(worker.output()).toMatch(/Handed to other workers; if the storage is mounted elsewhere here, use --mount/);
+  expect(worker.output()).toMatch(/0 done, 0 failed, 2 released/);
+  const waiting = await runDetail(runId);
+  expect(waiting).toMatchObject({ state: "running", counts: { queued: 2, failed: 0, done: 0 } });
+  for (const job of waiting.returnedJobs) expect(job.lastError).toMatch(/^no-storage could not reach the file: .*not reachable from this worker/);
+  expect(await ScanJob.count({ where: { runId, failures: 0 } })).toBe(2);
+
+  // A second worker without the storage: two distinct workers (the retry limit is 1) dead-letter the files.
+  const second = startWorker("no-storage-2", ["--exit-when-idle"]);
+  expect(await second.exit, second.output()).toEqual({ code: 0, signal: null });
   const run = await runDetail(runId);
   expect(run).toMatchObject({ state: "failed", counts: { failed: 2, done: 0 } });
   expect(run.failedJobs).toHaveLength(2);
   for (const job of run.failedJobs) {
     expect(job.attempts).toBe(2);
-    expect(job.lastError).toMatch(/^no-storage: .*not reachable from this worker/);
+    expect(job.lastError).toBe("2 workers could not reach the file (no-storage, no-storage-2); is the storage mounted on them (tidemark worker --mount)?");
   }
 });

@@ -63,11 +63,11 @@ it("prints the server's match with score, offset, collection and the portal link
   expect(link).toBe(`${url}/files/${originalId}`);
 });
 
-it("exits 1 for a recording the server does not hold, and 2 for a bad token", async () => {
+it("exits 1 for a recording the server does not hold, and 5 for a bad token", async () => {
   const none = await match("other.wav");
   expect(none.exitCode).toBe(1);
   expect(none.stdout).toBe("");
   const refused = await match("copy.wav", "tmnope:wrong");
-  expect(refused.exitCode).toBe(2);
-  expect(refused.stderr).toContain("refused the lookup: the API token is not valid (invalid_token)");
+  expect(refused.exitCode).toBe(5);
+  expect(refused.stderr).toContain("refused the API token (invalid_token: the API token is not valid); run tidemark login --server");
 });

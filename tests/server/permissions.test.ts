@@ -69,13 +69,26 @@ const EMPTY_FINGERPRINT = encodeFingerprint({ version: FINGERPRINT_VERSION, hash
 let n = 0;
 const unique = (): string => `${Date.now()}-${++n}`;
 
-// Distributed scanning: one run for the read routes, and a fresh job per call for the worker's writes.
-let matrixRun: Promise<number> | null = null;
-const runId = (fx: Fixture): Promise<number> =>
-  (matrixRun ??= createRun(t.app, fx.adminsToken, runRequest({ name: "matrix run" })).then((r) => r.body.run.id as number));
+// Distributed scanning: one run per owner for the read routes, and a fresh job per call for the worker's
+// writes, claimed with the caller's own token when the caller may upload: results, failures, releases and
+// run files are taken only from the job's (or run's) own token or user, or an admin (issue #19), and that
+// rule has its own test (jobHeartbeats.test.ts); this matrix checks the roles.
+const matrixRuns = new Map<string, Promise<number>>();
+const ownToken = (fx: Fixture, caller?: Caller): string =>
+  caller && caller.role !== "anonymous" && caller.via === "token" && (README_TABLE.upload as readonly string[]).includes(caller.role) ? tokens[caller.role] : fx.adminsToken;
+const runId = (fx: Fixture, caller?: Caller): Promise<number> => {
+  const token = ownToken(fx, caller);
+  let run = matrixRuns.get(token);
+  if (!run) {
+    run = createRun(t.app, token, runRequest({ name: `matrix run ${matrixRuns.size + 1}` })).then((r) => r.body.run.id as number);
+    matrixRuns.set(token, run);
+  }
+  return run;
+};
 let lastJob: ClaimedJobDto | null = null;
-const freshJob = async (fx: Fixture, dead = false): Promise<number> => {
-  lastJob = dead ? await deadJob(t.app, fx.adminsToken) : (await claimedJobs(t.app, fx.adminsToken, 1))[0];
+const freshJob = async (fx: Fixture, dead = false, caller?: Caller): Promise<number> => {
+  const token = ownToken(fx, caller);
+  lastJob = dead ? await deadJob(t.app, token) : (await claimedJobs(t.app, token, 1))[0];
   return lastJob.id;
 };
 const attemptBody = () => ({ attempt: lastJob!.attempt, worker: "matrix-worker" });
@@ -132,7 +145,7 @@ const ROUTES: RouteCase[] = [
   { method: "get", path: () => "/api/audit", access: "export", accepts: both, ok: 200 },
   { method: "post", path: () => "/api/ingest", access: "upload", accepts: ["token"], ok: 201, multipart: true },
   { method: "post", path: () => "/api/runs", access: "upload", accepts: ["token"], ok: 201, body: () => runRequest({ name: `matrix ${unique()}` }) },
-  { method: "post", path: async (fx) => `/api/runs/${await runId(fx)}/files`, access: "upload", accepts: ["token"], ok: 200, body: () => ({ files: [fileOf(`matrix/${unique()}.wav`)] }) },
+  { method: "post", path: async (fx, caller) => `/api/runs/${await runId(fx, caller)}/files`, access: "upload", accepts: ["token"], ok: 200, body: () => ({ files: [fileOf(`matrix/${unique()}.wav`)] }) },
   { method: "get", path: () => "/api/runs", access: "view", accepts: both, ok: 200 },
   { method: "get", path: async (fx) => `/api/runs/${await runId(fx)}`, access: "view", accepts: both, ok: 200 },
   { method: "get", path: async (fx) => `/api/runs/${await runId(fx)}/jobs`, access: "view", accepts: both, ok: 200 },
@@ -140,7 +153,7 @@ const ROUTES: RouteCase[] = [
   { method: "post", path: () => "/api/jobs/claim", access: "upload", accepts: ["token"], ok: 200, body: () => ({ worker: "matrix-worker", max: 1 }) },
   {
     method: "post",
-    path: async (fx) => `/api/jobs/${await freshJob(fx)}/result`,
+    path: async (fx, caller) => `/api/jobs/${await freshJob(fx, false, caller)}/result`,
     access: "upload",
     accepts: ["token"],
     ok: 201,
@@ -150,8 +163,20 @@ const ROUTES: RouteCase[] = [
         .field("worker", "matrix-worker")
         .attach("report", Buffer.from(JSON.stringify(scanReport([{ path: lastJob!.path }]))), "report.json"),
   },
-  { method: "post", path: async (fx) => `/api/jobs/${await freshJob(fx)}/fail`, access: "upload", accepts: ["token"], ok: 200, body: () => ({ ...attemptBody(), message: "matrix failure" }) },
-  { method: "post", path: async (fx) => `/api/jobs/${await freshJob(fx)}/release`, access: "upload", accepts: ["token"], ok: 200, body: attemptBody },
+  { method: "post", path: async (fx, caller) => `/api/jobs/${await freshJob(fx, false, caller)}/fail`, access: "upload", accepts: ["token"], ok: 200, body: () => ({ ...attemptBody(), message: "matrix failure" }) },
+  { method: "post", path: async (fx, caller) => `/api/jobs/${await freshJob(fx, false, caller)}/release`, access: "upload", accepts: ["token"], ok: 200, body: attemptBody },
+  {
+    method: "post",
+    path: async (fx, caller) => {
+      await freshJob(fx, false, caller);
+      return "/api/jobs/heartbeat";
+    },
+    access: "upload",
+    accepts: ["token"],
+    ok: 200,
+    body: () => ({ worker: "matrix-worker", jobs: [{ id: lastJob!.id, attempt: lastJob!.attempt }] }),
+  },
+  { method: "post", path: async (fx) => `/api/jobs/${await freshJob(fx)}/requeue`, access: "review", accepts: both, ok: 200 },
   { method: "post", path: async (fx) => `/api/jobs/${await freshJob(fx, true)}/retry`, access: "review", accepts: both, ok: 200 },
   { method: "get", path: () => "/api/tokens", access: "ownTokens", accepts: ["session"], ok: 200 },
   { method: "post", path: () => "/api/tokens", access: "ownTokens", accepts: ["session"], ok: 201, body: () => ({ name: `matrix ${unique()}` }) },

@@ -33,7 +33,7 @@ beforeAll(async () => {
   supervisor = await startQueueSupervisor({
     connectionString: t.testDb.url,
     sequelize: t.db.sequelize,
-    config: { expireInSeconds: EXPIRE_SECONDS, retryLimit: 1, retentionMinutes: 1440, maintenanceIntervalSeconds: 1 },
+    config: { expireInSeconds: EXPIRE_SECONDS, retryLimit: 1, heartbeatSeconds: 60, retentionMinutes: 1440, maintenanceIntervalSeconds: 1 },
     logger: t.logger,
   });
 });

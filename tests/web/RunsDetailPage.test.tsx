@@ -4,7 +4,7 @@ import { CSRF_HEADER } from "@tidemark/shared/types/api";
 import { stubFetch } from "./fetchStub.ts";
 import { user } from "./fixtures.ts";
 import { renderApp } from "./renderApp.tsx";
-import { runDetail } from "./runFixtures.ts";
+import { runDetail, scanJob } from "./runFixtures.ts";
 
 afterEach(() => vi.unstubAllGlobals());
 
@@ -42,6 +42,28 @@ describe("Run detail", () => {
     expect(stub.requests("GET", "/api/runs/7").length).toBeGreaterThanOrEqual(2);
   });
 
+  it("lets a supervisor send a held job back to the queue, and lists returned jobs with why", async () => {
+    let requeued = false;
+    const back = runDetail(7, {
+      activeJobs: [],
+      returnedJobs: [scanJob(95, { runId: 7, state: "queued", attempts: 1, worker: "scan-01#300", lastError: "attempt 1 by scan-01#300 sent back to the queue by Supervisor Demo" })],
+    });
+    const stub = stubFetch()
+      .on("GET", "/api/session", { body: { user: user("supervisor") } })
+      .on("GET", "/api/runs/7", () => ({ body: requeued ? back : runDetail(7) }))
+      .on("POST", "/api/jobs/95/requeue", () => {
+        requeued = true;
+        return { body: { jobId: 95, state: "queued", attempts: 1 } };
+      });
+    renderApp("/runs/7");
+    const active = await screen.findByRole("table", { name: "Jobs being scanned" });
+    fireEvent.click(within(active).getByRole("button", { name: "Send reel-95/side-a.wav back to the queue" }));
+    await waitFor(() => expect(stub.requests("POST", "/api/jobs/95/requeue")).toHaveLength(1));
+    const returned = await screen.findByRole("table", { name: "Jobs back in the queue" });
+    expect(within(returned).getByText(/sent back to the queue by Supervisor Demo/)).toBeTruthy();
+    expect(screen.queryByRole("table", { name: "Jobs being scanned" })).toBeNull();
+  });
+
   it("shows a technician the failed jobs without retry buttons", async () => {
     stubFetch()
       .on("GET", "/api/session", { body: { user: user("technician") } })
@@ -50,6 +72,7 @@ describe("Run detail", () => {
     const failed = await screen.findByRole("table", { name: "Failed jobs" });
     expect(within(failed).getAllByRole("row")).toHaveLength(3);
     expect(screen.queryByRole("button", { name: /Retry/ })).toBeNull();
+    expect(screen.queryByRole("button", { name: /back to the queue/ })).toBeNull();
   });
 
   it("says why a retry was refused", async () => {

@@ -14,7 +14,7 @@ describe("Runs", () => {
       .on("GET", "/api/session", { body: { user: user("auditor") } })
       .on("GET", "/api/collections", { body: [{ id: 1, name: "Ferry Terminal Interviews 1978" }, { id: 2, name: "Lighthouse Choir Reels" }] })
       .on("GET", "/api/runs", {
-        body: page([scanRun(7), scanRun(6, { state: "done", counts: { total: 10, queued: 0, active: 0, done: 10, failed: 0, retried: 0 }, throughput: { filesPerMinute: 3, recentFilesPerMinute: null, audioSecondsPerSecond: 20, windowSeconds: 300 } })], 2, 1, 25),
+        body: page([scanRun(7), scanRun(6, { state: "done", counts: { total: 10, queued: 0, active: 0, done: 10, failed: 0, retried: 0 }, throughput: { filesPerMinute: 3, recentFilesPerMinute: null, audioSecondsPerSecond: 20, windowSeconds: 300, shown: { basis: "whole-run", filesPerMinute: 3 } } })], 2, 1, 25),
       });
     renderApp("/runs");
     const link = await screen.findByRole("link", { name: "#7" });
@@ -25,9 +25,11 @@ describe("Runs", () => {
     expect(bar.getAttribute("aria-valuenow")).toBe("77");
     expect(bar.getAttribute("aria-label")).toBe("77 of 120 finished: 75 done, 2 failed, 3 being scanned, 40 queued");
     expect(within(row).getByText("8.2 files/min")).toBeTruthy();
+    expect(within(row).getByText("last 5 min")).toBeTruthy();
     const done = (await screen.findByRole("link", { name: "#6" })).closest("tr") as HTMLElement;
-    // No recent throughput: the whole run's figure stands in.
+    // A finished run shows its whole-run rate, labelled so.
     expect(within(done).getByText("3.0 files/min")).toBeTruthy();
+    expect(within(done).getByText("whole run")).toBeTruthy();
     expect(screen.getByRole("link", { name: "Runs" }).getAttribute("href")).toBe("/runs");
 
     fireEvent.change(screen.getByLabelText("Collection"), { target: { value: "2" } });

@@ -17,7 +17,7 @@ export function scanRun(id: number, overrides: Partial<ScanRunDto> = {}): ScanRu
     state: "running",
     counts: { total: 120, queued: 40, active: 3, done: 75, failed: 2, retried: 4 },
     verdicts: { files: 75, pass: 60, warn: 10, fail: 4, error: 1 },
-    throughput: { filesPerMinute: 7.5, recentFilesPerMinute: 8.2, audioSecondsPerSecond: 41.3, windowSeconds: 300 },
+    throughput: { filesPerMinute: 7.5, recentFilesPerMinute: 8.2, audioSecondsPerSecond: 41.3, windowSeconds: 300, shown: { basis: "recent", filesPerMinute: 8.2 } },
     ...overrides,
   };
 }
@@ -45,6 +45,7 @@ export function runDetail(id: number, overrides: Partial<ScanRunDetailDto> = {})
     ...scanRun(id),
     failedJobs: [scanJob(91, { runId: id }), scanJob(92, { runId: id, path: "reel-12/side-b.wav", lastError: "measurement failed: worker exited with code 134" })],
     activeJobs: [scanJob(95, { runId: id, state: "active", attempts: 1, worker: "scan-01#300", lastError: null })],
+    returnedJobs: [],
     ...overrides,
   };
 }

@@ -6,13 +6,13 @@
  */
 import type { CreateRunResultDto, EnqueueFileDto, EnqueueFilesResultDto } from "@tidemark/shared/types/api";
 import { resolveCredentials } from "../config/storedLogin.ts";
-import { EXIT_CODES, ExitError, oneLine } from "../errors.ts";
+import { createApiClient, retryPolicyFrom } from "../api/apiClient.ts";
+import { exitErrorFor } from "../api/apiExit.ts";
+import { EXIT_CODES, ExitError } from "../errors.ts";
 import type { CliIo } from "../io.ts";
 import { loadProfile } from "../profiles/loadProfile.ts";
-import { createApiClient, ServerUnreachableError, UploadRejectedError } from "../queue/apiClient.ts";
 import { crawlFiles } from "../scan/crawlFiles.ts";
 import { toolInfo } from "../toolInfo.ts";
-import { retryPolicyFrom } from "../upload/ingestClient.ts";
 
 export interface EnqueueOptions {
   server: string | null;
@@ -59,6 +59,13 @@ export async function enqueueCommand(paths: string[], options: EnqueueOptions, i
   const { server, token } = await resolveCredentials(options.server, io.env);
   const crawl = await crawlFiles(paths, { include: options.include, exclude: options.exclude, cwd: io.cwd });
   for (const p of crawl.problems) log(`${p.code}: ${p.message} (not queued)`);
+  // Nothing to queue: no run and no batch are made for it (they would wait for ever, empty).
+  if (crawl.files.length === 0) {
+    throw new ExitError(
+      EXIT_CODES.usage,
+      `nothing to enqueue: no files matching ${options.include.join(" ")} under ${paths.join(" ")}${crawl.problems.length ? ` (${crawl.problems.length} could not be read)` : ""}; no run was created`,
+    );
+  }
 
   const api = createApiClient(server, token, retryPolicyFrom(io.env), (attempt, problem, delayMs) =>
     log(`request attempt ${attempt} failed (${problem}); retrying in ${(delayMs / 1000).toFixed(1)} s`),
@@ -85,9 +92,7 @@ export async function enqueueCommand(paths: string[], options: EnqueueOptions, i
       totals.changed.push(...body.changed);
     }
   } catch (error) {
-    if (error instanceof UploadRejectedError) throw new ExitError(EXIT_CODES.usage, `the server refused: ${error.message}`);
-    if (error instanceof ServerUnreachableError) throw new ExitError(EXIT_CODES.failed, error.message);
-    throw new ExitError(EXIT_CODES.failed, `enqueue failed: ${oneLine(error)}`);
+    throw exitErrorFor(error, server, "enqueue");
   }
 
   const run = created.run;
@@ -100,6 +105,5 @@ export async function enqueueCommand(paths: string[], options: EnqueueOptions, i
         `${totals.alreadyDone} already done, ${totals.pending} waiting, ${totals.changed.length} changed\n`,
     );
   }
-  if (crawl.files.length === 0 && crawl.problems.length === 0) log(`warning: no files matching ${options.include.join(" ")} under ${paths.join(" ")}`);
   return crawl.problems.length > 0 ? EXIT_CODES.failed : EXIT_CODES.ok;
 }

@@ -11,7 +11,7 @@ import { reportToJson } from "@tidemark/shared/report/jsonReport";
 import { reportWriters, type ReportFormat } from "@tidemark/shared/report/reportFormats";
 import type { FileReport, ScanReport } from "@tidemark/shared/types/report";
 import { resolveCredentials } from "../config/storedLogin.ts";
-import { EXIT_CODES, scanExitCode, UsageError } from "../errors.ts";
+import { EXIT_CODES, loginAdvice, scanExitCode, UsageError } from "../errors.ts";
 import type { CliIo } from "../io.ts";
 import type { ScanOptions, UploadTarget } from "../options.ts";
 import { loadProfile } from "../profiles/loadProfile.ts";
@@ -72,7 +72,12 @@ async function uploadReport(report: ScanReport, target: UploadTarget, defaultCol
     return EXIT_CODES.notDelivered;
   }
   log(outcome.reason);
-  if (outcome.spooledDir) log(`the batch is kept in ${outcome.spooledDir}; fix the cause, then: tidemark upload --spool`);
+  if (outcome.error.status === 401) {
+    log(`${server} refused the API token; ${loginAdvice(server)}`);
+    if (outcome.spooledDir) log(`the batch is kept in ${outcome.spooledDir}; after logging in: tidemark upload --spool`);
+    return EXIT_CODES.auth;
+  }
+  if (outcome.spooledDir) log(`the batch is kept aside in ${outcome.spooledDir} with the reason (not sent again)`);
   return EXIT_CODES.usage;
 }
 

@@ -8,8 +8,8 @@ import path from "node:path";
 import { scanReportSchema, type ScanReport } from "@tidemark/shared/types/report";
 import { resolveCredentials } from "../config/storedLogin.ts";
 import { EXIT_CODES, oneLine, UsageError } from "../errors.ts";
-import { createApiClient, UploadRejectedError } from "../queue/apiClient.ts";
-import { retryPolicyFrom } from "../upload/ingestClient.ts";
+import { ApiError, createApiClient, retryPolicyFrom, WrongServerError } from "../api/apiClient.ts";
+import { exitErrorFor, isAuthRefusal } from "../api/apiExit.ts";
 import type { CliIo } from "../io.ts";
 import type { VerifyOptions } from "../options.ts";
 import type { BagVerdict } from "@tidemark/shared/fixity/bagit";
@@ -288,7 +288,11 @@ async function uploadChecks(comparison: FixityComparison, target: { server: stri
       unknown += answer.body.unknownPaths;
     }
   } catch (error) {
-    if (error instanceof UploadRejectedError) {
+    if (isAuthRefusal(error) || error instanceof WrongServerError) {
+      log(`${exitErrorFor(error, server, "verify --upload").message} (${sent} of ${comparison.checks.length} fixity checks sent)`);
+      return isAuthRefusal(error) ? EXIT_CODES.auth : EXIT_CODES.unreachable;
+    }
+    if (error instanceof ApiError) {
       log(`the server refused the fixity checks after ${sent} of ${comparison.checks.length}: ${error.message}`);
       return EXIT_CODES.usage;
     }

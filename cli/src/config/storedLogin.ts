@@ -1,7 +1,7 @@
 /** The {server, token} pair written by `tidemark login`, kept readable by its owner only (mode 0600). */
 import { chmod, mkdir, readFile, rename, writeFile } from "node:fs/promises";
 import path from "node:path";
-import { UsageError } from "../errors.ts";
+import { EXIT_CODES, ExitError, UsageError } from "../errors.ts";
 import { configDir } from "./userDirs.ts";
 
 export interface StoredLogin {
@@ -55,6 +55,6 @@ export async function resolveCredentials(
   // A stored token is only ever sent to the server it was issued by.
   const storedToken = stored && stored.server === server.replace(/\/+$/, "") ? stored.token : null;
   const token = env.TIDEMARK_TOKEN || storedToken;
-  if (!token) throw new UsageError(`no API token for ${server}: set TIDEMARK_TOKEN=id:secret or run tidemark login --server ${server}`);
+  if (!token) throw new ExitError(EXIT_CODES.auth, `no API token for ${server}: set TIDEMARK_TOKEN=id:secret or run tidemark login --server ${server}`);
   return { server: server.replace(/\/+$/, ""), token };
 }

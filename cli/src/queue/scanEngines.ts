@@ -1,7 +1,9 @@
 /**
- * The measuring engine of `scan` for a worker: the same analyseFile (through scanTask), on the main
- * thread for one job at a time or on a worker-thread pool for more, one engine per profile the jobs
- * name. PNGs go to a private temporary folder and are removed once their result is uploaded.
+ * The measuring engine of `scan` for a worker: the same analyseFile (through scanTask) on a worker-thread
+ * pool, one engine per profile the jobs name. Always on threads, even for one job at a time: the main
+ * thread must stay free to send heartbeats and results while a long file is measured (a spectrogram of a
+ * long file renders in one go, and a silent worker loses its job). PNGs go to a private temporary folder
+ * and are removed once their result is uploaded.
  */
 import { mkdtemp, rm } from "node:fs/promises";
 import { tmpdir } from "node:os";
@@ -10,7 +12,6 @@ import { validateProfile } from "@tidemark/shared/profiles/parseProfile";
 import type { RunProfileDto } from "@tidemark/shared/types/api";
 import { loaded, type LoadedProfile } from "../profiles/loadProfile.ts";
 import type { ScanContext } from "../scan/analyseFile.ts";
-import { createInlineRunner } from "../scan/inlineRunner.ts";
 import type { ScanTask, ScanTaskResult } from "../scan/scanTask.ts";
 import { createWorkerPool, type WorkerPool } from "../scan/workerPool.ts";
 
@@ -48,10 +49,7 @@ export async function createScanEngines(options: { concurrency: number; images: 
       // One folder per profile: two engines never write the same PNG path.
       const dirAbs = imageDir ? path.join(imageDir, profile.hash.slice(0, 16)) : null;
       const context: ScanContext = { profile: checked.profile, settings: checked.settings, spectrograms: dirAbs ? { dirAbs, dirShown: "spectrograms" } : null, fingerprint: true, closeups: true };
-      const pool =
-        options.concurrency === 1
-          ? createInlineRunner(context)
-          : createWorkerPool<ScanTask, ScanTaskResult>({ size: options.concurrency, script: WORKER_SCRIPT, workerData: context, maxOldGenerationSizeMb: WORKER_HEAP_LIMIT_MB });
+      const pool = createWorkerPool<ScanTask, ScanTaskResult>({ size: options.concurrency, script: WORKER_SCRIPT, workerData: context, maxOldGenerationSizeMb: WORKER_HEAP_LIMIT_MB });
       const engine = { profile: checked, context, pool };
       engines.set(profile.hash, engine);
       return engine;

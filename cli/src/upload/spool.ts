@@ -1,7 +1,9 @@
 /**
  * Batches that could not be delivered wait in the spool folder (one subfolder each: batch.json, the
  * report, the PNGs) until `tidemark upload --spool` sends them. A batch is written to a temporary folder
- * and renamed into place, so a crash never leaves half a batch to send.
+ * and renamed into place, so a crash never leaves half a batch to send. A batch the server refused (4xx
+ * other than a refused token) moves to `rejected/` with the reason in rejected.json: sending it again
+ * cannot help, and nothing is deleted.
  */
 import { mkdir, readdir, readFile, rename, rm, writeFile } from "node:fs/promises";
 import path from "node:path";
@@ -55,16 +57,53 @@ export async function spoolBatch(spoolRoot: string, server: string, batch: Inges
   return target;
 }
 
-/** Spooled batches, oldest first; folders that are not complete batches are left alone. */
-export async function listSpooled(spoolRoot: string): Promise<string[]> {
-  const entries = await readdir(spoolRoot, { withFileTypes: true }).catch((error: { code?: string }) => {
+export const REJECTED_DIR = "rejected";
+
+async function subfolders(root: string): Promise<string[]> {
+  const entries = await readdir(root, { withFileTypes: true }).catch((error: { code?: string }) => {
     if (error.code === "ENOENT") return [];
     throw error;
   });
   return entries
-    .filter((e) => e.isDirectory() && !e.name.startsWith("."))
-    .map((e) => path.join(spoolRoot, e.name))
+    .filter((e) => e.isDirectory() && !e.name.startsWith(".") && e.name !== REJECTED_DIR)
+    .map((e) => path.join(root, e.name))
     .sort();
+}
+
+/** Spooled batches, oldest first; folders that are not complete batches are left alone. */
+export async function listSpooled(spoolRoot: string): Promise<string[]> {
+  return subfolders(spoolRoot);
+}
+
+export interface RejectionReason {
+  status: number;
+  code: string;
+  message: string;
+  server: string;
+  rejectedAt: string;
+}
+
+/** Moves a spooled batch to rejected/, with why; returns its new folder. */
+export async function rejectSpooled(spoolRoot: string, dir: string, reason: Omit<RejectionReason, "rejectedAt">, now = new Date()): Promise<string> {
+  const target = path.join(spoolRoot, REJECTED_DIR, path.basename(dir));
+  await mkdir(path.dirname(target), { recursive: true, mode: 0o700 });
+  await writeFile(path.join(dir, "rejected.json"), `${JSON.stringify({ ...reason, rejectedAt: now.toISOString() }, null, 2)}\n`);
+  await rm(target, { recursive: true, force: true });
+  await rename(dir, target);
+  return target;
+}
+
+/** Batches in rejected/, oldest first, with the server's reason (null when rejected.json is unreadable). */
+export async function listRejected(spoolRoot: string): Promise<{ dir: string; reason: RejectionReason | null }[]> {
+  const dirs = await subfolders(path.join(spoolRoot, REJECTED_DIR));
+  return Promise.all(
+    dirs.map(async (dir) => ({
+      dir,
+      reason: await readFile(path.join(dir, "rejected.json"), "utf8")
+        .then((t) => JSON.parse(t) as RejectionReason)
+        .catch(() => null),
+    })),
+  );
 }
 
 export async function loadSpooled(dir: string): Promise<SpooledBatch> {

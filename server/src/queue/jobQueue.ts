@@ -7,7 +7,7 @@
  */
 import PgBoss from "pg-boss";
 import { QueryTypes, type Sequelize, type Transaction } from "sequelize";
-import { DEAD_LETTER_QUEUE, QUEUE_SCHEMA, SCAN_QUEUE } from "./queueNames.ts";
+import { DEAD_LETTER_QUEUE, DEFAULT_QUEUE_OPTIONS, QUEUE_SCHEMA, SCAN_QUEUE } from "./queueNames.ts";
 
 /** What every scan job carries; enough to find our row again from a dead-letter copy. */
 export interface ScanJobData {
@@ -30,13 +30,18 @@ export interface JobQueue {
   fetch(max: number, transaction: Transaction): Promise<FetchedJob[]>;
   /** Completes an active job; one that is no longer active (expired into retry) is cancelled instead. */
   finish(queueJobId: string, output: object, transaction: Transaction): Promise<void>;
-  /** Fails the attempt; pg-boss retries it or, past the retry limit, dead-letters it. */
-  fail(queueJobId: string, output: object, transaction: Transaction): Promise<QueueJobState | null>;
-  /** Puts an active job straight back in the queue (no wait for the visibility timeout). */
+  /** Fails the job for good, whatever pg-boss's own retry count, so pg-boss files its dead-letter copy. */
+  deadLetter(queueJobId: string, output: object, transaction: Transaction): Promise<void>;
+  /**
+   * Puts an active job straight back in the queue, at its old place, without spending a pg-boss retry:
+   * a re-fetch counts a retry only when `started_on` is set, so it is cleared here.
+   */
   release(queueJobId: string, transaction: Transaction): Promise<boolean>;
   state(queueJobId: string, transaction?: Transaction): Promise<QueueJobState | null>;
   /** Sets the scan queue's visibility timeout, retry limit and retention for jobs sent from now on. */
-  configure(options: { expireInSeconds: number; retryLimit: number; retentionMinutes: number }): Promise<void>;
+  configure(options: { expireInSeconds: number; retryLimit: number; retentionMinutes: number; heartbeatSeconds?: number }): Promise<void>;
+  /** What request handlers decide with: the retry limit and the heartbeat limit (defaults until configured). */
+  readonly limits: { retryLimit: number; heartbeatSeconds: number };
 }
 
 function sequelizeDb(sequelize: Sequelize, transaction?: Transaction): PgBoss.Db {
@@ -60,6 +65,7 @@ export function jobQueueFor(sequelize: Sequelize): JobQueue {
   const affected = (result: unknown): number => Number((result as { affected?: number } | undefined)?.affected ?? 0);
 
   const queue: JobQueue = {
+    limits: { retryLimit: DEFAULT_QUEUE_OPTIONS.retryLimit, heartbeatSeconds: DEFAULT_QUEUE_OPTIONS.heartbeatSeconds },
     async insert(jobs, transaction) {
       if (jobs.length === 0) return;
       await boss.insert(
@@ -79,23 +85,32 @@ export function jobQueueFor(sequelize: Sequelize): JobQueue {
       const completed = affected(await boss.complete(SCAN_QUEUE, queueJobId, output, db(transaction)));
       if (completed === 0) await boss.cancel(SCAN_QUEUE, queueJobId, db(transaction));
     },
-    async fail(queueJobId, output, transaction) {
+    async deadLetter(queueJobId, output, transaction) {
+      // Our own count decided (a release re-fetch is no retry to us); pg-boss fails a job at its limit.
+      await sequelize.query(`update ${QUEUE_SCHEMA}.job set retry_count = retry_limit where name = $1 and id = $2`, {
+        bind: [SCAN_QUEUE, queueJobId],
+        type: QueryTypes.UPDATE,
+        transaction,
+      });
       await boss.fail(SCAN_QUEUE, queueJobId, output, db(transaction));
-      return queue.state(queueJobId, transaction);
     },
     async release(queueJobId, transaction) {
-      // Cancel then resume, in one transaction: the job is never seen cancelled, and no retry is spent.
-      const cancelled = affected(await boss.cancel(SCAN_QUEUE, queueJobId, db(transaction)));
-      if (cancelled === 0) return false;
-      await boss.resume(SCAN_QUEUE, queueJobId, db(transaction));
-      return true;
+      // pg-boss has no "un-fetch"; its cancel + resume would keep started_on, and the next fetch would count a retry.
+      const rows = await sequelize.query(
+        `update ${QUEUE_SCHEMA}.job set state = 'created', started_on = null, start_after = now()
+          where name = $1 and id = $2 and state in ('active', 'retry') returning id`,
+        { bind: [SCAN_QUEUE, queueJobId], type: QueryTypes.SELECT, transaction },
+      );
+      return rows.length > 0;
     },
     async state(queueJobId, transaction) {
       const job = await boss.getJobById<ScanJobData>(SCAN_QUEUE, queueJobId, { includeArchive: true, ...db(transaction) });
       return (job?.state as QueueJobState | undefined) ?? null;
     },
-    async configure(options) {
+    async configure({ heartbeatSeconds, ...options }) {
       await boss.updateQueue(SCAN_QUEUE, { name: SCAN_QUEUE, policy: "standard", deadLetter: DEAD_LETTER_QUEUE, retryDelay: 0, ...options });
+      queue.limits.retryLimit = options.retryLimit;
+      if (heartbeatSeconds !== undefined) queue.limits.heartbeatSeconds = heartbeatSeconds;
     },
   };
   queues.set(sequelize, queue);

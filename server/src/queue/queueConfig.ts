@@ -1,7 +1,8 @@
 /**
  * The job queue's settings, from the environment (read once by main.ts):
  * TIDEMARK_JOB_EXPIRE_SECONDS (visibility timeout: longer than the slowest file takes to scan and upload),
- * TIDEMARK_JOB_RETRY_LIMIT (attempts after the first before a job is dead-lettered),
+ * TIDEMARK_JOB_RETRY_LIMIT (failed attempts after the first before a job is dead-lettered),
+ * TIDEMARK_JOB_HEARTBEAT_SECONDS (a job whose worker is silent this long goes back to the queue),
  * TIDEMARK_JOB_RETENTION_DAYS (how long a queued job may wait), and
  * TIDEMARK_QUEUE_MAINTENANCE_SECONDS (how often expired jobs are looked for).
  */
@@ -11,6 +12,7 @@ import { DEFAULT_QUEUE_OPTIONS } from "./queueNames.ts";
 export interface QueueConfig {
   expireInSeconds: number;
   retryLimit: number;
+  heartbeatSeconds: number;
   retentionMinutes: number;
   maintenanceIntervalSeconds: number;
 }
@@ -30,6 +32,7 @@ export function loadQueueConfig(env: NodeJS.ProcessEnv = process.env): QueueConf
   return {
     expireInSeconds: wholeNumber(env, "TIDEMARK_JOB_EXPIRE_SECONDS", DEFAULT_QUEUE_OPTIONS.expireInSeconds, 1, MAX_EXPIRE_SECONDS),
     retryLimit: wholeNumber(env, "TIDEMARK_JOB_RETRY_LIMIT", DEFAULT_QUEUE_OPTIONS.retryLimit, 0, 100),
+    heartbeatSeconds: wholeNumber(env, "TIDEMARK_JOB_HEARTBEAT_SECONDS", DEFAULT_QUEUE_OPTIONS.heartbeatSeconds, 2, 3600),
     retentionMinutes: wholeNumber(env, "TIDEMARK_JOB_RETENTION_DAYS", DEFAULT_QUEUE_OPTIONS.retentionMinutes / 1440, 1, 3650) * 1440,
     maintenanceIntervalSeconds: wholeNumber(env, "TIDEMARK_QUEUE_MAINTENANCE_SECONDS", 30, 1, 3600),
   };

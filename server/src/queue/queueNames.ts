@@ -11,8 +11,10 @@ export const DEAD_LETTER_QUEUE = "tidemark-scan-dead";
 export const DEFAULT_QUEUE_OPTIONS = {
   /** Visibility timeout: an active job with no result after this long goes back to the queue. */
   expireInSeconds: 15 * 60,
-  /** Attempts after the first. */
+  /** Failed attempts after the first before a job is dead-lettered (also: distinct workers that cannot reach it, minus one). */
   retryLimit: 3,
+  /** An active job whose worker sent no heartbeat for this long goes back to the queue. */
+  heartbeatSeconds: 60,
   /** A queued job nobody starts within this is dropped by pg-boss: keep it far above any backlog. */
   retentionMinutes: 365 * 24 * 60,
 } as const;

@@ -6,7 +6,7 @@
  */
 import { Op, type Sequelize, type Transaction } from "sequelize";
 import { AuditEntry } from "../models/index.ts";
-import { closeAttempts } from "../services/runsJobs.ts";
+import { closeAttempts, endAttempt } from "../services/runsJobs.ts";
 import { markRunFinishedIfDone } from "../services/runsStatus.ts";
 import { jobQueueFor, type ScanJobData } from "./jobQueue.ts";
 import { ScanJob } from "./models/index.ts";
@@ -48,6 +48,35 @@ export async function reconcileExpiredJobs(sequelize: Sequelize, now = new Date(
     });
   }
   return outcome;
+}
+
+/**
+ * Jobs whose worker has been silent past the heartbeat limit (killed, frozen, or cut off): each goes back
+ * to its place in the queue at once, counted as a failed attempt (a file that kills its worker every time
+ * is dead-lettered, not retried for ever). The run page shows why in the job's last error.
+ */
+export async function requeueSilentJobs(sequelize: Sequelize, heartbeatSeconds: number, now = new Date()): Promise<{ requeued: number; failed: number }> {
+  const cutoff = new Date(now.getTime() - heartbeatSeconds * 1000);
+  const stale = await ScanJob.findAll({ where: { state: "active", heartbeatAt: { [Op.lt]: cutoff } }, attributes: ["id"], order: [["heartbeatAt", "ASC"]], limit: BATCH });
+  const outcome = { requeued: 0, failed: 0 };
+  for (const { id } of stale) {
+    await sequelize.transaction(async (transaction) => {
+      const job = await ScanJob.findByPk(id, { transaction, lock: transaction.LOCK.UPDATE });
+      if (!job || job.state !== "active" || !job.heartbeatAt || job.heartbeatAt >= cutoff) return;
+      const silent = Math.round((now.getTime() - job.heartbeatAt.getTime()) / 1000);
+      const message = `attempt ${job.attempts} by ${job.worker ?? "a worker"}: no heartbeat for ${silent} s (limit ${heartbeatSeconds} s); the worker stopped or lost the server`;
+      const state = await endAttempt(sequelize, job, { outcome: "expired", message, worker: job.worker }, transaction);
+      await systemAudit("job.heartbeat_lost", job, { attempt: job.attempts, worker: job.worker, silentSeconds: silent, state }, transaction);
+      if (state === "failed") outcome.failed += 1;
+      else outcome.requeued += 1;
+    });
+  }
+  return outcome;
+}
+
+/** After a server restart every worker gets a full heartbeat limit to reach it again before its jobs are taken back. */
+export async function resetHeartbeats(sequelize: Sequelize): Promise<void> {
+  await sequelize.query(`update scan_jobs set heartbeat_at = now() where state = 'active'`);
 }
 
 /** A dead-letter copy: the job it came from spent its retries. */

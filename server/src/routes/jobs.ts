@@ -1,13 +1,14 @@
 /**
- * The worker's endpoints (API token only): claim jobs, send one file's result (multipart: the one-file
- * report plus its artefact parts, as ingest takes them), fail or release an attempt. Supervisors and admins
- * retry dead-lettered jobs.
+ * The worker's endpoints (API token only): claim jobs, report heartbeats, send one file's result
+ * (multipart: the one-file report plus its artefact parts, as ingest takes them), fail or release an
+ * attempt; each only from the token that claimed the job, or an admin. Supervisors and admins send a held
+ * job back to the queue and retry dead-lettered jobs.
  */
 import { mkdirSync } from "node:fs";
 import { rm } from "node:fs/promises";
 import { Router, type RequestHandler } from "express";
 import multer from "multer";
-import type { ClaimJobsResultDto } from "@tidemark/shared/types/api";
+import type { ClaimJobsResultDto, JobHeartbeatResultDto } from "@tidemark/shared/types/api";
 import type { AppContext } from "../context.ts";
 import { HttpError } from "../errors.ts";
 import { requirePermission, requireTokenAuth } from "../middleware/auth.ts";
@@ -15,12 +16,15 @@ import { idParam } from "../middleware/loadEntity.ts";
 import { initRunModels } from "../queue/models/index.ts";
 import { recordAudit } from "../services/audit.ts";
 import { largestPartBytes, PART_KIND_NAMES, readArtefactParts, readReport, type UploadedPart } from "../services/ingestValidation.ts";
-import { claimJobs, failJob, releaseJob, retryJob } from "../services/runsJobs.ts";
+import { assertJobHolder, claimJobs, failJob, heartbeatJobs, releaseJob, releaseUndelivered, requeueJob, retryJob } from "../services/runsJobs.ts";
 import { storeJobResult } from "../services/runsResults.ts";
-import { claimSchema, failSchema, releaseSchema, resultFieldsSchema } from "../services/runsValidation.ts";
+import { claimSchema, failSchema, heartbeatSchema, releaseSchema, resultFieldsSchema } from "../services/runsValidation.ts";
 import { parseWith } from "../validate.ts";
 
 type PartsByField = Record<string, Express.Multer.File[]>;
+
+/** How often a waiting claim looks at the queue again: the most an idle worker waits for a new job. */
+const CLAIM_WAIT_STEP_MS = 300;
 
 function resultUpload(ctx: AppContext): RequestHandler {
   const { upload, uploadTmpDir } = ctx.settings;
@@ -45,7 +49,29 @@ export function jobsRouter(ctx: AppContext): Router {
 
   router.post("/jobs/claim", requireTokenAuth, requirePermission("upload"), async (req, res) => {
     const input = parseWith(claimSchema, req.body ?? {}, "claim");
-    const body: ClaimJobsResultDto = { jobs: await claimJobs(ctx, res, input.worker, input.max) };
+    // A long poll: with `wait`, an empty queue is looked at again every few hundred ms until a job comes,
+    // the wait ends, the worker hangs up, or the server starts shutting down (it stops listening).
+    let hungUp = false;
+    res.on("close", () => {
+      hungUp = !res.writableEnded;
+    });
+    const listener = (req.socket as { server?: { listening?: boolean } }).server;
+    const deadline = Date.now() + input.wait * 1000;
+    const stopWaiting = (): boolean => hungUp || listener?.listening === false;
+    let body: ClaimJobsResultDto = await claimJobs(ctx, res, input.worker, input.max);
+    for (;;) {
+      if (hungUp && body.jobs.length > 0) return void (await releaseUndelivered(ctx, body.jobs));
+      if (body.jobs.length > 0 || stopWaiting() || Date.now() + CLAIM_WAIT_STEP_MS > deadline) return void res.json(body);
+      await new Promise((resolve) => setTimeout(resolve, CLAIM_WAIT_STEP_MS));
+      // Looked at again before touching the database: a shutdown may have closed it meanwhile.
+      if (stopWaiting()) return void res.json(body);
+      body = await claimJobs(ctx, res, input.worker, input.max);
+    }
+  });
+
+  router.post("/jobs/heartbeat", requireTokenAuth, requirePermission("upload"), async (req, res) => {
+    const input = parseWith(heartbeatSchema, req.body ?? {}, "heartbeat");
+    const body: JobHeartbeatResultDto = await heartbeatJobs(ctx, res, input.jobs);
     res.json(body);
   });
 
@@ -54,6 +80,7 @@ export function jobsRouter(ctx: AppContext): Router {
     const parts = (req.files ?? {}) as PartsByField;
     const all: UploadedPart[] = Object.values(parts).flat();
     try {
+      await assertJobHolder(res, id, "send a result for");
       const fields = parseWith(resultFieldsSchema, req.body ?? {}, "result fields");
       const report = await readReport(parts.report?.[0], ctx.settings.upload);
       const artefacts = await readArtefactParts(PART_KIND_NAMES.flatMap((kind) => parts[kind] ?? []), report, ctx.settings.upload);
@@ -75,6 +102,11 @@ export function jobsRouter(ctx: AppContext): Router {
   router.post("/jobs/:id/release", requireTokenAuth, requirePermission("upload"), async (req, res) => {
     const id = idParam(req, "job");
     res.json(await releaseJob(ctx, res, id, parseWith(releaseSchema, req.body ?? {}, "release")));
+  });
+
+  /** A supervisor sends a job a worker holds (stuck, or its worker gone) back to the queue. */
+  router.post("/jobs/:id/requeue", requirePermission("review"), async (req, res) => {
+    res.json(await requeueJob(ctx, res, idParam(req, "job")));
   });
 
   router.post("/jobs/:id/retry", requirePermission("review"), async (req, res) => {

@@ -10,7 +10,7 @@ import { requirePermission, requireTokenAuth } from "../middleware/auth.ts";
 import { idParam } from "../middleware/loadEntity.ts";
 import { initRunModels } from "../queue/models/index.ts";
 import { optionalEnum, optionalId, pageParams } from "../queryParams.ts";
-import { createOrFindRun, enqueueFiles, listRunJobs, listRuns, runDetail } from "../services/runs.ts";
+import { assertRunOwner, createOrFindRun, enqueueFiles, listRunJobs, listRuns, runDetail } from "../services/runs.ts";
 import { retryRun } from "../services/runsJobs.ts";
 import { createRunSchema, enqueueFilesSchema } from "../services/runsValidation.ts";
 import { parseWith } from "../validate.ts";
@@ -31,6 +31,7 @@ export function runsRouter(ctx: AppContext): Router {
   router.post("/runs/:id/files", requireTokenAuth, requirePermission("upload"), async (req, res) => {
     const id = idParam(req, "run");
     const input = parseWith(enqueueFilesSchema, req.body ?? {}, "files");
+    await assertRunOwner(res, id);
     res.json(await enqueueFiles(ctx, res, id, input.files));
   });
 

@@ -6,7 +6,7 @@
  */
 import { randomUUID } from "node:crypto";
 import type { Response } from "express";
-import { QueryTypes, type Transaction } from "sequelize";
+import { Op, QueryTypes, type Transaction } from "sequelize";
 import type {
   CreateRunRequest,
   EnqueueFileDto,
@@ -19,7 +19,7 @@ import type {
 } from "@tidemark/shared/types/api";
 import type { ReportSummary } from "@tidemark/shared/types/report";
 import type { AppContext } from "../context.ts";
-import { conflict, notFound } from "../errors.ts";
+import { conflict, forbidden, notFound } from "../errors.ts";
 import { Batch, Collection, User } from "../models/index.ts";
 import { orderedJobId } from "../queue/jobIds.ts";
 import { jobQueueFor } from "../queue/jobQueue.ts";
@@ -69,6 +69,16 @@ export async function loadRun(id: number, transaction?: Transaction): Promise<Sc
   const run = await ScanRun.findByPk(id, { include: runIncludes, transaction });
   if (!run) throw notFound("run", id);
   return run;
+}
+
+/** Files are added to a run only by the user who created it (any of their tokens) or an admin: 403, audited. */
+export async function assertRunOwner(res: Response, runId: number): Promise<void> {
+  const user = res.locals.auth!.user;
+  const run = await ScanRun.findByPk(runId, { attributes: ["id", "createdBy"] });
+  if (!run) throw notFound("run", runId);
+  if (run.createdBy === user.id || user.role === "admin") return;
+  await recordAudit(res, { action: "run.forbidden", targetType: "run", targetId: runId, details: { attempted: "add files" } });
+  throw forbidden(`run ${runId} was created by another user; only they or an admin may add files to it (choose another --run name)`, "not_run_owner");
 }
 
 export async function createOrFindRun(ctx: AppContext, res: Response, input: CreateRunRequest): Promise<{ run: ScanRunDto; created: boolean }> {
@@ -164,7 +174,7 @@ export async function enqueueFiles(ctx: AppContext, res: Response, runId: number
         else result.changed.push(file.path);
       } else if (job.state === "failed") {
         const queueJobId = orderedJobId();
-        await job.update({ queueJobId, state: "queued", sizeBytes: file.sizeBytes, mtimeMs: file.mtimeMs, expiresAt: null }, { transaction });
+        await job.update({ queueJobId, state: "queued", sizeBytes: file.sizeBytes, mtimeMs: file.mtimeMs, expiresAt: null, heartbeatAt: null, failures: 0, unreachableBy: [] }, { transaction });
         toSend.push({ queueJobId, data: { scanJobId: job.id, runId, queueJobId } });
         result.requeued += 1;
       } else {
@@ -220,12 +230,13 @@ export async function listRuns(ctx: AppContext, query: { collection?: number; pa
 
 export async function runDetail(ctx: AppContext, id: number): Promise<ScanRunDetailDto> {
   const run = await loadRun(id);
-  const [[dto], failed, active] = await Promise.all([
+  const [[dto], failed, active, returned] = await Promise.all([
     runDtos(ctx, [run]),
     ScanJob.findAll({ where: { runId: id, state: "failed" }, order: [["updatedAt", "ASC"], ["id", "ASC"]], limit: DETAIL_JOB_LIMIT }),
     ScanJob.findAll({ where: { runId: id, state: "active" }, order: [["claimedAt", "ASC"], ["id", "ASC"]], limit: DETAIL_JOB_LIMIT }),
+    ScanJob.findAll({ where: { runId: id, state: "queued", lastError: { [Op.ne]: null } }, order: [["updatedAt", "DESC"], ["id", "DESC"]], limit: DETAIL_JOB_LIMIT }),
   ]);
-  return toScanRunDetailDto(dto, failed, active);
+  return toScanRunDetailDto(dto, failed, active, returned);
 }
 
 export async function listRunJobs(id: number, query: { state?: ScanJobState; page: number; pageSize: number }): Promise<Page<ScanJobDto>> {

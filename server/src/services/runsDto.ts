@@ -48,6 +48,6 @@ export function toScanJobDto(job: ScanJob): ScanJobDto {
   };
 }
 
-export function toScanRunDetailDto(base: ScanRunDto, failed: ScanJob[], active: ScanJob[]): ScanRunDetailDto {
-  return { ...base, failedJobs: failed.map(toScanJobDto), activeJobs: active.map(toScanJobDto) };
+export function toScanRunDetailDto(base: ScanRunDto, failed: ScanJob[], active: ScanJob[], returned: ScanJob[]): ScanRunDetailDto {
+  return { ...base, failedJobs: failed.map(toScanJobDto), activeJobs: active.map(toScanJobDto), returnedJobs: returned.map(toScanJobDto) };
 }

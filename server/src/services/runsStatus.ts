@@ -72,19 +72,24 @@ export function runState(counts: ScanRunCountsDto, startedAt: Date | null): Scan
   return counts.failed > 0 ? "failed" : "done";
 }
 
+/** A finished run is judged by its whole-run rate; a running one by what it does now (a stall shows). */
 export function runThroughput(stats: RunStats, startedAt: Date | null, now = new Date()): ScanRunThroughputDto {
   const windowSeconds = THROUGHPUT_WINDOW_SECONDS;
+  const running = stats.counts.queued + stats.counts.active > 0;
   if (!startedAt || !stats.lastResultAt || stats.counts.done === 0) {
-    return { filesPerMinute: null, recentFilesPerMinute: null, audioSecondsPerSecond: null, windowSeconds };
+    return { filesPerMinute: null, recentFilesPerMinute: null, audioSecondsPerSecond: null, windowSeconds, shown: { basis: running ? "recent" : "whole-run", filesPerMinute: null } };
   }
   const elapsedSeconds = Math.max(0.001, (stats.lastResultAt.getTime() - startedAt.getTime()) / 1000);
   // A run younger than the window is measured over its own age.
   const windowUsed = Math.max(0.001, Math.min(windowSeconds, (now.getTime() - startedAt.getTime()) / 1000));
+  const filesPerMinute = (stats.counts.done / elapsedSeconds) * 60;
+  const recentFilesPerMinute = stats.recentDone > 0 ? (stats.recentDone / windowUsed) * 60 : null;
   return {
-    filesPerMinute: (stats.counts.done / elapsedSeconds) * 60,
-    recentFilesPerMinute: stats.recentDone > 0 ? (stats.recentDone / windowUsed) * 60 : null,
+    filesPerMinute,
+    recentFilesPerMinute,
     audioSecondsPerSecond: stats.audioSeconds / elapsedSeconds,
     windowSeconds,
+    shown: running ? { basis: "recent", filesPerMinute: recentFilesPerMinute } : { basis: "whole-run", filesPerMinute },
   };
 }
 

@@ -57,9 +57,19 @@ export const enqueueFilesSchema = z
 const workerName = label(200);
 const attempt = z.number().int().min(1).max(1_000_000);
 
-export const claimSchema = z.object({ worker: workerName, max: z.number().int().min(1).max(MAX_CLAIM).default(1) }).strict();
+/** Longest a claim may wait on the server for a job to arrive (a long poll). */
+export const MAX_CLAIM_WAIT_SECONDS = 10;
+
+export const claimSchema = z
+  .object({ worker: workerName, max: z.number().int().min(1).max(MAX_CLAIM).default(1), wait: z.number().min(0).max(MAX_CLAIM_WAIT_SECONDS).default(0) })
+  .strict();
 export const failSchema = z.object({ attempt, worker: workerName, message: z.string().trim().min(1).max(2000) }).strict();
-export const releaseSchema = z.object({ attempt, worker: workerName }).strict();
+export const releaseSchema = z
+  .object({ attempt, worker: workerName, reason: z.enum(["stopping", "unreachable"]).optional(), message: z.string().trim().min(1).max(2000).optional() })
+  .strict();
+export const heartbeatSchema = z
+  .object({ worker: workerName, jobs: z.array(z.object({ id: z.number().int().min(1), attempt }).strict()).max(256) })
+  .strict();
 /** Text fields of a result upload (multipart strings). */
 export const resultFieldsSchema = z.object({ attempt: z.coerce.number().int().min(1).max(1_000_000), worker: workerName }).strict();
 

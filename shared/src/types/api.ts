@@ -411,6 +411,11 @@ export interface ScanRunCountsDto {
 export interface ScanRunThroughputDto {
   /** Done files per minute, from the first claim to the last result (null before the first result). */
   filesPerMinute: number | null;
+  /**
+   * The rate to show as "the" throughput: the whole run's once it has finished, the recent rate while it
+   * runs (null when nothing finished in the window), with which one it is.
+   */
+  shown: { basis: "whole-run" | "recent"; filesPerMinute: number | null };
   /** Done files per minute over the last `windowSeconds` (null when nothing finished in it). */
   recentFilesPerMinute: number | null;
   /** Seconds of audio measured per second of wall-clock time (null before the first result). */
@@ -460,6 +465,8 @@ export interface ScanRunDetailDto extends ScanRunDto {
   failedJobs: ScanJobDto[];
   /** Jobs a worker holds now. */
   activeJobs: ScanJobDto[];
+  /** Queued jobs that went back to the queue (worker silent, file unreachable, failed, sent back by hand), latest first, with why. */
+  returnedJobs: ScanJobDto[];
 }
 
 /** Query of GET /api/runs. */
@@ -532,6 +539,8 @@ export interface ClaimJobsRequest {
   worker: string;
   /** Jobs wanted, 1–16 (default 1). */
   max?: number;
+  /** Seconds (0–10, default 0) the server may hold the request open for a job to arrive: a long poll. */
+  wait?: number;
 }
 
 export interface ClaimedJobDto {
@@ -553,6 +562,20 @@ export interface ClaimedJobDto {
 
 export interface ClaimJobsResultDto {
   jobs: ClaimedJobDto[];
+  /** How often to POST /api/jobs/heartbeat while holding jobs; a job silent past the server's limit goes back to the queue. */
+  heartbeatIntervalSeconds: number;
+}
+
+/** POST /api/jobs/heartbeat body: the jobs this worker holds. */
+export interface JobHeartbeatRequest {
+  worker: string;
+  jobs: { id: number; attempt: number }[];
+}
+
+/** `lost`: jobs this worker no longer holds (taken back, or not claimed with this token): drop them. */
+export interface JobHeartbeatResultDto {
+  held: number[];
+  lost: number[];
 }
 
 /** POST /api/jobs/:id/result answer (201 stored, 200 already stored by an earlier attempt). */
@@ -571,10 +594,16 @@ export interface FailJobRequest {
   message: string;
 }
 
-/** POST /api/jobs/:id/release body. */
+/**
+ * POST /api/jobs/:id/release body. No retry is spent. `unreachable`: this worker cannot reach the file
+ * (storage not mounted); it is not offered the job again, and the job is dead-lettered only when as many
+ * distinct workers as the retry limit allows could not reach it either.
+ */
 export interface ReleaseJobRequest {
   attempt: number;
   worker: string;
+  reason?: "stopping" | "unreachable";
+  message?: string;
 }
 
 /** Answer of fail, release and retry. */

@@ -1,6 +1,6 @@
 /**
  * Runs of distributed scanning: the list and one run's progress, refreshed while work is going on, and
- * the supervisor's retry of dead-lettered jobs (one, or all of a run's).
+ * the supervisor's retry of dead-lettered jobs (one, or all of a run's) and release of a held job.
  */
 import { keepPreviousData, queryOptions, useMutation, useQuery, useQueryClient } from "@tanstack/react-query";
 import type { JobStateDto, Page, RetryRunResultDto, ScanRunDetailDto, ScanRunDto, ScanRunQuery } from "@tidemark/shared/types/api";
@@ -51,6 +51,15 @@ export function useRetryJob(runId: number) {
   const settle = useAfterRetry(runId);
   return useMutation({
     mutationFn: (jobId: number) => sendJson<JobStateDto>("POST", `/api/jobs/${jobId}/retry`),
+    onSettled: settle,
+  });
+}
+
+/** A supervisor sends a job a worker holds (stuck, or its worker gone) back to the queue; no retry is spent. */
+export function useRequeueJob(runId: number) {
+  const settle = useAfterRetry(runId);
+  return useMutation({
+    mutationFn: (jobId: number) => sendJson<JobStateDto>("POST", `/api/jobs/${jobId}/requeue`),
     onSettled: settle,
   });
 }

@@ -1,7 +1,7 @@
 import { Link, useParams } from "react-router";
 import type { ScanJobDto, ScanRunDetailDto } from "@tidemark/shared/types/api";
 import { describeError } from "../api/client.ts";
-import { useRetryJob, useRetryRun, useRun } from "../api/runs.ts";
+import { useRequeueJob, useRetryJob, useRetryRun, useRun } from "../api/runs.ts";
 import { useCan } from "../auth/currentUser.ts";
 import { PageHeader } from "../components/PageHeader.tsx";
 import { buttonClass } from "../components/fields.tsx";
@@ -64,6 +64,53 @@ function FailedJobs({ run }: { run: ScanRunDetailDto }) {
   );
 }
 
+function ActiveJobs({ run }: { run: ScanRunDetailDto }) {
+  const mayRequeue = useCan("review");
+  const requeue = useRequeueJob(run.id);
+  return (
+    <section aria-labelledby="active-jobs" className="mt-6">
+      <h2 id="active-jobs" className="mb-2 text-lg">
+        Being scanned now <span className="text-ink-muted">({run.counts.active})</span>
+      </h2>
+      <p className="mb-2 text-sm text-ink-muted">
+        A worker reports on each job it holds every few seconds; a job whose worker falls silent goes back to the queue by itself. Send one back by hand when its worker is known to be stuck.
+      </p>
+      {requeue.error && <InlineError message={`The job could not be sent back: ${describeError(requeue.error)}`} />}
+      {run.activeJobs.length === 0 ? (
+        <p className="text-sm">No worker holds a job of this run.</p>
+      ) : (
+        <JobsTable
+          caption="Jobs being scanned"
+          jobs={run.activeJobs}
+          columns={[jobColumns.path, jobColumns.worker, jobColumns.attempts, jobColumns.claimedAt]}
+          action={
+            mayRequeue
+              ? (job: ScanJobDto) => (
+                  <button type="button" className={buttonClass.secondary} disabled={requeue.isPending && requeue.variables === job.id} onClick={() => requeue.mutate(job.id)} aria-label={`Send ${job.path} back to the queue`}>
+                    Back to queue
+                  </button>
+                )
+              : undefined
+          }
+        />
+      )}
+    </section>
+  );
+}
+
+function ReturnedJobs({ run }: { run: ScanRunDetailDto }) {
+  if (run.returnedJobs.length === 0) return null;
+  return (
+    <section aria-labelledby="returned-jobs" className="mt-6">
+      <h2 id="returned-jobs" className="mb-2 text-lg">
+        Back in the queue <span className="text-ink-muted">({run.returnedJobs.length})</span>
+      </h2>
+      <p className="mb-2 text-sm text-ink-muted">Jobs waiting for another try, and why their last attempt ended.</p>
+      <JobsTable caption="Jobs back in the queue" jobs={run.returnedJobs} columns={[jobColumns.path, jobColumns.attempts, jobColumns.lastError, jobColumns.worker, jobColumns.updatedAt]} />
+    </section>
+  );
+}
+
 export function RunDetailPage() {
   const { runId } = useParams();
   const id = Number(runId);
@@ -108,7 +155,7 @@ export function RunDetailPage() {
       </dl>
       <dl className="mt-2 grid grid-cols-1 gap-2 sm:grid-cols-3">
         <Stat label="Throughput, whole run" value={formatFilesPerMinute(throughput.filesPerMinute)} />
-        <Stat label={`Last ${Math.round(throughput.windowSeconds / 60)} minutes`} value={formatFilesPerMinute(throughput.recentFilesPerMinute)} />
+        <Stat label={`Last ${Math.round(throughput.windowSeconds / 60)} minutes${throughput.shown.basis === "whole-run" ? " (run finished)" : ""}`} value={formatFilesPerMinute(throughput.recentFilesPerMinute)} />
         <Stat label="Audio measured" value={formatRealTime(throughput.audioSecondsPerSecond)} />
       </dl>
       <p className="mt-2 text-sm text-ink-muted">
@@ -118,16 +165,8 @@ export function RunDetailPage() {
 
       <FailedJobs run={run} />
 
-      <section aria-labelledby="active-jobs" className="mt-6">
-        <h2 id="active-jobs" className="mb-2 text-lg">
-          Being scanned now <span className="text-ink-muted">({counts.active})</span>
-        </h2>
-        {run.activeJobs.length === 0 ? (
-          <p className="text-sm">No worker holds a job of this run.</p>
-        ) : (
-          <JobsTable caption="Jobs being scanned" jobs={run.activeJobs} columns={[jobColumns.path, jobColumns.worker, jobColumns.attempts, jobColumns.claimedAt]} />
-        )}
-      </section>
+      <ActiveJobs run={run} />
+      <ReturnedJobs run={run} />
     </>
   );
 }

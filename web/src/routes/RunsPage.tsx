@@ -9,7 +9,7 @@ import { Pagination, PAGE_SIZES } from "../components/Pagination.tsx";
 import { SelectField } from "../components/fields.tsx";
 import { RunProgressBar } from "../components/runs/RunProgressBar.tsx";
 import { RunStateBadge } from "../components/runs/RunStateBadge.tsx";
-import { formatFilesPerMinute } from "../components/runs/runFormat.ts";
+import { formatFilesPerMinute, throughputBasisLabel } from "../components/runs/runFormat.ts";
 import { EmptyState, ErrorState, LoadingState } from "../components/states.tsx";
 import { formatDateTime } from "../format/units.ts";
 
@@ -111,7 +111,10 @@ export function RunsPage() {
                       </span>
                     </td>
                     <td className={`px-2 py-1.5 text-right ${run.counts.failed > 0 ? "font-semibold text-fail" : "text-ink-muted"}`}>{run.counts.failed}</td>
-                    <td className="px-2 py-1.5 text-right whitespace-nowrap">{formatFilesPerMinute(run.throughput.recentFilesPerMinute ?? run.throughput.filesPerMinute)}</td>
+                    <td className="px-2 py-1.5 text-right whitespace-nowrap">
+                      {formatFilesPerMinute(run.throughput.shown.filesPerMinute)}
+                      <span className="block text-xs text-ink-muted">{throughputBasisLabel(run.throughput.shown.basis, run.throughput.windowSeconds)}</span>
+                    </td>
                     <td className="px-2 py-1.5 whitespace-nowrap">{formatDateTime(run.createdAt)}</td>
                   </tr>
                 ))}

@@ -27,6 +27,12 @@ export class ScanJob extends Model<InferAttributes<ScanJob>, InferCreationAttrib
   declare lastError: string | null;
   declare claimedAt: Date | null;
   declare expiresAt: Date | null;
+  /** Last sign of life of the worker holding the job (active jobs only). */
+  declare heartbeatAt: CreationOptional<Date | null>;
+  /** Workers that could not reach the file since the job was last queued afresh. */
+  declare unreachableBy: CreationOptional<string[]>;
+  /** Failed or silent attempts since the job was last queued afresh; N of them dead-letter it. */
+  declare failures: CreationOptional<number>;
   declare doneAt: Date | null;
   declare fileResultId: number | null;
   declare createdAt: CreationOptional<Date>;
@@ -48,6 +54,9 @@ export class ScanJob extends Model<InferAttributes<ScanJob>, InferCreationAttrib
         lastError: { type: DataTypes.TEXT, allowNull: true },
         claimedAt: { type: DataTypes.DATE, allowNull: true },
         expiresAt: { type: DataTypes.DATE, allowNull: true },
+        heartbeatAt: { type: DataTypes.DATE, allowNull: true },
+        unreachableBy: { type: DataTypes.ARRAY(DataTypes.TEXT), allowNull: false, defaultValue: [] },
+        failures: { type: DataTypes.INTEGER, allowNull: false, defaultValue: 0 },
         doneAt: { type: DataTypes.DATE, allowNull: true },
         fileResultId: { type: DataTypes.INTEGER, allowNull: true },
         createdAt: DataTypes.DATE,

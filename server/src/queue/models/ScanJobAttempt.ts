@@ -9,8 +9,11 @@ import {
 } from "sequelize";
 import type { ScanJob } from "./ScanJob.ts";
 
-/** `superseded`: another attempt delivered the result while this one was still open. */
-export const ATTEMPT_OUTCOMES = ["done", "failed", "released", "expired", "superseded"] as const;
+/**
+ * `superseded`: another attempt delivered the result while this one was still open; `unreachable`: the
+ * worker could not reach the file (no retry spent); `requeued`: a supervisor sent it back by hand.
+ */
+export const ATTEMPT_OUTCOMES = ["done", "failed", "released", "expired", "superseded", "unreachable", "requeued"] as const;
 export type AttemptOutcome = (typeof ATTEMPT_OUTCOMES)[number];
 
 /** One claim of a job by a worker, and how it ended (null while it is still open). */
@@ -19,6 +22,8 @@ export class ScanJobAttempt extends Model<InferAttributes<ScanJobAttempt>, Infer
   declare jobId: ForeignKey<ScanJob["id"]>;
   declare attempt: number;
   declare worker: string;
+  /** The API token that claimed this attempt (null once the token is deleted). */
+  declare tokenId: string | null;
   declare claimedAt: CreationOptional<Date>;
   declare endedAt: Date | null;
   declare outcome: AttemptOutcome | null;
@@ -30,6 +35,7 @@ export class ScanJobAttempt extends Model<InferAttributes<ScanJobAttempt>, Infer
         id: { type: DataTypes.INTEGER, autoIncrement: true, primaryKey: true },
         attempt: { type: DataTypes.INTEGER, allowNull: false },
         worker: { type: DataTypes.TEXT, allowNull: false },
+        tokenId: { type: DataTypes.TEXT, allowNull: true },
         claimedAt: { type: DataTypes.DATE, allowNull: false, defaultValue: DataTypes.NOW },
         endedAt: { type: DataTypes.DATE, allowNull: true },
         outcome: { type: DataTypes.TEXT, allowNull: true },
