@@ -308,6 +308,7 @@ export function createProgram(actions: Partial<CommandActions & QueueCommandActi
     .option("--no-images", "send no spectrogram or waveform PNGs (faster; the portal shows none)")
     .option("--exit-when-idle", "exit once the queue is empty instead of waiting for more")
     .option("-q, --quiet", "no line per job")
+    .addOption(new Option("--progress <mode>", "progress display: auto (a live line on a terminal: bytes of each job in hand, ETA) or json (JSON lines on stderr)").choices(PROGRESS_MODES).default("auto"))
     .action(async (o: Record<string, unknown>) => {
       const cliIo = io();
       const options: WorkerOptions = {
@@ -321,6 +322,7 @@ export function createProgram(actions: Partial<CommandActions & QueueCommandActi
         images: o.images !== false,
         exitWhenIdle: o.exitWhenIdle === true,
         quiet: o.quiet === true,
+        progress: o.progress as ProgressMode,
       };
       await finish(run.worker(options, cliIo));
     });

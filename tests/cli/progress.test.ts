@@ -56,6 +56,21 @@ describe("JSON-lines progress", () => {
     expect(records.at(-1)).toMatchObject({ event: "done", filesDone: 1, bytesDone: 1500 });
   });
 
+  it("grows its totals as a worker claims jobs, so the ETA covers the jobs in hand", () => {
+    let t = 0;
+    const lines: string[] = [];
+    const stream = { write: (s: string) => lines.push(s), isTTY: false } as unknown as NodeJS.WritableStream;
+    const p = createScanProgress({ total: 0, totalBytes: 0, alreadyDone: 0, stream, display: "json", now: () => t });
+    p.grow(1, 4000);
+    p.fileStarted("reel-7.wav");
+    t = 2000;
+    p.fileBytes("reel-7.wav", 1000);
+    p.stop();
+    const records = lines.map((l) => JSON.parse(l) as Record<string, unknown>);
+    // 1000 of 4000 bytes in 2 s: 6 s left.
+    expect(records.find((r) => r.event === "progress" && r.bytesDone === 1000)).toMatchObject({ files: 1, bytes: 4000, etaSeconds: 6 });
+  });
+
   it("writes nothing when off", () => {
     const lines: string[] = [];
     const stream = { write: (s: string) => lines.push(s), isTTY: true, columns: 80 } as unknown as NodeJS.WritableStream;

@@ -13,6 +13,8 @@ import { createApiClient, retryPolicyFrom } from "../api/apiClient.ts";
 import { resolveCredentials } from "../config/storedLogin.ts";
 import { EXIT_CODES, ExitError } from "../errors.ts";
 import type { CliIo } from "../io.ts";
+import type { ProgressMode } from "../options.ts";
+import { createScanProgress, progressDisplay } from "../scan/progress.ts";
 import type { PathMount } from "../queue/pathMounts.ts";
 import { createScanEngines } from "../queue/scanEngines.ts";
 import { startWorkerLoop, type WorkerStopError, type WorkerSummary } from "../queue/workerLoop.ts";
@@ -30,6 +32,8 @@ export interface WorkerOptions {
   images: boolean;
   exitWhenIdle: boolean;
   quiet: boolean;
+  /** auto: a live line on a terminal (bytes of each job in hand, ETA); json: JSON lines on stderr. */
+  progress: ProgressMode;
 }
 
 const STOP_EXIT: Record<WorkerStopError["kind"], number> = {
@@ -44,7 +48,9 @@ function counts(s: WorkerSummary): string {
 }
 
 export async function workerCommand(options: WorkerOptions, io: CliIo): Promise<number> {
-  const log = (line: string): void => void io.stderr.write(`tidemark: ${line}\n`);
+  // Counts grow as jobs are claimed: the ETA is for the jobs in hand. Lines go above the live display.
+  const progress = createScanProgress({ total: 0, totalBytes: 0, alreadyDone: 0, stream: io.stderr as NodeJS.WritableStream, display: progressDisplay(options.quiet, options.progress) });
+  const log = (line: string): void => progress.note(`tidemark: ${line}`);
   const { server, token } = await resolveCredentials(options.server, io.env);
   const worker = options.name ?? `${hostname()}#${process.pid}`;
   const policy = retryPolicyFrom(io.env);
@@ -63,6 +69,7 @@ export async function workerCommand(options: WorkerOptions, io: CliIo): Promise<
     offlineLimitMs: options.offlineSeconds * 1000,
     log,
     verbose: !options.quiet,
+    progress,
   });
   let signals = 0;
   const onSignal = (signal: NodeJS.Signals): void => {
@@ -82,6 +89,7 @@ export async function workerCommand(options: WorkerOptions, io: CliIo): Promise<
     log(`worker ${worker} stopped: ${counts(summary)}`);
     return EXIT_CODES.ok;
   } finally {
+    progress.stop();
     process.off("SIGINT", onSignal);
     process.off("SIGTERM", onSignal);
   }

@@ -40,14 +40,21 @@ async function locate(localPath: string): Promise<FsPath> {
   return found.length === 1 ? found[0] : localPath;
 }
 
-export async function scanJob(job: ClaimedJobDto, localPath: string, engine: ScanEngine): Promise<JobOutcome> {
+/** `progress` (optional) hears of the file's size once it is found, and of each read while it is measured. */
+export interface JobProgress {
+  started(path: string, sizeBytes: number): void;
+  read(path: string, bytesRead: number): void;
+}
+
+export async function scanJob(job: ClaimedJobDto, localPath: string, engine: ScanEngine, progress?: JobProgress): Promise<JobOutcome> {
   const absPath = await locate(localPath);
   const found = await stat(absPath).catch((e: { code?: string }) => {
     throw new FileMissingError(`${localPath} is not reachable from this worker (${e.code ?? String(e)}): is the shared storage mounted here?`);
   });
   if (!found.isFile()) throw new FileMissingError(`${localPath} is not a regular file`);
   const startedAt = new Date().toISOString();
-  const result = await engine.pool.run({ kind: "analyse", absPath, relPath: job.path, sizeBytes: found.size });
+  progress?.started(job.path, found.size);
+  const result = await engine.pool.run({ kind: "analyse", absPath, relPath: job.path, sizeBytes: found.size }, (bytes) => progress?.read(job.path, bytes));
   if (result.kind !== "analysed") throw new Error(`expected a measurement, got ${result.kind}`);
   const { file } = result;
   const report = assembleReport(

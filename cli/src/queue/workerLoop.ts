@@ -24,6 +24,7 @@ import type { ClaimedJobDto, ClaimJobsResultDto, JobHeartbeatResultDto, JobResul
 import { ApiError, networkHint, ServerUnreachableError, WrongServerError, type ApiClient } from "../api/apiClient.ts";
 import { oneLine } from "../errors.ts";
 import { WorkerCrashError, WorkerStartError } from "../scan/workerPool.ts";
+import type { ScanProgress } from "../scan/progress.ts";
 import { localPath, type PathMount } from "./pathMounts.ts";
 import type { ScanEngines } from "./scanEngines.ts";
 import { FileMissingError, resultForm, scanJob, type JobOutcome } from "./scanJob.ts";
@@ -44,6 +45,8 @@ export interface WorkerLoopOptions {
   log: (line: string) => void;
   /** Progress lines per job (off with --quiet). */
   verbose: boolean;
+  /** The live display (bytes within each job, ETA for the jobs in hand); absent in tests. */
+  progress?: ScanProgress;
 }
 
 export interface WorkerSummary {
@@ -273,7 +276,18 @@ export function startWorkerLoop(o: WorkerLoopOptions): WorkerControl {
     let outcome: JobOutcome;
     try {
       const engine = o.engines.forProfile(job.profile);
-      outcome = await scanJob(job, localPath(job.absPath, o.mounts), engine);
+      const sizes = new Map<string, number>();
+      outcome = await scanJob(job, localPath(job.absPath, o.mounts), engine, {
+        started: (p, size) => {
+          sizes.set(p, size);
+          o.progress?.grow(1, size);
+          o.progress?.fileStarted(p);
+        },
+        read: (p, bytes) => o.progress?.fileBytes(p, bytes),
+      }).finally(() => {
+        const size = sizes.get(job.path);
+        if (size !== undefined) o.progress?.fileDone(job.path, 0, size);
+      });
     } catch (error) {
       if (aborting) {
         await handBack(entry, "release");

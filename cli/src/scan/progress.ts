@@ -9,6 +9,8 @@
 import type { Ora } from "ora";
 
 export interface ScanProgress {
+  /** More work than the totals said: a worker learns of its files one claimed job at a time. */
+  grow(files: number, bytes: number): void;
   fileStarted(relPath: string): void;
   /** Bytes of `relPath` read so far (within-file progress). */
   fileBytes(relPath: string, bytesRead: number): void;
@@ -86,6 +88,8 @@ export function createScanProgress(options: ProgressOptions): ScanProgress {
   const now = options.now ?? (() => performance.now());
   const startedMs = now();
   const startBytes = options.alreadyDoneBytes ?? 0;
+  let total = options.total;
+  let totalBytes = options.totalBytes;
   let done = options.alreadyDone;
   let doneBytes = startBytes;
   let audioSeconds = 0;
@@ -103,12 +107,12 @@ export function createScanProgress(options: ProgressOptions): ScanProgress {
     const elapsed = (now() - startedMs) / 1000;
     return {
       done,
-      total: options.total,
+      total,
       bytesDone,
-      totalBytes: options.totalBytes,
+      totalBytes,
       current: inFlight.keys().next().value ?? null,
       factor: realtimeFactor(audioSeconds, elapsed),
-      etaSeconds: estimateEta(bytesDone - startBytes, options.totalBytes - bytesDone, elapsed),
+      etaSeconds: estimateEta(bytesDone - startBytes, totalBytes - bytesDone, elapsed),
     };
   };
 
@@ -141,12 +145,18 @@ export function createScanProgress(options: ProgressOptions): ScanProgress {
   refresh(true);
 
   return {
+    grow(files, bytes) {
+      total += files;
+      totalBytes += bytes;
+    },
     fileStarted(relPath) {
       inFlight.set(relPath, 0);
       refresh();
     },
     fileBytes(relPath, bytesRead) {
-      if (inFlight.has(relPath)) inFlight.set(relPath, bytesRead);
+      if (!inFlight.has(relPath)) return;
+      inFlight.set(relPath, bytesRead);
+      refresh();
     },
     fileDone(relPath, seconds, sizeBytes) {
       inFlight.delete(relPath);
