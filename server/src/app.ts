@@ -8,7 +8,7 @@ import connectPgSimple from "connect-pg-simple";
 import express, { Router, type Express } from "express";
 import session from "express-session";
 import helmet from "helmet";
-import { DEFAULT_SETTINGS, type AppContext, type AppSettings } from "./context.ts";
+import { DEFAULT_SETTINGS, type AppContext, type AppSettings, type SettingsOverrides } from "./context.ts";
 import type { Database } from "./db/connect.ts";
 import "./locals.ts";
 import { consoleLogger, type Logger } from "./logger.ts";
@@ -17,6 +17,7 @@ import { authenticate } from "./middleware/auth.ts";
 import { csrfProtection } from "./middleware/csrf.ts";
 import { errorHandler, notFoundHandler } from "./middleware/errorHandler.ts";
 import { requestId } from "./middleware/requestId.ts";
+import { rejectBadText } from "./middleware/textGuard.ts";
 import { initModels } from "./models/index.ts";
 import { auditRouter } from "./routes/audit.ts";
 import { batchesRouter } from "./routes/batches.ts";
@@ -42,7 +43,7 @@ export interface AppDeps {
   store: ObjectStore;
   mailer: Mailer;
   logger?: Logger;
-  settings: Pick<AppSettings, "publicUrl" | "sessionSecret"> & Partial<AppSettings>;
+  settings: Pick<AppSettings, "publicUrl" | "sessionSecret"> & SettingsOverrides;
 }
 
 function sessionMiddleware(deps: AppDeps, settings: AppSettings, logger: Logger): express.RequestHandler {
@@ -82,7 +83,7 @@ function portal(webDistDir: string): Router {
 }
 
 export function createApp(deps: AppDeps): Express {
-  const settings: AppSettings = { ...DEFAULT_SETTINGS, ...deps.settings };
+  const settings: AppSettings = { ...DEFAULT_SETTINGS, ...deps.settings, upload: { ...DEFAULT_SETTINGS.upload, ...deps.settings.upload } };
   const logger = deps.logger ?? consoleLogger;
   initModels(deps.db.sequelize);
   const ctx: AppContext = { sequelize: deps.db.sequelize, store: deps.store, mailer: deps.mailer, logger, settings };
@@ -100,6 +101,7 @@ export function createApp(deps: AppDeps): Express {
   // Health first: it must answer (503) while the database, and so the session store, is away.
   api.use(healthRouter(ctx));
   api.use(express.json({ limit: "256kb" }));
+  api.use(rejectBadText);
   api.use(sessionMiddleware(deps, settings, logger));
   api.use(authenticate);
   api.use(csrfProtection(settings.publicUrl));

@@ -4,6 +4,7 @@
 import { randomBytes } from "node:crypto";
 import { existsSync, mkdirSync, readFileSync, writeFileSync } from "node:fs";
 import path from "node:path";
+import type { UploadLimits } from "./context.ts";
 import { projectRoot } from "./paths.ts";
 
 export type ObjectStoreConfig =
@@ -40,6 +41,8 @@ export interface Config {
   demoPassword: string;
   /** Seed the demo on an empty database (off in production unless asked for). */
   demoSeed: boolean;
+  /** Upload limits set in the environment; the rest keep their defaults (context.ts). */
+  upload: Partial<UploadLimits>;
 }
 
 export class ConfigError extends Error {}
@@ -96,6 +99,35 @@ function objectStoreFrom(env: NodeJS.ProcessEnv, dataDir: string): ObjectStoreCo
   };
 }
 
+const SIZE_UNITS: Record<string, number> = { "": 1, k: 1024, m: 1024 ** 2, g: 1024 ** 3 };
+
+/** "1048576", "512k", "64M", "2G" (binary units) → bytes. */
+export function parseSize(raw: string, name: string): number {
+  const match = /^(\d+)\s*([kmg]?)i?b?$/i.exec(raw.trim());
+  const bytes = match ? Number(match[1]) * SIZE_UNITS[match[2].toLowerCase()] : NaN;
+  if (!Number.isSafeInteger(bytes) || bytes <= 0) throw new ConfigError(`${name} must be a size such as 16M or 1048576, got "${raw}"`);
+  return bytes;
+}
+
+const UPLOAD_ENV: [keyof UploadLimits, string][] = [
+  ["maxReportBytes", "UPLOAD_MAX_REPORT"],
+  ["maxImageBytes", "UPLOAD_MAX_IMAGE"],
+  ["maxJsonPartBytes", "UPLOAD_MAX_JSON_PART"],
+  ["maxExcerptBytes", "UPLOAD_MAX_EXCERPT"],
+  ["maxTotalBytes", "UPLOAD_MAX_TOTAL"],
+];
+
+function uploadLimitsFrom(env: NodeJS.ProcessEnv): Partial<UploadLimits> {
+  const limits: Partial<UploadLimits> = {};
+  for (const [key, name] of UPLOAD_ENV) if (env[name]) limits[key] = parseSize(env[name], name);
+  if (env.UPLOAD_MAX_PARTS) {
+    const n = Number(env.UPLOAD_MAX_PARTS);
+    if (!Number.isSafeInteger(n) || n < 1) throw new ConfigError(`UPLOAD_MAX_PARTS must be a whole number ≥ 1, got "${env.UPLOAD_MAX_PARTS}"`);
+    limits.maxImages = n;
+  }
+  return limits;
+}
+
 export function loadConfig(env: NodeJS.ProcessEnv = process.env): Config {
   if (!env.DATABASE_URL) throw new ConfigError("DATABASE_URL is not set (e.g. postgres://user@127.0.0.1:5432/tidemark)");
   const dataDir = path.resolve(projectRoot, env.DATA_DIR || ".data");
@@ -123,5 +155,6 @@ export function loadConfig(env: NodeJS.ProcessEnv = process.env): Config {
     trustProxy: parseTrustProxy(env.TRUST_PROXY),
     demoPassword: env.DEMO_PASSWORD || "harbourside-demo",
     demoSeed: parseBoolean(env.DEMO_SEED, env.NODE_ENV !== "production", "DEMO_SEED"),
+    upload: uploadLimitsFrom(env),
   };
 }

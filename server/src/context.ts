@@ -12,6 +12,7 @@ export interface RateLimitSettings {
   limit: number;
 }
 
+/** Multipart upload limits (PART_KINDS in services/ingestValidation.ts says which applies to which part). */
 export interface UploadLimits {
   /** The report JSON part. */
   maxReportBytes: number;
@@ -19,10 +20,15 @@ export interface UploadLimits {
   maxImageBytes: number;
   /** Each JSON artefact part (level grid, loudness curve). */
   maxJsonPartBytes: number;
-  /** Each close-up audio excerpt (FLAC or WAV). */
+  /** Each audio excerpt part (FLAC or WAV). */
   maxExcerptBytes: number;
-  /** Artefact parts of every kind (everything but the report) per upload. */
+  /** File parts besides the report, per upload. */
   maxImages: number;
+  /**
+   * The whole body, whatever the report says; a report that arrives first narrows it to what the report
+   * can carry (its size plus, per file and per close-up, each part kind's cap).
+   */
+  maxTotalBytes: number;
 }
 
 export interface AppSettings {
@@ -45,6 +51,20 @@ export interface AppSettings {
   uploadTmpDir: string;
 }
 
+/** What a caller may override: any setting, and any single upload limit. */
+export type SettingsOverrides = Partial<Omit<AppSettings, "upload">> & { upload?: Partial<UploadLimits> };
+
+const MiB = 1024 * 1024;
+export const DEFAULT_UPLOAD_LIMITS: UploadLimits = {
+  maxReportBytes: 64 * MiB,
+  maxImageBytes: 16 * MiB,
+  maxJsonPartBytes: 16 * MiB,
+  // The CLI's default per-file budget is 20 MB for all of a file's excerpts together.
+  maxExcerptBytes: 32 * MiB,
+  maxImages: 100_000,
+  maxTotalBytes: 2048 * MiB,
+};
+
 export const DEFAULT_SETTINGS: Omit<AppSettings, "publicUrl" | "sessionSecret"> = {
   trustProxy: false,
   webDistDir: null,
@@ -54,8 +74,7 @@ export const DEFAULT_SETTINGS: Omit<AppSettings, "publicUrl" | "sessionSecret"> 
   passwordResetRateLimit: { windowMs: 15 * 60_000, limit: 5 },
   passwordResetTtlMs: 60 * 60_000,
   sessionMaxAgeMs: 12 * 60 * 60_000,
-  // Excerpts: the CLI's default per-file budget is 20 MB for all of a file's excerpts together.
-  upload: { maxReportBytes: 64 * 1024 * 1024, maxImageBytes: 16 * 1024 * 1024, maxJsonPartBytes: 16 * 1024 * 1024, maxExcerptBytes: 32 * 1024 * 1024, maxImages: 100_000 },
+  upload: DEFAULT_UPLOAD_LIMITS,
   uploadTmpDir: path.join(tmpdir(), "tidemark-uploads"),
 };
 

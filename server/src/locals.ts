@@ -1,4 +1,5 @@
 /** Types of what middleware puts on res.locals and in the session. */
+import type { ReceivedUpload } from "./middleware/reportUpload.ts";
 import type { ApiToken, Batch, Collection, FileResult, User } from "./models/index.ts";
 
 export interface AuthContext {
@@ -18,6 +19,8 @@ declare global {
       targetUser?: User;
       token?: ApiToken;
       collection?: Collection;
+      /** A multipart report upload, read and checked (middleware/reportUpload.ts). */
+      upload?: ReceivedUpload;
     }
   }
 }

@@ -62,6 +62,7 @@ async function main(): Promise<void> {
       webDistDir: config.webDistDir,
       cliPackageDir: config.cliPackageDir,
       uploadTmpDir,
+      upload: config.upload,
     },
   });
 

@@ -42,6 +42,14 @@ describe("loadConfig", () => {
     expect(loadConfig({ ...base, NODE_ENV: "production" }).demoSeed).toBe(false);
   });
 
+  it("reads upload limits in bytes or binary units, leaving the rest to the defaults", () => {
+    expect(loadConfig({ ...base }).upload).toEqual({});
+    const c = loadConfig({ ...base, UPLOAD_MAX_IMAGE: "8M", UPLOAD_MAX_TOTAL: "1G", UPLOAD_MAX_REPORT: "500000", UPLOAD_MAX_PARTS: "100" });
+    expect(c.upload).toEqual({ maxImageBytes: 8 * 1024 ** 2, maxTotalBytes: 1024 ** 3, maxReportBytes: 500_000, maxImages: 100 });
+    expect(() => loadConfig({ ...base, UPLOAD_MAX_EXCERPT: "lots" })).toThrow(/UPLOAD_MAX_EXCERPT must be a size/);
+    expect(() => loadConfig({ ...base, UPLOAD_MAX_PARTS: "0" })).toThrow(/UPLOAD_MAX_PARTS/);
+  });
+
   it("parses TRUST_PROXY as Express expects it", () => {
     expect(parseTrustProxy(undefined)).toBe(false);
     expect(parseTrustProxy("true")).toBe(true);

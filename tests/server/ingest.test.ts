@@ -64,10 +64,11 @@ describe("validation", () => {
     expect(res.body.error.code).toBe("invalid_json");
   });
 
-  it("refuses NUL characters PostgreSQL cannot store, with the field path", async () => {
+  it("refuses NUL characters PostgreSQL cannot store, with the field path (ASVS 4.0 V5.1.4)", async () => {
     const report = scanReport([{ path: "tape\u0000.wav" }]);
     const res = await ingest(t.app, token, { collection: "C", batchKey: "bad-nul", report });
-    expect(res.status).toBe(422);
+    expect(res.status).toBe(400);
+    expect(res.body.error.code).toBe("invalid_text");
     expect(res.body.error.message).toContain("files.0.path");
   });
 
@@ -93,12 +94,12 @@ describe("validation", () => {
     expect(json.status).toBe(415);
   });
 
-  it("checks image names, indexes and PNG magic (400), and sizes (413)", async () => {
+  it("checks image names and indexes (400), PNG magic (415) and sizes (413)", async () => {
     const report = scanReport([{ path: "a.wav" }]);
     const cases: [string, Buffer, number, string][] = [
-      ["../../etc/passwd", pngBytes(), 400, "bad_image_name"],
+      ["../../etc/passwd", pngBytes(), 400, "bad_part_name"],
       ["7.png", pngBytes(), 400, "unknown_file_index"],
-      ["0.png", Buffer.from("GIF89a not a png at all"), 400, "not_png"],
+      ["0.png", Buffer.from("GIF89a not a png at all"), 415, "wrong_file_type"],
       ["0.png", Buffer.concat([pngBytes(), Buffer.alloc(60_000)]), 413, "payload_too_large"],
     ];
     for (const [name, bytes, status, code] of cases) {

@@ -3,7 +3,6 @@
  * 5xx are logged with their stack and answered without it; 4xx are logged in one line.
  */
 import type { ErrorRequestHandler, RequestHandler } from "express";
-import multer from "multer";
 import { ConnectionAcquireTimeoutError, ConnectionError } from "sequelize";
 import { HttpError } from "../errors.ts";
 import type { Logger } from "../logger.ts";
@@ -15,7 +14,6 @@ interface BodyParserError {
   message: string;
 }
 
-const MULTER_TOO_LARGE = new Set(["LIMIT_FILE_SIZE", "LIMIT_FIELD_VALUE", "LIMIT_FILE_COUNT", "LIMIT_PART_COUNT", "LIMIT_FIELD_COUNT", "LIMIT_FIELD_KEY"]);
 const MALFORMED_MULTIPART = /Unexpected end of form|Boundary not found|Malformed part header|Multipart:/;
 
 // Connection refused or reset, the server shutting down (SQLSTATE 57P01–57P03), pool timeouts.
@@ -35,10 +33,6 @@ export function isDatabaseUnavailable(err: unknown): boolean {
 
 function toHttpError(err: unknown): HttpError {
   if (err instanceof HttpError) return err;
-  if (err instanceof multer.MulterError) {
-    if (MULTER_TOO_LARGE.has(err.code)) return new HttpError(413, "payload_too_large", `upload too large: ${err.message}${err.field ? ` (${err.field})` : ""}`);
-    return new HttpError(400, "bad_upload", `${err.message}${err.field ? `: "${err.field}"` : ""}`);
-  }
   if (isDatabaseUnavailable(err)) return new HttpError(503, "database_unavailable", "the database is not reachable; try again shortly");
   const bp = err as BodyParserError;
   if (bp && typeof bp === "object") {

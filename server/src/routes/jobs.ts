@@ -4,44 +4,22 @@
  * attempt; each only from the token that claimed the job, or an admin. Supervisors and admins send a held
  * job back to the queue and retry dead-lettered jobs.
  */
-import { mkdirSync } from "node:fs";
-import { rm } from "node:fs/promises";
-import { Router, type RequestHandler } from "express";
-import multer from "multer";
+import { Router } from "express";
 import type { ClaimJobsResultDto, JobHeartbeatResultDto } from "@tidemark/shared/types/api";
 import type { AppContext } from "../context.ts";
-import { HttpError } from "../errors.ts";
 import { requirePermission, requireTokenAuth } from "../middleware/auth.ts";
 import { idParam } from "../middleware/loadEntity.ts";
+import { reportUpload, requireReport } from "../middleware/reportUpload.ts";
 import { initRunModels } from "../queue/models/index.ts";
 import { recordAudit } from "../services/audit.ts";
-import { largestPartBytes, PART_KIND_NAMES, readArtefactParts, readReport, type UploadedPart } from "../services/ingestValidation.ts";
+import { artefactPartsOf } from "../services/ingestValidation.ts";
 import { assertJobHolder, claimJobs, failJob, heartbeatJobs, releaseJob, releaseUndelivered, requeueJob, retryJob } from "../services/runsJobs.ts";
 import { storeJobResult } from "../services/runsResults.ts";
 import { claimSchema, failSchema, heartbeatSchema, releaseSchema, resultFieldsSchema } from "../services/runsValidation.ts";
 import { parseWith } from "../validate.ts";
 
-type PartsByField = Record<string, Express.Multer.File[]>;
-
 /** How often a waiting claim looks at the queue again: the most an idle worker waits for a new job. */
 const CLAIM_WAIT_STEP_MS = 300;
-
-function resultUpload(ctx: AppContext): RequestHandler {
-  const { upload, uploadTmpDir } = ctx.settings;
-  mkdirSync(uploadTmpDir, { recursive: true });
-  return multer({
-    storage: multer.diskStorage({ destination: uploadTmpDir }),
-    // One file's artefacts: its PNGs, level grid, loudness curve and close-ups (kinds and caps in PART_KINDS).
-    limits: { fileSize: largestPartBytes(upload), files: upload.maxImages + 1, fields: 4, fieldSize: 1024, parts: upload.maxImages + 5, headerPairs: 50 },
-  }).fields([{ name: "report", maxCount: 1 }, ...PART_KIND_NAMES.map((name) => ({ name, maxCount: upload.maxImages }))]);
-}
-
-const requireMultipart: RequestHandler = (req, _res, next) => {
-  if (!req.is("multipart/form-data")) {
-    throw new HttpError(415, "unsupported_media_type", 'send the result as multipart/form-data (part "report" with a one-file report, optional artefact parts)');
-  }
-  next();
-};
 
 export function jobsRouter(ctx: AppContext): Router {
   initRunModels(ctx.sequelize);
@@ -75,23 +53,18 @@ export function jobsRouter(ctx: AppContext): Router {
     res.json(body);
   });
 
-  router.post("/jobs/:id/result", requireTokenAuth, requirePermission("upload"), requireMultipart, resultUpload(ctx), async (req, res) => {
+  router.post("/jobs/:id/result", requireTokenAuth, requirePermission("upload"), reportUpload(ctx, "the result (a one-file report)"), async (req, res) => {
     const id = idParam(req, "job");
-    const parts = (req.files ?? {}) as PartsByField;
-    const all: UploadedPart[] = Object.values(parts).flat();
-    try {
-      await assertJobHolder(res, id, "send a result for");
-      const fields = parseWith(resultFieldsSchema, req.body ?? {}, "result fields");
-      const report = await readReport(parts.report?.[0], ctx.settings.upload);
-      const artefacts = await readArtefactParts(PART_KIND_NAMES.flatMap((kind) => parts[kind] ?? []), report, ctx.settings.upload);
-      const result = await storeJobResult(ctx, res, id, { report, artefacts, worker: fields.worker, attempt: fields.attempt });
-      if (!result.created) {
-        await recordAudit(res, { action: "job.result_repeat", targetType: "job", targetId: id, details: { worker: fields.worker, attempt: fields.attempt, fileResultId: result.fileResultId } });
-      }
-      res.status(result.created ? 201 : 200).json(result);
-    } finally {
-      await Promise.all(all.map((p) => rm(p.path, { force: true })));
+    await assertJobHolder(res, id, "send a result for");
+    const upload = res.locals.upload!;
+    const fields = parseWith(resultFieldsSchema, upload.fields, "result fields");
+    const report = requireReport(upload);
+    const artefacts = await artefactPartsOf(upload.parts, report);
+    const result = await storeJobResult(ctx, res, id, { report, artefacts, worker: fields.worker, attempt: fields.attempt });
+    if (!result.created) {
+      await recordAudit(res, { action: "job.result_repeat", targetType: "job", targetId: id, details: { worker: fields.worker, attempt: fields.attempt, fileResultId: result.fileResultId } });
     }
+    res.status(result.created ? 201 : 200).json(result);
   });
 
   router.post("/jobs/:id/fail", requireTokenAuth, requirePermission("upload"), async (req, res) => {

@@ -1,12 +1,15 @@
 /**
  * Everything an upload must satisfy before anything is stored: the report against the zod contract
- * (422 naming each bad field), values PostgreSQL could not hold, and the artefact parts (400/413).
+ * (422 naming each bad field) and its consistency; the part kinds (PART_KINDS: name, size cap, first
+ * bytes), which the streaming multipart reader (middleware/reportUpload.ts) checks while the body
+ * arrives; then what only the whole report and part can tell (artefactPartsOf). Text PostgreSQL could not
+ * hold is refused by middleware/textGuard.ts.
  */
-import { open, readFile } from "node:fs/promises";
+import { readFile } from "node:fs/promises";
 import { z } from "zod";
 import { scanReportSchema, type ScanReport } from "@tidemark/shared/types/report";
 import type { UploadLimits } from "../context.ts";
-import { badRequest, HttpError, payloadTooLarge, unprocessable } from "../errors.ts";
+import { badRequest, unprocessable } from "../errors.ts";
 import { parseWith } from "../validate.ts";
 import { pathKey } from "./ingestRows.ts";
 
@@ -21,32 +24,8 @@ const label = (max: number) =>
 
 export const ingestFieldsSchema = z.object({ collection: label(200), batchKey: label(200) });
 
-const PNG_MAGIC = Buffer.from([0x89, 0x50, 0x4e, 0x47, 0x0d, 0x0a, 0x1a, 0x0a]);
+const PNG_SIGNATURE = Buffer.from([0x89, 0x50, 0x4e, 0x47, 0x0d, 0x0a, 0x1a, 0x0a]);
 const INT32_MAX = 2_147_483_647;
-
-export interface UploadedPart {
-  fieldname: string;
-  originalname: string;
-  path: string;
-  size: number;
-}
-
-/** Where the first NUL is hiding: PostgreSQL text and jsonb cannot store U+0000. */
-function findNul(value: unknown, at: string): string | null {
-  if (typeof value === "string") return value.includes("\u0000") ? at : null;
-  if (Array.isArray(value)) {
-    for (let i = 0; i < value.length; i++) {
-      const hit = findNul(value[i], at ? `${at}.${i}` : String(i));
-      if (hit) return hit;
-    }
-  } else if (value && typeof value === "object") {
-    for (const [k, v] of Object.entries(value)) {
-      const hit = findNul(v, at ? `${at}.${k}` : k);
-      if (hit) return hit;
-    }
-  }
-  return null;
-}
 
 function checkConsistency(report: ScanReport): void {
   const seen = new Map<string, number>();
@@ -76,41 +55,21 @@ function checkConsistency(report: ScanReport): void {
   }
 }
 
-export async function readReport(part: UploadedPart | undefined, limits: UploadLimits): Promise<ScanReport> {
-  if (!part) throw badRequest('the multipart body needs a file part named "report" with the JSON report', "missing_report");
-  if (part.size > limits.maxReportBytes) throw payloadTooLarge(`the report is larger than ${limits.maxReportBytes} bytes`);
-  let json: unknown;
-  try {
-    json = JSON.parse(await readFile(part.path, "utf8"));
-  } catch {
-    throw badRequest("the report part is not valid JSON", "invalid_json");
-  }
+/** The parsed report part against the contract (422 naming each bad field) and its own consistency. */
+export function validateReport(json: unknown): ScanReport {
   const report = parseWith(scanReportSchema, json, "report", (message, details) => unprocessable(message, "invalid_report", details));
-  const nulAt = findNul(report, "");
-  if (nulAt) throw unprocessable(`invalid report: ${nulAt} contains a NUL character`);
   checkConsistency(report);
   return report;
 }
 
-async function head(file: string, length: number): Promise<Buffer> {
-  const buf = Buffer.alloc(length);
-  const handle = await open(file, "r");
-  try {
-    const { bytesRead } = await handle.read(buf, 0, length, 0);
-    return buf.subarray(0, bytesRead);
-  } finally {
-    await handle.close();
-  }
-}
-
 // PNG (ISO/IEC 15948 §5.2): the 8-byte signature.
-const isPng = (b: Buffer): boolean => b.subarray(0, 8).equals(PNG_MAGIC);
+export const isPng = (b: Buffer): boolean => b.subarray(0, 8).equals(PNG_SIGNATURE);
 // FLAC (RFC 9639): a stream starts with the marker "fLaC".
 const isFlac = (b: Buffer): boolean => b.toString("latin1", 0, 4) === "fLaC";
 // RIFF WAVE (Microsoft/IBM Multimedia Programming Interface and Data Specifications 1.0): "RIFF", a 32-bit size, "WAVE".
 const isWav = (b: Buffer): boolean => b.length >= 12 && b.toString("latin1", 0, 4) === "RIFF" && b.toString("latin1", 8, 12) === "WAVE";
 // JSON (RFC 8259 §2): our documents are objects, so after optional whitespace the first byte is "{".
-const isJsonObject = (b: Buffer): boolean => b.toString("latin1").trimStart().startsWith("{");
+export const isJsonObject = (b: Buffer): boolean => b.toString("latin1").trimStart().startsWith("{");
 
 /**
  * Every artefact part an upload may carry, in one table: how it is named (n = the file's index in
@@ -137,16 +96,24 @@ export const PART_KINDS = {
 export type PartKind = keyof typeof PART_KINDS;
 export const PART_KIND_NAMES = Object.keys(PART_KINDS) as PartKind[];
 
-/** The largest part any kind may be (for the multipart parser's per-file limit). */
-export const largestPartBytes = (limits: UploadLimits): number => Math.max(limits.maxReportBytes, ...PART_KIND_NAMES.map((k) => PART_KINDS[k].maxBytes(limits)));
+/** Bytes of a part the magic checks look at (the longest signature is 12). */
+export const MAGIC_HEAD_BYTES = 16;
 
-/** A part whose name, indexes, size and first bytes were checked (shape of the multipart reader's parts). */
+/** Kinds sent once per close-up (`<n>.<k>…`) rather than once per file. */
+export const isCloseupKind = (kind: PartKind): boolean => PART_KINDS[kind].shape.includes("<k>");
+
+/** A part whose name, indexes, size and first bytes were checked: what the multipart reader leaves. */
 export interface NamedPart {
   kind: string;
   fileIndex: number;
   closeupIndex: number | null;
   originalname: string;
+  /** The temporary file; removed when the response closes. */
   path: string;
+}
+
+export interface ReceivedPart extends NamedPart {
+  size: number;
 }
 
 export interface ArtefactPart {
@@ -213,41 +180,4 @@ export async function artefactPartsOf(parts: NamedPart[], report: ScanReport): P
     out.push(artefact);
   }
   return out;
-}
-
-const wrongType = (message: string): HttpError => new HttpError(415, "wrong_file_type", message);
-
-/**
- * Multipart parts as multer left them on disk: known kind, name (400), file index, no duplicates, size
- * (413), first bytes (415); then artefactPartsOf().
- */
-export async function readArtefactParts(parts: UploadedPart[], report: ScanReport, limits: UploadLimits): Promise<ArtefactPart[]> {
-  if (parts.length > limits.maxImages) throw payloadTooLarge(`at most ${limits.maxImages} artefact parts per upload, got ${parts.length}`);
-  const fileCount = report.files.length;
-  const seen = new Set<string>();
-  const named: NamedPart[] = [];
-  for (const part of parts) {
-    if (!Object.hasOwn(PART_KINDS, part.fieldname)) throw badRequest(`unexpected file part "${part.fieldname}"; expected report, ${PART_KIND_NAMES.join(", ")}`, "bad_upload");
-    const kind = part.fieldname as PartKind;
-    const rule = PART_KINDS[kind];
-    const label = `${kind} ${JSON.stringify(part.originalname)}`;
-    const image = kind === "spectrogram" || kind === "waveform";
-    const match = rule.name.exec(part.originalname);
-    if (!match) throw badRequest(`${label} must be named ${rule.shape}, n being the file's index in the report${image ? "" : " (k the close-up's)"}`, image ? "bad_image_name" : "bad_part_name");
-    const fileIndex = Number(match[1]);
-    if (fileIndex >= fileCount) throw badRequest(`${label}: the report has no file ${fileIndex} (it has ${fileCount})`, "unknown_file_index");
-    const closeupIndex = rule.shape.includes("<k>") ? Number(match[2]) : null;
-    const id = `${kind}:${fileIndex}:${closeupIndex ?? ""}`;
-    if (seen.has(id)) throw badRequest(`two ${kind} parts for file ${fileIndex}${closeupIndex === null ? "" : ` close-up ${closeupIndex}`}`, image ? "duplicate_image" : "duplicate_part");
-    seen.add(id);
-    const max = rule.maxBytes(limits);
-    if (part.size > max) throw new HttpError(413, "payload_too_large", `${label} is larger than ${max} bytes`);
-    if (!rule.magic(await head(part.path, 16), part.originalname)) {
-      // The overview PNGs keep their older 400 not_png.
-      if (image) throw badRequest(`${label} is not a PNG image`, "not_png");
-      throw wrongType(`${label} is not ${rule.type}`);
-    }
-    named.push({ kind, fileIndex, closeupIndex, originalname: part.originalname, path: part.path });
-  }
-  return artefactPartsOf(named, report);
 }

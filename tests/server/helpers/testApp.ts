@@ -11,7 +11,7 @@ import type TestAgent from "supertest/lib/agent.js";
 import type { Role } from "@tidemark/shared/types/api";
 import { CSRF_HEADER } from "@tidemark/shared/types/api";
 import { createApp } from "../../../server/src/app.ts";
-import type { AppSettings } from "../../../server/src/context.ts";
+import type { SettingsOverrides } from "../../../server/src/context.ts";
 import { connectDatabase, type Database } from "../../../server/src/db/connect.ts";
 import { migrateUp } from "../../../server/src/db/migrator.ts";
 import type { Logger } from "../../../server/src/logger.ts";
@@ -46,12 +46,12 @@ export interface TestApp {
   logger: CollectingLogger;
   dir: string;
   objectsDir: string;
-  settings: Partial<AppSettings>;
+  settings: SettingsOverrides;
   /**
    * Another app over the same database, store and mailer with other settings. Sequelize models are bound
    * to one connection per process, so a test file uses one database and varies the app instead.
    */
-  makeApp(settings: Partial<AppSettings>): Express;
+  makeApp(settings: SettingsOverrides): Express;
   createUser(role: Role, overrides?: { email?: string; password?: string; disabled?: boolean; name?: string }): Promise<User>;
   /** A supertest agent holding the session cookie of a freshly made user of that role. */
   signIn(role: Role): Promise<{ agent: TestAgent; user: User }>;
@@ -62,7 +62,7 @@ export interface TestApp {
 
 export interface TestAppOptions {
   label?: string;
-  settings?: Partial<AppSettings>;
+  settings?: SettingsOverrides;
   store?: (objectsDir: string) => ObjectStore;
   smtpUrl?: string | null;
 }
@@ -78,12 +78,12 @@ export async function startTestApp(options: TestAppOptions = {}): Promise<TestAp
   const store = options.store ? options.store(objectsDir) : createFsStore(objectsDir);
   const logger = collectingLogger();
   const mailer = createMailer({ smtpUrl: options.smtpUrl ?? null, from: "Tidemark <tidemark@harbourside.test>", mailDir: path.join(dir, "mail"), logger });
-  const settings: Partial<AppSettings> = {
+  const settings: SettingsOverrides = {
     passwordCost: TEST_SCRYPT_COST,
     uploadTmpDir: path.join(dir, "uploads"),
     ...options.settings,
   };
-  const makeApp = (extra: Partial<AppSettings>): Express =>
+  const makeApp = (extra: SettingsOverrides): Express =>
     createApp({
       db,
       store,
