@@ -169,6 +169,37 @@ describe("a good upload", () => {
     expect(a.body.batchId).not.toBe(b.body.batchId);
   });
 
+  it("answers 409 naming what differs when a batch key comes back with other content or another collection", async () => {
+    const report = scanReport([{ path: "key/a.wav" }, { path: "key/b.wav" }]);
+    const first = await ingest(t.app, token, { collection: "Keys", batchKey: "reused", report });
+    expect(first.status).toBe(201);
+    const filesBefore = await FileResult.count();
+
+    const otherFiles = scanReport([{ path: "key/a.wav" }, { path: "key/c.wav" }, { path: "key/d.wav" }]);
+    const changed = await ingest(t.app, token, { collection: "Keys", batchKey: "reused", report: otherFiles });
+    expect(changed.status).toBe(409);
+    expect(changed.body.error.code).toBe("batch_key_conflict");
+    expect(changed.body.error.message).toContain(`batch key "reused" was already used for batch ${first.body.batchId}`);
+    expect(changed.body.error.message).toContain("file count: stored 2, this upload 3");
+    expect(changed.body.error.message).toContain('files only in this upload: "key/c.wav", "key/d.wav"');
+    expect(changed.body.error.message).toContain('files only in the stored batch: "key/b.wav"');
+
+    const rehashed = scanReport([{ path: "key/a.wav", sha256: sha("new bytes") }, { path: "key/b.wav" }]);
+    const hash = await ingest(t.app, token, { collection: "Keys", batchKey: "reused", report: rehashed });
+    expect(hash.status).toBe(409);
+    expect(hash.body.error.message).toContain('SHA-256 differs for "key/a.wav"');
+
+    const elsewhere = await ingest(t.app, token, { collection: "Other Shelf", batchKey: "reused", report });
+    expect(elsewhere.status).toBe(409);
+    expect(elsewhere.body.error.message).toContain('collection: stored in "Keys", this upload names "Other Shelf"');
+
+    const same = await ingest(t.app, token, { collection: "Keys", batchKey: "reused", report });
+    expect(same.status).toBe(200);
+    expect(same.body).toEqual({ batchId: first.body.batchId, created: false, files: 2 });
+    expect(await FileResult.count()).toBe(filesBefore);
+    expect(await Collection.count({ where: { name: "Other Shelf" } })).toBe(0);
+  });
+
   it("creates exactly one batch when the same upload races itself", async () => {
     const report = scanReport([{ path: "race.wav" }]);
     const results = await Promise.all(

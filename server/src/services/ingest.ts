@@ -1,7 +1,8 @@
 /**
  * Ingest of one scan report: artefacts first (under a fresh upload folder), then every row in ONE
  * transaction. If the transaction fails the artefacts are deleted; if the process dies in between, the
- * startup sweep (orphanSweep.ts) removes them. Idempotent on (uploader, batch key).
+ * startup sweep (orphanSweep.ts) removes them. Idempotent on (uploader, batch key): the same content
+ * again is a repeat, other content under the same key a 409 (batchKeyConflict.ts).
  */
 import type { Response } from "express";
 import { QueryTypes, UniqueConstraintError, type Transaction } from "sequelize";
@@ -12,6 +13,7 @@ import { Batch, type User } from "../models/index.ts";
 import { newUploadId } from "../storage/objectKeys.ts";
 import { deleteObjects, linksFor, writeArtefacts, type WrittenArtefacts } from "./artefacts.ts";
 import { recordAudit } from "./audit.ts";
+import { batchDifferences, batchKeyConflict } from "./batchKeyConflict.ts";
 import { recordBatchDuplicates } from "./duplicatesIngest.ts";
 import type { ArtefactPart } from "./ingestValidation.ts";
 import { fileRowOf, insertFileRows, insertFindingRows, pathKey, type FileRow } from "./ingestRows.ts";
@@ -33,9 +35,13 @@ interface PreviousScan {
   sha256: string | null;
 }
 
-async function existingBatch(uploaderId: number, batchKey: string, transaction?: Transaction): Promise<IngestResultDto | null> {
-  const batch = await Batch.findOne({ where: { uploaderId, batchKey }, attributes: ["id", "fileCount"], transaction });
-  return batch ? { batchId: batch.id, created: false, files: batch.fileCount } : null;
+/** The earlier upload under this key: the same content is a repeat (created: false), other content a 409. */
+async function existingBatch(ctx: AppContext, input: IngestInput, transaction?: Transaction): Promise<IngestResultDto | null> {
+  const batch = await Batch.findOne({ where: { uploaderId: input.uploader.id, batchKey: input.batchKey }, transaction });
+  if (!batch) return null;
+  const differences = await batchDifferences(ctx.sequelize, batch, input.collectionName, input.report, transaction);
+  if (differences.length) throw batchKeyConflict(input.batchKey, batch.id, differences);
+  return { batchId: batch.id, created: false, files: batch.fileCount };
 }
 
 /** Latest scan of each path in the collection, and latest scan with a known SHA-256 (for fixity). */
@@ -75,7 +81,7 @@ async function storeRows(ctx: AppContext, res: Response, input: IngestInput, key
   const { report, uploader, batchKey } = input;
   // Serialises ingests into one collection: fixity history and collection creation stay consistent.
   await ctx.sequelize.query(`select pg_advisory_xact_lock(hashtext($1))`, { bind: [`tidemark.collection:${input.collectionName}`], transaction });
-  const repeat = await existingBatch(uploader.id, batchKey, transaction);
+  const repeat = await existingBatch(ctx, input, transaction);
   if (repeat) return repeat;
 
   const collectionId = await upsertCollection(ctx, res, input.collectionName, transaction);
@@ -167,7 +173,7 @@ async function storeRows(ctx: AppContext, res: Response, input: IngestInput, key
 }
 
 export async function ingestBatch(ctx: AppContext, res: Response, input: IngestInput): Promise<IngestResultDto> {
-  const repeat = await existingBatch(input.uploader.id, input.batchKey);
+  const repeat = await existingBatch(ctx, input);
   if (repeat) return repeat;
 
   const written: string[] = [];
@@ -179,7 +185,7 @@ export async function ingestBatch(ctx: AppContext, res: Response, input: IngestI
     await deleteObjects(ctx, written);
     // The same batch key committed by a concurrent upload in the meantime.
     if (e instanceof UniqueConstraintError) {
-      const existing = await existingBatch(input.uploader.id, input.batchKey);
+      const existing = await existingBatch(ctx, input);
       if (existing) return existing;
     }
     throw e;
