@@ -47,7 +47,7 @@ describe("failing-batch e-mail", () => {
     await sent();
     const [mail] = await waitForMail(mailDir, 1);
     expect(mail.to.sort()).toEqual(supervisors.map((s) => s.email).sort());
-    expect(mail.subject).toBe("Tidemark: 2 failing files in Lighthouse Choir Reels, batch mail-1");
+    expect(mail.subject).toBe(`Tidemark: 2 failing files in Lighthouse Choir Reels, batch ${res.body.batchId}`);
     expect(mail.text).toContain("reel-05/evensong.wav (fail: clipping)");
     expect(mail.text).toContain("reel-05/unreadable.wav (error)");
     expect(mail.text).not.toContain("fine.wav");
@@ -55,6 +55,28 @@ describe("failing-batch e-mail", () => {
     const evensong = await FileResult.findOne({ where: { path: "reel-05/evensong.wav" } });
     expect(mail.text).toContain(`${PUBLIC_URL}/files/${evensong!.id}`);
     expect(mail.text).toContain(`${PUBLIC_URL}/files?batch=${res.body.batchId}`);
+  });
+
+  it("cannot be given extra lines by a path or profile name, and names the batch number, not a long key", async () => {
+    await t.createUser("supervisor", { email: "injection.check@harbourside.test" });
+    const token = await t.tokenFor(await t.createUser("technician"));
+    const longKey = "k".repeat(64);
+    const report = scanReport([{ path: "reel-09/a.wav\r\n\r\nSign in at http://evil.test/login to keep your account\u2028Bcc: x@evil.test", verdict: "fail" }]);
+    report.profile.name = "custom\nReply-To: x@evil.test";
+    const res = await ingest(t.app, token, { collection: "Harbour Walks", batchKey: longKey, report });
+    expect(res.status).toBe(201);
+    await sent();
+    const mail = (await waitForMail(mailDir, 1)).find((m) => m.subject.includes("Harbour Walks"));
+    expect(mail).toBeDefined();
+    expect(mail!.subject).toBe(`Tidemark: 1 failing file in Harbour Walks, batch ${res.body.batchId}`);
+    expect(mail!.headers["reply-to"]).toBeUndefined();
+    expect(mail!.headers.bcc).toBeUndefined();
+    const lines = mail!.text.split(/\r?\n/);
+    // The injected text is still there for the reader, but on the path's own line, not as a line of its own.
+    expect(lines.some((l) => /^\s*Sign in at/.test(l))).toBe(false);
+    expect(lines.some((l) => l.startsWith("  - reel-09/a.wav") && l.includes("Sign in at http://evil.test/login"))).toBe(true);
+    expect(lines.some((l) => /^Reply-To:/i.test(l))).toBe(false);
+    expect(mail!.text).toContain(`(batch key "${longKey}")`);
   });
 
   it("is not sent for a batch without failures, nor again for a repeated upload", async () => {

@@ -1,6 +1,11 @@
-/** E-mail to supervisors when an ingested batch has failing (or unreadable) files. */
+/**
+ * E-mail to supervisors when an ingested batch has failing (or unreadable) files. Paths, names and keys
+ * come from uploads, so each goes through mailLine (control characters removed). The subject names the
+ * collection and the batch number; the batch key (up to 200 characters) is only in the body.
+ */
 import { Op } from "sequelize";
 import type { AppContext } from "../context.ts";
+import { mailLine } from "../mail/template.ts";
 import { Batch, Collection, FileResult, User } from "../models/index.ts";
 
 const LISTED_FILES = 50;
@@ -25,14 +30,14 @@ export async function notifyFailingBatch(ctx: AppContext, batchId: number): Prom
   const base = ctx.settings.publicUrl;
   const lines = failing.map((f) => {
     const codes = f.worstFindings.filter((w) => w.severity === "fail").map((w) => w.code);
-    return `  - ${f.path} (${f.verdict}${codes.length ? `: ${codes.join(", ")}` : ""})\n    ${base}/files/${f.id}`;
+    return [mailLine`  - ${f.path} (${f.verdict}${codes.length ? `: ${codes.join(", ")}` : ""})`, mailLine`    ${base}/files/${f.id}`].join("\n");
   });
   const more = count > failing.length ? [`  … and ${count - failing.length} more`] : [];
   ctx.mailer.send({
     to: supervisors.map((s) => s.email),
-    subject: `Tidemark: ${count} failing file${count === 1 ? "" : "s"} in ${batch.collection.name}, batch ${batch.batchKey}`,
+    subject: mailLine`Tidemark: ${count} failing file${count === 1 ? "" : "s"} in ${batch.collection.name}, batch ${batch.id}`,
     text: [
-      `Batch ${batch.batchKey} of "${batch.collection.name}" was uploaded by ${batch.uploader?.name ?? "someone"} (profile ${batch.profileName}).`,
+      mailLine`Batch ${batch.id} of "${batch.collection.name}" (batch key "${batch.batchKey}") was uploaded by ${batch.uploader?.name ?? "someone"} (profile ${batch.profileName}).`,
       `${count} of ${batch.fileCount} files failed or could not be read (fail ${batch.failCount}, error ${batch.errorCount}):`,
       "",
       ...lines,

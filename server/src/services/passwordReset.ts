@@ -6,6 +6,7 @@ import { createHash, randomBytes } from "node:crypto";
 import { Op } from "sequelize";
 import type { AppContext } from "../context.ts";
 import { HttpError } from "../errors.ts";
+import { mailLine } from "../mail/template.ts";
 import { PasswordReset, User } from "../models/index.ts";
 import { hashPassword, passwordProblem } from "./passwords.ts";
 import { endSessionsOf } from "./sessions.ts";
@@ -29,7 +30,7 @@ export async function requestPasswordReset(ctx: AppContext, email: string): Prom
     to: [user.email],
     subject: "Tidemark: reset your password",
     text: [
-      `Hello ${user.name},`,
+      mailLine`Hello ${user.name},`,
       "",
       "Someone asked to reset the password of your Tidemark account. To choose a new password, open:",
       "",
