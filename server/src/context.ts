@@ -42,6 +42,8 @@ export interface AppSettings {
   passwordCost: ScryptCost;
   /** Failed sign-ins per client address. */
   loginRateLimit: RateLimitSettings;
+  /** Failed sign-ins per account (the e-mail as typed, lower-cased), from any number of addresses. */
+  loginAccountRateLimit: RateLimitSettings;
   /** Password-reset requests per client address. */
   passwordResetRateLimit: RateLimitSettings;
   passwordResetTtlMs: number;
@@ -71,6 +73,7 @@ export const DEFAULT_SETTINGS: Omit<AppSettings, "publicUrl" | "sessionSecret"> 
   cliPackageDir: null,
   passwordCost: DEFAULT_SCRYPT_COST,
   loginRateLimit: { windowMs: 15 * 60_000, limit: 10 },
+  loginAccountRateLimit: { windowMs: 15 * 60_000, limit: 10 },
   passwordResetRateLimit: { windowMs: 15 * 60_000, limit: 5 },
   passwordResetTtlMs: 60 * 60_000,
   sessionMaxAgeMs: 12 * 60 * 60_000,

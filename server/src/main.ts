@@ -15,6 +15,7 @@ import { initModels } from "./models/index.ts";
 import { loadQueueConfig } from "./queue/queueConfig.ts";
 import { startQueueSupervisor } from "./queue/supervisor.ts";
 import { seedDemo } from "./seed/seedDemo.ts";
+import { backgroundIdle } from "./services/background.ts";
 import { sweepOrphanObjects, sweepStaleUploads } from "./services/orphanSweep.ts";
 import { createObjectStore } from "./storage/index.ts";
 
@@ -84,6 +85,7 @@ async function main(): Promise<void> {
     await new Promise<void>((resolve) => server.close(() => resolve()));
     server.closeIdleConnections();
     await queue.stop().catch((e: unknown) => log.warn(`stopping the job queue: ${String(e)}`));
+    await backgroundIdle();
     await mailer.idle();
     mailer.close();
     await db.close();

@@ -8,6 +8,7 @@ import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import { CSRF_HEADER } from "@tidemark/shared/types/api";
 import { startSmtpFake, type SmtpFake } from "../../server/src/mail/smtpFake.ts";
 import { PasswordReset } from "../../server/src/models/index.ts";
+import { backgroundIdle } from "../../server/src/services/background.ts";
 import { readMailbox, waitForMail } from "./helpers/mailbox.ts";
 import { finding, ingest, scanReport } from "./helpers/reports.ts";
 import { PUBLIC_URL, startTestApp, TEST_PASSWORD, type TestApp } from "./helpers/testApp.ts";
@@ -26,7 +27,10 @@ afterAll(async () => {
   await smtp.close();
 });
 
-const sent = async (): Promise<void> => t.mailer.idle();
+const sent = async (): Promise<void> => {
+  await backgroundIdle(); // a reset request's lookup and e-mail run after its 202
+  await t.mailer.idle();
+};
 
 describe("failing-batch e-mail", () => {
   it("goes to every active supervisor with the failing files and links to the portal", async () => {

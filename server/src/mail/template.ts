@@ -6,6 +6,7 @@
  */
 
 // C0 controls, DEL, C1 controls, U+2028 LINE SEPARATOR, U+2029 PARAGRAPH SEPARATOR.
+// eslint-disable-next-line no-control-regex -- matching control characters is the point
 const CONTROL = /[\u0000-\u001f\u007f-\u009f\u2028\u2029]+/g;
 
 export function clean(value: unknown, maxLength = 300): string {

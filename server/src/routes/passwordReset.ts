@@ -2,6 +2,7 @@ import { Router } from "express";
 import { z } from "zod";
 import type { AppContext } from "../context.ts";
 import { recordAudit } from "../services/audit.ts";
+import { runInBackground } from "../services/background.ts";
 import { confirmPasswordReset, requestPasswordReset } from "../services/passwordReset.ts";
 import { limiter } from "../services/rateLimits.ts";
 import { parseWith } from "../validate.ts";
@@ -12,11 +13,14 @@ const confirmSchema = z.object({ token: z.string().min(1).max(200), password: z.
 export function passwordResetRouter(ctx: AppContext): Router {
   const router = Router();
 
-  // Always 202 with the same body: the answer never says whether the address has an account.
-  router.post("/password-reset", limiter(ctx.settings.passwordResetRateLimit, "password-reset requests"), async (req, res) => {
+  // Always 202 with the same body, and answered before the lookup: neither the answer nor its timing
+  // says whether the address has an account (only a real one costs the row writes and the e-mail).
+  router.post("/password-reset", limiter(ctx.settings.passwordResetRateLimit, "password-reset requests"), (req, res) => {
     const { email } = parseWith(requestSchema, req.body, "password-reset request");
-    const made = await requestPasswordReset(ctx, email);
-    if (made) await recordAudit(res, { action: "password_reset.request", targetType: "user", targetId: made.userId, actorId: null });
+    runInBackground("password-reset request", ctx.logger, async () => {
+      const made = await requestPasswordReset(ctx, email);
+      if (made) await recordAudit(res, { action: "password_reset.request", targetType: "user", targetId: made.userId, actorId: null });
+    });
     res.status(202).json({ accepted: true, message: "if the address has an account, a reset link is on its way" });
   });
 

@@ -1,4 +1,4 @@
-import { Router } from "express";
+import { Router, type Request } from "express";
 import { z } from "zod";
 import type { SessionDto } from "@tidemark/shared/types/api";
 import type { AppContext } from "../context.ts";
@@ -15,10 +15,20 @@ const signInSchema = z.object({
   password: z.string().min(1).max(1024),
 });
 
+/** The account a sign-in names, as findUserByEmail matches it (trimmed, any letter case). */
+function accountKey(req: Request): string {
+  const email: unknown = (req.body as { email?: unknown } | undefined)?.email;
+  return `account:${typeof email === "string" ? email.trim().toLowerCase().slice(0, 320) : ""}`;
+}
+
 export function sessionRouter(ctx: AppContext): Router {
   const router = Router();
 
-  router.post("/session", limiter(ctx.settings.loginRateLimit, "failed sign-ins", { onlyFailures: true }), async (req, res) => {
+  // Failures are counted per address and per account named, whether or not that account exists, and
+  // both lock-outs answer alike: the 429 says nothing about which addresses have accounts.
+  const perAddress = limiter(ctx.settings.loginRateLimit, "failed sign-ins", { onlyFailures: true });
+  const perAccount = limiter(ctx.settings.loginAccountRateLimit, "failed sign-ins", { onlyFailures: true, key: accountKey });
+  router.post("/session", perAddress, perAccount, async (req, res) => {
     const { email, password } = parseWith(signInSchema, req.body, "sign-in");
     const user = await signIn(email, password, ctx.settings.passwordCost);
     if (!user) {

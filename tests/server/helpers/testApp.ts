@@ -18,6 +18,7 @@ import type { Logger } from "../../../server/src/logger.ts";
 import { createMailer, type Mailer } from "../../../server/src/mail/mailer.ts";
 import { User } from "../../../server/src/models/index.ts";
 import { createApiToken } from "../../../server/src/services/apiTokens.ts";
+import { backgroundIdle } from "../../../server/src/services/background.ts";
 import { hashPassword, type ScryptCost } from "../../../server/src/services/passwords.ts";
 import { createFsStore } from "../../../server/src/storage/fsStore.ts";
 import type { ObjectStore } from "../../../server/src/storage/ObjectStore.ts";
@@ -130,6 +131,7 @@ export async function startTestApp(options: TestAppOptions = {}): Promise<TestAp
       return (await createApiToken(user.id, "test token")).plaintext;
     },
     async close() {
+      await backgroundIdle();
       await mailer.idle();
       mailer.close();
       await db.close();
