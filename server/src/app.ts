@@ -17,6 +17,7 @@ import { authenticate } from "./middleware/auth.ts";
 import { csrfProtection } from "./middleware/csrf.ts";
 import { errorHandler, notFoundHandler } from "./middleware/errorHandler.ts";
 import { requestId } from "./middleware/requestId.ts";
+import { noStore } from "./middleware/noStore.ts";
 import { rejectBadText } from "./middleware/textGuard.ts";
 import { initModels } from "./models/index.ts";
 import { auditRouter } from "./routes/audit.ts";
@@ -93,13 +94,21 @@ export function createApp(deps: AppDeps): Express {
   app.set("trust proxy", settings.trustProxy);
   app.use(requestId);
   // Helmet's defaults, except that plain-HTTP deployments (the loopback demo) must not ask browsers to
-  // upgrade every asset request to HTTPS.
+  // upgrade every asset request to HTTPS, nor send HSTS, which only means something over TLS
+  // (RFC 6797 §7.2; OWASP ASVS 4.0 V9.1.1, V14.4.5).
   const behindTls = settings.publicUrl.startsWith("https:");
-  app.use(helmet({ contentSecurityPolicy: { directives: { upgradeInsecureRequests: behindTls ? [] : null } } }));
+  app.use(
+    helmet({
+      contentSecurityPolicy: { directives: { upgradeInsecureRequests: behindTls ? [] : null } },
+      strictTransportSecurity: behindTls ? { maxAge: 31_536_000, includeSubDomains: true } : false,
+    }),
+  );
 
   const api = Router();
   // Health first: it must answer (503) while the database, and so the session store, is away.
   api.use(healthRouter(ctx));
+  // Answers that carry secrets or personal data are never kept by a browser or proxy (ASVS 4.0 V8.2.1).
+  api.use(["/session", "/tokens", "/users", "/password-reset"], noStore);
   api.use(express.json({ limit: "256kb" }));
   api.use(rejectBadText);
   api.use(sessionMiddleware(deps, settings, logger));

@@ -183,6 +183,7 @@ export const toTokenDto = (t: ApiToken): TokenWithOwnerDto => ({
   createdAt: iso(t.createdAt),
   lastUsedAt: t.lastUsedAt ? iso(t.lastUsedAt) : null,
   revokedAt: t.revokedAt ? iso(t.revokedAt) : null,
+  expiresAt: iso(t.expiresAt),
   ...(t.owner ? { owner: toUserRefDto(t.owner) } : {}),
 });
 

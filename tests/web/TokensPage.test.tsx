@@ -8,7 +8,7 @@ import { renderApp } from "./renderApp.tsx";
 afterEach(() => vi.unstubAllGlobals());
 
 function token(id: string, name: string): TokenDto {
-  return { id, name, createdAt: "2026-11-02T08:00:00.000Z", lastUsedAt: null, revokedAt: null };
+  return { id, name, createdAt: "2026-11-02T08:00:00.000Z", lastUsedAt: null, revokedAt: null, expiresAt: "2099-11-02T08:00:00.000Z" };
 }
 
 describe("API tokens", () => {
@@ -20,7 +20,7 @@ describe("API tokens", () => {
       .on("POST", "/api/tokens", (req) => {
         const { name } = req.body as { name: string };
         tokens.push(token("tk2", name));
-        return { status: 201, body: { id: "tk2", name, token: "tk2:s3cr3t-value" } };
+        return { status: 201, body: { id: "tk2", name, token: "tk2:s3cr3t-value", expiresAt: "2099-11-02T08:00:00.000Z" } };
       });
     const writeText = vi.fn(async () => undefined);
     vi.stubGlobal("navigator", { ...navigator, clipboard: { writeText } });
@@ -28,10 +28,12 @@ describe("API tokens", () => {
     await screen.findByText("station-1");
 
     fireEvent.change(screen.getByLabelText(/Token name/), { target: { value: "transfer-station-2" } });
+    fireEvent.change(screen.getByLabelText(/Expires after/), { target: { value: "90" } });
     fireEvent.click(screen.getByRole("button", { name: "Create token" }));
     const notice = await screen.findByRole("region", { name: "New token" });
     expect(within(notice).getByText("tk2:s3cr3t-value")).toBeTruthy();
-    expect(stub.requests("POST", "/api/tokens")[0].body).toEqual({ name: "transfer-station-2" });
+    expect(within(notice).getByText(/It works until .*2099/)).toBeTruthy();
+    expect(stub.requests("POST", "/api/tokens")[0].body).toEqual({ name: "transfer-station-2", expiresInDays: 90 });
     await screen.findByText("transfer-station-2");
 
     fireEvent.click(within(notice).getByRole("button", { name: "Copy token" }));
@@ -58,6 +60,20 @@ describe("API tokens", () => {
     await screen.findByText(/^revoked/);
     expect(stub.requests("DELETE", "/api/tokens/tk1")[0].headers.get("x-tidemark-request")).toBe("1");
     await waitFor(() => expect(stub.requests("GET", "/api/tokens")).toHaveLength(2));
+  });
+
+  it("shows each token's expiry and marks an expired one without offering to revoke it", async () => {
+    stubFetch()
+      .on("GET", "/api/session", { body: { user: user("technician") } })
+      .on("GET", "/api/tokens", { body: [token("tk1", "station-1"), { ...token("tk0", "old-laptop"), expiresAt: "2025-01-31T08:00:00.000Z" }] });
+    renderApp("/tokens");
+    const old = (await screen.findByText("old-laptop")).closest("tr")!;
+    expect(within(old).getByText("expired")).toBeTruthy();
+    expect(within(old).queryByRole("button", { name: "Revoke" })).toBeNull();
+    expect(within(old).getByText(/2025/)).toBeTruthy();
+    const live = screen.getByText("station-1").closest("tr")!;
+    expect(within(live).getByText(/2099/)).toBeTruthy();
+    expect(within(live).getByRole("button", { name: "Revoke" })).toBeTruthy();
   });
 
   it("explains a failed creation in plain words", async () => {

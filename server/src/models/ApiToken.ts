@@ -20,6 +20,8 @@ export class ApiToken extends Model<InferAttributes<ApiToken>, InferCreationAttr
   declare createdAt: CreationOptional<Date>;
   declare lastUsedAt: CreationOptional<Date | null>;
   declare revokedAt: CreationOptional<Date | null>;
+  /** After this the token is refused; chosen at creation (default one year). */
+  declare expiresAt: Date;
   declare owner?: NonAttribute<User>;
 
   static initModel(sequelize: Sequelize): void {
@@ -31,6 +33,7 @@ export class ApiToken extends Model<InferAttributes<ApiToken>, InferCreationAttr
         createdAt: DataTypes.DATE,
         lastUsedAt: { type: DataTypes.DATE, allowNull: true },
         revokedAt: { type: DataTypes.DATE, allowNull: true },
+        expiresAt: { type: DataTypes.DATE, allowNull: false },
       },
       { sequelize, tableName: "api_tokens", modelName: "ApiToken", updatedAt: false },
     );

@@ -8,11 +8,17 @@ import { requirePermission, requireSessionAuth } from "../middleware/auth.ts";
 import { loadToken } from "../middleware/loadEntity.ts";
 import { ApiToken, User } from "../models/index.ts";
 import { can } from "../permissions.ts";
-import { createApiToken } from "../services/apiTokens.ts";
+import { createApiToken, DEFAULT_TOKEN_LIFETIME_DAYS, MAX_TOKEN_LIFETIME_DAYS } from "../services/apiTokens.ts";
 import { recordAudit } from "../services/audit.ts";
 import { parseWith } from "../validate.ts";
 
-const createSchema = z.object({ name: z.string().trim().min(1).max(100) }).strict();
+const createSchema = z
+  .object({
+    name: z.string().trim().min(1).max(100),
+    /** Days until the token stops working (default one year). */
+    expiresInDays: z.number().int().min(1).max(MAX_TOKEN_LIFETIME_DAYS).default(DEFAULT_TOKEN_LIFETIME_DAYS),
+  })
+  .strict();
 const listQuery = z.object({ all: z.enum(["0", "1", "true", "false"]).optional() }).strict();
 
 export function tokensRouter(ctx: AppContext): Router {
@@ -33,14 +39,14 @@ export function tokensRouter(ctx: AppContext): Router {
   });
 
   router.post("/tokens", requirePermission("manageOwnTokens"), async (req, res) => {
-    const { name } = parseWith(createSchema, req.body, "token");
+    const { name, expiresInDays } = parseWith(createSchema, req.body, "token");
     const user = res.locals.auth!.user;
     const created = await ctx.sequelize.transaction(async (transaction) => {
-      const made = await createApiToken(user.id, name, transaction);
-      await recordAudit(res, { action: "token.create", targetType: "token", targetId: made.token.id, details: { name } }, transaction);
+      const made = await createApiToken(user.id, name, transaction, expiresInDays);
+      await recordAudit(res, { action: "token.create", targetType: "token", targetId: made.token.id, details: { name, expiresAt: made.token.expiresAt.toISOString() } }, transaction);
       return made;
     });
-    const body: CreatedTokenDto = { id: created.token.id, name, token: created.plaintext };
+    const body: CreatedTokenDto = { id: created.token.id, name, token: created.plaintext, expiresAt: created.token.expiresAt.toISOString() };
     res.status(201).json(body);
   });
 

@@ -8,6 +8,7 @@ import { conflict, HttpError } from "../errors.ts";
 import { requirePermission, requireSessionAuth } from "../middleware/auth.ts";
 import { loadUser } from "../middleware/loadEntity.ts";
 import { User } from "../models/index.ts";
+import { revokeTokensOf } from "../services/apiTokens.ts";
 import { recordAudit } from "../services/audit.ts";
 import { hashPassword, passwordProblem } from "../services/passwords.ts";
 import { endSessionsOf } from "../services/sessions.ts";
@@ -69,10 +70,11 @@ export function usersRouter(ctx: AppContext): Router {
     await ctx.sequelize.transaction(async (transaction) => {
       await target.update(changes, { transaction });
       if (changes.passwordHash || changes.disabled) await endSessionsOf(ctx.sequelize, target.id, transaction);
+      const tokensRevoked = changes.disabled ? await revokeTokensOf(target.id, transaction) : 0;
       const changed = Object.keys(changes).map((k) => (k === "passwordHash" ? "password" : k));
       await recordAudit(
         res,
-        { action: "user.update", targetType: "user", targetId: target.id, details: { changed, ...(input.role ? { role: input.role } : {}), ...(input.disabled !== undefined ? { disabled: input.disabled } : {}) } },
+        { action: "user.update", targetType: "user", targetId: target.id, details: { changed, ...(input.role ? { role: input.role } : {}), ...(input.disabled !== undefined ? { disabled: input.disabled } : {}), ...(tokensRevoked ? { tokensRevoked } : {}) } },
         transaction,
       );
     });

@@ -343,6 +343,14 @@ export interface TokenDto {
   createdAt: string;
   lastUsedAt: string | null;
   revokedAt: string | null;
+  /** The token is refused from this moment on (chosen at creation, default one year). */
+  expiresAt: string;
+}
+
+/** POST /api/tokens body: `expiresInDays` 1–1825, default 365. */
+export interface CreateTokenDto {
+  name: string;
+  expiresInDays?: number;
 }
 
 /** POST /api/tokens answer: `token` is "id:secret", shown once. */
@@ -350,6 +358,7 @@ export interface CreatedTokenDto {
   id: string;
   name: string;
   token: string;
+  expiresAt: string;
 }
 
 export interface AuditEntryDto {

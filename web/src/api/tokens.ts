@@ -1,5 +1,5 @@
 import { queryOptions, useMutation, useQuery, useQueryClient } from "@tanstack/react-query";
-import type { CliPackageDto, CreatedTokenDto, TokenDto, UserRefDto } from "@tidemark/shared/types/api";
+import type { CliPackageDto, CreatedTokenDto, CreateTokenDto, TokenDto, UserRefDto } from "@tidemark/shared/types/api";
 import { ApiError, getJson, sendJson } from "./client.ts";
 import { auditKeys, cliPackageKeys, tokenKeys } from "./keys.ts";
 
@@ -45,7 +45,7 @@ export function useMyTokens() {
 export function useCreateToken() {
   const client = useQueryClient();
   return useMutation({
-    mutationFn: (body: { name: string }) => sendJson<CreatedTokenDto>("POST", "/api/tokens", body),
+    mutationFn: (body: CreateTokenDto) => sendJson<CreatedTokenDto>("POST", "/api/tokens", body),
     onSettled: () =>
       Promise.all([
         client.invalidateQueries({ queryKey: myTokensOptions().queryKey }),

@@ -5,7 +5,8 @@ import { useCliPackage, useCreateToken, useMyTokens } from "../api/tokens.ts";
 import { CopyButton } from "../components/CopyButton.tsx";
 import { TokenRow, TokenTableHead } from "../components/TokenRow.tsx";
 import { PageHeader } from "../components/PageHeader.tsx";
-import { buttonClass, TextField } from "../components/fields.tsx";
+import { buttonClass, SelectField, TextField } from "../components/fields.tsx";
+import { formatDate } from "../format/units.ts";
 import { EmptyState, ErrorState, InlineError, LoadingState } from "../components/states.tsx";
 
 function CommandLine({ command, label, testId }: { command: string; label: string; testId: string }) {
@@ -45,7 +46,7 @@ function NewTokenNotice({ token, onDismiss }: { token: CreatedTokenDto; onDismis
     <section aria-label="New token" className="mb-4 rounded-md border-2 border-harbour bg-harbour-soft p-4">
       <h2 className="text-lg">Token “{token.name}” created</h2>
       <p className="mt-1 text-sm">
-        Copy it now: it is shown only this once. Use it with <code className="font-mono">tidemark login</code> or as <code className="font-mono">TIDEMARK_TOKEN</code>.
+        It works until {formatDate(token.expiresAt)}. Copy it now: it is shown only this once. Use it with <code className="font-mono">tidemark login</code> or as <code className="font-mono">TIDEMARK_TOKEN</code>.
       </p>
       <p className="mt-2 rounded border border-line-strong bg-surface px-2 py-1.5 font-mono text-sm break-all select-all" data-testid="new-token">
         {token.token}
@@ -60,17 +61,33 @@ function NewTokenNotice({ token, onDismiss }: { token: CreatedTokenDto; onDismis
   );
 }
 
+/** Lifetimes offered at creation; the server takes 1–1825 days and defaults to a year. */
+const LIFETIMES: [days: number, label: string][] = [
+  [30, "30 days"],
+  [90, "90 days"],
+  [365, "1 year"],
+  [730, "2 years"],
+];
+
 function CreateTokenForm({ onCreated }: { onCreated: (token: CreatedTokenDto) => void }) {
   const [name, setName] = useState("");
+  const [days, setDays] = useState(365);
   const create = useCreateToken();
   function submit(event: FormEvent) {
     event.preventDefault();
-    create.mutate({ name: name.trim() }, { onSuccess: (token) => { setName(""); onCreated(token); } });
+    create.mutate({ name: name.trim(), expiresInDays: days }, { onSuccess: (token) => { setName(""); onCreated(token); } });
   }
   return (
     <form onSubmit={submit} aria-label="Create a token" className="mb-4 rounded-md border border-line bg-surface p-3">
       <div className="flex flex-wrap items-end gap-3">
         <TextField label="Token name" hint="(where it will be used)" placeholder="e.g. transfer-station-2" required maxLength={100} value={name} onChange={(e) => setName(e.target.value)} className="w-72" />
+        <SelectField label="Expires after" value={String(days)} onChange={(e) => setDays(Number(e.target.value))} className="w-36">
+          {LIFETIMES.map(([value, label]) => (
+            <option key={value} value={value}>
+              {label}
+            </option>
+          ))}
+        </SelectField>
         <button type="submit" className={buttonClass.primary} disabled={create.isPending || !name.trim()}>
           {create.isPending ? "Creating…" : "Create token"}
         </button>
