@@ -1,8 +1,16 @@
 /**
  * `npm start`: PostgreSQL (cluster kept in .data/pg, reused by later starts) on its own loopback port,
  * the local mail catcher (.data/mail), the portal build, and the server — which migrates, and seeds the
- * demo archive on an empty database by really scanning examples/ with the CLI. Ctrl-C / SIGTERM stops
- * the server first, then the mail catcher, then PostgreSQL.
+ * demo archive on an empty database by really scanning examples/ with the CLI.
+ *
+ * This process supervises the others. PostgreSQL and the server each run in a process group of their
+ * own, so a Ctrl-C at the terminal reaches only this supervisor, which stops the server first (it
+ * finishes its requests), then the mail catcher, then PostgreSQL. If the server or PostgreSQL dies, the
+ * rest is stopped within STOP_BUDGET_MS and the command exits non-zero saying why. If this supervisor is
+ * killed outright, the children's parent-death signal (setpriv --pdeathsig) stops them.
+ *
+ * Options: --no-build skips the portal build, the CLI bundle and the CLI tarball. DATA_DIR moves .data (the process test uses a
+ * temporary one); PORT, HOST and TIDEMARK_PG_PORT choose the ports.
  */
 import { spawn, type ChildProcess } from "node:child_process";
 import { existsSync, mkdirSync, readFileSync, writeFileSync } from "node:fs";
@@ -12,7 +20,12 @@ import { ensurePostgresInstalled, freePort, startCluster, type RunningCluster } 
 import { projectRoot } from "./lib/paths.ts";
 
 const log = (line: string): void => console.error(`[start] ${line}`);
-const dataDir = path.join(projectRoot, ".data");
+const dataDir = path.resolve(projectRoot, process.env.DATA_DIR || ".data");
+const build = !process.argv.slice(2).includes("--no-build");
+/** From the moment something dies to everything stopped. */
+const STOP_BUDGET_MS = 10_000;
+/** How long the server may take to finish its requests after SIGTERM (its own grace is 10 s). */
+const SERVER_STOP_MS = 12_000;
 const host = process.env.HOST || "127.0.0.1";
 const port = Number(process.env.PORT || 8080);
 const demoPassword = process.env.DEMO_PASSWORD || "harbourside-demo";
@@ -20,24 +33,59 @@ const demoPassword = process.env.DEMO_PASSWORD || "harbourside-demo";
 let cluster: RunningCluster | null = null;
 let smtp: SmtpFake | null = null;
 let server: ChildProcess | null = null;
-let stopping = false;
+let stopping: Promise<never> | null = null;
 
-async function stopAll(code: number): Promise<never> {
-  if (!stopping) {
-    stopping = true;
-    if (server && server.exitCode === null) {
-      const exited = new Promise((r) => server?.once("exit", r));
-      server.kill("SIGTERM");
-      await exited;
-    }
-    await smtp?.close().catch(() => undefined);
-    await cluster?.stop();
-    log("stopped");
-  }
-  process.exit(code);
+const isRunning = (child: ChildProcess | null): child is ChildProcess => child !== null && child.exitCode === null && child.signalCode === null;
+
+function exited(child: ChildProcess): Promise<void> {
+  return isRunning(child) ? new Promise((resolve) => child.once("exit", () => resolve())) : Promise.resolve();
 }
 
-for (const sig of ["SIGINT", "SIGTERM", "SIGHUP"] as const) process.on(sig, () => void stopAll(0));
+function within<T>(ms: number, work: Promise<T>): Promise<T | "timeout"> {
+  let timer: NodeJS.Timeout | undefined;
+  const timeout = new Promise<"timeout">((resolve) => (timer = setTimeout(() => resolve("timeout"), ms)));
+  return Promise.race([work, timeout]).finally(() => clearTimeout(timer));
+}
+
+/** Stops everything once, in order: server, mail catcher, PostgreSQL; then exits with `code`. */
+function stopAll(code: number, reason: string): Promise<never> {
+  stopping ??= (async (): Promise<never> => {
+    log(reason);
+    if (isRunning(server)) {
+      log(`stopping the server (pid ${server.pid})`);
+      server.kill("SIGTERM");
+      if ((await within(SERVER_STOP_MS, exited(server))) === "timeout") {
+        log(`the server did not stop within ${SERVER_STOP_MS / 1000} s; killing it`);
+        server.kill("SIGKILL");
+        await exited(server);
+      }
+    }
+    // From here on the budget: the mail catcher and PostgreSQL stop within STOP_BUDGET_MS.
+    const deadline = setTimeout(() => {
+      log(`PostgreSQL or the mail catcher did not stop within ${STOP_BUDGET_MS / 1000} s; killing PostgreSQL`);
+      if (cluster && isRunning(cluster.process)) cluster.process.kill("SIGKILL");
+      process.exit(code || 1);
+    }, STOP_BUDGET_MS);
+    if (smtp) {
+      log("stopping the mail catcher");
+      await within(3000, smtp.close().catch(() => undefined));
+    }
+    if (cluster && isRunning(cluster.process)) {
+      log(`stopping PostgreSQL (pid ${cluster.process.pid})`);
+      await cluster.stop();
+    }
+    clearTimeout(deadline);
+    log(code === 0 ? "stopped" : `stopped (exit code ${code})`);
+    process.exit(code);
+  })();
+  return stopping;
+}
+
+for (const sig of ["SIGINT", "SIGTERM", "SIGHUP"] as const) process.on(sig, () => void stopAll(0, `${sig}: stopping`));
+
+function describeExit(code: number | null, signal: NodeJS.Signals | null): string {
+  return signal ? `killed by ${signal}` : `exit code ${code}`;
+}
 
 /** The cluster keeps the port it was first given, so a second start finds it where it left it. */
 async function clusterPort(): Promise<number> {
@@ -59,35 +107,44 @@ function run(cmd: string, args: string[]): Promise<void> {
 
 async function main(): Promise<void> {
   const bins = ensurePostgresInstalled(log);
-  cluster = await startCluster(bins, { dataDir: path.join(dataDir, "pg"), port: await clusterPort(), log });
+  cluster = await startCluster(bins, { dataDir: path.join(dataDir, "pg"), port: await clusterPort(), log, detached: true });
+  log(`PostgreSQL pid ${cluster.process.pid}`);
+  cluster.process.once("exit", (code, signal) => {
+    if (!stopping) void stopAll(1, `PostgreSQL exited unexpectedly (${describeExit(code, signal)}); stopping the rest`);
+  });
   await cluster.createDatabase("tidemark");
 
   smtp = await startSmtpFake({ dir: path.join(dataDir, "mail") });
   log(`mail catcher on ${smtp.url}; messages are stored in .data/mail`);
 
-  log("building the portal…");
-  await run("npm", ["run", "build", "-w", "web", "--silent"]);
-  await run(process.execPath, ["cli/bin/build.mjs"]); // the seed's scans start quicker from the bundle
-  // The self-contained CLI tarball the tokens page offers for `npm install -g` (cli/pack).
-  await run(process.execPath, ["scripts/pack-cli.mjs"]);
+  if (build) {
+    log("building the portal…");
+    await run("npm", ["run", "build", "-w", "web", "--silent"]);
+    await run(process.execPath, ["cli/bin/build.mjs"]); // the seed's scans start quicker from the bundle
+    // The self-contained CLI tarball the tokens page offers for `npm install -g` (cli/pack).
+    await run(process.execPath, ["scripts/pack-cli.mjs"]);
+  }
+  if (stopping) return;
 
-  server = spawn(process.execPath, ["--import", "tsx", path.join(projectRoot, "server/src/main.ts")], {
+  // Its own process group (Ctrl-C is ours to pass on, after the server has finished), and SIGTERM
+  // should this supervisor die without stopping it.
+  server = spawn("setpriv", ["--pdeathsig", "SIGTERM", process.execPath, "--import", "tsx", path.join(projectRoot, "server/src/main.ts")], {
     cwd: projectRoot,
-    stdio: "inherit",
+    stdio: ["ignore", "inherit", "inherit"],
+    detached: true,
     env: {
       ...process.env,
       DATABASE_URL: cluster.url("tidemark"),
       HOST: host,
       PORT: String(port),
       SMTP_URL: smtp.url,
+      DATA_DIR: dataDir,
       DEMO_PASSWORD: demoPassword,
     },
   });
-  server.on("exit", (code) => {
-    if (!stopping) {
-      log(`server exited (${code}); stopping`);
-      void stopAll(code || 1);
-    }
+  log(`server pid ${server.pid}`);
+  server.once("exit", (code, signal) => {
+    if (!stopping) void stopAll(code || 1, `the server exited unexpectedly (${describeExit(code, signal)}); stopping the mail catcher and PostgreSQL`);
   });
 
   const url = `http://${host}:${port}`;
@@ -111,7 +168,7 @@ async function main(): Promise<void> {
 
 async function waitForHealth(url: string): Promise<void> {
   for (let i = 0; i < 240; i++) {
-    if (stopping) return;
+    if (stopping) await stopping;
     try {
       const res = await fetch(`${url}/api/health`);
       if (res.ok) return;
@@ -124,6 +181,5 @@ async function waitForHealth(url: string): Promise<void> {
 }
 
 main().catch(async (e: unknown) => {
-  log(e instanceof Error ? e.message : String(e));
-  await stopAll(1);
+  await stopAll(1, `start-up failed: ${e instanceof Error ? e.message : String(e)}`);
 });

@@ -106,6 +106,11 @@ export interface ClusterOptions {
   port: number;
   /** Throwaway clusters trade durability for speed (fsync off). */
   throwaway?: boolean;
+  /**
+   * Run in a process group of its own, so a Ctrl-C at the terminal reaches only our supervisor, which
+   * stops PostgreSQL when it is ready to (npm start). The parent-death signal still applies.
+   */
+  detached?: boolean;
   log?: (line: string) => void;
 }
 
@@ -173,7 +178,7 @@ export async function startCluster(bins: PgBinaries, options: ClusterOptions): P
   const args = owner
     ? ["--reuid", String(owner.uid), "--regid", String(owner.gid), "--clear-groups", "--pdeathsig", "SIGINT", bins.postgres, ...settings]
     : ["--pdeathsig", "SIGINT", bins.postgres, ...settings];
-  const child = spawn(cmd, args, { stdio: ["ignore", "pipe", "pipe"] });
+  const child = spawn(cmd, args, { stdio: ["ignore", "pipe", "pipe"], detached: options.detached ?? false });
   let output = "";
   const keep = (chunk: Buffer): void => {
     output = (output + chunk.toString()).slice(-8000);

@@ -25,6 +25,8 @@ export async function startSmtpFake({ dir, port = 0, host = "127.0.0.1" }: { dir
     disabledCommands: ["AUTH", "STARTTLS"],
     logger: false,
     size: 25 * 1024 * 1024,
+    // Stopping waits this long at most for open connections (a stack shutdown has 10 s in all).
+    closeTimeout: 2000,
     onData(stream, _session, callback) {
       // Sortable names: arrival order is the listing order.
       const name = `${Date.now()}-${String(++seq).padStart(4, "0")}-${randomBytes(3).toString("hex")}.eml`;
