@@ -208,6 +208,12 @@ describe("part kinds", () => {
     expect(await eventually(() => filesIn(t.settings.uploadTmpDir!).length === 0)).toBe(true);
   });
 
+  it("says so when the report is sent as a text field instead of a file part", async () => {
+    const res = await ingest(t.app, token, { collection: "C", batchKey: "as-field" }).field("report", reportJson.slice(0, 1000));
+    expect(res.status).toBe(400);
+    expect(res.body.error.message).toBe('"report" must be sent as a file part (with a filename), not as a text field');
+  });
+
   it("a good upload leaves the upload folder empty too", async () => {
     const res = await ingest(t.app, token, { collection: "C", batchKey: "good", report: scanReport([{ path: "a.wav" }]), images: [{ field: "spectrogram", name: "0.png", bytes: pngBytes() }] });
     expect(res.status).toBe(201);
