@@ -120,7 +120,8 @@ export interface RunningCluster {
   /** Superuser connection URL for a database name (default "postgres"). */
   url(database?: string): string;
   createDatabase(name: string): Promise<void>;
-  stop(): Promise<void>;
+  /** Smart shutdown (sessions finish), fast after 3 s; `fast` skips straight to disconnecting clients. */
+  stop(options?: { fast?: boolean }): Promise<void>;
   process: ChildProcess;
 }
 
@@ -206,13 +207,13 @@ export async function startCluster(bins: PgBinaries, options: ClusterOptions): P
         await client.end();
       }
     },
-    async stop() {
+    async stop(options = {}) {
       if (child.exitCode !== null || child.signalCode !== null) return;
-      child.kill("SIGTERM"); // smart shutdown: lets sessions finish
-      const fast = setTimeout(() => child.kill("SIGINT"), 3000); // fast shutdown: disconnects clients
+      child.kill(options.fast ? "SIGINT" : "SIGTERM"); // SIGTERM: smart shutdown, lets sessions finish
+      const fastTimer = setTimeout(() => child.kill("SIGINT"), 3000); // fast shutdown: disconnects clients
       const kill = setTimeout(() => child.kill("SIGKILL"), 15000);
       await exited;
-      clearTimeout(fast);
+      clearTimeout(fastTimer);
       clearTimeout(kill);
     },
   };
