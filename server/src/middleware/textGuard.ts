@@ -16,7 +16,12 @@ export interface BadText {
 // A high surrogate not followed by a low one, or a low one not preceded by a high one.
 const LONE_SURROGATE = /[\uD800-\uDBFF](?![\uDC00-\uDFFF])|(?<![\uD800-\uDBFF])[\uDC00-\uDFFF]/;
 
+// eslint-disable-next-line no-control-regex -- looking for U+0000 is the point
+const SUSPECT = /[\u0000\uD800-\uDFFF]/;
+
 function problemOf(s: string): string | null {
+  // One quick scan for the common case: nothing suspect at all (pairs are then told apart below).
+  if (!SUSPECT.test(s)) return null;
   const nul = s.indexOf("\u0000");
   if (nul >= 0) return `contains a NUL character (U+0000) at position ${nul}`;
   const lone = LONE_SURROGATE.exec(s);
@@ -24,25 +29,48 @@ function problemOf(s: string): string | null {
   return null;
 }
 
-const join = (at: string, key: string | number): string => (at ? `${at}.${key}` : String(key));
+/** Where a value sits; the dotted path is only spelt out for the one value that fails. */
+interface Place {
+  parent: Place | null;
+  key: string | number;
+}
 
-/** The first string (value or object key) that is not storable text, or null. Iterative: deep input cannot overflow the stack. */
+function pathOf(place: Place | null, last?: string | number): string {
+  const keys: (string | number)[] = last === undefined ? [] : [last];
+  for (let at = place; at; at = at.parent) keys.push(at.key);
+  return keys.reverse().join(".");
+}
+
+/**
+ * The first string (value or object key) that is not storable text, or null. Iterative (deep input cannot
+ * overflow the stack), and no string is built per value: a large report is walked in one cheap pass.
+ */
 export function findBadText(value: unknown): BadText | null {
-  const stack: [unknown, string][] = [[value, ""]];
+  if (typeof value === "string") {
+    const problem = problemOf(value);
+    return problem ? { field: "(root)", problem } : null;
+  }
+  const stack: [unknown, Place | null][] = [[value, null]];
   while (stack.length) {
-    const [v, at] = stack.pop()!;
-    if (typeof v === "string") {
-      const problem = problemOf(v);
-      if (problem) return { field: at || "(root)", problem };
-    } else if (Array.isArray(v)) {
-      for (let i = v.length - 1; i >= 0; i--) stack.push([v[i], join(at, i)]);
+    const [v, place] = stack.pop()!;
+    if (Array.isArray(v)) {
+      for (let i = 0; i < v.length; i++) {
+        const child: unknown = v[i];
+        if (typeof child === "string") {
+          const problem = problemOf(child);
+          if (problem) return { field: pathOf(place, i), problem };
+        } else if (child !== null && typeof child === "object") stack.push([child, { parent: place, key: i }]);
+      }
     } else if (v !== null && typeof v === "object") {
-      const entries = Object.entries(v);
-      for (let i = entries.length - 1; i >= 0; i--) {
-        const [k, child] = entries[i];
+      for (const k in v) {
+        if (!Object.hasOwn(v, k)) continue;
         const keyProblem = problemOf(k);
-        if (keyProblem) return { field: join(at, JSON.stringify(k)), problem: `has a key that ${keyProblem}` };
-        stack.push([child, join(at, k)]);
+        if (keyProblem) return { field: pathOf(place, JSON.stringify(k)), problem: `has a key that ${keyProblem}` };
+        const child: unknown = (v as Record<string, unknown>)[k];
+        if (typeof child === "string") {
+          const problem = problemOf(child);
+          if (problem) return { field: pathOf(place, k), problem };
+        } else if (child !== null && typeof child === "object") stack.push([child, { parent: place, key: k }]);
       }
     }
   }
