@@ -62,6 +62,7 @@ describe("Users (admin)", () => {
               createdAt: "2026-11-02T08:00:00.000Z",
               lastUsedAt: null,
               revokedAt: revoked ? "2026-11-03T08:00:00.000Z" : null,
+              expiresAt: "2099-11-02T08:00:00.000Z",
             },
           ],
         };
