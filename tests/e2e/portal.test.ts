@@ -8,6 +8,7 @@ import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import type { Page } from "playwright-core";
 import type { FileSummaryDto, Page as ApiPage, Role } from "@tidemark/shared/types/api";
 import { emailOf, openBrowser, screenshot, type RoleBrowser } from "./browser.ts";
+import { backgroundIdle } from "../../server/src/services/background.ts";
 import { DEMO_PASSWORD, startPortalStack, type PortalStack } from "./portalStack.ts";
 
 let stack: PortalStack;
@@ -276,6 +277,7 @@ describe("review portal in chromium", () => {
     await page.getByLabel("E-mail").fill(emailOf("admin"));
     await page.getByRole("button", { name: "Send reset link" }).click();
     await page.getByText(/a reset link is on its way/).waitFor();
+    await backgroundIdle(); // the request is answered before its lookup and e-mail run
     await stack.mailer.idle();
 
     const link = resetLinkFor(emailOf("admin"));

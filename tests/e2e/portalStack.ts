@@ -15,6 +15,7 @@ import { silentLogger, type Logger } from "../../server/src/logger.ts";
 import { createMailer } from "../../server/src/mail/mailer.ts";
 import { projectRoot } from "../../server/src/paths.ts";
 import { seedDemo } from "../../server/src/seed/seedDemo.ts";
+import { backgroundIdle } from "../../server/src/services/background.ts";
 import { createFsStore } from "../../server/src/storage/fsStore.ts";
 import { createTestDatabase } from "../helpers/db.ts";
 
@@ -85,6 +86,7 @@ export async function startPortalStack(log: (line: string) => void = () => undef
     async stop() {
       server.closeAllConnections();
       await new Promise<void>((resolve) => server.close(() => resolve()));
+      await backgroundIdle();
       await mailer.idle();
       mailer.close();
       await db.close();
