@@ -189,6 +189,10 @@ describe("a good upload", () => {
     expect(hash.status).toBe(409);
     expect(hash.body.error.message).toContain('SHA-256 differs for "key/a.wav"');
 
+    const trail = await AuditEntry.findAll({ where: { action: "batch.ingest_conflict", targetId: String(first.body.batchId) } });
+    expect(trail).toHaveLength(2);
+    expect(trail[0].details).toMatchObject({ batchKey: "reused", differences: expect.arrayContaining(["file count: stored 2, this upload 3"]) });
+
     const elsewhere = await ingest(t.app, token, { collection: "Other Shelf", batchKey: "reused", report });
     expect(elsewhere.status).toBe(409);
     expect(elsewhere.body.error.message).toContain('collection: stored in "Keys", this upload names "Other Shelf"');

@@ -1,5 +1,6 @@
 import { Router } from "express";
 import type { AppContext } from "../context.ts";
+import { HttpError } from "../errors.ts";
 import { requirePermission, requireTokenAuth } from "../middleware/auth.ts";
 import { reportUpload, requireReport } from "../middleware/reportUpload.ts";
 import { recordAudit } from "../services/audit.ts";
@@ -21,6 +22,13 @@ export function ingestRouter(ctx: AppContext): Router {
       batchKey: fields.batchKey,
       report,
       artefacts,
+    }).catch(async (e: unknown) => {
+      // A refused re-use of a batch key is kept in the trail: someone's files were not stored.
+      if (e instanceof HttpError && e.code === "batch_key_conflict") {
+        const { batchId, differences } = e.details as { batchId: number; differences: string[] };
+        await recordAudit(res, { action: "batch.ingest_conflict", targetType: "batch", targetId: batchId, details: { batchKey: fields.batchKey, collection: fields.collection, differences } });
+      }
+      throw e;
     });
     if (!result.created) {
       await recordAudit(res, { action: "batch.ingest_repeat", targetType: "batch", targetId: result.batchId, details: { batchKey: fields.batchKey } });
