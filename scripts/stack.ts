@@ -9,8 +9,8 @@
  * rest is stopped within STOP_BUDGET_MS and the command exits non-zero saying why. If this supervisor is
  * killed outright, the children's parent-death signal (setpriv --pdeathsig) stops them.
  *
- * Options: --no-build skips the portal build, the CLI bundle and the CLI tarball. DATA_DIR moves .data (the process test uses a
- * temporary one); PORT, HOST and TIDEMARK_PG_PORT choose the ports.
+ * Options: --no-build skips the portal build, the CLI bundle and the CLI tarball. DATA_DIR moves .data
+ * (the process test uses a temporary one); PORT, HOST and TIDEMARK_PG_PORT choose the ports.
  */
 import { spawn, type ChildProcess } from "node:child_process";
 import { existsSync, mkdirSync, readFileSync, writeFileSync } from "node:fs";
