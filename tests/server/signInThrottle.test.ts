@@ -67,7 +67,7 @@ function welchT(a: number[], b: number[]): number {
 const median = (x: number[]) => [...x].sort((p, q) => p - q)[Math.floor(x.length / 2)];
 
 describe("password-reset request timing", () => {
-  it("takes the same time for a known and an unknown address (N = 30 each, interleaved, Welch |t| < 4)", async () => {
+  it("takes the same time for a known and an unknown address (N = 30 each, interleaved, Welch |t| < 4 on the fastest 27)", async () => {
     const user = await t.createUser("technician", { email: "timing.check@harbourside.test" });
     // A slow disk, as a production database's fsync is: each reset row takes 20 ms more to write. The
     // throwaway test cluster writes without fsync, which would hide a difference the issue measured.
@@ -79,7 +79,9 @@ describe("password-reset request timing", () => {
       const res = await request(t.app).post("/api/password-reset").send({ email });
       const ms = Number(process.hrtime.bigint() - start) / 1e6;
       expect(res.status).toBe(202);
-      await backgroundIdle(); // the known address's writes must not slow the next request down
+      // The known address's writes and e-mail happen after the answer; they must not slow the next request.
+      await backgroundIdle();
+      await t.mailer.idle();
       return ms;
     };
     // Warm-up: first requests pay for connections and JIT.
@@ -90,7 +92,9 @@ describe("password-reset request timing", () => {
       known.push(await time(user.email));
       unknown.push(await time(`ghost.${i}@harbourside.test`));
     }
-    const t0 = welchT(known, unknown);
+    // The 3 slowest of each (10 %) are dropped: on a shared machine a stray pause hits either side.
+    const trim = (x: number[]) => [...x].sort((p, q) => p - q).slice(0, x.length - 3);
+    const t0 = welchT(trim(known), trim(unknown));
     expect(Math.abs(t0), `known median ${median(known).toFixed(2)} ms, unknown ${median(unknown).toFixed(2)} ms, t = ${t0.toFixed(2)}`).toBeLessThan(4);
     // The work was done for the known address all the same (one reset row per request).
     expect(await PasswordReset.count({ where: { userId: user.id } })).toBe(32);
