@@ -1,7 +1,7 @@
 /**
  * Every route × every role × anonymous, generated from one table, with every credential kind a route
  * accepts. The expectation table below is written from the roles table in the product notes
- * (shared/README.md), not imported from the server, so a drift in server/src/permissions.ts shows up here.
+ * (the product notes, ../shared/README.md beside the repository), not imported from the server, so a drift in server/src/permissions.ts shows up here.
  */
 import request from "supertest";
 import type TestAgent from "supertest/lib/agent.js";
@@ -17,7 +17,7 @@ import { startTestApp, TEST_PASSWORD, type TestApp } from "./helpers/testApp.ts"
 
 const collectionOf = async (fx: Fixture): Promise<number> => (await FileResult.findByPk(fx.fileId))!.collectionId;
 
-// shared/README.md, "Who uses it": the roles table, row by row.
+// The product notes (../shared/README.md), "Who uses it": the roles table, row by row.
 const README_TABLE = {
   view: ["admin", "supervisor", "technician", "auditor"],
   upload: ["admin", "supervisor", "technician"],

@@ -64,7 +64,7 @@ const finding = (code: Finding["code"], severity: Finding["severity"] = "warn"):
 const codes = (fs: Finding[]): string[] => fs.map((f) => `${f.code}:${f.severity}`);
 
 describe("built-in profiles", () => {
-  it("are the three named in shared/README.md and validate against the profile schema", () => {
+  it("are the three named in the product notes (../shared/README.md) and validate against the profile schema", () => {
     expect(BUILTIN_PROFILES.map((p) => p.name)).toEqual(["preservation-master", "access-copy", "broadcast-loudness"]);
     for (const p of BUILTIN_PROFILES) {
       // What `tidemark profiles NAME` prints must be a valid starting point for a custom profile.
