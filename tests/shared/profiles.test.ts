@@ -91,7 +91,7 @@ describe("built-in profiles", () => {
 
 describe("broadcast-loudness: EBU R 128 (2020)", () => {
   const p = builtin("broadcast-loudness");
-  // EBU R 128 (2020): target −23.0 LUFS, ±0.5 LU tolerance; shared/README.md: warn up to ±1 LU.
+  // EBU R 128 (2020): target −23.0 LUFS, ±0.5 LU tolerance; the product notes (../shared/README.md): warn up to ±1 LU.
   it.each([
     [-23.0, "pass"],
     [-23.45, "pass"],
@@ -159,7 +159,7 @@ describe("preservation-master: IASA TC-04 format demands", () => {
     expect(j.findings[0].message).toBe("sample rate 44100 Hz, expected at least 48000 Hz");
   });
 
-  // shared/README.md: |DC| < 0.1 % FS warn / 1 % fail.
+  // The product notes (../shared/README.md): |DC| < 0.1 % FS warn / 1 % fail.
   it.each([
     [[0.05, 0.0], "pass", []],
     [[0.0, 0.2], "warn", [1]],
