@@ -296,8 +296,9 @@ async function uploadChecks(comparison: FixityComparison, target: { server: stri
       log(`the server refused the fixity checks after ${sent} of ${comparison.checks.length}: ${error.message}`);
       return EXIT_CODES.usage;
     }
+    // Nothing is spooled for verify: the same command sends the checks again (exit 6, as for any unreachable server).
     log(`not delivered: ${sent} of ${comparison.checks.length} fixity checks reached ${server} (${oneLine(error)}); run the same verify again to send them`);
-    return EXIT_CODES.notDelivered;
+    return EXIT_CODES.unreachable;
   }
   log(`sent ${sent} fixity checks to ${server} (collection "${target.collection}"): ${changed} changed${unknown ? `, ${unknown} of paths the collection has no scan of` : ""}`);
   return EXIT_CODES.ok;
