@@ -313,7 +313,9 @@ async function main(): Promise<void> {
 
     log("synthesising inputs (24-bit / 48 kHz stereo pink noise at −20 dBFS RMS)");
     const doSingle = !o.only || o.only.has("single");
-    const mainFile = doSingle ? await synth(path.join(root, "single"), "pink.wav", o.seconds, { seed: 1 }) : "";
+    // The FLAC section encodes the same file, so it needs it too.
+    const needsMain = doSingle || !o.only || o.only.has("flac");
+    const mainFile = needsMain ? await synth(path.join(root, "single"), "pink.wav", o.seconds, { seed: 1 }) : "";
     const whiteFile = o.white ? await synth(path.join(root, "white"), "white.wav", o.seconds, { noise: "white", seed: 2 }) : null;
     const doWorkers = !o.only || o.only.has("workers");
     const batchDir = path.join(root, "batch");
@@ -434,7 +436,7 @@ async function main(): Promise<void> {
     }
 
     // 6. The main file as FLAC (issue #17): the same audio, scanned from FLAC and from WAV in the same rounds.
-    if (o.flac && hasFlac()) {
+    if (o.flac && hasFlac() && (!o.only || o.only.has("flac"))) {
       log(`\n6. ${o.seconds} s file as FLAC (flac -5) vs the same audio as WAV, --workers 1, ${o.repeats} run(s) each, with flac -t beside`);
       const dir = path.join(root, "flac");
       await mkdir(dir, { recursive: true });
