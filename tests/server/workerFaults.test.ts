@@ -146,7 +146,7 @@ it("lets a healthy worker measure every file while a worker without the storage 
   // This worker looks for the storage where nothing is mounted.
   const blind = startWorker("blind", ["--mount", `${dir}=${path.join(dir, "not-mounted")}`]);
   await until("the blind worker to try a file", async () => blind.output().includes("not reachable from this worker"));
-  const healthy = startWorker("healthy");
+  const healthy = startWorker("healthy", ["--progress", "json"]);
   const run = await allDone(runId, 6);
   expect(run.counts).toMatchObject({ done: 6, failed: 0 });
   const jobs = await ScanJob.findAll({ where: { runId } });
@@ -158,6 +158,15 @@ it("lets a healthy worker measure every file while a worker without the storage 
   for (const w of [blind, healthy]) w.child.kill("SIGTERM");
   expect((await blind.exit).code).toBe(0);
   expect((await healthy.exit).code).toBe(0);
+  // --progress json: JSON lines only, counting the bytes of each job in hand; the last one totals the six files.
+  const events = healthy
+    .output()
+    .trim()
+    .split("\n")
+    .map((l) => JSON.parse(l) as Record<string, unknown>);
+  expect(events.some((e) => e.event === "progress" && typeof e.bytesDone === "number")).toBe(true);
+  expect(events.at(-1)).toMatchObject({ event: "done", filesDone: 6, files: 6 });
+  expect(events.at(-1)!.bytesDone).toBe(events.at(-1)!.bytes);
 });
 
 it("exits within the grace period when stopped while the server is down, leaving its job to the heartbeat limit", { timeout: 90_000 }, async () => {
