@@ -6,7 +6,7 @@
  * worker stopped with --grace while the server is down exits within the grace period plus a few seconds,
  * with the exit code that says its jobs were left to the heartbeat limit.
  */
-import { spawn, type ChildProcess } from "node:child_process";
+import type { ChildProcess } from "node:child_process";
 import { mkdtempSync, rmSync } from "node:fs";
 import { tmpdir } from "node:os";
 import path from "node:path";
@@ -18,8 +18,9 @@ import { FileResult, User } from "../../server/src/models/index.ts";
 import { initRunModels, ScanJob, ScanJobAttempt } from "../../server/src/queue/models/index.ts";
 import { createApiToken } from "../../server/src/services/apiTokens.ts";
 import { createTestDatabase, type TestDatabase } from "../helpers/db.ts";
-import { binPath, isolatedEnv, runCli } from "../cli/runCli.ts";
+import { isolatedEnv, runCli } from "../cli/runCli.ts";
 import { startChildServer, type ChildServer } from "./helpers/childServer.ts";
+import { startWorkerProcess, type WorkerProcess } from "./helpers/workerProcess.ts";
 import { writeTransferSet } from "./helpers/transferSet.ts";
 
 const HEARTBEAT_SECONDS = 4;
@@ -31,11 +32,7 @@ let server: ChildServer | null = null;
 let token: string;
 const children: ChildProcess[] = [];
 
-interface Worker {
-  child: ChildProcess;
-  output: () => string;
-  exit: Promise<{ code: number | null; signal: NodeJS.Signals | null }>;
-}
+type Worker = WorkerProcess;
 
 function serverEnv(): Record<string, string> {
   return {
@@ -51,16 +48,7 @@ function serverEnv(): Record<string, string> {
 }
 
 function startWorker(name: string, extra: string[] = []): Worker {
-  const env: NodeJS.ProcessEnv = { ...process.env, ...isolatedEnv({ TIDEMARK_TOKEN: token, TIDEMARK_RETRY_BASE_MS: "100" }) };
-  delete env.DATABASE_URL;
-  delete env.TIDEMARK_TEST_PG_URL;
-  const child = spawn(process.execPath, [binPath, "worker", "--server", server!.url, "--name", name, "--poll", "0.3", ...extra], { env, stdio: ["ignore", "pipe", "pipe"] });
-  children.push(child);
-  let output = "";
-  child.stdout!.on("data", (c: Buffer) => void (output += c.toString()));
-  child.stderr!.on("data", (c: Buffer) => void (output += c.toString()));
-  const exit = new Promise<{ code: number | null; signal: NodeJS.Signals | null }>((resolve) => child.once("exit", (code, signal) => resolve({ code, signal })));
-  return { child, output: () => output, exit };
+  return startWorkerProcess({ serverUrl: server!.url, token, name, extraArgs: extra, extraEnv: { TIDEMARK_RETRY_BASE_MS: "100" }, children });
 }
 
 async function until<T>(what: string, probe: () => Promise<T | null | undefined | false>, timeoutMs = 30_000): Promise<T> {

@@ -2,25 +2,16 @@
  * The overview spectrogram's level grid (contract §2, schema "tidemark.level-grid/1"): one byte per plot
  * pixel, so the read-out under the pointer is the spectrogram's own dBFS value, never a guess from colour.
  */
+import type { LevelGridJson } from "@tidemark/shared/closeups/levelGrid";
 import type { PlotArea } from "@tidemark/shared/render/layout";
 
 export const LEVEL_GRID_SCHEMA = "tidemark.level-grid/1";
 
-export interface LevelGrid {
-  durationSeconds: number;
-  columns: number;
-  rows: number;
-  secondsPerColumn: number;
-  frequencyScale: "log" | "linear";
-  minHz: number;
-  maxHz: number;
-  /** rows entries, row 0 the lowest frequency. */
-  rowCenterHz: number[];
-  dbMin: number;
-  dbMax: number;
+/** The grid as the server sends it (shared/src/closeups/levelGrid.ts), with its levels decoded from base64. */
+export type LevelGrid = Omit<LevelGridJson, "schema" | "levels"> & {
   /** columns × rows bytes, column-major (index = column × rows + row); 0 = at or below dbMin, 255 = dbMax. */
   levels: Uint8Array;
-}
+};
 
 export interface GridCell {
   column: number;
