@@ -61,3 +61,18 @@ export async function screenshot(page: Page, name: string): Promise<string> {
   await page.screenshot({ path: file, fullPage: true });
   return file;
 }
+
+/** A JSON call made from inside the page, with its session cookie and the CSRF header, as the portal makes it. */
+export function apiFrom<T = unknown>(page: Page, method: string, url: string, body?: unknown): Promise<{ status: number; body: T }> {
+  return page.evaluate(
+    async ({ method, url, body }) => {
+      const res = await fetch(url, {
+        method,
+        headers: { "content-type": "application/json", "x-tidemark-request": "1" },
+        body: body === undefined ? undefined : JSON.stringify(body),
+      });
+      return { status: res.status, body: await res.json().catch(() => null) };
+    },
+    { method, url, body },
+  ) as Promise<{ status: number; body: T }>;
+}

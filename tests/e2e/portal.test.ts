@@ -7,7 +7,7 @@ import path from "node:path";
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import type { Page } from "playwright-core";
 import type { FileSummaryDto, Page as ApiPage, Role } from "@tidemark/shared/types/api";
-import { emailOf, openBrowser, screenshot, type RoleBrowser } from "./browser.ts";
+import { apiFrom, emailOf, openBrowser, screenshot, type RoleBrowser } from "./browser.ts";
 import { backgroundIdle } from "../../server/src/services/background.ts";
 import { DEMO_PASSWORD, startPortalStack, type PortalStack } from "./portalStack.ts";
 
@@ -45,19 +45,6 @@ function postedComment(page: Page, text: string | RegExp) {
   return page.getByRole("region", { name: /^Comments/ }).getByRole("listitem").filter({ hasText: text });
 }
 
-function apiFrom(page: Page, method: string, url: string, body?: unknown) {
-  return page.evaluate(
-    async ({ method, url, body }) => {
-      const res = await fetch(url, {
-        method,
-        headers: { "content-type": "application/json", "x-tidemark-request": "1" },
-        body: body === undefined ? undefined : JSON.stringify(body),
-      });
-      return { status: res.status, body: await res.json().catch(() => null) };
-    },
-    { method, url, body },
-  );
-}
 
 /** The reset link from the newest mail to `to`, undoing quoted-printable line folding and escapes. */
 function resetLinkFor(to: string): string {

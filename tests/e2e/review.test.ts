@@ -15,7 +15,7 @@ import type { CreatedTokenDto, FileDetailDto, FileSummaryDto, Page as ApiPage, R
 import { runCli } from "../../server/src/seed/runCli.ts";
 import { sine } from "../fixtures/synth.ts";
 import { encodeWav } from "../fixtures/wavWriter.ts";
-import { emailOf, openBrowser, screenshot, type RoleBrowser } from "./browser.ts";
+import { apiFrom, emailOf, openBrowser, screenshot, type RoleBrowser } from "./browser.ts";
 import { DEMO_PASSWORD, startPortalStack, type PortalStack } from "./portalStack.ts";
 
 /** The reference tone: AES17 defines a full-scale sine as 0 dBFS, so a sine of peak 0.1 is −20 dBFS. */
@@ -41,19 +41,6 @@ async function signIn(role: Role, startPath: string): Promise<Page> {
   return page;
 }
 
-function apiFrom<T>(page: Page, method: string, url: string, body?: unknown): Promise<{ status: number; body: T }> {
-  return page.evaluate(
-    async ({ method, url, body }) => {
-      const res = await fetch(url, {
-        method,
-        headers: { "content-type": "application/json", "x-tidemark-request": "1" },
-        body: body === undefined ? undefined : JSON.stringify(body),
-      });
-      return { status: res.status, body: await res.json().catch(() => null) };
-    },
-    { method, url, body },
-  ) as Promise<{ status: number; body: T }>;
-}
 
 async function decoded(page: Page, altStartsWith: string): Promise<void> {
   await page.waitForFunction((prefix) => {
