@@ -15,8 +15,7 @@ import type { ScanRunDetailDto } from "@tidemark/shared/types/api";
 import type { FileReport, ScanReport } from "@tidemark/shared/types/report";
 import { connectDatabase, type Database } from "../../server/src/db/connect.ts";
 import { migrateUp } from "../../server/src/db/migrator.ts";
-import { FileResult, User } from "../../server/src/models/index.ts";
-import { initRunModels, ScanJob, ScanJobAttempt } from "../../server/src/queue/models/index.ts";
+import { FileResult, initModels, ScanJob, ScanJobAttempt, User } from "../../server/src/models/index.ts";
 import { createApiToken } from "../../server/src/services/apiTokens.ts";
 import { createTestDatabase, type TestDatabase } from "../helpers/db.ts";
 import { binPath, isolatedEnv, runCli } from "../cli/runCli.ts";
@@ -91,7 +90,7 @@ beforeAll(async () => {
   testDb = await createTestDatabase("distributed");
   db = connectDatabase(testDb.url, { poolMax: 3 });
   await migrateUp(db.sequelize);
-  initRunModels(db.sequelize);
+  initModels(db.sequelize);
   dir = mkdtempSync(path.join(process.env.TIDEMARK_TEST_TMP ?? tmpdir(), "distributed-"));
   archive = path.join(dir, "harbourside", "ferry-terminal-1978");
   writeTransferSet(archive, FILES, SECONDS);

@@ -12,8 +12,7 @@ import { afterAll, beforeAll, expect, it } from "vitest";
 import type { ScanRunDetailDto } from "@tidemark/shared/types/api";
 import { connectDatabase, type Database } from "../../server/src/db/connect.ts";
 import { migrateUp } from "../../server/src/db/migrator.ts";
-import { User } from "../../server/src/models/index.ts";
-import { initRunModels, ScanJob, ScanJobAttempt } from "../../server/src/queue/models/index.ts";
+import { initModels, ScanJob, ScanJobAttempt, User } from "../../server/src/models/index.ts";
 import { createApiToken } from "../../server/src/services/apiTokens.ts";
 import { createTestDatabase, type TestDatabase } from "../helpers/db.ts";
 import { isolatedEnv, runCli } from "../cli/runCli.ts";
@@ -60,7 +59,7 @@ beforeAll(async () => {
   testDb = await createTestDatabase("shutdown");
   db = connectDatabase(testDb.url, { poolMax: 2 });
   await migrateUp(db.sequelize);
-  initRunModels(db.sequelize);
+  initModels(db.sequelize);
   dir = mkdtempSync(path.join(process.env.TIDEMARK_TEST_TMP ?? tmpdir(), "shutdown-"));
   // Long enough (about two seconds of measuring) that a signal finds the job in hand.
   writeTransferSet(path.join(dir, "share", "choir"), 2, 50);

@@ -9,9 +9,8 @@
 import request from "supertest";
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import { CSRF_HEADER, type ClaimedJobDto, type ScanRunDetailDto } from "@tidemark/shared/types/api";
-import { AuditEntry } from "../../server/src/models/index.ts";
+import { AuditEntry, ScanJob, ScanJobAttempt } from "../../server/src/models/index.ts";
 import { jobQueueFor } from "../../server/src/queue/jobQueue.ts";
-import { ScanJob, ScanJobAttempt } from "../../server/src/queue/models/index.ts";
 import { requeueSilentJobs } from "../../server/src/queue/reconcile.ts";
 import { addFiles, claim, claimedJobs, createRun, fileOf, postResult, runRequest } from "./helpers/runs.ts";
 import { startTestApp, type TestApp } from "./helpers/testApp.ts";

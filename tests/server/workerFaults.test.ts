@@ -14,8 +14,7 @@ import { afterAll, beforeAll, expect, it } from "vitest";
 import type { ScanRunDetailDto } from "@tidemark/shared/types/api";
 import { connectDatabase, type Database } from "../../server/src/db/connect.ts";
 import { migrateUp } from "../../server/src/db/migrator.ts";
-import { FileResult, User } from "../../server/src/models/index.ts";
-import { initRunModels, ScanJob, ScanJobAttempt } from "../../server/src/queue/models/index.ts";
+import { FileResult, initModels, ScanJob, ScanJobAttempt, User } from "../../server/src/models/index.ts";
 import { createApiToken } from "../../server/src/services/apiTokens.ts";
 import { createTestDatabase, type TestDatabase } from "../helpers/db.ts";
 import { isolatedEnv, runCli } from "../cli/runCli.ts";
@@ -84,7 +83,7 @@ beforeAll(async () => {
   testDb = await createTestDatabase("worker_faults");
   db = connectDatabase(testDb.url, { poolMax: 2 });
   await migrateUp(db.sequelize);
-  initRunModels(db.sequelize);
+  initModels(db.sequelize);
   dir = mkdtempSync(path.join(process.env.TIDEMARK_TEST_TMP ?? tmpdir(), "worker-faults-"));
   const user = await User.create({ email: "night.desk@harbourside.test", name: "Night Desk", role: "technician", passwordHash: "scrypt$unused" });
   token = (await createApiToken(user.id, "worker faults")).plaintext;

@@ -1,4 +1,9 @@
-/** All models, initialised on one Sequelize instance, with every association declared here. */
+/**
+ * The one model registry: every model (the core ones and the distributed-scanning runs, jobs and
+ * attempts), initialised on one Sequelize instance with every association declared here. Called
+ * explicitly once by whoever owns the connection (createApp, main, the queue supervisor, tests); mounting
+ * a router never initialises anything.
+ */
 import type { Sequelize } from "sequelize";
 import { ApiToken } from "./ApiToken.ts";
 import { AuditEntry } from "./AuditEntry.ts";
@@ -10,9 +15,13 @@ import { Finding } from "./Finding.ts";
 import { FixityCheck } from "./FixityCheck.ts";
 import { PasswordReset } from "./PasswordReset.ts";
 import { ReviewEvent } from "./ReviewEvent.ts";
+import { ScanJob } from "./ScanJob.ts";
+import { ScanJobAttempt } from "./ScanJobAttempt.ts";
+import { ScanRun } from "./ScanRun.ts";
 import { User } from "./User.ts";
 
-export { ApiToken, AuditEntry, Batch, Collection, Comment, FileResult, Finding, FixityCheck, PasswordReset, ReviewEvent, User };
+export { ApiToken, AuditEntry, Batch, Collection, Comment, FileResult, Finding, FixityCheck, PasswordReset, ReviewEvent, ScanJob, ScanJobAttempt, ScanRun, User };
+export type { AttemptOutcome } from "./ScanJobAttempt.ts";
 
 let initialisedOn: Sequelize | null = null;
 
@@ -23,7 +32,7 @@ let initialisedOn: Sequelize | null = null;
 export function initModels(sequelize: Sequelize): void {
   if (initialisedOn === sequelize) return;
   initialisedOn = sequelize;
-  for (const model of [User, ApiToken, PasswordReset, Collection, Batch, FileResult, Finding, Comment, ReviewEvent, AuditEntry, FixityCheck]) {
+  for (const model of [User, ApiToken, PasswordReset, Collection, Batch, FileResult, Finding, Comment, ReviewEvent, AuditEntry, FixityCheck, ScanRun, ScanJob, ScanJobAttempt]) {
     model.initModel(sequelize);
   }
   User.hasMany(ApiToken, { foreignKey: "userId", as: "tokens" });
@@ -45,4 +54,10 @@ export function initModels(sequelize: Sequelize): void {
   FixityCheck.belongsTo(FileResult, { foreignKey: "fileResultId", as: "fileResult", constraints: false });
   FixityCheck.belongsTo(User, { foreignKey: "userId", as: "user" });
   FixityCheck.belongsTo(ApiToken, { foreignKey: "tokenId", as: "token" });
+  ScanRun.belongsTo(Collection, { foreignKey: "collectionId", as: "collection" });
+  ScanRun.belongsTo(Batch, { foreignKey: "batchId", as: "batch" });
+  ScanRun.belongsTo(User, { foreignKey: "createdBy", as: "creator" });
+  ScanRun.hasMany(ScanJob, { foreignKey: "runId", as: "jobs" });
+  ScanJob.belongsTo(ScanRun, { foreignKey: "runId", as: "run" });
+  ScanJob.hasMany(ScanJobAttempt, { foreignKey: "jobId", as: "attemptLog" });
 }

@@ -9,7 +9,7 @@ import { AuditEntry } from "../models/index.ts";
 import { closeAttempts, endAttempt } from "../services/runsJobs.ts";
 import { markRunFinishedIfDone } from "../services/runsStatus.ts";
 import { jobQueueFor, type ScanJobData } from "./jobQueue.ts";
-import { ScanJob } from "./models/index.ts";
+import { ScanJob } from "../models/index.ts";
 
 /** Rows looked at per pass; the next maintenance takes the rest. */
 const BATCH = 500;

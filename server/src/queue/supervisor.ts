@@ -9,7 +9,7 @@ import PgBoss from "pg-boss";
 import type { Sequelize } from "sequelize";
 import type { Logger } from "../logger.ts";
 import { jobQueueFor, type ScanJobData } from "./jobQueue.ts";
-import { initRunModels } from "./models/index.ts";
+import { initModels } from "../models/index.ts";
 import type { QueueConfig } from "./queueConfig.ts";
 import { DEAD_LETTER_QUEUE, QUEUE_SCHEMA } from "./queueNames.ts";
 import { markDeadLettered, reconcileExpiredJobs, requeueSilentJobs, resetHeartbeats } from "./reconcile.ts";
@@ -31,7 +31,7 @@ export interface QueueSupervisorOptions {
 
 export async function startQueueSupervisor(options: QueueSupervisorOptions): Promise<QueueSupervisor> {
   const { sequelize, config, logger } = options;
-  initRunModels(sequelize);
+  initModels(sequelize);
   await jobQueueFor(sequelize).configure({
     expireInSeconds: config.expireInSeconds,
     retryLimit: config.retryLimit,

@@ -11,6 +11,7 @@ import { optionalDate, optionalDateTo, optionalEnum, optionalId, orderParam, pag
 import { deleteBatch } from "../services/batchDelete.ts";
 import { batchOverview } from "../services/batchOverview.ts";
 import { parseWith } from "../validate.ts";
+import { actorOf } from "../middleware/actor.ts";
 
 const batchQuery = z
   .object({
@@ -81,7 +82,7 @@ export function batchesRouter(ctx: AppContext): Router {
   });
 
   router.delete("/batches/:id", requirePermission("deleteBatches"), async (req, res) => {
-    await deleteBatch(ctx, res, idParam(req, "batch"));
+    await deleteBatch(ctx, actorOf(res), idParam(req, "batch"));
     res.status(204).end();
   });
 

@@ -8,6 +8,7 @@ import { badRequest } from "../errors.ts";
 import { Comment, User, type FileResult } from "../models/index.ts";
 import { recordAudit } from "../services/audit.ts";
 import { parseWith } from "../validate.ts";
+import { actorOf } from "../middleware/actor.ts";
 
 const commentSchema = z
   .object({
@@ -50,7 +51,7 @@ export function commentsRouter(ctx: AppContext): Router {
     checkAnchor(file, atSeconds, channel);
     const comment = await ctx.sequelize.transaction(async (transaction) => {
       const made = await Comment.create({ fileResultId: file.id, authorId: author.id, body: input.body, atSeconds, channel }, { transaction });
-      await recordAudit(res, { action: "comment.create", targetType: "file", targetId: file.id, details: { commentId: made.id, atSeconds, channel } }, transaction);
+      await recordAudit(actorOf(res), { action: "comment.create", targetType: "file", targetId: file.id, details: { commentId: made.id, atSeconds, channel } }, transaction);
       return made;
     });
     comment.author = author;

@@ -16,6 +16,7 @@ import { ObjectNotFoundError } from "../storage/ObjectStore.ts";
 import type { ImageKind } from "../storage/objectKeys.ts";
 import { parseWith } from "../validate.ts";
 import { sendObject, sendObjectWithRanges } from "./sendObject.ts";
+import { actorOf } from "../middleware/actor.ts";
 
 const reviewChange = {
   reviewState: z.enum(REVIEW_STATES),
@@ -56,7 +57,7 @@ export function filesRouter(ctx: AppContext): Router {
   router.post("/files/review", requirePermission("review"), async (req, res) => {
     const { ids, reviewState, reason } = parseWith(bulkReviewSchema, req.body, "bulk review change");
     requireReason(reviewState, reason);
-    const { files, changed } = await changeReviewState(ctx, res, ids, reviewState, reason);
+    const { files, changed } = await changeReviewState(ctx, actorOf(res), ids, reviewState, reason);
     res.json({ items: files.map(toFileSummaryDto), changed });
   });
 
@@ -67,7 +68,7 @@ export function filesRouter(ctx: AppContext): Router {
   router.patch("/files/:id", requirePermission("review"), loadFileResult, async (req, res) => {
     const { reviewState, reason } = parseWith(reviewSchema, req.body, "review change");
     requireReason(reviewState, reason);
-    const { files } = await changeReviewState(ctx, res, [res.locals.file!.id], reviewState, reason);
+    const { files } = await changeReviewState(ctx, actorOf(res), [res.locals.file!.id], reviewState, reason);
     res.json(await fileDetail(files[0]));
   });
 

@@ -6,6 +6,7 @@ import type { AppContext } from "../context.ts";
 import { requirePermission, requireTokenAuth } from "../middleware/auth.ts";
 import { notifyFixityChanged, recordFixityChecks } from "../services/fixityChecks.ts";
 import { parseWith } from "../validate.ts";
+import { actorOf } from "../middleware/actor.ts";
 
 const sha256 = z.string().regex(/^[0-9a-f]{64}$/).nullable();
 
@@ -37,7 +38,7 @@ export function fixityChecksRouter(ctx: AppContext): Router {
   const router = Router();
   router.post("/fixity-checks", requireTokenAuth, requirePermission("upload"), async (req, res) => {
     const input = parseWith(uploadSchema, req.body, "fixity checks");
-    const { result, changed, collection } = await recordFixityChecks(ctx, res, input);
+    const { result, changed, collection } = await recordFixityChecks(ctx, actorOf(res), input);
     await notifyFixityChanged(ctx, collection, changed).catch((e: unknown) => ctx.logger.error(`fixity e-mail for collection ${collection.id}: ${String(e)}`));
     res.status(201).json(result);
   });

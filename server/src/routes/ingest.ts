@@ -7,6 +7,7 @@ import { recordAudit } from "../services/audit.ts";
 import { ingestBatch } from "../services/ingest.ts";
 import { artefactPartsOf, ingestFieldsSchema } from "../services/ingestValidation.ts";
 import { parseWith } from "../validate.ts";
+import { actorOf } from "../middleware/actor.ts";
 
 export function ingestRouter(ctx: AppContext): Router {
   const router = Router();
@@ -16,7 +17,7 @@ export function ingestRouter(ctx: AppContext): Router {
     const fields = parseWith(ingestFieldsSchema, upload.fields, "upload fields");
     const report = requireReport(upload);
     const artefacts = await artefactPartsOf(upload.parts, report);
-    const result = await ingestBatch(ctx, res, {
+    const result = await ingestBatch(ctx, actorOf(res), {
       uploader: res.locals.auth!.user,
       collectionName: fields.collection,
       batchKey: fields.batchKey,
@@ -26,12 +27,12 @@ export function ingestRouter(ctx: AppContext): Router {
       // A refused re-use of a batch key is kept in the trail: someone's files were not stored.
       if (e instanceof HttpError && e.code === "batch_key_conflict") {
         const { batchId, differences } = e.details as { batchId: number; differences: string[] };
-        await recordAudit(res, { action: "batch.ingest_conflict", targetType: "batch", targetId: batchId, details: { batchKey: fields.batchKey, collection: fields.collection, differences } });
+        await recordAudit(actorOf(res), { action: "batch.ingest_conflict", targetType: "batch", targetId: batchId, details: { batchKey: fields.batchKey, collection: fields.collection, differences } });
       }
       throw e;
     });
     if (!result.created) {
-      await recordAudit(res, { action: "batch.ingest_repeat", targetType: "batch", targetId: result.batchId, details: { batchKey: fields.batchKey } });
+      await recordAudit(actorOf(res), { action: "batch.ingest_repeat", targetType: "batch", targetId: result.batchId, details: { batchKey: fields.batchKey } });
     }
     res.status(result.created ? 201 : 200).json(result);
   });

@@ -10,19 +10,18 @@ import type { AppContext } from "../context.ts";
 import { requirePermission, requireTokenAuth } from "../middleware/auth.ts";
 import { idParam } from "../middleware/loadEntity.ts";
 import { reportUpload, requireReport } from "../middleware/reportUpload.ts";
-import { initRunModels } from "../queue/models/index.ts";
 import { recordAudit } from "../services/audit.ts";
 import { artefactPartsOf } from "../services/ingestValidation.ts";
 import { assertJobHolder, claimJobs, failJob, heartbeatJobs, releaseJob, releaseUndelivered, requeueJob, retryJob } from "../services/runsJobs.ts";
 import { storeJobResult } from "../services/runsResults.ts";
 import { claimSchema, failSchema, heartbeatSchema, releaseSchema, resultFieldsSchema } from "../services/runsValidation.ts";
 import { parseWith } from "../validate.ts";
+import { actorOf } from "../middleware/actor.ts";
 
 /** How often a waiting claim looks at the queue again: the most an idle worker waits for a new job. */
 const CLAIM_WAIT_STEP_MS = 300;
 
 export function jobsRouter(ctx: AppContext): Router {
-  initRunModels(ctx.sequelize);
   const router = Router();
 
   router.post("/jobs/claim", requireTokenAuth, requirePermission("upload"), async (req, res) => {
@@ -36,54 +35,54 @@ export function jobsRouter(ctx: AppContext): Router {
     const listener = (req.socket as { server?: { listening?: boolean } }).server;
     const deadline = Date.now() + input.wait * 1000;
     const stopWaiting = (): boolean => hungUp || listener?.listening === false;
-    let body: ClaimJobsResultDto = await claimJobs(ctx, res, input.worker, input.max);
+    let body: ClaimJobsResultDto = await claimJobs(ctx, actorOf(res), input.worker, input.max);
     for (;;) {
       if (hungUp && body.jobs.length > 0) return void (await releaseUndelivered(ctx, body.jobs));
       if (body.jobs.length > 0 || stopWaiting() || Date.now() + CLAIM_WAIT_STEP_MS > deadline) return void res.json(body);
       await new Promise((resolve) => setTimeout(resolve, CLAIM_WAIT_STEP_MS));
       // Looked at again before touching the database: a shutdown may have closed it meanwhile.
       if (stopWaiting()) return void res.json(body);
-      body = await claimJobs(ctx, res, input.worker, input.max);
+      body = await claimJobs(ctx, actorOf(res), input.worker, input.max);
     }
   });
 
   router.post("/jobs/heartbeat", requireTokenAuth, requirePermission("upload"), async (req, res) => {
     const input = parseWith(heartbeatSchema, req.body ?? {}, "heartbeat");
-    const body: JobHeartbeatResultDto = await heartbeatJobs(ctx, res, input.jobs);
+    const body: JobHeartbeatResultDto = await heartbeatJobs(ctx, actorOf(res), input.jobs);
     res.json(body);
   });
 
   router.post("/jobs/:id/result", requireTokenAuth, requirePermission("upload"), reportUpload(ctx, "the result (a one-file report)"), async (req, res) => {
     const id = idParam(req, "job");
-    await assertJobHolder(res, id, "send a result for");
+    await assertJobHolder(actorOf(res), id, "send a result for");
     const upload = res.locals.upload!;
     const fields = parseWith(resultFieldsSchema, upload.fields, "result fields");
     const report = requireReport(upload);
     const artefacts = await artefactPartsOf(upload.parts, report);
-    const result = await storeJobResult(ctx, res, id, { report, artefacts, worker: fields.worker, attempt: fields.attempt });
+    const result = await storeJobResult(ctx, actorOf(res), id, { report, artefacts, worker: fields.worker, attempt: fields.attempt });
     if (!result.created) {
-      await recordAudit(res, { action: "job.result_repeat", targetType: "job", targetId: id, details: { worker: fields.worker, attempt: fields.attempt, fileResultId: result.fileResultId } });
+      await recordAudit(actorOf(res), { action: "job.result_repeat", targetType: "job", targetId: id, details: { worker: fields.worker, attempt: fields.attempt, fileResultId: result.fileResultId } });
     }
     res.status(result.created ? 201 : 200).json(result);
   });
 
   router.post("/jobs/:id/fail", requireTokenAuth, requirePermission("upload"), async (req, res) => {
     const id = idParam(req, "job");
-    res.json(await failJob(ctx, res, id, parseWith(failSchema, req.body ?? {}, "failure")));
+    res.json(await failJob(ctx, actorOf(res), id, parseWith(failSchema, req.body ?? {}, "failure")));
   });
 
   router.post("/jobs/:id/release", requireTokenAuth, requirePermission("upload"), async (req, res) => {
     const id = idParam(req, "job");
-    res.json(await releaseJob(ctx, res, id, parseWith(releaseSchema, req.body ?? {}, "release")));
+    res.json(await releaseJob(ctx, actorOf(res), id, parseWith(releaseSchema, req.body ?? {}, "release")));
   });
 
   /** A supervisor sends a job a worker holds (stuck, or its worker gone) back to the queue. */
   router.post("/jobs/:id/requeue", requirePermission("review"), async (req, res) => {
-    res.json(await requeueJob(ctx, res, idParam(req, "job")));
+    res.json(await requeueJob(ctx, actorOf(res), idParam(req, "job")));
   });
 
   router.post("/jobs/:id/retry", requirePermission("review"), async (req, res) => {
-    res.json(await retryJob(ctx, res, idParam(req, "job")));
+    res.json(await retryJob(ctx, actorOf(res), idParam(req, "job")));
   });
 
   return router;

@@ -4,8 +4,9 @@ import type { AppContext } from "../context.ts";
 import { recordAudit } from "../services/audit.ts";
 import { runInBackground } from "../services/background.ts";
 import { confirmPasswordReset, requestPasswordReset } from "../services/passwordReset.ts";
-import { limiter } from "../services/rateLimits.ts";
+import { limiter } from "../middleware/rateLimits.ts";
 import { parseWith } from "../validate.ts";
+import { actorOf } from "../middleware/actor.ts";
 
 const requestSchema = z.object({ email: z.string().trim().min(1).max(320) });
 const confirmSchema = z.object({ token: z.string().min(1).max(200), password: z.string().min(1).max(1024) });
@@ -19,7 +20,7 @@ export function passwordResetRouter(ctx: AppContext): Router {
     const { email } = parseWith(requestSchema, req.body, "password-reset request");
     runInBackground("password-reset request", ctx.logger, async () => {
       const made = await requestPasswordReset(ctx, email);
-      if (made) await recordAudit(res, { action: "password_reset.request", targetType: "user", targetId: made.userId, actorId: null });
+      if (made) await recordAudit(actorOf(res), { action: "password_reset.request", targetType: "user", targetId: made.userId, actorId: null });
     });
     res.status(202).json({ accepted: true, message: "if the address has an account, a reset link is on its way" });
   });
@@ -27,7 +28,7 @@ export function passwordResetRouter(ctx: AppContext): Router {
   router.post("/password-reset/confirm", limiter(ctx.settings.passwordResetRateLimit, "password-reset attempts", { onlyFailures: true }), async (req, res) => {
     const { token, password } = parseWith(confirmSchema, req.body, "password-reset confirmation");
     const user = await confirmPasswordReset(ctx, token, password);
-    await recordAudit(res, { action: "password_reset.confirm", targetType: "user", targetId: user.id, actorId: user.id });
+    await recordAudit(actorOf(res), { action: "password_reset.confirm", targetType: "user", targetId: user.id, actorId: user.id });
     res.status(204).end();
   });
 

@@ -8,31 +8,30 @@ import { SCAN_JOB_STATES, type CreateRunResultDto, type RetryRunResultDto } from
 import type { AppContext } from "../context.ts";
 import { requirePermission, requireTokenAuth } from "../middleware/auth.ts";
 import { idParam } from "../middleware/loadEntity.ts";
-import { initRunModels } from "../queue/models/index.ts";
 import { optionalEnum, optionalId, pageParams } from "../queryParams.ts";
 import { assertRunOwner, createOrFindRun, enqueueFiles, listRunJobs, listRuns, runDetail } from "../services/runs.ts";
 import { retryRun } from "../services/runsJobs.ts";
 import { createRunSchema, enqueueFilesSchema } from "../services/runsValidation.ts";
 import { parseWith } from "../validate.ts";
+import { actorOf } from "../middleware/actor.ts";
 
 const runQuery = z.object({ collection: optionalId, ...pageParams }).strict();
 const jobQuery = z.object({ state: optionalEnum(SCAN_JOB_STATES), ...pageParams }).strict();
 
 export function runsRouter(ctx: AppContext): Router {
-  initRunModels(ctx.sequelize);
   const router = Router();
 
   router.post("/runs", requireTokenAuth, requirePermission("upload"), async (req, res) => {
     const input = parseWith(createRunSchema, req.body ?? {}, "run");
-    const result: CreateRunResultDto = await createOrFindRun(ctx, res, input);
+    const result: CreateRunResultDto = await createOrFindRun(ctx, actorOf(res), input);
     res.status(result.created ? 201 : 200).json(result);
   });
 
   router.post("/runs/:id/files", requireTokenAuth, requirePermission("upload"), async (req, res) => {
     const id = idParam(req, "run");
     const input = parseWith(enqueueFilesSchema, req.body ?? {}, "files");
-    await assertRunOwner(res, id);
-    res.json(await enqueueFiles(ctx, res, id, input.files));
+    await assertRunOwner(actorOf(res), id);
+    res.json(await enqueueFiles(ctx, actorOf(res), id, input.files));
   });
 
   router.get("/runs", requirePermission("view"), async (req, res) => {
@@ -49,7 +48,7 @@ export function runsRouter(ctx: AppContext): Router {
   });
 
   router.post("/runs/:id/retry", requirePermission("review"), async (req, res) => {
-    const body: RetryRunResultDto = { retried: await retryRun(ctx, res, idParam(req, "run")) };
+    const body: RetryRunResultDto = { retried: await retryRun(ctx, actorOf(res), idParam(req, "run")) };
     res.json(body);
   });
 

@@ -4,11 +4,12 @@ import type { SessionDto } from "@tidemark/shared/types/api";
 import type { AppContext } from "../context.ts";
 import { toUserDto } from "../dto.ts";
 import { unauthorized } from "../errors.ts";
-import { limiter } from "../services/rateLimits.ts";
+import { limiter } from "../middleware/rateLimits.ts";
 import { signIn } from "../services/signIn.ts";
 import { recordAudit } from "../services/audit.ts";
-import { destroySession, regenerateSession, saveSession } from "../services/sessions.ts";
+import { destroySession, regenerateSession, saveSession } from "../middleware/requestSession.ts";
 import { parseWith } from "../validate.ts";
+import { actorOf } from "../middleware/actor.ts";
 
 const signInSchema = z.object({
   email: z.string().trim().min(1).max(320),
@@ -32,7 +33,7 @@ export function sessionRouter(ctx: AppContext): Router {
     const { email, password } = parseWith(signInSchema, req.body, "sign-in");
     const user = await signIn(email, password, ctx.settings.passwordCost);
     if (!user) {
-      await recordAudit(res, { action: "session.sign_in_failed", targetType: "session", details: { email } });
+      await recordAudit(actorOf(res), { action: "session.sign_in_failed", targetType: "session", details: { email } });
       throw unauthorized("e-mail or password is wrong", "invalid_credentials");
     }
     // A fresh session id at sign-in: a session fixed before sign-in is worthless after it.
@@ -41,7 +42,7 @@ export function sessionRouter(ctx: AppContext): Router {
     req.session.signedInAt = new Date().toISOString();
     await saveSession(req);
     res.locals.auth = { user, via: "session", tokenId: null };
-    await recordAudit(res, { action: "session.sign_in", targetType: "user", targetId: user.id });
+    await recordAudit(actorOf(res), { action: "session.sign_in", targetType: "user", targetId: user.id });
     const body: SessionDto = { user: toUserDto(user) };
     res.json(body);
   });
@@ -55,7 +56,7 @@ export function sessionRouter(ctx: AppContext): Router {
 
   router.delete("/session", async (req, res) => {
     const auth = res.locals.auth;
-    if (auth?.via === "session") await recordAudit(res, { action: "session.sign_out", targetType: "user", targetId: auth.user.id });
+    if (auth?.via === "session") await recordAudit(actorOf(res), { action: "session.sign_out", targetType: "user", targetId: auth.user.id });
     if (req.session) await destroySession(req);
     res.clearCookie(SESSION_COOKIE, { path: "/" });
     res.status(204).end();

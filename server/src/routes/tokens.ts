@@ -11,6 +11,7 @@ import { can } from "../permissions.ts";
 import { createApiToken, DEFAULT_TOKEN_LIFETIME_DAYS, MAX_TOKEN_LIFETIME_DAYS } from "../services/apiTokens.ts";
 import { recordAudit } from "../services/audit.ts";
 import { parseWith } from "../validate.ts";
+import { actorOf } from "../middleware/actor.ts";
 
 const createSchema = z
   .object({
@@ -43,7 +44,7 @@ export function tokensRouter(ctx: AppContext): Router {
     const user = res.locals.auth!.user;
     const created = await ctx.sequelize.transaction(async (transaction) => {
       const made = await createApiToken(user.id, name, transaction, expiresInDays);
-      await recordAudit(res, { action: "token.create", targetType: "token", targetId: made.token.id, details: { name, expiresAt: made.token.expiresAt.toISOString() } }, transaction);
+      await recordAudit(actorOf(res), { action: "token.create", targetType: "token", targetId: made.token.id, details: { name, expiresAt: made.token.expiresAt.toISOString() } }, transaction);
       return made;
     });
     const body: CreatedTokenDto = { id: created.token.id, name, token: created.plaintext, expiresAt: created.token.expiresAt.toISOString() };
@@ -56,7 +57,7 @@ export function tokensRouter(ctx: AppContext): Router {
     if (!token.revokedAt) {
       await ctx.sequelize.transaction(async (transaction) => {
         await token.update({ revokedAt: new Date() }, { transaction });
-        await recordAudit(res, { action: "token.revoke", targetType: "token", targetId: token.id, details: { owner: token.userId } }, transaction);
+        await recordAudit(actorOf(res), { action: "token.revoke", targetType: "token", targetId: token.id, details: { owner: token.userId } }, transaction);
       });
     }
     res.status(204).end();

@@ -13,6 +13,7 @@ import { recordAudit } from "../services/audit.ts";
 import { hashPassword, passwordProblem } from "../services/passwords.ts";
 import { endSessionsOf } from "../services/sessions.ts";
 import { parseWith } from "../validate.ts";
+import { actorOf } from "../middleware/actor.ts";
 
 const email = z.string().trim().toLowerCase().max(320).pipe(z.email());
 const name = z.string().trim().min(1).max(200);
@@ -43,7 +44,7 @@ export function usersRouter(ctx: AppContext): Router {
     try {
       const user = await ctx.sequelize.transaction(async (transaction) => {
         const made = await User.create({ email: input.email, name: input.name, role: input.role, passwordHash }, { transaction });
-        await recordAudit(res, { action: "user.create", targetType: "user", targetId: made.id, details: { email: made.email, role: made.role } }, transaction);
+        await recordAudit(actorOf(res), { action: "user.create", targetType: "user", targetId: made.id, details: { email: made.email, role: made.role } }, transaction);
         return made;
       });
       res.status(201).json(toUserDto(user));
@@ -73,7 +74,7 @@ export function usersRouter(ctx: AppContext): Router {
       const tokensRevoked = changes.disabled ? await revokeTokensOf(target.id, transaction) : 0;
       const changed = Object.keys(changes).map((k) => (k === "passwordHash" ? "password" : k));
       await recordAudit(
-        res,
+        actorOf(res),
         { action: "user.update", targetType: "user", targetId: target.id, details: { changed, ...(input.role ? { role: input.role } : {}), ...(input.disabled !== undefined ? { disabled: input.disabled } : {}), ...(tokensRevoked ? { tokensRevoked } : {}) } },
         transaction,
       );

@@ -1,7 +1,7 @@
 /** The audit trail: one row per write, with actor, action, target, time and request id. */
-import type { Response } from "express";
 import type { Transaction } from "sequelize";
 import { AuditEntry } from "../models/index.ts";
+import type { Actor } from "./actor.ts";
 
 export interface AuditRecord {
   action: string;
@@ -12,14 +12,14 @@ export interface AuditRecord {
   actorId?: number | null;
 }
 
-export async function recordAudit(res: Response, record: AuditRecord, transaction?: Transaction): Promise<void> {
+export async function recordAudit(actor: Actor, record: AuditRecord, transaction?: Transaction): Promise<void> {
   await AuditEntry.create(
     {
-      actorId: record.actorId !== undefined ? record.actorId : (res.locals.auth?.user.id ?? null),
+      actorId: record.actorId !== undefined ? record.actorId : (actor.user?.id ?? null),
       action: record.action,
       targetType: record.targetType,
       targetId: record.targetId === undefined || record.targetId === null ? null : String(record.targetId),
-      requestId: res.locals.requestId ?? null,
+      requestId: actor.requestId,
       details: record.details ?? null,
     },
     { transaction },

@@ -3,14 +3,14 @@
  * fingerprints cascade), then every object its files referenced is deleted, so nothing is left orphaned.
  * If an object delete fails, it is unreferenced from then on and the start-up sweep removes it.
  */
-import type { Response } from "express";
 import { QueryTypes } from "sequelize";
 import type { AppContext } from "../context.ts";
 import { conflict, notFound } from "../errors.ts";
 import { deleteObjects } from "./artefacts.ts";
+import type { Actor } from "./actor.ts";
 import { recordAudit } from "./audit.ts";
 
-export async function deleteBatch(ctx: AppContext, res: Response, batchId: number): Promise<{ files: number; objects: number }> {
+export async function deleteBatch(ctx: AppContext, actor: Actor, batchId: number): Promise<{ files: number; objects: number }> {
   const keys = await ctx.sequelize.transaction(async (transaction) => {
     const [batch] = await ctx.sequelize.query<{ id: number; batch_key: string; has_run: boolean }>(
       `select b.id, b.batch_key, exists (select 1 from scan_runs r where r.batch_id = b.id) as has_run
@@ -26,7 +26,7 @@ export async function deleteBatch(ctx: AppContext, res: Response, batchId: numbe
     );
     await ctx.sequelize.query(`delete from batches where id = $1`, { bind: [batchId], transaction });
     const all = rows.flatMap((r) => r.keys);
-    await recordAudit(res, { action: "batch.delete", targetType: "batch", targetId: batchId, details: { batchKey: batch.batch_key, files: rows.length, objects: all.length } }, transaction);
+    await recordAudit(actor, { action: "batch.delete", targetType: "batch", targetId: batchId, details: { batchKey: batch.batch_key, files: rows.length, objects: all.length } }, transaction);
     return { files: rows.length, all };
   });
   await deleteObjects(ctx, keys.all);

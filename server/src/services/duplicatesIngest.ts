@@ -9,7 +9,6 @@
  * counts and the CI exit code still agree with the portal, while the finding list, the worst-findings
  * column and the finding filter show it and the file page names the other file.
  */
-import type { Response } from "express";
 import { QueryTypes, type Sequelize, type Transaction } from "sequelize";
 import {
   decodeFingerprint,
@@ -19,6 +18,7 @@ import {
 } from "@tidemark/shared/fingerprint/index";
 import type { FileReport, Finding } from "@tidemark/shared/types/report";
 import { unprocessable } from "../errors.ts";
+import type { Actor } from "./actor.ts";
 import { recordAudit } from "./audit.ts";
 import { indexFingerprint, lookupFingerprint, retireEarlierScans, type IndexedMatch } from "./duplicatesIndex.ts";
 import { summariseFindings } from "./findingSummary.ts";
@@ -80,7 +80,7 @@ function duplicateFinding(m: IndexedMatch): Finding {
 
 export async function recordBatchDuplicates(
   sequelize: Sequelize,
-  res: Response,
+  actor: Actor,
   collectionId: number,
   files: BatchFile[],
   transaction: Transaction,
@@ -108,7 +108,7 @@ export async function recordBatchDuplicates(
     for (const m of matches) {
       file.findings.push(duplicateFinding(m));
       await recordAudit(
-        res,
+        actor,
         {
           action: "file.possible_duplicate",
           targetType: "file",

@@ -4,12 +4,12 @@
  * changed SHA-256 at ingest: a `fixity-changed` finding on the latest scan of that path (which then fails),
  * an audit entry, and an e-mail to the supervisors.
  */
-import type { Response } from "express";
 import { QueryTypes, type Transaction } from "sequelize";
 import type { FixityCheckUploadRequest, FixityCheckUploadResultDto } from "@tidemark/shared/types/api";
 import type { AppContext } from "../context.ts";
 import { HttpError } from "../errors.ts";
 import { Collection, FixityCheck, User } from "../models/index.ts";
+import { actingUser, type Actor } from "./actor.ts";
 import { recordAudit } from "./audit.ts";
 import { summariseFindings } from "./findingSummary.ts";
 
@@ -56,8 +56,8 @@ async function markChanged(ctx: AppContext, scan: LatestScan, check: FixityCheck
   }
 }
 
-export async function recordFixityChecks(ctx: AppContext, res: Response, input: FixityCheckUploadRequest): Promise<{ result: FixityCheckUploadResultDto; changed: ChangedFile[]; collection: Collection }> {
-  const auth = res.locals.auth!;
+export async function recordFixityChecks(ctx: AppContext, actor: Actor, input: FixityCheckUploadRequest): Promise<{ result: FixityCheckUploadResultDto; changed: ChangedFile[]; collection: Collection }> {
+  const user = actingUser(actor);
   const collection = await Collection.findOne({ where: { name: input.collection } });
   if (!collection) throw new HttpError(404, "not_found", `no collection named "${input.collection}": checks are stored against the collection the files were scanned into`);
   const changed: ChangedFile[] = [];
@@ -84,8 +84,8 @@ export async function recordFixityChecks(ctx: AppContext, res: Response, input: 
           movedTo: check.movedTo,
           detail: check.detail,
           checkedAt: new Date(input.checkedAt),
-          userId: auth.user.id,
-          tokenId: auth.tokenId,
+          userId: user.id,
+          tokenId: actor.tokenId,
         },
         { transaction },
       );
@@ -93,7 +93,7 @@ export async function recordFixityChecks(ctx: AppContext, res: Response, input: 
         await markChanged(ctx, scan, check, input.checkedAt, transaction);
         changed.push({ fileResultId: scan.id, path: check.path, expectedSha256: check.expectedSha256, actualSha256: check.actualSha256 });
         await recordAudit(
-          res,
+          actor,
           {
             action: "file.fixity_changed",
             targetType: "file",
@@ -105,7 +105,7 @@ export async function recordFixityChecks(ctx: AppContext, res: Response, input: 
       }
     }
     const counts = Object.fromEntries(["unchanged", "changed", "missing", "unreadable", "moved"].map((o) => [o, input.checks.filter((c) => c.outcome === o).length]));
-    await recordAudit(res, { action: "fixity.check", targetType: "collection", targetId: collection.id, details: { files: input.checks.length, ...counts, unknownPaths } }, transaction);
+    await recordAudit(actor, { action: "fixity.check", targetType: "collection", targetId: collection.id, details: { files: input.checks.length, ...counts, unknownPaths } }, transaction);
   });
   return { result: { stored: input.checks.length, unknownPaths, changed: changed.length }, changed, collection };
 }

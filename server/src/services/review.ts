@@ -1,20 +1,20 @@
 /** Review-state changes, single or bulk: all or nothing, one review event and one audit entry per file. */
-import type { Response } from "express";
 import { Op } from "sequelize";
 import type { ReviewState } from "@tidemark/shared/types/api";
 import type { AppContext } from "../context.ts";
 import { HttpError } from "../errors.ts";
 import { Collection, FileResult, ReviewEvent } from "../models/index.ts";
+import { actingUser, type Actor } from "./actor.ts";
 import { recordAudit } from "./audit.ts";
 
 export async function changeReviewState(
   ctx: AppContext,
-  res: Response,
+  actor: Actor,
   ids: number[],
   toState: ReviewState,
   reason: string,
 ): Promise<{ files: FileResult[]; changed: number }> {
-  const actor = res.locals.auth!.user;
+  const user = actingUser(actor);
   const unique = [...new Set(ids)];
   return ctx.sequelize.transaction(async (transaction) => {
     // Row locks: two reviewers changing the same file serialise, and each event's fromState is true.
@@ -33,9 +33,9 @@ export async function changeReviewState(
     for (const file of files) {
       if (file.reviewState === toState) continue;
       const fromState = file.reviewState;
-      await ReviewEvent.create({ fileResultId: file.id, actorId: actor.id, fromState, toState, reason }, { transaction });
+      await ReviewEvent.create({ fileResultId: file.id, actorId: user.id, fromState, toState, reason }, { transaction });
       await file.update({ reviewState: toState }, { transaction });
-      await recordAudit(res, { action: "file.review", targetType: "file", targetId: file.id, details: { from: fromState, to: toState, reason } }, transaction);
+      await recordAudit(actor, { action: "file.review", targetType: "file", targetId: file.id, details: { from: fromState, to: toState, reason } }, transaction);
       changed++;
     }
     const withCollections = await FileResult.findAll({

@@ -5,8 +5,7 @@
  * the run's batch holds one result per path.
  */
 import { randomUUID } from "node:crypto";
-import type { Response } from "express";
-import { Op, QueryTypes, type Transaction } from "sequelize";
+import { Op, type Transaction } from "sequelize";
 import type {
   CreateRunRequest,
   EnqueueFileDto,
@@ -23,8 +22,10 @@ import { conflict, forbidden, notFound } from "../errors.ts";
 import { Batch, Collection, User } from "../models/index.ts";
 import { orderedJobId } from "../queue/jobIds.ts";
 import { jobQueueFor } from "../queue/jobQueue.ts";
-import { ScanJob, ScanRun } from "../queue/models/index.ts";
+import { ScanJob, ScanRun } from "../models/index.ts";
+import { actingUser, isAdmin, type Actor } from "./actor.ts";
 import { recordAudit } from "./audit.ts";
+import { lockCollection, upsertCollection } from "./fileResultStore.ts";
 import { toScanJobDto, toScanRunDetailDto, toScanRunDto } from "./runsDto.ts";
 import { runStats } from "./runsStatus.ts";
 import { checkRunProfile } from "./runsValidation.ts";
@@ -34,25 +35,6 @@ const runIncludes = [
   { model: Collection, as: "collection" },
   { model: User, as: "creator" },
 ];
-
-/** Serialises writers of one collection, with the same key ingest uses (fixity history stays ordered). */
-export async function lockCollection(ctx: AppContext, name: string, transaction: Transaction): Promise<void> {
-  await ctx.sequelize.query(`select pg_advisory_xact_lock(hashtext($1))`, { bind: [`tidemark.collection:${name}`], transaction });
-}
-
-async function collectionId(ctx: AppContext, res: Response, name: string, transaction: Transaction): Promise<number> {
-  const inserted = await ctx.sequelize.query<{ id: number }>(`insert into collections (name) values ($1) on conflict (name) do nothing returning id`, {
-    bind: [name],
-    type: QueryTypes.SELECT,
-    transaction,
-  });
-  if (inserted.length) {
-    await recordAudit(res, { action: "collection.create", targetType: "collection", targetId: inserted[0].id, details: { name } }, transaction);
-    return inserted[0].id;
-  }
-  const found = await Collection.findOne({ where: { name }, transaction });
-  return found!.id;
-}
 
 async function verdictsOf(batchIds: number[]): Promise<Map<number, ReportSummary>> {
   const batches = batchIds.length ? await Batch.findAll({ where: { id: batchIds } }) : [];
@@ -72,18 +54,18 @@ export async function loadRun(id: number, transaction?: Transaction): Promise<Sc
 }
 
 /** Files are added to a run only by the user who created it (any of their tokens) or an admin: 403, audited. */
-export async function assertRunOwner(res: Response, runId: number): Promise<void> {
-  const user = res.locals.auth!.user;
+export async function assertRunOwner(actor: Actor, runId: number): Promise<void> {
+  const user = actingUser(actor);
   const run = await ScanRun.findByPk(runId, { attributes: ["id", "createdBy"] });
   if (!run) throw notFound("run", runId);
-  if (run.createdBy === user.id || user.role === "admin") return;
-  await recordAudit(res, { action: "run.forbidden", targetType: "run", targetId: runId, details: { attempted: "add files" } });
+  if (run.createdBy === user.id || isAdmin(actor)) return;
+  await recordAudit(actor, { action: "run.forbidden", targetType: "run", targetId: runId, details: { attempted: "add files" } });
   throw forbidden(`run ${runId} was created by another user; only they or an admin may add files to it (choose another --run name)`, "not_run_owner");
 }
 
-export async function createOrFindRun(ctx: AppContext, res: Response, input: CreateRunRequest): Promise<{ run: ScanRunDto; created: boolean }> {
+export async function createOrFindRun(ctx: AppContext, actor: Actor, input: CreateRunRequest): Promise<{ run: ScanRunDto; created: boolean }> {
   const profile = checkRunProfile(input.profile);
-  const user = res.locals.auth!.user;
+  const user = actingUser(actor);
   const outcome = await ctx.sequelize.transaction(async (transaction) => {
     await lockCollection(ctx, input.collection, transaction);
     const existingCollection = await Collection.findOne({ where: { name: input.collection }, transaction });
@@ -97,7 +79,7 @@ export async function createOrFindRun(ctx: AppContext, res: Response, input: Cre
       }
       return { id: existing.id, created: false };
     }
-    const cid = await collectionId(ctx, res, input.collection, transaction);
+    const cid = await upsertCollection(ctx, actor, input.collection, transaction);
     const now = new Date();
     // A run's batch is there from the start, empty, so the Batches view shows it filling up.
     const batch = await Batch.create(
@@ -137,7 +119,7 @@ export async function createOrFindRun(ctx: AppContext, res: Response, input: Cre
     );
     await batch.update({ batchKey: `run ${run.id}: ${input.name}` }, { transaction });
     await recordAudit(
-      res,
+      actor,
       { action: "run.create", targetType: "run", targetId: run.id, details: { collection: input.collection, name: input.name, root: input.root, profile: profile.name, batchId: batch.id } },
       transaction,
     );
@@ -147,7 +129,7 @@ export async function createOrFindRun(ctx: AppContext, res: Response, input: Cre
   return { run: dto, created: outcome.created };
 }
 
-export async function enqueueFiles(ctx: AppContext, res: Response, runId: number, files: EnqueueFileDto[]): Promise<EnqueueFilesResultDto> {
+export async function enqueueFiles(ctx: AppContext, actor: Actor, runId: number, files: EnqueueFileDto[]): Promise<EnqueueFilesResultDto> {
   const seen = new Set<string>();
   for (const f of files) {
     if (seen.has(f.path)) throw conflict(`files lists "${f.path}" twice`, "duplicate_path");
@@ -206,7 +188,7 @@ export async function enqueueFiles(ctx: AppContext, res: Response, runId: number
     await queue.insert(toSend, transaction);
     if (toSend.length && run.finishedAt) await run.update({ finishedAt: null, notifiedAt: null }, { transaction });
     await recordAudit(
-      res,
+      actor,
       {
         action: "run.enqueue",
         targetType: "run",

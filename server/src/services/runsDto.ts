@@ -1,7 +1,7 @@
 /** Run and job rows → the DTOs of shared/src/types/api.ts. */
 import type { ScanJobDto, ScanRunDetailDto, ScanRunDto } from "@tidemark/shared/types/api";
 import { toCollectionDto, toUserRefDto } from "../dto.ts";
-import type { ScanJob, ScanRun } from "../queue/models/index.ts";
+import type { ScanJob, ScanRun } from "../models/index.ts";
 import { runState, runThroughput, type RunStats } from "./runsStatus.ts";
 
 const iso = (d: Date | null): string | null => (d ? d.toISOString() : null);

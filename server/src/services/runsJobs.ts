@@ -5,7 +5,6 @@
  * transaction with the pg-boss command, so the queue and our job rows never disagree after a crash.
  */
 import path from "node:path";
-import type { Response } from "express";
 import { QueryTypes, type Transaction } from "sequelize";
 import type { ClaimedJobDto, JobStateDto, RunProfileDto, ScanJobState } from "@tidemark/shared/types/api";
 import type { AppContext } from "../context.ts";
@@ -13,7 +12,8 @@ import { conflict, forbidden, notFound } from "../errors.ts";
 import { Collection } from "../models/index.ts";
 import { orderedJobId } from "../queue/jobIds.ts";
 import { jobQueueFor, type ScanJobData } from "../queue/jobQueue.ts";
-import { ScanJob, ScanJobAttempt, ScanRun, type AttemptOutcome } from "../queue/models/index.ts";
+import { ScanJob, ScanJobAttempt, ScanRun, type AttemptOutcome } from "../models/index.ts";
+import { isAdmin, type Actor } from "./actor.ts";
 import { recordAudit } from "./audit.ts";
 import { markRunFinishedIfDone } from "./runsStatus.ts";
 
@@ -44,9 +44,9 @@ export function heartbeatIntervalSeconds(limitSeconds: number): number {
   return Math.max(0.5, Math.min(15, limitSeconds / 4));
 }
 
-export async function claimJobs(ctx: AppContext, res: Response, worker: string, max: number): Promise<ClaimAnswer> {
+export async function claimJobs(ctx: AppContext, actor: Actor, worker: string, max: number): Promise<ClaimAnswer> {
   const queue = jobQueueFor(ctx.sequelize);
-  const tokenId = res.locals.auth?.tokenId ?? null;
+  const tokenId = actor.tokenId;
   const jobs = await ctx.sequelize.transaction(async (transaction) => {
     const claimed: ClaimedJobDto[] = [];
     const passedOver: string[] = [];
@@ -103,7 +103,7 @@ export async function claimJobs(ctx: AppContext, res: Response, worker: string, 
       type: QueryTypes.UPDATE,
       transaction,
     });
-    await recordAudit(res, { action: "jobs.claim", targetType: "job", targetId: claimed.map((c) => c.id).join(","), details: { worker, jobs: claimed.map((c) => ({ id: c.id, attempt: c.attempt })) } }, transaction);
+    await recordAudit(actor, { action: "jobs.claim", targetType: "job", targetId: claimed.map((c) => c.id).join(","), details: { worker, jobs: claimed.map((c) => ({ id: c.id, attempt: c.attempt })) } }, transaction);
     return claimed;
   });
   return { jobs, heartbeatIntervalSeconds: heartbeatIntervalSeconds(queue.limits.heartbeatSeconds) };
@@ -120,22 +120,20 @@ export async function releaseUndelivered(ctx: AppContext, jobs: ClaimedJobDto[])
   }
 }
 
-const isAdmin = (res: Response): boolean => res.locals.auth?.user.role === "admin";
-
 /**
  * Only the token that claimed a job (or an admin) may change it: 403 otherwise, audited outside the
  * request's transaction so the refusal is kept. `attempt` narrows it to that attempt's token.
  */
-export async function assertJobHolder(res: Response, jobId: number, action: string, attempt?: number): Promise<void> {
-  if (isAdmin(res)) return;
-  const tokenId = res.locals.auth?.tokenId ?? null;
+export async function assertJobHolder(actor: Actor, jobId: number, action: string, attempt?: number): Promise<void> {
+  if (isAdmin(actor)) return;
+  const tokenId = actor.tokenId;
   const attempts = await ScanJobAttempt.findAll({ where: { jobId }, attributes: ["attempt", "tokenId"] });
   // A named attempt that exists must be this token's; an unknown one is left to the stale-attempt check.
   const named = attempt === undefined ? [] : attempts.filter((a) => a.attempt === attempt);
   const held = tokenId !== null && (named.length ? named : attempts).some((a) => a.tokenId === tokenId);
   if (held) return;
   if (!(await ScanJob.count({ where: { id: jobId } }))) throw notFound("job", jobId);
-  await recordAudit(res, { action: "job.forbidden", targetType: "job", targetId: jobId, details: { attempted: action, attempt: attempt ?? null, tokenId } });
+  await recordAudit(actor, { action: "job.forbidden", targetType: "job", targetId: jobId, details: { attempted: action, attempt: attempt ?? null, tokenId } });
   throw forbidden(`job ${jobId}${attempt !== undefined ? ` (attempt ${attempt})` : ""} was not claimed with this API token; only the worker holding it, or an admin, may ${action} it`, "not_job_holder");
 }
 
@@ -188,31 +186,31 @@ export async function endAttempt(
   return state;
 }
 
-export async function failJob(ctx: AppContext, res: Response, jobId: number, input: { attempt: number; worker: string; message: string }): Promise<JobStateDto> {
-  await assertJobHolder(res, jobId, "fail", input.attempt);
+export async function failJob(ctx: AppContext, actor: Actor, jobId: number, input: { attempt: number; worker: string; message: string }): Promise<JobStateDto> {
+  await assertJobHolder(actor, jobId, "fail", input.attempt);
   return ctx.sequelize.transaction(async (transaction) => {
     const job = await currentAttempt(jobId, input.attempt, transaction);
     const state = await endAttempt(ctx.sequelize, job, { outcome: "failed", message: input.message, worker: input.worker }, transaction);
-    await recordAudit(res, { action: "job.fail", targetType: "job", targetId: job.id, details: { worker: input.worker, attempt: input.attempt, message: input.message, state } }, transaction);
+    await recordAudit(actor, { action: "job.fail", targetType: "job", targetId: job.id, details: { worker: input.worker, attempt: input.attempt, message: input.message, state } }, transaction);
     return { jobId: job.id, state, attempts: job.attempts };
   });
 }
 
 /** `reason: "unreachable"`: the worker cannot reach the file; no retry is spent, and it is not offered that job again. */
-export async function releaseJob(ctx: AppContext, res: Response, jobId: number, input: { attempt: number; worker: string; reason?: "stopping" | "unreachable"; message?: string }): Promise<JobStateDto> {
-  await assertJobHolder(res, jobId, "release", input.attempt);
+export async function releaseJob(ctx: AppContext, actor: Actor, jobId: number, input: { attempt: number; worker: string; reason?: "stopping" | "unreachable"; message?: string }): Promise<JobStateDto> {
+  await assertJobHolder(actor, jobId, "release", input.attempt);
   return ctx.sequelize.transaction(async (transaction) => {
     const job = await currentAttempt(jobId, input.attempt, transaction);
     const unreachable = input.reason === "unreachable";
     const message = unreachable ? `${input.worker} could not reach the file: ${input.message ?? "not found"}` : null;
     const state = await endAttempt(ctx.sequelize, job, { outcome: unreachable ? "unreachable" : "released", message, worker: input.worker }, transaction);
-    await recordAudit(res, { action: "job.release", targetType: "job", targetId: job.id, details: { worker: input.worker, attempt: input.attempt, reason: input.reason ?? "stopping", state } }, transaction);
+    await recordAudit(actor, { action: "job.release", targetType: "job", targetId: job.id, details: { worker: input.worker, attempt: input.attempt, reason: input.reason ?? "stopping", state } }, transaction);
     return { jobId: job.id, state, attempts: job.attempts };
   });
 }
 
 /** A worker's sign of life for the jobs it holds; answers which of them it still holds. */
-export async function heartbeatJobs(ctx: AppContext, res: Response, jobs: { id: number; attempt: number }[]): Promise<{ held: number[]; lost: number[] }> {
+export async function heartbeatJobs(ctx: AppContext, actor: Actor, jobs: { id: number; attempt: number }[]): Promise<{ held: number[]; lost: number[] }> {
   if (jobs.length === 0) return { held: [], lost: [] };
   const rows = await ctx.sequelize.query<{ id: number }>(
     `update scan_jobs j set heartbeat_at = now()
@@ -220,22 +218,22 @@ export async function heartbeatJobs(ctx: AppContext, res: Response, jobs: { id: 
       where j.id = w.id and j.state = 'active' and j.attempts = w.attempt
         and ($3::boolean or exists (select 1 from scan_job_attempts a where a.job_id = j.id and a.attempt = w.attempt and a.token_id = $4::text))
       returning j.id`,
-    { bind: [jobs.map((j) => j.id), jobs.map((j) => j.attempt), isAdmin(res), res.locals.auth?.tokenId ?? null], type: QueryTypes.SELECT },
+    { bind: [jobs.map((j) => j.id), jobs.map((j) => j.attempt), isAdmin(actor), actor.tokenId], type: QueryTypes.SELECT },
   );
   const held = new Set(rows.map((r) => r.id));
   return { held: [...held], lost: jobs.map((j) => j.id).filter((id) => !held.has(id)) };
 }
 
 /** A supervisor sends a job a worker holds back to the queue (a stuck or vanished worker); no retry is spent. */
-export async function requeueJob(ctx: AppContext, res: Response, jobId: number): Promise<JobStateDto> {
-  const who = res.locals.auth?.user;
+export async function requeueJob(ctx: AppContext, actor: Actor, jobId: number): Promise<JobStateDto> {
+  const who = actor.user;
   return ctx.sequelize.transaction(async (transaction) => {
     const job = await ScanJob.findByPk(jobId, { transaction, lock: transaction.LOCK.UPDATE });
     if (!job) throw notFound("job", jobId);
     if (job.state !== "active") throw conflict(`job ${jobId} is ${job.state}; only a job a worker holds can be sent back to the queue`, "not_active");
     const message = `attempt ${job.attempts} by ${job.worker ?? "a worker"} sent back to the queue by ${who?.name || who?.email || "a supervisor"}`;
     const state = await endAttempt(ctx.sequelize, job, { outcome: "requeued", message, worker: job.worker }, transaction);
-    await recordAudit(res, { action: "job.requeue", targetType: "job", targetId: job.id, details: { attempt: job.attempts, worker: job.worker } }, transaction);
+    await recordAudit(actor, { action: "job.requeue", targetType: "job", targetId: job.id, details: { attempt: job.attempts, worker: job.worker } }, transaction);
     return { jobId: job.id, state, attempts: job.attempts };
   });
 }
@@ -260,25 +258,25 @@ async function requeueFailed(ctx: AppContext, jobs: ScanJob[], transaction: Tran
   }
 }
 
-export async function retryJob(ctx: AppContext, res: Response, jobId: number): Promise<JobStateDto> {
+export async function retryJob(ctx: AppContext, actor: Actor, jobId: number): Promise<JobStateDto> {
   return ctx.sequelize.transaction(async (transaction) => {
     const job = await ScanJob.findByPk(jobId, { transaction, lock: transaction.LOCK.UPDATE });
     if (!job) throw notFound("job", jobId);
     if (job.state === "active") throw conflict(`job ${jobId} is held by ${job.worker ?? "a worker"}; send it back to the queue instead (Back to queue, POST /api/jobs/${jobId}/requeue)`, "not_failed");
     if (job.state !== "failed") throw conflict(`job ${jobId} is ${job.state}; only failed (dead-lettered) jobs can be retried`, "not_failed");
     await requeueFailed(ctx, [job], transaction);
-    await recordAudit(res, { action: "job.retry", targetType: "job", targetId: job.id, details: { runId: job.runId, path: job.path, attempts: job.attempts } }, transaction);
+    await recordAudit(actor, { action: "job.retry", targetType: "job", targetId: job.id, details: { runId: job.runId, path: job.path, attempts: job.attempts } }, transaction);
     return { jobId: job.id, state: "queued", attempts: job.attempts };
   });
 }
 
-export async function retryRun(ctx: AppContext, res: Response, runId: number): Promise<number> {
+export async function retryRun(ctx: AppContext, actor: Actor, runId: number): Promise<number> {
   return ctx.sequelize.transaction(async (transaction) => {
     const run = await ScanRun.findByPk(runId, { transaction, lock: transaction.LOCK.UPDATE });
     if (!run) throw notFound("run", runId);
     const jobs = await ScanJob.findAll({ where: { runId, state: "failed" }, transaction, lock: transaction.LOCK.UPDATE });
     await requeueFailed(ctx, jobs, transaction);
-    await recordAudit(res, { action: "run.retry", targetType: "run", targetId: runId, details: { retried: jobs.length, jobIds: jobs.map((j) => j.id) } }, transaction);
+    await recordAudit(actor, { action: "run.retry", targetType: "run", targetId: runId, details: { retried: jobs.length, jobIds: jobs.map((j) => j.id) } }, transaction);
     return jobs.length;
   });
 }

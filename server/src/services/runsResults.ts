@@ -1,26 +1,22 @@
 /**
  * One file's result from a worker, appended to its run's batch and acknowledged in the same transaction:
- * the file row, its findings, the batch's counts, the job row and the pg-boss job's completion commit
- * together. Idempotent per job: a result that arrives again (a retried attempt, or a worker that died
+ * the file row, its findings (stored by fileResultStore.ts, as an uploaded batch's are), the batch's
+ * counts, the job row and the pg-boss job's completion commit together. Idempotent per job: a result that arrives again (a retried attempt, or a worker that died
  * between the commit and reading the answer) finds the job done and stores nothing new.
  */
-import type { Response } from "express";
 import { QueryTypes, type Transaction } from "sequelize";
 import type { JobResultDto } from "@tidemark/shared/types/api";
-import type { FileReport, Finding, ScanReport, Verdict } from "@tidemark/shared/types/report";
+import type { ScanReport } from "@tidemark/shared/types/report";
 import type { AppContext } from "../context.ts";
 import { notFound, unprocessable } from "../errors.ts";
-import { Collection } from "../models/index.ts";
+import { Collection, ScanJob, ScanJobAttempt, ScanRun } from "../models/index.ts";
 import { jobQueueFor } from "../queue/jobQueue.ts";
-import { ScanJob, ScanJobAttempt, ScanRun } from "../queue/models/index.ts";
-import { newUploadId } from "../storage/objectKeys.ts";
-import { deleteObjects, linksFor, writeArtefacts, type WrittenArtefacts } from "./artefacts.ts";
+import type { Actor } from "./actor.ts";
+import type { WrittenArtefacts } from "./artefacts.ts";
 import { recordAudit } from "./audit.ts";
-import { recordBatchDuplicates } from "./duplicatesIngest.ts";
+import { lockCollection, storeFileResults, withArtefacts } from "./fileResultStore.ts";
 import type { ArtefactPart } from "./ingestValidation.ts";
-import { fileRowOf, insertFileRows, insertFindingRows } from "./ingestRows.ts";
 import { notifyFailingBatch } from "./notifications.ts";
-import { lockCollection } from "./runs.ts";
 import { closeAttempts } from "./runsJobs.ts";
 import { markRunFinishedIfDone } from "./runsStatus.ts";
 
@@ -31,38 +27,6 @@ export interface JobResultInput {
   attempt: number;
 }
 
-interface PreviousScan {
-  id: number;
-  batch_id: number;
-  sha256: string | null;
-}
-
-/** The latest earlier scan of the path in the collection, and the latest with a SHA-256 (fixity). */
-async function previousScans(ctx: AppContext, collectionId: number, filePath: string, transaction: Transaction) {
-  const query = (extra: string) =>
-    ctx.sequelize.query<PreviousScan>(
-      `select id, batch_id, sha256 from file_results where collection_id = $1 and path = $2 ${extra} order by id desc limit 1`,
-      { bind: [collectionId, filePath], type: QueryTypes.SELECT, transaction },
-    );
-  const [[latest], [hashed]] = await Promise.all([query(""), query("and sha256 is not null")]);
-  return { latest: latest ?? null, hashed: hashed ?? null };
-}
-
-/** As ingest does: a SHA-256 that differs from the last known one is a fail finding of its own. */
-function withFixity(file: FileReport, hashed: PreviousScan | null): { findings: Finding[]; verdict: Verdict; changed: boolean } {
-  if (!hashed?.sha256 || !file.sha256 || hashed.sha256 === file.sha256) return { findings: [...file.findings], verdict: file.verdict, changed: false };
-  const finding: Finding = {
-    code: "fixity-changed",
-    severity: "fail",
-    channel: null,
-    startSeconds: null,
-    endSeconds: null,
-    message: `SHA-256 differs from the scan in batch ${hashed.batch_id} (file result ${hashed.id}): was ${hashed.sha256}, now ${file.sha256}`,
-  };
-  const verdict = file.verdict === "pass" || file.verdict === "warn" ? "fail" : file.verdict;
-  return { findings: [...file.findings, finding], verdict, changed: true };
-}
-
 /** The delivering attempt is done, even if it had been given up as expired; any other open one is superseded. */
 async function recordDelivery(jobId: number, attempt: number, transaction: Transaction): Promise<void> {
   await ScanJobAttempt.update({ endedAt: new Date(), outcome: "done", message: null }, { where: { jobId, attempt }, transaction });
@@ -71,7 +35,7 @@ async function recordDelivery(jobId: number, attempt: number, transaction: Trans
 
 type Stored = { dto: JobResultDto; finishedRun: boolean };
 
-async function storeRows(ctx: AppContext, res: Response, jobId: number, input: JobResultInput, keys: WrittenArtefacts, transaction: Transaction): Promise<Stored> {
+async function storeResult(ctx: AppContext, actor: Actor, jobId: number, input: JobResultInput, keys: WrittenArtefacts, transaction: Transaction): Promise<Stored> {
   const job = await ScanJob.findByPk(jobId, { transaction, lock: transaction.LOCK.UPDATE });
   if (!job) throw notFound("job", jobId);
   const run = await ScanRun.findByPk(job.runId, { include: [{ model: Collection, as: "collection" }], transaction });
@@ -81,25 +45,9 @@ async function storeRows(ctx: AppContext, res: Response, jobId: number, input: J
   }
   const file = input.report.files[0];
   await lockCollection(ctx, run.collection!.name, transaction);
-  const { latest, hashed } = await previousScans(ctx, run.collectionId, file.path, transaction);
-  const { findings, verdict, changed } = withFixity(file, hashed);
-
-  const [fileResultId] = await insertFileRows(
-    ctx.sequelize,
-    run.batchId,
-    run.collectionId,
-    [
-      fileRowOf(
-        file,
-        { findings, verdict },
-        { previousId: latest?.id ?? null, ...linksFor(file, 0, keys) },
-      ),
-    ],
-    transaction,
-  );
-  // Duplicate transfers are linked as at ingest (it appends its info findings to `findings`).
-  await recordBatchDuplicates(ctx.sequelize, res, run.collectionId, [{ report: file, fileResultId, findings }], transaction);
-  await insertFindingRows(ctx.sequelize, findings.map((f) => ({ ...f, file_result_id: fileResultId })), transaction);
+  const stored = await storeFileResults(ctx, actor, { collectionId: run.collectionId, files: [file], keys, batchFor: async () => run.batchId }, transaction);
+  const [fileResultId] = stored.ids;
+  const [verdict] = stored.verdicts;
   // The batch grows by one file; finished_at follows the latest result so the Batches view reads right.
   await ctx.sequelize.query(
     `update batches set file_count = file_count + 1,
@@ -126,15 +74,8 @@ async function storeRows(ctx: AppContext, res: Response, jobId: number, input: J
   await recordDelivery(job.id, input.attempt, transaction);
   // Whoever holds the job now (this attempt or a later one) is done with it: nothing will scan it again.
   await jobQueueFor(ctx.sequelize).finish(job.queueJobId, { fileResultId }, transaction);
-  if (changed) {
-    await recordAudit(
-      res,
-      { action: "file.fixity_changed", targetType: "file", targetId: fileResultId, details: { path: file.path, previousFileResultId: hashed!.id, previousSha256: hashed!.sha256, sha256: file.sha256 } },
-      transaction,
-    );
-  }
   await recordAudit(
-    res,
+    actor,
     { action: "job.result", targetType: "job", targetId: job.id, details: { runId: run.id, batchId: run.batchId, fileResultId, path: file.path, verdict, worker: input.worker, attempt: input.attempt } },
     transaction,
   );
@@ -153,7 +94,7 @@ async function notifyIfFailing(ctx: AppContext, runId: number, batchId: number):
   if (claimed.length) await notifyFailingBatch(ctx, batchId);
 }
 
-export async function storeJobResult(ctx: AppContext, res: Response, jobId: number, input: JobResultInput): Promise<JobResultDto> {
+export async function storeJobResult(ctx: AppContext, actor: Actor, jobId: number, input: JobResultInput): Promise<JobResultDto> {
   const job = await ScanJob.findByPk(jobId);
   if (!job) throw notFound("job", jobId);
   if (input.report.files.length !== 1) throw unprocessable(`a job result carries exactly one file, got ${input.report.files.length}`);
@@ -164,19 +105,8 @@ export async function storeJobResult(ctx: AppContext, res: Response, jobId: numb
     return { jobId, runId: job.runId, batchId: run!.batchId, fileResultId: job.fileResultId, created: false };
   }
 
-  const written: string[] = [];
-  let stored: Stored;
-  try {
-    const keys = await writeArtefacts(ctx, newUploadId(), input.artefacts, written);
-    stored = await ctx.sequelize.transaction((transaction) => storeRows(ctx, res, jobId, input, keys, transaction));
-  } catch (e) {
-    await deleteObjects(ctx, written);
-    throw e;
-  }
-  if (!stored.dto.created) {
-    await deleteObjects(ctx, written);
-    return stored.dto;
-  }
+  const stored = await withArtefacts(ctx, input.artefacts, (keys, transaction) => storeResult(ctx, actor, jobId, input, keys, transaction), (s) => s.dto.created);
+  if (!stored.dto.created) return stored.dto;
   if (stored.finishedRun) {
     await notifyIfFailing(ctx, stored.dto.runId, stored.dto.batchId).catch((e: unknown) => ctx.logger.error(`failing-run e-mail for run ${stored.dto.runId}: ${String(e)}`));
   }

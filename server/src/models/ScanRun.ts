@@ -9,7 +9,7 @@ import {
   type Sequelize,
 } from "sequelize";
 import type { RunProfileDto } from "@tidemark/shared/types/api";
-import type { Batch, Collection, User } from "../../models/index.ts";
+import type { Batch, Collection, User } from "./index.ts";
 
 export class ScanRun extends Model<InferAttributes<ScanRun>, InferCreationAttributes<ScanRun>> {
   declare id: CreationOptional<number>;
