@@ -17,6 +17,19 @@ export default tseslint.config(
     },
   },
   {
+    // Services know nothing of HTTP: routes pass plain values and an Actor (server/src/middleware/actor.ts).
+    files: ["server/src/services/**/*.ts"],
+    rules: {
+      "no-restricted-imports": [
+        "error",
+        {
+          paths: ["express", "express-session", "express-rate-limit"].map((name) => ({ name, message: "services take plain values and an Actor, not HTTP objects" })),
+          patterns: [{ group: ["**/middleware/*", "**/routes/*"], message: "services are called by routes and middleware, never the other way round" }],
+        },
+      ],
+    },
+  },
+  {
     files: ["web/src/**/*.{ts,tsx}", "tests/web/**/*.{ts,tsx}"],
     languageOptions: { globals: { ...globals.browser } },
     plugins: { "react-hooks": reactHooks },

@@ -13,7 +13,7 @@ import { DEAD_LETTER_QUEUE } from "../../server/src/queue/queueNames.ts";
 import { markDeadLettered } from "../../server/src/queue/reconcile.ts";
 import { startQueueSupervisor, type QueueSupervisor } from "../../server/src/queue/supervisor.ts";
 import { readMailbox } from "./helpers/mailbox.ts";
-import { finding } from "./helpers/reports.ts";
+import { finding, ingest, scanReport, sha } from "./helpers/reports.ts";
 import { addFiles, claim, claimedJobs, createRun, fileOf, postResult, runRequest } from "./helpers/runs.ts";
 import { startTestApp, type TestApp } from "./helpers/testApp.ts";
 
@@ -162,6 +162,39 @@ describe("results", () => {
     const files = await supervisorAgent.get(`/api/files?batch=${run.batchId}&sort=path`);
     expect(files.body.items.map((f: { path: string }) => f.path)).toEqual(jobs.map((j) => j.path).sort());
     expect(run.verdicts).toEqual({ files: 2, pass: 0, warn: 2, fail: 0, error: 0 });
+  });
+
+  it("keeps one fixity history with uploads: a worker's changed SHA-256 fails against an uploaded scan, and the next upload is compared with the worker's", async () => {
+    const collection = "Harbour Lighthouse Logs";
+    const path = "logs/keeper-1954.wav";
+    const uploaded = await ingest(t.app, token, { collection, batchKey: "lighthouse-1", report: scanReport([{ path, sha256: sha("reel as uploaded") }]) });
+    expect(uploaded.status).toBe(201);
+    const [earlier] = await FileResult.findAll({ where: { batchId: uploaded.body.batchId } });
+
+    const run = await createRun(t.app, token, runRequest({ collection, name: "lighthouse rescan" }));
+    expect((await addFiles(t.app, token, run.body.run.id, [fileOf(path)])).status).toBe(200);
+    const job = await until("the lighthouse job to be claimed", async () => {
+      const res = await claim(t.app, token, "w-fixity", 16);
+      return (res.body.jobs as ClaimedJobDto[]).find((j) => j.runId === run.body.run.id);
+    });
+    const result = await postResult(t.app, token, job, { spec: { sha256: sha("reel as rescanned"), verdict: "warn" } });
+    expect(result.status).toBe(201);
+    const rescanned = await FileResult.findByPk(result.body.fileResultId);
+    expect(rescanned).toMatchObject({ previousId: earlier.id, verdict: "fail" });
+    expect(rescanned!.findingCodes).toContain("fixity-changed");
+    const batch = await Batch.findByPk(run.body.run.batchId);
+    expect([batch?.fileCount, batch?.warnCount, batch?.failCount]).toEqual([1, 0, 1]);
+    const audit = await AuditEntry.findAll({ where: { action: "file.fixity_changed", targetId: String(rescanned!.id) } });
+    expect(audit.map((a) => a.details)).toEqual([
+      { path, previousFileResultId: earlier.id, previousSha256: sha("reel as uploaded"), sha256: sha("reel as rescanned") },
+    ]);
+
+    // An upload with the worker's SHA-256 is compared with the worker's scan, the latest: unchanged.
+    const again = await ingest(t.app, token, { collection, batchKey: "lighthouse-2", report: scanReport([{ path, sha256: sha("reel as rescanned") }]) });
+    expect(again.status).toBe(201);
+    const [latest] = await FileResult.findAll({ where: { batchId: again.body.batchId } });
+    expect(latest).toMatchObject({ previousId: rescanned!.id, verdict: "pass" });
+    expect(latest.findingCodes).not.toContain("fixity-changed");
   });
 
   it("refuses a result for another file, of several files, or not multipart, with the one error shape", async () => {
