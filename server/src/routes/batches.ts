@@ -4,6 +4,7 @@ import { z } from "zod";
 import { BATCH_SORT_KEYS, type BatchDto, type Page } from "@tidemark/shared/types/api";
 import type { AppContext } from "../context.ts";
 import { toBatchDto } from "../dto.ts";
+import { actorOf } from "../middleware/actor.ts";
 import { requirePermission } from "../middleware/auth.ts";
 import { idParam, loadBatch } from "../middleware/loadEntity.ts";
 import { Batch, Collection, User } from "../models/index.ts";
@@ -11,7 +12,6 @@ import { optionalDate, optionalDateTo, optionalEnum, optionalId, orderParam, pag
 import { deleteBatch } from "../services/batchDelete.ts";
 import { batchOverview } from "../services/batchOverview.ts";
 import { parseWith } from "../validate.ts";
-import { actorOf } from "../middleware/actor.ts";
 
 const batchQuery = z
   .object({

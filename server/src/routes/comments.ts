@@ -2,13 +2,13 @@ import { Router } from "express";
 import { z } from "zod";
 import type { AppContext } from "../context.ts";
 import { toCommentDto } from "../dto.ts";
+import { actorOf } from "../middleware/actor.ts";
 import { requirePermission } from "../middleware/auth.ts";
 import { loadFileResult } from "../middleware/loadEntity.ts";
 import { badRequest } from "../errors.ts";
 import { Comment, User, type FileResult } from "../models/index.ts";
 import { recordAudit } from "../services/audit.ts";
 import { parseWith } from "../validate.ts";
-import { actorOf } from "../middleware/actor.ts";
 
 const commentSchema = z
   .object({

@@ -4,6 +4,7 @@ import { REASON_REQUIRED_STATES, REVIEW_STATES, type FileSummaryDto, type Page, 
 import type { AppContext } from "../context.ts";
 import { toFileSummaryDto, toFileSummaryDtoFromRow } from "../dto.ts";
 import { badRequest, notFound } from "../errors.ts";
+import { actorOf } from "../middleware/actor.ts";
 import { requirePermission } from "../middleware/auth.ts";
 import { loadFileResult } from "../middleware/loadEntity.ts";
 import { fileDetail } from "../services/fileDetail.ts";
@@ -16,7 +17,6 @@ import { ObjectNotFoundError } from "../storage/ObjectStore.ts";
 import type { ImageKind } from "../storage/objectKeys.ts";
 import { parseWith } from "../validate.ts";
 import { sendObject, sendObjectWithRanges } from "./sendObject.ts";
-import { actorOf } from "../middleware/actor.ts";
 
 const reviewChange = {
   reviewState: z.enum(REVIEW_STATES),

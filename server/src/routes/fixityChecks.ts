@@ -3,10 +3,10 @@ import { Router } from "express";
 import { z } from "zod";
 import { FIXITY_OUTCOMES } from "@tidemark/shared/types/api";
 import type { AppContext } from "../context.ts";
+import { actorOf } from "../middleware/actor.ts";
 import { requirePermission, requireTokenAuth } from "../middleware/auth.ts";
 import { notifyFixityChanged, recordFixityChecks } from "../services/fixityChecks.ts";
 import { parseWith } from "../validate.ts";
-import { actorOf } from "../middleware/actor.ts";
 
 const sha256 = z.string().regex(/^[0-9a-f]{64}$/).nullable();
 

@@ -1,13 +1,13 @@
 import { Router } from "express";
 import type { AppContext } from "../context.ts";
 import { HttpError } from "../errors.ts";
+import { actorOf } from "../middleware/actor.ts";
 import { requirePermission, requireTokenAuth } from "../middleware/auth.ts";
 import { reportUpload, requireReport } from "../middleware/reportUpload.ts";
 import { recordAudit } from "../services/audit.ts";
 import { ingestBatch } from "../services/ingest.ts";
 import { artefactPartsOf, ingestFieldsSchema } from "../services/ingestValidation.ts";
 import { parseWith } from "../validate.ts";
-import { actorOf } from "../middleware/actor.ts";
 
 export function ingestRouter(ctx: AppContext): Router {
   const router = Router();

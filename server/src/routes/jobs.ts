@@ -7,6 +7,7 @@
 import { Router } from "express";
 import type { ClaimJobsResultDto, JobHeartbeatResultDto } from "@tidemark/shared/types/api";
 import type { AppContext } from "../context.ts";
+import { actorOf } from "../middleware/actor.ts";
 import { requirePermission, requireTokenAuth } from "../middleware/auth.ts";
 import { idParam } from "../middleware/loadEntity.ts";
 import { reportUpload, requireReport } from "../middleware/reportUpload.ts";
@@ -16,7 +17,6 @@ import { assertJobHolder, claimJobs, failJob, heartbeatJobs, releaseJob, release
 import { storeJobResult } from "../services/runsResults.ts";
 import { claimSchema, failSchema, heartbeatSchema, releaseSchema, resultFieldsSchema } from "../services/runsValidation.ts";
 import { parseWith } from "../validate.ts";
-import { actorOf } from "../middleware/actor.ts";
 
 /** How often a waiting claim looks at the queue again: the most an idle worker waits for a new job. */
 const CLAIM_WAIT_STEP_MS = 300;

@@ -1,12 +1,12 @@
 import { Router } from "express";
 import { z } from "zod";
 import type { AppContext } from "../context.ts";
+import { actorOf } from "../middleware/actor.ts";
 import { recordAudit } from "../services/audit.ts";
 import { runInBackground } from "../services/background.ts";
 import { confirmPasswordReset, requestPasswordReset } from "../services/passwordReset.ts";
 import { limiter } from "../middleware/rateLimits.ts";
 import { parseWith } from "../validate.ts";
-import { actorOf } from "../middleware/actor.ts";
 
 const requestSchema = z.object({ email: z.string().trim().min(1).max(320) });
 const confirmSchema = z.object({ token: z.string().min(1).max(200), password: z.string().min(1).max(1024) });

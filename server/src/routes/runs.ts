@@ -6,6 +6,7 @@ import { Router } from "express";
 import { z } from "zod";
 import { SCAN_JOB_STATES, type CreateRunResultDto, type RetryRunResultDto } from "@tidemark/shared/types/api";
 import type { AppContext } from "../context.ts";
+import { actorOf } from "../middleware/actor.ts";
 import { requirePermission, requireTokenAuth } from "../middleware/auth.ts";
 import { idParam } from "../middleware/loadEntity.ts";
 import { optionalEnum, optionalId, pageParams } from "../queryParams.ts";
@@ -13,7 +14,6 @@ import { assertRunOwner, createOrFindRun, enqueueFiles, listRunJobs, listRuns, r
 import { retryRun } from "../services/runsJobs.ts";
 import { createRunSchema, enqueueFilesSchema } from "../services/runsValidation.ts";
 import { parseWith } from "../validate.ts";
-import { actorOf } from "../middleware/actor.ts";
 
 const runQuery = z.object({ collection: optionalId, ...pageParams }).strict();
 const jobQuery = z.object({ state: optionalEnum(SCAN_JOB_STATES), ...pageParams }).strict();

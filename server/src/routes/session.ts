@@ -4,12 +4,12 @@ import type { SessionDto } from "@tidemark/shared/types/api";
 import type { AppContext } from "../context.ts";
 import { toUserDto } from "../dto.ts";
 import { unauthorized } from "../errors.ts";
+import { actorOf } from "../middleware/actor.ts";
 import { limiter } from "../middleware/rateLimits.ts";
 import { signIn } from "../services/signIn.ts";
 import { recordAudit } from "../services/audit.ts";
 import { destroySession, regenerateSession, saveSession } from "../middleware/requestSession.ts";
 import { parseWith } from "../validate.ts";
-import { actorOf } from "../middleware/actor.ts";
 
 const signInSchema = z.object({
   email: z.string().trim().min(1).max(320),

@@ -4,6 +4,7 @@ import type { CreatedTokenDto } from "@tidemark/shared/types/api";
 import type { AppContext } from "../context.ts";
 import { toTokenDto } from "../dto.ts";
 import { forbidden } from "../errors.ts";
+import { actorOf } from "../middleware/actor.ts";
 import { requirePermission, requireSessionAuth } from "../middleware/auth.ts";
 import { loadToken } from "../middleware/loadEntity.ts";
 import { ApiToken, User } from "../models/index.ts";
@@ -11,7 +12,6 @@ import { can } from "../permissions.ts";
 import { createApiToken, DEFAULT_TOKEN_LIFETIME_DAYS, MAX_TOKEN_LIFETIME_DAYS } from "../services/apiTokens.ts";
 import { recordAudit } from "../services/audit.ts";
 import { parseWith } from "../validate.ts";
-import { actorOf } from "../middleware/actor.ts";
 
 const createSchema = z
   .object({

@@ -5,6 +5,7 @@ import { ROLES } from "@tidemark/shared/types/api";
 import type { AppContext } from "../context.ts";
 import { toUserDto } from "../dto.ts";
 import { conflict, HttpError } from "../errors.ts";
+import { actorOf } from "../middleware/actor.ts";
 import { requirePermission, requireSessionAuth } from "../middleware/auth.ts";
 import { loadUser } from "../middleware/loadEntity.ts";
 import { User } from "../models/index.ts";
@@ -13,7 +14,6 @@ import { recordAudit } from "../services/audit.ts";
 import { hashPassword, passwordProblem } from "../services/passwords.ts";
 import { endSessionsOf } from "../services/sessions.ts";
 import { parseWith } from "../validate.ts";
-import { actorOf } from "../middleware/actor.ts";
 
 const email = z.string().trim().toLowerCase().max(320).pipe(z.email());
 const name = z.string().trim().min(1).max(200);
