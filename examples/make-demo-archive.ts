@@ -11,8 +11,8 @@ import { spawnSync } from "node:child_process";
 import { mkdirSync, rmSync, writeFileSync } from "node:fs";
 import path from "node:path";
 import { fileURLToPath } from "node:url";
-import { gainDb, hardClip, mix, pinkNoise, rmsDbfs, sine, whiteNoise } from "../tests/fixtures/synth.ts";
-import { encodeWav, type WavEncodeOptions } from "../tests/fixtures/wavWriter.ts";
+import { gainDb, hardClip, mix, pinkNoise, rmsDbfs, sine, whiteNoise } from "../scripts/lib/synth.ts";
+import { encodeWav, type WavEncodeOptions } from "../scripts/lib/wavWriter.ts";
 
 const SECONDS = 6;
 

@@ -5,7 +5,7 @@
  */
 import { createClickDetector } from "../shared/src/analysis/clicks.ts";
 import { DEFAULT_ANALYSIS_SETTINGS } from "../shared/src/types/settings.ts";
-import { pinkNoise } from "../tests/fixtures/synth.ts";
+import { pinkNoise } from "./lib/synth.ts";
 import { espeakAvailable, espeakSpeech } from "../tests/helpers/externalAudio.ts";
 
 const RATE = 48000;
