@@ -1,6 +1,6 @@
 import { render } from "@testing-library/react";
 import { QueryClientProvider } from "@tanstack/react-query";
-import { createMemoryRouter, RouterProvider } from "react-router";
+import { createMemoryRouter, RouterProvider } from "react-router-dom";
 import { createQueryClient } from "../../web/src/api/queryClient.ts";
 import { routes } from "../../web/src/router.tsx";
 

@@ -1,7 +1,7 @@
 import { StrictMode } from "react";
 import { createRoot } from "react-dom/client";
 import { QueryClientProvider } from "@tanstack/react-query";
-import { RouterProvider } from "react-router/dom";
+import { RouterProvider } from "react-router-dom";
 // Shipped with the bundle: Vite copies the font files, no request leaves the machine.
 import "@fontsource/source-serif-4/400.css";
 import "@fontsource/source-serif-4/600.css";

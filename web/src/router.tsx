@@ -1,4 +1,4 @@
-import { createBrowserRouter, Navigate, type RouteObject } from "react-router";
+import { createBrowserRouter, Navigate, type RouteObject } from "react-router-dom";
 import { RequireSession } from "./auth/RequireSession.tsx";
 import { RequirePermission } from "./auth/RequirePermission.tsx";
 import { AppShell } from "./components/AppShell.tsx";

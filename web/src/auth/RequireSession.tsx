@@ -1,5 +1,5 @@
 import type { ReactNode } from "react";
-import { Navigate, useLocation } from "react-router";
+import { Navigate, useLocation } from "react-router-dom";
 import { useSession } from "../api/session.ts";
 import { describeError } from "../api/client.ts";
 import { CurrentUserContext } from "./currentUser.ts";

@@ -1,4 +1,4 @@
-import { NavLink, Outlet, useNavigate } from "react-router";
+import { NavLink, Outlet, useNavigate } from "react-router-dom";
 import { useSignOut } from "../api/session.ts";
 import { useCurrentUser } from "../auth/currentUser.ts";
 import { can, type Permission } from "../auth/permissions.ts";

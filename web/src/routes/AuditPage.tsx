@@ -1,5 +1,5 @@
 import { useMemo, useState, type FormEvent } from "react";
-import { useSearchParams } from "react-router";
+import { useSearchParams } from "react-router-dom";
 import { useAudit, type AuditQuery } from "../api/audit.ts";
 import { describeError } from "../api/client.ts";
 import { exportUrls } from "../api/exports.ts";

@@ -1,4 +1,4 @@
-import { Link, useParams } from "react-router";
+import { Link, useParams } from "react-router-dom";
 import { useBatch, useBatchOverview } from "../api/batches.ts";
 import { ApiError, describeError } from "../api/client.ts";
 import { BatchOverviewStrip } from "../components/batches/BatchOverviewStrip.tsx";

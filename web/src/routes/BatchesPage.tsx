@@ -1,5 +1,5 @@
 import { useMemo } from "react";
-import { Link, useSearchParams } from "react-router";
+import { Link, useSearchParams } from "react-router-dom";
 import { BATCH_SORT_KEYS, type BatchQuery, type BatchSortKey } from "@tidemark/shared/types/api";
 import { useBatches, useCollections } from "../api/batches.ts";
 import { describeError } from "../api/client.ts";

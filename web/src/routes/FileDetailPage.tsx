@@ -1,5 +1,5 @@
 import { useCallback, useMemo, useRef, useState } from "react";
-import { Link, useNavigate, useParams, useSearchParams } from "react-router";
+import { Link, useNavigate, useParams, useSearchParams } from "react-router-dom";
 import type { FileDetailDto, FindingDto } from "@tidemark/shared/types/api";
 import { ApiError, describeError } from "../api/client.ts";
 import { useFile, useLevelGrid, useLoudnessCurve } from "../api/files.ts";

@@ -1,5 +1,5 @@
 import { useState, type FormEvent } from "react";
-import { Link } from "react-router";
+import { Link } from "react-router-dom";
 import { describeError } from "../api/client.ts";
 import { useRequestPasswordReset } from "../api/session.ts";
 import { AuthCard } from "../components/AuthCard.tsx";

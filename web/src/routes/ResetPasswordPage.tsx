@@ -1,5 +1,5 @@
 import { useState, type FormEvent } from "react";
-import { Link, useSearchParams } from "react-router";
+import { Link, useSearchParams } from "react-router-dom";
 import { ApiError, describeError } from "../api/client.ts";
 import { useConfirmPasswordReset } from "../api/session.ts";
 import { AuthCard } from "../components/AuthCard.tsx";

@@ -1,4 +1,4 @@
-import { isRouteErrorResponse, Link, useRouteError } from "react-router";
+import { isRouteErrorResponse, Link, useRouteError } from "react-router-dom";
 
 /** Last resort when a screen throws while rendering: say so, and offer a way back. */
 export function RouteErrorPage() {

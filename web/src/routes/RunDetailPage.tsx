@@ -1,4 +1,4 @@
-import { Link, useParams } from "react-router";
+import { Link, useParams } from "react-router-dom";
 import type { ScanJobDto, ScanRunDetailDto } from "@tidemark/shared/types/api";
 import { describeError } from "../api/client.ts";
 import { useRequeueJob, useRetryJob, useRetryRun, useRun } from "../api/runs.ts";

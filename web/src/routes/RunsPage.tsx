@@ -1,5 +1,5 @@
 import { useMemo } from "react";
-import { Link, useSearchParams } from "react-router";
+import { Link, useSearchParams } from "react-router-dom";
 import type { ScanRunQuery } from "@tidemark/shared/types/api";
 import { useCollections } from "../api/batches.ts";
 import { describeError } from "../api/client.ts";

@@ -1,5 +1,5 @@
 import { useState, type FormEvent } from "react";
-import { Link, Navigate, useNavigate, useSearchParams } from "react-router";
+import { Link, Navigate, useNavigate, useSearchParams } from "react-router-dom";
 import { ApiError, describeError } from "../api/client.ts";
 import { useSession, useSignIn } from "../api/session.ts";
 import { safeReturnPath } from "../auth/returnPath.ts";

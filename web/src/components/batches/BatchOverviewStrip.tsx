@@ -1,5 +1,5 @@
 import { useMemo } from "react";
-import { Link, useNavigate } from "react-router";
+import { Link, useNavigate } from "react-router-dom";
 import type uPlot from "uplot";
 import type { BatchOverviewDto } from "@tidemark/shared/types/api";
 import { formatLevel } from "../../format/units.ts";

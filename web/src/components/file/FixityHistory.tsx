@@ -1,4 +1,4 @@
-import { Link } from "react-router";
+import { Link } from "react-router-dom";
 import type { FileDetailDto, FixityCheckDto } from "@tidemark/shared/types/api";
 import { formatDateTime } from "../../format/units.ts";
 

@@ -1,4 +1,4 @@
-import { Link } from "react-router";
+import { Link } from "react-router-dom";
 import type { DuplicateMatchDto } from "@tidemark/shared/types/api";
 import { describeError } from "../../api/client.ts";
 import { useFileDuplicates } from "../../api/duplicates.ts";

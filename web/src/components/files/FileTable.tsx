@@ -1,4 +1,4 @@
-import { Link } from "react-router";
+import { Link } from "react-router-dom";
 import type { FileSortKey, FileSummaryDto } from "@tidemark/shared/types/api";
 import { FindingChips, ReviewStateBadge, VerdictBadge } from "../badges.tsx";
 import { SortableHeader, type SortOrder } from "../SortableHeader.tsx";
