@@ -21,6 +21,8 @@ export interface S3StoreOptions {
   forcePathStyle: boolean;
   /** Prepended to every key, e.g. "tidemark/". */
   prefix: string;
+  /** Keys per ListObjectsV2 page (S3's default and maximum: 1000); tests lower it to see paging. */
+  listPageSize?: number;
 }
 
 export function createS3Store(options: S3StoreOptions): ObjectStore {
@@ -76,7 +78,7 @@ export function createS3Store(options: S3StoreOptions): ObjectStore {
       let token: string | undefined;
       do {
         const page = await client.send(
-          new ListObjectsV2Command({ Bucket: bucket, Prefix: prefix + keyPrefix, ContinuationToken: token }),
+          new ListObjectsV2Command({ Bucket: bucket, Prefix: prefix + keyPrefix, ContinuationToken: token, MaxKeys: options.listPageSize }),
         );
         for (const item of page.Contents ?? []) {
           if (!item.Key) continue;
