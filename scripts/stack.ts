@@ -9,8 +9,10 @@
  * rest is stopped within STOP_BUDGET_MS and the command exits non-zero saying why. If this supervisor is
  * killed outright, the children's parent-death signal (setpriv --pdeathsig) stops them.
  *
- * Options: --no-build skips the portal build, the CLI bundle and the CLI tarball. DATA_DIR moves .data
- * (the process test uses a temporary one); PORT, HOST and TIDEMARK_PG_PORT choose the ports.
+ * Options: --no-build skips the portal build, the CLI bundle and the CLI tarball. --s3 keeps the server's
+ * objects in a local S3 service (s3rver on loopback, its files in .data/s3, bucket "tidemark") instead of
+ * .data/objects; it is stopped after the server. DATA_DIR moves .data (the process test uses a temporary
+ * one); PORT, HOST and TIDEMARK_PG_PORT choose the ports.
  */
 import { spawn, type ChildProcess } from "node:child_process";
 import { existsSync, mkdirSync, readFileSync, writeFileSync } from "node:fs";
@@ -18,10 +20,14 @@ import path from "node:path";
 import { startSmtpFake, type SmtpFake } from "../server/src/mail/smtpFake.ts";
 import { ensurePostgresInstalled, freePort, startCluster, type RunningCluster } from "./lib/postgres.ts";
 import { projectRoot } from "./lib/paths.ts";
+import { S3_FAKE_CREDENTIALS, startS3Fake, type S3Fake } from "./lib/s3Fake.ts";
 
 const log = (line: string): void => console.error(`[start] ${line}`);
 const dataDir = path.resolve(projectRoot, process.env.DATA_DIR || ".data");
 const build = !process.argv.slice(2).includes("--no-build");
+const onS3 = process.argv.slice(2).includes("--s3");
+/** The bucket `npm start -- --s3` keeps the server's objects in. */
+const S3_BUCKET = "tidemark";
 /** From the moment something dies to everything stopped. */
 const STOP_BUDGET_MS = 10_000;
 /** How long the server may take to finish its requests after SIGTERM (its own grace is 10 s). */
@@ -32,6 +38,7 @@ const demoPassword = process.env.DEMO_PASSWORD || "harbourside-demo";
 
 let cluster: RunningCluster | null = null;
 let smtp: SmtpFake | null = null;
+let s3: S3Fake | null = null;
 let server: ChildProcess | null = null;
 let stopping: Promise<never> | null = null;
 
@@ -47,7 +54,7 @@ function within<T>(ms: number, work: Promise<T>): Promise<T | "timeout"> {
   return Promise.race([work, timeout]).finally(() => clearTimeout(timer));
 }
 
-/** Stops everything once, in order: server, mail catcher, PostgreSQL; then exits with `code`. */
+/** Stops everything once, in order: server, S3 service, mail catcher, PostgreSQL; then exits with `code`. */
 function stopAll(code: number, reason: string): Promise<never> {
   stopping ??= (async (): Promise<never> => {
     log(reason);
@@ -60,12 +67,16 @@ function stopAll(code: number, reason: string): Promise<never> {
         await exited(server);
       }
     }
-    // From here on the budget: the mail catcher and PostgreSQL stop within STOP_BUDGET_MS.
+    // From here on the budget: the S3 service, the mail catcher and PostgreSQL stop within STOP_BUDGET_MS.
     const deadline = setTimeout(() => {
-      log(`PostgreSQL or the mail catcher did not stop within ${STOP_BUDGET_MS / 1000} s; killing PostgreSQL`);
+      log(`PostgreSQL, the S3 service or the mail catcher did not stop within ${STOP_BUDGET_MS / 1000} s; killing PostgreSQL`);
       if (cluster && isRunning(cluster.process)) cluster.process.kill("SIGKILL");
       process.exit(code || 1);
     }, STOP_BUDGET_MS);
+    if (s3) {
+      log("stopping the S3 service");
+      await within(3000, s3.close());
+    }
     if (smtp) {
       log("stopping the mail catcher");
       await within(3000, smtp.close().catch(() => undefined));
@@ -118,6 +129,26 @@ async function main(): Promise<void> {
   smtp = await startSmtpFake({ dir: path.join(dataDir, "mail") });
   log(`mail catcher on ${smtp.url}; messages are stored in .data/mail`);
 
+  if (onS3) {
+    // Its own process group, like the server's: Ctrl-C reaches only this supervisor, which stops it after the server.
+    s3 = await startS3Fake({ dir: path.join(dataDir, "s3"), bucket: S3_BUCKET, detached: true });
+    log(`S3 service (s3rver, pid ${s3.pid}) on ${s3.endpoint}, bucket "${S3_BUCKET}"; objects are stored in .data/s3`);
+    void s3.exited.then(({ code, signal }) => {
+      if (!stopping) void stopAll(1, `the S3 service exited unexpectedly (${describeExit(code, signal)}); stopping the rest`);
+    });
+  }
+  const objectStoreEnv: NodeJS.ProcessEnv = s3
+    ? {
+        OBJECT_STORE: "s3",
+        S3_BUCKET,
+        S3_ENDPOINT: s3.endpoint,
+        S3_REGION: "us-east-1",
+        S3_ACCESS_KEY_ID: S3_FAKE_CREDENTIALS.accessKeyId,
+        S3_SECRET_ACCESS_KEY: S3_FAKE_CREDENTIALS.secretAccessKey,
+        S3_FORCE_PATH_STYLE: "true",
+      }
+    : {};
+
   if (build) {
     log("building the portal…");
     await run("npm", ["run", "build", "-w", "web", "--silent"]);
@@ -141,6 +172,7 @@ async function main(): Promise<void> {
       SMTP_URL: smtp.url,
       DATA_DIR: dataDir,
       DEMO_PASSWORD: demoPassword,
+      ...objectStoreEnv,
     },
   });
   log(`server pid ${server.pid}`);

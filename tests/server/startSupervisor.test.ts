@@ -5,15 +5,20 @@
  *   non-zero saying why, leaving no postgres behind;
  * - Ctrl-C at a terminal (SIGINT to the whole foreground process group): PostgreSQL and the server are in
  *   process groups of their own, so only the supervisor hears it; it stops the server first (which finishes
- *   on SIGTERM) and PostgreSQL after.
+ *   on SIGTERM) and PostgreSQL after;
+ * - `--s3`: the server's object store is s3rver on loopback with its files in the data folder (the start-up
+ *   orphan sweep lists and deletes there), stopped after the server.
  */
+import { ListObjectsV2Command, PutObjectCommand, S3Client } from "@aws-sdk/client-s3";
 import { spawn, type ChildProcess } from "node:child_process";
-import { existsSync, mkdtempSync, readdirSync, readFileSync, rmSync } from "node:fs";
+import { randomUUID } from "node:crypto";
+import { existsSync, mkdtempSync, readdirSync, readFileSync, rmSync, utimesSync } from "node:fs";
 import { tmpdir } from "node:os";
 import path from "node:path";
 import { afterEach, describe, expect, it } from "vitest";
 import { findPgBinaries, freePort } from "../../scripts/lib/postgres.ts";
 import { projectRoot } from "../../scripts/lib/paths.ts";
+import { S3_FAKE_CREDENTIALS, startS3Fake } from "../../scripts/lib/s3Fake.ts";
 
 const STOP_LIMIT_MS = 10_000;
 
@@ -68,10 +73,11 @@ async function waitFor<T>(what: string, probe: () => T | null | Promise<T | null
   }
 }
 
-async function startStack(): Promise<Stack> {
-  const dir = mkdtempSync(path.join(process.env.TIDEMARK_TEST_TMP ?? tmpdir(), "stack-"));
+const newDataDir = (): string => mkdtempSync(path.join(process.env.TIDEMARK_TEST_TMP ?? tmpdir(), "stack-"));
+
+async function startStack(args: string[] = [], dir = newDataDir()): Promise<Stack> {
   const port = await freePort();
-  const child = spawn(process.execPath, ["--import", "tsx", path.join(projectRoot, "scripts/stack.ts"), "--no-build"], {
+  const child = spawn(process.execPath, ["--import", "tsx", path.join(projectRoot, "scripts/stack.ts"), "--no-build", ...args], {
     cwd: projectRoot,
     // Its own group, as a shell gives a foreground job: a "Ctrl-C" below goes to the whole group.
     detached: true,
@@ -160,6 +166,46 @@ describe.runIf(findPgBinaries() !== null)("npm start supervises its children", (
     expect(order.every((at) => at >= 0), out).toBe(true);
     expect([...order].sort((a, b) => a - b)).toEqual(order);
     expect(isAlive(stack.postgresPid)).toBe(false);
+    expect(processesUsing(stack.dir)).toEqual([]);
+  }, 150_000);
+
+  it("with --s3 keeps the server's objects in s3rver under the data folder, and stops it after the server", async () => {
+    const dir = newDataDir();
+    // Before the stack: an object no batch references, left (as by a crash) two hours ago, and a fresh one.
+    const seeding = await startS3Fake({ dir: path.join(dir, "s3"), bucket: "tidemark" });
+    const client = (endpoint: string) => new S3Client({ region: "us-east-1", endpoint, forcePathStyle: true, credentials: S3_FAKE_CREDENTIALS });
+    const [staleId, freshId] = [randomUUID(), randomUUID()];
+    const seeder = client(seeding.endpoint);
+    for (const id of [staleId, freshId]) await seeder.send(new PutObjectCommand({ Bucket: "tidemark", Key: `images/${id}/0-spectrogram.png`, Body: "png", ContentType: "image/png" }));
+    seeder.destroy();
+    await seeding.close();
+    // s3rver dates an object by its file's mtime (its lib/stores/filesystem.js): age one past the sweep's one-hour cut-off.
+    const twoHoursAgo = new Date(Date.now() - 2 * 3600_000);
+    utimesSync(path.join(dir, "s3", "tidemark", "images", staleId, "0-spectrogram.png._S3rver_object"), twoHoursAgo, twoHoursAgo);
+
+    const stack = await startStack(["--s3"], dir);
+    const announced = /\[start\] S3 service \(s3rver, pid (\d+)\) on (http:\/\/127\.0\.0\.1:\d+), bucket "tidemark"/.exec(stack.output());
+    expect(announced, stack.output()).not.toBeNull();
+    const [s3Pid, endpoint] = [Number(announced![1]), announced![2]];
+    // The server's start-up sweep listed the bucket and deleted the stale orphan through the S3 driver.
+    expect(stack.output()).toContain("orphan sweep: removed 1 unreferenced object(s) of 2");
+    const reader = client(endpoint);
+    const listed = await reader.send(new ListObjectsV2Command({ Bucket: "tidemark", Prefix: "images/" }));
+    reader.destroy();
+    expect((listed.Contents ?? []).map((o) => o.Key)).toEqual([`images/${freshId}/0-spectrogram.png`]);
+    expect(existsSync(path.join(dir, "objects"))).toBe(false);
+
+    process.kill(-stack.child.pid!, "SIGINT");
+    const { code } = await Promise.race([
+      stack.exit,
+      new Promise<never>((_, reject) => setTimeout(() => reject(new Error(`supervisor still running after 30 s:\n${stack.output()}`)), 30_000)),
+    ]);
+    const out = stack.output();
+    expect(code, out).toBe(0);
+    const order = ["[start] stopping the server", "[start] stopping the S3 service", "[start] stopping PostgreSQL", "[start] stopped"].map((line) => out.indexOf(line));
+    expect(order.every((at) => at >= 0), out).toBe(true);
+    expect([...order].sort((a, b) => a - b)).toEqual(order);
+    expect(isAlive(s3Pid)).toBe(false);
     expect(processesUsing(stack.dir)).toEqual([]);
   }, 150_000);
 });
