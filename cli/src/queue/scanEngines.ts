@@ -13,10 +13,8 @@ import type { RunProfileDto } from "@tidemark/shared/types/api";
 import { loaded, type LoadedProfile } from "../profiles/loadProfile.ts";
 import type { ScanContext } from "../scan/analyseFile.ts";
 import type { ScanTask, ScanTaskResult } from "../scan/scanTask.ts";
-import { createWorkerPool, type WorkerPool } from "../scan/workerPool.ts";
+import { createWorkerPool, WORKER_HEAP_LIMIT_MB, type WorkerPool } from "../scan/workerPool.ts";
 
-/** Same cap as scan's pool: far above what one file needs, low enough to stop a runaway. */
-const WORKER_HEAP_LIMIT_MB = 1024;
 /** scan's worker script: the TypeScript source, or the bundle's entry (every chunk lands in cli/dist). */
 const WORKER_SCRIPT = new URL(import.meta.url.endsWith(".ts") ? "../scan/scanWorker.ts" : "./scanWorker.js", import.meta.url);
 

@@ -11,7 +11,7 @@ import { reportToJson } from "@tidemark/shared/report/jsonReport";
 import type { ClaimedJobDto } from "@tidemark/shared/types/api";
 import type { ScanReport } from "@tidemark/shared/types/report";
 import { resolveLossyPath, type FsPath } from "../scan/rawPath.ts";
-import { spectrogramPaths } from "../scan/spectrogramPaths.ts";
+import { channelSpectrogramPath, spectrogramPaths } from "../scan/spectrogramPaths.ts";
 import type { PartField } from "../upload/ingestClient.ts";
 import { partsOfFile } from "../upload/reportImages.ts";
 import { toolInfo } from "../toolInfo.ts";
@@ -76,7 +76,7 @@ export async function scanJob(job: ClaimedJobDto, localPath: string, engine: Sca
     imageError: file.imageError,
     async cleanUp() {
       if (!paths) return;
-      const channels = (file.report.format?.channels ?? 0) > 1 ? Array.from({ length: file.report.format!.channels }, (_, c) => paths.png.replace(/\.png$/, `.ch${c + 1}.png`)) : [];
+      const channels = (file.report.format?.channels ?? 0) > 1 ? Array.from({ length: file.report.format!.channels }, (_, c) => channelSpectrogramPath(paths.png, c)) : [];
       const written = partsOfFile(file.report, 0).map((p) => absOf(p.shown));
       await Promise.all([...new Set([paths.png, paths.waveform, ...channels, ...written])].map((p) => rm(p, { force: true })));
     },

@@ -20,7 +20,7 @@ import { encodePng } from "../render/encodePng.ts";
 import { oneLine } from "../errors.ts";
 import { errorReport } from "./errorReport.ts";
 import { displayPath, type FsPath } from "./rawPath.ts";
-import { spectrogramPaths, type SpectrogramTarget } from "./spectrogramPaths.ts";
+import { channelSpectrogramPath, spectrogramPaths, type SpectrogramTarget } from "./spectrogramPaths.ts";
 import { writeCloseups, type CloseupFields } from "./writeCloseups.ts";
 
 export interface ScanContext {
@@ -116,7 +116,7 @@ async function writeImages(
   if (analysed.channelSpectrograms) {
     for (const [c, grid] of analysed.channelSpectrograms.entries()) {
       const title = `${task.relPath} (channel ${c + 1})`;
-      await writeFile(paths.png.replace(/\.png$/, `.ch${c + 1}.png`), png(() => renderSpectrogramImage(grid, { width, height, markers, title })));
+      await writeFile(channelSpectrogramPath(paths.png, c), png(() => renderSpectrogramImage(grid, { width, height, markers, title })));
     }
   }
   const closeups = ctx.closeups

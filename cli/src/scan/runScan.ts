@@ -18,7 +18,7 @@ import type { ExpectedChecksum } from "@tidemark/shared/fixity/checksumFiles";
 import type { ResumeRecord, ResumeState } from "./resumeState.ts";
 import { createInlineRunner } from "./inlineRunner.ts";
 import type { ScanTask, ScanTaskResult } from "./scanTask.ts";
-import { createWorkerPool, WorkerCrashError, WorkerStartError, type WorkerPool } from "./workerPool.ts";
+import { createWorkerPool, WORKER_HEAP_LIMIT_MB, WorkerCrashError, WorkerStartError, type WorkerPool } from "./workerPool.ts";
 
 export interface RunScanOptions {
   files: readonly CrawledFile[];
@@ -41,8 +41,6 @@ export interface RunScanResult {
   interrupted: boolean;
 }
 
-/** Per-worker V8 heap cap: far above what one file needs (#8), low enough to stop a runaway. */
-const WORKER_HEAP_LIMIT_MB = 1024;
 /** Running from the prebuilt bundle in cli/dist (cli/bin/build.mjs) rather than the TypeScript sources. */
 const IS_BUNDLED = !import.meta.url.endsWith(".ts");
 /** The worker script beside this module: the bundle's entry in dist, or the source next to this file. */

@@ -33,6 +33,9 @@ export interface WorkerPool<Task, Result> {
   terminate(): Promise<void>;
 }
 
+/** Per-worker V8 heap cap for scan's and the queue worker's pools: far above what one file needs (#8), low enough to stop a runaway. */
+export const WORKER_HEAP_LIMIT_MB = 1024;
+
 export interface WorkerPoolOptions {
   size: number;
   script: URL;

@@ -16,7 +16,7 @@ import { renderWaveformImage } from "@tidemark/shared/render/waveformImage";
 import type { RgbaImage } from "@tidemark/shared/types/analysis";
 import type { AudioFormat, Closeup, FileReport, Finding } from "@tidemark/shared/types/report";
 import type { AnalysisSettings } from "@tidemark/shared/types/settings";
-import { artefactPaths, type SpectrogramTarget } from "./spectrogramPaths.ts";
+import { ARTEFACT_SUFFIXES, artefactPaths, closeupSuffixes, type SpectrogramTarget } from "./spectrogramPaths.ts";
 
 export type CloseupFields = Required<Pick<FileReport, "levelGrid" | "loudnessCurve" | "closeups" | "closeupsOmitted">>;
 
@@ -35,11 +35,11 @@ export async function writeCloseups(o: {
   const paths = artefactPaths(target, relPath);
   const rate = format.sampleRateHz;
 
-  await writeFile(paths.abs(".levels.json"), JSON.stringify(levelGridJson(analysed.spectrogram)));
+  await writeFile(paths.abs(ARTEFACT_SUFFIXES.levelGrid), JSON.stringify(levelGridJson(analysed.spectrogram)));
   let loudnessCurve: string | null = null;
   if (analysed.loudnessCurve) {
-    await writeFile(paths.abs(".loudness.json"), JSON.stringify(analysed.loudnessCurve));
-    loudnessCurve = paths.shown(".loudness.json");
+    await writeFile(paths.abs(ARTEFACT_SUFFIXES.loudnessCurve), JSON.stringify(analysed.loudnessCurve));
+    loudnessCurve = paths.shown(ARTEFACT_SUFFIXES.loudnessCurve);
   }
 
   const excerptFormat = excerptFormatFor(format);
@@ -61,38 +61,38 @@ export async function writeCloseups(o: {
     const markers = plan.findings.map((i) => shift(findings[i], startSeconds));
     // The file is named on the page around it; a narrow close-up has room for its times only.
     const title = `${formatTimestamp(startSeconds)} to ${formatTimestamp(plan.endFrame / rate)}`;
-    const suffix = `.closeup-${k + 1}`;
+    const suffix = closeupSuffixes(k);
     const spectrogramWidth = columns + SPECTROGRAM_MARGINS.leftPx + SPECTROGRAM_MARGINS.rightPx;
     const waveformWidth = columns + WAVEFORM_MARGINS.leftPx + WAVEFORM_MARGINS.rightPx;
     const { frequencyScale } = settings.spectrogram;
     const height = closeupHeightPx(settings.spectrogram.height);
     const plotRows = height - SPECTROGRAM_MARGINS.topPx - SPECTROGRAM_MARGINS.bottomPx;
     await writeFile(
-      paths.abs(`${suffix}.png`),
+      paths.abs(suffix.spectrogram),
       o.png(() => renderSpectrogramImage(closeupSpectrogramGrid(plan.channels, rate, columns, plotRows, frequencyScale), { width: spectrogramWidth, height, markers, title })),
     );
     await writeFile(
-      paths.abs(`${suffix}.waveform.png`),
+      paths.abs(suffix.waveform),
       o.png(() => renderWaveformImage(closeupWaveform(plan.channels, rate, columns), { width: waveformWidth, height: o.waveformHeightPx, markers })),
     );
     let excerpt: string | null = null;
     if (excerptFormat) {
-      await writeFile(paths.abs(`${suffix}.wav`), encodeWavExcerpt(plan.channels, rate, excerptFormat));
-      excerpt = paths.shown(`${suffix}.wav`);
+      await writeFile(paths.abs(suffix.excerpt), encodeWavExcerpt(plan.channels, rate, excerptFormat));
+      excerpt = paths.shown(suffix.excerpt);
     }
     closeups.push({
       findings: plan.findings,
       startSeconds,
       endSeconds: plan.endFrame / rate,
       secondsPerColumn,
-      spectrogram: paths.shown(`${suffix}.png`),
-      waveform: paths.shown(`${suffix}.waveform.png`),
+      spectrogram: paths.shown(suffix.spectrogram),
+      waveform: paths.shown(suffix.waveform),
       excerpt,
       excerptMediaType: excerpt ? "audio/wav" : null,
       excerptSampleRateHz: excerpt ? rate : null,
     });
   }
-  return { levelGrid: paths.shown(".levels.json"), loudnessCurve, closeups, closeupsOmitted: selection.omitted };
+  return { levelGrid: paths.shown(ARTEFACT_SUFFIXES.levelGrid), loudnessCurve, closeups, closeupsOmitted: selection.omitted };
 }
 
 /**

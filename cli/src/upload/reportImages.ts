@@ -7,11 +7,8 @@
 import { readFile } from "node:fs/promises";
 import path from "node:path";
 import type { FileReport, ScanReport } from "@tidemark/shared/types/report";
+import { waveformPathFor } from "../scan/spectrogramPaths.ts";
 import type { ImagePart, PartField } from "./ingestClient.ts";
-
-export function waveformPathFor(spectrogramPath: string): string {
-  return spectrogramPath.replace(/\.png$/i, ".waveform.png");
-}
 
 async function readFirst(candidates: string[]): Promise<Uint8Array | null> {
   for (const file of candidates) {
