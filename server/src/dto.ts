@@ -16,6 +16,7 @@ import type {
   UserDto,
   UserRefDto,
 } from "@tidemark/shared/types/api";
+import { closeupImageUrl, fileImageUrl } from "./fileImageUrls.ts";
 import type { FileListRow } from "./services/fileList.ts";
 import type { ApiToken, AuditEntry, Batch, Collection, Comment, FileResult, Finding, FixityCheck, ReviewEvent, User } from "./models/index.ts";
 
@@ -143,8 +144,8 @@ export const toCloseupDtos = (f: FileResult, findings: Finding[]): CloseupDto[] 
     startSeconds: c.startSeconds,
     endSeconds: c.endSeconds,
     secondsPerColumn: c.secondsPerColumn,
-    spectrogramUrl: `/api/files/${f.id}/closeups/${c.index}/spectrogram.png`,
-    waveformUrl: `/api/files/${f.id}/closeups/${c.index}/waveform.png`,
+    spectrogramUrl: closeupImageUrl(f.id, c.index, "spectrogram"),
+    waveformUrl: closeupImageUrl(f.id, c.index, "waveform"),
     excerptUrl: c.excerptKey ? `/api/files/${f.id}/closeups/${c.index}/excerpt` : null,
     excerptMediaType: c.excerptKey ? c.excerptMediaType : null,
   }));
@@ -162,8 +163,8 @@ export const toFileDetailDto = (f: FileResult, parts: FileDetailParts): FileDeta
   reviewEvents: parts.reviewEvents.map(toReviewEventDto),
   fixityHistory: parts.fixityHistory,
   fixityChecks: parts.fixityChecks.map(toFixityCheckDto),
-  spectrogramUrl: f.spectrogramKey ? `/api/files/${f.id}/spectrogram.png` : null,
-  waveformUrl: f.waveformKey ? `/api/files/${f.id}/waveform.png` : null,
+  spectrogramUrl: f.spectrogramKey ? fileImageUrl(f.id, "spectrogram") : null,
+  waveformUrl: f.waveformKey ? fileImageUrl(f.id, "waveform") : null,
   closeups: toCloseupDtos(f, parts.findings),
   closeupsOmitted: (f.closeupsOmitted ?? []).flatMap((o) => {
     const findingId = findingIdAt(parts.findings, o.finding);

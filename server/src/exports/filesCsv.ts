@@ -3,6 +3,7 @@ import type { Response } from "express";
 import { stringify } from "csv-stringify";
 import { Op, type WhereOptions } from "sequelize";
 import { CSV_STRINGIFY_OPTIONS, csvRecord, type CsvFileRow } from "@tidemark/shared/report/csvReport";
+import { fileImageUrl } from "../fileImageUrls.ts";
 import { Batch, Collection, FileResult } from "../models/index.ts";
 import { streamCsv } from "./streamRows.ts";
 
@@ -36,7 +37,7 @@ export function csvRowOfFileResult(f: FileResult): CsvFileRow {
     failFindings: countBySeverity(f, "fail"),
     warnFindings: countBySeverity(f, "warn"),
     findingCodes: f.findingCodes,
-    spectrogram: f.spectrogramKey ? `/api/files/${f.id}/spectrogram.png` : null,
+    spectrogram: f.spectrogramKey ? fileImageUrl(f.id, "spectrogram") : null,
     fileResultId: f.id,
   };
 }

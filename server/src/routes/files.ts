@@ -14,6 +14,7 @@ import { changeReviewState } from "../services/review.ts";
 import type { StoredCloseup } from "../models/FileResult.ts";
 import type { FileResult } from "../models/index.ts";
 import { ObjectNotFoundError } from "../storage/ObjectStore.ts";
+import { IMAGE_NAMES } from "../fileImageUrls.ts";
 import type { ImageKind } from "../storage/objectKeys.ts";
 import { parseWith } from "../validate.ts";
 import { sendObject, sendObjectWithRanges } from "./sendObject.ts";
@@ -90,8 +91,8 @@ export function filesRouter(ctx: AppContext): Router {
     });
     stream.pipe(res);
   };
-  router.get("/files/:id/spectrogram.png", requirePermission("view"), loadFileResult, image("spectrogram"));
-  router.get("/files/:id/waveform.png", requirePermission("view"), loadFileResult, image("waveform"));
+  router.get(`/files/:id/${IMAGE_NAMES.spectrogram}`, requirePermission("view"), loadFileResult, image("spectrogram"));
+  router.get(`/files/:id/${IMAGE_NAMES.waveform}`, requirePermission("view"), loadFileResult, image("waveform"));
 
   // Issue #16: close-ups, their excerpts (range requests, so the player can seek), the level grid and loudness curve.
   const closeupImage = (kind: "spectrogram" | "waveform"): RequestHandler => async (req, res) => {
@@ -100,8 +101,8 @@ export function filesRouter(ctx: AppContext): Router {
     const key = kind === "spectrogram" ? closeup.spectrogramKey : closeup.waveformKey;
     await sendObject(ctx, res, { key, contentType: "image/png", what: `close-up ${closeup.index} ${kind} of file`, fileId: file.id });
   };
-  router.get("/files/:id/closeups/:k/spectrogram.png", requirePermission("view"), loadFileResult, closeupImage("spectrogram"));
-  router.get("/files/:id/closeups/:k/waveform.png", requirePermission("view"), loadFileResult, closeupImage("waveform"));
+  router.get(`/files/:id/closeups/:k/${IMAGE_NAMES.spectrogram}`, requirePermission("view"), loadFileResult, closeupImage("spectrogram"));
+  router.get(`/files/:id/closeups/:k/${IMAGE_NAMES.waveform}`, requirePermission("view"), loadFileResult, closeupImage("waveform"));
   router.get("/files/:id/closeups/:k/excerpt", requirePermission("view"), loadFileResult, async (req, res) => {
     const file = res.locals.file!;
     const closeup = closeupOf(file, req.params.k);
