@@ -17,6 +17,7 @@
 import { spawn, type ChildProcess } from "node:child_process";
 import { existsSync, mkdirSync, readFileSync, writeFileSync } from "node:fs";
 import path from "node:path";
+import { DEFAULT_DEMO_PASSWORD, DEFAULT_HOST, DEFAULT_PORT } from "../server/src/config.ts";
 import { startSmtpFake, type SmtpFake } from "../server/src/mail/smtpFake.ts";
 import { ensurePostgresInstalled, freePort, startCluster, type RunningCluster } from "./lib/postgres.ts";
 import { projectRoot } from "./lib/paths.ts";
@@ -32,9 +33,9 @@ const S3_BUCKET = "tidemark";
 const STOP_BUDGET_MS = 10_000;
 /** How long the server may take to finish its requests after SIGTERM (its own grace is 10 s). */
 const SERVER_STOP_MS = 12_000;
-const host = process.env.HOST || "127.0.0.1";
-const port = Number(process.env.PORT || 8080);
-const demoPassword = process.env.DEMO_PASSWORD || "harbourside-demo";
+const host = process.env.HOST || DEFAULT_HOST;
+const port = Number(process.env.PORT || DEFAULT_PORT);
+const demoPassword = process.env.DEMO_PASSWORD || DEFAULT_DEMO_PASSWORD;
 
 let cluster: RunningCluster | null = null;
 let smtp: SmtpFake | null = null;

@@ -128,11 +128,16 @@ function uploadLimitsFrom(env: NodeJS.ProcessEnv): Partial<UploadLimits> {
   return limits;
 }
 
+/** Defaults `npm start` (scripts/stack.ts) shares with the server: where it listens, the demo accounts' password. */
+export const DEFAULT_HOST = "127.0.0.1";
+export const DEFAULT_PORT = 8080;
+export const DEFAULT_DEMO_PASSWORD = "harbourside-demo";
+
 export function loadConfig(env: NodeJS.ProcessEnv = process.env): Config {
   if (!env.DATABASE_URL) throw new ConfigError("DATABASE_URL is not set (e.g. postgres://user@127.0.0.1:5432/tidemark)");
   const dataDir = path.resolve(projectRoot, env.DATA_DIR || ".data");
-  const port = parsePort(env.PORT, 8080, "PORT");
-  const host = env.HOST || "127.0.0.1";
+  const port = parsePort(env.PORT, DEFAULT_PORT, "PORT");
+  const host = env.HOST || DEFAULT_HOST;
   const publicUrl = (env.PUBLIC_URL || `http://${host}:${port}`).replace(/\/+$/, "");
   try {
     new URL(publicUrl);
@@ -153,7 +158,7 @@ export function loadConfig(env: NodeJS.ProcessEnv = process.env): Config {
     webDistDir: path.resolve(projectRoot, env.WEB_DIST_DIR || "web/dist"),
     cliPackageDir: path.resolve(projectRoot, env.CLI_PACKAGE_DIR || "cli/pack"),
     trustProxy: parseTrustProxy(env.TRUST_PROXY),
-    demoPassword: env.DEMO_PASSWORD || "harbourside-demo",
+    demoPassword: env.DEMO_PASSWORD || DEFAULT_DEMO_PASSWORD,
     demoSeed: parseBoolean(env.DEMO_SEED, env.NODE_ENV !== "production", "DEMO_SEED"),
     upload: uploadLimitsFrom(env),
   };

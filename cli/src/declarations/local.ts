@@ -1,5 +1,6 @@
 /** `tidemark profiles`, `tidemark init` and `tidemark match`: the commands around a scan. */
 import { Option, type Command } from "@commander-js/extra-typings";
+import { PROJECT_CONFIG_FILE } from "@tidemark/shared/types/projectConfig";
 import { UsageError } from "../errors.ts";
 import { DEFAULT_MATCH_LIMIT, MATCH_EXIT_CODES_HELP, parseMatchLimit, type MatchOptions } from "../match/matchOptions.ts";
 import { collect, FAIL_ON_LEVELS, parseCollectionName, parseServerUrl, type InitOptions } from "../options.ts";
@@ -20,7 +21,7 @@ export function declareProfiles(program: Command, { run, io }: Declared<CommandA
 export function declareInit(program: Command, { run, io }: Declared<CommandActions["init"]>): void {
   program
     .command("init")
-    .description(`write a ${"tidemark.json"} in this folder: the project's defaults for profile, collection, server and more (asks on a terminal)`)
+    .description(`write a ${PROJECT_CONFIG_FILE} in this folder: the project's defaults for profile, collection, server and more (asks on a terminal)`)
     .option("-p, --profile <name|file>", "profile to judge with")
     .option("--collection <name>", "collection uploads are filed under", parseCollectionName)
     .option("--server <url>", "server for upload, enqueue and worker", parseServerUrl)

@@ -12,7 +12,7 @@ export const DEMO_USERS: readonly { email: string; name: string; role: Role }[] 
 
 export const DEMO_COLLECTIONS = ["Ferry Terminal Interviews 1978", "Lighthouse Choir Reels"] as const;
 
-export const DEFAULT_DEMO_PASSWORD = "harbourside-demo";
+export { DEFAULT_DEMO_PASSWORD } from "../config.ts";
 
 export async function createDemoUsers(password: string, cost: ScryptCost = DEFAULT_SCRYPT_COST): Promise<Record<Role, User>> {
   const made = {} as Record<Role, User>;
