@@ -8,6 +8,7 @@ import { spawn } from "node:child_process";
 import { createInterface } from "node:readline";
 import { fileURLToPath } from "node:url";
 import { z } from "zod";
+import { projectRoot } from "./paths.ts";
 
 /** s3rver's built-in account: the only access key id it accepts. */
 export const S3_FAKE_CREDENTIALS = { accessKeyId: "S3RVER", secretAccessKey: "S3RVER" } as const;
@@ -52,6 +53,8 @@ export async function startS3Fake(options: S3FakeOptions): Promise<S3Fake> {
   const args = { dir: options.dir, bucket: options.bucket, host: options.host ?? "127.0.0.1", port: options.port ?? 0, logRequests: Boolean(options.onRequest) };
   // setpriv --pdeathsig: the service goes when its parent does, however the parent ends.
   const child = spawn("setpriv", ["--pdeathsig", "SIGTERM", process.execPath, "--openssl-legacy-provider", "--import", "tsx", SERVER_SCRIPT, JSON.stringify(args)], {
+    // From the repository root, where `--import tsx` resolves.
+    cwd: projectRoot,
     stdio: ["ignore", "pipe", "pipe"],
     detached: options.detached ?? false,
   });
