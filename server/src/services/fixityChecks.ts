@@ -5,6 +5,7 @@
  * an audit entry, and an e-mail to the supervisors.
  */
 import { QueryTypes, type Transaction } from "sequelize";
+import { verdictAfterFixityChange } from "@tidemark/shared/fixity/fixityRule";
 import type { FixityCheckUploadRequest, FixityCheckUploadResultDto } from "@tidemark/shared/types/api";
 import type { AppContext } from "../context.ts";
 import { HttpError } from "../errors.ts";
@@ -40,13 +41,13 @@ async function markChanged(ctx: AppContext, scan: LatestScan, check: FixityCheck
     type: QueryTypes.SELECT,
     transaction,
   });
+  const verdict = verdictAfterFixityChange(scan.verdict);
   await ctx.sequelize.query(
-    `update file_results set verdict = case when verdict in ('pass', 'warn') then 'fail'::verdict else verdict end,
-            worst_findings = $2::jsonb, finding_codes = $3::text[] where id = $1`,
-    { bind: [scan.id, JSON.stringify(summariseFindings(findings as never)), [...new Set(findings.map((f) => f.code))]], type: QueryTypes.UPDATE, transaction },
+    `update file_results set verdict = $4::verdict, worst_findings = $2::jsonb, finding_codes = $3::text[] where id = $1`,
+    { bind: [scan.id, JSON.stringify(summariseFindings(findings as never)), [...new Set(findings.map((f) => f.code))], verdict], type: QueryTypes.UPDATE, transaction },
   );
-  // The batch's counts follow the file's new verdict.
-  if (scan.verdict === "pass" || scan.verdict === "warn") {
+  // The batch's counts follow the file's new verdict (the same rule as a changed SHA-256 at ingest).
+  if (verdict !== scan.verdict) {
     const column = scan.verdict === "pass" ? "pass_count" : "warn_count";
     await ctx.sequelize.query(`update batches set ${column} = ${column} - 1, fail_count = fail_count + 1 where id = $1`, {
       bind: [scan.batch_id],
