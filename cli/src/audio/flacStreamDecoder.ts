@@ -89,7 +89,7 @@ class FlacStream implements FlacStreamDecoder {
     if (fileOffset + bytes.length <= start) return;
     const from = Math.max(0, start - fileOffset);
     this.dataStarted = true;
-    // In slices, so the framer's buffer stays near one frame's size instead of one read's (4 MiB).
+    // In slices, so the framer's buffer stays near one frame's size instead of one read's.
     for (let at = from; at < bytes.length; at += FRAMER_SLICE_BYTES) {
       this.framer.push(bytes.subarray(at, Math.min(bytes.length, at + FRAMER_SLICE_BYTES)));
     }
