@@ -12,8 +12,11 @@
  * Section 7 (closeups, issue #16) times the default scan against `--no-closeups` on the main length with
  * 10 planted 40 ms dropouts: `npm run bench -- --only closeups` runs just that.
  *
+ * Section 8 (longflac, issues #17/#22: scripts/bench/longFlac.ts) scans FLACs of 15 min, 1 h and 4 h: peak RSS
+ * and linearity, each printed with met / NOT met beside the RF64's and section 4's.
+ *
  * Options: --seconds N (main file, default 600), --files N (files for the worker comparison, default 8),
- * --repeats N (default 3), --no-rf64, --no-linearity, --no-white, --no-flac, --only single,white,workers,linearity,rf64,flac,closeups
+ * --repeats N (default 3), --no-rf64, --no-linearity, --no-white, --no-flac, --no-longflac, --longflac-base S (section 8's 1×, default 900), --only single,white,workers,linearity,rf64,flac,closeups,longflac
  * (just those sections), --from-source (run through tsx instead of the bundle), --keep (leave the inputs),
  * --tmp DIR (where the inputs go), --baseline REV (also time the CLI as of git revision REV on the main
  * file, alternating, for a before/after ratio in the same run), --wait-calm S (before each run, wait up to S seconds for the other
@@ -29,6 +32,7 @@ import { runStages } from "./bench/stages.ts";
 import { staleBundleSources } from "../cli/bin/bundleState.mjs";
 import { plantDropouts } from "./bench/plantFaults.ts";
 import { synthesiseWav, type SynthOptions } from "./bench/synthWav.ts";
+import { runLongFlac, type LongFlacResult } from "./bench/longFlac.ts";
 
 interface Options {
   out: string | null;
@@ -40,6 +44,9 @@ interface Options {
   linearity: boolean;
   white: boolean;
   flac: boolean;
+  longFlac: boolean;
+  /** Section 8's base length, s (16× it is the long FLAC; default 900: 4 hours). */
+  longFlacBase: number;
   fromSource: boolean;
   keep: boolean;
   tmp: string;
@@ -52,10 +59,10 @@ interface Options {
 /** Other processes using less than this many cores count as a calm machine. */
 const CALM_BUSY_CORES = 0.25;
 
-const SECTIONS = ["single", "white", "workers", "linearity", "rf64", "flac", "closeups"];
+const SECTIONS = ["single", "white", "workers", "linearity", "rf64", "flac", "closeups", "longflac"];
 
 function parseOptions(argv: string[]): Options {
-  const o: Options = { out: null, quick: false, seconds: 600, files: 8, repeats: 3, rf64: true, linearity: true, white: true, flac: true, fromSource: false, keep: false, tmp: tmpdir(), stages: null, only: null, waitCalmSeconds: 0, baseline: null };
+  const o: Options = { out: null, quick: false, seconds: 600, files: 8, repeats: 3, rf64: true, linearity: true, white: true, flac: true, longFlac: true, longFlacBase: 900, fromSource: false, keep: false, tmp: tmpdir(), stages: null, only: null, waitCalmSeconds: 0, baseline: null };
   const explicit = new Set<string>();
   for (let i = 0; i < argv.length; i++) {
     const a = argv[i];
@@ -79,6 +86,8 @@ function parseOptions(argv: string[]): Options {
     else if (a === "--no-linearity") o.linearity = false;
     else if (a === "--no-white") o.white = false;
     else if (a === "--no-flac") o.flac = false;
+    else if (a === "--no-longflac") o.longFlac = false;
+    else if (a === "--longflac-base") o.longFlacBase = count();
     else if (a === "--from-source") o.fromSource = true;
     else if (a === "--keep") o.keep = true;
     else if (a === "--tmp") o.tmp = path.resolve(value());
@@ -99,6 +108,7 @@ function parseOptions(argv: string[]): Options {
     o.linearity &&= o.only.has("linearity");
     o.rf64 &&= o.only.has("rf64");
     o.flac &&= o.only.has("flac");
+    o.longFlac &&= o.only.has("longflac");
   }
   if (o.quick) {
     if (!explicit.has("--seconds")) o.seconds = 120;
@@ -107,6 +117,7 @@ function parseOptions(argv: string[]): Options {
     o.rf64 = false;
     o.linearity = false;
     o.white = false;
+    o.longFlac = false;
   }
   return o;
 }
@@ -486,6 +497,12 @@ async function main(): Promise<void> {
       await rm(dir, { recursive: true, force: true });
     }
 
+    // 8. FLACs of 15 min, 1 h and 4 h (issues #17, #22): peak RSS and linearity.
+    if (o.longFlac && hasFlac()) {
+      log(`\n8. FLAC of ${o.longFlacBase} s × 1, 4, 16 (piped from the synthesiser into flac -5), --workers 1`);
+      result.longFlac = await runLongFlac(root, (dir) => scan(dir, 1, o, scratch), log, o.longFlacBase);
+    }
+
     result.finishedAt = new Date().toISOString();
     result.targets = judgeTargets(result);
     printTable(result, o);
@@ -504,7 +521,8 @@ function judgeTargets(r: Record<string, unknown>): Record<string, { value: numbe
   const workers = r.workers as { scaling: number; one: Summary } | undefined;
   const linearity = r.linearity as { ratio16: number; rows: Summary[] } | undefined;
   const flac = r.flac as { flac: Summary; ratioToWav: number } | undefined;
-  const rss = [single?.peakRssMb, workers?.one.peakRssMb, ...(linearity?.rows.map((x) => x.peakRssMb) ?? []), (r.rf64 as Summary | undefined)?.peakRssMb, flac?.flac.peakRssMb];
+  const longFlac = r.longFlac as LongFlacResult | null | undefined;
+  const rss = [single?.peakRssMb, workers?.one.peakRssMb, ...(linearity?.rows.map((x) => x.peakRssMb) ?? []), (r.rf64 as Summary | undefined)?.peakRssMb, flac?.flac.peakRssMb, longFlac?.peakRssMb];
   const peakRss = Math.max(...rss.filter((x): x is number => x !== undefined));
   const t: Record<string, { value: number; target: string; met: boolean }> = {};
   const only = r.measuresOnly as Summary | undefined;
@@ -521,6 +539,22 @@ function judgeTargets(r: Record<string, unknown>): Record<string, { value: numbe
   const closeups = r.closeups as { overhead: number } | undefined;
   if (closeups) t.closeupsOverhead = { value: closeups.overhead, target: `≤ ${TARGETS.closeupsOverhead} (#16: close-ups vs --no-closeups, wall)`, met: closeups.overhead <= TARGETS.closeupsOverhead };
   if (linearity) t.linearity16x = { value: linearity.ratio16, target: `≤ ${TARGETS.linearity} (per audio second, 16× vs 1×)`, met: linearity.ratio16 <= TARGETS.linearity };
+  Object.assign(t, memoryTargets(r.rf64 as Summary | undefined, linearity as { ratio4?: number } | undefined, longFlac));
+  return t;
+}
+
+/** Issue #22's memory and linearity targets: the 4 GB RF64 and the 4-hour FLAC, each ≤ 150 MB; 1×, 4×, 16× linear. */
+function memoryTargets(rf64: Summary | undefined, wavLinearity: { ratio4?: number } | undefined, longFlac: LongFlacResult | null | undefined): Record<string, { value: number; target: string; met: boolean }> {
+  const t: Record<string, { value: number; target: string; met: boolean }> = {};
+  const rss = `≤ ${TARGETS.peakRssMb} MB`;
+  if (rf64) t.rf64PeakRss = { value: rf64.peakRssMb, target: `${rss} (#22: the 4.5 GB RF64, one worker)`, met: rf64.peakRssMb <= TARGETS.peakRssMb };
+  if (wavLinearity?.ratio4 !== undefined) t.linearity4x = { value: wavLinearity.ratio4, target: `≤ ${TARGETS.linearity} (per audio second, 4× vs 1×)`, met: wavLinearity.ratio4 <= TARGETS.linearity };
+  if (longFlac) {
+    const fourHours = longFlac.rows.at(-1)!;
+    t.longFlacPeakRss = { value: fourHours.peakRssMb, target: `${rss} (#17/#22: the ${+(fourHours.audioSeconds / 3600).toFixed(2)}-hour FLAC, one worker)`, met: fourHours.peakRssMb <= TARGETS.peakRssMb };
+    t.longFlacLinearity4x = { value: longFlac.ratio4, target: `≤ ${TARGETS.linearity} (FLAC, per audio second, 4× vs 1×)`, met: longFlac.ratio4 <= TARGETS.linearity };
+    t.longFlacLinearity16x = { value: longFlac.ratio16, target: `≤ ${TARGETS.linearity} (FLAC, per audio second, 16× vs 1×)`, met: longFlac.ratio16 <= TARGETS.linearity };
+  }
   return t;
 }
 
@@ -536,7 +570,7 @@ function printTable(r: Record<string, unknown>, o: Options): void {
   }
   otherRows(lines, r);
   lines.push("", "| target | value | met |", "|---|---|---|");
-  for (const [k, v] of Object.entries(r.targets as Record<string, { value: number; target: string; met: boolean }>)) lines.push(`| ${k} ${v.target} | ${fmt(v.value, 2)} | ${v.met ? "yes" : "NO"} |`);
+  for (const [k, v] of Object.entries(r.targets as Record<string, { value: number; target: string; met: boolean }>)) lines.push(`| ${k} ${v.target} | ${fmt(v.value, 2)} | ${v.met ? "met" : "NOT met"} |`);
   process.stdout.write(`${lines.join("\n")}\n`);
 }
 
@@ -576,6 +610,11 @@ function otherRows(lines: string[], r: Record<string, unknown>): void {
   }
   const rf = r.rf64 as Summary | undefined;
   if (rf) lines.push(`| RF64 4.5 GB: wall, realtime, peak RSS | ${fmt(rf.wallSeconds, 1)} s, ${fmt(rf.realtimeWall, 0)}x, ${fmt(rf.peakRssMb, 0)} MB |`);
+  const lf = r.longFlac as LongFlacResult | null | undefined;
+  if (lf) {
+    lines.push(`| FLAC ${lf.rows.map((x) => `${(x.audioSeconds / 3600).toFixed(2)} h`).join(" / ")}: in-file ms per audio s (4×/1×, 16×/1×) | ${lf.rows.map((x) => fmt(x.inFileMsPerAudioSecond, 2)).join(" / ")} (${fmt(lf.ratio4, 2)}, ${fmt(lf.ratio16, 2)}) |`);
+    lines.push(`| FLAC ${lf.rows.map((x) => `${(x.audioSeconds / 3600).toFixed(2)} h`).join(" / ")}: peak RSS; wall | ${lf.rows.map((x) => `${fmt(x.peakRssMb, 0)} MB`).join(" / ")}; ${lf.rows.map((x) => `${fmt(x.wallSeconds, 1)} s`).join(" / ")} |`);
+  }
   const fl = r.flac as { wav: Summary; flac: Summary; flacTest: { wallSeconds: number }; ratioToWav: number; ratioToFlacTest: number } | undefined;
   if (fl) {
     lines.push(`| FLAC: scan wall / WAV scan wall (ratio); flac -t wall (our scan ÷ flac -t) | ${fmt(fl.flac.wallSeconds, 2)} s / ${fmt(fl.wav.wallSeconds, 2)} s (${fmt(fl.ratioToWav, 2)}x); ${fmt(fl.flacTest.wallSeconds, 2)} s (${fmt(fl.ratioToFlacTest, 2)}x) |`);

@@ -71,9 +71,31 @@ function header(o: SynthOptions, frames: number): Uint8Array {
 /** Writes the file; resolves to its size in bytes. */
 export async function synthesiseWav(o: SynthOptions): Promise<number> {
   const frames = Math.round(o.seconds * o.sampleRateHz);
+  const blockAlign = o.channels * (o.bitDepth / 8);
+  if (!o.rf64 && 44 + frames * blockAlign > 0xffffffff) throw new Error("more than 4 GiB of audio needs rf64: true");
+  const file = await open(o.path, "w");
+  try {
+    const head = header(o, frames);
+    await file.write(head, 0, head.length, 0);
+    let position = head.length;
+    await synthesisePcm(o, async (bytes) => {
+      await file.write(bytes, 0, bytes.length, position);
+      position += bytes.length;
+    });
+    return position;
+  } finally {
+    await file.close();
+  }
+}
+
+/**
+ * The same samples as synthesiseWav, as raw little-endian PCM handed to `put` in chunks (a pipe into an
+ * encoder, so a 4-hour input never touches the disk); `put` must be done with a chunk when it resolves.
+ */
+export async function synthesisePcm(o: Omit<SynthOptions, "path" | "rf64">, put: (bytes: Uint8Array) => Promise<void>): Promise<void> {
+  const frames = Math.round(o.seconds * o.sampleRateHz);
   const bytesPerSample = o.bitDepth / 8;
   const blockAlign = o.channels * bytesPerSample;
-  if (!o.rf64 && 44 + frames * blockAlign > 0xffffffff) throw new Error("more than 4 GiB of audio needs rf64: true");
   const gain = 10 ** (o.rmsDbfs / 20) / (o.noise === "pink" ? PINK_RMS : WHITE_RMS);
   const fullScale = o.bitDepth === 24 ? 8388608 : 32768;
   const maxCode = fullScale - 1;
@@ -84,55 +106,43 @@ export async function synthesiseWav(o: SynthOptions): Promise<number> {
   const out = new Uint8Array(CHUNK_FRAMES * blockAlign);
   const periodChunks = o.periodSeconds ? Math.max(1, Math.round((o.periodSeconds * o.sampleRateHz) / CHUNK_FRAMES)) : Infinity;
   const period: Uint8Array[] = [];
-  const file = await open(o.path, "w");
-  try {
-    const head = header(o, frames);
-    await file.write(head, 0, head.length, 0);
-    let position = head.length;
-    for (let done = 0, chunkIndex = 0; done < frames; chunkIndex++) {
-      const n = Math.min(CHUNK_FRAMES, frames - done);
-      if (chunkIndex >= periodChunks) {
-        const bytes = n * blockAlign;
-        await file.write(period[chunkIndex % periodChunks], 0, bytes, position);
-        position += bytes;
-        done += n;
-        continue;
-      }
-      for (let c = 0; c < o.channels; c++) {
-        let a = state[c];
-        let b0 = filter[3 * c], b1 = filter[3 * c + 1], b2 = filter[3 * c + 2];
-        for (let i = 0, j = c * bytesPerSample; i < n; i++, j += blockAlign) {
-          a = (a + 0x6d2b79f5) >>> 0;
-          let t = Math.imul(a ^ (a >>> 15), a | 1);
-          t ^= t + Math.imul(t ^ (t >>> 7), t | 61);
-          const white = (((t ^ (t >>> 14)) >>> 0) / 4294967296) * 2 - 1;
-          let v = white;
-          if (o.noise === "pink") {
-            b0 = 0.99765 * b0 + white * 0.099046;
-            b1 = 0.963 * b1 + white * 0.2965164;
-            b2 = 0.57 * b2 + white * 1.0526913;
-            v = b0 + b1 + b2 + white * 0.1848;
-          }
-          let q = Math.round(v * gain * fullScale);
-          if (q > maxCode) q = maxCode;
-          else if (q < -fullScale) q = -fullScale;
-          out[j] = q & 0xff;
-          out[j + 1] = (q >> 8) & 0xff;
-          if (bytesPerSample === 3) out[j + 2] = (q >> 16) & 0xff;
-        }
-        state[c] = a;
-        filter[3 * c] = b0;
-        filter[3 * c + 1] = b1;
-        filter[3 * c + 2] = b2;
-      }
-      const bytes = n * blockAlign;
-      if (periodChunks !== Infinity) period.push(out.slice(0, bytes));
-      await file.write(out, 0, bytes, position);
-      position += bytes;
+  for (let done = 0, chunkIndex = 0; done < frames; chunkIndex++) {
+    const n = Math.min(CHUNK_FRAMES, frames - done);
+    if (chunkIndex >= periodChunks) {
+      await put(period[chunkIndex % periodChunks].subarray(0, n * blockAlign));
       done += n;
+      continue;
     }
-    return position;
-  } finally {
-    await file.close();
+    for (let c = 0; c < o.channels; c++) {
+      let a = state[c];
+      let b0 = filter[3 * c], b1 = filter[3 * c + 1], b2 = filter[3 * c + 2];
+      for (let i = 0, j = c * bytesPerSample; i < n; i++, j += blockAlign) {
+        a = (a + 0x6d2b79f5) >>> 0;
+        let t = Math.imul(a ^ (a >>> 15), a | 1);
+        t ^= t + Math.imul(t ^ (t >>> 7), t | 61);
+        const white = (((t ^ (t >>> 14)) >>> 0) / 4294967296) * 2 - 1;
+        let v = white;
+        if (o.noise === "pink") {
+          b0 = 0.99765 * b0 + white * 0.099046;
+          b1 = 0.963 * b1 + white * 0.2965164;
+          b2 = 0.57 * b2 + white * 1.0526913;
+          v = b0 + b1 + b2 + white * 0.1848;
+        }
+        let q = Math.round(v * gain * fullScale);
+        if (q > maxCode) q = maxCode;
+        else if (q < -fullScale) q = -fullScale;
+        out[j] = q & 0xff;
+        out[j + 1] = (q >> 8) & 0xff;
+        if (bytesPerSample === 3) out[j + 2] = (q >> 16) & 0xff;
+      }
+      state[c] = a;
+      filter[3 * c] = b0;
+      filter[3 * c + 1] = b1;
+      filter[3 * c + 2] = b2;
+    }
+    const bytes = n * blockAlign;
+    if (periodChunks !== Infinity) period.push(out.slice(0, bytes));
+    await put(out.subarray(0, bytes));
+    done += n;
   }
 }

@@ -5,6 +5,7 @@
  * Payload-Oxum and a changed tag file. No well-kept BagIt library is in the registries here.
  */
 import { execFileSync, spawnSync } from "node:child_process";
+import { createHash } from "node:crypto";
 import { appendFileSync, cpSync, mkdirSync, mkdtempSync, readdirSync, readFileSync, rmSync, statSync, unlinkSync, writeFileSync } from "node:fs";
 import { tmpdir } from "node:os";
 import path from "node:path";
@@ -106,6 +107,55 @@ describe("tidemark scan --bag", () => {
     const r = await cli(["scan", "day-1", "--bag", "bag-out", "-q"]);
     expect(r.exitCode).toBe(2);
     expect(r.stderr).toMatch(/--bag .*bag-out is not empty/);
+  });
+});
+
+describe("scan --bag with file names that are not UTF-8 (RFC 8493 §2.1.3: manifests are UTF-8; only CR, LF and % are percent-encoded)", () => {
+  const raw = (...parts: (string | number[])[]): Buffer =>
+    Buffer.concat(parts.map((p) => (typeof p === "string" ? Buffer.from(p, "utf8") : Buffer.from(p))));
+  // Latin-1 "café.wav" and "cafè.wav" (both show as "caf\uFFFD.wav"), and one with a "%" beside a Latin-1 byte.
+  const originals = [raw("caf", [0xe9], ".wav"), raw("caf", [0xe8], ".wav"), raw("50%-R", [0xe9], "el.wav")];
+
+  it("copies each under a UTF-8 name that keeps its bytes (%XX), lists it per §2.1.3, and verifies", async () => {
+    mkdirSync(path.join(dir, "latin-1"));
+    originals.forEach((name, i) => writeFileSync(raw(dir, "/latin-1/", [...name]), wav(440 + 110 * i)));
+    const r = await cli(["scan", "latin-1", "--bag", "bag-latin-1", "--format", "json", "-q", "-p", "access-copy"]);
+    expect(r.exitCode, r.stderr).toBe(0);
+    expect(r.stderr).not.toContain("not in the bag");
+    const bag = path.join(dir, "bag-latin-1");
+    const payload = walk(bag).filter((f) => f.startsWith("data/")).sort();
+    expect(payload).toEqual(["data/50%25-R%E9el.wav", "data/caf%E8.wav", "data/caf%E9.wav"]);
+
+    // The manifest read as §2.1.3 says, by this test's own decoder: "%25" stands for "%" (and %0D, %0A for CR, LF).
+    const manifest = readFileSync(path.join(bag, "manifest-sha256.txt"), "utf8");
+    expect(manifest).toContain("  data/caf%25E9.wav\n");
+    expect(manifest).toContain("  data/50%2525-R%25E9el.wav\n");
+    const entries = manifest.trim().split("\n").map((line) => {
+      const [digest, listed] = line.split(/ {2}/);
+      return { digest, file: listed.replace(/%0D/gi, "\r").replace(/%0A/gi, "\n").replace(/%25/g, "%") };
+    });
+    expect(entries.map((e) => e.file).sort()).toEqual(payload);
+    // Each listed digest is the SHA-256 (OpenSSL) of the bag's copy and of the original, read through its Buffer path.
+    const names = new Map(
+      readFileSync(path.join(bag, "tidemark-names.txt"), "utf8").trim().split("\n").map((l) => {
+        const [bytes, listed] = l.split(" ");
+        return [listed.replace(/%25/g, "%"), Buffer.from(bytes, "base64")] as const;
+      }),
+    );
+    for (const e of entries) {
+      const original = names.get(e.file);
+      expect(original, e.file).toBeDefined();
+      // The bag name gives the bytes back: %XX is the byte XX (RFC 3986 §2.1).
+      expect(Buffer.from(e.file.slice("data/".length).replace(/%([0-9A-F]{2})/g, (_, h: string) => String.fromCharCode(parseInt(h, 16))), "latin1")).toEqual(original);
+      const sha = (b: Buffer) => createHash("sha256").update(b).digest("hex");
+      expect(sha(readFileSync(path.join(bag, e.file)))).toBe(e.digest);
+      expect(sha(readFileSync(raw(dir, "/latin-1/", [...original!])))).toBe(e.digest);
+    }
+    expect(readFileSync(path.join(bag, "tagmanifest-sha256.txt"), "utf8")).toContain("  tidemark-names.txt\n");
+
+    const v = await cli(["verify", "bag-latin-1", "--json"]);
+    expect(v.exitCode, v.stdout).toBe(0);
+    expect(JSON.parse(v.stdout)).toMatchObject({ valid: true, payloadFiles: 3, problems: [] });
   });
 });
 

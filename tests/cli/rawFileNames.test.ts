@@ -9,6 +9,7 @@ import { tmpdir } from "node:os";
 import path from "node:path";
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import { scanReportSchema } from "../../shared/src/types/report.ts";
+import { programme } from "../fixtures/fingerprintSignals.ts";
 import { sine } from "../fixtures/synth.ts";
 import { encodeWav } from "../fixtures/wavWriter.ts";
 import { binPath, isolatedEnv, runCli } from "./runCli.ts";
@@ -81,5 +82,28 @@ describe("file names that are not UTF-8", () => {
     const a = scanReportSchema.parse(JSON.parse(first.stdout));
     const b = scanReportSchema.parse(JSON.parse(second.stdout));
     expect(b.files.map((f) => [f.path, f.pathBytes, f.sha256])).toEqual(a.files.map((f) => [f.path, f.pathBytes, f.sha256]));
+  });
+
+  it("match takes a name given as raw bytes, and refuses a lossy name that could be either look-alike", async () => {
+    mkdirSync(path.join(dir, "match"));
+    const wav = (seed: number) => encodeWav([programme({ seed, seconds: 20, sampleRateHz: 48000 })], { sampleRateHz: 48000, bitDepth: 24 });
+    // "Bänd.wav" in Latin-1 (0xE4) beside an unrelated programme.
+    writeFileSync(raw(dir, "/match/B", [0xe4], "nd.wav"), wav(21));
+    writeFileSync(path.join(dir, "match", "other.wav"), wav(22));
+    const scanned = await runCli(["scan", "match", "--out", "m.json", "--quiet"], { cwd: dir, env });
+    expect(scanned.exitCode, scanned.stderr).toBeLessThanOrEqual(1);
+    const out = execFileSync("sh", ["-c", `exec node "$0" match "$(printf 'match/B\\344nd.wav')" --against m.json --json`, binPath], {
+      cwd: dir,
+      env: { ...process.env, ...env, FORCE_COLOR: "0" },
+      encoding: "utf8",
+    });
+    const result = JSON.parse(out) as { fingerprint: { durationSeconds: number }; matches: { path: string; offsetSeconds: number }[] };
+    expect(result.fingerprint.durationSeconds).toBe(20);
+    expect(result.matches.map((m) => m.path)).toEqual(["B\uFFFDnd.wav"]);
+    expect(Math.abs(result.matches[0].offsetSeconds)).toBeLessThanOrEqual(0.1);
+    // Typed as U+FFFD, "caf\uFFFD.wav" names both café and cafè: a usage error saying so, never a guess.
+    const lossy = await runCli(["match", "reels/caf\uFFFD.wav", "--against", "r.json"], { cwd: dir, env });
+    expect(lossy.exitCode).toBe(2);
+    expect(lossy.stderr).toMatch(/could name 2 files whose names are not UTF-8/);
   });
 });

@@ -6,19 +6,17 @@
  * whole bytes). Blocks reach the consumer in order with a fixed frame count, reusing their arrays.
  */
 import { createHash, type Hash } from "node:crypto";
-import { FLACDecoder, type FLACDecodedAudio } from "@wasm-audio-decoders/flac";
 import type { AudioBlock } from "@tidemark/shared/types/analysis";
 import type { Finding } from "@tidemark/shared/types/report";
-import { createFlacFramer, type FlacFramer } from "@tidemark/shared/flac/flacFramer";
+import { createFlacFramer, type FlacFrameHeader, type FlacFramer } from "@tidemark/shared/flac/flacFramer";
 import type { FlacLayout } from "@tidemark/shared/flac/flacLayout";
+import { createLibflacFrames, type LibflacFrames } from "./libflacFrames.ts";
 
-type Event = { kind: "frame"; bytes: Uint8Array; sample: number } | { kind: "gap"; sample: number; frames: number; why: string };
-
-/** Frames handed to libFLAC per call: fewer calls, bounded memory. */
-const FRAMES_PER_CALL = 8;
 const FRAMER_SLICE_BYTES = 256 * 1024;
 /** At most this many decode-error findings per file; the last one says how many more. */
 const MAX_DECODE_FINDINGS = 50;
+/** Decoded bytes gathered before one MD5 update (fewer calls into OpenSSL). */
+const MD5_BATCH_BYTES = 1 << 20;
 
 export interface FlacStreamDecoder {
   push(bytes: Uint8Array, fileOffset: number): Promise<void>;
@@ -34,46 +32,56 @@ export async function createFlacStreamDecoder(
   blockFrames: number,
   onBlock: (block: AudioBlock) => void,
 ): Promise<FlacStreamDecoder> {
-  const decoder = new FLACDecoder();
-  await decoder.ready;
+  const decoder = await createLibflacFrames();
   // Prime libFLAC with STREAMINFO so frames that defer rate or depth to it decode.
-  await decoder.decodeFrames([layout.streamHeader]);
+  decoder.decode(layout.streamHeader);
   return new FlacStream(layout, blockFrames, onBlock, decoder);
 }
 
+/**
+ * Everything runs synchronously inside the framer's callbacks: a frame is copied once into the WebAssembly
+ * heap, decoded, and its samples rescaled once from the heap into the current block (and, for the MD5, into
+ * little-endian bytes). Memory per file: one block (blockFrames × channels float32), the framer's buffer
+ * (about two frames), 1 MiB of MD5 input and libFLAC's heap, whatever the length.
+ */
 class FlacStream implements FlacStreamDecoder {
   framesDecoded = 0;
   findings: Finding[] = [];
   trailingBytes = 0;
   private readonly framer: FlacFramer;
-  private events: Event[] = [];
   private readonly planar: Float32Array[];
   private filled = 0;
   private blockStart = 0;
   private readonly md5: Hash | null;
   private readonly md5Bytes: number;
-  private md5Buffer = new Uint8Array(0);
+  private readonly md5Buffer: Uint8Array;
+  private md5Filled = 0;
   private decodeErrors = 0;
   private afterGap = false;
   private overran = false;
   private dataStarted = false;
+  private readonly libScale: number;
+  private readonly inverse: number;
 
   constructor(
     private readonly layout: FlacLayout,
     private readonly blockFrames: number,
     private readonly onBlock: (block: AudioBlock) => void,
-    private readonly decoder: FLACDecoder,
+    private readonly decoder: LibflacFrames,
   ) {
     const channels = layout.channels;
     this.planar = Array.from({ length: channels }, () => new Float32Array(blockFrames));
     this.framer = createFlacFramer(layout.streamInfo, layout.dataOffset, {
-      frame: (bytes, header) => this.events.push({ kind: "frame", bytes: bytes.slice(), sample: header.sampleNumber }),
-      gap: (sample, frames, _offset, why) => this.events.push({ kind: "gap", sample, frames, why }),
+      frame: (bytes, header) => this.frame(bytes, header),
+      gap: (sample, frames, _offset, why) => this.gap(sample, frames, why),
     });
     const bits = layout.streamInfo.bitsPerSample;
     // libFLAC hands out float32: exact for codes up to 24 bits, so the MD5 can be rebuilt only up to there.
     this.md5 = layout.streamInfo.md5 !== null && bits <= 24 ? createHash("md5") : null;
     this.md5Bytes = Math.ceil(bits / 8);
+    this.md5Buffer = new Uint8Array(this.md5 ? MD5_BATCH_BYTES : 0);
+    this.libScale = 2 ** (bits - 1) - 1;
+    this.inverse = 1 / 2 ** (bits - 1);
   }
 
   async push(bytes: Uint8Array, fileOffset: number): Promise<void> {
@@ -81,131 +89,148 @@ class FlacStream implements FlacStreamDecoder {
     if (fileOffset + bytes.length <= start) return;
     const from = Math.max(0, start - fileOffset);
     this.dataStarted = true;
-    // In slices, so the framer's buffer stays near one frame's size instead of one read's (4 MiB).
+    // In slices, so the framer's buffer stays near one frame's size instead of one read's.
     for (let at = from; at < bytes.length; at += FRAMER_SLICE_BYTES) {
       this.framer.push(bytes.subarray(at, Math.min(bytes.length, at + FRAMER_SLICE_BYTES)));
-      await this.drain();
     }
   }
 
   async finish(): Promise<void> {
     if (this.dataStarted) this.trailingBytes = this.framer.finish().trailingBytes;
-    await this.drain();
     this.flushBlock();
+    this.flushMd5();
     this.decoder.free();
     this.closingFindings();
   }
 
-  private async drain(): Promise<void> {
-    const events = this.events;
-    this.events = [];
-    let batch: Uint8Array[] = [];
-    for (const e of events) {
-      if (e.kind === "frame") {
-        batch.push(e.bytes);
-        if (batch.length >= FRAMES_PER_CALL) {
-          await this.decodeBatch(batch);
-          batch = [];
-        }
-      } else {
-        await this.decodeBatch(batch);
-        batch = [];
-        this.gap(e.sample, e.frames, e.why);
-      }
-    }
-    await this.decodeBatch(batch);
-  }
-
-  private async decodeBatch(frames: Uint8Array[]): Promise<void> {
-    if (frames.length === 0) return;
-    // The decoder logs its errors to the console; they come back in `errors` and become findings instead.
-    const log = console.error;
-    console.error = () => undefined;
-    let pending: Promise<FLACDecodedAudio>;
-    try {
-      pending = this.decoder.decodeFrames(frames);
-    } finally {
-      console.error = log;
-    }
-    const decoded = await pending;
-    for (const error of decoded.errors) {
+  private frame(bytes: Uint8Array, header: FlacFrameHeader): void {
+    const decoded = this.decoder.decode(bytes);
+    const samples = Math.min(decoded.samples, header.blockSize);
+    const error = decoded.error;
+    if (samples < header.blockSize) {
+      const lost = header.blockSize - samples;
+      this.decodeError(header.sampleNumber + samples, lost, `libFLAC decoded ${samples} of the frame's ${header.blockSize} samples${error ? ` (${error})` : ""}`);
+    } else if (error !== null && !(this.afterGap && /MISSING_FRAME/.test(error))) {
       // After a gap libFLAC notices the frame numbers jump; that loss is already reported.
-      if (this.afterGap && /MISSING_FRAME/.test(error.message)) continue;
-      this.decodeError(this.blockStart + this.filled, 0, `libFLAC: ${error.message}`);
+      this.decodeError(header.sampleNumber, 0, `libFLAC: ${error}`);
     }
     this.afterGap = false;
-    const kept = this.room(decoded.samplesDecoded);
-    if (kept > 0) this.rescaleAndHash(decoded.channelData, kept);
-    this.emit(decoded.channelData, kept);
+    const kept = this.room(samples);
+    if (kept > 0) this.take(decoded.data, decoded.samples, kept);
+    // A frame libFLAC gave back short keeps its length, as silence, so later times stay right.
+    if (samples < header.blockSize) this.silence(header.blockSize - samples);
   }
 
   /**
    * libFLAC's WebAssembly build divides by 2^(bits−1) − 1; the codes are recovered exactly (up to 24 bits) and
    * put on the reader's common scale, 2^(bits−1), so a FLAC and the WAV it came from give identical samples.
    * The same pass writes the codes, interleaved little-endian in whole bytes, as STREAMINFO's MD5 input.
+   * `data` is planar with `stride` samples a channel; the first `frames` of each are taken.
    */
-  private rescaleAndHash(channels: Float32Array[], frames: number): void {
-    const bits = this.layout.streamInfo.bitsPerSample;
-    const libScale = 2 ** (bits - 1) - 1;
-    const inverse = 1 / 2 ** (bits - 1);
-    if (bits > 24) {
-      const k = libScale * inverse;
-      for (const x of channels) for (let i = 0; i < frames; i++) x[i] *= k;
-      return;
+  private take(data: Float32Array, stride: number, frames: number): void {
+    const rowBytes = this.planar.length * this.md5Bytes;
+    let at = 0;
+    while (at < frames) {
+      let n = Math.min(frames - at, this.blockFrames - this.filled);
+      if (this.md5) {
+        if (this.md5Buffer.length - this.md5Filled < rowBytes) this.flushMd5();
+        n = Math.min(n, Math.floor((this.md5Buffer.length - this.md5Filled) / rowBytes));
+      }
+      this.rescale(data, stride, at, n);
+      at += n;
+      if (this.filled === this.blockFrames) this.flushBlock();
     }
-    // Rounding by a bias and |0 (exact here: every value is within 1e-6 of an integer code ≤ 2^23): Math.round in
-    // this loop measured about ten times slower on the project's machine (Node 20).
-    const offset = 2 ** (bits - 1);
-    const bias = offset + 0.5;
+  }
+
+  private rescale(data: Float32Array, stride: number, from: number, frames: number): void {
+    const count = this.planar.length;
+    const libScale = this.libScale;
+    const inverse = this.inverse;
+    const to = this.filled;
+    this.filled += frames;
     if (!this.md5) {
-      for (const x of channels) for (let i = 0; i < frames; i++) x[i] = (((x[i] * libScale + bias) | 0) - offset) * inverse;
+      if (this.md5Bytes > 3) {
+        const k = libScale * inverse;
+        for (let c = 0; c < count; c++) {
+          const x = this.planar[c];
+          for (let i = 0, s = c * stride + from; i < frames; i++, s++) x[to + i] = data[s] * k;
+        }
+        return;
+      }
+      // Rounding by a bias and |0 (exact here: every value is within 1e-6 of an integer code ≤ 2^23): Math.round in
+      // this loop measured about ten times slower on the project's machine (Node 20).
+      const offset = 2 ** (this.layout.streamInfo.bitsPerSample - 1);
+      const bias = offset + 0.5;
+      for (let c = 0; c < count; c++) {
+        const x = this.planar[c];
+        for (let i = 0, s = c * stride + from; i < frames; i++, s++) x[to + i] = (((data[s] * libScale + bias) | 0) - offset) * inverse;
+      }
       return;
     }
+    const offset = 2 ** (this.layout.streamInfo.bitsPerSample - 1);
+    const bias = offset + 0.5;
     const width = this.md5Bytes;
-    const count = channels.length;
-    const stride = count * width;
-    const need = frames * stride;
-    if (this.md5Buffer.length < need) this.md5Buffer = new Uint8Array(need);
+    const rowBytes = count * width;
     const out = this.md5Buffer;
+    const base = this.md5Filled;
+    this.md5Filled += frames * rowBytes;
     for (let c = 0; c < count; c++) {
-      const x = channels[c];
-      let j = c * width;
+      const x = this.planar[c];
+      let j = base + c * width;
+      let s = c * stride + from;
       if (width === 3) {
-        for (let i = 0; i < frames; i++, j += stride) {
-          const v = ((x[i] * libScale + bias) | 0) - offset;
-          x[i] = v * inverse;
+        for (let i = 0; i < frames; i++, j += rowBytes, s++) {
+          const v = ((data[s] * libScale + bias) | 0) - offset;
+          x[to + i] = v * inverse;
           out[j] = v;
           out[j + 1] = v >> 8;
           out[j + 2] = v >> 16;
         }
       } else if (width === 2) {
-        for (let i = 0; i < frames; i++, j += stride) {
-          const v = ((x[i] * libScale + bias) | 0) - offset;
-          x[i] = v * inverse;
+        for (let i = 0; i < frames; i++, j += rowBytes, s++) {
+          const v = ((data[s] * libScale + bias) | 0) - offset;
+          x[to + i] = v * inverse;
           out[j] = v;
           out[j + 1] = v >> 8;
         }
       } else {
-        for (let i = 0; i < frames; i++, j += stride) {
-          const v = ((x[i] * libScale + bias) | 0) - offset;
-          x[i] = v * inverse;
+        for (let i = 0; i < frames; i++, j += rowBytes, s++) {
+          const v = ((data[s] * libScale + bias) | 0) - offset;
+          x[to + i] = v * inverse;
           out[j] = v;
         }
       }
     }
-    this.md5.update(out.subarray(0, need));
+  }
+
+  private flushMd5(): void {
+    if (this.md5 && this.md5Filled > 0) this.md5.update(this.md5Buffer.subarray(0, this.md5Filled));
+    this.md5Filled = 0;
   }
 
   private gap(sample: number, frames: number, why: string): void {
     this.decodeError(sample, frames, why);
     this.afterGap = true;
-    // Silence keeps every later time right; the MD5 then disagrees, as it should for damaged audio.
-    const zeros = this.planar.map(() => new Float32Array(Math.min(frames, 65536)));
+    this.silence(frames);
+  }
+
+  /** Silence keeps every later time right; the MD5 then disagrees, as it should for damaged audio. */
+  private silence(frames: number): void {
     for (let left = this.room(frames); left > 0; ) {
-      const n = Math.min(left, 65536);
-      this.md5?.update(new Uint8Array(n * this.planar.length * this.md5Bytes));
-      this.emit(zeros, n);
+      const n = Math.min(left, this.blockFrames - this.filled);
+      for (const x of this.planar) x.fill(0, this.filled, this.filled + n);
+      this.filled += n;
       left -= n;
+      if (this.md5) {
+        for (let bytes = n * this.planar.length * this.md5Bytes; bytes > 0; ) {
+          if (this.md5Filled === this.md5Buffer.length) this.flushMd5();
+          const k = Math.min(bytes, this.md5Buffer.length - this.md5Filled);
+          this.md5Buffer.fill(0, this.md5Filled, this.md5Filled + k);
+          this.md5Filled += k;
+          bytes -= k;
+        }
+      }
+      if (this.filled === this.blockFrames) this.flushBlock();
     }
   }
 
@@ -243,17 +268,6 @@ class FlacStream implements FlacStreamDecoder {
       });
     }
     return frames;
-  }
-
-  private emit(channels: Float32Array[], frames: number): void {
-    let at = 0;
-    while (at < frames) {
-      const n = Math.min(frames - at, this.blockFrames - this.filled);
-      for (let c = 0; c < this.planar.length; c++) this.planar[c].set(channels[c].subarray(at, at + n), this.filled);
-      this.filled += n;
-      at += n;
-      if (this.filled === this.blockFrames) this.flushBlock();
-    }
   }
 
   private flushBlock(): void {

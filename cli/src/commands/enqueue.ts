@@ -82,7 +82,8 @@ export async function enqueueCommand(paths: string[], options: EnqueueOptions, i
         tool: toolInfo(),
       })
     ).body;
-    const files = crawl.files.map((f): EnqueueFileDto => ({ path: f.relPath, sizeBytes: f.sizeBytes, mtimeMs: f.mtimeMs }));
+    // A name that is not UTF-8 goes with its exact bytes, so the worker opens that file and not a look-alike.
+    const files = crawl.files.map((f): EnqueueFileDto => ({ path: f.relPath, ...(f.pathBytes ? { pathBytes: f.pathBytes } : {}), sizeBytes: f.sizeBytes, mtimeMs: f.mtimeMs }));
     for (const chunk of chunkFiles(files)) {
       const { body } = await api.postJson<EnqueueFilesResultDto>(`/api/runs/${created.run.id}/files`, { files: chunk });
       totals.added += body.added;

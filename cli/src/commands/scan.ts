@@ -18,7 +18,7 @@ import { loadProfile } from "../profiles/loadProfile.ts";
 import type { ScanContext } from "../scan/analyseFile.ts";
 import { errorReport } from "../scan/errorReport.ts";
 import { fileKey } from "../scan/rawPath.ts";
-import { assertBagTarget, writeBag, type BagFile } from "../fixity/bag.ts";
+import { assertBagTarget, bagNameOf, writeBag, type BagFile } from "../fixity/bag.ts";
 import { expectedChecksums } from "../fixity/sidecars.ts";
 import { crawlFiles, type CrawledFile } from "../scan/crawlFiles.ts";
 import { junitSuitesOf } from "../scan/scanRoots.ts";
@@ -85,12 +85,21 @@ async function uploadReport(report: ScanReport, target: UploadTarget, defaultCol
 async function writeScanBag(dir: string, given: string[], report: ScanReport, files: readonly CrawledFile[], io: CliIo): Promise<void> {
   const byPath = new Map(files.map((f) => [fileKey(f), f]));
   const bagged: BagFile[] = [];
+  const names = new Set<string>();
   for (const f of report.files) {
     const crawled = byPath.get(fileKey(f));
-    // BagIt manifests name files in UTF-8 (RFC 8493, 2.1.3): a name that is not UTF-8 cannot be listed.
-    if (crawled && typeof crawled.absPath !== "string") io.stderr.write(`tidemark: warning: ${f.path} is not in the bag: its name is not UTF-8\n`);
-    else if (f.sha256 && crawled && typeof crawled.absPath === "string") bagged.push({ absPath: crawled.absPath, relPath: f.path, sha256: f.sha256 });
-    else io.stderr.write(`tidemark: warning: ${f.path} is not in the bag: it could not be read\n`);
+    if (!f.sha256 || !crawled) {
+      io.stderr.write(`tidemark: warning: ${f.path} is not in the bag: it could not be read\n`);
+      continue;
+    }
+    // BagIt manifests are UTF-8 (RFC 8493 §2.1.3): a name that is not is copied under bagNameOf's name.
+    const relPath = f.pathBytes ? bagNameOf(Buffer.from(f.pathBytes, "base64")) : f.path;
+    if (names.has(relPath)) {
+      io.stderr.write(`tidemark: warning: ${f.path} is not in the bag: its name in the bag, data/${relPath}, is another file's\n`);
+      continue;
+    }
+    names.add(relPath);
+    bagged.push({ absPath: crawled.absPath, relPath, sha256: f.sha256, ...(f.pathBytes ? { pathBytes: f.pathBytes } : {}) });
   }
   const written = await writeBag(path.resolve(io.cwd, dir), bagged, {
     info: [

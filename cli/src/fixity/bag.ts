@@ -3,6 +3,7 @@
  * `tidemark scan --bag OUTDIR`. The rules live in shared/src/fixity/bagit.ts; this module only reads,
  * hashes (each file once, every algorithm the manifests name) and copies.
  */
+import { isUtf8 } from "node:buffer";
 import { createHash, type Hash } from "node:crypto";
 import { createReadStream, createWriteStream } from "node:fs";
 import { mkdir, readdir, readFile, stat, writeFile } from "node:fs/promises";
@@ -13,6 +14,7 @@ import {
   BAG_ALGORITHMS,
   bagitTxt,
   BagFormatError,
+  encodeBagPath,
   formatManifest,
   formatTagFile,
   judgeBag,
@@ -25,6 +27,7 @@ import {
 } from "@tidemark/shared/fixity/bagit";
 import { UsageError } from "../errors.ts";
 import type { ScanProgress } from "../scan/progress.ts";
+import type { FsPath } from "../scan/rawPath.ts";
 
 export async function isBag(dir: string): Promise<boolean> {
   const s = await stat(path.join(dir, "bagit.txt")).catch(() => null);
@@ -131,10 +134,41 @@ export async function bagSize(bagDir: string): Promise<{ files: number; bytes: n
 }
 
 export interface BagFile {
-  absPath: string;
+  /** The scanned file (a Buffer when its name is not UTF-8). */
+  absPath: FsPath;
+  /** Its path inside data/ (always UTF-8: see bagNameOf). */
   relPath: string;
   sha256: string;
+  /** The original relative path's bytes, base64, when the name in the bag differs from them (not UTF-8). */
+  pathBytes?: string;
 }
+
+/**
+ * The bag's name for a relative path whose bytes are not UTF-8. A manifest is UTF-8 text and may
+ * percent-encode only CR, LF and % (RFC 8493 §2.1.3), so the name itself cannot be listed; the copy in the
+ * bag is named instead with every byte that is not part of a valid UTF-8 character written as %XX and every
+ * "%" as %25 (so the bytes can be recovered from the name, as from a URI, RFC 3986 §2.1). The manifest then
+ * lists that name with its "%" encoded once more, as §2.1.3 asks; `tidemark-names.txt` gives the bytes.
+ */
+export function bagNameOf(bytes: Uint8Array): string {
+  let out = "";
+  for (let i = 0; i < bytes.length; ) {
+    const b = bytes[i];
+    const length = b < 0x80 ? 1 : b >> 5 === 6 ? 2 : b >> 4 === 14 ? 3 : b >> 3 === 30 ? 4 : 0;
+    const char = length > 0 && i + length <= bytes.length ? bytes.subarray(i, i + length) : null;
+    if (char && isUtf8(char)) {
+      out += b === 0x25 ? "%25" : Buffer.from(char).toString("utf8");
+      i += length;
+    } else {
+      out += `%${b.toString(16).toUpperCase().padStart(2, "0")}`;
+      i += 1;
+    }
+  }
+  return out;
+}
+
+/** Lists the original bytes of payload files renamed by bagNameOf (only written when there are any). */
+export const BAG_NAMES_FILE = "tidemark-names.txt";
 
 /** Copies `file` to `target`, hashing what was written: a copy that differs from the scan is an error. */
 async function copyVerified(file: BagFile, target: string): Promise<number> {
@@ -183,10 +217,12 @@ export async function writeBag(bagDir: string, files: readonly BagFile[], option
 
   let octets = 0;
   const manifest: ManifestEntry[] = [];
+  const renamed: string[] = [];
   for (const file of files) {
     const rel = `data/${file.relPath}`;
     octets += await copyVerified(file, path.join(bagDir, ...rel.split("/")));
     manifest.push({ path: rel, digest: file.sha256 });
+    if (file.pathBytes) renamed.push(`${file.pathBytes} ${encodeBagPath(rel)}\n`);
   }
   const tag = new Map<string, string>([
     ["bagit.txt", bagitTxt()],
@@ -201,6 +237,8 @@ export async function writeBag(bagDir: string, files: readonly BagFile[], option
     ["manifest-sha256.txt", formatManifest(manifest)],
   ]);
   for (const t of options.tagFiles) tag.set(t.name, t.text);
+  // A tag file of our own (RFC 8493 §2.2.4): each renamed payload file's original path bytes (base64), then its path in the bag.
+  if (renamed.length > 0) tag.set(BAG_NAMES_FILE, renamed.join(""));
   const tagManifest: ManifestEntry[] = [];
   for (const [name, text] of tag) {
     await writeFile(path.join(bagDir, name), text, { flag: "wx" });

@@ -3,8 +3,9 @@ import { createFingerprinter, type Fingerprint } from "@tidemark/shared/fingerpr
 import type { BlockAnalyser } from "@tidemark/shared/types/analysis";
 import { readAudioFile } from "../audio/readAudioFile.ts";
 import { oneLine, UsageError } from "../errors.ts";
+import { displayPath, type FsPath } from "../scan/rawPath.ts";
 
-export async function fingerprintAudioFile(absPath: string, shownPath: string): Promise<Fingerprint> {
+export async function fingerprintAudioFile(absPath: FsPath, shownPath: string): Promise<Fingerprint> {
   let fingerprinter: BlockAnalyser<Fingerprint> | null = null;
   try {
     await readAudioFile(absPath, {
@@ -17,7 +18,7 @@ export async function fingerprintAudioFile(absPath: string, shownPath: string): 
   } catch (error) {
     const code = (error as { code?: string }).code;
     if (code === "ENOENT" || code === "not-found") throw new UsageError(`file not found: ${shownPath}`);
-    throw new UsageError(`cannot fingerprint ${shownPath}: ${oneLine(error).split(absPath).join(shownPath)}`);
+    throw new UsageError(`cannot fingerprint ${shownPath}: ${oneLine(error).split(displayPath(absPath)).join(shownPath)}`);
   }
   if (!fingerprinter) throw new UsageError(`cannot fingerprint ${shownPath}: the audio stream was never opened`);
   return (fingerprinter as BlockAnalyser<Fingerprint>).finish();

@@ -10,7 +10,7 @@ import { assembleReport } from "@tidemark/shared/report/assembleReport";
 import { reportToJson } from "@tidemark/shared/report/jsonReport";
 import type { ClaimedJobDto } from "@tidemark/shared/types/api";
 import type { ScanReport } from "@tidemark/shared/types/report";
-import { resolveLossyPath, type FsPath } from "../scan/rawPath.ts";
+import { fromBytes, resolveLossyPath, type FsPath } from "../scan/rawPath.ts";
 import { channelSpectrogramPath, spectrogramPaths } from "../scan/spectrogramPaths.ts";
 import type { PartField } from "../upload/ingestClient.ts";
 import { partsOfFile } from "../upload/reportImages.ts";
@@ -31,10 +31,15 @@ export interface JobOutcome {
 export class FileMissingError extends Error {}
 
 /**
- * The queue carries display paths; a name that is not UTF-8 shows U+FFFD there and is found again by its
- * bytes (rawPath.ts) when exactly one file in its folder looks like it.
+ * Where the job's file is here. A name that is not UTF-8 comes with its exact bytes (`pathBytes`): the local
+ * root (the display path less the report path) joined with them. A job without them (from an older CLI) is
+ * found by its display form (rawPath.ts) when exactly one file in its folder looks like it.
  */
-async function locate(localPath: string): Promise<FsPath> {
+export async function locate(job: Pick<ClaimedJobDto, "path" | "pathBytes">, localPath: string): Promise<FsPath> {
+  if (job.pathBytes && localPath.endsWith(`/${job.path}`)) {
+    const root = localPath.slice(0, localPath.length - job.path.length);
+    return fromBytes(Buffer.concat([Buffer.from(root, "utf8"), Buffer.from(job.pathBytes, "base64")]));
+  }
   if (!localPath.includes("\ufffd")) return localPath;
   const found = await resolveLossyPath(localPath);
   return found.length === 1 ? found[0] : localPath;
@@ -47,14 +52,14 @@ export interface JobProgress {
 }
 
 export async function scanJob(job: ClaimedJobDto, localPath: string, engine: ScanEngine, progress?: JobProgress): Promise<JobOutcome> {
-  const absPath = await locate(localPath);
+  const absPath = await locate(job, localPath);
   const found = await stat(absPath).catch((e: { code?: string }) => {
     throw new FileMissingError(`${localPath} is not reachable from this worker (${e.code ?? String(e)}): is the shared storage mounted here?`);
   });
   if (!found.isFile()) throw new FileMissingError(`${localPath} is not a regular file`);
   const startedAt = new Date().toISOString();
   progress?.started(job.path, found.size);
-  const result = await engine.pool.run({ kind: "analyse", absPath, relPath: job.path, sizeBytes: found.size }, (bytes) => progress?.read(job.path, bytes));
+  const result = await engine.pool.run({ kind: "analyse", absPath, relPath: job.path, ...(job.pathBytes ? { pathBytes: job.pathBytes } : {}), sizeBytes: found.size }, (bytes) => progress?.read(job.path, bytes));
   if (result.kind !== "analysed") throw new Error(`expected a measurement, got ${result.kind}`);
   const { file } = result;
   const report = assembleReport(

@@ -1,7 +1,7 @@
 /**
  * `--workers 1` runs the scan tasks on the main thread instead of one worker thread: the same code and
  * results, without a second V8 isolate and tsx loader (about 25 MB less peak RSS, and no worker start-up).
- * The event loop still turns between the reader's 4 MiB reads, so Ctrl-C and progress stay responsive.
+ * The event loop still turns between the reader's 1 MiB reads, so Ctrl-C and progress stay responsive.
  */
 import type { ScanContext } from "./analyseFile.ts";
 import type { ScanTask, ScanTaskResult } from "./scanTask.ts";

@@ -6,7 +6,7 @@
  */
 import { isUtf8 } from "node:buffer";
 import { readFileSync } from "node:fs";
-import { readdir } from "node:fs/promises";
+import { readdir, stat } from "node:fs/promises";
 import path from "node:path";
 
 /** What node:fs opens: a string when the path is valid UTF-8, otherwise its raw bytes. */
@@ -119,4 +119,21 @@ export async function resolveLossyPath(absolute: string): Promise<FsPath[]> {
     if (candidates.length === 0) break;
   }
   return candidates;
+}
+
+/**
+ * The files a path typed on the command line names: itself when it exists (or has no U+FFFD); otherwise, for
+ * a name that arrived lossily decoded, its exact bytes from the command line, or every file that looks like it.
+ */
+export async function argumentPaths(given: string, cwd: string): Promise<FsPath[]> {
+  const resolved = path.resolve(cwd, given);
+  if (!resolved.includes("\ufffd")) return [resolved];
+  const exists = await stat(resolved).then(
+    () => true,
+    () => false,
+  );
+  if (exists) return [resolved];
+  const exact = rawArgument(given);
+  if (exact) return [path.isAbsolute(given) ? exact : joinPath(cwd, exact)];
+  return resolveLossyPath(resolved);
 }

@@ -16,6 +16,8 @@ export class ScanJob extends Model<InferAttributes<ScanJob>, InferCreationAttrib
   declare runId: ForeignKey<ScanRun["id"]>;
   /** Relative to the run's root, forward slashes: the report path. */
   declare path: string;
+  /** Exact bytes of a relative path that is not UTF-8, base64 (the report's `pathBytes`); null otherwise. */
+  declare pathBytes: CreationOptional<string | null>;
   /** BIGINT: pg returns it as a string. */
   declare sizeBytes: string | number;
   declare mtimeMs: number;
@@ -44,6 +46,7 @@ export class ScanJob extends Model<InferAttributes<ScanJob>, InferCreationAttrib
       {
         id: { type: DataTypes.INTEGER, autoIncrement: true, primaryKey: true },
         path: { type: DataTypes.TEXT, allowNull: false },
+        pathBytes: { type: DataTypes.TEXT, allowNull: true },
         sizeBytes: { type: DataTypes.BIGINT, allowNull: false },
         mtimeMs: { type: DataTypes.DOUBLE, allowNull: false },
         queueJobId: { type: DataTypes.UUID, allowNull: false, unique: true },

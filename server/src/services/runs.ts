@@ -26,6 +26,7 @@ import { ScanJob, ScanRun } from "../models/index.ts";
 import { actingUser, isAdmin, type Actor } from "./actor.ts";
 import { recordAudit } from "./audit.ts";
 import { lockCollection, upsertCollection } from "./fileResultStore.ts";
+import { pathKey } from "./ingestRows.ts";
 import { toScanJobDto, toScanRunDetailDto, toScanRunDto } from "./runsDto.ts";
 import { runStats } from "./runsStatus.ts";
 import { checkRunProfile } from "./runsValidation.ts";
@@ -132,8 +133,10 @@ export async function createOrFindRun(ctx: AppContext, actor: Actor, input: Crea
 export async function enqueueFiles(ctx: AppContext, actor: Actor, runId: number, files: EnqueueFileDto[]): Promise<EnqueueFilesResultDto> {
   const seen = new Set<string>();
   for (const f of files) {
-    if (seen.has(f.path)) throw conflict(`files lists "${f.path}" twice`, "duplicate_path");
-    seen.add(f.path);
+    // Two names that are not UTF-8 may show the same path; their bytes tell them apart.
+    const key = pathKey(f.path, f.pathBytes);
+    if (seen.has(key)) throw conflict(`files lists "${f.path}" twice`, "duplicate_path");
+    seen.add(key);
   }
   const queue = jobQueueFor(ctx.sequelize);
   return ctx.sequelize.transaction(async (transaction) => {
@@ -141,13 +144,13 @@ export async function enqueueFiles(ctx: AppContext, actor: Actor, runId: number,
     const run = await ScanRun.findByPk(runId, { transaction, lock: transaction.LOCK.UPDATE });
     if (!run) throw notFound("run", runId);
     const existing = new Map(
-      (await ScanJob.findAll({ where: { runId, path: files.map((f) => f.path) }, transaction })).map((j) => [j.path, j]),
+      (await ScanJob.findAll({ where: { runId, path: files.map((f) => f.path) }, transaction })).map((j) => [pathKey(j.path, j.pathBytes), j]),
     );
     const result: EnqueueFilesResultDto = { added: 0, requeued: 0, alreadyDone: 0, pending: 0, changed: [] };
     const toSend: { queueJobId: string; data: { scanJobId: number; runId: number; queueJobId: string } }[] = [];
     const fresh: { file: EnqueueFileDto; queueJobId: string }[] = [];
     for (const file of files) {
-      const job = existing.get(file.path);
+      const job = existing.get(pathKey(file.path, file.pathBytes));
       const same = job !== undefined && Number(job.sizeBytes) === file.sizeBytes && job.mtimeMs === file.mtimeMs;
       if (!job) {
         fresh.push({ file, queueJobId: orderedJobId() });
@@ -170,6 +173,7 @@ export async function enqueueFiles(ctx: AppContext, actor: Actor, runId: number,
         fresh.map(({ file, queueJobId }) => ({
           runId,
           path: file.path,
+          pathBytes: file.pathBytes ?? null,
           sizeBytes: file.sizeBytes,
           mtimeMs: file.mtimeMs,
           queueJobId,

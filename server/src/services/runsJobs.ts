@@ -87,6 +87,7 @@ export async function claimJobs(ctx: AppContext, actor: Actor, worker: string, m
           runId: run.id,
           collection: run.collection!.name,
           path: job.path,
+          ...(job.pathBytes ? { pathBytes: job.pathBytes } : {}),
           absPath: absolutePath(run.root, job.path),
           sizeBytes: Number(job.sizeBytes),
           mtimeMs: job.mtimeMs,

@@ -100,6 +100,10 @@ export async function storeJobResult(ctx: AppContext, actor: Actor, jobId: numbe
   if (input.report.files.length !== 1) throw unprocessable(`a job result carries exactly one file, got ${input.report.files.length}`);
   const file = input.report.files[0];
   if (file.path !== job.path) throw unprocessable(`the result is for "${file.path}" but job ${jobId} scans "${job.path}"`, "wrong_file");
+  // Look-alike names (not UTF-8) show the same path: the bytes must be this job's too.
+  if ((file.pathBytes ?? null) !== (job.pathBytes ?? null)) {
+    throw unprocessable(`the result is for "${file.path}" with pathBytes ${file.pathBytes ?? "none"} but job ${jobId} has ${job.pathBytes ?? "none"}`, "wrong_file");
+  }
   if (job.fileResultId !== null) {
     const run = await ScanRun.findByPk(job.runId);
     return { jobId, runId: job.runId, batchId: run!.batchId, fileResultId: job.fileResultId, created: false };

@@ -25,6 +25,13 @@ const relativePath = z
     message: 'must be relative to the run\'s root, with "/" between folder names and no "." or ".." parts',
   });
 
+/** A relative path's exact bytes, base64 (RFC 4648), sent only when they are not UTF-8. */
+const pathBytes = z
+  .string()
+  .min(4)
+  .max(8192)
+  .regex(/^(?:[A-Za-z0-9+/]{4})*(?:[A-Za-z0-9+/]{2}==|[A-Za-z0-9+/]{3}=)?$/, "must be base64 (RFC 4648)");
+
 export const createRunSchema = z
   .object({
     collection: label(200),
@@ -43,11 +50,18 @@ export const enqueueFilesSchema = z
   .object({
     files: z
       .array(
-        z.object({
-          path: relativePath,
-          sizeBytes: z.number().int().min(0).max(Number.MAX_SAFE_INTEGER),
-          mtimeMs: z.number().finite().min(0),
-        }).strict(),
+        z
+          .object({
+            path: relativePath,
+            pathBytes: pathBytes.optional(),
+            sizeBytes: z.number().int().min(0).max(Number.MAX_SAFE_INTEGER),
+            mtimeMs: z.number().finite().min(0),
+          })
+          .strict()
+          .refine((f) => f.pathBytes === undefined || Buffer.from(f.pathBytes, "base64").toString("utf8") === f.path, {
+            message: "pathBytes must be the bytes of path (path is how they show, with U+FFFD for bytes that are not UTF-8)",
+            path: ["pathBytes"],
+          }),
       )
       .min(1)
       .max(MAX_FILES_PER_ENQUEUE, `at most ${MAX_FILES_PER_ENQUEUE} files a request; send the rest in further requests`),

@@ -20,7 +20,8 @@ export function summarizeVerdicts(files: readonly FileReport[]): ReportSummary {
 }
 
 export function assembleReport(header: ReportHeader, files: readonly FileReport[]): ScanReport {
-  const sorted = [...files].sort((a, b) => compareReportPaths(a.path, b.path));
+  // Look-alike names (not UTF-8) show the same path: their bytes keep the order the same from run to run.
+  const sorted = [...files].sort((a, b) => compareReportPaths(a.path, b.path) || byBytes(a.pathBytes, b.pathBytes));
   return {
     schema: REPORT_SCHEMA_ID,
     tool: header.tool,
@@ -32,3 +33,8 @@ export function assembleReport(header: ReportHeader, files: readonly FileReport[
   };
 }
 
+function byBytes(a: string | undefined, b: string | undefined): number {
+  const x = a ?? "";
+  const y = b ?? "";
+  return x < y ? -1 : x > y ? 1 : 0;
+}

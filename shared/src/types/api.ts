@@ -520,6 +520,8 @@ export interface CreateRunResultDto {
 export interface EnqueueFileDto {
   /** Relative to the run's root, forward slashes (the report path). */
   path: string;
+  /** The relative path's exact bytes, base64, when they are not UTF-8 (`path` then shows U+FFFD). */
+  pathBytes?: string;
   sizeBytes: number;
   mtimeMs: number;
 }
@@ -560,7 +562,9 @@ export interface ClaimedJobDto {
   collection: string;
   /** Report path, relative to the run's root. */
   path: string;
-  /** Where the file is on the shared storage. */
+  /** The relative path's exact bytes, base64, when they are not UTF-8: the worker opens root + these bytes. */
+  pathBytes?: string;
+  /** Where the file is on the shared storage (as shown: a name that is not UTF-8 has U+FFFD here). */
   absPath: string;
   sizeBytes: number;
   mtimeMs: number;

@@ -1,0 +1,118 @@
+/**
+ * One FLAC frame at a time through libFLAC's WebAssembly build (@wasm-audio-decoders/flac, pinned), reading
+ * the decoded samples straight from the WebAssembly heap. The package's public `decodeFrames` copies every
+ * frame's output twice (a slice per channel, then a concatenation per call) and returns new arrays each time;
+ * on a 600 s stereo file that was ≈ 0.15 s and 350 MB of garbage. Here the caller gets a view of the heap,
+ * valid until the next call, and rescales it once into its own blocks.
+ *
+ * This uses the package's internals (its `_decoder` and the C functions `decode_frame`, `malloc`, `free`, as
+ * in its src/FLACDecoder.js and src/flac_decoder.c); `createLibflacFrames` checks they are there and says so
+ * if an upgrade moved them (tests/cli/audioFormats.test.ts decodes through this module).
+ */
+import { FLACDecoder } from "@wasm-audio-decoders/flac";
+
+export interface DecodedFrame {
+  /** Sample frames decoded (0 when libFLAC could not decode the frame). */
+  samples: number;
+  channels: number;
+  /** Planar float samples, channel c at [c·samples, (c+1)·samples), each divided by 2^(bits−1) − 1 by libFLAC. */
+  data: Float32Array;
+  /** libFLAC's error and state strings, or null. */
+  error: string | null;
+}
+
+export interface LibflacFrames {
+  /** Decodes one whole frame (or the stream header, to prime the decoder). The result is valid until the next call. */
+  decode(frame: Uint8Array): DecodedFrame;
+  free(): void;
+}
+
+interface WasmExports {
+  HEAP: ArrayBuffer;
+  malloc(bytes: number): number;
+  free(ptr: number): void;
+  decode_frame(decoder: number, input: number, length: number): number;
+}
+
+interface Cell {
+  ptr: number;
+}
+
+/** The fields of the package's inner decoder this module reads (src/FLACDecoder.js, 0.2.x). */
+interface InnerDecoder {
+  _common: { wasm: WasmExports; codeToString(ptr: number): string };
+  _decoder: number;
+  _channels: Cell;
+  _samplesDecoded: Cell;
+  _outputBufferPtr: Cell;
+  _outputBufferLen: Cell;
+  _errorStringPtr: Cell;
+  _stateStringPtr: Cell;
+}
+
+const EMPTY = new Float32Array(0);
+
+export async function createLibflacFrames(): Promise<LibflacFrames> {
+  const outer = new FLACDecoder();
+  await outer.ready;
+  const inner = (outer as unknown as { _decoder?: Partial<InnerDecoder> })._decoder;
+  const wasm = inner?._common?.wasm;
+  const cells = [inner?._channels, inner?._samplesDecoded, inner?._outputBufferPtr, inner?._outputBufferLen, inner?._errorStringPtr, inner?._stateStringPtr];
+  if (!inner || !wasm || typeof wasm.decode_frame !== "function" || typeof wasm.malloc !== "function" || typeof inner._decoder !== "number" || cells.some((c) => typeof c?.ptr !== "number")) {
+    outer.free();
+    throw new Error("@wasm-audio-decoders/flac: expected the 0.2.x internals (_decoder._common.wasm.decode_frame and the output cells); the package changed, see cli/src/audio/libflacFrames.ts");
+  }
+  const d = inner as InnerDecoder;
+  const handle = d._decoder;
+  // Word indexes of the cells the C side writes (pointers into the heap, 4-byte aligned).
+  const channelsAt = d._channels.ptr >> 2;
+  const samplesAt = d._samplesDecoded.ptr >> 2;
+  const outPtrAt = d._outputBufferPtr.ptr >> 2;
+  const outLenAt = d._outputBufferLen.ptr >> 2;
+  const errorAt = d._errorStringPtr.ptr >> 2;
+  const stateAt = d._stateStringPtr.ptr >> 2;
+  let lastOut = 0;
+  const result: DecodedFrame = { samples: 0, channels: 0, data: EMPTY, error: null };
+
+  return {
+    decode(frame) {
+      // The previous frame's output, kept alive for the caller until now.
+      if (lastOut !== 0) wasm.free(lastOut);
+      lastOut = 0;
+      // libFLAC's read callback frees the input once it has consumed it (flac_decoder.c), so each frame gets its own.
+      const input = wasm.malloc(frame.length);
+      new Uint8Array(wasm.HEAP, input, frame.length).set(frame);
+      wasm.decode_frame(handle, input, frame.length);
+      // Views are made after the call: the heap may have grown (and its old buffer detached) meanwhile.
+      const words = new Uint32Array(wasm.HEAP);
+      const errorPtr = words[errorAt];
+      const statePtr = words[stateAt];
+      const samples = words[samplesAt];
+      const out = words[outPtrAt];
+      const length = words[outLenAt];
+      let error: string | null = null;
+      if (errorPtr !== 0 || statePtr !== 0) {
+        const parts: string[] = [];
+        const e = errorPtr !== 0 ? d._common.codeToString(errorPtr) : "";
+        const s = statePtr !== 0 ? d._common.codeToString(statePtr) : "";
+        if (e) parts.push(`Error: ${e}`);
+        if (s) parts.push(`State: ${s}`);
+        if (parts.length > 0) error = parts.join("; ");
+      }
+      words[samplesAt] = 0;
+      words[outLenAt] = 0;
+      words[outPtrAt] = 0;
+      lastOut = out;
+      result.error = error;
+      result.channels = words[channelsAt];
+      result.samples = out !== 0 ? samples : 0;
+      result.data = out !== 0 ? new Float32Array(wasm.HEAP, out, length) : EMPTY;
+      return result;
+    },
+    free() {
+      if (lastOut !== 0) wasm.free(lastOut);
+      lastOut = 0;
+      outer.free();
+    },
+  };
+}
