@@ -1,4 +1,8 @@
 #!/usr/bin/env -S node --import tsx
-import { main, reportAndExit } from "./main.ts";
+import { answerQuickly } from "./quickAnswers.ts";
 
-main(process.argv).catch(reportAndExit);
+// The program (commander, zod, the built-in profiles) is loaded only for a real command.
+if (!answerQuickly(process.argv)) {
+  const { main, reportAndExit } = await import("./main.ts");
+  main(process.argv).catch(reportAndExit);
+}
