@@ -2,41 +2,46 @@
  * The typesetter our PNGs' labels and titles are drawn with: Source Sans 3 (SIL Open Font License 1.1, from
  * the @fontsource/source-sans-3 package, read from node_modules: no network), shaped and filled anti-aliased
  * by Skia through @napi-rs/canvas. The font comes as per-script subsets, registered under names of our own
- * and listed in fallback order. fontkit reads the same files for their character maps and metrics: a
- * character none of our subsets holds is drawn as the Latin subset's missing-glyph box (.notdef) by us, so
- * it neither vanishes nor falls through to whatever fonts the machine has installed.
+ * and listed in fallback order. Their character maps and metrics come from fontFacts.generated.ts (read
+ * from the same files with fontkit when it was generated; loading fontkit at run time would cost ≈ 0.2 s
+ * a process): a character none of our subsets holds is drawn as the Latin subset's missing-glyph box
+ * (.notdef) by us, so it neither vanishes nor falls through to whatever fonts the machine has installed.
  */
 import { readFileSync } from "node:fs";
-import { createRequire } from "node:module";
 import { createCanvas, GlobalFonts, Path2D, type SKRSContext2D } from "@napi-rs/canvas";
-import * as fontkit from "fontkit";
-import type { Font } from "fontkit";
 import { useTypesetter, type TextCoverage, type Typesetter } from "@tidemark/shared/render/text";
+import { FONT_FACTS } from "./fontFacts.generated.ts";
+import type { FontFacts } from "./fontFactsFromFile.ts";
+import { fontFilePaths, SUBSETS } from "./fontFiles.ts";
 
-/** Subsets in fallback order; Latin first, as its .notdef is the box for characters no subset has. */
-const SUBSETS = ["latin", "latin-ext", "greek", "cyrillic"] as const;
-const WEIGHT = 500;
 
 export interface TypesetterFont {
   /** The name the file is registered under with Skia (ours, so no installed font is picked by mistake). */
   family: string;
   bytes: Uint8Array;
+  /** Its metrics, coverage and .notdef (fontFacts.generated.ts). */
+  facts: FontFacts;
 }
 
-export function fontFilePaths(): string[] {
-  const require = createRequire(import.meta.url);
-  return SUBSETS.map((s) => require.resolve(`@fontsource/source-sans-3/files/source-sans-3-${s}-${WEIGHT}-normal.woff`));
-}
+export { fontFilePaths };
 
-/** The shipped subsets, read from node_modules. */
+/** The shipped subsets, read from node_modules, with the facts generated from them. */
 export function loadTypesetterFonts(): TypesetterFont[] {
-  return fontFilePaths().map((file, i) => ({ family: `Tidemark Sans ${SUBSETS[i]}`, bytes: readFileSync(file) }));
+  if (FONT_FACTS.length !== SUBSETS.length) throw new Error(`font facts: expected ${SUBSETS.length} subsets, got ${FONT_FACTS.length}; run scripts/generate-font-facts.ts`);
+  return fontFilePaths().map((file, i) => ({ family: `Tidemark Sans ${SUBSETS[i]}`, bytes: readFileSync(file), facts: FONT_FACTS[i] }));
 }
 
-function parseFont(bytes: Uint8Array, family: string): Font {
-  const parsed = fontkit.create(Buffer.from(bytes.buffer, bytes.byteOffset, bytes.byteLength));
-  if (!("unitsPerEm" in parsed) || !("hasGlyphForCodePoint" in parsed)) throw new Error(`font ${family}: expected a single font, got a collection`);
-  return parsed;
+/** Whether a sorted list of inclusive code point runs holds `codePoint` (binary search). */
+function inRanges(ranges: ReadonlyArray<readonly [number, number]>, codePoint: number): boolean {
+  let lo = 0;
+  let hi = ranges.length - 1;
+  while (lo <= hi) {
+    const mid = (lo + hi) >> 1;
+    if (codePoint < ranges[mid][0]) hi = mid - 1;
+    else if (codePoint > ranges[mid][1]) lo = mid + 1;
+    else return true;
+  }
+  return false;
 }
 
 /** A stretch of text Skia sets in our fonts, or one character that none of them has. */
@@ -53,23 +58,25 @@ const CACHED_MASK_MAX_PX = 64 * 64;
 /** A typesetter over `fonts` (fallback order; the first is the primary, whose .notdef marks a missing character). */
 export function createFontTypesetter(fonts: readonly TypesetterFont[]): Typesetter {
   if (fonts.length === 0) throw new Error("typesetter needs at least one font, got none");
-  const parsed = fonts.map((f) => parseFont(f.bytes, f.family));
+  const parsed = fonts.map((f) => f.facts);
   for (const f of fonts) {
+    if (f.bytes.byteLength !== f.facts.byteLength) {
+      throw new Error(`font ${f.family}: its facts were made for a file of ${f.facts.byteLength} bytes, got ${f.bytes.byteLength}; run scripts/generate-font-facts.ts`);
+    }
     if (!GlobalFonts.register(Buffer.from(f.bytes), f.family)) throw new Error(`font ${f.family}: Skia could not load it`);
   }
   const primary = parsed[0];
   const families = fonts.map((f) => `"${f.family}"`).join(", ");
   const ascentEm = Math.max(...parsed.map((f) => f.ascent / f.unitsPerEm));
   const descentEm = Math.max(...parsed.map((f) => -f.descent / f.unitsPerEm));
-  const notdef = primary.getGlyph(0);
-  const notdefPath = new Path2D(notdef.path.toSVG());
-  const notdefAdvanceEm = notdef.advanceWidth / primary.unitsPerEm;
+  const notdefPath = new Path2D(primary.notdef.svgPath);
+  const notdefAdvanceEm = primary.notdef.advanceWidth / primary.unitsPerEm;
 
   const splits = new Map<string, Piece[]>();
   const coverages = new Map<string, TextCoverage>();
   const measurer = createCanvas(1, 1).getContext("2d");
 
-  const covered = (codePoint: number): boolean => parsed.some((f) => f.hasGlyphForCodePoint(codePoint));
+  const covered = (codePoint: number): boolean => parsed.some((f) => inRanges(f.codePointRanges, codePoint));
 
   function split(text: string): Piece[] {
     const known = splits.get(text);
