@@ -15,8 +15,12 @@
  * Section 8 (longflac, issues #17/#22: scripts/bench/longFlac.ts) scans FLACs of 15 min, 1 h and 4 h: peak RSS
  * and linearity, each printed with met / NOT met beside the RF64's and section 4's.
  *
+ * Sections 9 and 10 (issue #22) are start-up (`tidemark --version`, the scan of one 1 s file;
+ * scripts/bench/startup.ts) and many small files (scripts/bench/smallFiles.ts): `--only startup,small`.
+ *
  * Options: --seconds N (main file, default 600), --files N (files for the worker comparison, default 8),
- * --repeats N (default 3), --no-rf64, --no-linearity, --no-white, --no-flac, --no-longflac, --longflac-base S (section 8's 1×, default 900), --only single,white,workers,linearity,rf64,flac,closeups,longflac
+ * --small-files N (section 10, default 2000; --quick: 200),
+ * --repeats N (default 3), --no-rf64, --no-linearity, --no-white, --no-flac, --no-longflac, --longflac-base S (section 8's 1×, default 900), --only single,white,workers,linearity,rf64,flac,closeups,longflac,startup,small
  * (just those sections), --from-source (run through tsx instead of the bundle), --keep (leave the inputs),
  * --tmp DIR (where the inputs go), --baseline REV (also time the CLI as of git revision REV on the main
  * file, alternating, for a before/after ratio in the same run), --wait-calm S (before each run, wait up to S seconds for the other
@@ -31,6 +35,8 @@ import { hasGnuTime, machineBusyCores, measure, median, type Measured } from "./
 import { runStages } from "./bench/stages.ts";
 import { staleBundleSources } from "../cli/bin/bundleState.mjs";
 import { plantDropouts } from "./bench/plantFaults.ts";
+import { benchSmallFiles, SMALL_FILES_DEFAULT, smallFileTargets, type SmallFilesResult } from "./bench/smallFiles.ts";
+import { benchStartup, startupTargets, type StartupResult } from "./bench/startup.ts";
 import { synthesiseWav, type SynthOptions } from "./bench/synthWav.ts";
 import { runLongFlac, type LongFlacResult } from "./bench/longFlac.ts";
 
@@ -54,15 +60,16 @@ interface Options {
   only: Set<string> | null;
   waitCalmSeconds: number;
   baseline: string | null;
+  smallFiles: number;
 }
 
 /** Other processes using less than this many cores count as a calm machine. */
 const CALM_BUSY_CORES = 0.25;
 
-const SECTIONS = ["single", "white", "workers", "linearity", "rf64", "flac", "closeups", "longflac"];
+const SECTIONS = ["single", "white", "workers", "linearity", "rf64", "flac", "closeups", "longflac", "startup", "small"];
 
 function parseOptions(argv: string[]): Options {
-  const o: Options = { out: null, quick: false, seconds: 600, files: 8, repeats: 3, rf64: true, linearity: true, white: true, flac: true, longFlac: true, longFlacBase: 900, fromSource: false, keep: false, tmp: tmpdir(), stages: null, only: null, waitCalmSeconds: 0, baseline: null };
+  const o: Options = { out: null, quick: false, seconds: 600, files: 8, repeats: 3, rf64: true, linearity: true, white: true, flac: true, longFlac: true, longFlacBase: 900, fromSource: false, keep: false, tmp: tmpdir(), stages: null, only: null, waitCalmSeconds: 0, baseline: null, smallFiles: SMALL_FILES_DEFAULT };
   const explicit = new Set<string>();
   for (let i = 0; i < argv.length; i++) {
     const a = argv[i];
@@ -94,6 +101,7 @@ function parseOptions(argv: string[]): Options {
     else if (a === "--stages") o.stages = path.resolve(value());
     else if (a === "--wait-calm") o.waitCalmSeconds = count();
     else if (a === "--baseline") o.baseline = value();
+    else if (a === "--small-files") o.smallFiles = Math.round(count());
     else if (a === "--only") {
       o.only = new Set(value().split(","));
     }
@@ -114,6 +122,7 @@ function parseOptions(argv: string[]): Options {
     if (!explicit.has("--seconds")) o.seconds = 120;
     if (!explicit.has("--files")) o.files = 4;
     if (!explicit.has("--repeats")) o.repeats = 1;
+    if (!explicit.has("--small-files")) o.smallFiles = 200;
     o.rf64 = false;
     o.linearity = false;
     o.white = false;
@@ -503,6 +512,15 @@ async function main(): Promise<void> {
       result.longFlac = await runLongFlac(root, (dir) => scan(dir, 1, o, scratch), log, o.longFlacBase);
     }
 
+    // 9 and 10. Start-up and many small files (issue #22), each in its own module.
+    const section = { root, scratch, repeats: o.repeats, quick: o.quick, bin: path.join(projectRoot, "cli/bin/tidemark.js"), log, env: { ...process.env, TIDEMARK_FROM_SOURCE: o.fromSource ? "1" : "0" } };
+    const beforeRun = async (): Promise<void> => {
+      await waitForCalm(o);
+      ensureBundle(o);
+    };
+    if (!o.only || o.only.has("startup")) result.startup = await benchStartup({ ...section, beforeRun });
+    if (!o.only || o.only.has("small")) result.small = await benchSmallFiles({ ...section, beforeRun }, o.smallFiles);
+
     result.finishedAt = new Date().toISOString();
     result.targets = judgeTargets(result);
     printTable(result, o);
@@ -538,6 +556,8 @@ function judgeTargets(r: Record<string, unknown>): Record<string, { value: numbe
   if (flac) t.flacVsWav = { value: flac.ratioToWav, target: `≤ ${TARGETS.flacVsWav} (FLAC scan wall / WAV scan wall, same audio, same rounds)`, met: flac.ratioToWav <= TARGETS.flacVsWav };
   const closeups = r.closeups as { overhead: number } | undefined;
   if (closeups) t.closeupsOverhead = { value: closeups.overhead, target: `≤ ${TARGETS.closeupsOverhead} (#16: close-ups vs --no-closeups, wall)`, met: closeups.overhead <= TARGETS.closeupsOverhead };
+  if (r.startup) Object.assign(t, startupTargets(r.startup as StartupResult));
+  if (r.small) Object.assign(t, smallFileTargets(r.small as SmallFilesResult));
   if (linearity) t.linearity16x = { value: linearity.ratio16, target: `≤ ${TARGETS.linearity} (per audio second, 16× vs 1×)`, met: linearity.ratio16 <= TARGETS.linearity };
   Object.assign(t, memoryTargets(r.rf64 as Summary | undefined, linearity as { ratio4?: number } | undefined, longFlac));
   return t;

@@ -7,6 +7,7 @@ import { spawn } from "node:child_process";
 import { existsSync } from "node:fs";
 import { readFile, rm } from "node:fs/promises";
 import path from "node:path";
+import { watchTreeRss } from "./treeRss.ts";
 
 export interface Measured {
   wallSeconds: number;
@@ -20,19 +21,23 @@ export interface Measured {
   otherCores: number;
   exitCode: number;
   stderr: string;
+  /** With `treeRss`: the largest RSS summed over the command's process tree (sampled every 20 ms), MB. */
+  treePeakRssMb?: number;
 }
 
 const GNU_TIME = "/usr/bin/time";
 export const hasGnuTime = existsSync(GNU_TIME);
 const CLOCK_TICKS_PER_SECOND = 100;
 
-export async function measure(command: string, args: string[], o: { cwd: string; env?: NodeJS.ProcessEnv; scratchDir: string }): Promise<Measured> {
+export async function measure(command: string, args: string[], o: { cwd: string; env?: NodeJS.ProcessEnv; scratchDir: string; treeRss?: boolean }): Promise<Measured> {
   const timeFile = path.join(o.scratchDir, `time-${process.pid}-${Date.now()}.txt`);
   const useGnuTime = hasGnuTime;
   const argv = useGnuTime ? ["-f", "%U %S %M", "-o", timeFile, command, ...args] : args;
   const busyBefore = await busyCpuSeconds();
   const started = process.hrtime.bigint();
   const child = spawn(useGnuTime ? GNU_TIME : command, argv, { cwd: o.cwd, env: o.env ?? process.env, stdio: ["ignore", "ignore", "pipe"] });
+  // GNU time itself is not part of what is measured: only its child and that child's descendants.
+  const tree = o.treeRss && child.pid !== undefined ? watchTreeRss(child.pid, { skipRoot: useGnuTime }) : null;
   let stderr = "";
   child.stderr.setEncoding("utf8");
   child.stderr.on("data", (d: string) => {
@@ -45,19 +50,20 @@ export async function measure(command: string, args: string[], o: { cwd: string;
     child.on("close", (code) => resolve(code ?? -1));
   });
   const wallSeconds = Number(process.hrtime.bigint() - started) / 1e9;
+  const treePeakRssMb = tree ? await tree.stop() : undefined;
   const busy = (await busyCpuSeconds()) - busyBefore;
   if (poll) clearInterval(poll);
   const others = (cpuSeconds: number) => Math.max(0, (busy - cpuSeconds) / wallSeconds);
   if (!useGnuTime) {
     const cpuSeconds = polled.cpuTicks / CLOCK_TICKS_PER_SECOND;
-    return { wallSeconds, cpuSeconds, peakRssMb: polled.rssKb / 1024, otherCores: others(cpuSeconds), exitCode, stderr };
+    return { wallSeconds, cpuSeconds, peakRssMb: polled.rssKb / 1024, otherCores: others(cpuSeconds), exitCode, stderr, treePeakRssMb };
   }
   const text = await readFile(timeFile, "utf8");
   await rm(timeFile, { force: true });
   // GNU time writes "Command exited with non-zero status N" before the format line.
   const line = text.trim().split("\n").pop() ?? "";
   const [user, system, rssKb] = line.split(/\s+/).map(Number);
-  return { wallSeconds, cpuSeconds: user + system, peakRssMb: rssKb / 1024, otherCores: others(user + system), exitCode, stderr };
+  return { wallSeconds, cpuSeconds: user + system, peakRssMb: rssKb / 1024, otherCores: others(user + system), exitCode, stderr, treePeakRssMb };
 }
 
 /** Cores the machine keeps busy over the next `ms` milliseconds (this process idle meanwhile). */

@@ -18,7 +18,6 @@ import { WavFormatError } from "@tidemark/shared/wav/errors";
 import { readWavLayout, type WavLayout } from "@tidemark/shared/wav/wavLayout";
 import { AudioFileError, audioFileErrorFromSystem } from "./errors.ts";
 import { fileByteSource } from "./fileByteSource.ts";
-import { createFlacStreamDecoder } from "./flacStreamDecoder.ts";
 
 export interface AudioFileInfo {
   layout: WavLayout;
@@ -192,6 +191,8 @@ async function readOpenFile(
   const sinks: StreamSink[] = [];
   if (layout.container === "flac") {
     // Even when only hashing, FLAC is decoded: its MD5 and frame checks are part of reading it.
+    // libFLAC's WebAssembly build costs ≈ 70 ms to load: only a FLAC file pays for it.
+    const { createFlacStreamDecoder } = await import("./flacStreamDecoder.ts");
     const flac = await createFlacStreamDecoder(layout as FlacLayout, blockFrames, onBlock);
     sinks.push({
       push: (bytes, offset) => flac.push(bytes, offset),
