@@ -95,6 +95,12 @@ export function createSpectrogramAccumulator(o: {
     schedule.frameCount === 1 ? totalFrames / 2 : frameStart(schedule, k) + schedule.frameSize / 2;
   const clampColumn = (c: number): number => Math.min(columns - 1, Math.max(0, c));
 
+  const sameAsLeft = (c: number): boolean => {
+    const base = c * ownRows;
+    for (let i = 0; i < ownRows; i++) if (power[base + i] !== power[base - ownRows + i]) return false;
+    return true;
+  };
+
   return {
     addFrame(amplitudeSquared, frameIndex) {
       for (let i = 0; i < ownRows; i++) {
@@ -136,8 +142,14 @@ export function createSpectrogramAccumulator(o: {
       const lastPower = new Float32Array(ownRows);
       const lastScale = new Float64Array(ownRows).fill(NaN);
       const lastDb = new Float64Array(ownRows);
+      // Where this part owns its rows outright, a column equal to its left neighbour is a copy of it.
+      const owned = weights.every((w) => w === 1);
       for (let c = 0; c < columns; c++) {
         const n = framesInColumn[c];
+        if (owned && c > 0 && n === framesInColumn[c - 1] && sameAsLeft(c)) {
+          db.copyWithin(c * rows + rowFrom, (c - 1) * rows + rowFrom, (c - 1) * rows + rowTo);
+          continue;
+        }
         const scale = aggregate === "mean" && n > 0 ? 1 / n : 1;
         for (let i = 0; i < ownRows; i++) {
           const at = c * rows + rowFrom + i;
