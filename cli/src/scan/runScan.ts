@@ -41,6 +41,12 @@ export interface RunScanResult {
   interrupted: boolean;
 }
 
+/**
+ * Files up to this size (≈ 29 s of 48 kHz/24-bit stereo) are sent ahead to a busy worker, up to
+ * SMALL_FILES_PER_WORKER a worker, so it never waits for the main thread between them.
+ */
+const SMALL_FILE_BYTES = 8 * 1024 * 1024;
+const SMALL_FILES_PER_WORKER = 3;
 /** Running from the prebuilt bundle in cli/dist (cli/bin/build.mjs) rather than the TypeScript sources. */
 const IS_BUNDLED = !import.meta.url.endsWith(".ts");
 /** The worker script beside this module: the bundle's entry in dist, or the source next to this file. */
@@ -74,6 +80,8 @@ async function reusable(record: ResumeRecord | undefined, file: CrawledFile, con
   return true;
 }
 
+const isSmall = (file: CrawledFile): boolean => file.sizeBytes <= SMALL_FILE_BYTES;
+
 export async function runScan(options: RunScanOptions): Promise<RunScanResult> {
   const { files, context, resume, progress, interruption } = options;
   const reports: FileReport[] = [];
@@ -86,7 +94,7 @@ export async function runScan(options: RunScanOptions): Promise<RunScanResult> {
   const pool: WorkerPool<ScanTask, ScanTaskResult> =
     size === 1
       ? createInlineRunner(context)
-      : createWorkerPool({ size, script: WORKER_SCRIPT, workerData: context, maxOldGenerationSizeMb: WORKER_HEAP_LIMIT_MB });
+      : createWorkerPool({ size, script: WORKER_SCRIPT, workerData: context, maxOldGenerationSizeMb: WORKER_HEAP_LIMIT_MB, queueDepth: SMALL_FILES_PER_WORKER });
   interruption.onImmediate(() => void pool.terminate());
 
   const measure = async (file: CrawledFile): Promise<{ report: FileReport; seconds: number } | null> => {
@@ -94,9 +102,7 @@ export async function runScan(options: RunScanOptions): Promise<RunScanResult> {
       // Sidecars are matched by path string; a name that is not UTF-8 has none.
       const expectedChecksums = typeof file.absPath === "string" ? options.expectedChecksums?.get(file.absPath) : undefined;
       const task = { kind: "analyse" as const, absPath: file.absPath, relPath: file.relPath, pathBytes: file.pathBytes, sizeBytes: file.sizeBytes, ...(expectedChecksums ? { expectedChecksums } : {}) };
-      const result = await pool.run(task, (bytes) =>
-        progress.fileBytes(file.relPath, bytes),
-      );
+      const result = await pool.run(task, (bytes) => progress.fileBytes(file.relPath, bytes), isSmall(file));
       if (result.kind !== "analysed") throw new Error(`expected a measurement, got ${result.kind}`);
       if (result.file.imageError) progress.note(`tidemark: warning: ${result.file.imageError}`);
       const timingsFile = process.env[STAGE_TIMINGS_ENV];
@@ -142,8 +148,14 @@ export async function runScan(options: RunScanOptions): Promise<RunScanResult> {
   const lane = async (): Promise<void> => {
     while (!interruption.requested && next < files.length) await processFile(files[next++]);
   };
+  // Lanes beyond one a worker only take small files (they wait in a worker); at a large one they end, so a
+  // large file never queues behind another, and after Ctrl-C only a few small files more are finished.
+  const extraLane = async (): Promise<void> => {
+    while (!interruption.requested && next < files.length && isSmall(files[next])) await processFile(files[next++]);
+  };
+  const extraLanes = size === 1 ? 0 : pool.size * (SMALL_FILES_PER_WORKER - 1);
   try {
-    await Promise.all(Array.from({ length: pool.size }, lane));
+    await Promise.all([...Array.from({ length: pool.size }, lane), ...Array.from({ length: extraLanes }, extraLane)]);
   } finally {
     if (interruption.immediate) await pool.terminate();
     else await pool.close();

@@ -1,5 +1,7 @@
 /**
- * A fixed pool of worker threads, one task at a time each. A TypeScript script (.ts) runs through tsx:
+ * A fixed pool of worker threads, each running one task at a time. A task marked `small` may also wait in
+ * a busy worker's port (up to `queueDepth` tasks a worker), so a worker going through many short files
+ * finds the next one already there instead of idling while the main thread answers its last result. A TypeScript script (.ts) runs through tsx:
  * each worker starts from a tiny bootstrap that registers tsx's loader and then imports the script (on
  * Node 20, `--import tsx` in a Worker's execArgv does not reach the worker's module loader); a JavaScript
  * one (the prebuilt bundle) is imported as it is. A worker that dies
@@ -25,8 +27,11 @@ export class WorkerStartError extends Error {
 
 export interface WorkerPool<Task, Result> {
   readonly size: number;
-  /** Runs the task on the next free worker (queued while all are busy); `onProgress` gets the bytes read so far. */
-  run(task: Task, onProgress?: (bytesRead: number) => void): Promise<Result>;
+  /**
+   * Runs the task on the next free worker (queued while all are busy); `onProgress` gets the bytes read so
+   * far. A `small` task may be handed to a busy worker, behind its current one.
+   */
+  run(task: Task, onProgress?: (bytesRead: number) => void, small?: boolean): Promise<Result>;
   /** Waits for running tasks, then stops the workers; queued tasks are rejected. */
   close(): Promise<void>;
   /** Stops the workers now; running and queued tasks are rejected. */
@@ -42,6 +47,8 @@ export interface WorkerPoolOptions {
   workerData?: unknown;
   /** Old-space limit per worker, so one hostile file cannot take the machine's memory. */
   maxOldGenerationSizeMb?: number;
+  /** Most tasks a worker holds at once, the running one included (default 1); only `small` tasks wait in a worker. */
+  queueDepth?: number;
 }
 
 /** What a worker posts back for each task. */
@@ -57,11 +64,13 @@ interface Job<Task, Result> {
   resolve(result: Result): void;
   reject(error: Error): void;
   onProgress?: (bytesRead: number) => void;
+  small: boolean;
 }
 
 interface Slot<Task, Result> {
   worker: Worker;
-  job: Job<Task, Result> | null;
+  /** Tasks sent to the worker, in the order it runs them: the first is running, the rest wait in its port. */
+  jobs: Job<Task, Result>[];
   /** The script has loaded; only ready workers get tasks. */
   ready: boolean;
 }
@@ -93,27 +102,29 @@ export function createWorkerPool<Task, Result>(options: WorkerPoolOptions): Work
       stdout: false,
       stderr: false,
     });
-    const slot: Slot<Task, Result> = { worker, job: null, ready: false };
+    const slot: Slot<Task, Result> = { worker, jobs: [], ready: false };
     worker.on("message", (reply: WorkerReply<Result> | typeof READY) => {
       if (reply === READY) {
         slot.ready = true;
         dispatch();
         return;
       }
-      const job = slot.job;
-      if (!job || job.id !== reply.id) return;
+      const at = slot.jobs.findIndex((j) => j.id === reply.id);
+      if (at < 0) return;
+      const job = slot.jobs[at];
       if ("progress" in reply) {
         job.onProgress?.(reply.progress);
         return;
       }
-      slot.job = null;
+      slot.jobs.splice(at, 1);
       if (reply.ok) job.resolve(reply.result);
       else job.reject(new Error(reply.message));
       dispatch();
     });
     const lost = (why: string): void => {
-      const job = slot.job;
-      slot.job = null;
+      // The first task was running; those behind it never started and go back to the front of the queue.
+      const [job, ...waiting] = slot.jobs.splice(0);
+      if (waiting.length > 0) queue.unshift(...waiting);
       const index = slots.indexOf(slot);
       if (index >= 0) slots.splice(index, 1);
       if (!slot.ready) {
@@ -132,14 +143,24 @@ export function createWorkerPool<Task, Result>(options: WorkerPoolOptions): Work
     return slot;
   };
 
+  const depth = Math.max(1, options.queueDepth ?? 1);
+  const send = (slot: Slot<Task, Result>, job: Job<Task, Result>): void => {
+    slot.jobs.push(job);
+    slot.worker.postMessage({ id: job.id, task: job.task });
+  };
   const dispatch = (): void => {
+    // Idle workers first; then small tasks behind the shortest line of a busy one.
     for (const slot of slots) {
-      if (!slot.ready || slot.job || queue.length === 0) continue;
-      const job = queue.shift()!;
-      slot.job = job;
-      slot.worker.postMessage({ id: job.id, task: job.task });
+      if (!slot.ready || slot.jobs.length > 0 || queue.length === 0) continue;
+      send(slot, queue.shift()!);
     }
-    if (slots.every((s) => !s.job) && queue.length === 0) {
+    while (queue.length > 0 && queue[0].small) {
+      let shortest: Slot<Task, Result> | null = null;
+      for (const slot of slots) if (slot.ready && slot.jobs.length < depth && (!shortest || slot.jobs.length < shortest.jobs.length)) shortest = slot;
+      if (!shortest) break;
+      send(shortest, queue.shift()!);
+    }
+    if (slots.every((s) => s.jobs.length === 0) && queue.length === 0) {
       const waiters = idleWaiters;
       idleWaiters = [];
       for (const w of waiters) w();
@@ -151,8 +172,7 @@ export function createWorkerPool<Task, Result>(options: WorkerPoolOptions): Work
   const stopAll = async (): Promise<void> => {
     closing = true;
     const workers = slots.splice(0).map((s) => {
-      s.job?.reject(new WorkerCrashError("worker stopped"));
-      s.job = null;
+      for (const job of s.jobs.splice(0)) job.reject(new WorkerCrashError("worker stopped"));
       return s.worker;
     });
     await Promise.all(workers.map((w) => w.terminate()));
@@ -164,17 +184,17 @@ export function createWorkerPool<Task, Result>(options: WorkerPoolOptions): Work
 
   return {
     size: options.size,
-    run(task, onProgress) {
+    run(task, onProgress, small = false) {
       if (startFailure) return Promise.reject(startFailure);
       if (closing) return Promise.reject(new WorkerCrashError("pool is closed"));
       return new Promise<Result>((resolve, reject) => {
-        queue.push({ id: nextId++, task, resolve, reject, onProgress });
+        queue.push({ id: nextId++, task, resolve, reject, onProgress, small });
         dispatch();
       });
     },
     async close() {
       rejectQueued();
-      if (slots.some((s) => s.job)) await new Promise<void>((resolve) => idleWaiters.push(resolve));
+      if (slots.some((s) => s.jobs.length > 0)) await new Promise<void>((resolve) => idleWaiters.push(resolve));
       await stopAll();
     },
     async terminate() {
