@@ -47,6 +47,8 @@ export interface WorkerPoolOptions {
   workerData?: unknown;
   /** Old-space limit per worker, so one hostile file cannot take the machine's memory. */
   maxOldGenerationSizeMb?: number;
+  /** Young-generation size per worker (V8's default when absent). */
+  maxYoungGenerationSizeMb?: number;
   /** Most tasks a worker holds at once, the running one included (default 1); only `small` tasks wait in a worker. */
   queueDepth?: number;
 }
@@ -98,7 +100,7 @@ export function createWorkerPool<Task, Result>(options: WorkerPoolOptions): Work
     const worker = new Worker(bootstrapCode(options.script), {
       eval: true,
       workerData: options.workerData,
-      resourceLimits: options.maxOldGenerationSizeMb ? { maxOldGenerationSizeMb: options.maxOldGenerationSizeMb } : undefined,
+      resourceLimits: { maxOldGenerationSizeMb: options.maxOldGenerationSizeMb, maxYoungGenerationSizeMb: options.maxYoungGenerationSizeMb },
       stdout: false,
       stderr: false,
     });
