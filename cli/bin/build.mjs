@@ -1,9 +1,10 @@
 #!/usr/bin/env node
 // Prebuilds the CLI into cli/dist with esbuild (`node cli/bin/build.mjs`), so `tidemark` starts without
 // tsx compiling every module on each run: about 0.8 s less start-up and 35 MB less memory a process.
-// npm packages stay external (Node loads them from node_modules); our TypeScript, shared/ included, is
-// bundled. dist/manifest.json lists every bundled source with its size and mtime: tidemark.js runs the
-// bundle only while they all still match, and falls back to the sources through tsx otherwise.
+// Our TypeScript (shared/ included) and the npm packages are bundled (bundle.mjs). dist/manifest.json lists
+// every bundled source of ours with its size and mtime, and package-lock.json for the packages (an npm
+// install changes it): tidemark.js runs the bundle only while they all still match, and falls back to the
+// sources through tsx otherwise.
 import { readdirSync, rmSync, statSync, writeFileSync } from "node:fs";
 import path from "node:path";
 import { bundleCli, cliDir, repoRoot } from "./bundle.mjs";
@@ -22,7 +23,8 @@ for (const name of readdirSync(outdir)) {
 }
 
 const inputs = {};
-for (const file of Object.keys(result.metafile.inputs).sort()) {
+const ours = Object.keys(result.metafile.inputs).filter((file) => !file.split(/[\\/]/).includes("node_modules"));
+for (const file of [...ours, "package-lock.json"].sort()) {
   const s = statSync(path.join(repoRoot, file));
   inputs[file] = { size: s.size, mtimeMs: s.mtimeMs };
 }
