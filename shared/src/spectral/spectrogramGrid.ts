@@ -95,9 +95,10 @@ export function createSpectrogramAccumulator(o: {
     schedule.frameCount === 1 ? totalFrames / 2 : frameStart(schedule, k) + schedule.frameSize / 2;
   const clampColumn = (c: number): number => Math.min(columns - 1, Math.max(0, c));
 
-  const sameAsLeft = (c: number): boolean => {
+  /** Whether column c's first `count` powers equal column c − 1's. */
+  const sameAsLeft = (c: number, count: number): boolean => {
     const base = c * ownRows;
-    for (let i = 0; i < ownRows; i++) if (power[base + i] !== power[base - ownRows + i]) return false;
+    for (let i = 0; i < count; i++) if (power[base + i] !== power[base - ownRows + i]) return false;
     return true;
   };
 
@@ -142,16 +143,19 @@ export function createSpectrogramAccumulator(o: {
       const lastPower = new Float32Array(ownRows);
       const lastScale = new Float64Array(ownRows).fill(NaN);
       const lastDb = new Float64Array(ownRows);
-      // Where this part owns its rows outright, a column equal to its left neighbour is a copy of it.
-      const owned = weights.every((w) => w === 1);
+      // The leading rows this part owns outright (weight 1) do not depend on what is under them: where
+      // they equal the column to the left, their dB values are copied from it.
+      let owned = 0;
+      while (owned < ownRows && weights[owned] === 1) owned++;
       for (let c = 0; c < columns; c++) {
         const n = framesInColumn[c];
-        if (owned && c > 0 && n === framesInColumn[c - 1] && sameAsLeft(c)) {
-          db.copyWithin(c * rows + rowFrom, (c - 1) * rows + rowFrom, (c - 1) * rows + rowTo);
-          continue;
+        let first = 0;
+        if (owned > 0 && c > 0 && n === framesInColumn[c - 1] && sameAsLeft(c, owned)) {
+          db.copyWithin(c * rows + rowFrom, (c - 1) * rows + rowFrom, (c - 1) * rows + rowFrom + owned);
+          first = owned;
         }
         const scale = aggregate === "mean" && n > 0 ? 1 / n : 1;
-        for (let i = 0; i < ownRows; i++) {
+        for (let i = first; i < ownRows; i++) {
           const at = c * rows + rowFrom + i;
           const w = weights[i];
           // A row this part does not draw, over another part's value: nothing to write.
