@@ -48,4 +48,18 @@ describe("levelGridJson", () => {
     expect(levels.findIndex((v) => v > 0)).toBe(2 * rows + 1);
     expect(Math.abs(levelToDb(levels[2 * rows + 1], json.dbMin, json.dbMax) - -10)).toBeLessThan(0.3);
   });
+
+  it("writes the same JSON with a platform base64 encoder (the CLI passes Node's Buffer)", () => {
+    const columns = 40;
+    const rows = 31;
+    const db = Float32Array.from({ length: columns * rows }, (_, i) => -130 + ((i * 37) % 131));
+    const grid: SpectrogramGrid = { columns, rows, db, rowFrequencyHz: Float32Array.from({ length: rows }, (_, r) => 20 * 2 ** (r / 3)), frequencyScale: "log", durationSeconds: 2, sampleRateHz: 48000 };
+    let calls = 0;
+    const viaBuffer = levelGridJson(grid, (bytes) => {
+      calls += 1;
+      return Buffer.from(bytes).toString("base64");
+    });
+    expect(calls).toBe(1);
+    expect(JSON.stringify(viaBuffer)).toBe(JSON.stringify(levelGridJson(grid)));
+  });
 });

@@ -18,6 +18,9 @@ import type { AudioFormat, Closeup, FileReport, Finding } from "@tidemark/shared
 import type { AnalysisSettings } from "@tidemark/shared/types/settings";
 import { ARTEFACT_SUFFIXES, artefactPaths, closeupSuffixes, type SpectrogramTarget } from "./spectrogramPaths.ts";
 
+/** Node's base64 encoder: the level grid's ≈ 1 MB of levels in about a millisecond (shared/'s own is pure JS). */
+const bufferBase64 = (bytes: Uint8Array): string => Buffer.from(bytes.buffer, bytes.byteOffset, bytes.byteLength).toString("base64");
+
 export type CloseupFields = Required<Pick<FileReport, "levelGrid" | "loudnessCurve" | "closeups" | "closeupsOmitted">>;
 
 export async function writeCloseups(o: {
@@ -35,7 +38,7 @@ export async function writeCloseups(o: {
   const paths = artefactPaths(target, relPath);
   const rate = format.sampleRateHz;
 
-  await writeFile(paths.abs(ARTEFACT_SUFFIXES.levelGrid), JSON.stringify(levelGridJson(analysed.spectrogram)));
+  await writeFile(paths.abs(ARTEFACT_SUFFIXES.levelGrid), JSON.stringify(levelGridJson(analysed.spectrogram, bufferBase64)));
   let loudnessCurve: string | null = null;
   if (analysed.loudnessCurve) {
     await writeFile(paths.abs(ARTEFACT_SUFFIXES.loudnessCurve), JSON.stringify(analysed.loudnessCurve));
