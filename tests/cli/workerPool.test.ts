@@ -1,7 +1,7 @@
 /**
  * The scan's worker pool (cli/src/scan/workerPool.ts) with a stand-in worker (tests/fixtures/poolWorker.mjs):
- * small tasks are sent ahead to a busy worker up to its queue depth, large ones never are, and a worker that
- * dies fails only the task it was running; the tasks waiting behind it run on its replacement.
+ * small tasks are sent ahead to a busy worker up to its queue depth, large ones never are, and when a worker
+ * dies holding several tasks each is tried again alone, so only the one that kills a worker fails.
  */
 import { describe, expect, it } from "vitest";
 import { createWorkerPool, WorkerCrashError } from "../../cli/src/scan/workerPool.ts";
@@ -43,7 +43,7 @@ describe("worker pool queue depth", () => {
     }
   });
 
-  it("fails only the running task when its worker dies; those sent behind it run on the replacement", async () => {
+  it("fails only the task that kills a worker on its own; the others it held run again", async () => {
     const pool = createWorkerPool<Task, Result>({ size: 1, script, queueDepth: 3 });
     try {
       const crash = pool.run({ name: "crash", ms: 0, crash: true }, undefined, true);

@@ -1,7 +1,8 @@
 /**
- * A fixed pool of worker threads, each running one task at a time. A task marked `small` may also wait in
- * a busy worker's port (up to `queueDepth` tasks a worker), so a worker going through many short files
- * finds the next one already there instead of idling while the main thread answers its last result. A TypeScript script (.ts) runs through tsx:
+ * A fixed pool of worker threads. A task marked `small` may also be sent to a busy worker (up to
+ * `queueDepth` tasks a worker), so a worker going through many short files finds the next one already there
+ * instead of idling while the main thread answers its last result; the worker may run two small tasks at
+ * once (scanWorker.ts). Other tasks go only to an idle worker, and run alone. A TypeScript script (.ts) runs through tsx:
  * each worker starts from a tiny bootstrap that registers tsx's loader and then imports the script (on
  * Node 20, `--import tsx` in a Worker's execArgv does not reach the worker's module loader); a JavaScript
  * one (the prebuilt bundle) is imported as it is. A worker that dies
@@ -67,6 +68,19 @@ interface Job<Task, Result> {
   reject(error: Error): void;
   onProgress?: (bytesRead: number) => void;
   small: boolean;
+  /**
+   * Set when a worker died holding this task and others, so which one killed it is unknown: it is sent
+   * again only to an idle worker, alone, and fails if that worker dies too.
+   */
+  alone: boolean;
+}
+
+/** What the pool posts to a worker for each task. */
+export interface WorkerRequest<Task> {
+  id: number;
+  task: Task;
+  /** May run beside another small task. */
+  small: boolean;
 }
 
 interface Slot<Task, Result> {
@@ -124,9 +138,14 @@ export function createWorkerPool<Task, Result>(options: WorkerPoolOptions): Work
       dispatch();
     });
     const lost = (why: string): void => {
-      // The first task was running; those behind it never started and go back to the front of the queue.
-      const [job, ...waiting] = slot.jobs.splice(0);
-      if (waiting.length > 0) queue.unshift(...waiting);
+      // Holding one task, the worker died of it. Holding more, any of the running ones may be the cause:
+      // they all go back to the front of the queue, each to be tried again alone.
+      const held = slot.jobs.splice(0);
+      const job = held.length === 1 ? held[0] : null;
+      if (!job) {
+        for (const j of held) j.alone = true;
+        queue.unshift(...held);
+      }
       const index = slots.indexOf(slot);
       if (index >= 0) slots.splice(index, 1);
       if (!slot.ready) {
@@ -148,7 +167,7 @@ export function createWorkerPool<Task, Result>(options: WorkerPoolOptions): Work
   const depth = Math.max(1, options.queueDepth ?? 1);
   const send = (slot: Slot<Task, Result>, job: Job<Task, Result>): void => {
     slot.jobs.push(job);
-    slot.worker.postMessage({ id: job.id, task: job.task });
+    slot.worker.postMessage({ id: job.id, task: job.task, small: job.small && !job.alone } satisfies WorkerRequest<Task>);
   };
   const dispatch = (): void => {
     // Idle workers first; then small tasks behind the shortest line of a busy one.
@@ -156,9 +175,12 @@ export function createWorkerPool<Task, Result>(options: WorkerPoolOptions): Work
       if (!slot.ready || slot.jobs.length > 0 || queue.length === 0) continue;
       send(slot, queue.shift()!);
     }
-    while (queue.length > 0 && queue[0].small) {
+    while (queue.length > 0 && queue[0].small && !queue[0].alone) {
       let shortest: Slot<Task, Result> | null = null;
-      for (const slot of slots) if (slot.ready && slot.jobs.length < depth && (!shortest || slot.jobs.length < shortest.jobs.length)) shortest = slot;
+      for (const slot of slots) {
+        if (!slot.ready || slot.jobs.length >= depth || slot.jobs.some((j) => j.alone)) continue;
+        if (!shortest || slot.jobs.length < shortest.jobs.length) shortest = slot;
+      }
       if (!shortest) break;
       send(shortest, queue.shift()!);
     }
@@ -190,7 +212,7 @@ export function createWorkerPool<Task, Result>(options: WorkerPoolOptions): Work
       if (startFailure) return Promise.reject(startFailure);
       if (closing) return Promise.reject(new WorkerCrashError("pool is closed"));
       return new Promise<Result>((resolve, reject) => {
-        queue.push({ id: nextId++, task, resolve, reject, onProgress, small });
+        queue.push({ id: nextId++, task, resolve, reject, onProgress, small, alone: false });
         dispatch();
       });
     },
