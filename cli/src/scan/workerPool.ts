@@ -2,12 +2,14 @@
  * A fixed pool of worker threads. A task marked `small` may also be sent to a busy worker (up to
  * `queueDepth` tasks a worker), so a worker going through many short files finds the next one already there
  * instead of idling while the main thread answers its last result; the worker may run two small tasks at
- * once (scanWorker.ts). Other tasks go only to an idle worker, and run alone. A TypeScript script (.ts) runs through tsx:
- * each worker starts from a tiny bootstrap that registers tsx's loader and then imports the script (on
- * Node 20, `--import tsx` in a Worker's execArgv does not reach the worker's module loader); a JavaScript
- * one (the prebuilt bundle) is imported as it is. A worker that dies
- * mid-task (crash, out of memory) fails only that task with WorkerCrashError and is replaced; a worker
- * that cannot even start fails every task with the reason, instead of being respawned for ever.
+ * once (scanWorker.ts). Other tasks go only to an idle worker, and run alone.
+ *
+ * A TypeScript script (.ts) runs through tsx: each worker starts from a tiny bootstrap that registers tsx's
+ * loader and then imports the script (on Node 20, `--import tsx` in a Worker's execArgv does not reach the
+ * worker's module loader); a JavaScript one (the prebuilt bundle) is imported as it is. A worker that dies
+ * with one task fails that task with WorkerCrashError and is replaced; one that dies holding several
+ * (small) tasks has each tried again alone, so only the task that kills a worker fails. A worker that
+ * cannot even start fails every task with the reason, instead of being respawned for ever.
  */
 import { Worker } from "node:worker_threads";
 
