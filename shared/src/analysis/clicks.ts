@@ -4,22 +4,27 @@
  * Restoration" (Springer, 1998), ch. 5: audio is well predicted from its recent past by a low-order AR
  * model, a click is not, so it shows as a burst in the prediction error e[n] = x[n] + Σ_k a_k·x[n−k].
  *
- * Per channel, in blocks of 40 ms:
- *  1. a gate: only a block whose second difference has an outlier (max over mean ≥ GATE_RATIO) can hold a
- *     click; steady music and noise skip the rest (a click is impulsive in any high-pass view);
- *  2. AR(16) fitted by the autocorrelation method (Hann window, Levinson–Durbin) to the block with its
- *     outliers clipped; the previous block's model is tried too, the one leaving less residual wins, so a
- *     click cannot shape the model meant to expose it;
- *  3. the residual scaled by a robust local level, σ = 1.4826 × its median absolute value (MAD), which a
- *     few click samples cannot move; samples with |e| / σ above `clickThresholdDb` (as 20·log10) are
- *     flagged, and flagged samples closer than p apart are one event;
- *  4. an event is a click when it lasts at most 5 ms (+ the p samples of residual a spike leaves), stands
- *     NEIGHBOUR_DB above every other residual peak of the block (voiced speech leaves a pulse every pitch
- *     period, all alike) and leaves the residual level as it found it (within LEVEL_STEP_DB: a sound's
- *     onset out of a pause is followed by more of it).
+ * Per channel, the stream is judged in stretches of 200 ms, each with WINDOW_SECONDS of signal either side,
+ * so every event is judged with its surroundings on both sides (never at the edge of a block):
+ *  1. a pre-screen on the second difference d[n] = x[n] − 2x[n−1] + x[n−2] (a fixed predictor of slowly
+ *     varying signal, in which a click is impulsive too), in chunks of 2.5 ms: sample n is a candidate when
+ *     |d[n]| exceeds PRESCREEN_RATIO × the mean |d| of the louder chunk beside its own. Steady music, noise
+ *     and nearly all of speech give none, so the costly stages run on a few per cent of the signal at most;
+ *  2. around each candidate (±WINDOW_SECONDS: about 1500 samples at 48 kHz, where Godsill & Rayner fit
+ *     ~1000–2000 at 44.1 kHz), AR(16) fitted by the autocorrelation method (Hann window, Levinson–Durbin)
+ *     to the signal without the candidates' samples, so a click cannot shape the model meant to expose it
+ *     (Godsill & Rayner estimate the model without the corrupted samples for this);
+ *  3. the residual scaled by a robust local level, σ = 1.4826 × the median |e| around the candidate (MAD);
+ *     samples with |e| / σ above `clickThresholdDb` (as 20·log10) are flagged, and flagged samples closer
+ *     than p apart are one event, which must start where the pre-screen fired;
+ *  4. the event is a click when it is impulsive relative to its surroundings: it lasts at most 5 ms (+ the p
+ *     samples of residual a spike leaves), its peak stands NEIGHBOUR_DB above every other residual peak in
+ *     the window (voiced speech leaves a pulse every pitch period, all alike), and the residual level is
+ *     about the same before and after it (within LEVEL_STEP_DB: the burst that opens a sound, or a sound
+ *     cut into silence, is a step) — unless the peak stands the threshold above the louder side as well.
  *
- * Streaming with bounded state: one block of history per channel; the clicks kept for messages are capped
- * per channel and any beyond the cap are still counted.
+ * Streaming with bounded state: 200 ms plus two windows of signal per channel; the clicks kept for messages
+ * are capped per channel and any beyond the cap are still counted.
  */
 import type { Finding } from "../types/report.ts";
 import type { AnalysisSettings } from "../types/settings.ts";
@@ -27,19 +32,28 @@ import { channelLabel, formatTimestamp } from "./findings.ts";
 
 /** AR model order: 16 predicts speech and music well at 44.1/48 kHz (Godsill & Rayner use 10–40). */
 export const CLICK_AR_ORDER = 16;
-/** Block length for the AR fit and the local scale (40 ms; Godsill & Rayner fit ~1000–2000 samples at 44.1 kHz). */
-const BLOCK_SECONDS = 0.04;
-/** The gate (see mayHoldClick): max |second difference| over its block mean. */
-const GATE_RATIO = 12;
-/** The previous block's model is tried only when the residual reaches this share of the threshold (−12 dB). */
-const SUSPECT_FRACTION = 0.25;
-/** Samples beyond this many robust standard deviations are clipped for the AR fit. */
-const CLIP_SIGMAS = 8;
+/** Stretch of the stream whose candidates are judged at a time (its window either side comes with it). */
+const STRETCH_SECONDS = 0.2;
+/** Half the window around a candidate for the AR fit, the local level and the neighbour test (16 ms: a pitch period of the lowest voices fits within). */
+const WINDOW_SECONDS = 0.016;
+/** The pre-screen works in chunks of 2.5 ms … */
+const CHUNK_SECONDS = 0.0025;
+/**
+ * … and a sample's |d| must exceed this many times the mean |d| of the louder chunk beside its own, at the
+ * default threshold (measured on espeak-ng speech: clicks 12 dB over the speech pass, the voice's own pulses
+ * do not). A lower threshold lowers it alike, so fainter clicks reach the AR stage.
+ */
+const PRESCREEN_RATIO = 15;
+/** The threshold PRESCREEN_RATIO belongs to (the default `clickThresholdDb`), and the pre-screen's floor. */
+const PRESCREEN_AT_DB = 40;
+const PRESCREEN_MIN_RATIO = 2;
+/** An event must start within this many samples of the pre-screen's candidates. */
+const START_SLACK = 4;
 /** The residual level over this span before and after a click is compared (5 ms). */
 const CONTEXT_SECONDS = 0.005;
 /** … and may differ by at most this much: more is the onset or end of a sound, not a click (common practice). */
 export const LEVEL_STEP_DB = 18;
-/** A click's residual peak must stand this far above the block's other residual peaks (common practice). */
+/** A click's residual peak must stand this far above the window's other residual peaks (common practice). */
 export const NEIGHBOUR_DB = 12;
 /** Longest disturbance still called a click (issue #18: about 0.02–5 ms). */
 export const CLICK_MAX_SECONDS = 0.005;
@@ -77,35 +91,41 @@ export function createClickDetector(
 
 class ArResidualClickDetector implements ClickDetector {
   private readonly p = CLICK_AR_ORDER;
-  private readonly blockFrames: number;
+  /** Frames judged per pass (the stretch), the window half-width (also the margin either side) and their sum. */
+  private readonly stretch: number;
+  private readonly half: number;
+  private readonly spanFrames: number;
+  private readonly chunk: number;
   private readonly maxClickFrames: number;
+  private readonly contextFrames: number;
   private readonly ratio: number;
-  /** Per channel: p samples of history, then the block being filled. */
+  private readonly prescreenRatio: number;
+  private readonly neighbourRatio = 10 ** (NEIGHBOUR_DB / 20);
+  private readonly stepRatio = 10 ** (LEVEL_STEP_DB / 20);
+  /** Per channel: p samples of history, then the span: margin, stretch, margin. */
   private readonly buffers: Float64Array[];
-  private fill = 0;
-  /** Absolute frame of buffer index p (the block's first sample). */
-  private blockStart = 0;
-  // Scratch, shared by channels.
+  /** Span samples present; the margin before the stream's start is silence. */
+  private fill: number;
+  /** Absolute frame of span index 0 (buffer index p). */
+  private spanStart: number;
+  /** Per channel and pre-screen chunk of the span: the sum and the largest of |d|. */
+  private readonly chunkSum: Float64Array[];
+  private readonly chunkMax: Float64Array[];
+  /** Chunks of the span whose sums are known (those of the margins, carried over from the last span). */
+  private chunksDone = 0;
+  // Scratch, shared by channels; indexed by span position unless said otherwise.
+  /** Candidate positions of the span, in order; those of the stretch are judged, all are kept out of fits. */
+  private readonly candidates: Int32Array;
+  private readonly residual: Float64Array;
+  /** From region start: the windowed, clipped signal for the fit. */
+  private readonly fitData: Float64Array;
+  /** For medians. */
+  private readonly scratch: Float64Array;
   private readonly r: Float64Array;
   private readonly a: Float64Array;
   private readonly aPrev: Float64Array;
-  private readonly residual: Float64Array;
-  private readonly magnitude: Float64Array;
-  private readonly clipped: Float64Array;
-  private readonly window: Float64Array;
-  /** This block's own residual and model while the previous model is tried. */
-  private readonly ownResidual: Float64Array;
-  private readonly ownModel: Float64Array;
-  /** Per channel: the model of the last block analysed. */
-  private readonly models: Float64Array[];
-  private readonly hasModel: Uint8Array;
   /** Per channel: end frame of the last click, or −1. */
   private readonly lastEnd: Float64Array;
-  /** Per channel: the local level of the last block with signal (SCALE_FLOOR before any). */
-  private readonly lastSigma: Float64Array;
-  private readonly neighbourRatio = 10 ** (NEIGHBOUR_DB / 20);
-  private readonly stepRatio = 10 ** (LEVEL_STEP_DB / 20);
-  private readonly contextFrames: number;
   private readonly kept: ClickEvent[][];
   private readonly counts: number[];
 
@@ -115,25 +135,29 @@ class ArResidualClickDetector implements ClickDetector {
     thresholdDb: number,
     private readonly onCandidate: ((startFrame: number, endFrame: number) => void) | null = null,
   ) {
-    this.blockFrames = Math.max(4 * this.p, Math.round(BLOCK_SECONDS * sampleRateHz));
+    const p = this.p;
+    // Margins and stretch are whole chunks, so chunks fall at the same frames in every span.
+    const L = (this.chunk = Math.max(p, Math.round(CHUNK_SECONDS * sampleRateHz)));
+    this.half = L * Math.ceil(Math.max(4 * p, Math.round(WINDOW_SECONDS * sampleRateHz)) / L);
+    this.stretch = L * Math.max(1, Math.round((STRETCH_SECONDS * sampleRateHz) / L));
+    this.spanFrames = this.stretch + 2 * this.half;
     this.maxClickFrames = Math.max(1, Math.round(CLICK_MAX_SECONDS * sampleRateHz));
     this.contextFrames = Math.max(8, Math.round(CONTEXT_SECONDS * sampleRateHz));
     this.ratio = 10 ** (thresholdDb / 20);
-    this.buffers = Array.from({ length: channels }, () => new Float64Array(this.p + this.blockFrames));
-    this.r = new Float64Array(this.p + 1);
-    this.a = new Float64Array(this.p + 1);
-    this.aPrev = new Float64Array(this.p + 1);
-    this.residual = new Float64Array(this.blockFrames);
-    this.magnitude = new Float64Array(this.blockFrames);
-    this.clipped = new Float64Array(this.blockFrames);
-    this.window = new Float64Array(this.blockFrames);
-    this.ownResidual = new Float64Array(this.blockFrames);
-    this.ownModel = new Float64Array(this.p + 1);
-    this.models = Array.from({ length: channels }, () => new Float64Array(this.p + 1));
-    this.hasModel = new Uint8Array(channels);
-    for (let i = 0; i < this.blockFrames; i++) this.window[i] = 0.5 - 0.5 * Math.cos((2 * Math.PI * (i + 0.5)) / this.blockFrames);
+    this.prescreenRatio = Math.max(PRESCREEN_MIN_RATIO, PRESCREEN_RATIO * Math.min(1, 10 ** ((thresholdDb - PRESCREEN_AT_DB) / 20)));
+    this.buffers = Array.from({ length: channels }, () => new Float64Array(p + this.spanFrames));
+    this.fill = this.half;
+    this.spanStart = -this.half;
+    this.chunkSum = Array.from({ length: channels }, () => new Float64Array(this.spanFrames / L));
+    this.chunkMax = Array.from({ length: channels }, () => new Float64Array(this.spanFrames / L));
+    this.candidates = new Int32Array(this.spanFrames);
+    this.residual = new Float64Array(this.spanFrames);
+    this.fitData = new Float64Array(this.spanFrames);
+    this.scratch = new Float64Array(this.spanFrames);
+    this.r = new Float64Array(p + 1);
+    this.a = new Float64Array(p + 1);
+    this.aPrev = new Float64Array(p + 1);
     this.lastEnd = new Float64Array(channels).fill(-1);
-    this.lastSigma = new Float64Array(channels).fill(SCALE_FLOOR);
     this.kept = Array.from({ length: channels }, () => []);
     this.counts = new Array<number>(channels).fill(0);
   }
@@ -142,135 +166,257 @@ class ArResidualClickDetector implements ClickDetector {
     let at = 0;
     const p = this.p;
     while (at < frames) {
-      const n = Math.min(frames - at, this.blockFrames - this.fill);
-      for (let c = 0; c < this.channels; c++) {
-        const buf = this.buffers[c];
-        const x = input[c];
-        for (let i = 0; i < n; i++) buf[p + this.fill + i] = x[at + i];
-      }
+      const n = Math.min(frames - at, this.spanFrames - this.fill);
+      for (let c = 0; c < this.channels; c++) this.buffers[c].set(input[c].subarray(at, at + n), p + this.fill);
       this.fill += n;
       at += n;
-      if (this.fill === this.blockFrames) this.processBlock(this.blockFrames);
-    }
-  }
-
-  private processBlock(length: number): void {
-    for (let c = 0; c < this.channels; c++) {
-      if (this.mayHoldClick(c, length)) this.detect(c, length);
-    }
-    const p = this.p;
-    for (let c = 0; c < this.channels; c++) {
-      const buf = this.buffers[c];
-      buf.copyWithin(0, length, length + p);
-    }
-    this.blockStart += length;
-    this.fill = 0;
-  }
-
-  /**
-   * The gate that keeps the AR fit off most blocks: a click is impulsive in the second difference too
-   * (d[n] = x[n] − 2x[n−1] + x[n−2], a fixed predictor of slowly varying signal), so a block whose largest
-   * |d| is under GATE_RATIO × its mean |d| holds none. Noise reaches about 4×, tones π/2.
-   */
-  private mayHoldClick(c: number, length: number): boolean {
-    const x = this.buffers[c];
-    const p = this.p;
-    let sum = 0;
-    let max = 0;
-    for (let n = p; n < p + length; n++) {
-      const d = Math.abs(x[n] - 2 * x[n - 1] + x[n - 2]);
-      sum += d;
-      if (d > max) max = d;
-    }
-    if (max === 0) return false;
-    return max > GATE_RATIO * (sum / length) || sum === max;
-  }
-
-  /**
-   * Fits AR(p) to the block of channel c, scales the residual by its MAD and judges the outliers. The fit
-   * is kept from being shaped by the click it should expose (Godsill & Rayner fit iteratively for this):
-   * samples beyond 8 robust standard deviations are clipped for it, and the previous block's model is
-   * tried as well, the one with the smaller residual level winning.
-   */
-  private detect(c: number, length: number): void {
-    const p = this.p;
-    const x = this.buffers[c];
-    const m = this.magnitude;
-    for (let i = 0; i < length; i++) m[i] = Math.abs(x[p + i]);
-    const clip = CLIP_SIGMAS * MAD_TO_SIGMA * medianInPlace(m, length);
-    let sigma = this.fitAndFilter(c, length, clip);
-    // The previous block's model too, and whichever leaves the smaller residual level: a click that
-    // shaped this block's fit is exposed by the model from before it, while a changing signal keeps its own.
-    if (this.hasModel[c] === 1 && this.maxResidual(length) > SUSPECT_FRACTION * this.ratio * sigma) {
-      const own = this.ownResidual;
-      own.set(this.residual.subarray(0, length));
-      const ownModel = this.ownModel;
-      ownModel.set(this.a);
-      const ownLast = this.lastSigma[c];
-      this.a.set(this.models[c]);
-      const previous = this.filter(c, length);
-      if (previous < sigma) sigma = previous;
-      else {
-        this.residual.set(own.subarray(0, length));
-        this.a.set(ownModel);
-        this.lastSigma[c] = ownLast;
-      }
-    }
-    this.models[c].set(this.a);
-    this.hasModel[c] = 1;
-    const e = this.residual;
-    const limit = this.ratio * sigma;
-    // The stream's first p samples are predicted from silence before it: a file that starts mid-signal is no click.
-    let i = this.blockStart === 0 ? p : 0;
-    while (i < length) {
-      if (e[i] <= limit) {
-        i++;
-        continue;
-      }
-      // One event: flagged samples closer than p apart.
-      const start = i;
-      let last = i;
-      let peak = e[i];
-      for (i++; i < length && i - last <= p; i++) {
-        if (e[i] > limit) {
-          last = i;
-          if (e[i] > peak) peak = e[i];
+      if (this.fill === this.spanFrames) {
+        this.processSpan(this.spanFrames);
+        const shift = this.stretch / this.chunk;
+        for (let c = 0; c < this.channels; c++) {
+          this.buffers[c].copyWithin(0, this.stretch, p + this.spanFrames);
+          this.chunkSum[c].copyWithin(0, shift);
+          this.chunkMax[c].copyWithin(0, shift);
         }
+        this.chunksDone = this.spanFrames / this.chunk - shift;
+        this.spanStart += this.stretch;
+        this.fill -= this.stretch;
       }
-      this.judge(c, start, last + 1, peak, sigma, length);
+    }
+  }
+
+  /** Judges the stretch [half, half + stretch) of the span, of which `end` samples are present. */
+  private processSpan(end: number): void {
+    for (let c = 0; c < this.channels; c++) {
+      const count = this.prescreen(c, end);
+      if (count > 0) this.analyse(c, end, count);
+    }
+    this.chunksDone = Math.floor(end / this.chunk);
+  }
+
+  /**
+   * Candidates of the span into `candidates`; returns their count. A first pass keeps only each chunk's
+   * sum and largest |d|; a chunk whose largest stands the pre-screen ratio above its louder neighbour's
+   * mean is then scanned for the samples that do.
+   */
+  private prescreen(c: number, end: number): number {
+    const p = this.p;
+    const x = this.buffers[c];
+    const L = this.chunk;
+    const sums = this.chunkSum[c];
+    const maxima = this.chunkMax[c];
+    const chunks = Math.ceil(end / L);
+    for (let q = this.chunksDone; q < chunks; q++) {
+      const to = Math.min(end, (q + 1) * L) + p;
+      let sum = 0;
+      let max = 0;
+      for (let n = q * L + p; n < to; n++) {
+        const v = Math.abs(x[n] - 2 * x[n - 1] + x[n - 2]);
+        sum += v;
+        max = Math.max(max, v);
+      }
+      sums[q] = sum;
+      maxima[q] = max;
+    }
+    const cand = this.candidates;
+    const first = p - this.spanStart;
+    let count = 0;
+    for (let q = 0; q < chunks; q++) {
+      if (maxima[q] === 0) continue;
+      // The louder neighbour's mean (a sound's onset next to silence is measured against the sound; the
+      // last chunk may be short).
+      const before = q > 0 ? sums[q - 1] / L : 0;
+      const after = q + 1 < chunks ? sums[q + 1] / Math.min(L, end - (q + 1) * L) : 0;
+      const limit = this.prescreenRatio * (before > after ? before : after);
+      if (maxima[q] <= limit) continue;
+      const to = Math.min(end, (q + 1) * L);
+      for (let j = Math.max(q * L, first); j < to; j++) {
+        const n = p + j;
+        const d = x[n] - 2 * x[n - 1] + x[n - 2];
+        if ((d < 0 ? -d : d) > limit) cand[count++] = j;
+      }
+    }
+    return count;
+  }
+
+  /**
+   * The stretch's candidates closer than p apart are one cluster; clusters whose windows overlap share
+   * one region, which gets one AR fit and residual. Each cluster is then judged in its own window.
+   */
+  private analyse(c: number, end: number, count: number): void {
+    const p = this.p;
+    const W = this.half;
+    const cand = this.candidates;
+    const stretchEnd = W + this.stretch;
+    let k = 0;
+    while (k < count && cand[k] < W) k++;
+    // Candidates in the margin before, for the fit: from the first within reach of the region.
+    let fitFrom = 0;
+    while (k < count && cand[k] < stretchEnd) {
+      // One region: clusters until the next one's window starts past this region's end.
+      const regionFirst = k;
+      let regionEnd = Math.min(end, cand[k] + W + 1);
+      let last = k;
+      while (last + 1 < count && cand[last + 1] < stretchEnd && cand[last + 1] - W <= regionEnd) {
+        last++;
+        regionEnd = Math.min(end, cand[last] + W + 1);
+      }
+      const lo = Math.max(0, cand[regionFirst] - W);
+      const hi = regionEnd;
+      while (cand[fitFrom] + p <= lo) fitFrom++;
+      let fitTo = last + 1;
+      while (fitTo < count && cand[fitTo] - 1 < hi) fitTo++;
+      this.fit(c, lo, hi, fitFrom, fitTo);
+      this.filter(c, lo, hi);
+      // Clusters of the region, in order.
+      let i = regionFirst;
+      while (i <= last) {
+        let j = i;
+        while (j + 1 <= last && cand[j + 1] - cand[j] <= p) j++;
+        this.judge(c, cand[i], cand[j], Math.max(lo, cand[i] - W), Math.min(hi, cand[j] + W + 1));
+        i = j + 1;
+      }
+      k = last + 1;
     }
   }
 
   /**
-   * An event is a click when it is short and stands out of its neighbourhood too: its peak at least
-   * NEIGHBOUR_DB above the largest residual elsewhere in the block (outside the event and p samples either
-   * side). Voiced speech leaves a residual pulse every pitch period, all alike; a click stands alone.
+   * AR(p) by the autocorrelation method on x[lo, hi) without the candidates (those of the margins too):
+   * the stretches between them (each candidate's sample before it and p after it, a click's ringing, left
+   * out) are Hann-windowed on their own and their autocorrelations summed. Setting the candidates to zero
+   * in one window instead would leave sharp edges in the data, whose leakage caps the prediction of
+   * steady tones near 40 dB.
    */
-  private judge(c: number, start: number, end: number, peak: number, sigma: number, length: number): void {
-    const frameStart = this.blockStart + start;
-    const frameEnd = this.blockStart + end;
-    // The tail of a click in the previous block, carried by the AR history: part of that click.
+  private fit(c: number, lo: number, hi: number, firstCandidate: number, endCandidate: number): void {
+    const p = this.p;
+    const x = this.buffers[c];
+    this.r.fill(0);
+    const cand = this.candidates;
+    let from = lo;
+    let used = 0;
+    for (let k = firstCandidate; k <= endCandidate; k++) {
+      const to = k < endCandidate ? Math.min(hi, Math.max(lo, cand[k] - 1)) : hi;
+      if (to - from > 2 * p) {
+        this.accumulate(x, from, to);
+        used += to - from;
+      }
+      if (k < endCandidate) from = Math.max(from, Math.min(hi, cand[k] + p));
+    }
+    // Candidates everywhere: the whole region, click and all (its residual is then understated).
+    if (used === 0) this.accumulate(x, lo, hi);
+    if (!this.levinson()) {
+      this.a.fill(0);
+      this.a[0] = 1;
+    }
+  }
+
+  /** Adds the autocorrelation of x[from, to) (span positions), Hann-windowed, to r. */
+  private accumulate(x: Float64Array, from: number, to: number): void {
+    const p = this.p;
+    const n = to - from;
+    const f = this.fitData;
+    // Hann window by a rotating phasor (no cos per sample): w[i] = 0.5 − 0.5·cos(2π(i + ½)/n).
+    const step = (2 * Math.PI) / n;
+    const cd = Math.cos(step);
+    const sd = Math.sin(step);
+    let cs = Math.cos(step / 2);
+    let sn = Math.sin(step / 2);
+    for (let i = 0; i < n; i++) {
+      const v = x[p + from + i];
+      f[i] = v * (0.5 - 0.5 * cs);
+      const t = cs * cd - sn * sd;
+      sn = sn * cd + cs * sd;
+      cs = t;
+    }
+    const r = this.r;
+    for (let k = 0; k <= p; k++) {
+      let s = 0;
+      for (let i = k; i < n; i++) s += f[i] * f[i - k];
+      r[k] += s;
+    }
+  }
+
+  /** The residual |e| on [lo, hi) through the prediction error filter in `a`. */
+  private filter(c: number, lo: number, hi: number): void {
+    const p = this.p;
+    const x = this.buffers[c];
+    const a = this.a;
+    const e = this.residual;
+    for (let i = lo; i < hi; i++) {
+      const n = p + i;
+      let y = x[n];
+      for (let k = 1; k <= p; k++) y += a[k] * x[n - k];
+      e[i] = Math.abs(y);
+    }
+  }
+
+  /**
+   * The cluster [first, last] (span positions) in its window [lo, hi): the local level without the
+   * cluster, the event that starts at it, and the tests of step 4.
+   */
+  private judge(c: number, first: number, last: number, lo: number, hi: number): void {
+    const p = this.p;
+    const e = this.residual;
+    // The local level: MAD of the window's non-zero residual outside the cluster (exact zeros are digital
+    // silence and say nothing of the signal's level).
+    const m = this.scratch;
+    let n = 0;
+    const skipFrom = first - p;
+    const skipTo = last + p;
+    for (let i = lo; i < hi; i++) {
+      if (i >= skipFrom && i <= skipTo) continue;
+      const v = e[i];
+      if (v !== 0) m[n++] = v;
+    }
+    const sigma = n >= 2 * p ? Math.max(SCALE_FLOOR, MAD_TO_SIGMA * medianInPlace(m, n)) : SCALE_FLOOR;
+    const limit = this.ratio * sigma;
+    let start = -1;
+    const startTo = Math.min(hi, last + START_SLACK + 1);
+    for (let i = Math.max(lo, first - START_SLACK); i < startTo; i++) {
+      if (e[i] > limit) {
+        start = i;
+        break;
+      }
+    }
+    if (start < 0) return;
+    let end = start;
+    let peak = e[start];
+    for (let i = start + 1; i < hi && i - end <= p; i++) {
+      if (e[i] > limit) {
+        end = i;
+        if (e[i] > peak) peak = e[i];
+      }
+    }
+    end++;
+    const frameStart = this.spanStart + start;
+    const frameEnd = this.spanStart + end;
+    // Within reach of the last click (its ringing, or a cluster the pre-screen split): part of it.
     const k = this.kept[c];
-    if (this.lastEnd[c] >= 0 && frameStart - this.lastEnd[c] <= this.p) {
-      this.lastEnd[c] = frameEnd;
-      if (k.length > 0 && k[k.length - 1].endFrame >= frameStart - this.p) k[k.length - 1].endFrame = frameEnd;
+    if (this.lastEnd[c] >= 0 && frameStart - this.lastEnd[c] <= p) {
+      if (frameEnd > this.lastEnd[c]) {
+        this.lastEnd[c] = frameEnd;
+        if (k.length > 0 && k[k.length - 1].endFrame >= frameStart - p) k[k.length - 1].endFrame = frameEnd;
+      }
       return;
     }
-    if (end - start > this.maxClickFrames + this.p) return;
-    const e = this.residual;
-    const p = this.p;
+    if (end - start > this.maxClickFrames + p) return;
+    // Alone in its window: no other residual peak within NEIGHBOUR_DB of it.
     let elsewhere = 0;
-    const lo = Math.max(0, start - p);
-    const hi = Math.min(length, end + p);
-    for (let i = 0; i < lo; i++) if (e[i] > elsewhere) elsewhere = e[i];
-    for (let i = hi; i < length; i++) if (e[i] > elsewhere) elsewhere = e[i];
+    const a = Math.max(lo, start - p);
+    const b = Math.min(hi, end + p);
+    for (let i = lo; i < a; i++) if (e[i] > elsewhere) elsewhere = e[i];
+    for (let i = b; i < hi; i++) if (e[i] > elsewhere) elsewhere = e[i];
     if (peak < this.neighbourRatio * elsewhere) return;
-    // The residual level just before and just after: a click leaves the signal as it found it, while the
-    // burst that opens a sound (a stop consonant, a note's attack) is followed by more of it.
-    const before = rms(e, start - p - this.contextFrames, start - p, length);
-    const after = rms(e, end + p, end + p + this.contextFrames, length);
-    // Digital silence on one side only (a word out of or into a pause) is a step too; NaN: not at hand.
-    if (after > this.stepRatio * before || before > this.stepRatio * after) return;
+    // The residual level just before and after: a click leaves the signal as it found it, while the burst
+    // that opens a sound (a stop consonant, a note's attack) is followed by more of it, and a sound cut
+    // into digital silence has none after. "After" starts where the longest click would have ended, past
+    // the ringing a click may leave (a decaying resonance is part of it). NaN (not at hand, at the
+    // stream's end) passes.
+    const before = rms(e, start - p - this.contextFrames, start - p, lo, hi);
+    const afterFrom = Math.max(end, start + this.maxClickFrames) + p;
+    const after = rms(e, afterFrom, afterFrom + this.contextFrames, lo, hi);
+    const louder = after > before ? after : before;
+    if ((after > this.stepRatio * before || before > this.stepRatio * after) && !(peak >= this.ratio * louder)) return;
     this.lastEnd[c] = frameEnd;
     this.counts[c]++;
     if (k.length < MAX_KEPT) {
@@ -279,68 +425,9 @@ class ArResidualClickDetector implements ClickDetector {
     }
   }
 
-  /** The AR fit (clipped, Hann-windowed autocorrelation) and the residual |e| into `residual`; returns σ. */
-  private fitAndFilter(c: number, length: number, clip: number): number {
-    const p = this.p;
-    const x = this.buffers[c];
-    const r = this.r;
-    const clipped = this.clipped;
-    const w = this.window;
-    // Hann-windowed, as in linear prediction practice: an unwindowed block's edges bias the fit enough to
-    // cap the prediction of steady tones at about 50 dB.
-    for (let i = 0; i < length; i++) {
-      const v = x[p + i];
-      clipped[i] = (clip > 0 ? (v > clip ? clip : v < -clip ? -clip : v) : v) * w[i];
-    }
-    for (let k = 0; k <= p; k++) {
-      let s = 0;
-      for (let i = k; i < length; i++) s += clipped[i] * clipped[i - k];
-      r[k] = s;
-    }
-    if (!this.levinson()) {
-      this.a.fill(0);
-      this.a[0] = 1;
-    }
-    return this.filter(c, length);
-  }
-
-  private maxResidual(length: number): number {
-    const e = this.residual;
-    let max = 0;
-    for (let i = 0; i < length; i++) if (e[i] > max) max = e[i];
-    return max;
-  }
-
-  /** The residual |e| of the block through the prediction error filter in `a`; returns σ. */
-  private filter(c: number, length: number): number {
-    const p = this.p;
-    const x = this.buffers[c];
-    const a = this.a;
-    const e = this.residual;
-    const m = this.magnitude;
-    let nonZero = 0;
-    for (let i = 0; i < length; i++) {
-      const n = p + i;
-      let y = x[n];
-      for (let k = 1; k <= p; k++) y += a[k] * x[n - k];
-      e[i] = Math.abs(y);
-      // Exact zeros (digital silence in the block) say nothing of the signal's level: left out of the median.
-      if (y !== 0) m[nonZero++] = Math.abs(y);
-    }
-    // With (nearly) all the block digital silence, the level is the last block's that had signal: the edge
-    // of a word that ends or starts in the block stands out of nothing, but not out of its own speech. 2p
-    // non-zero residuals are more than one click leaves (p + its own length), so then the block sets the scale.
-    if (nonZero > 2 * p + this.maxClickFrames) {
-      const sigma = Math.max(SCALE_FLOOR, MAD_TO_SIGMA * medianInPlace(m, nonZero));
-      this.lastSigma[c] = sigma;
-      return sigma;
-    }
-    return this.lastSigma[c];
-  }
-
   /**
    * Levinson–Durbin on r[0..p]: a[0] = 1, prediction error filter A(z) = 1 + Σ a_k z^−k. False when the
-   * block is silent or the recursion breaks down (then the residual is the signal itself).
+   * window is silent or the recursion breaks down (then the residual is the signal itself).
    */
   private levinson(): boolean {
     const p = this.p;
@@ -367,11 +454,10 @@ class ArResidualClickDetector implements ClickDetector {
   }
 
   finish(): { findings: Finding[]; counts: number[] } {
-    const p = this.p;
-    if (this.fill > 2 * p) {
-      this.processBlock(this.fill);
-    }
+    // The last stretch, without a margin after it.
+    if (this.fill > this.half) this.processSpan(this.fill);
     const fs = this.sampleRateHz;
+    const p = this.p;
     const findings: Finding[] = [];
     for (let c = 0; c < this.channels; c++) {
       const total = this.counts[c];
@@ -393,10 +479,10 @@ class ArResidualClickDetector implements ClickDetector {
   }
 }
 
-/** RMS of v over [from, to) clipped to [0, limit); NaN when under 8 values remain. */
-function rms(v: Float64Array, from: number, to: number, limit: number): number {
-  const lo = Math.max(0, from);
-  const hi = Math.min(limit, to);
+/** RMS of v over [from, to) clipped to [min, max); NaN when under 8 values remain. */
+function rms(v: Float64Array, from: number, to: number, min: number, max: number): number {
+  const lo = Math.max(min, from);
+  const hi = Math.min(max, to);
   if (hi - lo < 8) return NaN;
   let s = 0;
   for (let i = lo; i < hi; i++) s += v[i] * v[i];
