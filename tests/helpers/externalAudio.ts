@@ -38,17 +38,26 @@ export function readPcm16Wav(bytes: Uint8Array): { sampleRateHz: number; channel
   throw new Error("readPcm16Wav: no data chunk");
 }
 
-/** Speech from espeak-ng (16-bit mono at its own 22.05 kHz); with `rateHz`, resampled by sox without dither. */
-export function espeakSpeech(text: string, rateHz?: number): { sampleRateHz: number; samples: Float32Array } {
+/**
+ * Speech from espeak-ng (16-bit mono at its own 22.05 kHz); with `rateHz`, resampled by sox without dither,
+ * or with sox's default 16-bit dither when `dither` is set (then sounds fade into ±1 LSB of noise at the
+ * edges of pauses instead of straight into digital zero).
+ * `voice` is an espeak-ng voice name ("en" by default; "en-us", "en+f3", …).
+ */
+export function espeakSpeech(
+  text: string,
+  rateHz?: number,
+  options: { voice?: string; dither?: boolean } = {},
+): { sampleRateHz: number; samples: Float32Array } {
   const dir = mkdtempSync(join(tmpdir(), "tidemark-espeak-"));
   try {
     const raw = join(dir, "speech.wav");
-    const run = spawnSync("espeak-ng", ["-v", "en", "-s", "150", "-w", raw, text]);
+    const run = spawnSync("espeak-ng", ["-v", options.voice ?? "en", "-s", "150", "-w", raw, text]);
     if (run.status !== 0) throw new Error(`espeak-ng failed: ${run.stderr.toString().trim()}`);
     let path = raw;
     if (rateHz !== undefined) {
       path = join(dir, "resampled.wav");
-      const sox = spawnSync("sox", ["-D", raw, "-b", "16", path, "rate", "-v", String(rateHz)]);
+      const sox = spawnSync("sox", [...(options.dither === true ? [] : ["-D"]), raw, "-b", "16", path, "rate", "-v", String(rateHz)]);
       if (sox.status !== 0) throw new Error(`sox failed: ${sox.stderr.toString().trim()}`);
     }
     const { sampleRateHz, channels } = readPcm16Wav(new Uint8Array(readFileSync(path)));
