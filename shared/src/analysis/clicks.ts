@@ -22,13 +22,12 @@
  *     the window (voiced speech leaves a pulse every pitch period, all alike), and the residual level is
  *     about the same before and after it (within LEVEL_STEP_DB: the burst that opens a sound, or a sound
  *     cut into silence, is a step) — unless the peak stands the threshold above the louder side as well.
- *     A crest of the waveform flattened at full scale is left to the clipping and near-clip findings.
  *
  * Streaming with bounded state: 200 ms plus two windows of signal per channel; the clicks kept for messages
  * are capped per channel and any beyond the cap are still counted.
  */
 import type { Finding } from "../types/report.ts";
-import { DEFAULT_ANALYSIS_SETTINGS, type AnalysisSettings } from "../types/settings.ts";
+import type { AnalysisSettings } from "../types/settings.ts";
 import { channelLabel, formatTimestamp } from "./findings.ts";
 
 /** AR model order: 16 predicts speech and music well at 44.1/48 kHz (Godsill & Rayner use 10–40). */
@@ -58,8 +57,6 @@ export const LEVEL_STEP_DB = 18;
 export const NEIGHBOUR_DB = 12;
 /** Longest disturbance still called a click (issue #18: about 0.02–5 ms). */
 export const CLICK_MAX_SECONDS = 0.005;
-/** A sample at full scale whose neighbours are within this of it is a clipped crest, not a click (our choice). */
-const CREST_DB = 1;
 /** MAD → standard deviation for Gaussian residuals. */
 const MAD_TO_SIGMA = 1.4826;
 /** Scale floor (about −120 dBFS): a click in digital silence stands out of nothing at all. */
@@ -86,11 +83,10 @@ export interface ClickDetector {
 export function createClickDetector(
   sampleRateHz: number,
   channels: number,
-  settings: Pick<AnalysisSettings, "clickThresholdDb"> & Partial<Pick<AnalysisSettings, "clipToleranceDb">>,
+  settings: Pick<AnalysisSettings, "clickThresholdDb">,
   onCandidate: ((startFrame: number, endFrame: number) => void) | null = null,
 ): ClickDetector {
-  const clipToleranceDb = settings.clipToleranceDb ?? DEFAULT_ANALYSIS_SETTINGS.clipToleranceDb;
-  return new ArResidualClickDetector(sampleRateHz, channels, settings.clickThresholdDb, 10 ** (-clipToleranceDb / 20), onCandidate);
+  return new ArResidualClickDetector(sampleRateHz, channels, settings.clickThresholdDb, onCandidate);
 }
 
 class ArResidualClickDetector implements ClickDetector {
@@ -137,8 +133,6 @@ class ArResidualClickDetector implements ClickDetector {
     private readonly sampleRateHz: number,
     private readonly channels: number,
     thresholdDb: number,
-    /** |x| from which a sample counts as at full scale (the clipping detector's tolerance). */
-    private readonly fullScale: number,
     private readonly onCandidate: ((startFrame: number, endFrame: number) => void) | null = null,
   ) {
     const p = this.p;
@@ -413,7 +407,6 @@ class ArResidualClickDetector implements ClickDetector {
     for (let i = lo; i < a; i++) if (e[i] > elsewhere) elsewhere = e[i];
     for (let i = b; i < hi; i++) if (e[i] > elsewhere) elsewhere = e[i];
     if (peak < this.neighbourRatio * elsewhere) return;
-    if (this.clippedCrest(c, start, end)) return;
     // The residual level just before and after: a click leaves the signal as it found it, while the burst
     // that opens a sound (a stop consonant, a note's attack) is followed by more of it, and a sound cut
     // into digital silence has none after. "After" starts where the longest click would have ended, past
@@ -430,24 +423,6 @@ class ArResidualClickDetector implements ClickDetector {
       k.push({ channel: c, startFrame: frameStart, endFrame: frameEnd, prominenceDb: 20 * Math.log10(peak / sigma) });
       this.onCandidate?.(frameStart, frameEnd);
     }
-  }
-
-  /**
-   * Whether the event (or the p samples before it) holds a crest of the waveform flattened at full scale:
-   * a sample at full scale with both neighbours on the same side and within CREST_DB of it. The wave was
-   * already up there; the clipping and near-clip findings report it, not this detector. A click that
-   * reaches full scale out of quieter signal has neighbours far below it, or of the other sign.
-   */
-  private clippedCrest(c: number, start: number, end: number): boolean {
-    const x = this.buffers[c];
-    const p = this.p;
-    const near = this.fullScale * 10 ** (-CREST_DB / 20);
-    // The p samples before the event too: the residual carries a flattened sample into the next p.
-    for (let n = Math.max(1, start); n < p + end; n++) {
-      const v = x[n];
-      if (v >= this.fullScale ? x[n - 1] >= near && x[n + 1] >= near : v <= -this.fullScale && x[n - 1] <= -near && x[n + 1] <= -near) return true;
-    }
-    return false;
   }
 
   /**
