@@ -80,6 +80,10 @@ describe("examples/scan-folder.sh on the demo archive", () => {
     expect(file("FTI-02 ticket office.bwf").metadata.bext?.originator).toBe("Harbourside Sound Archive");
   });
 
+  it("finds no click in the demo: it has none planted (issue #18: no false clicks on its speech)", () => {
+    for (const f of report.files) expect(f.findings.filter((x) => x.code === "click").map((x) => x.message), f.path).toEqual([]);
+  });
+
   it("fails none of the clean transfers", () => {
     for (const name of ["FTI-01 harbourmaster.wav", "LCR-01 reel 1 side A.wav", "LCR-04 vigil.rf64"]) {
       expect(codes(name, "fail"), name).toEqual([]);
