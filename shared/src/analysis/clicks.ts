@@ -117,7 +117,7 @@ class ArResidualClickDetector implements ClickDetector {
   /** Candidate positions of the span, in order; those of the stretch are judged, all are kept out of fits. */
   private readonly candidates: Int32Array;
   private readonly residual: Float64Array;
-  /** From region start: the windowed, clipped signal for the fit. */
+  /** From the start of a stretch between candidates: the Hann-windowed signal for the fit. */
   private readonly fitData: Float64Array;
   /** For medians. */
   private readonly scratch: Float64Array;
@@ -191,7 +191,6 @@ class ArResidualClickDetector implements ClickDetector {
       const count = this.prescreen(c, end);
       if (count > 0) this.analyse(c, end, count);
     }
-    this.chunksDone = Math.floor(end / this.chunk);
   }
 
   /**
@@ -410,8 +409,9 @@ class ArResidualClickDetector implements ClickDetector {
     // The residual level just before and after: a click leaves the signal as it found it, while the burst
     // that opens a sound (a stop consonant, a note's attack) is followed by more of it, and a sound cut
     // into digital silence has none after. "After" starts where the longest click would have ended, past
-    // the ringing a click may leave (a decaying resonance is part of it). NaN (not at hand, at the
-    // stream's end) passes.
+    // the ringing a click may leave (a decaying resonance is part of it). A step is still a click when the
+    // peak stands the threshold above the louder side too (a click in the pause just before a word). NaN
+    // (not at hand, at the stream's end) passes.
     const before = rms(e, start - p - this.contextFrames, start - p, lo, hi);
     const afterFrom = Math.max(end, start + this.maxClickFrames) + p;
     const after = rms(e, afterFrom, afterFrom + this.contextFrames, lo, hi);
