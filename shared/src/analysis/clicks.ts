@@ -23,6 +23,10 @@
  *     about the same before and after it (within LEVEL_STEP_DB: the burst that opens a sound, or a sound
  *     cut into silence, is a step) — unless the peak stands the threshold above the louder side as well.
  *
+ * False alarms at the default threshold, 10 minutes each (scripts/click-false-alarms.ts, 2026-12-05): pink
+ * noise 0; espeak-ng speech 0 (the block-wise detector before this one: 18, nearly all at block edges);
+ * other sentences in four other espeak-ng voices, dithered, 1 (after a sample sox clipped on a crest).
+ *
  * Streaming with bounded state: 200 ms plus two windows of signal per channel; the clicks kept for messages
  * are capped per channel and any beyond the cap are still counted.
  */
