@@ -162,6 +162,20 @@ describe.runIf(espeakAvailable)("clicks over synthesised speech (espeak-ng, resa
     expect(result.hits).toBeGreaterThanOrEqual(1);
   });
 
+  it("a lower clickThresholdDb finds fainter clicks (+6 dB over the speech): the pre-screen follows it", () => {
+    const at = voicedPositions(20, 17);
+    const x = plant(speech, at, [1, -0.6, 0.3], { aboveLocalDb: 6 });
+    const found = (thresholdDb: number) => {
+      const d = createClickDetector(RATE, 1, { clickThresholdDb: thresholdDb });
+      d.push([x], x.length);
+      return score(d.finish().findings, at);
+    };
+    const atDefault = found(THRESHOLD);
+    const lower = found(THRESHOLD - 10);
+    expect(lower.hits).toBeGreaterThan(atDefault.hits);
+    expect(lower.hits).toBeGreaterThanOrEqual(at.length - 2);
+  });
+
   it("the clean speech gives at most one click", () => {
     expect(detect(speech).length).toBeLessThanOrEqual(1);
   });
