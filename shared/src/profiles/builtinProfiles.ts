@@ -51,8 +51,9 @@ const DETECTION_RULES = [
     "(half of its quietest 10 % of 50 ms windows hold digital zero) or where the signal fades into the run (its 5 ms edge 20 dB under the " +
     "signal beside it and 6 dB under the noise floor) it is digital-silence (info)",
   "click: an impulsive disturbance (≤ 5 ms) whose AR(16) prediction residual stands clickThresholdDb (default 40 dB) above the residual's " +
-    "robust local level (1.4826 × median absolute residual), per Godsill & Rayner, Digital Audio Restoration (1998); default measured at " +
-    "0 false alarms in 10 min of pink noise (scripts/click-false-alarms.ts)",
+    "robust local level (1.4826 × median absolute residual) and alone within 16 ms either side, per Godsill & Rayner, Digital Audio " +
+    "Restoration (1998); default measured at 0 false alarms in 10 min of pink noise and 0 in 10 min of synthesised speech " +
+    "(scripts/click-false-alarms.ts)",
   "dead-channel: a silent LFE channel (WAVE_FORMAT_EXTENSIBLE mask, else the default 5.1/7.1 order) is normal and not checked unless " +
     "deadChannelIncludesLfe is true",
   "upsampled: a shelf at 95–101 % of a lower standard rate's Nyquist with an empty band above it; a steeper low-pass from 15 kHz up at " +
