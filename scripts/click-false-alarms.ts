@@ -1,7 +1,8 @@
 /**
  * False alarms of the click detector on clean material, the figure issue #18 asks for: 10 minutes of pink
  * noise and 10 minutes of synthesised speech (espeak-ng, resampled to 48 kHz by sox), at the default
- * threshold; and 10 minutes more of other sentences in four other voices, dithered. Not part of `npm test` (it takes a minute); run `node --import tsx scripts/click-false-alarms.ts`.
+ * threshold; and 10 minutes more of other sentences in four other voices, dithered. Not part of `npm test`
+ * (it takes a minute); run `node --import tsx scripts/click-false-alarms.ts`.
  */
 import { createClickDetector } from "../shared/src/analysis/clicks.ts";
 import { DEFAULT_ANALYSIS_SETTINGS } from "../shared/src/types/settings.ts";
