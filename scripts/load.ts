@@ -1,10 +1,12 @@
 /**
  * `npm run load [-- result.json]`: the bounded loopback load test. Starts a throwaway PostgreSQL, seeds
- * 100 000 file results, runs the real server as its own process, then 50 concurrent clients (each signed
- * in with its own session) list and filter files for 30 s. By default a client sends its next request as
+ * 1 000 000 file results, runs the real server as its own process, then 50 concurrent clients (each signed
+ * in with its own session) list and filter files for 30 s. Each client behaves like the portal's Files
+ * page: it picks a filter and a sort, opens the first page (one view in five opens a page 2–20 by number,
+ * as a bookmarked address does) and follows the answer's nextCursor for 0–19 further pages. By default a client sends its next request as
  * soon as the last one is answered (saturation); LOAD_THINK_MS gives each client a pause between
  * requests, like a person reading the page. Prints p50/p95/p99/max per request kind and overall, and the
- * errors (any non-200 or network failure); exits 1 on errors. LOAD_CLIENTS, LOAD_SECONDS and LOAD_ROWS
+ * errors (any non-200 or network failure), per filter kind and per sort; exits 1 on errors. LOAD_CLIENTS, LOAD_SECONDS and LOAD_ROWS
  * override the other defaults.
  */
 import { spawn, type ChildProcess } from "node:child_process";
@@ -21,7 +23,7 @@ import { seedBulkFileResults, type BulkSeedResult } from "./seed-bulk.ts";
 
 const CLIENTS = Number(process.env.LOAD_CLIENTS ?? 50);
 const SECONDS = Number(process.env.LOAD_SECONDS ?? 30);
-const ROWS = Number(process.env.LOAD_ROWS ?? 100_000);
+const ROWS = Number(process.env.LOAD_ROWS ?? 1_000_000);
 const THINK_MS = Number(process.env.LOAD_THINK_MS ?? 0);
 const P95_TARGET_MS = 200;
 const PASSWORD = "load test passphrase";
@@ -47,12 +49,19 @@ for (const sig of ["SIGINT", "SIGTERM"] as const) process.on(sig, () => void cle
 
 const pick = <T>(xs: readonly T[]): T => xs[Math.floor(Math.random() * xs.length)];
 
+/** One view of the Files page: what a client is paging through. */
+interface View {
+  kind: string;
+  sort: string;
+  query: string;
+  pagesLeft: number;
+  next: string | null;
+}
+
 /** The request mix: what the Files screen asks while people page, sort and filter. */
-function nextRequest(seed: BulkSeedResult): { kind: string; path: string } {
+function newView(seed: BulkSeedResult): View {
   const sort = pick(FILE_SORT_KEYS);
   const order = pick(["asc", "desc"]);
-  const page = 1 + Math.floor(Math.random() * 20);
-  const paging = `sort=${sort}&order=${order}&page=${page}&pageSize=50`;
   const kinds: [string, () => string][] = [
     ["list", () => ""],
     ["verdict", () => `verdict=${pick(["pass", "warn", "fail", "error"])}`],
@@ -65,7 +74,18 @@ function nextRequest(seed: BulkSeedResult): { kind: string; path: string } {
   ];
   const [kind, filter] = pick(kinds);
   const f = filter();
-  return { kind, path: `/api/files?${f ? `${f}&` : ""}${paging}` };
+  return { kind, sort, query: `${f ? `${f}&` : ""}sort=${sort}&order=${order}&pageSize=50`, pagesLeft: Math.floor(Math.random() * 20), next: null };
+}
+
+/** The next request of a client: the next page of its view by cursor, or a new view. */
+function nextRequest(view: View | null, seed: BulkSeedResult): { view: View; path: string } {
+  if (view && view.next && view.pagesLeft > 0) {
+    view.pagesLeft--;
+    return { view, path: `/api/files?${view.query}&after=${view.next}` };
+  }
+  const fresh = newView(seed);
+  const page = Math.random() < 0.2 ? 2 + Math.floor(Math.random() * 19) : 1;
+  return { view: fresh, path: `/api/files?${fresh.query}&page=${page}` };
 }
 
 const percentile = (sorted: number[], p: number): number => (sorted.length ? sorted[Math.min(sorted.length - 1, Math.ceil(p * sorted.length) - 1)] : NaN);
@@ -123,36 +143,62 @@ async function main(): Promise<void> {
     cookies.push(res.headers.getSetCookie()[0].split(";")[0]);
   }
 
-  const get = async (cookie: string, p: string): Promise<number> => {
+  /** Status, and the answer's nextCursor (to follow, as the portal's Next button does). */
+  const get = async (cookie: string, p: string): Promise<{ status: number; next: string | null }> => {
     const res = await fetch(`${base}${p}`, { headers: { cookie } });
-    await res.arrayBuffer();
-    return res.status;
+    if (res.status !== 200) {
+      await res.arrayBuffer();
+      return { status: res.status, next: null };
+    }
+    const body = (await res.json()) as { nextCursor?: string | null };
+    return { status: res.status, next: body.nextCursor ?? null };
   };
   // Warm-up (not counted): JIT, caches, pools.
-  await Promise.all(cookies.slice(0, 10).map(async (c) => { for (let i = 0; i < 10; i++) await get(c, nextRequest(seed).path); }));
+  await Promise.all(
+    cookies.slice(0, 10).map(async (c) => {
+      let view: View | null = null;
+      for (let i = 0; i < 10; i++) {
+        const r = nextRequest(view, seed);
+        view = r.view;
+        view.next = (await get(c, r.path)).next;
+      }
+    }),
+  );
 
   log(`${CLIENTS} clients, ${SECONDS} s, ${ROWS} rows, think time ${THINK_MS} ms…`);
   const byKind = new Map<string, number[]>();
+  const bySort = new Map<string, number[]>();
+  const byStep = new Map<string, number[]>();
+  const note = (map: Map<string, number[]>, key: string, ms: number): void => {
+    if (!map.has(key)) map.set(key, []);
+    map.get(key)!.push(ms);
+  };
   const all: number[] = [];
   const errors: Record<string, number> = {};
   const deadline = Date.now() + SECONDS * 1000;
   const started = Date.now();
   await Promise.all(
     cookies.map(async (cookie) => {
+      let view: View | null = null;
       while (Date.now() < deadline) {
-        const { kind, path: p } = nextRequest(seed);
+        const r = nextRequest(view, seed);
+        view = r.view;
         const t0 = performance.now();
         let status: number | string;
         try {
-          status = await get(cookie, p);
+          const answer = await get(cookie, r.path);
+          status = answer.status;
+          view.next = answer.next;
         } catch (e) {
           status = (e as { cause?: { code?: string } }).cause?.code ?? "network";
+          view.next = null;
         }
         const ms = performance.now() - t0;
         if (status !== 200) errors[String(status)] = (errors[String(status)] ?? 0) + 1;
         all.push(ms);
-        if (!byKind.has(kind)) byKind.set(kind, []);
-        byKind.get(kind)!.push(ms);
+        note(byKind, view.kind, ms);
+        note(bySort, view.sort, ms);
+        note(byStep, r.path.includes("&after=") ? "cursor" : r.path.endsWith("&page=1") ? "page 1" : "page 2-20", ms);
         // Jittered so the clients do not move in lockstep.
         if (THINK_MS > 0) await new Promise((r) => setTimeout(r, THINK_MS * (0.5 + Math.random())));
       }
@@ -172,12 +218,17 @@ async function main(): Promise<void> {
     errorsByStatus: errors,
     overallMs: overall,
     byKindMs: Object.fromEntries([...byKind].sort().map(([k, v]) => [k, summarise(v)])),
+    bySortMs: Object.fromEntries([...bySort].sort().map(([k, v]) => [k, summarise(v)])),
+    byStepMs: Object.fromEntries([...byStep].sort().map(([k, v]) => [k, summarise(v)])),
     machine: { cpus: (await import("node:os")).cpus().length, node: process.version, loadAverage: (await import("node:os")).loadavg() },
   };
   console.log(`\nGET /api/files under load: ${CLIENTS} clients × ${SECONDS} s on ${ROWS} rows, think time ${THINK_MS} ms, loopback`);
   console.log(`requests ${result.requests} (${result.requestsPerSecond}/s), errors ${errorCount}${errorCount ? ` ${JSON.stringify(errors)}` : ""}`);
   console.log(`overall   p50 ${overall.p50} ms   p95 ${overall.p95} ms   p99 ${overall.p99} ms   max ${overall.max} ms`);
-  for (const [kind, s] of Object.entries(result.byKindMs)) console.log(`${kind.padEnd(12)} n ${String(s.count).padStart(5)}   p50 ${s.p50}   p95 ${s.p95}   p99 ${s.p99}`);
+  for (const [title, table] of [["filter", result.byKindMs], ["sort", result.bySortMs], ["request", result.byStepMs]] as const) {
+    console.log(`by ${title}:`);
+    for (const [kind, s] of Object.entries(table)) console.log(`  ${kind.padEnd(16)} n ${String(s.count).padStart(5)}   p50 ${s.p50}   p95 ${s.p95}   p99 ${s.p99}`);
+  }
   console.log(`target p95 < ${P95_TARGET_MS} ms and 0 errors: ${overall.p95 < P95_TARGET_MS && errorCount === 0 ? "met" : "NOT met"} (load average ${result.machine.loadAverage.map((l) => l.toFixed(1)).join(" ")})`);
   const out = process.argv[2];
   if (out) {

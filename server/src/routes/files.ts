@@ -1,6 +1,6 @@
 import { Router, type RequestHandler } from "express";
 import { z } from "zod";
-import { REASON_REQUIRED_STATES, REVIEW_STATES, type FileSummaryDto, type Page, type ReviewState } from "@tidemark/shared/types/api";
+import { REASON_REQUIRED_STATES, REVIEW_STATES, type FilePage, type ReviewState } from "@tidemark/shared/types/api";
 import type { AppContext } from "../context.ts";
 import { toFileSummaryDto, toFileSummaryDtoFromRow } from "../dto.ts";
 import { badRequest, notFound } from "../errors.ts";
@@ -46,12 +46,21 @@ function closeupOf(file: FileResult, raw: unknown): StoredCloseup {
 
 export function filesRouter(ctx: AppContext): Router {
   const router = Router();
-  const totals = createListTotals(ctx.sequelize);
+  const totals = createListTotals(ctx.sequelize, (message) => ctx.logger.error(message));
 
   router.get("/files", requirePermission("view"), async (req, res) => {
     const query = parseWith(fileQuerySchema, req.query, "query");
-    const { rows, total } = await listFiles(ctx.sequelize, query, totals);
-    const body: Page<FileSummaryDto> = { items: rows.map(toFileSummaryDtoFromRow), total, page: query.page, pageSize: query.pageSize };
+    const { rows, total, totalIsEstimate, nextCursor, prevCursor } = await listFiles(ctx.sequelize, query, totals);
+    // With a cursor, `page` is the caller's own label for where it is; the server reads from the cursor.
+    const body: FilePage = {
+      items: rows.map(toFileSummaryDtoFromRow),
+      total,
+      totalIsEstimate,
+      page: query.page,
+      pageSize: query.pageSize,
+      nextCursor,
+      prevCursor,
+    };
     res.json(body);
   });
 

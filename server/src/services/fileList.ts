@@ -1,8 +1,12 @@
 /**
- * The Files table query: filters and sorts on columns copied out of the report at ingest, each backed by
- * an index (migrations/…create-file-results.ts), so pages stay fast at 100 k rows.
+ * The Files table query: filters and sorts on columns copied out of the report at ingest. Each sort key
+ * has one covering index, (sort value, id) INCLUDE the filter columns (migrations/…covering-list-indexes.ts),
+ * so a page is an index-only walk to its 50 ids followed by 50 row reads, and stays fast at 1 M rows.
  * NULL (a quiet −∞ level, or no duration for an unreadable file) sorts as the smallest value: first when
- * ascending, last when descending, which is also one index scanned either way.
+ * ascending, last when descending (the sort columns store it as −Infinity).
+ *
+ * Two ways to ask for a page: `page` (an offset: cost grows with depth, ~0.5 µs a skipped row) or a cursor
+ * (`after` / `before`, from a previous page's nextCursor / prevCursor: a seek, the same cost at any depth).
  */
 import { QueryTypes, type Sequelize } from "sequelize";
 import { z } from "zod";
@@ -10,6 +14,44 @@ import { FILE_SORT_KEYS, REVIEW_STATES, type FileSortKey, type FindingSummaryDto
 import { FINDING_CODES, VERDICTS, type AudioFormat, type Verdict } from "@tidemark/shared/types/report";
 import type { ListTotals } from "./listTotals.ts";
 import { blankToUndefined, optionalEnum, optionalId, orderParam, pageParams } from "../queryParams.ts";
+
+/** A position in one sort: the sort value as PostgreSQL prints it (exact, µs and all) and the row id. */
+export interface FileCursor {
+  sort: FileSortKey;
+  order: "asc" | "desc";
+  value: string;
+  id: number;
+}
+
+export function encodeCursor(c: FileCursor): string {
+  return Buffer.from(JSON.stringify([c.sort, c.order, c.value, c.id])).toString("base64url");
+}
+
+function decodeCursor(text: string): FileCursor | null {
+  try {
+    const v: unknown = JSON.parse(Buffer.from(text, "base64url").toString("utf8"));
+    if (!Array.isArray(v) || v.length !== 4) return null;
+    const [sort, order, value, id] = v as unknown[];
+    if (!(FILE_SORT_KEYS as readonly unknown[]).includes(sort) || (order !== "asc" && order !== "desc")) return null;
+    if (typeof value !== "string" || value.length > 1000 || !Number.isInteger(id) || (id as number) < 1) return null;
+    return { sort: sort as FileSortKey, order, value, id: id as number };
+  } catch {
+    return null;
+  }
+}
+
+const cursorParam = z.preprocess(
+  blankToUndefined,
+  z
+    .string()
+    .max(1500)
+    .transform((s, ctx) => {
+      const c = decodeCursor(s);
+      if (!c) ctx.addIssue({ code: "custom", message: "expected a cursor from a previous page's nextCursor or prevCursor" });
+      return c ?? z.NEVER;
+    })
+    .optional(),
+);
 
 export const fileQuerySchema = z
   .object({
@@ -21,13 +63,30 @@ export const fileQuerySchema = z
     q: z.preprocess(blankToUndefined, z.string().trim().max(200).optional()),
     sort: optionalEnum(FILE_SORT_KEYS),
     order: orderParam,
+    after: cursorParam,
+    before: cursorParam,
     ...pageParams,
   })
-  .strict();
+  .strict()
+  .superRefine((q, ctx) => {
+    if (q.after && q.before) ctx.addIssue({ code: "custom", path: ["before"], message: "give after or before, not both" });
+    const cursor = q.after ?? q.before;
+    const { sort, order } = effectiveSort(q);
+    if (cursor && (cursor.sort !== sort || cursor.order !== order)) {
+      ctx.addIssue({
+        code: "custom",
+        path: [q.after ? "after" : "before"],
+        message: `the cursor belongs to sort=${cursor.sort}&order=${cursor.order}, this query is sort=${sort}&order=${order}`,
+      });
+    }
+  });
 
 export type FileListQuery = z.infer<typeof fileQuerySchema>;
 
-const NULLABLE_SORTS = new Set<FileSortKey>(["durationSeconds", "integratedLufs", "truePeakDbtp"]);
+/** Newest first unless asked otherwise; a sort given without an order is ascending. */
+function effectiveSort(q: { sort?: FileSortKey; order?: "asc" | "desc" }): { sort: FileSortKey; order: "asc" | "desc" } {
+  return { sort: q.sort ?? "createdAt", order: q.order ?? (q.sort ? "asc" : "desc") };
+}
 
 /** LIKE wildcards in the search text are literal characters. */
 const escapeLike = (s: string): string => s.replace(/[\\%_]/g, (c) => `\\${c}`);
@@ -50,22 +109,32 @@ export interface FileListRow {
   created_at: Date;
 }
 
-const SORT_COLUMNS: Record<FileSortKey, string> = {
-  path: "path",
-  durationSeconds: "duration_seconds",
-  verdict: "verdict",
-  reviewState: "review_state",
-  integratedLufs: "integrated_lufs",
-  truePeakDbtp: "true_peak_dbtp",
-  createdAt: "created_at",
+export interface FileListPage {
+  rows: FileListRow[];
+  total: number;
+  /** The planner's estimate (the exact count is being made in the background), not a count. */
+  totalIsEstimate: boolean;
+  nextCursor: string | null;
+  prevCursor: string | null;
+}
+
+/** Sort column (the index key before id) and the type a cursor value is cast back to. */
+const SORT_COLUMNS: Record<FileSortKey, { column: string; type: string }> = {
+  path: { column: "path", type: "text" },
+  durationSeconds: { column: "duration_sort", type: "float8" },
+  verdict: { column: "verdict", type: "verdict" },
+  reviewState: { column: "review_state", type: "review_state" },
+  integratedLufs: { column: "lufs_sort", type: "float8" },
+  truePeakDbtp: { column: "true_peak_sort", type: "float8" },
+  createdAt: { column: "created_at", type: "timestamptz" },
 };
 
 /**
- * WHERE clause and bind values. Column names come from this code, values only ever as bind parameters.
+ * WHERE conditions and bind values. Column names come from this code, values only ever as bind parameters.
  * Hand-written rather than through model finders: this is the hottest query, and model instances cost
  * more than the query itself at 50 rows a page.
  */
-function listConditions(query: FileListQuery): { sql: string; bind: unknown[] } {
+function listConditions(query: FileListQuery): { conds: string[]; bind: unknown[] } {
   const bind: unknown[] = [];
   const conds: string[] = [];
   const add = (sql: (n: string) => string, value: unknown): void => {
@@ -78,61 +147,85 @@ function listConditions(query: FileListQuery): { sql: string; bind: unknown[] } 
   if (query.reviewState) add((n) => `f.review_state = ${n}::review_state`, query.reviewState);
   if (query.finding) add((n) => `f.finding_codes @> array[${n}::text]`, query.finding);
   if (query.q) add((n) => `f.path ilike ${n}`, `%${escapeLike(query.q)}%`);
-  return { sql: conds.length ? `where ${conds.join(" and ")}` : "", bind };
+  return { conds, bind };
 }
 
-function orderSql(column: string, id: string, sort: FileSortKey, order: "asc" | "desc"): string {
-  const nulls = NULLABLE_SORTS.has(sort) ? (order === "asc" ? " nulls first" : " nulls last") : "";
-  return `order by ${column} ${order}${nulls}, ${id} ${order}`;
-}
+const whereSql = (conds: string[]): string => (conds.length ? `where ${conds.join(" and ")}` : "");
 
 const LIST_COLUMNS = `f.id, f.batch_id, f.collection_id, c.name as collection_name, f.path, f.duration_seconds, f.format, f.verdict,
   f.review_state, f.worst_findings, f.integrated_lufs, f.true_peak_dbtp, f.spectrogram_key is not null as has_spectrogram, f.created_at`;
 
-/**
- * Below this many matches a filtered page is read "filter first": the matching rows' ids and sort
- * values are collected through the filter's own index, then sorted. Left to itself the planner would
- * often walk the sort index and discard non-matching rows, which is slow when the matches sit late in
- * that order (e.g. finding=hum sorted by verdict skips every passing file first: 45 ms against 13 ms).
- */
-const FILTER_FIRST_MAX = 6_000;
+type Row = FileListRow & { sort_text: string };
 
 /**
- * One page of the list. The total comes first (cached, see listTotals.ts), so a page past the middle is
- * read from the far end in the opposite order and reversed: the last page costs what the first does.
+ * One page of the list. Without a cursor, a page past the middle (when the total is exact) is read from
+ * the far end in the opposite order and reversed: the last page costs what the first does.
  */
-export async function listFiles(sequelize: Sequelize, query: FileListQuery, totals: ListTotals): Promise<{ rows: FileListRow[]; total: number }> {
-  const sort = query.sort ?? "createdAt";
-  const order = query.order ?? (query.sort ? "asc" : "desc");
-  const where = listConditions(query);
+export async function listFiles(sequelize: Sequelize, query: FileListQuery, totals: ListTotals): Promise<FileListPage> {
+  const { sort, order } = effectiveSort(query);
+  const { column, type } = SORT_COLUMNS[sort];
+  const filters = listConditions(query);
   const filterKey = JSON.stringify([query.batch, query.collection, query.verdict, query.reviewState, query.finding, query.q]);
-  const total = await totals.count(filterKey, () =>
-    sequelize
-      .query<{ n: string }>(`select count(*) as n from file_results f ${where.sql}`, { bind: where.bind, type: QueryTypes.SELECT })
-      .then(([row]) => Number(row.n)),
-  );
-  const offset = (query.page - 1) * query.pageSize;
-  if (offset >= total) return { rows: [], total };
-  const limit = Math.min(query.pageSize, total - offset);
-  const fromEnd = total - offset - limit;
-  const flipped = fromEnd < offset;
-  const pageOrder = flipped ? (order === "asc" ? "desc" : "asc") : order;
-  const bind = [...where.bind, limit, flipped ? fromEnd : offset];
-  const [limitAt, offsetAt] = [`$${bind.length - 1}`, `$${bind.length}`];
-  const column = SORT_COLUMNS[sort];
-  const sql =
-    where.bind.length > 0 && total <= FILTER_FIRST_MAX
-      ? `with matches as materialized (select f.id, f.${column} as sort_value from file_results f ${where.sql}),
-              page as (select id, sort_value from matches ${orderSql("sort_value", "id", sort, pageOrder)} limit ${limitAt} offset ${offsetAt})
-         select ${LIST_COLUMNS}
-           from page p join file_results f on f.id = p.id join collections c on c.id = f.collection_id
-          ${orderSql("p.sort_value", "p.id", sort, pageOrder)}`
-      : `select ${LIST_COLUMNS}
-           from file_results f join collections c on c.id = f.collection_id
-          ${where.sql}
-          ${orderSql(`f.${column}`, "f.id", sort, pageOrder)}
-          limit ${limitAt} offset ${offsetAt}`;
-  const rows = await sequelize.query<FileListRow>(sql, { bind, type: QueryTypes.SELECT });
+  const filterSql = whereSql(filters.conds);
+  const { total, exact } = await totals.count(filterKey, {
+    count: () =>
+      sequelize
+        .query<{ n: string }>(`select count(*) as n from file_results f ${filterSql}`, { bind: filters.bind, type: QueryTypes.SELECT })
+        .then(([row]) => Number(row.n)),
+    estimate: () =>
+      sequelize
+        .query<{ "QUERY PLAN": [{ Plan: { "Plan Rows": number } }] }>(`explain (format json) select 1 from file_results f ${filterSql}`, {
+          bind: filters.bind,
+          type: QueryTypes.SELECT,
+        })
+        .then(([row]) => Math.round(row["QUERY PLAN"][0].Plan["Plan Rows"])),
+  });
+
+  const cursor = query.after ?? query.before;
+  const backwards = query.before !== undefined;
+  const pageSize = query.pageSize;
+  let offset = cursor ? 0 : (query.page - 1) * pageSize;
+  let limit = pageSize;
+  let flipped = backwards;
+  if (!cursor && exact) {
+    if (offset >= total) return { rows: [], total, totalIsEstimate: false, nextCursor: null, prevCursor: null };
+    limit = Math.min(pageSize, total - offset);
+    const fromEnd = total - offset - limit;
+    if (fromEnd < offset) [flipped, offset] = [true, fromEnd];
+  }
+  const dir = flipped ? (order === "asc" ? "desc" : "asc") : order;
+  const conds = [...filters.conds];
+  const bind = [...filters.bind];
+  const param = (v: unknown): string => {
+    bind.push(v);
+    return `$${bind.length}`;
+  };
+  if (cursor) conds.push(`(f.${column}, f.id) ${dir === "asc" ? ">" : "<"} (${param(cursor.value)}::${type}, ${param(cursor.id)}::int)`);
+  // One row more than the page says whether there is another page in the reading direction.
+  const fetch = limit + 1;
+  const order2 = (v: string, id: string): string => `order by ${v} ${dir}, ${id} ${dir}`;
+  // The page's ids through the sort's covering index (an index-only walk, or the planner's bitmap of a
+  // selective filter such as a batch), then only those rows are read.
+  const page = `page as materialized (select f.id, f.${column} as sort_value from file_results f ${whereSql(conds)}
+      ${order2(`f.${column}`, "f.id")} limit ${param(fetch)} offset ${param(offset)})`;
+  const sql = `with ${page}
+    select ${LIST_COLUMNS}, p.sort_value::text as sort_text
+      from page p join file_results f on f.id = p.id join collections c on c.id = f.collection_id
+     ${order2("p.sort_value", "p.id")}`;
+  const fetched = await sequelize.query<Row>(sql, { bind, type: QueryTypes.SELECT });
+  const more = fetched.length > limit;
+  const rows = fetched.slice(0, limit);
   if (flipped) rows.reverse();
-  return { rows, total };
+  const at = (r: Row | undefined): string | null => (r ? encodeCursor({ sort, order, value: r.sort_text, id: r.id }) : null);
+  // Reading forwards, "more" is about the next page; reading backwards (a `before` cursor, or a flipped
+  // page number) it is about the previous one.
+  const hasNext = flipped ? (cursor ? true : offset > 0) : more;
+  const hasPrev = flipped ? more : cursor ? true : offset > 0;
+  return {
+    rows: rows.map(({ sort_text: _, ...r }) => r),
+    total,
+    totalIsEstimate: !exact,
+    nextCursor: hasNext ? at(rows[rows.length - 1]) : null,
+    prevCursor: hasPrev ? at(rows[0]) : null,
+  };
 }

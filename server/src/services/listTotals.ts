@@ -1,29 +1,57 @@
 /**
  * Totals of the Files list per filter, cached in memory under file_list_version (a counter a trigger
- * moves with every committed change to file_results). Counting 100 k rows per page turn was most of a
- * list request's database time; now a page turn reads one tiny row unless the data changed.
+ * moves with every committed change to file_results). A page turn reads one tiny row unless the data
+ * changed. When it did (or for a filter not seen yet) and the planner expects many matches, counting them
+ * would cost 0.1–0.5 s at 1 M rows, so the answer carries the planner's estimate, marked as such, while
+ * one exact count at a time runs in the background and fills the cache for the next request.
  */
 import { QueryTypes, type Sequelize } from "sequelize";
 
 const MAX_ENTRIES = 1000;
 
+/** Up to this many expected matches the exact count runs inline: it is cheap, and small totals are read closely. */
+export const EXACT_COUNT_MAX = 5_000;
+
 export interface ListTotals {
-  count(filterKey: string, countRows: () => Promise<number>): Promise<number>;
+  count(filterKey: string, how: { count: () => Promise<number>; estimate: () => Promise<number> }): Promise<{ total: number; exact: boolean }>;
+  /** Resolves once no background count is running (tests, shutdown). */
+  settled(): Promise<void>;
 }
 
-export function createListTotals(sequelize: Sequelize): ListTotals {
+export function createListTotals(sequelize: Sequelize, onError: (message: string) => void = () => undefined): ListTotals {
   const cache = new Map<string, { version: string; total: number }>();
+  let background: Promise<void> | null = null;
+  const remember = (filterKey: string, version: string, total: number): void => {
+    if (cache.size >= MAX_ENTRIES && !cache.has(filterKey)) cache.delete(cache.keys().next().value!);
+    cache.set(filterKey, { version, total });
+  };
   return {
-    async count(filterKey, countRows) {
+    async count(filterKey, how) {
       // Read before counting: a change committed in between gets a newer version, so no stale total survives it.
       const [row] = await sequelize.query<{ version: string }>(`select version from file_list_version`, { type: QueryTypes.SELECT });
       const version = row?.version ?? "none";
       const hit = cache.get(filterKey);
-      if (hit && hit.version === version) return hit.total;
-      const total = await countRows();
-      if (cache.size >= MAX_ENTRIES) cache.delete(cache.keys().next().value!);
-      cache.set(filterKey, { version, total });
-      return total;
+      if (hit && hit.version === version) return { total: hit.total, exact: true };
+      const estimate = await how.estimate();
+      if (estimate <= EXACT_COUNT_MAX) {
+        const total = await how.count();
+        remember(filterKey, version, total);
+        return { total, exact: true };
+      }
+      // One background count at a time, so a burst of new filters cannot pile full counts onto the database.
+      if (!background) {
+        background = how
+          .count()
+          .then((total) => remember(filterKey, version, total))
+          .catch((e: unknown) => onError(`counting files for ${filterKey}: ${e instanceof Error ? e.message : String(e)}`))
+          .finally(() => {
+            background = null;
+          });
+      }
+      return { total: estimate, exact: false };
+    },
+    async settled() {
+      while (background) await background;
     },
   };
 }

@@ -96,8 +96,19 @@ export interface FileQuery {
   q?: string;
   sort?: FileSortKey;
   order?: "asc" | "desc";
+  /** A previous answer's nextCursor (the page after it) or prevCursor (the page before); same sort and order. */
+  after?: string;
+  before?: string;
   page?: number;
   pageSize?: number;
+}
+
+/** GET /api/files: a page, cursors to its neighbours (null at either end) and how exact `total` is. */
+export interface FilePage extends Page<FileSummaryDto> {
+  /** true: `total` is the database's estimate (a large count not yet made since the data changed). */
+  totalIsEstimate: boolean;
+  nextCursor: string | null;
+  prevCursor: string | null;
 }
 
 /** Query of GET /api/batches (all optional). */
