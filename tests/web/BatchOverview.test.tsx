@@ -2,7 +2,7 @@
 import { afterEach, describe, expect, it, vi } from "vitest";
 import { fireEvent, screen, waitFor, within } from "@testing-library/react";
 import { stubFetch } from "./fetchStub.ts";
-import { batch, page, user } from "./fixtures.ts";
+import { filePage, batch, page, user } from "./fixtures.ts";
 import { renderApp } from "./renderApp.tsx";
 import { batchOverview } from "./reviewFixtures.ts";
 import { charts } from "./uplotMock.ts";
@@ -15,7 +15,7 @@ function serve() {
     .on("GET", "/api/session", { body: { user: user("auditor") } })
     .on("GET", "/api/batches/3", { body: batch(3) })
     .on("GET", "/api/batches/3/overview", { body: batchOverview() })
-    .on("GET", "/api/files", { body: page([]) });
+    .on("GET", "/api/files", { body: filePage([]) });
 }
 
 describe("batch overview", () => {

@@ -11,7 +11,7 @@ import { COLOUR_MAP_SIZE, wracklineColourMap } from "@tidemark/shared/render/col
 import { SPECTROGRAM_DB_RANGE } from "@tidemark/shared/render/spectrogramImage";
 import type { CommentDto, FileDetailDto, Role } from "@tidemark/shared/types/api";
 import { stubFetch, type FetchStub } from "./fetchStub.ts";
-import { fileSummary, page, user } from "./fixtures.ts";
+import { filePage, fileSummary, user } from "./fixtures.ts";
 import { renderApp } from "./renderApp.tsx";
 import { CLOSEUP, levelGridJson, loudnessCurveJson, reviewDetail } from "./reviewFixtures.ts";
 import { charts } from "./uplotMock.ts";
@@ -49,7 +49,7 @@ function serve(role: Role = "supervisor", detail: FileDetailDto = reviewDetail()
     .on("GET", "/api/files/7", { body: detail })
     .on("GET", "/api/files/7/level-grid", { body: grid })
     .on("GET", "/api/files/7/loudness-curve", { body: loudnessCurveJson() })
-    .on("GET", "/api/files", { body: page([fileSummary(6), fileSummary(7), fileSummary(8)]) });
+    .on("GET", "/api/files", { body: filePage([fileSummary(6), fileSummary(7), fileSummary(8)]) });
 }
 
 function loadImage(img: HTMLElement, width: number, height: number) {
@@ -356,8 +356,8 @@ describe("previous and next file", () => {
       .on("GET", /^\/api\/files\/\d+$/, (req) => ({ body: reviewDetail({ ...fileSummary(Number(req.url.pathname.split("/").pop())), levelGridUrl: null, loudnessCurveUrl: null }) }))
       .on("GET", "/api/files", (req) =>
         req.url.searchParams.get("page") === "2"
-          ? { body: page([fileSummary(9), fileSummary(4)], 27, 2, 25) }
-          : { body: page([fileSummary(6), fileSummary(7)], 27, 1, 25) },
+          ? { body: filePage([fileSummary(9), fileSummary(4)], 27, 2, 25) }
+          : { body: filePage([fileSummary(6), fileSummary(7)], 27, 1, 25) },
       );
     const { router } = renderApp("/files/7?batch=3&verdict=fail&sort=path&order=asc&pageSize=25");
     await screen.findByRole("heading", { name: "ferry/interview-07.wav" });
@@ -368,13 +368,15 @@ describe("previous and next file", () => {
     expect(previous.getAttribute("href")).toBe("/files/6?batch=3&verdict=fail&sort=path&order=asc&pageSize=25");
     // 7 is the last row of page 1, so the next file is the first of page 2.
     const next = await screen.findByRole("link", { name: /Next file/ });
-    expect(next.getAttribute("href")).toBe("/files/9?batch=3&verdict=fail&sort=path&order=asc&page=2&pageSize=25");
+    // Page 2 is asked for by page 1's cursor (a seek on the server), and the file page keeps it in its address.
+    expect(next.getAttribute("href")).toBe("/files/9?batch=3&verdict=fail&sort=path&order=asc&page=2&after=after-page-1&pageSize=25");
+    expect(stub.requests("GET", "/api/files").find((r) => r.url.searchParams.get("page") === "2")?.url.searchParams.get("after")).toBe("after-page-1");
     expect(screen.getByText("2 of 27 in the list")).toBeTruthy();
     expect(within(screen.getByRole("navigation", { name: "Breadcrumb" })).getByRole("link", { name: "Files" }).getAttribute("href")).toBe("/files?batch=3&verdict=fail&sort=path&order=asc&pageSize=25");
 
     fireEvent.keyDown(document.body, { key: "]" });
     await waitFor(() => expect(router.state.location.pathname).toBe("/files/9"));
-    expect(router.state.location.search).toBe("?batch=3&verdict=fail&sort=path&order=asc&page=2&pageSize=25");
+    expect(router.state.location.search).toBe("?batch=3&verdict=fail&sort=path&order=asc&page=2&after=after-page-1&pageSize=25");
     await screen.findByRole("heading", { name: "ferry/interview-09.wav" });
     fireEvent.keyDown(document.body, { key: "[" });
     await waitFor(() => expect(router.state.location.pathname).toBe("/files/7"));
@@ -384,7 +386,7 @@ describe("previous and next file", () => {
   it("opens a file from the Files table with the table's query in its address", async () => {
     stubFetch()
       .on("GET", "/api/session", { body: { user: user("auditor") } })
-      .on("GET", "/api/files", { body: page([fileSummary(7)]) });
+      .on("GET", "/api/files", { body: filePage([fileSummary(7)]) });
     renderApp("/files?batch=3&finding=clipping");
     const link = await screen.findByRole("link", { name: "ferry/interview-07.wav" });
     expect(link.getAttribute("href")).toBe("/files/7?batch=3&finding=clipping");

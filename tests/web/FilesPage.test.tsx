@@ -2,7 +2,7 @@ import { afterEach, describe, expect, it, vi } from "vitest";
 import { fireEvent, screen, waitFor, within } from "@testing-library/react";
 import type { Role } from "@tidemark/shared/types/api";
 import { stubFetch, type FetchStub } from "./fetchStub.ts";
-import { fileSummary, page, user } from "./fixtures.ts";
+import { filePage, fileSummary, user } from "./fixtures.ts";
 import { renderApp } from "./renderApp.tsx";
 
 afterEach(() => vi.unstubAllGlobals());
@@ -15,7 +15,7 @@ function serve(role: Role, total = 3): FetchStub {
       const pageNumber = Number(req.url.searchParams.get("page") ?? 1);
       const first = (pageNumber - 1) * 50 + 1;
       const count = Math.min(3, total);
-      return { body: page(Array.from({ length: count }, (_, i) => fileSummary(first + i)), total, pageNumber) };
+      return { body: filePage(Array.from({ length: count }, (_, i) => fileSummary(first + i)), total, pageNumber) };
     });
 }
 
@@ -90,6 +90,25 @@ describe("Files table", () => {
     fireEvent.click(screen.getByRole("button", { name: /Next/ }));
     await screen.findByText(/101–120 of 120 files/);
     expect((screen.getByRole("button", { name: /Next/ }) as HTMLButtonElement).disabled).toBe(true);
+    // Pages after the first are asked for by the previous page's cursor, not by counting rows off.
+    const asked = stub.requests("GET", "/api/files").map((r) => [r.url.searchParams.get("page"), r.url.searchParams.get("after")]);
+    expect(asked).toContainEqual(["2", "after-page-1"]);
+    expect(asked).toContainEqual(["3", "after-page-2"]);
+    // Previous from page 3 reads page 2 by page 3's own cursor.
+    fireEvent.click(screen.getByRole("button", { name: /Previous/ }));
+    await screen.findByText(/51–100 of 120 files/);
+    expect(stub.requests("GET", "/api/files").some((r) => r.url.searchParams.get("before") === "before-page-3")).toBe(true);
+  });
+
+  it("says 'about' for an estimated total and lets Next follow the cursor", async () => {
+    stubFetch()
+      .on("GET", "/api/session", { body: { user: user("technician") } })
+      .on("GET", "/api/files", {
+        body: { ...filePage([fileSummary(1), fileSummary(2)], 48_324), totalIsEstimate: true, nextCursor: "more" },
+      });
+    renderApp("/files");
+    await screen.findByText(/1–2 of about 48,300 files · page 1 of about 967/);
+    expect((screen.getByRole("button", { name: /Next/ }) as HTMLButtonElement).disabled).toBe(false);
   });
 
   it("moves with j and k and opens the active row with Enter", async () => {
@@ -167,7 +186,7 @@ describe("Files table", () => {
   });
 
   it("tells an empty filtered view apart from an empty archive", async () => {
-    serve("technician").on("GET", "/api/files", { body: page([], 0) });
+    serve("technician").on("GET", "/api/files", { body: filePage([], 0) });
     renderApp("/files?verdict=error");
     expect(await screen.findByText("No files match these filters")).toBeTruthy();
   });

@@ -1,5 +1,5 @@
 /** Invented Harbourside Sound Archive data shaped exactly like the API DTOs. */
-import type { BatchDto, FileDetailDto, FileSummaryDto, Page, Role, UserDto } from "@tidemark/shared/types/api";
+import type { BatchDto, FileDetailDto, FilePage, FileSummaryDto, Page, Role, UserDto } from "@tidemark/shared/types/api";
 
 export function user(role: Role, id = 1): UserDto {
   return { id, email: `${role}@harbourside.test`, name: `${role[0].toUpperCase()}${role.slice(1)} Demo`, role, disabled: false, createdAt: "2026-11-01T09:00:00.000Z" };
@@ -28,6 +28,16 @@ export function fileSummary(id: number, overrides: Partial<FileSummaryDto> = {})
 
 export function page<T>(items: T[], total = items.length, pageNumber = 1, pageSize = 50): Page<T> {
   return { items, total, page: pageNumber, pageSize };
+}
+
+/** A GET /api/files answer: exact total, and cursors as the server makes them (opaque; here they name the page). */
+export function filePage(items: FileSummaryDto[], total = items.length, pageNumber = 1, pageSize = 50): FilePage {
+  return {
+    ...page(items, total, pageNumber, pageSize),
+    totalIsEstimate: false,
+    nextCursor: pageNumber * pageSize < total ? `after-page-${pageNumber}` : null,
+    prevCursor: pageNumber > 1 ? `before-page-${pageNumber}` : null,
+  };
 }
 
 export function fileDetail(id: number, overrides: Partial<FileDetailDto> = {}): FileDetailDto {

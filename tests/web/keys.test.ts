@@ -2,12 +2,12 @@ import { describe, expect, it } from "vitest";
 import { QueryClient } from "@tanstack/react-query";
 import { fileKeys } from "../../web/src/api/keys.ts";
 import { fileDetailOptions, fileListOptions } from "../../web/src/api/files.ts";
-import { fileDetail, page } from "./fixtures.ts";
+import { fileDetail, filePage } from "./fixtures.ts";
 
 describe("query-key factories", () => {
   it("nest, so invalidating a level reaches everything below it and nothing beside it", () => {
     const client = new QueryClient();
-    client.setQueryData(fileListOptions({ verdict: "fail", page: 2 }).queryKey, page([]));
+    client.setQueryData(fileListOptions({ verdict: "fail", page: 2 }).queryKey, filePage([]));
     client.setQueryData(fileDetailOptions(7).queryKey, fileDetail(7));
     client.setQueryData(fileDetailOptions(8).queryKey, fileDetail(8));
     const keysUnder = (queryKey: readonly unknown[]) =>

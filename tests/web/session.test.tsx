@@ -2,7 +2,7 @@ import { afterEach, describe, expect, it, vi } from "vitest";
 import { fireEvent, screen, waitFor, within } from "@testing-library/react";
 import type { Role } from "@tidemark/shared/types/api";
 import { stubFetch } from "./fetchStub.ts";
-import { fileSummary, page, user } from "./fixtures.ts";
+import { filePage, fileSummary, page, user } from "./fixtures.ts";
 import { renderApp } from "./renderApp.tsx";
 import { sessionKeys } from "../../web/src/api/keys.ts";
 
@@ -21,7 +21,7 @@ describe("session", () => {
         return { body: { user: user("supervisor") } };
       })
       .on("GET", "/api/collections", { body: [] })
-      .on("GET", "/api/files", { body: page([fileSummary(1)]) });
+      .on("GET", "/api/files", { body: filePage([fileSummary(1)]) });
     const { router } = renderApp("/files?verdict=fail");
 
     await screen.findByRole("heading", { name: "Sign in" });
@@ -48,7 +48,7 @@ describe("session", () => {
       })
       .on("GET", "/api/collections", { body: [] })
       .on("GET", "/api/batches", { body: page([]) })
-      .on("GET", "/api/files", () => (expired ? unauthorized : { body: page([fileSummary(1)], 1, 1) }));
+      .on("GET", "/api/files", () => (expired ? unauthorized : { body: filePage([fileSummary(1)], 1, 1) }));
     const { router } = renderApp("/batches");
     await screen.findByText("No batches yet");
 

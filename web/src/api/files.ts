@@ -3,9 +3,8 @@ import type {
   BulkReviewChangeRequest,
   CommentDto,
   FileDetailDto,
+  FilePage,
   FileQuery,
-  FileSummaryDto,
-  Page,
   ReviewChangeRequest,
 } from "@tidemark/shared/types/api";
 import { decodeLevelGrid } from "../components/file/levelGrid.ts";
@@ -16,9 +15,23 @@ import { auditKeys, fileKeys } from "./keys.ts";
 export const fileListOptions = (query: FileQuery) =>
   queryOptions({
     queryKey: fileKeys.list(query),
-    queryFn: ({ signal }) => getJson<Page<FileSummaryDto>>(withQuery("/api/files", query), { signal }),
+    queryFn: ({ signal }) => getJson<FilePage>(withQuery("/api/files", query), { signal }),
     placeholderData: keepPreviousData,
   });
+
+/**
+ * The query of the page next to a loaded one: by its cursor (a seek on the server, as cheap at page 10 000
+ * as at page 2), or plain page 1. Null when there is no such page.
+ */
+export function adjacentFileQuery(query: FileQuery, data: FilePage, step: 1 | -1): FileQuery | null {
+  const page = (query.page ?? 1) + step;
+  if (page < 1) return null;
+  const { after: _a, before: _b, ...rest } = query;
+  if (page === 1) return { ...rest, page };
+  const cursor = step === 1 ? data.nextCursor : data.prevCursor;
+  if (!cursor) return null;
+  return step === 1 ? { ...rest, page, after: cursor } : { ...rest, page, before: cursor };
+}
 
 export const fileDetailOptions = (id: number) =>
   queryOptions({

@@ -1,5 +1,6 @@
 import { ChevronLeftIcon, ChevronRightIcon } from "./icons.tsx";
 import { buttonClass } from "./fields.tsx";
+import { roughly } from "../format/approximate.ts";
 
 export const PAGE_SIZES = [25, 50, 100] as const;
 
@@ -10,16 +11,26 @@ interface PaginationProps {
   noun: string;
   onPageChange: (page: number) => void;
   onPageSizeChange?: (pageSize: number) => void;
+  /** The total is the server's estimate: shown as "about", rounded. */
+  totalIsEstimate?: boolean;
+  /** Whether a next page exists, when the server says so (cursor lists); otherwise the total decides. */
+  hasNext?: boolean;
+  /** Rows on this page, when known: with an estimated total, the last row's number comes from it. */
+  itemCount?: number;
 }
 
-export function Pagination({ page, pageSize, total, noun, onPageChange, onPageSizeChange }: PaginationProps) {
+export function Pagination({ page, pageSize, total, noun, onPageChange, onPageSizeChange, totalIsEstimate = false, hasNext, itemCount }: PaginationProps) {
   const pageCount = Math.max(1, Math.ceil(total / pageSize));
   const first = total === 0 ? 0 : (page - 1) * pageSize + 1;
-  const last = Math.min(total, page * pageSize);
+  const last = totalIsEstimate && itemCount !== undefined ? first + itemCount - 1 : Math.min(total, page * pageSize);
+  const about = totalIsEstimate ? "about " : "";
+  const shownTotal = totalIsEstimate ? roughly(total) : String(total);
+  const shownPages = totalIsEstimate ? roughly(pageCount) : String(pageCount);
   return (
     <nav aria-label={`Pages of ${noun}`} className="flex flex-wrap items-center justify-between gap-3 py-3 text-sm">
       <p aria-live="polite">
-        {total === 0 ? `No ${noun}` : `${first}–${last} of ${total} ${noun}`} · page {page} of {pageCount}
+        {total === 0 && !totalIsEstimate ? `No ${noun}` : `${first}–${last} of ${about}${shownTotal} ${noun}`} · page {page} of {about}
+        {shownPages}
       </p>
       <div className="flex items-center gap-2">
         {onPageSizeChange && (
@@ -41,7 +52,7 @@ export function Pagination({ page, pageSize, total, noun, onPageChange, onPageSi
         <button type="button" className={buttonClass.secondary} disabled={page <= 1} onClick={() => onPageChange(page - 1)}>
           <ChevronLeftIcon /> Previous
         </button>
-        <button type="button" className={buttonClass.secondary} disabled={page >= pageCount} onClick={() => onPageChange(page + 1)}>
+        <button type="button" className={buttonClass.secondary} disabled={hasNext === undefined ? page >= pageCount : !hasNext} onClick={() => onPageChange(page + 1)}>
           Next <ChevronRightIcon />
         </button>
       </div>

@@ -25,6 +25,7 @@ import { formatAudioFormat, formatDuration, formatTimestamp } from "../format/un
 import { FILE_SHORTCUTS, useFileShortcuts } from "../hooks/useFileShortcuts.ts";
 import { useFileNeighbours, type Neighbour } from "../hooks/useFileNeighbours.ts";
 import { useWarmCloseups } from "../hooks/useWarmCloseups.ts";
+import { roughly } from "../format/approximate.ts";
 
 const OMITTED_REASON: Record<FileDetailDto["closeupsOmitted"][number]["reason"], string> = {
   cap: "The profile keeps close-ups for the most severe findings only, and this one was past the cap.",
@@ -193,7 +194,8 @@ function FileReview({ f }: { f: FileDetailDto }) {
         <span className="ml-auto flex items-center gap-2">
           {neighbours.position && (
             <span className="text-ink-muted">
-              {neighbours.position.index} of {neighbours.position.total} in the list
+              {neighbours.position.index} of{" "}
+              {neighbours.position.totalIsEstimate ? `about ${roughly(neighbours.position.total)}` : neighbours.position.total} in the list
             </span>
           )}
           {previous ? (

@@ -3,7 +3,7 @@ import { useNavigate, useSearchParams } from "react-router-dom";
 import { useQueryClient } from "@tanstack/react-query";
 import type { FileQuery } from "@tidemark/shared/types/api";
 import { describeError } from "../api/client.ts";
-import { fileListOptions, useFiles } from "../api/files.ts";
+import { adjacentFileQuery, fileListOptions, useFiles } from "../api/files.ts";
 import { useCan } from "../auth/currentUser.ts";
 import { PageHeader } from "../components/PageHeader.tsx";
 import { Pagination } from "../components/Pagination.tsx";
@@ -46,13 +46,21 @@ export function FilesPage() {
   const page = query.page ?? 1;
   const pageSize = query.pageSize ?? 50;
   const total = files.data?.total ?? 0;
+  // The page shown may be the previous view's while the new one loads (placeholder): its cursors belong to it.
+  const pageData = files.isPlaceholderData ? undefined : files.data;
+  const nextQuery = pageData ? adjacentFileQuery(query, pageData, 1) : null;
+  const previousQuery = pageData ? adjacentFileQuery(query, pageData, -1) : null;
 
   // Warm the next page so "Next" (or j past the last row) feels instant.
   useEffect(() => {
-    if (files.data && page * pageSize < files.data.total) void client.prefetchQuery(fileListOptions({ ...query, page: page + 1 }));
-  }, [client, files.data, query, page, pageSize]);
+    if (nextQuery) void client.prefetchQuery(fileListOptions(nextQuery));
+  }, [client, nextQuery]);
 
-  const update = (change: Partial<FileQuery>) => setParams(fileQueryToParams({ ...query, page: 1, ...change }));
+  // A new filter, sort or page size starts again at page 1, without the old view's cursor.
+  const update = (change: Partial<FileQuery>) => setParams(fileQueryToParams({ ...query, page: 1, after: undefined, before: undefined, ...change }));
+  const goTo = (target: FileQuery | null) => {
+    if (target) setParams(fileQueryToParams(target));
+  };
 
   const move = useCallback(
     (index: number) => {
@@ -135,8 +143,11 @@ export function FilesPage() {
             page={page}
             pageSize={pageSize}
             total={total}
+            totalIsEstimate={files.data.totalIsEstimate}
+            hasNext={nextQuery !== null}
+            itemCount={items.length}
             noun="files"
-            onPageChange={(p) => update({ page: p })}
+            onPageChange={(p) => goTo(p < page ? previousQuery : nextQuery)}
             onPageSizeChange={(size) => update({ pageSize: size })}
           />
         </>

@@ -18,8 +18,17 @@ function positiveInt(value: string | null): number | undefined {
   return n > 0 ? n : undefined;
 }
 
+/** A cursor is the server's opaque token (base64url); anything else is dropped. */
+function cursor(value: string | null): string | undefined {
+  return value !== null && /^[A-Za-z0-9_-]{1,1500}$/.test(value) ? value : undefined;
+}
+
 export function parseFileQuery(params: URLSearchParams): FileQuery {
   const pageSize = positiveInt(params.get("pageSize"));
+  const page = positiveInt(params.get("page")) ?? 1;
+  // Page 2 onwards is reached by a cursor (the server seeks instead of counting rows off); page 1 needs none.
+  const after = page > 1 ? cursor(params.get("after")) : undefined;
+  const before = page > 1 && !after ? cursor(params.get("before")) : undefined;
   const sort = oneOf<FileSortKey>(FILE_SORT_KEYS, params.get("sort"));
   const q = params.get("q")?.trim();
   return {
@@ -31,7 +40,9 @@ export function parseFileQuery(params: URLSearchParams): FileQuery {
     q: q ? q : undefined,
     sort,
     order: sort ? (oneOf(["asc", "desc"] as const, params.get("order")) ?? "asc") : undefined,
-    page: positiveInt(params.get("page")) ?? 1,
+    after,
+    before,
+    page,
     pageSize: pageSize && (PAGE_SIZES as readonly number[]).includes(pageSize) ? pageSize : DEFAULT_FILE_PAGE_SIZE,
   };
 }
@@ -50,7 +61,11 @@ export function fileQueryToParams(query: FileQuery): URLSearchParams {
   put("q", query.q);
   put("sort", query.sort);
   if (query.sort) put("order", query.order);
-  if (query.page && query.page > 1) put("page", query.page);
+  if (query.page && query.page > 1) {
+    put("page", query.page);
+    put("after", query.after);
+    if (!query.after) put("before", query.before);
+  }
   if (query.pageSize && query.pageSize !== DEFAULT_FILE_PAGE_SIZE) put("pageSize", query.pageSize);
   return params;
 }
