@@ -1,5 +1,5 @@
 /**
- * Inserts many synthetic file results fast (100 k in a few seconds), for the GET /api/files latency
+ * Inserts many synthetic file results fast (100 k in a few seconds, 1 M in about a minute and a half), for the GET /api/files latency
  * check and `npm run load`. Rows are made inside PostgreSQL from generate_series with a fixed random
  * seed, spread over batches in the invented Harbourside collections, with the list columns ingest
  * would fill (verdict, review state, duration, loudness, true peak, worst findings, finding codes).
@@ -69,6 +69,17 @@ export async function seedBulkFileResults(sequelize: Sequelize, options: BulkSee
       [batches, collectionIds, uploader.id],
     );
     const batchIds = made.map((b) => b.id).sort((a, b) => a - b);
+    // Into an empty table, build the indexes once after the rows (sorted builds) rather than row by row:
+    // 1 M rows took 260 s with the covering list indexes maintained on every insert.
+    const [{ empty }] = await run<{ empty: boolean }>(`select not exists (select 1 from file_results) as empty`);
+    const indexes = empty
+      ? await run<{ name: string; def: string }>(
+          `select indexname as name, indexdef as def from pg_indexes
+            where schemaname = current_schema() and tablename = 'file_results'
+              and indexname not in (select conname from pg_constraint where conrelid = 'file_results'::regclass)`,
+        )
+      : [];
+    for (const { name } of indexes) await sequelize.query(`drop index "${name.replace(/"/g, '""')}"`, { transaction });
     await run(
       `with r as (
          select g, random() as rv, random() as rr, random() as rl, random() as rp, random() as rd,
@@ -105,6 +116,8 @@ export async function seedBulkFileResults(sequelize: Sequelize, options: BulkSee
          from c join batches b on b.id = c.batch_id`,
       [files, batchIds, perBatch, CODES.length, CODES.map((c) => c[0]), CODES.map((c) => c[1])],
     );
+    if (indexes.length) await sequelize.query(`set local maintenance_work_mem = '256MB'`, { transaction });
+    for (const { def } of indexes) await sequelize.query(def, { transaction });
     await run(
       `insert into findings (file_result_id, code, severity, channel, start_seconds, end_seconds, message)
        select f.id, w->>'code', (w->>'severity')::finding_severity, 0, 12.5, 13.0, 'synthetic ' || (w->>'code')

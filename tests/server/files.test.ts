@@ -90,6 +90,40 @@ describe("GET /api/files", () => {
     expect(hymn.format).toMatchObject({ sampleRateHz: 96000, bitDepth: 24 });
   });
 
+  it("pages by cursor through NULL levels both ways, and refuses a cursor that does not fit", async () => {
+    // 5 files sorted by loudness: the quiet ones (NULL) first, so the walk crosses from NULL to values.
+    const all = (await supervisor.get("/api/files?sort=integratedLufs&order=asc&pageSize=5")).body;
+    expect(all).toMatchObject({ total: 5, totalIsEstimate: false, nextCursor: null, prevCursor: null });
+    const ids = (items: FileSummaryDto[]) => items.map((f) => f.id);
+    const p1 = (await supervisor.get("/api/files?sort=integratedLufs&order=asc&pageSize=2")).body;
+    expect(p1.prevCursor).toBeNull();
+    const p2 = (await supervisor.get(`/api/files?sort=integratedLufs&order=asc&pageSize=2&page=2&after=${p1.nextCursor}`)).body;
+    const p3 = (await supervisor.get(`/api/files?sort=integratedLufs&order=asc&pageSize=2&page=3&after=${p2.nextCursor}`)).body;
+    expect([...ids(p1.items), ...ids(p2.items), ...ids(p3.items)]).toEqual(ids(all.items));
+    expect(p2.page).toBe(2);
+    expect(p3.nextCursor).toBeNull();
+    const back = (await supervisor.get(`/api/files?sort=integratedLufs&order=asc&pageSize=2&before=${p3.prevCursor}`)).body;
+    expect(ids(back.items)).toEqual(ids(p2.items));
+    expect(back.nextCursor).not.toBeNull();
+    const first = (await supervisor.get(`/api/files?sort=integratedLufs&order=asc&pageSize=2&before=${back.prevCursor}`)).body;
+    expect(ids(first.items)).toEqual(ids(p1.items));
+    expect(first.prevCursor).toBeNull();
+    // Same walk descending: NULLs come last.
+    const desc = (await supervisor.get("/api/files?sort=integratedLufs&order=desc&pageSize=5")).body;
+    const d1 = (await supervisor.get("/api/files?sort=integratedLufs&order=desc&pageSize=3")).body;
+    const d2 = (await supervisor.get(`/api/files?sort=integratedLufs&order=desc&pageSize=3&after=${d1.nextCursor}`)).body;
+    expect([...ids(d1.items), ...ids(d2.items)]).toEqual(ids(desc.items));
+
+    const bad = await supervisor.get("/api/files?sort=integratedLufs&after=not-a-cursor");
+    expect(bad.status).toBe(400);
+    expect(bad.body.error.message).toMatch(/after: expected a cursor/);
+    const otherSort = await supervisor.get(`/api/files?sort=path&after=${p1.nextCursor}`);
+    expect(otherSort.status).toBe(400);
+    expect(otherSort.body.error.message).toMatch(/cursor belongs to sort=integratedLufs&order=asc/);
+    const both = await supervisor.get(`/api/files?sort=integratedLufs&after=${p1.nextCursor}&before=${p1.nextCursor}`);
+    expect(both.status).toBe(400);
+  });
+
   it("treats empty filter values as absent (the portal's cleared filters)", async () => {
     const res = await supervisor.get("/api/files?verdict=&q=&batch=");
     expect(res.status).toBe(200);
