@@ -52,6 +52,8 @@ export async function seedBulkFileResults(sequelize: Sequelize, options: BulkSee
     // A flushed commit lets the VACUUM below mark pages all-visible at once (throwaway clusters commit
     // asynchronously, and hint bits wait for the WAL flush), so index-only scans work as in production.
     await sequelize.query(`set local synchronous_commit = on`, { transaction });
+    // The server's connections stop a statement after 60 s; a million rows in one insert may take longer.
+    await sequelize.query(`set local statement_timeout = 0`, { transaction });
     await run(`select setseed($1)`, [options.seed ?? 0.42]);
     const [uploader] = await run<{ id: number }>(
       `insert into users (email, name, role, password_hash) values ('bulk.loader@harbourside.test', 'Bulk Loader', 'technician', 'scrypt$disabled')
