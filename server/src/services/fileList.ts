@@ -203,15 +203,15 @@ export async function listFiles(sequelize: Sequelize, query: FileListQuery, tota
   if (cursor) conds.push(`(f.${column}, f.id) ${dir === "asc" ? ">" : "<"} (${param(cursor.value)}::${type}, ${param(cursor.id)}::int)`);
   // One row more than the page says whether there is another page in the reading direction.
   const fetch = limit + 1;
-  const order2 = (v: string, id: string): string => `order by ${v} ${dir}, ${id} ${dir}`;
+  const orderBy = (v: string, id: string): string => `order by ${v} ${dir}, ${id} ${dir}`;
   // The page's ids through the sort's covering index (an index-only walk, or the planner's bitmap of a
   // selective filter such as a batch), then only those rows are read.
   const page = `page as materialized (select f.id, f.${column} as sort_value from file_results f ${whereSql(conds)}
-      ${order2(`f.${column}`, "f.id")} limit ${param(fetch)} offset ${param(offset)})`;
+      ${orderBy(`f.${column}`, "f.id")} limit ${param(fetch)} offset ${param(offset)})`;
   const sql = `with ${page}
     select ${LIST_COLUMNS}, p.sort_value::text as sort_text
       from page p join file_results f on f.id = p.id join collections c on c.id = f.collection_id
-     ${order2("p.sort_value", "p.id")}`;
+     ${orderBy("p.sort_value", "p.id")}`;
   const fetched = await sequelize.query<Row>(sql, { bind, type: QueryTypes.SELECT });
   const more = fetched.length > limit;
   const rows = fetched.slice(0, limit);
