@@ -1,9 +1,10 @@
 /**
  * Totals of the Files list per filter, cached in memory under file_list_version (a counter a trigger
  * moves with every committed change to file_results). A page turn reads one tiny row unless the data
- * changed. When it did (or for a filter not seen yet) and the planner expects many matches, counting them
- * would cost 0.1–0.5 s at 1 M rows, so the answer carries the planner's estimate, marked as such, while
- * one exact count at a time runs in the background and fills the cache for the next request.
+ * changed. When it did (or for a filter not seen yet) and many matches are expected, counting them would
+ * cost 0.1–0.5 s at 1 M rows, so the answer carries an approximate total, marked as such (the total counted
+ * before the change, or else the planner's estimate), while one exact count at a time runs in the
+ * background and fills the cache for the next request.
  */
 import { QueryTypes, type Sequelize } from "sequelize";
 
@@ -14,7 +15,7 @@ export const EXACT_COUNT_MAX = 5_000;
 
 export interface ListTotals {
   count(filterKey: string, how: { count: () => Promise<number>; estimate: () => Promise<number> }): Promise<{ total: number; exact: boolean }>;
-  /** Resolves once no background count is running (tests, shutdown). */
+  /** Resolves once no background count (or its pause) is running. */
   settled(): Promise<void>;
 }
 
@@ -32,23 +33,27 @@ export function createListTotals(sequelize: Sequelize, onError: (message: string
       const version = row?.version ?? "none";
       const hit = cache.get(filterKey);
       if (hit && hit.version === version) return { total: hit.total, exact: true };
-      const estimate = await how.estimate();
-      if (estimate <= EXACT_COUNT_MAX) {
+      // A total counted before the latest change is usually closer than the planner's guess (and free).
+      const guess = hit ? hit.total : await how.estimate();
+      if (guess <= EXACT_COUNT_MAX) {
         const total = await how.count();
         remember(filterKey, version, total);
         return { total, exact: true };
       }
-      // One background count at a time, so a burst of new filters cannot pile full counts onto the database.
+      // One background count at a time, then a pause as long as it took: while reviewers keep changing
+      // files, recounting stays under half of one database process instead of competing with every page.
       if (!background) {
+        const started = Date.now();
         background = how
           .count()
           .then((total) => remember(filterKey, version, total))
           .catch((e: unknown) => onError(`counting files for ${filterKey}: ${e instanceof Error ? e.message : String(e)}`))
+          .then(() => new Promise<void>((r) => setTimeout(r, Math.min(2_000, Date.now() - started)).unref()))
           .finally(() => {
             background = null;
           });
       }
-      return { total: estimate, exact: false };
+      return { total: guess, exact: false };
     },
     async settled() {
       while (background) await background;

@@ -1,0 +1,99 @@
+/**
+ * The Files list's totals cache (server/src/services/listTotals.ts) against a stand-in database: only
+ * the version row is read from it, so the rules can be checked without PostgreSQL (file_list_version
+ * and the real counts are covered by filesAt100k.test.ts).
+ */
+import type { Sequelize } from "sequelize";
+import { describe, expect, it } from "vitest";
+import { createListTotals, EXACT_COUNT_MAX } from "../../server/src/services/listTotals.ts";
+
+function fakeDb() {
+  const db = { version: "1" };
+  const sequelize = { query: async () => [{ version: db.version }] } as unknown as Sequelize;
+  return { db, sequelize };
+}
+
+/** A counter that records its calls and answers `exact` (after `delayMs`). */
+function counter(exact: number, estimate: number, delayMs = 0) {
+  const calls = { count: 0, estimate: 0 };
+  return {
+    calls,
+    how: {
+      count: async () => {
+        calls.count++;
+        await new Promise((r) => setTimeout(r, delayMs));
+        return exact;
+      },
+      estimate: async () => {
+        calls.estimate++;
+        return estimate;
+      },
+    },
+  };
+}
+
+describe("list totals", () => {
+  it("counts a small set at once and serves it from the cache until the version moves", async () => {
+    const { db, sequelize } = fakeDb();
+    const totals = createListTotals(sequelize);
+    const c = counter(480, 500);
+    expect(await totals.count("batch=3", c.how)).toEqual({ total: 480, exact: true });
+    expect(await totals.count("batch=3", c.how)).toEqual({ total: 480, exact: true });
+    expect(c.calls).toEqual({ count: 1, estimate: 1 });
+    db.version = "2";
+    expect(await totals.count("batch=3", c.how)).toEqual({ total: 480, exact: true });
+    // The stale total (≤ EXACT_COUNT_MAX) decides without asking the planner again.
+    expect(c.calls).toEqual({ count: 2, estimate: 1 });
+  });
+
+  it("answers a large set with the estimate, marked, and the exact total once the background count is done", async () => {
+    const { sequelize } = fakeDb();
+    const totals = createListTotals(sequelize);
+    const c = counter(48_324, 47_900, 20);
+    expect(EXACT_COUNT_MAX).toBeLessThan(47_900);
+    expect(await totals.count("finding=hum", c.how)).toEqual({ total: 47_900, exact: false });
+    await totals.settled();
+    expect(await totals.count("finding=hum", c.how)).toEqual({ total: 48_324, exact: true });
+    expect(c.calls).toEqual({ count: 1, estimate: 1 });
+  });
+
+  it("after a change, serves the earlier count as approximate while recounting", async () => {
+    const { db, sequelize } = fakeDb();
+    const totals = createListTotals(sequelize);
+    const before = counter(48_324, 47_900);
+    await totals.count("finding=hum", before.how);
+    await totals.settled();
+    db.version = "2";
+    const after = counter(48_325, 47_900);
+    expect(await totals.count("finding=hum", after.how)).toEqual({ total: 48_324, exact: false });
+    expect(after.calls.estimate).toBe(0);
+    await totals.settled();
+    expect(await totals.count("finding=hum", after.how)).toEqual({ total: 48_325, exact: true });
+  });
+
+  it("runs one background count at a time, so a burst of new filters cannot pile counts up", async () => {
+    const { sequelize } = fakeDb();
+    const totals = createListTotals(sequelize);
+    const a = counter(10_000, 9_000, 30);
+    const b = counter(20_000, 19_000, 30);
+    await totals.count("verdict=warn", a.how);
+    await totals.count("verdict=fail", b.how);
+    expect([a.calls.count, b.calls.count]).toEqual([1, 0]);
+    await totals.settled();
+    // The skipped filter is counted when it is asked for again.
+    expect(await totals.count("verdict=fail", b.how)).toEqual({ total: 19_000, exact: false });
+    await totals.settled();
+    expect(await totals.count("verdict=fail", b.how)).toEqual({ total: 20_000, exact: true });
+  });
+
+  it("reports a failed background count and keeps answering with the estimate", async () => {
+    const { sequelize } = fakeDb();
+    const errors: string[] = [];
+    const totals = createListTotals(sequelize, (m) => errors.push(m));
+    const how = { count: async () => Promise.reject(new Error("statement timeout")), estimate: async () => 90_000 };
+    expect(await totals.count("q=reel", how)).toEqual({ total: 90_000, exact: false });
+    await totals.settled();
+    expect(errors).toEqual(["counting files for q=reel: statement timeout"]);
+    expect(await totals.count("q=reel", how)).toEqual({ total: 90_000, exact: false });
+  });
+});
