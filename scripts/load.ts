@@ -10,7 +10,7 @@
  * override the other defaults.
  */
 import { spawn, type ChildProcess } from "node:child_process";
-import { mkdtempSync, rmSync, writeFileSync } from "node:fs";
+import { mkdtempSync, readdirSync, readFileSync, rmSync, writeFileSync } from "node:fs";
 import { tmpdir } from "node:os";
 import path from "node:path";
 import { Sequelize } from "sequelize";
@@ -86,6 +86,32 @@ function nextRequest(view: View | null, seed: BulkSeedResult): { view: View; pat
   const fresh = newView(seed);
   const page = Math.random() < 0.2 ? 2 + Math.floor(Math.random() * 19) : 1;
   return { view: fresh, path: `/api/files?${fresh.query}&page=${page}` };
+}
+
+/** CPU seconds (user + system) a process and its children have used, from /proc (Linux); null elsewhere. */
+function cpuSeconds(pid: number | undefined, withChildren: boolean): number | null {
+  if (!pid) return null;
+  try {
+    const ticks = 100; // USER_HZ, 100 on Linux (common practice; `getconf CLK_TCK`)
+    const fields = (p: number): number[] => readFileSync(`/proc/${p}/stat`, "utf8").replace(/^.*\) /, "").split(" ").map(Number);
+    // After "pid (comm) ": state, ppid, …; utime, stime, cutime, cstime are fields 14–17 of stat(5).
+    const own = fields(pid);
+    let total = own[11] + own[12] + own[13] + own[14];
+    if (withChildren) {
+      for (const entry of readdirSync("/proc")) {
+        if (!/^\d+$/.test(entry)) continue;
+        try {
+          const f = fields(Number(entry));
+          if (f[1] === pid) total += f[11] + f[12];
+        } catch {
+          /* gone meanwhile */
+        }
+      }
+    }
+    return total / ticks;
+  } catch {
+    return null;
+  }
 }
 
 const percentile = (sorted: number[], p: number): number => (sorted.length ? sorted[Math.min(sorted.length - 1, Math.ceil(p * sorted.length) - 1)] : NaN);
@@ -176,6 +202,9 @@ async function main(): Promise<void> {
   const all: number[] = [];
   const errors: Record<string, number> = {};
   const deadline = Date.now() + SECONDS * 1000;
+  // CPU used during the measured phase by the server, PostgreSQL (postmaster and its backends) and this process.
+  const cpu = () => ({ server: cpuSeconds(server?.pid, false), postgres: cpuSeconds(cluster?.process.pid, true), client: process.cpuUsage() });
+  const cpuBefore = cpu();
   const started = Date.now();
   await Promise.all(
     cookies.map(async (cookie) => {
@@ -205,6 +234,15 @@ async function main(): Promise<void> {
     }),
   );
   const elapsed = (Date.now() - started) / 1000;
+  const cpuAfter = cpu();
+  const perRequestMs = (a: number | null, b: number | null): number | null =>
+    a === null || b === null || all.length === 0 ? null : Math.round(((b - a) * 1000 * 10) / all.length) / 10;
+  const clientCpu = (cpuAfter.client.user + cpuAfter.client.system - cpuBefore.client.user - cpuBefore.client.system) / 1e6;
+  const cpuPerRequestMs = {
+    server: perRequestMs(cpuBefore.server, cpuAfter.server),
+    postgres: perRequestMs(cpuBefore.postgres, cpuAfter.postgres),
+    loadClient: perRequestMs(0, clientCpu),
+  };
   const overall = summarise(all);
   const errorCount = Object.values(errors).reduce((a, b) => a + b, 0);
   const result = {
@@ -220,10 +258,12 @@ async function main(): Promise<void> {
     byKindMs: Object.fromEntries([...byKind].sort().map(([k, v]) => [k, summarise(v)])),
     bySortMs: Object.fromEntries([...bySort].sort().map(([k, v]) => [k, summarise(v)])),
     byStepMs: Object.fromEntries([...byStep].sort().map(([k, v]) => [k, summarise(v)])),
+    cpuPerRequestMs,
     machine: { cpus: (await import("node:os")).cpus().length, node: process.version, loadAverage: (await import("node:os")).loadavg() },
   };
   console.log(`\nGET /api/files under load: ${CLIENTS} clients × ${SECONDS} s on ${ROWS} rows, think time ${THINK_MS} ms, loopback`);
   console.log(`requests ${result.requests} (${result.requestsPerSecond}/s), errors ${errorCount}${errorCount ? ` ${JSON.stringify(errors)}` : ""}`);
+  console.log(`CPU per request: server ${cpuPerRequestMs.server ?? "?"} ms, PostgreSQL ${cpuPerRequestMs.postgres ?? "?"} ms, load client ${cpuPerRequestMs.loadClient} ms (over ${elapsed.toFixed(0)} s wall)`);
   console.log(`overall   p50 ${overall.p50} ms   p95 ${overall.p95} ms   p99 ${overall.p99} ms   max ${overall.max} ms`);
   for (const [title, table] of [["filter", result.byKindMs], ["sort", result.bySortMs], ["request", result.byStepMs]] as const) {
     console.log(`by ${title}:`);
