@@ -5,27 +5,10 @@
  * ascending, last when descending, which is also one index scanned either way.
  */
 import { QueryTypes, type Sequelize } from "sequelize";
-import { z } from "zod";
-import { FILE_SORT_KEYS, REVIEW_STATES, type FileSortKey, type FindingSummaryDto, type ReviewState } from "@tidemark/shared/types/api";
-import { FINDING_CODES, VERDICTS, type AudioFormat, type Verdict } from "@tidemark/shared/types/report";
+import type { FileListQuery } from "@tidemark/shared/contracts/files";
+import type { FileSortKey, FindingSummaryDto, ReviewState } from "@tidemark/shared/types/api";
+import type { AudioFormat, Verdict } from "@tidemark/shared/types/report";
 import type { ListTotals } from "./listTotals.ts";
-import { blankToUndefined, optionalEnum, optionalId, orderParam, pageParams } from "../queryParams.ts";
-
-export const fileQuerySchema = z
-  .object({
-    batch: optionalId,
-    collection: optionalId,
-    verdict: optionalEnum(VERDICTS),
-    reviewState: optionalEnum(REVIEW_STATES),
-    finding: optionalEnum(FINDING_CODES),
-    q: z.preprocess(blankToUndefined, z.string().trim().max(200).optional()),
-    sort: optionalEnum(FILE_SORT_KEYS),
-    order: orderParam,
-    ...pageParams,
-  })
-  .strict();
-
-export type FileListQuery = z.infer<typeof fileQuerySchema>;
 
 const NULLABLE_SORTS = new Set<FileSortKey>(["durationSeconds", "integratedLufs", "truePeakDbtp"]);
 

@@ -2,6 +2,8 @@
  * The one place the portal talks HTTP. Every response that is not ok becomes an ApiError carrying the
  * server's `{ error: { code, message } }`, so screens can say in plain words what went wrong.
  */
+import { parseContract } from "@tidemark/shared/contracts/checkContract";
+import type { QueryOf, QuerySchema } from "@tidemark/shared/contracts/searchParams";
 import { CSRF_HEADER, type ApiErrorBody } from "@tidemark/shared/types/api";
 
 export class ApiError extends Error {
@@ -94,6 +96,14 @@ export function withQuery(path: string, query: object): string {
   }
   const search = params.toString();
   return search ? `${path}?${search}` : path;
+}
+
+/**
+ * `path?query` for a request, the query checked against the same contract the server validates with
+ * (a ContractError names each bad field: a bug here, not the user's) and complete with its defaults.
+ */
+export function requestUrl<S extends QuerySchema>(path: string, schema: S, query: QueryOf<S>): string {
+  return withQuery(path, parseContract(schema, query, `query of ${path}`));
 }
 
 export function isUnauthorized(error: unknown): boolean {

@@ -1,7 +1,9 @@
 import { keepPreviousData, queryOptions, useMutation, useQuery, useQueryClient } from "@tanstack/react-query";
+import { fileQuerySchema } from "@tidemark/shared/contracts/files";
 import type {
   BulkReviewChangeRequest,
   CommentDto,
+  CreateCommentRequest,
   FileDetailDto,
   FileQuery,
   FileSummaryDto,
@@ -10,13 +12,13 @@ import type {
 } from "@tidemark/shared/types/api";
 import { decodeLevelGrid } from "../components/file/levelGrid.ts";
 import { decodeLoudnessCurve } from "../components/file/loudnessCurve.ts";
-import { getJson, sendJson, withQuery } from "./client.ts";
+import { getJson, requestUrl, sendJson } from "./client.ts";
 import { auditKeys, fileKeys } from "./keys.ts";
 
 export const fileListOptions = (query: FileQuery) =>
   queryOptions({
     queryKey: fileKeys.list(query),
-    queryFn: ({ signal }) => getJson<Page<FileSummaryDto>>(withQuery("/api/files", query), { signal }),
+    queryFn: ({ signal }) => getJson<Page<FileSummaryDto>>(requestUrl("/api/files", fileQuerySchema, query), { signal }),
     placeholderData: keepPreviousData,
   });
 
@@ -96,19 +98,12 @@ export function useBulkReview() {
   });
 }
 
-/** POST /api/files/:id/comments body: a comment may be anchored to a time (and channel) of the recording. */
-export interface NewCommentRequest {
-  body: string;
-  atSeconds?: number | null;
-  channel?: number | null;
-}
-
 /** The thread lives inside the file detail; the new comment is appended at once, then re-read. */
 export function useAddComment(fileId: number) {
   const client = useQueryClient();
   const detailKey = fileDetailOptions(fileId).queryKey;
   return useMutation({
-    mutationFn: (body: NewCommentRequest) => sendJson<CommentDto>("POST", `/api/files/${fileId}/comments`, body),
+    mutationFn: (body: CreateCommentRequest) => sendJson<CommentDto>("POST", `/api/files/${fileId}/comments`, body),
     onSuccess: (comment) => {
       client.setQueryData(detailKey, (detail) =>
         detail && !detail.comments.some((c) => c.id === comment.id) ? { ...detail, comments: [...detail.comments, comment] } : detail,

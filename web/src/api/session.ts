@@ -1,5 +1,5 @@
 import { queryOptions, useMutation, useQuery, useQueryClient, type QueryClient } from "@tanstack/react-query";
-import type { SessionDto, UserDto } from "@tidemark/shared/types/api";
+import type { PasswordResetConfirmRequest, PasswordResetRequest, SessionDto, SignInRequest, UserDto } from "@tidemark/shared/types/api";
 import { getJson, isUnauthorized, sendJson } from "./client.ts";
 import { sessionKeys } from "./keys.ts";
 
@@ -38,11 +38,6 @@ function forgetEverythingButSession(client: QueryClient): void {
   client.removeQueries({ predicate: (query) => query.queryKey[0] !== sessionKeys.all[0] });
 }
 
-export interface SignInRequest {
-  email: string;
-  password: string;
-}
-
 export function useSignIn() {
   const client = useQueryClient();
   return useMutation({
@@ -68,12 +63,12 @@ export function useSignOut() {
 
 export function useRequestPasswordReset() {
   return useMutation({
-    mutationFn: (body: { email: string }) => sendJson<void>("POST", "/api/password-reset", body),
+    mutationFn: (body: PasswordResetRequest) => sendJson<void>("POST", "/api/password-reset", body),
   });
 }
 
 export function useConfirmPasswordReset() {
   return useMutation({
-    mutationFn: (body: { token: string; password: string }) => sendJson<void>("POST", "/api/password-reset/confirm", body),
+    mutationFn: (body: PasswordResetConfirmRequest) => sendJson<void>("POST", "/api/password-reset/confirm", body),
   });
 }
