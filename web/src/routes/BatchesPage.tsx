@@ -7,12 +7,13 @@ import type { BatchQuery } from "@tidemark/shared/types/api";
 import { useBatches, useCollections } from "../api/batches.ts";
 import { describeError } from "../api/client.ts";
 import { PageHeader } from "../components/PageHeader.tsx";
-import { Pagination, PAGE_SIZES } from "../components/Pagination.tsx";
+import { Pagination } from "../components/Pagination.tsx";
 import { SortableHeader } from "../components/SortableHeader.tsx";
 import { EmptyState, ErrorState, LoadingState } from "../components/states.tsx";
 import { buttonClass, SelectField, TextField } from "../components/fields.tsx";
 import { formatDateTime } from "../format/units.ts";
-import { sortOrderOf } from "../components/listSearch.ts";
+import { PAGE_SIZES, sortOrderOf } from "../components/listSearch.ts";
+import { filesLink } from "../components/files/fileQueryParams.ts";
 
 const DEFAULT_PAGE_SIZE = 25;
 const batchViewSchema = batchQuerySchema.extend({ pageSize: pageSizeOf(PAGE_SIZES, DEFAULT_PAGE_SIZE) });
@@ -113,7 +114,7 @@ export function BatchesPage() {
                 {batches.data.items.map((batch) => (
                   <tr key={batch.id} className="border-b border-line last:border-b-0 hover:bg-paper">
                     <td className="px-2 py-1.5">
-                      <Link to={`/files?batch=${batch.id}`} className="font-medium text-harbour-strong underline-offset-2 hover:underline">
+                      <Link to={filesLink({ batch: batch.id })} className="font-medium text-harbour-strong underline-offset-2 hover:underline">
                         #{batch.id}
                       </Link>
                       {" "}

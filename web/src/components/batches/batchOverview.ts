@@ -2,9 +2,8 @@
  * Shaping GET /api/batches/:id/overview for the at-a-glance strip: files ranked by a measure (a sorted
  * dot plot, so outliers sit at the ends) and finding counts as bars. Pure, tested without a canvas.
  */
-import { fileQuerySchema } from "@tidemark/shared/contracts/files";
-import { toSearchParams } from "@tidemark/shared/contracts/searchParams";
 import type { BatchOverviewDto } from "@tidemark/shared/types/api";
+import { filesLink } from "../files/fileQueryParams.ts";
 
 type OverviewFile = BatchOverviewDto["files"][number];
 
@@ -61,6 +60,6 @@ export function findingBars(overview: BatchOverviewDto): FindingBar[] {
     .map((c) => ({
       ...c,
       percent: (c.files / most) * 100,
-      href: `/files?${toSearchParams(fileQuerySchema, { batch: overview.batchId, finding: c.code }).toString()}`,
+      href: filesLink({ batch: overview.batchId, finding: c.code }),
     }));
 }

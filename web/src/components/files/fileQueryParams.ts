@@ -7,8 +7,7 @@ import { pageSizeOf } from "@tidemark/shared/contracts/fields";
 import { fileQuerySchema } from "@tidemark/shared/contracts/files";
 import { readSearchParams, toSearchParams } from "@tidemark/shared/contracts/searchParams";
 import type { FileQuery } from "@tidemark/shared/types/api";
-import { PAGE_SIZES } from "../Pagination.tsx";
-import { sortOrderOf } from "../listSearch.ts";
+import { PAGE_SIZES, sortOrderOf } from "../listSearch.ts";
 
 export const DEFAULT_FILE_PAGE_SIZE = 50;
 
@@ -23,6 +22,12 @@ export function parseFileQuery(params: URLSearchParams): FileQuery {
 /** Back to the address bar, leaving out defaults so plain views keep plain URLs. */
 export function fileQueryToParams(query: FileQuery): URLSearchParams {
   return toSearchParams(fileViewSchema, { ...query, order: query.sort ? query.order : undefined }, { omitDefaults: true });
+}
+
+/** A link to the Files table showing this query, e.g. one batch's files. */
+export function filesLink(query: FileQuery): string {
+  const search = fileQueryToParams(query).toString();
+  return search ? `/files?${search}` : "/files";
 }
 
 export function hasFilters(query: FileQuery): boolean {
