@@ -10,7 +10,7 @@ import { auditCsvQuerySchema, auditQuerySchema } from "../../shared/src/contract
 import { batchQuerySchema } from "../../shared/src/contracts/batches.ts";
 import { checkContract, ContractError, parseContract } from "../../shared/src/contracts/checkContract.ts";
 import { filesCsvQuerySchema } from "../../shared/src/contracts/exports.ts";
-import { lowerBound, pageSizeOf, upperBound } from "../../shared/src/contracts/fields.ts";
+import { lowerBound, optionalText, pageSizeOf, upperBound } from "../../shared/src/contracts/fields.ts";
 import { bulkReviewChangeSchema, createCommentSchema, fileQuerySchema, reviewChangeSchema } from "../../shared/src/contracts/files.ts";
 import { fixityCheckUploadSchema } from "../../shared/src/contracts/fixityChecks.ts";
 import { claimJobsSchema, jobResultFieldsSchema, releaseJobSchema } from "../../shared/src/contracts/jobs.ts";
@@ -83,8 +83,18 @@ describe("query contracts: parse, serialise, parse again", () => {
     expect(message).toContain('Unrecognized key: "utm_source"');
   });
 
+  it("keeps what it can when a rule across fields refuses the set: only the fields that rule names go", () => {
+    const paged = runQuerySchema
+      .safeExtend({ after: optionalText(100), before: optionalText(100) })
+      .superRefine((q, ctx) => {
+        if (q.after && q.before) ctx.addIssue({ code: "custom", path: ["before"], message: "give after or before, not both" });
+      });
+    expect(readSearchParams(paged, new URLSearchParams("collection=3&after=abc&before=xyz&page=4"))).toEqual({ collection: 3, after: "abc", page: 4, pageSize: 50 });
+    expect(messageOf(paged, { after: "abc", before: "xyz" })).toBe("invalid query: before: give after or before, not both");
+  });
+
   it("limits a screen's page sizes to those it offers, with its own default", () => {
-    const view = runQuerySchema.extend({ pageSize: pageSizeOf([25, 50, 100], 25) });
+    const view = runQuerySchema.safeExtend({ pageSize: pageSizeOf([25, 50, 100], 25) });
     expect(readSearchParams(view, new URLSearchParams("pageSize=100")).pageSize).toBe(100);
     expect(readSearchParams(view, new URLSearchParams("pageSize=30")).pageSize).toBe(25);
     expect(toSearchParams(view, { page: 1, pageSize: 25 }, { omitDefaults: true }).toString()).toBe("");

@@ -20,8 +20,12 @@ export function readSearchParams<S extends QuerySchema>(schema: S, params: URLSe
     const raw = params.get(name);
     if (raw !== null && z.safeParse(field, raw).success) kept[name] = raw;
   }
-  const parsed = schema.safeParse(kept);
-  // Each field was checked alone; only a rule across fields could refuse them together.
+  let parsed = schema.safeParse(kept);
+  // Each field was checked alone; a rule across fields may still refuse them together: drop the fields it names.
+  if (!parsed.success) {
+    for (const issue of parsed.error.issues) delete kept[String(issue.path[0])];
+    parsed = schema.safeParse(kept);
+  }
   return parsed.success ? parsed.data : schema.parse({});
 }
 

@@ -16,7 +16,7 @@ import { PAGE_SIZES, sortOrderOf } from "../components/listSearch.ts";
 import { filesLink } from "../components/files/fileQueryParams.ts";
 
 const DEFAULT_PAGE_SIZE = 25;
-const batchViewSchema = batchQuerySchema.extend({ pageSize: pageSizeOf(PAGE_SIZES, DEFAULT_PAGE_SIZE) });
+const batchViewSchema = batchQuerySchema.safeExtend({ pageSize: pageSizeOf(PAGE_SIZES, DEFAULT_PAGE_SIZE) });
 
 function parseBatchQuery(params: URLSearchParams): BatchQuery {
   const query = readSearchParams(batchViewSchema, params);

@@ -18,7 +18,7 @@ import { EmptyState, ErrorState, LoadingState } from "../components/states.tsx";
 import { formatDateTime } from "../format/units.ts";
 
 const DEFAULT_PAGE_SIZE = 25;
-const runViewSchema = runQuerySchema.extend({ pageSize: pageSizeOf(PAGE_SIZES, DEFAULT_PAGE_SIZE) });
+const runViewSchema = runQuerySchema.safeExtend({ pageSize: pageSizeOf(PAGE_SIZES, DEFAULT_PAGE_SIZE) });
 
 const parseRunQuery = (params: URLSearchParams): ScanRunQuery => readSearchParams(runViewSchema, params);
 const toParams = (query: ScanRunQuery): URLSearchParams => toSearchParams(runViewSchema, query, { omitDefaults: true });

@@ -12,7 +12,7 @@ import { PAGE_SIZES, sortOrderOf } from "../listSearch.ts";
 export const DEFAULT_FILE_PAGE_SIZE = 50;
 
 /** The address bar's form of the query: only the page sizes the table offers. */
-const fileViewSchema = fileQuerySchema.extend({ pageSize: pageSizeOf(PAGE_SIZES, DEFAULT_FILE_PAGE_SIZE) });
+const fileViewSchema = fileQuerySchema.safeExtend({ pageSize: pageSizeOf(PAGE_SIZES, DEFAULT_FILE_PAGE_SIZE) });
 
 export function parseFileQuery(params: URLSearchParams): FileQuery {
   const query = readSearchParams(fileViewSchema, params);
