@@ -31,9 +31,11 @@ export interface Validator<T> extends RequestHandler {
 
 /**
  * Validates one input of the request with its contract before the handler runs (400 `invalid_request`
- * naming each bad field); `what` names it in the message ("invalid comment: body: …").
+ * naming each bad field). The message names the input by the schema's description ("invalid comment:
+ * body: …"), or "query" for a query string.
  */
-export function validate<S extends z.ZodType>(source: InputSource, schema: S, what: string = source): Validator<z.output<S>> {
+export function validate<S extends z.ZodType>(source: InputSource, schema: S): Validator<z.output<S>> {
+  const what = schema.description ?? source;
   const parsed = new WeakMap<Response, z.output<S>>();
   const handler: RequestHandler = (req, res, next) => {
     const input: unknown = source === "query" ? req.query : source === "body" ? (req.body ?? {}) : (res.locals.upload?.fields ?? {});

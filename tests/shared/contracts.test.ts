@@ -124,6 +124,27 @@ describe("dates in queries", () => {
 });
 
 describe("body contracts", () => {
+  it("names every body as the server's messages do", () => {
+    const named = [
+      [reviewChangeSchema, "review change"],
+      [bulkReviewChangeSchema, "bulk review change"],
+      [createCommentSchema, "comment"],
+      [fixityCheckUploadSchema, "fixity checks"],
+      [createRunSchema, "run"],
+      [enqueueFilesSchema, "files"],
+      [claimJobsSchema, "claim"],
+      [releaseJobSchema, "release"],
+      [jobResultFieldsSchema, "result fields"],
+      [createTokenSchema, "token"],
+      [createUserSchema, "user"],
+      [updateUserSchema, "user change"],
+    ] as const;
+    for (const [schema, name] of named) {
+      expect(schema.description).toBe(name);
+      expect(messageOf(schema, [], schema.description)).toMatch(new RegExp(`^invalid ${name}: \\(root\\): `));
+    }
+  });
+
   it("fills a body's defaults and trims its text", () => {
     expect(parseContract(reviewChangeSchema, { reviewState: "accepted" }, "review change")).toEqual({ reviewState: "accepted", reason: "" });
     expect(parseContract(createTokenSchema, { name: "  ci  " }, "token")).toEqual({ name: "ci", expiresInDays: 365 });

@@ -1,7 +1,7 @@
 import { afterEach, describe, expect, it, vi } from "vitest";
 import { ContractError } from "@tidemark/shared/contracts/checkContract";
-import { fileQuerySchema } from "@tidemark/shared/contracts/files";
-import { ApiError, getJson, requestUrl, sendJson, withQuery } from "../../web/src/api/client.ts";
+import { createCommentSchema, fileQuerySchema } from "@tidemark/shared/contracts/files";
+import { ApiError, checkedBody, getJson, requestUrl, sendJson, withQuery } from "../../web/src/api/client.ts";
 import { stubFetch } from "./fetchStub.ts";
 
 afterEach(() => vi.unstubAllGlobals());
@@ -58,5 +58,19 @@ describe("API client", () => {
     expect(requestUrl("/api/files", fileQuerySchema, { verdict: "fail", q: "" })).toBe("/api/files?verdict=fail&page=1&pageSize=50");
     expect(() => requestUrl("/api/files", fileQuerySchema, { page: 0 })).toThrow(ContractError);
     expect(() => requestUrl("/api/files", fileQuerySchema, { page: 0 })).toThrow(/^invalid query of \/api\/files: page: Too small/);
+  });
+
+  it("refuses a body the server would refuse, with the server's status, code and message, and passes a good one as given", () => {
+    const body = { body: "  hum at 50 Hz  ", atSeconds: 1.5 };
+    expect(checkedBody(createCommentSchema, body)).toBe(body);
+    let error: unknown;
+    try {
+      checkedBody(createCommentSchema, { body: "   ", channel: -1 });
+    } catch (e) {
+      error = e;
+    }
+    expect(error).toBeInstanceOf(ApiError);
+    expect(error).toMatchObject({ status: 400, code: "invalid_request" });
+    expect((error as ApiError).message).toMatch(/^invalid comment: body: .*; channel: Too small/);
   });
 });

@@ -10,7 +10,7 @@ import { Comment, User, type FileResult } from "../models/index.ts";
 import { recordAudit } from "../services/audit.ts";
 import { validate } from "../validate.ts";
 
-const newComment = validate("body", createCommentSchema, "comment");
+const newComment = validate("body", createCommentSchema);
 
 /** An anchor must fall inside the file: atSeconds within its duration, channel within its channel count. */
 function checkAnchor(file: FileResult, atSeconds: number | null, channel: number | null): void {

@@ -20,8 +20,8 @@ import { validate } from "../validate.ts";
 import { sendObject, sendObjectWithRanges } from "./sendObject.ts";
 
 const listQuery = validate("query", fileQuerySchema);
-const reviewChange = validate("body", reviewChangeSchema, "review change");
-const bulkReviewChange = validate("body", bulkReviewChangeSchema, "bulk review change");
+const reviewChange = validate("body", reviewChangeSchema);
+const bulkReviewChange = validate("body", bulkReviewChangeSchema);
 
 /** Flagging or sending back for retransfer says why; accepting (or resetting to pending) need not. */
 function requireReason(reviewState: ReviewState, reason: string): void {

@@ -7,7 +7,7 @@ import { requirePermission, requireTokenAuth } from "../middleware/auth.ts";
 import { notifyFixityChanged, recordFixityChecks } from "../services/fixityChecks.ts";
 import { validate } from "../validate.ts";
 
-const upload = validate("body", fixityCheckUploadSchema, "fixity checks");
+const upload = validate("body", fixityCheckUploadSchema);
 
 export function fixityChecksRouter(ctx: AppContext): Router {
   const router = Router();

@@ -10,7 +10,7 @@ import { ingestBatch } from "../services/ingest.ts";
 import { artefactPartsOf } from "../services/ingestValidation.ts";
 import { validate } from "../validate.ts";
 
-const uploadFields = validate("upload", ingestFieldsSchema, "upload fields");
+const uploadFields = validate("upload", ingestFieldsSchema);
 
 export function ingestRouter(ctx: AppContext): Router {
   const router = Router();

@@ -21,11 +21,11 @@ import { validate } from "../validate.ts";
 /** How often a waiting claim looks at the queue again: the most an idle worker waits for a new job. */
 const CLAIM_WAIT_STEP_MS = 300;
 
-const claim = validate("body", claimJobsSchema, "claim");
-const heartbeat = validate("body", jobHeartbeatSchema, "heartbeat");
-const resultFields = validate("upload", jobResultFieldsSchema, "result fields");
-const failure = validate("body", failJobSchema, "failure");
-const release = validate("body", releaseJobSchema, "release");
+const claim = validate("body", claimJobsSchema);
+const heartbeat = validate("body", jobHeartbeatSchema);
+const resultFields = validate("upload", jobResultFieldsSchema);
+const failure = validate("body", failJobSchema);
+const release = validate("body", releaseJobSchema);
 
 export function jobsRouter(ctx: AppContext): Router {
   const router = Router();

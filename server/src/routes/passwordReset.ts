@@ -8,8 +8,8 @@ import { confirmPasswordReset, requestPasswordReset } from "../services/password
 import { limiter } from "../middleware/rateLimits.ts";
 import { validate } from "../validate.ts";
 
-const resetRequest = validate("body", passwordResetRequestSchema, "password-reset request");
-const resetConfirmation = validate("body", passwordResetConfirmSchema, "password-reset confirmation");
+const resetRequest = validate("body", passwordResetRequestSchema);
+const resetConfirmation = validate("body", passwordResetConfirmSchema);
 
 export function passwordResetRouter(ctx: AppContext): Router {
   const router = Router();

@@ -14,8 +14,8 @@ import { retryRun } from "../services/runsJobs.ts";
 import { enqueueFilesBody } from "../services/runsValidation.ts";
 import { validate } from "../validate.ts";
 
-const newRun = validate("body", createRunSchema, "run");
-const newFiles = validate("body", enqueueFilesBody, "files");
+const newRun = validate("body", createRunSchema);
+const newFiles = validate("body", enqueueFilesBody);
 const runQuery = validate("query", runQuerySchema);
 const jobQuery = validate("query", jobQuerySchema);
 

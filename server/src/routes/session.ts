@@ -11,7 +11,7 @@ import { recordAudit } from "../services/audit.ts";
 import { destroySession, regenerateSession, saveSession } from "../middleware/requestSession.ts";
 import { validate } from "../validate.ts";
 
-const signInBody = validate("body", signInSchema, "sign-in");
+const signInBody = validate("body", signInSchema);
 
 /** The account a sign-in names, as findUserByEmail matches it (trimmed, any letter case). */
 function accountKey(req: Request): string {

@@ -13,7 +13,7 @@ import { createApiToken } from "../services/apiTokens.ts";
 import { recordAudit } from "../services/audit.ts";
 import { validate } from "../validate.ts";
 
-const newToken = validate("body", createTokenSchema, "token");
+const newToken = validate("body", createTokenSchema);
 const listQuery = validate("query", tokenListQuerySchema);
 
 export function tokensRouter(ctx: AppContext): Router {

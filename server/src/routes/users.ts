@@ -14,8 +14,8 @@ import { hashPassword, passwordProblem } from "../services/passwords.ts";
 import { endSessionsOf } from "../services/sessions.ts";
 import { validate } from "../validate.ts";
 
-const newUser = validate("body", createUserSchema, "user");
-const userChange = validate("body", updateUserSchema, "user change");
+const newUser = validate("body", createUserSchema);
+const userChange = validate("body", updateUserSchema);
 
 function checkPassword(password: string, address: string): void {
   const problem = passwordProblem(password, address);

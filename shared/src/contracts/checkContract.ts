@@ -1,6 +1,11 @@
 /** Parsing against a contract with one readable message naming each bad field, for the server's 400s and for tests. */
 import type { z } from "zod";
 
+/** Any contract; a body's schema carries its name in its description ("comment"), used in messages. */
+export type ContractSchema = z.ZodType;
+/** What a caller sends for a contract (before defaults and trimming). */
+export type InputOf<S extends z.ZodType> = z.input<S>;
+
 export interface ContractIssue {
   /** Dotted path of the field ("checks.0.outcome"), empty for the whole input. */
   path: string;

@@ -34,13 +34,14 @@ const reviewChange = {
 };
 
 /** PATCH /api/files/:id body. `reason` is optional for accepted/pending, required for flagged/retransfer. */
-export const reviewChangeSchema = z.object(reviewChange).strict();
+export const reviewChangeSchema = z.object(reviewChange).strict().describe("review change");
 export type ReviewChangeRequest = z.input<typeof reviewChangeSchema>;
 
 /** POST /api/files/review (bulk) body. */
 export const bulkReviewChangeSchema = z
   .object({ ids: z.array(z.number().int().min(1).max(INT32_MAX)).min(1).max(1000), ...reviewChange })
-  .strict();
+  .strict()
+  .describe("bulk review change");
 export type BulkReviewChangeRequest = z.input<typeof bulkReviewChangeSchema>;
 
 /** POST /api/files/:id/comments body: a comment may be anchored to a time (and channel) of the recording. */
@@ -50,5 +51,6 @@ export const createCommentSchema = z
     atSeconds: z.number().finite().min(0).nullable().optional(),
     channel: z.number().int().min(0).max(INT32_MAX).nullable().optional(),
   })
-  .strict();
+  .strict()
+  .describe("comment");
 export type CreateCommentRequest = z.input<typeof createCommentSchema>;

@@ -27,5 +27,6 @@ export const fixityCheckUploadSchema = z
       .min(1)
       .max(MAX_CHECKS_PER_REQUEST),
   })
-  .strict();
+  .strict()
+  .describe("fixity checks");
 export type FixityCheckUploadRequest = z.input<typeof fixityCheckUploadSchema>;

@@ -5,5 +5,5 @@
 import { z } from "zod";
 import { label } from "./fields.ts";
 
-export const ingestFieldsSchema = z.object({ collection: label(200), batchKey: label(200) });
+export const ingestFieldsSchema = z.object({ collection: label(200), batchKey: label(200) }).describe("upload fields");
 export type IngestFields = z.input<typeof ingestFieldsSchema>;

@@ -19,17 +19,19 @@ export const claimJobsSchema = z
     /** Seconds the server may hold the request open for a job to arrive: a long poll. */
     wait: z.number().min(0).max(MAX_CLAIM_WAIT_SECONDS).default(0),
   })
-  .strict();
+  .strict()
+  .describe("claim");
 export type ClaimJobsRequest = z.input<typeof claimJobsSchema>;
 
 /** POST /api/jobs/heartbeat body: the jobs this worker holds. */
 export const jobHeartbeatSchema = z
   .object({ worker: workerName, jobs: z.array(z.object({ id: z.number().int().min(1), attempt }).strict()).max(256) })
-  .strict();
+  .strict()
+  .describe("heartbeat");
 export type JobHeartbeatRequest = z.input<typeof jobHeartbeatSchema>;
 
 /** POST /api/jobs/:id/fail body. */
-export const failJobSchema = z.object({ attempt, worker: workerName, message: z.string().trim().min(1).max(2000) }).strict();
+export const failJobSchema = z.object({ attempt, worker: workerName, message: z.string().trim().min(1).max(2000) }).strict().describe("failure");
 export type FailJobRequest = z.input<typeof failJobSchema>;
 
 /**
@@ -39,8 +41,9 @@ export type FailJobRequest = z.input<typeof failJobSchema>;
  */
 export const releaseJobSchema = z
   .object({ attempt, worker: workerName, reason: z.enum(["stopping", "unreachable"]).optional(), message: z.string().trim().min(1).max(2000).optional() })
-  .strict();
+  .strict()
+  .describe("release");
 export type ReleaseJobRequest = z.input<typeof releaseJobSchema>;
 
 /** Text fields of POST /api/jobs/:id/result (multipart strings, beside the report and artefact parts). */
-export const jobResultFieldsSchema = z.object({ attempt: z.coerce.number().int().min(1).max(1_000_000), worker: workerName }).strict();
+export const jobResultFieldsSchema = z.object({ attempt: z.coerce.number().int().min(1).max(1_000_000), worker: workerName }).strict().describe("result fields");

@@ -61,7 +61,8 @@ export const createRunSchema = z
     /** The enqueuing CLI; the batch shows the version of the workers that report results. */
     tool: z.object({ name: label(100), version: label(100) }),
   })
-  .strict();
+  .strict()
+  .describe("run");
 export type CreateRunRequest = z.input<typeof createRunSchema>;
 
 export const enqueueFileSchema = z
@@ -84,5 +85,6 @@ export const enqueueFilesSchema = z
       .min(1)
       .max(MAX_FILES_PER_ENQUEUE, `at most ${MAX_FILES_PER_ENQUEUE} files a request; send the rest in further requests`),
   })
-  .strict();
+  .strict()
+  .describe("files");
 export type EnqueueFilesRequest = z.input<typeof enqueueFilesSchema>;

@@ -15,5 +15,6 @@ export const createTokenSchema = z
     /** Days until the token stops working. */
     expiresInDays: z.number().int().min(1).max(MAX_TOKEN_LIFETIME_DAYS).default(DEFAULT_TOKEN_LIFETIME_DAYS),
   })
-  .strict();
+  .strict()
+  .describe("token");
 export type CreateTokenDto = z.input<typeof createTokenSchema>;

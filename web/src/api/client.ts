@@ -2,7 +2,7 @@
  * The one place the portal talks HTTP. Every response that is not ok becomes an ApiError carrying the
  * server's `{ error: { code, message } }`, so screens can say in plain words what went wrong.
  */
-import { parseContract } from "@tidemark/shared/contracts/checkContract";
+import { checkContract, parseContract, type ContractSchema, type InputOf } from "@tidemark/shared/contracts/checkContract";
 import type { QueryOf, QuerySchema } from "@tidemark/shared/contracts/searchParams";
 import { CSRF_HEADER, type ApiErrorBody } from "@tidemark/shared/types/api";
 
@@ -85,6 +85,17 @@ export async function sendJson<T>(method: Method, path: string, body?: unknown, 
     signal,
   });
   return readJson<T>(res);
+}
+
+/**
+ * A write's body, checked first against the contract the server validates it with: a body the server
+ * would refuse is refused here with the same 400 and message, without the round trip. It goes as given;
+ * the server applies the contract's defaults and trimming itself.
+ */
+export function checkedBody<S extends ContractSchema>(schema: S, body: InputOf<S>): InputOf<S> {
+  const result = checkContract(schema, body, schema.description ?? "request");
+  if (!result.ok) throw new ApiError(400, "invalid_request", result.message);
+  return body;
 }
 
 /** Builds `path?query`, leaving out empty values so keys and URLs stay short and stable. */

@@ -1,5 +1,5 @@
 import { keepPreviousData, queryOptions, useMutation, useQuery, useQueryClient } from "@tanstack/react-query";
-import { fileQuerySchema } from "@tidemark/shared/contracts/files";
+import { bulkReviewChangeSchema, createCommentSchema, fileQuerySchema, reviewChangeSchema } from "@tidemark/shared/contracts/files";
 import type {
   BulkReviewChangeRequest,
   CommentDto,
@@ -12,7 +12,7 @@ import type {
 } from "@tidemark/shared/types/api";
 import { decodeLevelGrid } from "../components/file/levelGrid.ts";
 import { decodeLoudnessCurve } from "../components/file/loudnessCurve.ts";
-import { getJson, requestUrl, sendJson } from "./client.ts";
+import { checkedBody, getJson, requestUrl, sendJson } from "./client.ts";
 import { auditKeys, fileKeys } from "./keys.ts";
 
 export const fileListOptions = (query: FileQuery) =>
@@ -63,7 +63,7 @@ export function useSaveReview(id: number) {
   const client = useQueryClient();
   const detailKey = fileDetailOptions(id).queryKey;
   return useMutation({
-    mutationFn: (body: ReviewChangeRequest) => sendJson<FileDetailDto>("PATCH", `/api/files/${id}`, body),
+    mutationFn: (body: ReviewChangeRequest) => sendJson<FileDetailDto>("PATCH", `/api/files/${id}`, checkedBody(reviewChangeSchema, body)),
     onMutate: async (body) => {
       // Cancel in-flight reads so they do not overwrite the optimistic state.
       await client.cancelQueries({ queryKey: detailKey });
@@ -88,7 +88,7 @@ export function useSaveReview(id: number) {
 export function useBulkReview() {
   const client = useQueryClient();
   return useMutation({
-    mutationFn: (body: BulkReviewChangeRequest) => sendJson<unknown>("POST", "/api/files/review", body),
+    mutationFn: (body: BulkReviewChangeRequest) => sendJson<unknown>("POST", "/api/files/review", checkedBody(bulkReviewChangeSchema, body)),
     onSettled: (_data, _error, body) =>
       Promise.all([
         client.invalidateQueries({ queryKey: fileKeys.lists() }),
@@ -103,7 +103,7 @@ export function useAddComment(fileId: number) {
   const client = useQueryClient();
   const detailKey = fileDetailOptions(fileId).queryKey;
   return useMutation({
-    mutationFn: (body: CreateCommentRequest) => sendJson<CommentDto>("POST", `/api/files/${fileId}/comments`, body),
+    mutationFn: (body: CreateCommentRequest) => sendJson<CommentDto>("POST", `/api/files/${fileId}/comments`, checkedBody(createCommentSchema, body)),
     onSuccess: (comment) => {
       client.setQueryData(detailKey, (detail) =>
         detail && !detail.comments.some((c) => c.id === comment.id) ? { ...detail, comments: [...detail.comments, comment] } : detail,

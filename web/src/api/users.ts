@@ -1,6 +1,7 @@
 import { queryOptions, useMutation, useQuery, useQueryClient } from "@tanstack/react-query";
 import type { CreateUserRequest, UpdateUserRequest, UserDto } from "@tidemark/shared/types/api";
-import { getJson, sendJson } from "./client.ts";
+import { createUserSchema, updateUserSchema } from "@tidemark/shared/contracts/users";
+import { checkedBody, getJson, sendJson } from "./client.ts";
 import { auditKeys, userKeys } from "./keys.ts";
 
 export const userListOptions = () =>
@@ -25,7 +26,7 @@ function useInvalidateUsers() {
 export function useCreateUser() {
   const invalidate = useInvalidateUsers();
   return useMutation({
-    mutationFn: (body: CreateUserRequest) => sendJson<UserDto>("POST", "/api/users", body),
+    mutationFn: (body: CreateUserRequest) => sendJson<UserDto>("POST", "/api/users", checkedBody(createUserSchema, body)),
     onSettled: invalidate,
   });
 }
@@ -33,7 +34,7 @@ export function useCreateUser() {
 export function useUpdateUser() {
   const invalidate = useInvalidateUsers();
   return useMutation({
-    mutationFn: ({ id, change }: { id: number; change: UpdateUserRequest }) => sendJson<UserDto>("PATCH", `/api/users/${id}`, change),
+    mutationFn: ({ id, change }: { id: number; change: UpdateUserRequest }) => sendJson<UserDto>("PATCH", `/api/users/${id}`, checkedBody(updateUserSchema, change)),
     onSettled: invalidate,
   });
 }
