@@ -8,8 +8,6 @@ import type { z } from "zod";
 import { checkContract } from "@tidemark/shared/contracts/checkContract";
 import { badRequest, type HttpError } from "./errors.ts";
 
-export { formatIssues } from "@tidemark/shared/contracts/checkContract";
-
 export function parseWith<S extends z.ZodType>(
   schema: S,
   input: unknown,
