@@ -165,6 +165,9 @@ describe("body contracts", () => {
     const files = Array.from({ length: MAX_FILES_PER_ENQUEUE + 1 }, (_, i) => ({ path: `reel-${i}.wav`, sizeBytes: 1, mtimeMs: 0 }));
     expect(messageOf(enqueueFilesSchema, { files }, "files")).toBe(`invalid files: files: at most ${MAX_FILES_PER_ENQUEUE} files a request; send the rest in further requests`);
     expect(messageOf(enqueueFilesSchema, { files: [{ path: "../etc/passwd", sizeBytes: 1, mtimeMs: 0 }] }, "files")).toContain("files.0.path: must be relative to the run's root");
+    // RFC 4648 §4: groups of four characters, "=" padding only at the end.
+    expect(messageOf(enqueueFilesSchema, { files: [{ path: "a.wav", pathBytes: "YS53YXY", sizeBytes: 1, mtimeMs: 0 }] }, "files")).toBe("invalid files: files.0.pathBytes: must be base64 (RFC 4648)");
+    expect(checkContract(enqueueFilesSchema, { files: [{ path: "a.wav", pathBytes: "YS53YXY=", sizeBytes: 1, mtimeMs: 0 }] }, "files").ok).toBe(true);
   });
 
   it("checks a run's root, profile hash and fixity checks' digests", () => {
