@@ -1,5 +1,7 @@
 import { afterEach, describe, expect, it, vi } from "vitest";
-import { ApiError, getJson, sendJson, withQuery } from "../../web/src/api/client.ts";
+import { ContractError } from "@tidemark/shared/contracts/checkContract";
+import { createCommentSchema, fileQuerySchema } from "@tidemark/shared/contracts/files";
+import { ApiError, checkedBody, getJson, requestUrl, sendJson, withQuery } from "../../web/src/api/client.ts";
 import { stubFetch } from "./fetchStub.ts";
 
 afterEach(() => vi.unstubAllGlobals());
@@ -50,5 +52,25 @@ describe("API client", () => {
   it("leaves empty values out of query strings", () => {
     expect(withQuery("/api/files", { verdict: "fail", q: "", batch: undefined, page: 2 })).toBe("/api/files?verdict=fail&page=2");
     expect(withQuery("/api/files", {})).toBe("/api/files");
+  });
+
+  it("builds request URLs with the server's own contract: defaults filled in, a wrongly built query refused", () => {
+    expect(requestUrl("/api/files", fileQuerySchema, { verdict: "fail", q: "" })).toBe("/api/files?verdict=fail&page=1&pageSize=50");
+    expect(() => requestUrl("/api/files", fileQuerySchema, { page: 0 })).toThrow(ContractError);
+    expect(() => requestUrl("/api/files", fileQuerySchema, { page: 0 })).toThrow(/^invalid query of \/api\/files: page: Too small/);
+  });
+
+  it("refuses a body the server would refuse, with the server's status, code and message, and passes a good one as given", () => {
+    const body = { body: "  hum at 50 Hz  ", atSeconds: 1.5 };
+    expect(checkedBody(createCommentSchema, body)).toBe(body);
+    let error: unknown;
+    try {
+      checkedBody(createCommentSchema, { body: "   ", channel: -1 });
+    } catch (e) {
+      error = e;
+    }
+    expect(error).toBeInstanceOf(ApiError);
+    expect(error).toMatchObject({ status: 400, code: "invalid_request" });
+    expect((error as ApiError).message).toMatch(/^invalid comment: body: .*; channel: Too small/);
   });
 });

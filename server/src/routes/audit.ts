@@ -1,19 +1,18 @@
 import { Router } from "express";
-import { z } from "zod";
+import { auditQuerySchema } from "@tidemark/shared/contracts/audit";
 import type { AuditEntryDto, Page } from "@tidemark/shared/types/api";
 import { toAuditEntryDto } from "../dto.ts";
 import { requirePermission } from "../middleware/auth.ts";
 import { AuditEntry, User } from "../models/index.ts";
-import { pageParams } from "../queryParams.ts";
-import { auditQueryFilters, auditWhere } from "../services/auditQuery.ts";
-import { parseWith } from "../validate.ts";
+import { auditWhere } from "../services/auditQuery.ts";
+import { validate } from "../validate.ts";
 
-const auditQuery = z.object({ ...auditQueryFilters, ...pageParams }).strict();
+const listQuery = validate("query", auditQuerySchema);
 
 export function auditRouter(): Router {
   const router = Router();
-  router.get("/audit", requirePermission("export"), async (req, res) => {
-    const query = parseWith(auditQuery, req.query, "query");
+  router.get("/audit", requirePermission("export"), listQuery, async (_req, res) => {
+    const query = listQuery.of(res);
     const where = await auditWhere(query);
     const [total, rows] = await Promise.all([
       AuditEntry.count({ where }),

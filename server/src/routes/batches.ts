@@ -1,31 +1,19 @@
 import { Router } from "express";
 import { Op, type Order, type OrderItem, type WhereOptions } from "sequelize";
-import { z } from "zod";
-import { BATCH_SORT_KEYS, type BatchDto, type Page } from "@tidemark/shared/types/api";
+import { batchQuerySchema } from "@tidemark/shared/contracts/batches";
+import { lowerBound, upperBound } from "@tidemark/shared/contracts/fields";
+import type { BatchDto, BatchSortKey, Page } from "@tidemark/shared/types/api";
 import type { AppContext } from "../context.ts";
 import { toBatchDto } from "../dto.ts";
 import { actorOf } from "../middleware/actor.ts";
 import { requirePermission } from "../middleware/auth.ts";
 import { idParam, loadBatch } from "../middleware/loadEntity.ts";
 import { Batch, Collection, User } from "../models/index.ts";
-import { optionalDate, optionalDateTo, optionalEnum, optionalId, orderParam, pageParams } from "../queryParams.ts";
 import { deleteBatch } from "../services/batchDelete.ts";
 import { batchOverview } from "../services/batchOverview.ts";
-import { parseWith } from "../validate.ts";
+import { validate } from "../validate.ts";
 
-const batchQuery = z
-  .object({
-    collection: optionalId,
-    q: z.string().trim().max(200).optional(),
-    from: optionalDate,
-    to: optionalDateTo,
-    sort: optionalEnum(BATCH_SORT_KEYS),
-    order: orderParam,
-    ...pageParams,
-  })
-  .strict();
-
-type BatchSortKey = (typeof BATCH_SORT_KEYS)[number];
+const listQuery = validate("query", batchQuerySchema);
 
 function orderFor(sort: BatchSortKey, direction: "ASC" | "DESC"): Order {
   const by: OrderItem =
@@ -49,14 +37,16 @@ function searchWhere(q: string): WhereOptions<Batch> {
 export function batchesRouter(ctx: AppContext): Router {
   const router = Router();
 
-  router.get("/batches", requirePermission("view"), async (req, res) => {
-    const query = parseWith(batchQuery, req.query, "query");
+  router.get("/batches", requirePermission("view"), listQuery, async (_req, res) => {
+    const query = listQuery.of(res);
     const where: WhereOptions<Batch> = {};
     if (query.collection) Object.assign(where, { collectionId: query.collection });
     if (query.q) Object.assign(where, searchWhere(query.q));
     // from/to are when the scan ran (batch startedAt), inclusive.
-    if (query.from || query.to) {
-      Object.assign(where, { startedAt: { ...(query.from ? { [Op.gte]: query.from } : {}), ...(query.to ? { [Op.lte]: query.to } : {}) } });
+    const from = lowerBound(query.from);
+    const to = upperBound(query.to);
+    if (from || to) {
+      Object.assign(where, { startedAt: { ...(from ? { [Op.gte]: from } : {}), ...(to ? { [Op.lte]: to } : {}) } });
     }
     const sort = query.sort ?? "createdAt";
     const direction = (query.order ?? (query.sort ? "asc" : "desc")).toUpperCase() as "ASC" | "DESC";

@@ -1,5 +1,5 @@
 import { Router } from "express";
-import { z } from "zod";
+import { createCommentSchema } from "@tidemark/shared/contracts/files";
 import type { AppContext } from "../context.ts";
 import { toCommentDto } from "../dto.ts";
 import { actorOf } from "../middleware/actor.ts";
@@ -8,15 +8,9 @@ import { loadFileResult } from "../middleware/loadEntity.ts";
 import { badRequest } from "../errors.ts";
 import { Comment, User, type FileResult } from "../models/index.ts";
 import { recordAudit } from "../services/audit.ts";
-import { parseWith } from "../validate.ts";
+import { validate } from "../validate.ts";
 
-const commentSchema = z
-  .object({
-    body: z.string().trim().min(1).max(5000),
-    atSeconds: z.number().finite().min(0).nullable().optional(),
-    channel: z.number().int().min(0).max(2_147_483_647).nullable().optional(),
-  })
-  .strict();
+const newComment = validate("body", createCommentSchema);
 
 /** An anchor must fall inside the file: atSeconds within its duration, channel within its channel count. */
 function checkAnchor(file: FileResult, atSeconds: number | null, channel: number | null): void {
@@ -42,8 +36,8 @@ export function commentsRouter(ctx: AppContext): Router {
     res.json(comments.map(toCommentDto));
   });
 
-  router.post("/files/:id/comments", requirePermission("comment"), loadFileResult, async (req, res) => {
-    const input = parseWith(commentSchema, req.body, "comment");
+  router.post("/files/:id/comments", requirePermission("comment"), loadFileResult, newComment, async (_req, res) => {
+    const input = newComment.of(res);
     const author = res.locals.auth!.user;
     const file = res.locals.file!;
     const atSeconds = input.atSeconds ?? null;

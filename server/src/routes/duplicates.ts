@@ -4,15 +4,15 @@
  * and its body (up to a few MB of fingerprint) is parsed only once the caller is known.
  */
 import express, { Router } from "express";
-import { z } from "zod";
+import { fingerprintLookupQuerySchema } from "@tidemark/shared/contracts/duplicates";
 import { MAX_FINGERPRINT_CHARS } from "@tidemark/shared/types/report";
 import type { AppContext } from "../context.ts";
 import { requirePermission, requireTokenAuth } from "../middleware/auth.ts";
 import { loadFileResult } from "../middleware/loadEntity.ts";
 import { duplicatesOf, lookupEncodedFingerprint } from "../services/duplicates.ts";
-import { parseWith } from "../validate.ts";
+import { validate } from "../validate.ts";
 
-const lookupQuerySchema = z.object({ limit: z.coerce.number().int().min(1).max(100).default(10) }).strict();
+const lookupQuery = validate("query", fingerprintLookupQuerySchema);
 
 export function duplicatesRouter(ctx: AppContext): Router {
   const router = Router();
@@ -26,8 +26,9 @@ export function duplicatesRouter(ctx: AppContext): Router {
     requireTokenAuth,
     requirePermission("view"),
     express.text({ type: "text/plain", limit: MAX_FINGERPRINT_CHARS + 1024 }),
+    lookupQuery,
     async (req, res) => {
-      const { limit } = parseWith(lookupQuerySchema, req.query, "query");
+      const { limit } = lookupQuery.of(res);
       res.json(await lookupEncodedFingerprint(ctx.sequelize, req.body, limit));
     },
   );

@@ -1,5 +1,7 @@
 import { Router, type Response } from "express";
-import { z } from "zod";
+import { auditCsvQuerySchema } from "@tidemark/shared/contracts/audit";
+import { filesCsvQuerySchema } from "@tidemark/shared/contracts/exports";
+import { lowerBound, upperBound } from "@tidemark/shared/contracts/fields";
 import type { AppContext } from "../context.ts";
 import { writeAuditCsv } from "../exports/auditCsv.ts";
 import { batchExport } from "../exports/batchJson.ts";
@@ -12,26 +14,26 @@ import { conflict } from "../errors.ts";
 import { writeCollectionJson } from "../exports/collectionJson.ts";
 import { premisForBatch, premisForCollection } from "../exports/premisData.ts";
 import { premisXml, type PremisDocument } from "../exports/premisXml.ts";
-import { optionalDate, optionalDateTo, optionalId } from "../queryParams.ts";
-import { auditQueryFilters, auditWhere } from "../services/auditQuery.ts";
-import { parseWith } from "../validate.ts";
+import { auditWhere } from "../services/auditQuery.ts";
+import { validate } from "../validate.ts";
 
-const filesCsvQuery = z.object({ collection: optionalId, from: optionalDate, to: optionalDateTo }).strict();
+const filesCsvQuery = validate("query", filesCsvQuerySchema);
+const auditCsvQuery = validate("query", auditCsvQuerySchema);
 const stamp = (): string => new Date().toISOString().slice(0, 10);
 
 export function exportsRouter(ctx: AppContext): Router {
   const router = Router();
   router.use("/exports", requirePermission("export"));
 
-  router.get("/exports/files.csv", async (req, res) => {
-    const filter = parseWith(filesCsvQuery, req.query, "query");
+  router.get("/exports/files.csv", filesCsvQuery, async (_req, res) => {
+    const query = filesCsvQuery.of(res);
+    const filter = { collection: query.collection, from: lowerBound(query.from), to: upperBound(query.to) };
     res.set({ "Content-Type": "text/csv; charset=utf-8", "Content-Disposition": `attachment; filename="tidemark-files-${stamp()}.csv"` });
     await writeFilesCsv(res, filter);
   });
 
-  router.get("/exports/audit.csv", async (req, res) => {
-    const filters = parseWith(z.object(auditQueryFilters).strict(), req.query, "query");
-    const where = await auditWhere(filters);
+  router.get("/exports/audit.csv", auditCsvQuery, async (_req, res) => {
+    const where = await auditWhere(auditCsvQuery.of(res));
     res.set({ "Content-Type": "text/csv; charset=utf-8", "Content-Disposition": `attachment; filename="tidemark-audit-${stamp()}.csv"` });
     await writeAuditCsv(res, where);
   });

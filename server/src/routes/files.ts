@@ -1,6 +1,6 @@
 import { Router, type RequestHandler } from "express";
-import { z } from "zod";
-import { REASON_REQUIRED_STATES, REVIEW_STATES, type FilePage, type ReviewState } from "@tidemark/shared/types/api";
+import { bulkReviewChangeSchema, reviewChangeSchema } from "@tidemark/shared/contracts/files";
+import { REASON_REQUIRED_STATES, type FilePage, type ReviewState } from "@tidemark/shared/types/api";
 import type { AppContext } from "../context.ts";
 import { toFileSummaryDto, toFileSummaryDtoFromRow } from "../dto.ts";
 import { badRequest, notFound } from "../errors.ts";
@@ -8,7 +8,7 @@ import { actorOf } from "../middleware/actor.ts";
 import { requirePermission } from "../middleware/auth.ts";
 import { loadFileResult } from "../middleware/loadEntity.ts";
 import { fileDetail } from "../services/fileDetail.ts";
-import { fileQuerySchema, listFiles } from "../services/fileList.ts";
+import { fileListQuerySchema, listFiles } from "../services/fileList.ts";
 import { createListTotals } from "../services/listTotals.ts";
 import { changeReviewState } from "../services/review.ts";
 import type { StoredCloseup } from "../models/FileResult.ts";
@@ -16,17 +16,12 @@ import type { FileResult } from "../models/index.ts";
 import { ObjectNotFoundError } from "../storage/ObjectStore.ts";
 import { IMAGE_NAMES } from "../fileImageUrls.ts";
 import type { ImageKind } from "../storage/objectKeys.ts";
-import { parseWith } from "../validate.ts";
+import { validate } from "../validate.ts";
 import { sendObject, sendObjectWithRanges } from "./sendObject.ts";
 
-const reviewChange = {
-  reviewState: z.enum(REVIEW_STATES),
-  reason: z.string().trim().max(2000).default(""),
-};
-const reviewSchema = z.object(reviewChange).strict();
-const bulkReviewSchema = z
-  .object({ ids: z.array(z.number().int().min(1).max(2_147_483_647)).min(1).max(1000), ...reviewChange })
-  .strict();
+const listQuery = validate("query", fileListQuerySchema);
+const reviewChange = validate("body", reviewChangeSchema);
+const bulkReviewChange = validate("body", bulkReviewChangeSchema);
 
 /** Flagging or sending back for retransfer says why; accepting (or resetting to pending) need not. */
 function requireReason(reviewState: ReviewState, reason: string): void {
@@ -48,8 +43,8 @@ export function filesRouter(ctx: AppContext): Router {
   const router = Router();
   const totals = createListTotals(ctx.sequelize, (message) => ctx.logger.error(message));
 
-  router.get("/files", requirePermission("view"), async (req, res) => {
-    const query = parseWith(fileQuerySchema, req.query, "query");
+  router.get("/files", requirePermission("view"), listQuery, async (_req, res) => {
+    const query = listQuery.of(res);
     const { rows, total, totalIsEstimate, nextCursor, prevCursor } = await listFiles(ctx.sequelize, query, totals);
     // With a cursor, `page` is the caller's own label for where it is; the server reads from the cursor.
     const body: FilePage = {
@@ -64,8 +59,8 @@ export function filesRouter(ctx: AppContext): Router {
     res.json(body);
   });
 
-  router.post("/files/review", requirePermission("review"), async (req, res) => {
-    const { ids, reviewState, reason } = parseWith(bulkReviewSchema, req.body, "bulk review change");
+  router.post("/files/review", requirePermission("review"), bulkReviewChange, async (_req, res) => {
+    const { ids, reviewState, reason } = bulkReviewChange.of(res);
     requireReason(reviewState, reason);
     const { files, changed } = await changeReviewState(ctx, actorOf(res), ids, reviewState, reason);
     res.json({ items: files.map(toFileSummaryDto), changed });
@@ -75,8 +70,8 @@ export function filesRouter(ctx: AppContext): Router {
     res.json(await fileDetail(res.locals.file!));
   });
 
-  router.patch("/files/:id", requirePermission("review"), loadFileResult, async (req, res) => {
-    const { reviewState, reason } = parseWith(reviewSchema, req.body, "review change");
+  router.patch("/files/:id", requirePermission("review"), loadFileResult, reviewChange, async (_req, res) => {
+    const { reviewState, reason } = reviewChange.of(res);
     requireReason(reviewState, reason);
     const { files } = await changeReviewState(ctx, actorOf(res), [res.locals.file!.id], reviewState, reason);
     res.json(await fileDetail(files[0]));

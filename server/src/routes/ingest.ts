@@ -1,4 +1,5 @@
 import { Router } from "express";
+import { ingestFieldsSchema } from "@tidemark/shared/contracts/ingest";
 import type { AppContext } from "../context.ts";
 import { HttpError } from "../errors.ts";
 import { actorOf } from "../middleware/actor.ts";
@@ -6,15 +7,17 @@ import { requirePermission, requireTokenAuth } from "../middleware/auth.ts";
 import { reportUpload, requireReport } from "../middleware/reportUpload.ts";
 import { recordAudit } from "../services/audit.ts";
 import { ingestBatch } from "../services/ingest.ts";
-import { artefactPartsOf, ingestFieldsSchema } from "../services/ingestValidation.ts";
-import { parseWith } from "../validate.ts";
+import { artefactPartsOf } from "../services/ingestValidation.ts";
+import { validate } from "../validate.ts";
+
+const uploadFields = validate("upload", ingestFieldsSchema);
 
 export function ingestRouter(ctx: AppContext): Router {
   const router = Router();
 
-  router.post("/ingest", requireTokenAuth, requirePermission("upload"), reportUpload(ctx, "the report"), async (_req, res) => {
+  router.post("/ingest", requireTokenAuth, requirePermission("upload"), reportUpload(ctx, "the report"), uploadFields, async (_req, res) => {
     const upload = res.locals.upload!;
-    const fields = parseWith(ingestFieldsSchema, upload.fields, "upload fields");
+    const fields = uploadFields.of(res);
     const report = requireReport(upload);
     const artefacts = await artefactPartsOf(upload.parts, report);
     const result = await ingestBatch(ctx, actorOf(res), {

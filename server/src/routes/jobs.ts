@@ -5,6 +5,7 @@
  * job back to the queue and retry dead-lettered jobs.
  */
 import { Router } from "express";
+import { claimJobsSchema, failJobSchema, jobHeartbeatSchema, jobResultFieldsSchema, releaseJobSchema } from "@tidemark/shared/contracts/jobs";
 import type { ClaimJobsResultDto, JobHeartbeatResultDto } from "@tidemark/shared/types/api";
 import type { AppContext } from "../context.ts";
 import { actorOf } from "../middleware/actor.ts";
@@ -15,17 +16,22 @@ import { recordAudit } from "../services/audit.ts";
 import { artefactPartsOf } from "../services/ingestValidation.ts";
 import { assertJobHolder, claimJobs, failJob, heartbeatJobs, releaseJob, releaseUndelivered, requeueJob, retryJob } from "../services/runsJobs.ts";
 import { storeJobResult } from "../services/runsResults.ts";
-import { claimSchema, failSchema, heartbeatSchema, releaseSchema, resultFieldsSchema } from "../services/runsValidation.ts";
-import { parseWith } from "../validate.ts";
+import { validate } from "../validate.ts";
 
 /** How often a waiting claim looks at the queue again: the most an idle worker waits for a new job. */
 const CLAIM_WAIT_STEP_MS = 300;
 
+const claim = validate("body", claimJobsSchema);
+const heartbeat = validate("body", jobHeartbeatSchema);
+const resultFields = validate("upload", jobResultFieldsSchema);
+const failure = validate("body", failJobSchema);
+const release = validate("body", releaseJobSchema);
+
 export function jobsRouter(ctx: AppContext): Router {
   const router = Router();
 
-  router.post("/jobs/claim", requireTokenAuth, requirePermission("upload"), async (req, res) => {
-    const input = parseWith(claimSchema, req.body ?? {}, "claim");
+  router.post("/jobs/claim", requireTokenAuth, requirePermission("upload"), claim, async (req, res) => {
+    const input = claim.of(res);
     // A long poll: with `wait`, an empty queue is looked at again every few hundred ms until a job comes,
     // the wait ends, the worker hangs up, or the server starts shutting down (it stops listening).
     let hungUp = false;
@@ -46,17 +52,17 @@ export function jobsRouter(ctx: AppContext): Router {
     }
   });
 
-  router.post("/jobs/heartbeat", requireTokenAuth, requirePermission("upload"), async (req, res) => {
-    const input = parseWith(heartbeatSchema, req.body ?? {}, "heartbeat");
+  router.post("/jobs/heartbeat", requireTokenAuth, requirePermission("upload"), heartbeat, async (_req, res) => {
+    const input = heartbeat.of(res);
     const body: JobHeartbeatResultDto = await heartbeatJobs(ctx, actorOf(res), input.jobs);
     res.json(body);
   });
 
-  router.post("/jobs/:id/result", requireTokenAuth, requirePermission("upload"), reportUpload(ctx, "the result (a one-file report)"), async (req, res) => {
+  router.post("/jobs/:id/result", requireTokenAuth, requirePermission("upload"), reportUpload(ctx, "the result (a one-file report)"), resultFields, async (req, res) => {
     const id = idParam(req, "job");
     await assertJobHolder(actorOf(res), id, "send a result for");
     const upload = res.locals.upload!;
-    const fields = parseWith(resultFieldsSchema, upload.fields, "result fields");
+    const fields = resultFields.of(res);
     const report = requireReport(upload);
     const artefacts = await artefactPartsOf(upload.parts, report);
     const result = await storeJobResult(ctx, actorOf(res), id, { report, artefacts, worker: fields.worker, attempt: fields.attempt });
@@ -66,14 +72,14 @@ export function jobsRouter(ctx: AppContext): Router {
     res.status(result.created ? 201 : 200).json(result);
   });
 
-  router.post("/jobs/:id/fail", requireTokenAuth, requirePermission("upload"), async (req, res) => {
+  router.post("/jobs/:id/fail", requireTokenAuth, requirePermission("upload"), failure, async (req, res) => {
     const id = idParam(req, "job");
-    res.json(await failJob(ctx, actorOf(res), id, parseWith(failSchema, req.body ?? {}, "failure")));
+    res.json(await failJob(ctx, actorOf(res), id, failure.of(res)));
   });
 
-  router.post("/jobs/:id/release", requireTokenAuth, requirePermission("upload"), async (req, res) => {
+  router.post("/jobs/:id/release", requireTokenAuth, requirePermission("upload"), release, async (req, res) => {
     const id = idParam(req, "job");
-    res.json(await releaseJob(ctx, actorOf(res), id, parseWith(releaseSchema, req.body ?? {}, "release")));
+    res.json(await releaseJob(ctx, actorOf(res), id, release.of(res)));
   });
 
   /** A supervisor sends a job a worker holds (stuck, or its worker gone) back to the queue. */

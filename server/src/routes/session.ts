@@ -1,5 +1,5 @@
 import { Router, type Request } from "express";
-import { z } from "zod";
+import { signInSchema } from "@tidemark/shared/contracts/session";
 import type { SessionDto } from "@tidemark/shared/types/api";
 import type { AppContext } from "../context.ts";
 import { toUserDto } from "../dto.ts";
@@ -9,12 +9,9 @@ import { limiter } from "../middleware/rateLimits.ts";
 import { signIn } from "../services/signIn.ts";
 import { recordAudit } from "../services/audit.ts";
 import { destroySession, regenerateSession, saveSession } from "../middleware/requestSession.ts";
-import { parseWith } from "../validate.ts";
+import { validate } from "../validate.ts";
 
-const signInSchema = z.object({
-  email: z.string().trim().min(1).max(320),
-  password: z.string().min(1).max(1024),
-});
+const signInBody = validate("body", signInSchema);
 
 /** The account a sign-in names, as findUserByEmail matches it (trimmed, any letter case). */
 function accountKey(req: Request): string {
@@ -29,8 +26,8 @@ export function sessionRouter(ctx: AppContext): Router {
   // both lock-outs answer alike: the 429 says nothing about which addresses have accounts.
   const perAddress = limiter(ctx.settings.loginRateLimit, "failed sign-ins", { onlyFailures: true });
   const perAccount = limiter(ctx.settings.loginAccountRateLimit, "failed sign-ins", { onlyFailures: true, key: accountKey });
-  router.post("/session", perAddress, perAccount, async (req, res) => {
-    const { email, password } = parseWith(signInSchema, req.body, "sign-in");
+  router.post("/session", perAddress, perAccount, signInBody, async (req, res) => {
+    const { email, password } = signInBody.of(res);
     const user = await signIn(email, password, ctx.settings.passwordCost);
     if (!user) {
       await recordAudit(actorOf(res), { action: "session.sign_in_failed", targetType: "session", details: { email } });

@@ -1,5 +1,5 @@
 import { Router } from "express";
-import { z } from "zod";
+import { createTokenSchema, tokenListQuerySchema } from "@tidemark/shared/contracts/tokens";
 import type { CreatedTokenDto } from "@tidemark/shared/types/api";
 import type { AppContext } from "../context.ts";
 import { toTokenDto } from "../dto.ts";
@@ -9,25 +9,19 @@ import { requirePermission, requireSessionAuth } from "../middleware/auth.ts";
 import { loadToken } from "../middleware/loadEntity.ts";
 import { ApiToken, User } from "../models/index.ts";
 import { can } from "../permissions.ts";
-import { createApiToken, DEFAULT_TOKEN_LIFETIME_DAYS, MAX_TOKEN_LIFETIME_DAYS } from "../services/apiTokens.ts";
+import { createApiToken } from "../services/apiTokens.ts";
 import { recordAudit } from "../services/audit.ts";
-import { parseWith } from "../validate.ts";
+import { validate } from "../validate.ts";
 
-const createSchema = z
-  .object({
-    name: z.string().trim().min(1).max(100),
-    /** Days until the token stops working (default one year). */
-    expiresInDays: z.number().int().min(1).max(MAX_TOKEN_LIFETIME_DAYS).default(DEFAULT_TOKEN_LIFETIME_DAYS),
-  })
-  .strict();
-const listQuery = z.object({ all: z.enum(["0", "1", "true", "false"]).optional() }).strict();
+const newToken = validate("body", createTokenSchema);
+const listQuery = validate("query", tokenListQuerySchema);
 
 export function tokensRouter(ctx: AppContext): Router {
   const router = Router();
   router.use("/tokens", requireSessionAuth);
 
-  router.get("/tokens", requirePermission("manageOwnTokens"), async (req, res) => {
-    const { all } = parseWith(listQuery, req.query, "query");
+  router.get("/tokens", requirePermission("manageOwnTokens"), listQuery, async (_req, res) => {
+    const { all } = listQuery.of(res);
     const user = res.locals.auth!.user;
     const everyone = all === "1" || all === "true";
     if (everyone && !can(user.role, "manageUsers")) throw forbidden("only admins list everyone's tokens");
@@ -39,8 +33,8 @@ export function tokensRouter(ctx: AppContext): Router {
     res.json(tokens.map(toTokenDto));
   });
 
-  router.post("/tokens", requirePermission("manageOwnTokens"), async (req, res) => {
-    const { name, expiresInDays } = parseWith(createSchema, req.body, "token");
+  router.post("/tokens", requirePermission("manageOwnTokens"), newToken, async (_req, res) => {
+    const { name, expiresInDays } = newToken.of(res);
     const user = res.locals.auth!.user;
     const created = await ctx.sequelize.transaction(async (transaction) => {
       const made = await createApiToken(user.id, name, transaction, expiresInDays);

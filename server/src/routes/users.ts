@@ -1,7 +1,6 @@
 import { Router } from "express";
 import { UniqueConstraintError } from "sequelize";
-import { z } from "zod";
-import { ROLES } from "@tidemark/shared/types/api";
+import { createUserSchema, updateUserSchema } from "@tidemark/shared/contracts/users";
 import type { AppContext } from "../context.ts";
 import { toUserDto } from "../dto.ts";
 import { conflict, HttpError } from "../errors.ts";
@@ -13,15 +12,10 @@ import { revokeTokensOf } from "../services/apiTokens.ts";
 import { recordAudit } from "../services/audit.ts";
 import { hashPassword, passwordProblem } from "../services/passwords.ts";
 import { endSessionsOf } from "../services/sessions.ts";
-import { parseWith } from "../validate.ts";
+import { validate } from "../validate.ts";
 
-const email = z.string().trim().toLowerCase().max(320).pipe(z.email());
-const name = z.string().trim().min(1).max(200);
-const createSchema = z.object({ email, name, role: z.enum(ROLES), password: z.string().max(1024) }).strict();
-const updateSchema = z
-  .object({ name, role: z.enum(ROLES), disabled: z.boolean(), password: z.string().max(1024) })
-  .partial()
-  .strict();
+const newUser = validate("body", createUserSchema);
+const userChange = validate("body", updateUserSchema);
 
 function checkPassword(password: string, address: string): void {
   const problem = passwordProblem(password, address);
@@ -37,8 +31,8 @@ export function usersRouter(ctx: AppContext): Router {
     res.json(users.map(toUserDto));
   });
 
-  router.post("/users", async (req, res) => {
-    const input = parseWith(createSchema, req.body, "user");
+  router.post("/users", newUser, async (_req, res) => {
+    const input = newUser.of(res);
     checkPassword(input.password, input.email);
     const passwordHash = await hashPassword(input.password, ctx.settings.passwordCost);
     try {
@@ -54,8 +48,8 @@ export function usersRouter(ctx: AppContext): Router {
     }
   });
 
-  router.patch("/users/:id", loadUser, async (req, res) => {
-    const input = parseWith(updateSchema, req.body, "user change");
+  router.patch("/users/:id", loadUser, userChange, async (_req, res) => {
+    const input = userChange.of(res);
     const target = res.locals.targetUser!;
     const self = res.locals.auth!.user;
     // An admin cannot lock themselves out (and so the last admin cannot vanish by accident).

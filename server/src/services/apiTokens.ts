@@ -4,12 +4,11 @@
  */
 import { createHash, randomBytes, timingSafeEqual } from "node:crypto";
 import { Op, type Transaction } from "sequelize";
+import { DEFAULT_TOKEN_LIFETIME_DAYS } from "@tidemark/shared/contracts/tokens";
 import { ApiToken, User } from "../models/index.ts";
 
 const sha256Hex = (s: string): string => createHash("sha256").update(s).digest("hex");
 
-export const DEFAULT_TOKEN_LIFETIME_DAYS = 365;
-export const MAX_TOKEN_LIFETIME_DAYS = 5 * 365;
 const DAY_MS = 24 * 60 * 60_000;
 
 export async function createApiToken(

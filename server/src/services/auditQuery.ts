@@ -1,29 +1,7 @@
 import { Op, Sequelize, type WhereOptions } from "sequelize";
-import { z } from "zod";
+import type { AuditFilters } from "@tidemark/shared/contracts/audit";
+import { lowerBound, upperBound } from "@tidemark/shared/contracts/fields";
 import { User, type AuditEntry } from "../models/index.ts";
-import { blankToUndefined, optionalDate, optionalDateTo } from "../queryParams.ts";
-
-const text = z.preprocess(blankToUndefined, z.string().trim().max(200).optional());
-
-/** Filters shared by GET /api/audit and the audit CSV export. */
-export const auditQueryFilters = {
-  /** A user id, or part of an e-mail address. */
-  actor: text,
-  action: text,
-  targetType: text,
-  targetId: text,
-  from: optionalDate,
-  to: optionalDateTo,
-};
-
-export interface AuditFilters {
-  actor?: string;
-  action?: string;
-  targetType?: string;
-  targetId?: string;
-  from?: Date;
-  to?: Date;
-}
 
 const escapeLike = (s: string): string => s.replace(/[\\%_]/g, (c) => `\\${c}`);
 
@@ -43,6 +21,8 @@ export async function auditWhere(f: AuditFilters): Promise<WhereOptions<AuditEnt
   if (f.action) where.action = f.action.endsWith(".") ? { [Op.like]: `${escapeLike(f.action)}%` } : f.action;
   if (f.targetType) where.targetType = f.targetType;
   if (f.targetId) where.targetId = f.targetId;
-  if (f.from || f.to) where.createdAt = { ...(f.from ? { [Op.gte]: f.from } : {}), ...(f.to ? { [Op.lte]: f.to } : {}) };
+  const from = lowerBound(f.from);
+  const to = upperBound(f.to);
+  if (from || to) where.createdAt = { ...(from ? { [Op.gte]: from } : {}), ...(to ? { [Op.lte]: to } : {}) };
   return where as WhereOptions<AuditEntry>;
 }

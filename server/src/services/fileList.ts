@@ -9,11 +9,11 @@
  * (`after` / `before`, from a previous page's nextCursor / prevCursor: a seek, the same cost at any depth).
  */
 import { QueryTypes, type Sequelize } from "sequelize";
-import { z } from "zod";
-import { FILE_SORT_KEYS, REVIEW_STATES, type FileSortKey, type FindingSummaryDto, type ReviewState } from "@tidemark/shared/types/api";
-import { FINDING_CODES, VERDICTS, type AudioFormat, type Verdict } from "@tidemark/shared/types/report";
+import type { z } from "zod";
+import { fileQuerySchema } from "@tidemark/shared/contracts/files";
+import { FILE_SORT_KEYS, type FileSortKey, type FindingSummaryDto, type ReviewState } from "@tidemark/shared/types/api";
+import type { AudioFormat, Verdict } from "@tidemark/shared/types/report";
 import type { ListTotals } from "./listTotals.ts";
-import { blankToUndefined, optionalEnum, optionalId, orderParam, pageParams } from "../queryParams.ts";
 
 /** A position in one sort: the sort value as PostgreSQL prints it (exact, µs and all) and the row id. */
 export interface FileCursor {
@@ -40,48 +40,34 @@ function decodeCursor(text: string): FileCursor | null {
   }
 }
 
-const cursorParam = z.preprocess(
-  blankToUndefined,
-  z
-    .string()
-    .max(1500)
-    .transform((s, ctx) => {
-      const c = decodeCursor(s);
-      if (!c) ctx.addIssue({ code: "custom", message: "expected a cursor from a previous page's nextCursor or prevCursor" });
-      return c ?? z.NEVER;
-    })
-    .optional(),
-);
+/**
+ * The shared Files query with its cursors decoded and checked on the server (the portal treats them as
+ * opaque text): a cursor must decode, belong to the query's sort and order, and come alone.
+ */
+export const fileListQuerySchema = fileQuerySchema.transform((q, ctx) => {
+  const decoded = (name: "after" | "before"): FileCursor | undefined => {
+    const text = q[name];
+    if (text === undefined) return undefined;
+    const c = decodeCursor(text);
+    if (!c) ctx.addIssue({ code: "custom", path: [name], message: "expected a cursor from a previous page's nextCursor or prevCursor" });
+    return c ?? undefined;
+  };
+  const after = decoded("after");
+  const before = decoded("before");
+  if (after && before) ctx.addIssue({ code: "custom", path: ["before"], message: "give after or before, not both" });
+  const cursor = after ?? before;
+  const { sort, order } = effectiveSort(q);
+  if (cursor && (cursor.sort !== sort || cursor.order !== order)) {
+    ctx.addIssue({
+      code: "custom",
+      path: [after ? "after" : "before"],
+      message: `the cursor belongs to sort=${cursor.sort}&order=${cursor.order}, this query is sort=${sort}&order=${order}`,
+    });
+  }
+  return { ...q, after, before };
+});
 
-export const fileQuerySchema = z
-  .object({
-    batch: optionalId,
-    collection: optionalId,
-    verdict: optionalEnum(VERDICTS),
-    reviewState: optionalEnum(REVIEW_STATES),
-    finding: optionalEnum(FINDING_CODES),
-    q: z.preprocess(blankToUndefined, z.string().trim().max(200).optional()),
-    sort: optionalEnum(FILE_SORT_KEYS),
-    order: orderParam,
-    after: cursorParam,
-    before: cursorParam,
-    ...pageParams,
-  })
-  .strict()
-  .superRefine((q, ctx) => {
-    if (q.after && q.before) ctx.addIssue({ code: "custom", path: ["before"], message: "give after or before, not both" });
-    const cursor = q.after ?? q.before;
-    const { sort, order } = effectiveSort(q);
-    if (cursor && (cursor.sort !== sort || cursor.order !== order)) {
-      ctx.addIssue({
-        code: "custom",
-        path: [q.after ? "after" : "before"],
-        message: `the cursor belongs to sort=${cursor.sort}&order=${cursor.order}, this query is sort=${sort}&order=${order}`,
-      });
-    }
-  });
-
-export type FileListQuery = z.infer<typeof fileQuerySchema>;
+export type FileListQuery = z.output<typeof fileListQuerySchema>;
 
 /** Newest first unless asked otherwise; a sort given without an order is ascending. */
 function effectiveSort(q: { sort?: FileSortKey; order?: "asc" | "desc" }): { sort: FileSortKey; order: "asc" | "desc" } {

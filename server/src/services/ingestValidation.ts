@@ -6,23 +6,11 @@
  * hold is refused by middleware/textGuard.ts.
  */
 import { readFile } from "node:fs/promises";
-import { z } from "zod";
 import { scanReportSchema, type ScanReport } from "@tidemark/shared/types/report";
 import type { UploadLimits } from "../context.ts";
 import { badRequest, unprocessable } from "../errors.ts";
 import { parseWith } from "../validate.ts";
 import { pathKey } from "./ingestRows.ts";
-
-// No control characters: names are shown in the portal, e-mails and CSV.
-const label = (max: number) =>
-  z
-    .string()
-    .trim()
-    .min(1)
-    .max(max)
-    .refine((s) => !/\p{Cc}/u.test(s), "must not contain control characters");
-
-export const ingestFieldsSchema = z.object({ collection: label(200), batchKey: label(200) });
 
 const PNG_SIGNATURE = Buffer.from([0x89, 0x50, 0x4e, 0x47, 0x0d, 0x0a, 0x1a, 0x0a]);
 const INT32_MAX = 2_147_483_647;

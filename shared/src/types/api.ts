@@ -12,6 +12,20 @@ import type {
   Severity,
   Verdict,
 } from "./report.ts";
+import type { RunProfileDto } from "../contracts/runs.ts";
+
+// Request shapes (queries and bodies) are inferred from the zod contracts in shared/src/contracts/, which
+// the server validates with and the portal reads and writes its URLs with.
+export type { AuditCsvQuery, AuditQuery } from "../contracts/audit.ts";
+export type { BatchQuery } from "../contracts/batches.ts";
+export type { FilesCsvQuery } from "../contracts/exports.ts";
+export type { BulkReviewChangeRequest, CreateCommentRequest, FileQuery, ReviewChangeRequest } from "../contracts/files.ts";
+export type { FixityCheckUploadRequest } from "../contracts/fixityChecks.ts";
+export type { ClaimJobsRequest, FailJobRequest, JobHeartbeatRequest, ReleaseJobRequest } from "../contracts/jobs.ts";
+export type { CreateRunRequest, EnqueueFileDto, EnqueueFilesRequest, RunProfileDto, ScanJobQuery, ScanRunQuery } from "../contracts/runs.ts";
+export type { PasswordResetConfirmRequest, PasswordResetRequest, SignInRequest } from "../contracts/session.ts";
+export type { CreateTokenDto } from "../contracts/tokens.ts";
+export type { CreateUserRequest, UpdateUserRequest } from "../contracts/users.ts";
 
 export const ROLES = ["admin", "supervisor", "technician", "auditor"] as const;
 export type Role = (typeof ROLES)[number];
@@ -86,42 +100,12 @@ export type FileSortKey = (typeof FILE_SORT_KEYS)[number];
 export const BATCH_SORT_KEYS = ["createdAt", "startedAt", "collection", "failCount"] as const;
 export type BatchSortKey = (typeof BATCH_SORT_KEYS)[number];
 
-/** Query of GET /api/files (all optional). */
-export interface FileQuery {
-  batch?: number;
-  collection?: number;
-  verdict?: Verdict;
-  reviewState?: ReviewState;
-  finding?: FindingCode;
-  q?: string;
-  sort?: FileSortKey;
-  order?: "asc" | "desc";
-  /** A previous answer's nextCursor (the page after it) or prevCursor (the page before); same sort and order. */
-  after?: string;
-  before?: string;
-  page?: number;
-  pageSize?: number;
-}
-
 /** GET /api/files: a page, cursors to its neighbours (null at either end) and how exact `total` is. */
 export interface FilePage extends Page<FileSummaryDto> {
   /** true: `total` is the database's estimate (a large count not yet made since the data changed). */
   totalIsEstimate: boolean;
   nextCursor: string | null;
   prevCursor: string | null;
-}
-
-/** Query of GET /api/batches (all optional). */
-export interface BatchQuery {
-  collection?: number;
-  /** Finds a batch by number ("42" or "#42"), or by part of its batch key or collection name. */
-  q?: string;
-  from?: string;
-  to?: string;
-  sort?: BatchSortKey;
-  order?: "asc" | "desc";
-  page?: number;
-  pageSize?: number;
 }
 
 export interface FindingSummaryDto {
@@ -167,13 +151,6 @@ export interface CommentDto {
   atSeconds: number | null;
   /** 0-based channel the comment points at, or null for all channels. */
   channel: number | null;
-}
-
-/** POST /api/files/:id/comments body. */
-export interface CreateCommentRequest {
-  body: string;
-  atSeconds?: number | null;
-  channel?: number | null;
 }
 
 /** The scan profile's loudness and peak limits, as the report carried them (null where it set none). */
@@ -238,13 +215,6 @@ export interface FixityCheckDto {
   by: UserRefDto;
   /** Name of the API token the check was sent with, or null when the token is gone. */
   tokenName: string | null;
-}
-
-/** POST /api/fixity-checks: the outcome of one `tidemark verify` run, paths as the collection knows them. */
-export interface FixityCheckUploadRequest {
-  collection: string;
-  checkedAt: string;
-  checks: { path: string; outcome: FixityOutcome; expectedSha256: string | null; actualSha256: string | null; movedTo: string | null; detail: string }[];
 }
 
 export interface FixityCheckUploadResultDto {
@@ -323,17 +293,6 @@ export interface FingerprintLookupDto {
 /** Review states that need a (non-blank) reason; the server answers 400 `reason_required` otherwise. */
 export const REASON_REQUIRED_STATES = ["flagged", "retransfer"] as const satisfies readonly ReviewState[];
 
-/** PATCH /api/files/:id body. `reason` is optional for accepted/pending, required for flagged/retransfer. */
-export interface ReviewChangeRequest {
-  reviewState: ReviewState;
-  reason?: string;
-}
-
-/** POST /api/files/review (bulk) body. */
-export interface BulkReviewChangeRequest extends ReviewChangeRequest {
-  ids: number[];
-}
-
 /** POST /api/files/review answer. */
 export interface BulkReviewChangeResultDto {
   items: FileSummaryDto[];
@@ -356,12 +315,6 @@ export interface TokenDto {
   revokedAt: string | null;
   /** The token is refused from this moment on (chosen at creation, default one year). */
   expiresAt: string;
-}
-
-/** POST /api/tokens body: `expiresInDays` 1–1825, default 365. */
-export interface CreateTokenDto {
-  name: string;
-  expiresInDays?: number;
 }
 
 /** POST /api/tokens answer: `token` is "id:secret", shown once. */
@@ -489,57 +442,10 @@ export interface ScanRunDetailDto extends ScanRunDto {
   returnedJobs: ScanJobDto[];
 }
 
-/** Query of GET /api/runs. */
-export interface ScanRunQuery {
-  collection?: number;
-  page?: number;
-  pageSize?: number;
-}
-
-/** Query of GET /api/runs/:id/jobs. */
-export interface ScanJobQuery {
-  state?: ScanJobState;
-  page?: number;
-  pageSize?: number;
-}
-
-/** The run's profile as the enqueuing CLI resolved it; workers measure with exactly this. */
-export interface RunProfileDto {
-  name: string;
-  /** SHA-256 of the profile's canonical JSON. */
-  hash: string;
-  /** The validated profile object (built-in or custom). */
-  definition: Record<string, unknown>;
-}
-
-/** POST /api/runs body: find or create the run named `name` in `collection`. */
-export interface CreateRunRequest {
-  collection: string;
-  name: string;
-  root: string;
-  profile: RunProfileDto;
-  /** The enqueuing CLI; the batch shows the version of the workers that report results. */
-  tool: { name: string; version: string };
-}
-
 /** POST /api/runs answer (201 created, 200 found). */
 export interface CreateRunResultDto {
   run: ScanRunDto;
   created: boolean;
-}
-
-export interface EnqueueFileDto {
-  /** Relative to the run's root, forward slashes (the report path). */
-  path: string;
-  /** The relative path's exact bytes, base64, when they are not UTF-8 (`path` then shows U+FFFD). */
-  pathBytes?: string;
-  sizeBytes: number;
-  mtimeMs: number;
-}
-
-/** POST /api/runs/:id/files body (at most 1000 files a request). */
-export interface EnqueueFilesRequest {
-  files: EnqueueFileDto[];
 }
 
 export interface EnqueueFilesResultDto {
@@ -553,16 +459,6 @@ export interface EnqueueFilesResultDto {
   pending: number;
   /** Done, but size or mtime changed since: not queued in this run (enqueue them into a new run). */
   changed: string[];
-}
-
-/** POST /api/jobs/claim body. */
-export interface ClaimJobsRequest {
-  /** The worker's name, shown in the portal (e.g. host#pid). */
-  worker: string;
-  /** Jobs wanted, 1–16 (default 1). */
-  max?: number;
-  /** Seconds (0–10, default 0) the server may hold the request open for a job to arrive: a long poll. */
-  wait?: number;
 }
 
 export interface ClaimedJobDto {
@@ -590,12 +486,6 @@ export interface ClaimJobsResultDto {
   heartbeatIntervalSeconds: number;
 }
 
-/** POST /api/jobs/heartbeat body: the jobs this worker holds. */
-export interface JobHeartbeatRequest {
-  worker: string;
-  jobs: { id: number; attempt: number }[];
-}
-
 /** `lost`: jobs this worker no longer holds (taken back, or not claimed with this token): drop them. */
 export interface JobHeartbeatResultDto {
   held: number[];
@@ -609,25 +499,6 @@ export interface JobResultDto {
   batchId: number;
   fileResultId: number;
   created: boolean;
-}
-
-/** POST /api/jobs/:id/fail body. */
-export interface FailJobRequest {
-  attempt: number;
-  worker: string;
-  message: string;
-}
-
-/**
- * POST /api/jobs/:id/release body. No retry is spent. `unreachable`: this worker cannot reach the file
- * (storage not mounted); it is not offered the job again, and the job is dead-lettered only when as many
- * distinct workers as the retry limit allows could not reach it either.
- */
-export interface ReleaseJobRequest {
-  attempt: number;
-  worker: string;
-  reason?: "stopping" | "unreachable";
-  message?: string;
 }
 
 /** Answer of fail, release and retry. */

@@ -1,14 +1,13 @@
 import { keepPreviousData, queryOptions, useQuery } from "@tanstack/react-query";
-import type { AuditEntryDto, Page } from "@tidemark/shared/types/api";
-import { getJson, withQuery } from "./client.ts";
-import { auditKeys, type AuditQuery } from "./keys.ts";
-
-export type { AuditQuery };
+import { auditQuerySchema } from "@tidemark/shared/contracts/audit";
+import type { AuditEntryDto, AuditQuery, Page } from "@tidemark/shared/types/api";
+import { getJson, requestUrl } from "./client.ts";
+import { auditKeys } from "./keys.ts";
 
 export const auditListOptions = (query: AuditQuery) =>
   queryOptions({
     queryKey: auditKeys.list(query),
-    queryFn: ({ signal }) => getJson<Page<AuditEntryDto>>(withQuery("/api/audit", query), { signal }),
+    queryFn: ({ signal }) => getJson<Page<AuditEntryDto>>(requestUrl("/api/audit", auditQuerySchema, query), { signal }),
     placeholderData: keepPreviousData,
   });
 

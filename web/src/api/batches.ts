@@ -1,12 +1,13 @@
 import { keepPreviousData, queryOptions, useQuery } from "@tanstack/react-query";
+import { batchQuerySchema } from "@tidemark/shared/contracts/batches";
 import type { BatchDto, BatchOverviewDto, BatchQuery, CollectionDto, Page } from "@tidemark/shared/types/api";
-import { getJson, withQuery } from "./client.ts";
+import { getJson, requestUrl } from "./client.ts";
 import { batchKeys, collectionKeys } from "./keys.ts";
 
 export const batchListOptions = (query: BatchQuery) =>
   queryOptions({
     queryKey: batchKeys.list(query),
-    queryFn: ({ signal }) => getJson<Page<BatchDto>>(withQuery("/api/batches", query), { signal }),
+    queryFn: ({ signal }) => getJson<Page<BatchDto>>(requestUrl("/api/batches", batchQuerySchema, query), { signal }),
     placeholderData: keepPreviousData,
   });
 

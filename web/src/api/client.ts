@@ -2,6 +2,8 @@
  * The one place the portal talks HTTP. Every response that is not ok becomes an ApiError carrying the
  * server's `{ error: { code, message } }`, so screens can say in plain words what went wrong.
  */
+import { checkContract, parseContract, type ContractSchema, type InputOf } from "@tidemark/shared/contracts/checkContract";
+import type { QueryOf, QuerySchema } from "@tidemark/shared/contracts/searchParams";
 import { CSRF_HEADER, type ApiErrorBody } from "@tidemark/shared/types/api";
 
 export class ApiError extends Error {
@@ -85,6 +87,17 @@ export async function sendJson<T>(method: Method, path: string, body?: unknown, 
   return readJson<T>(res);
 }
 
+/**
+ * A write's body, checked first against the contract the server validates it with: a body the server
+ * would refuse is refused here with the same 400 and message, without the round trip. It goes as given;
+ * the server applies the contract's defaults and trimming itself.
+ */
+export function checkedBody<S extends ContractSchema>(schema: S, body: InputOf<S>): InputOf<S> {
+  const result = checkContract(schema, body, schema.description ?? "request");
+  if (!result.ok) throw new ApiError(400, "invalid_request", result.message);
+  return body;
+}
+
 /** Builds `path?query`, leaving out empty values so keys and URLs stay short and stable. */
 export function withQuery(path: string, query: object): string {
   const params = new URLSearchParams();
@@ -94,6 +107,14 @@ export function withQuery(path: string, query: object): string {
   }
   const search = params.toString();
   return search ? `${path}?${search}` : path;
+}
+
+/**
+ * `path?query` for a request, the query checked against the same contract the server validates with
+ * (a ContractError names each bad field: a bug here, not the user's) and complete with its defaults.
+ */
+export function requestUrl<S extends QuerySchema>(path: string, schema: S, query: QueryOf<S>): string {
+  return withQuery(path, parseContract(schema, query, `query of ${path}`));
 }
 
 export function isUnauthorized(error: unknown): boolean {

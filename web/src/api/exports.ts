@@ -1,19 +1,16 @@
 /** Download links: plain GETs the browser follows itself, so the session cookie goes along. */
-import { withQuery } from "./client.ts";
-
-export interface FilesCsvQuery {
-  collection?: number;
-  from?: string;
-  to?: string;
-}
+import { auditCsvQuerySchema } from "@tidemark/shared/contracts/audit";
+import { filesCsvQuerySchema } from "@tidemark/shared/contracts/exports";
+import type { AuditCsvQuery, FilesCsvQuery } from "@tidemark/shared/types/api";
+import { requestUrl } from "./client.ts";
 
 export const exportUrls = {
-  filesCsv: (query: FilesCsvQuery) => withQuery("/api/exports/files.csv", query),
+  filesCsv: (query: FilesCsvQuery) => requestUrl("/api/exports/files.csv", filesCsvQuerySchema, query),
   batchJson: (batchId: number) => `/api/exports/batches/${batchId}.json`,
   batchPdf: (batchId: number) => `/api/exports/batches/${batchId}.pdf`,
   batchPremis: (batchId: number) => `/api/exports/batches/${batchId}.premis.xml`,
   collectionJson: (collectionId: number) => `/api/exports/collections/${collectionId}.json`,
-  collectionCsv: (collectionId: number) => withQuery("/api/exports/files.csv", { collection: collectionId }),
+  collectionCsv: (collectionId: number) => requestUrl("/api/exports/files.csv", filesCsvQuerySchema, { collection: collectionId }),
   collectionPremis: (collectionId: number) => `/api/exports/collections/${collectionId}.premis.xml`,
-  auditCsv: (query: { actor?: string; action?: string; from?: string; to?: string } = {}) => withQuery("/api/exports/audit.csv", query),
+  auditCsv: (query: AuditCsvQuery = {}) => requestUrl("/api/exports/audit.csv", auditCsvQuerySchema, query),
 };

@@ -1,7 +1,9 @@
 import { keepPreviousData, queryOptions, useMutation, useQuery, useQueryClient } from "@tanstack/react-query";
+import { bulkReviewChangeSchema, createCommentSchema, fileQuerySchema, reviewChangeSchema } from "@tidemark/shared/contracts/files";
 import type {
   BulkReviewChangeRequest,
   CommentDto,
+  CreateCommentRequest,
   FileDetailDto,
   FilePage,
   FileQuery,
@@ -9,13 +11,13 @@ import type {
 } from "@tidemark/shared/types/api";
 import { decodeLevelGrid } from "../components/file/levelGrid.ts";
 import { decodeLoudnessCurve } from "../components/file/loudnessCurve.ts";
-import { getJson, sendJson, withQuery } from "./client.ts";
+import { checkedBody, getJson, requestUrl, sendJson } from "./client.ts";
 import { auditKeys, fileKeys } from "./keys.ts";
 
 export const fileListOptions = (query: FileQuery) =>
   queryOptions({
     queryKey: fileKeys.list(query),
-    queryFn: ({ signal }) => getJson<FilePage>(withQuery("/api/files", query), { signal }),
+    queryFn: ({ signal }) => getJson<FilePage>(requestUrl("/api/files", fileQuerySchema, query), { signal }),
     placeholderData: keepPreviousData,
   });
 
@@ -74,7 +76,7 @@ export function useSaveReview(id: number) {
   const client = useQueryClient();
   const detailKey = fileDetailOptions(id).queryKey;
   return useMutation({
-    mutationFn: (body: ReviewChangeRequest) => sendJson<FileDetailDto>("PATCH", `/api/files/${id}`, body),
+    mutationFn: (body: ReviewChangeRequest) => sendJson<FileDetailDto>("PATCH", `/api/files/${id}`, checkedBody(reviewChangeSchema, body)),
     onMutate: async (body) => {
       // Cancel in-flight reads so they do not overwrite the optimistic state.
       await client.cancelQueries({ queryKey: detailKey });
@@ -99,7 +101,7 @@ export function useSaveReview(id: number) {
 export function useBulkReview() {
   const client = useQueryClient();
   return useMutation({
-    mutationFn: (body: BulkReviewChangeRequest) => sendJson<unknown>("POST", "/api/files/review", body),
+    mutationFn: (body: BulkReviewChangeRequest) => sendJson<unknown>("POST", "/api/files/review", checkedBody(bulkReviewChangeSchema, body)),
     onSettled: (_data, _error, body) =>
       Promise.all([
         client.invalidateQueries({ queryKey: fileKeys.lists() }),
@@ -109,19 +111,12 @@ export function useBulkReview() {
   });
 }
 
-/** POST /api/files/:id/comments body: a comment may be anchored to a time (and channel) of the recording. */
-export interface NewCommentRequest {
-  body: string;
-  atSeconds?: number | null;
-  channel?: number | null;
-}
-
 /** The thread lives inside the file detail; the new comment is appended at once, then re-read. */
 export function useAddComment(fileId: number) {
   const client = useQueryClient();
   const detailKey = fileDetailOptions(fileId).queryKey;
   return useMutation({
-    mutationFn: (body: NewCommentRequest) => sendJson<CommentDto>("POST", `/api/files/${fileId}/comments`, body),
+    mutationFn: (body: CreateCommentRequest) => sendJson<CommentDto>("POST", `/api/files/${fileId}/comments`, checkedBody(createCommentSchema, body)),
     onSuccess: (comment) => {
       client.setQueryData(detailKey, (detail) =>
         detail && !detail.comments.some((c) => c.id === comment.id) ? { ...detail, comments: [...detail.comments, comment] } : detail,

@@ -2,16 +2,7 @@
  * Query-key factories: the only place key arrays are written. Each level spreads the one above it, so
  * invalidating `fileKeys.lists()` reaches every filtered page and `fileKeys.all` reaches everything files.
  */
-import type { BatchQuery, FileQuery, ScanRunQuery } from "@tidemark/shared/types/api";
-
-export interface AuditQuery {
-  actor?: string;
-  action?: string;
-  from?: string;
-  to?: string;
-  page?: number;
-  pageSize?: number;
-}
+import type { AuditQuery, BatchQuery, FileQuery, ScanRunQuery } from "@tidemark/shared/types/api";
 
 export const sessionKeys = {
   all: ["session"] as const,

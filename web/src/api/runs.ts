@@ -3,8 +3,9 @@
  * the supervisor's retry of dead-lettered jobs (one, or all of a run's) and release of a held job.
  */
 import { keepPreviousData, queryOptions, useMutation, useQuery, useQueryClient } from "@tanstack/react-query";
+import { runQuerySchema } from "@tidemark/shared/contracts/runs";
 import type { JobStateDto, Page, RetryRunResultDto, ScanRunDetailDto, ScanRunDto, ScanRunQuery } from "@tidemark/shared/types/api";
-import { getJson, sendJson, withQuery } from "./client.ts";
+import { getJson, requestUrl, sendJson } from "./client.ts";
 import { auditKeys, batchKeys, runKeys } from "./keys.ts";
 
 /** How often a run with work left is read again. */
@@ -15,7 +16,7 @@ const busy = (run: ScanRunDto): boolean => run.state === "running" || run.state 
 export const runListOptions = (query: ScanRunQuery) =>
   queryOptions({
     queryKey: runKeys.list(query),
-    queryFn: ({ signal }) => getJson<Page<ScanRunDto>>(withQuery("/api/runs", query), { signal }),
+    queryFn: ({ signal }) => getJson<Page<ScanRunDto>>(requestUrl("/api/runs", runQuerySchema, query), { signal }),
     placeholderData: keepPreviousData,
     refetchInterval: (q) => (q.state.data?.items.some(busy) ? RUN_REFRESH_MS : false),
   });

@@ -1,6 +1,7 @@
 import { queryOptions, useMutation, useQuery, useQueryClient, type QueryClient } from "@tanstack/react-query";
-import type { SessionDto, UserDto } from "@tidemark/shared/types/api";
-import { getJson, isUnauthorized, sendJson } from "./client.ts";
+import type { PasswordResetConfirmRequest, PasswordResetRequest, SessionDto, SignInRequest, UserDto } from "@tidemark/shared/types/api";
+import { passwordResetConfirmSchema, passwordResetRequestSchema, signInSchema } from "@tidemark/shared/contracts/session";
+import { checkedBody, getJson, isUnauthorized, sendJson } from "./client.ts";
 import { sessionKeys } from "./keys.ts";
 
 /** `expired` is set when a request was refused with 401 while the portal believed it was signed in. */
@@ -38,15 +39,10 @@ function forgetEverythingButSession(client: QueryClient): void {
   client.removeQueries({ predicate: (query) => query.queryKey[0] !== sessionKeys.all[0] });
 }
 
-export interface SignInRequest {
-  email: string;
-  password: string;
-}
-
 export function useSignIn() {
   const client = useQueryClient();
   return useMutation({
-    mutationFn: (body: SignInRequest) => sendJson<SessionDto>("POST", "/api/session", body),
+    mutationFn: (body: SignInRequest) => sendJson<SessionDto>("POST", "/api/session", checkedBody(signInSchema, body)),
     meta: { isSignIn: true },
     onSuccess: (session) => {
       forgetEverythingButSession(client);
@@ -68,12 +64,12 @@ export function useSignOut() {
 
 export function useRequestPasswordReset() {
   return useMutation({
-    mutationFn: (body: { email: string }) => sendJson<void>("POST", "/api/password-reset", body),
+    mutationFn: (body: PasswordResetRequest) => sendJson<void>("POST", "/api/password-reset", checkedBody(passwordResetRequestSchema, body)),
   });
 }
 
 export function useConfirmPasswordReset() {
   return useMutation({
-    mutationFn: (body: { token: string; password: string }) => sendJson<void>("POST", "/api/password-reset/confirm", body),
+    mutationFn: (body: PasswordResetConfirmRequest) => sendJson<void>("POST", "/api/password-reset/confirm", checkedBody(passwordResetConfirmSchema, body)),
   });
 }

@@ -1,6 +1,7 @@
 import { queryOptions, useMutation, useQuery, useQueryClient } from "@tanstack/react-query";
 import type { CliPackageDto, CreatedTokenDto, CreateTokenDto, TokenDto, UserRefDto } from "@tidemark/shared/types/api";
-import { ApiError, getJson, sendJson } from "./client.ts";
+import { createTokenSchema } from "@tidemark/shared/contracts/tokens";
+import { ApiError, checkedBody, getJson, sendJson } from "./client.ts";
 import { auditKeys, cliPackageKeys, tokenKeys } from "./keys.ts";
 
 /** GET /api/cli-package: the CLI tarball this server offers, or null when it offers none (404). */
@@ -45,7 +46,7 @@ export function useMyTokens() {
 export function useCreateToken() {
   const client = useQueryClient();
   return useMutation({
-    mutationFn: (body: CreateTokenDto) => sendJson<CreatedTokenDto>("POST", "/api/tokens", body),
+    mutationFn: (body: CreateTokenDto) => sendJson<CreatedTokenDto>("POST", "/api/tokens", checkedBody(createTokenSchema, body)),
     onSettled: () =>
       Promise.all([
         client.invalidateQueries({ queryKey: myTokensOptions().queryKey }),

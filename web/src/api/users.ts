@@ -1,19 +1,8 @@
 import { queryOptions, useMutation, useQuery, useQueryClient } from "@tanstack/react-query";
-import type { Role, UserDto } from "@tidemark/shared/types/api";
-import { getJson, sendJson } from "./client.ts";
+import type { CreateUserRequest, UpdateUserRequest, UserDto } from "@tidemark/shared/types/api";
+import { createUserSchema, updateUserSchema } from "@tidemark/shared/contracts/users";
+import { checkedBody, getJson, sendJson } from "./client.ts";
 import { auditKeys, userKeys } from "./keys.ts";
-
-export interface NewUserRequest {
-  email: string;
-  name: string;
-  role: Role;
-  password: string;
-}
-
-export interface UserChangeRequest {
-  role?: Role;
-  disabled?: boolean;
-}
 
 export const userListOptions = () =>
   queryOptions({
@@ -37,7 +26,7 @@ function useInvalidateUsers() {
 export function useCreateUser() {
   const invalidate = useInvalidateUsers();
   return useMutation({
-    mutationFn: (body: NewUserRequest) => sendJson<UserDto>("POST", "/api/users", body),
+    mutationFn: (body: CreateUserRequest) => sendJson<UserDto>("POST", "/api/users", checkedBody(createUserSchema, body)),
     onSettled: invalidate,
   });
 }
@@ -45,7 +34,7 @@ export function useCreateUser() {
 export function useUpdateUser() {
   const invalidate = useInvalidateUsers();
   return useMutation({
-    mutationFn: ({ id, change }: { id: number; change: UserChangeRequest }) => sendJson<UserDto>("PATCH", `/api/users/${id}`, change),
+    mutationFn: ({ id, change }: { id: number; change: UpdateUserRequest }) => sendJson<UserDto>("PATCH", `/api/users/${id}`, checkedBody(updateUserSchema, change)),
     onSettled: invalidate,
   });
 }

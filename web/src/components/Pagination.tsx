@@ -1,8 +1,7 @@
 import { ChevronLeftIcon, ChevronRightIcon } from "./icons.tsx";
 import { buttonClass } from "./fields.tsx";
 import { roughly } from "../format/approximate.ts";
-
-export const PAGE_SIZES = [25, 50, 100] as const;
+import { PAGE_SIZES } from "./listSearch.ts";
 
 interface PaginationProps {
   page: number;

@@ -1,6 +1,9 @@
 import { useMemo, useState, type FormEvent } from "react";
 import { useSearchParams } from "react-router-dom";
-import { useAudit, type AuditQuery } from "../api/audit.ts";
+import { auditQuerySchema } from "@tidemark/shared/contracts/audit";
+import { readSearchParams, toSearchParams } from "@tidemark/shared/contracts/searchParams";
+import type { AuditQuery } from "@tidemark/shared/types/api";
+import { useAudit } from "../api/audit.ts";
 import { describeError } from "../api/client.ts";
 import { exportUrls } from "../api/exports.ts";
 import { PageHeader } from "../components/PageHeader.tsx";
@@ -10,28 +13,11 @@ import { EmptyState, ErrorState, LoadingState } from "../components/states.tsx";
 import { formatDateTime } from "../format/units.ts";
 
 const PAGE_SIZE = 50;
+/** The trail shows PAGE_SIZE entries a page; the address bar carries the filters and the page. */
+const auditViewSchema = auditQuerySchema.omit({ pageSize: true });
 
-function parseAuditQuery(params: URLSearchParams): AuditQuery {
-  const text = (name: string) => params.get(name)?.trim() || undefined;
-  const page = Number(params.get("page"));
-  return {
-    actor: text("actor"),
-    action: text("action"),
-    from: text("from"),
-    to: text("to"),
-    page: Number.isInteger(page) && page > 0 ? page : 1,
-    pageSize: PAGE_SIZE,
-  };
-}
-
-function toParams(query: AuditQuery): URLSearchParams {
-  const params = new URLSearchParams();
-  for (const [name, value] of Object.entries(query)) {
-    if (value === undefined || name === "pageSize" || (name === "page" && value === 1)) continue;
-    params.set(name, String(value));
-  }
-  return params;
-}
+const parseAuditQuery = (params: URLSearchParams): AuditQuery => ({ ...readSearchParams(auditViewSchema, params), pageSize: PAGE_SIZE });
+const toParams = (query: AuditQuery): URLSearchParams => toSearchParams(auditViewSchema, query, { omitDefaults: true });
 
 function AuditFilters({ query, onApply }: { query: AuditQuery; onApply: (q: AuditQuery) => void }) {
   const [actor, setActor] = useState(query.actor ?? "");

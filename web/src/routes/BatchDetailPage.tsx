@@ -2,6 +2,7 @@ import { Link, useParams } from "react-router-dom";
 import { useBatch, useBatchOverview } from "../api/batches.ts";
 import { ApiError, describeError } from "../api/client.ts";
 import { BatchOverviewStrip } from "../components/batches/BatchOverviewStrip.tsx";
+import { filesLink } from "../components/files/fileQueryParams.ts";
 import { PageHeader } from "../components/PageHeader.tsx";
 import { EmptyState, ErrorState, LoadingState } from "../components/states.tsx";
 import { formatDateTime } from "../format/units.ts";
@@ -42,7 +43,7 @@ export function BatchDetailPage() {
           <span>
             {b.counts.files} files: {b.counts.pass} pass, {b.counts.warn} warn, {b.counts.fail} fail, {b.counts.error} error
           </span>
-          <Link to={`/files?batch=${b.id}`} className="font-medium text-harbour-strong underline underline-offset-2">
+          <Link to={filesLink({ batch: b.id })} className="font-medium text-harbour-strong underline underline-offset-2">
             Review its files
           </Link>
         </span>

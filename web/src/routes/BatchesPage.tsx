@@ -1,51 +1,29 @@
 import { useMemo } from "react";
 import { Link, useSearchParams } from "react-router-dom";
-import { BATCH_SORT_KEYS, type BatchQuery, type BatchSortKey } from "@tidemark/shared/types/api";
+import { batchQuerySchema } from "@tidemark/shared/contracts/batches";
+import { pageSizeOf } from "@tidemark/shared/contracts/fields";
+import { readSearchParams, toSearchParams } from "@tidemark/shared/contracts/searchParams";
+import type { BatchQuery } from "@tidemark/shared/types/api";
 import { useBatches, useCollections } from "../api/batches.ts";
 import { describeError } from "../api/client.ts";
 import { PageHeader } from "../components/PageHeader.tsx";
-import { Pagination, PAGE_SIZES } from "../components/Pagination.tsx";
+import { Pagination } from "../components/Pagination.tsx";
 import { SortableHeader } from "../components/SortableHeader.tsx";
 import { EmptyState, ErrorState, LoadingState } from "../components/states.tsx";
 import { buttonClass, SelectField, TextField } from "../components/fields.tsx";
 import { formatDateTime } from "../format/units.ts";
+import { PAGE_SIZES, sortOrderOf } from "../components/listSearch.ts";
+import { filesLink } from "../components/files/fileQueryParams.ts";
 
 const DEFAULT_PAGE_SIZE = 25;
-const DATE = /^\d{4}-\d{2}-\d{2}$/;
+const batchViewSchema = batchQuerySchema.safeExtend({ pageSize: pageSizeOf(PAGE_SIZES, DEFAULT_PAGE_SIZE) });
 
 function parseBatchQuery(params: URLSearchParams): BatchQuery {
-  const int = (name: string) => {
-    const n = Number(params.get(name));
-    return Number.isInteger(n) && n > 0 ? n : undefined;
-  };
-  const date = (name: string) => {
-    const v = params.get(name);
-    return v && DATE.test(v) ? v : undefined;
-  };
-  const sortParam = params.get("sort");
-  const sort = (BATCH_SORT_KEYS as readonly string[]).includes(sortParam ?? "") ? (sortParam as BatchSortKey) : undefined;
-  const pageSize = int("pageSize");
-  return {
-    collection: int("collection"),
-    from: date("from"),
-    to: date("to"),
-    sort,
-    order: sort ? (params.get("order") === "desc" ? "desc" : "asc") : undefined,
-    page: int("page") ?? 1,
-    pageSize: pageSize && (PAGE_SIZES as readonly number[]).includes(pageSize) ? pageSize : DEFAULT_PAGE_SIZE,
-  };
+  const query = readSearchParams(batchViewSchema, params);
+  return { ...query, order: sortOrderOf(query) };
 }
 
-function toParams(query: BatchQuery): URLSearchParams {
-  const params = new URLSearchParams();
-  for (const [name, value] of Object.entries(query)) {
-    if (value === undefined || value === "") continue;
-    if (name === "page" && value === 1) continue;
-    if (name === "pageSize" && value === DEFAULT_PAGE_SIZE) continue;
-    params.set(name, String(value));
-  }
-  return params;
-}
+const toParams = (query: BatchQuery): URLSearchParams => toSearchParams(batchViewSchema, query, { omitDefaults: true });
 
 function Count({ value, tone, label }: { value: number; tone: string; label: string }) {
   return (
@@ -136,7 +114,7 @@ export function BatchesPage() {
                 {batches.data.items.map((batch) => (
                   <tr key={batch.id} className="border-b border-line last:border-b-0 hover:bg-paper">
                     <td className="px-2 py-1.5">
-                      <Link to={`/files?batch=${batch.id}`} className="font-medium text-harbour-strong underline-offset-2 hover:underline">
+                      <Link to={filesLink({ batch: batch.id })} className="font-medium text-harbour-strong underline-offset-2 hover:underline">
                         #{batch.id}
                       </Link>
                       {" "}

@@ -5,6 +5,7 @@ import { useRequeueJob, useRetryJob, useRetryRun, useRun } from "../api/runs.ts"
 import { useCan } from "../auth/currentUser.ts";
 import { PageHeader } from "../components/PageHeader.tsx";
 import { buttonClass } from "../components/fields.tsx";
+import { filesLink } from "../components/files/fileQueryParams.ts";
 import { JobsTable } from "../components/runs/JobsTable.tsx";
 import { jobColumns } from "../components/runs/jobColumns.tsx";
 import { RunProgressBar } from "../components/runs/RunProgressBar.tsx";
@@ -131,7 +132,7 @@ export function RunDetailPage() {
           </>
         }
         actions={
-          <Link to={`/files?batch=${run.batchId}`} className={buttonClass.secondary}>
+          <Link to={filesLink({ batch: run.batchId })} className={buttonClass.secondary}>
             Files of batch #{run.batchId}
           </Link>
         }

@@ -1,11 +1,15 @@
 import { useMemo } from "react";
 import { Link, useSearchParams } from "react-router-dom";
+import { pageSizeOf } from "@tidemark/shared/contracts/fields";
+import { runQuerySchema } from "@tidemark/shared/contracts/runs";
+import { readSearchParams, toSearchParams } from "@tidemark/shared/contracts/searchParams";
 import type { ScanRunQuery } from "@tidemark/shared/types/api";
 import { useCollections } from "../api/batches.ts";
 import { describeError } from "../api/client.ts";
 import { useRuns } from "../api/runs.ts";
 import { PageHeader } from "../components/PageHeader.tsx";
-import { Pagination, PAGE_SIZES } from "../components/Pagination.tsx";
+import { Pagination } from "../components/Pagination.tsx";
+import { PAGE_SIZES } from "../components/listSearch.ts";
 import { SelectField } from "../components/fields.tsx";
 import { RunProgressBar } from "../components/runs/RunProgressBar.tsx";
 import { RunStateBadge } from "../components/runs/RunStateBadge.tsx";
@@ -14,27 +18,10 @@ import { EmptyState, ErrorState, LoadingState } from "../components/states.tsx";
 import { formatDateTime } from "../format/units.ts";
 
 const DEFAULT_PAGE_SIZE = 25;
+const runViewSchema = runQuerySchema.safeExtend({ pageSize: pageSizeOf(PAGE_SIZES, DEFAULT_PAGE_SIZE) });
 
-function parseRunQuery(params: URLSearchParams): ScanRunQuery {
-  const int = (name: string) => {
-    const n = Number(params.get(name));
-    return Number.isInteger(n) && n > 0 ? n : undefined;
-  };
-  const pageSize = int("pageSize");
-  return {
-    collection: int("collection"),
-    page: int("page") ?? 1,
-    pageSize: pageSize && (PAGE_SIZES as readonly number[]).includes(pageSize) ? pageSize : DEFAULT_PAGE_SIZE,
-  };
-}
-
-function toParams(query: ScanRunQuery): URLSearchParams {
-  const params = new URLSearchParams();
-  if (query.collection) params.set("collection", String(query.collection));
-  if (query.page && query.page !== 1) params.set("page", String(query.page));
-  if (query.pageSize && query.pageSize !== DEFAULT_PAGE_SIZE) params.set("pageSize", String(query.pageSize));
-  return params;
-}
+const parseRunQuery = (params: URLSearchParams): ScanRunQuery => readSearchParams(runViewSchema, params);
+const toParams = (query: ScanRunQuery): URLSearchParams => toSearchParams(runViewSchema, query, { omitDefaults: true });
 
 export function RunsPage() {
   const [params, setParams] = useSearchParams();

@@ -3,6 +3,7 @@
  * dot plot, so outliers sit at the ends) and finding counts as bars. Pure, tested without a canvas.
  */
 import type { BatchOverviewDto } from "@tidemark/shared/types/api";
+import { filesLink } from "../files/fileQueryParams.ts";
 
 type OverviewFile = BatchOverviewDto["files"][number];
 
@@ -59,6 +60,6 @@ export function findingBars(overview: BatchOverviewDto): FindingBar[] {
     .map((c) => ({
       ...c,
       percent: (c.files / most) * 100,
-      href: `/files?${new URLSearchParams({ batch: String(overview.batchId), finding: c.code }).toString()}`,
+      href: filesLink({ batch: overview.batchId, finding: c.code }),
     }));
 }
