@@ -23,13 +23,14 @@ export const fileQueryFields = {
   q: optionalText(200),
   sort: optionalEnum(FILE_SORT_KEYS),
   order: orderParam,
+  page: pageParams.page,
   /**
    * A previous answer's nextCursor (the page after it) or prevCursor (the page before), for the same sort
    * and order: opaque base64url text here; the server decodes and checks it (services/fileList.ts).
    */
   after: optionalCursor,
   before: optionalCursor,
-  ...pageParams,
+  pageSize: pageParams.pageSize,
 };
 
 export const fileQuerySchema = z.object(fileQueryFields).strict();
