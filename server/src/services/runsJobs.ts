@@ -110,6 +110,11 @@ export async function claimJobs(ctx: AppContext, actor: Actor, worker: string, m
   return { jobs, heartbeatIntervalSeconds: heartbeatIntervalSeconds(queue.limits.heartbeatSeconds) };
 }
 
+/** A waiting claim's pause before it looks at the queue again; cut short when this server queues jobs. */
+export function waitForQueuedJobs(ctx: AppContext, ms: number): Promise<void> {
+  return jobQueueFor(ctx.sequelize).waitForJobs(ms);
+}
+
 /** Jobs claimed for a worker that hung up before the answer reached it: straight back, no retry spent. */
 export async function releaseUndelivered(ctx: AppContext, jobs: ClaimedJobDto[]): Promise<void> {
   for (const claimed of jobs) {
