@@ -70,16 +70,16 @@ interface RunFigures {
   busySeconds: number;
   filesPerMinute: number;
   realTimeFactor: number;
-  /** From `tidemark enqueue` to the last result, worker start-up included. */
+  /** From starting `tidemark enqueue` to the server's record of the last result (workers already waiting). */
   wallSeconds: number;
   speedUp: number;
   /** Cores other processes kept busy just before the run(s), worst of the repeats. */
   otherLoadCores: number;
   /** Every repeat's first-claim-to-last-result time; busySeconds is their median. */
   samples: number[];
-  /** `tidemark scan --workers <workers>` of the same files on this machine, wall time, start-up included. */
+  /** `tidemark scan --workers <workers>` of the same files on this machine, wall time, start-up included (median). */
   localScanSeconds: number;
-  /** wallSeconds / localScanSeconds: both include one CLI start-up. */
+  /** Median over the repeats of wall ÷ the local scan measured just before (both include one CLI start-up). */
   vsLocal: number;
   /** CPU seconds of the local scan of the same files. */
   localScanCpuSeconds: number;
@@ -233,6 +233,8 @@ async function main(): Promise<void> {
     };
     const local = new Map<number, { seconds: number; load: number; cpuSeconds: number }>();
     for (const count of new Set([1, ...o.workers])) local.set(count, await localScan(count));
+    /** Every local scan per worker count: repeats after the first measure the local scan again just before. */
+    const localSamples = new Map([...local].map(([n, l]) => [n, [l]]));
     const scanSeconds = local.get(1)!.seconds;
     const scanLoad = local.get(1)!.load;
 
@@ -298,13 +300,18 @@ async function main(): Promise<void> {
       const walls: number[] = [];
       const phaseSamples: RunPhases[] = [];
       let otherLoadCores = 0;
+      const ratios: number[] = [];
       for (let repeat = 1; repeat <= o.repeats; repeat++) {
+        // The machine's load drifts: each later repeat is paired with a local scan measured just before it.
+        if (repeat > 1) localSamples.get(count)?.push(await localScan(count));
+        const paired = localSamples.get(count)?.at(-1);
         otherLoadCores = Math.max(otherLoadCores, await calmLoad());
         ensureBundle();
         const once = await measureOnce(count, repeat);
         samples.push(once.busySeconds);
         walls.push(once.wallSeconds);
         phaseSamples.push(once.phases);
+        if (paired) ratios.push(once.wallSeconds / paired.seconds);
         const p = once.phases;
         log(
           `${count} worker(s), repeat ${repeat}: ${once.busySeconds.toFixed(1)} s first claim → last result, ${once.wallSeconds.toFixed(1)} s from enqueue ` +
@@ -324,9 +331,9 @@ async function main(): Promise<void> {
         speedUp: figures.length ? figures[0].busySeconds / busySeconds : 1,
         otherLoadCores,
         samples,
-        localScanSeconds: local.get(count)?.seconds ?? Number.NaN,
-        vsLocal: median(walls) / (local.get(count)?.seconds ?? Number.NaN),
-        localScanCpuSeconds: local.get(count)?.cpuSeconds ?? Number.NaN,
+        localScanSeconds: median((localSamples.get(count) ?? []).map((l) => l.seconds)),
+        vsLocal: ratios.length ? median(ratios) : Number.NaN,
+        localScanCpuSeconds: median((localSamples.get(count) ?? []).map((l) => l.cpuSeconds)),
         phases: {
           enqueueSeconds: median(phaseSamples.map((p) => p.enqueueSeconds)),
           toFirstClaimSeconds: median(phaseSamples.map((p) => p.toFirstClaimSeconds)),
