@@ -203,4 +203,29 @@ describe("waiting claims", () => {
     expect((await postResult(t.app, token, r.body.jobs[0])).status).toBe(201);
     expect((await request(t.app).post("/api/jobs/claim").set(bearer(token)).send({ worker: "w", wait: 11 })).status).toBe(400);
   });
+
+  it("wakes a waiting claim when jobs are committed to the queue, not when their transaction rolls back", async () => {
+    const queue = jobQueueFor(t.db.sequelize);
+    const run = (await createRun(t.app, token, runRequest({ name: "wake on commit" }))).body.run as { id: number };
+    // A rolled-back insert wakes nobody: the wait runs its full length.
+    const rolledBack = Date.now();
+    const waitingForNothing = queue.waitForJobs(1_500).then(() => Date.now() - rolledBack);
+    await t.db.sequelize
+      .transaction(async (transaction) => {
+        await queue.insert([{ queueJobId: "00000000-0000-4000-8000-00000000abcd", data: { scanJobId: -1, runId: run.id, queueJobId: "00000000-0000-4000-8000-00000000abcd" } }], transaction);
+        throw new Error("roll back");
+      })
+      .catch(() => undefined);
+    expect(await waitingForNothing).toBeGreaterThanOrEqual(1_400);
+    // A committed one (enqueueing a file) ends a long wait at once.
+    const started = Date.now();
+    const waiting = queue.waitForJobs(8_000).then(() => Date.now());
+    await addFiles(t.app, token, run.id, [fileOf("wake-me.wav")]);
+    const committedAt = Date.now();
+    expect((await waiting) - started).toBeLessThan(8_000 - 1_000);
+    expect(await waiting).toBeLessThanOrEqual(committedAt + 50);
+    const [job] = (await claim(t.app, token, "w-wake", 1)).body.jobs as ClaimedJobDto[];
+    expect(job.path).toBe("wake-me.wav");
+    expect((await postResult(t.app, token, job)).status).toBe(201);
+  });
 });

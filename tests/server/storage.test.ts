@@ -1,5 +1,5 @@
 /** The filesystem object store: round trip, listing, and keys that cannot leave its folder. */
-import { existsSync, mkdtempSync, readdirSync, rmSync } from "node:fs";
+import { existsSync, mkdtempSync, readdirSync, rmSync, writeFileSync } from "node:fs";
 import { tmpdir } from "node:os";
 import path from "node:path";
 import { afterAll, describe, expect, it } from "vitest";
@@ -34,6 +34,22 @@ describe("fs store", () => {
     await expect(store.get(a)).rejects.toBeInstanceOf(ObjectNotFoundError);
     expect(existsSync(path.join(root, "images", upload))).toBe(false);
     expect(readdirSync(path.join(root, "images"))).toEqual([]);
+  });
+
+  it("stores a file by path (putFile) with the file's bytes, and leaves no temporary file when the source is missing", async () => {
+    const store = createFsStore(root);
+    const key = imageKey(newUploadId(), 1, "spectrogram");
+    const source = path.join(dir, "part-0");
+    const bytes = Buffer.from(Array.from({ length: 3000 }, (_, i) => (i * 7) % 256));
+    writeFileSync(source, bytes);
+    await store.putFile!(key, source, "image/png");
+    expect((await read(await store.get(key))).equals(bytes)).toBe(true);
+    expect(await store.size(key)).toBe(3000);
+    const missing = imageKey(newUploadId(), 0, "waveform");
+    await expect(store.putFile!(missing, path.join(dir, "no-such-part"), "image/png")).rejects.toThrow(/ENOENT/);
+    const folder = path.join(root, path.dirname(missing));
+    expect(existsSync(folder) ? readdirSync(folder) : []).toEqual([]);
+    await store.delete(key);
   });
 
   it("refuses keys that could escape the folder or hide files", async () => {

@@ -15,7 +15,10 @@
  * is left to the heartbeat limit and counted in `left`.
  *
  * An idle worker's claim waits on the server for up to 10 s (a long poll), so a new job is started within
- * a fraction of a second instead of after the next poll.
+ * a fraction of a second instead of after the next poll. A busy lane asks for its next job once the file
+ * in hand has been read to the end (what is left is finishing the analysis and drawing the images), so
+ * the claim's round trip overlaps the measuring instead of idling the engine between files; asking no
+ * earlier keeps the last jobs of a run from waiting behind a busy worker while another sits idle.
  *
  * The server is given `firstContactMs` to answer at all (a wrong URL fails fast) and, once it has
  * answered, `offlineLimitMs` of silence before the worker gives up.
@@ -269,7 +272,7 @@ export function startWorkerLoop(o: WorkerLoopOptions): WorkerControl {
    * Measures a claimed job; returns its upload, running in the background (boxed: an awaited promise of a
    * promise would wait for the upload too), or null when the job was handed back.
    */
-  const process = async (job: ClaimedJobDto): Promise<{ upload: Promise<void> } | null> => {
+  const process = async (job: ClaimedJobDto, fileRead?: () => void): Promise<{ upload: Promise<void> } | null> => {
     const entry: Held = { job, settled: false };
     held.set(job.id, entry);
     const startedAt = performance.now();
@@ -283,7 +286,11 @@ export function startWorkerLoop(o: WorkerLoopOptions): WorkerControl {
           o.progress?.grow(1, size);
           o.progress?.fileStarted(p);
         },
-        read: (p, bytes) => o.progress?.fileBytes(p, bytes),
+        read: (p, bytes) => {
+          o.progress?.fileBytes(p, bytes);
+          const size = sizes.get(p);
+          if (size !== undefined && bytes >= size) fileRead?.();
+        },
       }).finally(() => {
         const size = sizes.get(job.path);
         if (size !== undefined) o.progress?.fileDone(job.path, 0, size);
@@ -325,13 +332,41 @@ export function startWorkerLoop(o: WorkerLoopOptions): WorkerControl {
     return { upload: deliver(entry, outcome, startedAt) };
   };
 
+  /**
+   * Asks for one more job without waiting on the server (the lane's next, claimed ahead); null when none
+   * came or the request failed (the lane's own claim then asks again and handles the error). Jobs that
+   * arrive are held at once, so heartbeats cover them and a stop hands them back.
+   */
+  const claimAhead = (): Promise<ClaimedJobDto[] | null> => {
+    const cancel = new AbortController();
+    waitingClaims.add(cancel);
+    return o.api
+      .postJson<ClaimJobsResultDto>("/api/jobs/claim", { worker: o.worker, max: 1, wait: 0 }, { retry: false, timeoutMs: CLAIM_TIMEOUT_MS, signal: cancel.signal })
+      .then(({ body }) => {
+        contact();
+        for (const job of body.jobs) held.set(job.id, { job, settled: false });
+        return body.jobs.length ? body.jobs : null;
+      })
+      .catch(() => null)
+      .finally(() => waitingClaims.delete(cancel));
+  };
+
   const lane = async (): Promise<void> => {
     let backoffMs = o.pollMs;
     /** This lane's result still on its way; at most one, so results never pile up unsent. */
     let sending: Promise<void> | null = null;
+    /** The lane's next job, asked for while the one in hand is finished. */
+    const next: { ahead: Promise<ClaimedJobDto[] | null> | null } = { ahead: null };
     try {
-      while (!stopping) {
+      while (!stopping || next.ahead) {
         let answer: ClaimJobsResultDto;
+        const early = next.ahead ? await next.ahead : null;
+        next.ahead = null;
+        if (early) {
+          await runJobs(early);
+          continue;
+        }
+        if (stopping) break;
         const wait = o.exitWhenIdle ? 0 : CLAIM_WAIT_SECONDS;
         const asked = Date.now();
         const cancel = new AbortController();
@@ -366,19 +401,31 @@ export function startWorkerLoop(o: WorkerLoopOptions): WorkerControl {
           if (Date.now() - asked < (wait * 1000) / 2) await sleep(o.pollMs);
           continue;
         }
-        for (const job of answer.jobs) {
-          // Claimed while a stop was asked for: hand it straight back.
-          if (stopping) {
-            await handBack({ job, settled: false }, "release");
-            continue;
-          }
-          const measured = await process(job);
-          if (sending) await sending;
-          sending = measured?.upload ?? null;
-        }
+        await runJobs(answer.jobs);
       }
     } finally {
+      if (next.ahead) {
+        // A stop cancelled it, or the lane ended early: whatever it brought goes straight back.
+        const late = await next.ahead;
+        for (const job of late ?? []) await handBack(held.get(job.id) ?? { job, settled: false }, "release");
+      }
       if (sending) await sending;
+    }
+
+    async function runJobs(jobs: ClaimedJobDto[]): Promise<void> {
+      for (const [index, job] of jobs.entries()) {
+        // Claimed while a stop was asked for: hand it straight back.
+        if (stopping) {
+          await handBack(held.get(job.id) ?? { job, settled: false }, "release");
+          continue;
+        }
+        const last = index === jobs.length - 1;
+        const measured = await process(job, () => {
+          if (last && !next.ahead && !stopping) next.ahead = claimAhead();
+        });
+        if (sending) await sending;
+        sending = measured?.upload ?? null;
+      }
     }
   };
 

@@ -42,6 +42,11 @@ export interface JobQueue {
   configure(options: { expireInSeconds: number; retryLimit: number; retentionMinutes: number; heartbeatSeconds?: number }): Promise<void>;
   /** What request handlers decide with: the retry limit and the heartbeat limit (defaults until configured). */
   readonly limits: { retryLimit: number; heartbeatSeconds: number };
+  /**
+   * Resolves after `ms`, or sooner once this process commits jobs into the queue (an insert or a release),
+   * so a waiting claim starts a new job at once instead of at its next look.
+   */
+  waitForJobs(ms: number): Promise<void>;
 }
 
 function sequelizeDb(sequelize: Sequelize, transaction?: Transaction): PgBoss.Db {
@@ -63,6 +68,12 @@ export function jobQueueFor(sequelize: Sequelize): JobQueue {
   const boss = new PgBoss({ db: sequelizeDb(sequelize), schema: QUEUE_SCHEMA, supervise: false, schedule: false, migrate: false });
   const db = (transaction?: Transaction) => ({ db: sequelizeDb(sequelize, transaction) });
   const affected = (result: unknown): number => Number((result as { affected?: number } | undefined)?.affected ?? 0);
+  const waiting = new Set<() => void>();
+  /** Wakes the waiting claims once the jobs are visible to them: after the transaction commits. */
+  const jobsAdded = (transaction: Transaction): void =>
+    transaction.afterCommit(() => {
+      for (const wake of [...waiting]) wake();
+    });
 
   const queue: JobQueue = {
     limits: { retryLimit: DEFAULT_QUEUE_OPTIONS.retryLimit, heartbeatSeconds: DEFAULT_QUEUE_OPTIONS.heartbeatSeconds },
@@ -72,6 +83,7 @@ export function jobQueueFor(sequelize: Sequelize): JobQueue {
         jobs.map((j) => ({ id: j.queueJobId, name: SCAN_QUEUE, data: j.data })),
         db(transaction),
       );
+      jobsAdded(transaction);
     },
     async fetch(max, transaction) {
       const jobs = await boss.fetch<ScanJobData>(SCAN_QUEUE, { batchSize: max, includeMetadata: true, ...db(transaction) });
@@ -101,11 +113,23 @@ export function jobQueueFor(sequelize: Sequelize): JobQueue {
           where name = $1 and id = $2 and state in ('active', 'retry') returning id`,
         { bind: [SCAN_QUEUE, queueJobId], type: QueryTypes.SELECT, transaction },
       );
+      if (rows.length > 0) jobsAdded(transaction);
       return rows.length > 0;
     },
     async state(queueJobId, transaction) {
       const job = await boss.getJobById<ScanJobData>(SCAN_QUEUE, queueJobId, { includeArchive: true, ...db(transaction) });
       return (job?.state as QueueJobState | undefined) ?? null;
+    },
+    waitForJobs(ms) {
+      return new Promise((resolve) => {
+        const timer = setTimeout(wake, ms);
+        function wake(): void {
+          clearTimeout(timer);
+          waiting.delete(wake);
+          resolve();
+        }
+        waiting.add(wake);
+      });
     },
     async configure({ heartbeatSeconds, ...options }) {
       await boss.updateQueue(SCAN_QUEUE, { name: SCAN_QUEUE, policy: "standard", deadLetter: DEAD_LETTER_QUEUE, retryDelay: 0, ...options });

@@ -14,11 +14,14 @@ import { idParam } from "../middleware/loadEntity.ts";
 import { reportUpload, requireReport } from "../middleware/reportUpload.ts";
 import { recordAudit } from "../services/audit.ts";
 import { artefactPartsOf } from "../services/ingestValidation.ts";
-import { assertJobHolder, claimJobs, failJob, heartbeatJobs, releaseJob, releaseUndelivered, requeueJob, retryJob } from "../services/runsJobs.ts";
+import { assertJobHolder, claimJobs, failJob, heartbeatJobs, releaseJob, releaseUndelivered, requeueJob, retryJob, waitForQueuedJobs } from "../services/runsJobs.ts";
 import { storeJobResult } from "../services/runsResults.ts";
 import { validate } from "../validate.ts";
 
-/** How often a waiting claim looks at the queue again: the most an idle worker waits for a new job. */
+/**
+ * How often a waiting claim looks at the queue again: the most an idle worker waits for a job queued
+ * through another server process (one queued here wakes the claim at once).
+ */
 const CLAIM_WAIT_STEP_MS = 300;
 
 const claim = validate("body", claimJobsSchema);
@@ -45,7 +48,7 @@ export function jobsRouter(ctx: AppContext): Router {
     for (;;) {
       if (hungUp && body.jobs.length > 0) return void (await releaseUndelivered(ctx, body.jobs));
       if (body.jobs.length > 0 || stopWaiting() || Date.now() + CLAIM_WAIT_STEP_MS > deadline) return void res.json(body);
-      await new Promise((resolve) => setTimeout(resolve, CLAIM_WAIT_STEP_MS));
+      await waitForQueuedJobs(ctx, CLAIM_WAIT_STEP_MS);
       // Looked at again before touching the database: a shutdown may have closed it meanwhile.
       if (stopWaiting()) return void res.json(body);
       body = await claimJobs(ctx, actorOf(res), input.worker, input.max);

@@ -60,7 +60,10 @@ export async function writeArtefacts(ctx: AppContext, uploadId: string, parts: A
   const keys: WrittenArtefacts = new Map();
   for (const part of parts) {
     const key = keyFor(uploadId, part.fileIndex, part);
-    await ctx.store.put(key, await readFile(part.path), part.kind === "excerpt" ? part.mediaType! : CONTENT_TYPES[part.kind]);
+    const contentType = part.kind === "excerpt" ? part.mediaType! : CONTENT_TYPES[part.kind];
+    // From the upload's temporary file straight into the store where it can (no copy through memory).
+    if (ctx.store.putFile) await ctx.store.putFile(key, part.path, contentType);
+    else await ctx.store.put(key, await readFile(part.path), contentType);
     written.push(key);
     let ofFile = keys.get(part.fileIndex);
     if (!ofFile) keys.set(part.fileIndex, (ofFile = new Map()));

@@ -50,6 +50,8 @@ export async function claimJobs(ctx: AppContext, actor: Actor, worker: string, m
   const jobs = await ctx.sequelize.transaction(async (transaction) => {
     const claimed: ClaimedJobDto[] = [];
     const passedOver: string[] = [];
+    /** Runs whose first claim this is (started_at still unset). */
+    const starting = new Set<number>();
     // Fetch only what is wanted; fetch again (a little further) only for files this worker cannot reach.
     let budget = max + CLAIM_LOOKAHEAD;
     while (claimed.length < max && budget > 0) {
@@ -75,12 +77,14 @@ export async function claimJobs(ctx: AppContext, actor: Actor, worker: string, m
           passedOver.push(f.queueJobId);
           continue;
         }
-        await closeAttempts(job.id, "expired", "no result before the visibility timeout", transaction);
+        // A job never claimed before has no attempt to close (attempts are only made here): one query less per file.
+        if (job.attempts > 0) await closeAttempts(job.id, "expired", "no result before the visibility timeout", transaction);
         const attempt = job.attempts + 1;
         const now = new Date();
         await job.update({ state: "active", attempts: attempt, worker, claimedAt: now, heartbeatAt: now, expiresAt: f.expiresAt }, { transaction });
         await ScanJobAttempt.create({ jobId: job.id, attempt, worker, tokenId, endedAt: null, outcome: null, message: null }, { transaction });
         const run = job.run!;
+        if (!run.startedAt) starting.add(run.id);
         claimed.push({
           id: job.id,
           attempt,
@@ -98,16 +102,23 @@ export async function claimJobs(ctx: AppContext, actor: Actor, worker: string, m
     }
     for (const queueJobId of passedOver) await queue.release(queueJobId, transaction);
     if (claimed.length === 0) return [];
-    const runIds = [...new Set(claimed.map((c) => c.runId))];
-    await ctx.sequelize.query(`update scan_runs set started_at = now(), updated_at = now() where id = any($1::int[]) and started_at is null`, {
-      bind: [runIds],
-      type: QueryTypes.UPDATE,
-      transaction,
-    });
+    // Only a run's first claims touch its row; the condition still guards against a concurrent first claim.
+    if (starting.size) {
+      await ctx.sequelize.query(`update scan_runs set started_at = now(), updated_at = now() where id = any($1::int[]) and started_at is null`, {
+        bind: [[...starting]],
+        type: QueryTypes.UPDATE,
+        transaction,
+      });
+    }
     await recordAudit(actor, { action: "jobs.claim", targetType: "job", targetId: claimed.map((c) => c.id).join(","), details: { worker, jobs: claimed.map((c) => ({ id: c.id, attempt: c.attempt })) } }, transaction);
     return claimed;
   });
   return { jobs, heartbeatIntervalSeconds: heartbeatIntervalSeconds(queue.limits.heartbeatSeconds) };
+}
+
+/** A waiting claim's pause before it looks at the queue again; cut short when this server queues jobs. */
+export function waitForQueuedJobs(ctx: AppContext, ms: number): Promise<void> {
+  return jobQueueFor(ctx.sequelize).waitForJobs(ms);
 }
 
 /** Jobs claimed for a worker that hung up before the answer reached it: straight back, no retry spent. */

@@ -9,7 +9,7 @@ import type { JobResultDto } from "@tidemark/shared/types/api";
 import type { ScanReport } from "@tidemark/shared/types/report";
 import type { AppContext } from "../context.ts";
 import { notFound, unprocessable } from "../errors.ts";
-import { Collection, ScanJob, ScanJobAttempt, ScanRun } from "../models/index.ts";
+import { Collection, ScanJob, ScanRun } from "../models/index.ts";
 import { jobQueueFor } from "../queue/jobQueue.ts";
 import type { Actor } from "./actor.ts";
 import type { WrittenArtefacts } from "./artefacts.ts";
@@ -17,7 +17,6 @@ import { recordAudit } from "./audit.ts";
 import { lockCollection, storeFileResults, withArtefacts } from "./fileResultStore.ts";
 import type { ArtefactPart } from "./ingestValidation.ts";
 import { notifyFailingBatch } from "./notifications.ts";
-import { closeAttempts } from "./runsJobs.ts";
 import { markRunFinishedIfDone } from "./runsStatus.ts";
 
 export interface JobResultInput {
@@ -28,9 +27,16 @@ export interface JobResultInput {
 }
 
 /** The delivering attempt is done, even if it had been given up as expired; any other open one is superseded. */
-async function recordDelivery(jobId: number, attempt: number, transaction: Transaction): Promise<void> {
-  await ScanJobAttempt.update({ endedAt: new Date(), outcome: "done", message: null }, { where: { jobId, attempt }, transaction });
-  await closeAttempts(jobId, "superseded", `attempt ${attempt} delivered the result`, transaction);
+async function recordDelivery(jobId: number, attempt: number, transaction: Transaction, sequelize: AppContext["sequelize"]): Promise<void> {
+  // One statement for both: the delivering attempt, and every other attempt still open.
+  await sequelize.query(
+    `update scan_job_attempts
+        set ended_at = $4,
+            outcome = case when attempt = $2 then 'done' else 'superseded' end,
+            message = case when attempt = $2 then null else $3 end
+      where job_id = $1 and (attempt = $2 or ended_at is null)`,
+    { bind: [jobId, attempt, `attempt ${attempt} delivered the result`, new Date()], type: QueryTypes.UPDATE, transaction },
+  );
 }
 
 type Stored = { dto: JobResultDto; finishedRun: boolean };
@@ -71,7 +77,7 @@ async function storeResult(ctx: AppContext, actor: Actor, jobId: number, input: 
     },
   );
   await job.update({ state: "done", fileResultId, doneAt: new Date(), expiresAt: null, worker: input.worker, lastError: null }, { transaction });
-  await recordDelivery(job.id, input.attempt, transaction);
+  await recordDelivery(job.id, input.attempt, transaction, ctx.sequelize);
   // Whoever holds the job now (this attempt or a later one) is done with it: nothing will scan it again.
   await jobQueueFor(ctx.sequelize).finish(job.queueJobId, { fileResultId }, transaction);
   await recordAudit(

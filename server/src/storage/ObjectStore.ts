@@ -17,6 +17,11 @@ export interface ByteRange {
 
 export interface ObjectStore {
   put(key: string, body: Buffer, contentType: string): Promise<void>;
+  /**
+   * Stores a file's bytes without reading them into memory, where the driver can (the filesystem
+   * driver copies in the kernel); callers fall back to put() when a store lacks it.
+   */
+  putFile?(key: string, file: string, contentType: string): Promise<void>;
   /** Rejects with ObjectNotFoundError when the key does not exist. With a range, only those bytes. */
   get(key: string, range?: ByteRange): Promise<Readable>;
   /** The object's length in bytes; rejects with ObjectNotFoundError when the key does not exist. */

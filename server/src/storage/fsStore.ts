@@ -1,7 +1,7 @@
 /** Filesystem driver: one file per key under a root folder (default .data/objects). */
 import { randomBytes } from "node:crypto";
 import { createReadStream } from "node:fs";
-import { mkdir, readdir, rename, rm, rmdir, stat, writeFile } from "node:fs/promises";
+import { copyFile, mkdir, readdir, rename, rm, rmdir, stat, writeFile } from "node:fs/promises";
 import path from "node:path";
 import type { Readable } from "node:stream";
 import { assertSafeKey, ObjectNotFoundError, type ObjectStore, type StoredObjectInfo } from "./ObjectStore.ts";
@@ -33,14 +33,26 @@ export function createFsStore(rootDir: string): ObjectStore {
     }
   }
 
+  /** Write then rename, so a reader never sees half a PNG; a failed write leaves no temporary file. */
+  async function putVia(key: string, write: (tmp: string) => Promise<void>): Promise<void> {
+    const file = fileFor(key);
+    await mkdir(path.dirname(file), { recursive: true });
+    const tmp = path.join(path.dirname(file), `.${path.basename(file)}.${randomBytes(6).toString("hex")}.tmp`);
+    try {
+      await write(tmp);
+      await rename(tmp, file);
+    } catch (e) {
+      await rm(tmp, { force: true });
+      throw e;
+    }
+  }
+
   return {
     async put(key, body) {
-      const file = fileFor(key);
-      await mkdir(path.dirname(file), { recursive: true });
-      // Write then rename, so a reader never sees half a PNG.
-      const tmp = path.join(path.dirname(file), `.${path.basename(file)}.${randomBytes(6).toString("hex")}.tmp`);
-      await writeFile(tmp, body);
-      await rename(tmp, file);
+      await putVia(key, (tmp) => writeFile(tmp, body));
+    },
+    async putFile(key, source) {
+      await putVia(key, (tmp) => copyFile(source, tmp));
     },
     async get(key, range): Promise<Readable> {
       const file = fileFor(key);
