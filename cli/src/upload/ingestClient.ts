@@ -8,7 +8,8 @@
 import type { IngestResultDto } from "@tidemark/shared/types/api";
 import { ApiError, createApiClient, type OnRetry, type RetryPolicy } from "../api/apiClient.ts";
 
-export type PartField = "spectrogram" | "waveform" | "levelGrid" | "loudnessCurve" | "closeupSpectrogram" | "closeupWaveform" | "excerpt";
+export type { PartField } from "@tidemark/shared/contracts/uploadParts";
+import type { PartField } from "@tidemark/shared/contracts/uploadParts";
 
 /** One file sent beside the report (named for ingest by reportImages.ts). */
 export interface ImagePart {

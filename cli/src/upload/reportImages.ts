@@ -1,11 +1,10 @@
 /**
- * Finds the files a report points at, for upload, and names each part as ingest takes it (CONTRACT-16 §4):
- * per file n, `spectrogram` and `waveform` (`<n>.png`, the strip beside the spectrogram), `levelGrid` and
- * `loudnessCurve` (`<n>.json`), and per close-up k `closeupSpectrogram` / `closeupWaveform` (`<n>.<k>.png`)
- * and `excerpt` (`<n>.<k>.wav` or `.flac`). The HTTP side is ingestClient.ts.
+ * Finds the files a report points at, for upload, and names each part as ingest takes it
+ * (shared/src/contracts/uploadParts.ts). The HTTP side is ingestClient.ts.
  */
 import { readFile } from "node:fs/promises";
 import path from "node:path";
+import { PART_MEDIA_TYPES, partName } from "@tidemark/shared/contracts/uploadParts";
 import type { FileReport, ScanReport } from "@tidemark/shared/types/report";
 import { waveformPathFor } from "../scan/spectrogramPaths.ts";
 import type { ImagePart, PartField } from "./ingestClient.ts";
@@ -32,17 +31,16 @@ interface WantedPart {
 export function partsOfFile(file: FileReport, n: number | string): WantedPart[] {
   if (!file.spectrogram) return [];
   const parts: WantedPart[] = [
-    { field: "spectrogram", shown: file.spectrogram, name: `${n}.png`, mediaType: "image/png" },
-    { field: "waveform", shown: waveformPathFor(file.spectrogram), name: `${n}.png`, mediaType: "image/png" },
+    { field: "spectrogram", shown: file.spectrogram, name: partName("spectrogram", n), mediaType: PART_MEDIA_TYPES.spectrogram },
+    { field: "waveform", shown: waveformPathFor(file.spectrogram), name: partName("waveform", n), mediaType: PART_MEDIA_TYPES.waveform },
   ];
-  if (file.levelGrid) parts.push({ field: "levelGrid", shown: file.levelGrid, name: `${n}.json`, mediaType: "application/json" });
-  if (file.loudnessCurve) parts.push({ field: "loudnessCurve", shown: file.loudnessCurve, name: `${n}.json`, mediaType: "application/json" });
+  if (file.levelGrid) parts.push({ field: "levelGrid", shown: file.levelGrid, name: partName("levelGrid", n), mediaType: PART_MEDIA_TYPES.levelGrid });
+  if (file.loudnessCurve) parts.push({ field: "loudnessCurve", shown: file.loudnessCurve, name: partName("loudnessCurve", n), mediaType: PART_MEDIA_TYPES.loudnessCurve });
   for (const [k, c] of (file.closeups ?? []).entries()) {
-    parts.push({ field: "closeupSpectrogram", shown: c.spectrogram, name: `${n}.${k}.png`, mediaType: "image/png" });
-    parts.push({ field: "closeupWaveform", shown: c.waveform, name: `${n}.${k}.png`, mediaType: "image/png" });
+    parts.push({ field: "closeupSpectrogram", shown: c.spectrogram, name: partName("closeupSpectrogram", n, { k }), mediaType: PART_MEDIA_TYPES.closeupSpectrogram });
+    parts.push({ field: "closeupWaveform", shown: c.waveform, name: partName("closeupWaveform", n, { k }), mediaType: PART_MEDIA_TYPES.closeupWaveform });
     if (c.excerpt && c.excerptMediaType) {
-      const ext = c.excerptMediaType === "audio/flac" ? "flac" : "wav";
-      parts.push({ field: "excerpt", shown: c.excerpt, name: `${n}.${k}.${ext}`, mediaType: c.excerptMediaType });
+      parts.push({ field: "excerpt", shown: c.excerpt, name: partName("excerpt", n, { k, excerptMediaType: c.excerptMediaType }), mediaType: c.excerptMediaType });
     }
   }
   return parts;

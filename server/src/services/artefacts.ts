@@ -4,6 +4,7 @@
  * transaction, and delete what they wrote if it does not commit (the orphan sweep catches a crash).
  */
 import { readFile } from "node:fs/promises";
+import { EXCERPT_EXTENSIONS, PART_MEDIA_TYPES } from "@tidemark/shared/contracts/uploadParts";
 import type { FileReport } from "@tidemark/shared/types/report";
 import type { AppContext } from "../context.ts";
 import type { StoredCloseup, StoredCloseupOmitted } from "../models/FileResult.ts";
@@ -22,15 +23,6 @@ export interface FileArtefactLinks {
   artefactKeys: string[];
 }
 
-const CONTENT_TYPES: Record<PartKind, string> = {
-  spectrogram: "image/png",
-  waveform: "image/png",
-  closeupSpectrogram: "image/png",
-  closeupWaveform: "image/png",
-  levelGrid: "application/json",
-  loudnessCurve: "application/json",
-  excerpt: "audio/flac",
-};
 
 function keyFor(uploadId: string, fileIndex: number, part: ArtefactPart): string {
   switch (part.kind) {
@@ -46,7 +38,7 @@ function keyFor(uploadId: string, fileIndex: number, part: ArtefactPart): string
     case "closeupWaveform":
       return closeupKey(uploadId, fileIndex, part.closeupIndex!, "waveform.png");
     case "excerpt":
-      return closeupKey(uploadId, fileIndex, part.closeupIndex!, part.mediaType === "audio/flac" ? "excerpt.flac" : "excerpt.wav");
+      return closeupKey(uploadId, fileIndex, part.closeupIndex!, `excerpt.${EXCERPT_EXTENSIONS[part.mediaType ?? "audio/wav"]}`);
   }
 }
 
@@ -60,7 +52,7 @@ export async function writeArtefacts(ctx: AppContext, uploadId: string, parts: A
   const keys: WrittenArtefacts = new Map();
   for (const part of parts) {
     const key = keyFor(uploadId, part.fileIndex, part);
-    const contentType = part.kind === "excerpt" ? part.mediaType! : CONTENT_TYPES[part.kind];
+    const contentType = part.kind === "excerpt" ? part.mediaType! : PART_MEDIA_TYPES[part.kind];
     // From the upload's temporary file straight into the store where it can (no copy through memory).
     if (ctx.store.putFile) await ctx.store.putFile(key, part.path, contentType);
     else await ctx.store.put(key, await readFile(part.path), contentType);

@@ -6,6 +6,8 @@
  * hold is refused by middleware/textGuard.ts.
  */
 import { readFile } from "node:fs/promises";
+import { excerptMediaTypeOf, PART_NAMES } from "@tidemark/shared/contracts/uploadParts";
+import type { ExcerptMediaType } from "@tidemark/shared/types/api";
 import { scanReportSchema, type ScanReport } from "@tidemark/shared/types/report";
 import type { UploadLimits } from "../context.ts";
 import { badRequest, unprocessable } from "../errors.ts";
@@ -66,18 +68,18 @@ export const isJsonObject = (b: Buffer): boolean => b.toString("latin1").trimSta
  * `schema`, are checked afterwards by artefactPartsOf().
  */
 export const PART_KINDS = {
-  spectrogram: { name: /^(\d{1,9})\.png$/i, shape: "<n>.png", maxBytes: (l: UploadLimits) => l.maxImageBytes, type: "a PNG image", magic: isPng },
-  waveform: { name: /^(\d{1,9})\.png$/i, shape: "<n>.png", maxBytes: (l: UploadLimits) => l.maxImageBytes, type: "a PNG image", magic: isPng },
-  levelGrid: { name: /^(\d{1,9})\.json$/i, shape: "<n>.json", maxBytes: (l: UploadLimits) => l.maxJsonPartBytes, type: "a JSON object", magic: isJsonObject },
-  loudnessCurve: { name: /^(\d{1,9})\.json$/i, shape: "<n>.json", maxBytes: (l: UploadLimits) => l.maxJsonPartBytes, type: "a JSON object", magic: isJsonObject },
-  closeupSpectrogram: { name: /^(\d{1,9})\.(\d{1,4})\.png$/i, shape: "<n>.<k>.png", maxBytes: (l: UploadLimits) => l.maxImageBytes, type: "a PNG image", magic: isPng },
-  closeupWaveform: { name: /^(\d{1,9})\.(\d{1,4})\.png$/i, shape: "<n>.<k>.png", maxBytes: (l: UploadLimits) => l.maxImageBytes, type: "a PNG image", magic: isPng },
+  spectrogram: { name: PART_NAMES.spectrogram.pattern, shape: PART_NAMES.spectrogram.shape, maxBytes: (l: UploadLimits) => l.maxImageBytes, type: "a PNG image", magic: isPng },
+  waveform: { name: PART_NAMES.waveform.pattern, shape: PART_NAMES.waveform.shape, maxBytes: (l: UploadLimits) => l.maxImageBytes, type: "a PNG image", magic: isPng },
+  levelGrid: { name: PART_NAMES.levelGrid.pattern, shape: PART_NAMES.levelGrid.shape, maxBytes: (l: UploadLimits) => l.maxJsonPartBytes, type: "a JSON object", magic: isJsonObject },
+  loudnessCurve: { name: PART_NAMES.loudnessCurve.pattern, shape: PART_NAMES.loudnessCurve.shape, maxBytes: (l: UploadLimits) => l.maxJsonPartBytes, type: "a JSON object", magic: isJsonObject },
+  closeupSpectrogram: { name: PART_NAMES.closeupSpectrogram.pattern, shape: PART_NAMES.closeupSpectrogram.shape, maxBytes: (l: UploadLimits) => l.maxImageBytes, type: "a PNG image", magic: isPng },
+  closeupWaveform: { name: PART_NAMES.closeupWaveform.pattern, shape: PART_NAMES.closeupWaveform.shape, maxBytes: (l: UploadLimits) => l.maxImageBytes, type: "a PNG image", magic: isPng },
   excerpt: {
-    name: /^(\d{1,9})\.(\d{1,4})\.(?:flac|wav)$/i,
-    shape: "<n>.<k>.flac or <n>.<k>.wav",
+    name: PART_NAMES.excerpt.pattern,
+    shape: PART_NAMES.excerpt.shape,
     maxBytes: (l: UploadLimits) => l.maxExcerptBytes,
     type: "FLAC or WAV audio matching its extension",
-    magic: (b: Buffer, name: string) => (/\.flac$/i.test(name) ? isFlac(b) : isWav(b)),
+    magic: (b: Buffer, name: string) => (excerptMediaTypeOf(name) === "audio/flac" ? isFlac(b) : isWav(b)),
   },
 } as const satisfies Record<string, { name: RegExp; shape: string; maxBytes: (l: UploadLimits) => number; type: string; magic: (head: Buffer, name: string) => boolean }>;
 
@@ -110,7 +112,7 @@ export interface ArtefactPart {
   /** The close-up's index for closeup parts and excerpts, else null. */
   closeupIndex: number | null;
   /** For excerpts: "audio/flac" or "audio/wav", from the name (checked against the bytes and the report). */
-  mediaType: "audio/flac" | "audio/wav" | null;
+  mediaType: ExcerptMediaType | null;
   path: string;
 }
 
@@ -159,7 +161,7 @@ export async function artefactPartsOf(parts: NamedPart[], report: ScanReport): P
     if (!Object.hasOwn(PART_KINDS, part.kind)) throw badRequest(`unexpected file part "${part.kind}"; expected report, ${PART_KIND_NAMES.join(", ")}`, "bad_upload");
     const kind = part.kind as PartKind;
     const label = `${kind} ${JSON.stringify(part.originalname)}`;
-    const mediaType = kind === "excerpt" ? (/\.flac$/i.test(part.originalname) ? "audio/flac" : "audio/wav") : null;
+    const mediaType = kind === "excerpt" ? excerptMediaTypeOf(part.originalname) : null;
     const artefact: ArtefactPart = { kind, fileIndex: part.fileIndex, closeupIndex: part.closeupIndex, mediaType, path: part.path };
     declared(report, artefact, label);
     const schema = JSON_SCHEMAS[kind];

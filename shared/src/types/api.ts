@@ -160,7 +160,8 @@ export interface ProfileLimitsDto {
 }
 
 export type CloseupOmittedReason = "cap" | "budget" | "not-timed";
-export type ExcerptMediaType = "audio/flac" | "audio/wav";
+export type { ExcerptMediaType } from "./codes.ts";
+import type { ExcerptMediaType } from "./codes.ts";
 
 /** One close-up of a file: a detailed window around one or more findings (issue #16). */
 export interface CloseupDto {

@@ -63,3 +63,7 @@ export const ENCODINGS = ["pcm", "float", "alaw", "mulaw"] as const;
 export type Verdict = (typeof VERDICTS)[number];
 export type Severity = (typeof SEVERITIES)[number];
 export type FindingCode = (typeof FINDING_CODES)[number];
+
+/** Media types a close-up's excerpt may have (report `closeups[].excerptMediaType`, upload parts). */
+export const EXCERPT_MEDIA_TYPES = ["audio/flac", "audio/wav"] as const;
+export type ExcerptMediaType = (typeof EXCERPT_MEDIA_TYPES)[number];

@@ -5,7 +5,7 @@
  * Quiet values (−Infinity dB) are written as null, hence the nullable dB fields.
  */
 import { z } from "zod";
-import { CONTAINERS, ENCODINGS, FINDING_CODES, REPORT_SCHEMA_IDS, SEVERITIES, VERDICTS } from "./codes.ts";
+import { CONTAINERS, ENCODINGS, EXCERPT_MEDIA_TYPES, FINDING_CODES, REPORT_SCHEMA_IDS, SEVERITIES, VERDICTS } from "./codes.ts";
 
 export { CONTAINERS, ENCODINGS, FINDING_CODES, REPORT_SCHEMA_ID, REPORT_SCHEMA_IDS, SEVERITIES, VERDICTS } from "./codes.ts";
 export type { FindingCode, Severity, Verdict } from "./codes.ts";
@@ -140,7 +140,7 @@ export const closeupSchema = z.object({
   spectrogram: z.string().min(1),
   waveform: z.string().min(1),
   excerpt: z.string().min(1).nullable(),
-  excerptMediaType: z.enum(["audio/flac", "audio/wav"]).nullable(),
+  excerptMediaType: z.enum(EXCERPT_MEDIA_TYPES).nullable(),
   excerptSampleRateHz: z.number().int().positive().nullable(),
 });
 
