@@ -20,12 +20,14 @@ import type { ScanReport } from "@tidemark/shared/types/report";
 import type { AppContext, UploadLimits } from "../context.ts";
 import { badRequest, HttpError, payloadTooLarge } from "../errors.ts";
 import {
+  artefactPartsOf,
   isCloseupKind,
   isJsonObject,
   MAGIC_HEAD_BYTES,
   PART_KIND_NAMES,
   PART_KINDS,
   validateReport,
+  type ArtefactPart,
   type PartKind,
   type ReceivedPart,
 } from "../services/ingestValidation.ts";
@@ -80,10 +82,13 @@ function checkIndexes(part: ReceivedPart, report: ScanReport): void {
   }
 }
 
-/** The upload's report, or 400 when the body had none. */
-export function requireReport(upload: ReceivedUpload): ScanReport {
+/**
+ * The upload's report and its artefact parts, each checked against what the report says (400 when the
+ * body had no report): what both ingest routes, a batch upload and a worker's job result, store.
+ */
+export async function uploadedReport(upload: ReceivedUpload): Promise<{ report: ScanReport; artefacts: ArtefactPart[] }> {
   if (!upload.report) throw badRequest('the multipart body needs a file part named "report" with the JSON report', "missing_report");
-  return upload.report;
+  return { report: upload.report, artefacts: await artefactPartsOf(upload.parts, upload.report) };
 }
 
 const hex = (b: Buffer): string => [...b.subarray(0, 8)].map((x) => x.toString(16).padStart(2, "0")).join(" ") || "nothing";

@@ -4,10 +4,9 @@ import type { AppContext } from "../context.ts";
 import { HttpError } from "../errors.ts";
 import { actorOf } from "../middleware/actor.ts";
 import { requirePermission, requireTokenAuth } from "../middleware/auth.ts";
-import { reportUpload, requireReport } from "../middleware/reportUpload.ts";
+import { reportUpload, uploadedReport } from "../middleware/reportUpload.ts";
 import { recordAudit } from "../services/audit.ts";
 import { ingestBatch } from "../services/ingest.ts";
-import { artefactPartsOf } from "../services/ingestValidation.ts";
 import { validate } from "../validate.ts";
 
 const uploadFields = validate("upload", ingestFieldsSchema);
@@ -18,8 +17,7 @@ export function ingestRouter(ctx: AppContext): Router {
   router.post("/ingest", requireTokenAuth, requirePermission("upload"), reportUpload(ctx, "the report"), uploadFields, async (_req, res) => {
     const upload = res.locals.upload!;
     const fields = uploadFields.of(res);
-    const report = requireReport(upload);
-    const artefacts = await artefactPartsOf(upload.parts, report);
+    const { report, artefacts } = await uploadedReport(upload);
     const result = await ingestBatch(ctx, actorOf(res), {
       uploader: res.locals.auth!.user,
       collectionName: fields.collection,

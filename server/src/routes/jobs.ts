@@ -11,9 +11,8 @@ import type { AppContext } from "../context.ts";
 import { actorOf } from "../middleware/actor.ts";
 import { requirePermission, requireTokenAuth } from "../middleware/auth.ts";
 import { idParam } from "../middleware/loadEntity.ts";
-import { reportUpload, requireReport } from "../middleware/reportUpload.ts";
+import { reportUpload, uploadedReport } from "../middleware/reportUpload.ts";
 import { recordAudit } from "../services/audit.ts";
-import { artefactPartsOf } from "../services/ingestValidation.ts";
 import { assertJobHolder, claimJobs, failJob, heartbeatJobs, releaseJob, releaseUndelivered, requeueJob, retryJob, waitForQueuedJobs } from "../services/runsJobs.ts";
 import { storeJobResult } from "../services/runsResults.ts";
 import { validate } from "../validate.ts";
@@ -66,8 +65,7 @@ export function jobsRouter(ctx: AppContext): Router {
     await assertJobHolder(actorOf(res), id, "send a result for");
     const upload = res.locals.upload!;
     const fields = resultFields.of(res);
-    const report = requireReport(upload);
-    const artefacts = await artefactPartsOf(upload.parts, report);
+    const { report, artefacts } = await uploadedReport(upload);
     const result = await storeJobResult(ctx, actorOf(res), id, { report, artefacts, worker: fields.worker, attempt: fields.attempt });
     if (!result.created) {
       await recordAudit(actorOf(res), { action: "job.result_repeat", targetType: "job", targetId: id, details: { worker: fields.worker, attempt: fields.attempt, fileResultId: result.fileResultId } });
