@@ -25,11 +25,11 @@ const unbundled = {
 // CommonJS packages inside an ESM bundle call require() for Node's own modules: give them one.
 const REQUIRE_SHIM = 'import { createRequire as __tidemarkCreateRequire } from "node:module"; const require = __tidemarkCreateRequire(import.meta.url);';
 
-/** Bundles bin.ts and the scan worker into `outdir`; `selfContained` bundles npm packages as well. */
+/** Bundles bin.ts, the scan worker and the spectral thread into `outdir`; `selfContained` bundles npm packages as well. */
 export function bundleCli({ outdir, selfContained = false }) {
   return build({
     absWorkingDir: repoRoot,
-    entryPoints: { bin: "cli/src/bin.ts", scanWorker: "cli/src/scan/scanWorker.ts" },
+    entryPoints: { bin: "cli/src/bin.ts", scanWorker: "cli/src/scan/scanWorker.ts", spectralThread: "cli/src/scan/spectralThread.ts" },
     outdir,
     bundle: true,
     // Chunks keep the lazily imported commands lazy; every file lands in outdir itself, so the sources'

@@ -5,7 +5,7 @@
  */
 import { mkdir, writeFile } from "node:fs/promises";
 import path from "node:path";
-import { createFileAnalysis, type FileAnalysisResult } from "@tidemark/shared/engine/fileAnalysis";
+import { createFileAnalysis, createLevelSide, mergeFileAnalysis, type FileAnalysisResult, type LevelSideResult } from "@tidemark/shared/engine/fileAnalysis";
 import { checksumFindings, compareChecksums, type ExpectedChecksum } from "@tidemark/shared/fixity/checksumFiles";
 import { judge } from "@tidemark/shared/profiles/judge";
 import type { Profile } from "@tidemark/shared/profiles/profileSchema";
@@ -15,12 +15,13 @@ import type { BlockAnalyser, RgbaImage } from "@tidemark/shared/types/analysis";
 import type { AudioFormat, FileReport, Finding, FindingCode, ReportError, Severity } from "@tidemark/shared/types/report";
 import type { AnalysisSettings } from "@tidemark/shared/types/settings";
 import { readerFindings } from "@tidemark/shared/wav/readerFindings";
-import { readAudioFile, type AudioFileResult } from "../audio/readAudioFile.ts";
+import { DEFAULT_BLOCK_FRAMES, readAudioFile, type AudioFileResult } from "../audio/readAudioFile.ts";
 import { encodePng } from "../render/encodePng.ts";
 import { oneLine } from "../errors.ts";
 import { errorReport } from "./errorReport.ts";
 import { displayPath, type FsPath } from "./rawPath.ts";
 import { channelSpectrogramPath, spectrogramPaths, type SpectrogramTarget } from "./spectrogramPaths.ts";
+import { startSpectralThread, type SpectralThread } from "./spectralThreadClient.ts";
 import { writeCloseups, type CloseupFields } from "./writeCloseups.ts";
 
 export interface ScanContext {
@@ -31,6 +32,11 @@ export interface ScanContext {
   fingerprint: boolean;
   /** Close-ups, level grid and loudness curve beside the PNGs (the default; `scan --no-closeups` turns them off). */
   closeups: boolean;
+  /**
+   * Run each file's spectral side (spectrogram, bands, fingerprint) on a second thread
+   * (spectralThreadClient.ts): set by runScan when the scan has a spare core for it. Same results.
+   */
+  spectralThread?: boolean;
 }
 
 export interface AnalyseTask {
@@ -140,6 +146,7 @@ export async function analyseFile(
 ): Promise<AnalysedFile> {
   const timingsMs: AnalyseTimings = { read: 0, decode: 0, hash: 0, analyse: 0, level: 0, spectral: 0, fingerprint: 0, closeups: 0, render: 0, paint: 0, png: 0 };
   let analysis: BlockAnalyser<FileAnalysisResult> | null = null;
+  let split: { level: BlockAnalyser<LevelSideResult>; spectral: SpectralThread } | null = null;
   let analyseMs = 0;
   let read: AudioFileResult;
   try {
@@ -148,12 +155,25 @@ export async function analyseFile(
       onRead,
       digests: extraDigestsFor(task.expectedChecksums),
       onOpen: (info) => {
-        const a = createFileAnalysis(info.stream, ctx.settings, {
+        const options = {
           clock: () => performance.now(),
           fingerprint: ctx.fingerprint,
           // Close-ups are drawn beside the PNGs, so without them there is nothing to keep samples for.
           closeups: ctx.closeups && ctx.spectrograms ? { rankOf: rankerFor(ctx.profile) } : null,
-        });
+        };
+        if (ctx.spectralThread) {
+          const spectral = startSpectralThread(info.stream, ctx.settings, { fingerprint: ctx.fingerprint, slotFrames: DEFAULT_BLOCK_FRAMES });
+          const level = createLevelSide(info.stream, ctx.settings, options);
+          split = { level, spectral };
+          return (block) => {
+            const t = performance.now();
+            // Into the ring first, so the other thread works on this block while this one measures levels.
+            spectral.push(block);
+            level.push(block);
+            analyseMs += performance.now() - t;
+          };
+        }
+        const a = createFileAnalysis(info.stream, ctx.settings, options);
         analysis = a;
         return (block) => {
           const t = performance.now();
@@ -163,8 +183,9 @@ export async function analyseFile(
       },
     });
   } catch (error) {
+    (split as { spectral: SpectralThread } | null)?.spectral.abort();
     if (signal?.aborted) throw error;
-    const code = analysis ? "analysis-failed" : "unreadable";
+    const code = analysis || split ? "analysis-failed" : "unreadable";
     return { report: withPathBytes(errorReport(task.relPath, task.sizeBytes, reportErrorOf(error, task, code)), task), audioSeconds: 0, imageError: null, timingsMs };
   }
   timingsMs.read = read.timings.readMs;
@@ -174,7 +195,22 @@ export async function analyseFile(
   let analysed: FileAnalysisResult;
   try {
     const t = performance.now();
-    analysed = (analysis as BlockAnalyser<FileAnalysisResult> | null)?.finish() ?? failNoAnalysis();
+    const two = split as { level: BlockAnalyser<LevelSideResult>; spectral: SpectralThread } | null;
+    if (two) {
+      // The other thread finishes the spectral side while this one finishes the level side.
+      const spectralSide = two.spectral.finish();
+      let levelSide: LevelSideResult;
+      try {
+        levelSide = two.level.finish();
+      } catch (error) {
+        spectralSide.catch(() => undefined);
+        two.spectral.abort();
+        throw error;
+      }
+      analysed = mergeFileAnalysis(levelSide, await spectralSide);
+    } else {
+      analysed = (analysis as BlockAnalyser<FileAnalysisResult> | null)?.finish() ?? failNoAnalysis();
+    }
     analyseMs += performance.now() - t;
   } catch (error) {
     return { report: withPathBytes(errorReport(task.relPath, read.sizeBytes, reportErrorOf(error, task, "analysis-failed")), task), audioSeconds: 0, imageError: null, timingsMs };

@@ -89,7 +89,10 @@ async function reusable(record: ResumeRecord | undefined, file: CrawledFile, con
 const isSmall = (file: CrawledFile): boolean => file.sizeBytes <= SMALL_FILE_BYTES;
 
 export async function runScan(options: RunScanOptions): Promise<RunScanResult> {
-  const { files, context, resume, progress, interruption } = options;
+  const { files, resume, progress, interruption } = options;
+  // Two workers' worth of cores per file (one long file on the default workers): each file's spectral
+  // side gets a thread of its own (spectralThreadClient.ts). With more files the pool keeps the cores busy.
+  const context: ScanContext = options.workers >= 2 * files.length ? { ...options.context, spectralThread: true } : options.context;
   const reports: FileReport[] = [];
   let measured = 0;
   let reused = 0;

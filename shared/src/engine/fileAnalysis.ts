@@ -3,15 +3,18 @@
  * fingerprint (duplicate transfers, issue #11); finish() merges
  * their results into the report's FileMetrics (in the contract's field order) and one sorted finding list.
  * With a clock (shared/ has no timer of its own), the time each analyser took is measured per block.
+ *
+ * The pass has two independent sides: the level side (level analyser, close-up capture, loudness curve)
+ * and the spectral side (spectral analyser and fingerprint, spectralSide.ts). createFileAnalysis runs both
+ * in one thread; a shell with a spare core may run the spectral side elsewhere on the same blocks and
+ * merge the two results with mergeFileAnalysis, which gives the same result to the bit.
  */
 import { createLevelAnalyser, type LevelAnalyserHooks } from "../analysis/levelAnalyser.ts";
 import { createCloseupCapture, type CapturedSegment, type CloseupCapture } from "../closeups/closeupCapture.ts";
 import { createLoudnessCurveAccumulator, type LoudnessCurve, type LoudnessCurveAccumulator } from "../closeups/loudnessCurve.ts";
-import { encodeFingerprint } from "../fingerprint/codec.ts";
-import { canFingerprint, createFingerprinter } from "../fingerprint/fingerprinter.ts";
 import { compareFindings } from "../profiles/judge.ts";
-import { createSpectralAnalyser } from "../spectral/spectralAnalyser.ts";
-import type { AudioBlock, BlockAnalyser, SpectrogramGrid, StreamFormat, WaveformEnvelope } from "../types/analysis.ts";
+import { createSpectralSide, type SpectralSideResult } from "./spectralSide.ts";
+import type { AudioBlock, BlockAnalyser, LevelAnalysisResult, SpectrogramGrid, StreamFormat, WaveformEnvelope } from "../types/analysis.ts";
 import type { FileMetrics, Finding, FindingCode, Severity } from "../types/report.ts";
 import type { AnalysisSettings } from "../types/settings.ts";
 
@@ -43,7 +46,19 @@ export interface FileAnalysisOptions {
   closeups?: { rankOf(code: FindingCode, severity: Severity): number } | null;
 }
 
-export function createFileAnalysis(format: StreamFormat, settings: AnalysisSettings, options: FileAnalysisOptions = {}): BlockAnalyser<FileAnalysisResult> {
+/** What the level side of the pass hands to mergeFileAnalysis. */
+export interface LevelSideResult {
+  level: LevelAnalysisResult;
+  closeupSegments: CapturedSegment[] | null;
+  loudnessCurve: LoudnessCurve | null;
+  /** In the clock's unit (0 without a clock). */
+  timings: { level: number; closeups: number };
+}
+
+export type LevelSideOptions = Omit<FileAnalysisOptions, "fingerprint">;
+
+/** The level analyser with the close-up capture and the loudness curve its hooks feed. */
+export function createLevelSide(format: StreamFormat, settings: AnalysisSettings, options: LevelSideOptions = {}): BlockAnalyser<LevelSideResult> {
   let capture: CloseupCapture | null = null;
   let curve: LoudnessCurveAccumulator | null = null;
   const hooks: LevelAnalyserHooks = {};
@@ -78,10 +93,8 @@ export function createFileAnalysis(format: StreamFormat, settings: AnalysisSetti
     };
   }
   const level = createLevelAnalyser(format, settings, hooks);
-  const spectral = createSpectralAnalyser(format, settings);
-  const fingerprinter = options.fingerprint !== false && canFingerprint(format) ? createFingerprinter(format) : null;
   const clock = options.clock;
-  const timings = { level: 0, spectral: 0, fingerprint: 0, closeups: 0 };
+  const timings = { level: 0, closeups: 0 };
   return {
     push(block: AudioBlock): void {
       // Before the level analyser: the candidates it raises are cut from the ring, which must hold this block.
@@ -92,69 +105,76 @@ export function createFileAnalysis(format: StreamFormat, settings: AnalysisSetti
       }
       if (!clock) {
         level.push(block);
-        spectral.push(block);
-        fingerprinter?.push(block);
         return;
       }
       const t0 = clock();
       level.push(block);
-      const t1 = clock();
-      spectral.push(block);
-      const t2 = clock();
-      // Timed apart from the spectral analyser: the benchmark reports where each issue's cost lies.
-      fingerprinter?.push(block);
-      timings.level += t1 - t0;
-      timings.spectral += t2 - t1;
-      timings.fingerprint += clock() - t2;
+      timings.level += clock() - t0;
     },
-    finish(): FileAnalysisResult {
+    finish(): LevelSideResult {
       const t0 = clock?.() ?? 0;
       const l = level.finish();
       const t1 = clock?.() ?? 0;
-      const s = spectral.finish();
-      const t2 = clock?.() ?? 0;
-      const fingerprint = fingerprinter ? encodeFingerprint(fingerprinter.finish()) : null;
-      if (clock) {
-        timings.level += t1 - t0;
-        timings.spectral += t2 - t1;
-        timings.fingerprint += clock() - t2;
-      }
-      const m = l.metrics;
-      const metrics: FileMetrics = {
-        samplePeakDbfs: m.samplePeakDbfs,
-        truePeakDbtp: m.truePeakDbtp,
-        rmsDbfs: m.rmsDbfs,
-        integratedLufs: m.integratedLufs,
-        loudnessRangeLu: m.loudnessRangeLu,
-        maxMomentaryLufs: m.maxMomentaryLufs,
-        maxShortTermLufs: m.maxShortTermLufs,
-        clippedSamples: m.clippedSamples,
-        clipEvents: m.clipEvents,
-        dcOffsetPercent: m.dcOffsetPercent,
-        bandwidthHz: s.metrics.bandwidthHz,
-        dominantFrequencyHz: s.metrics.dominantFrequencyHz,
-        noiseFloorDbfs: m.noiseFloorDbfs,
-        stereoCorrelation: m.stereoCorrelation,
-        effectiveBitDepth: m.effectiveBitDepth,
-        bands: s.metrics.bands,
-        channels: m.channels,
-      };
-      const findings = [...l.findings, ...s.findings].sort(compareFindings);
-      const t3 = capture && clock ? clock() : 0;
       const closeupSegments = capture?.finish() ?? null;
       const loudnessCurve = curve?.finish() ?? null;
-      if (capture && clock) timings.closeups += clock() - t3;
-      return {
-        metrics,
-        findings,
-        spectrogram: s.spectrogram,
-        channelSpectrograms: s.channelSpectrograms,
-        waveform: s.waveform,
-        fingerprint,
-        closeupSegments,
-        loudnessCurve,
-        timings,
-      };
+      if (clock) {
+        timings.level += t1 - t0;
+        if (capture) timings.closeups += clock() - t1;
+      }
+      return { level: l, closeupSegments, loudnessCurve, timings };
     },
+  };
+}
+
+/** Both sides in this thread: every block goes to each, in the order the single pass always used. */
+export function createFileAnalysis(format: StreamFormat, settings: AnalysisSettings, options: FileAnalysisOptions = {}): BlockAnalyser<FileAnalysisResult> {
+  const levelSide = createLevelSide(format, settings, options);
+  const spectralSide = createSpectralSide(format, settings, options);
+  return {
+    push(block: AudioBlock): void {
+      levelSide.push(block);
+      spectralSide.push(block);
+    },
+    finish(): FileAnalysisResult {
+      const l = levelSide.finish();
+      return mergeFileAnalysis(l, spectralSide.finish());
+    },
+  };
+}
+
+/** The report's metrics in the contract's field order and one sorted finding list, from the two sides. */
+export function mergeFileAnalysis(levelSide: LevelSideResult, spectralSide: SpectralSideResult): FileAnalysisResult {
+  const m = levelSide.level.metrics;
+  const s = spectralSide.spectral;
+  const metrics: FileMetrics = {
+    samplePeakDbfs: m.samplePeakDbfs,
+    truePeakDbtp: m.truePeakDbtp,
+    rmsDbfs: m.rmsDbfs,
+    integratedLufs: m.integratedLufs,
+    loudnessRangeLu: m.loudnessRangeLu,
+    maxMomentaryLufs: m.maxMomentaryLufs,
+    maxShortTermLufs: m.maxShortTermLufs,
+    clippedSamples: m.clippedSamples,
+    clipEvents: m.clipEvents,
+    dcOffsetPercent: m.dcOffsetPercent,
+    bandwidthHz: s.metrics.bandwidthHz,
+    dominantFrequencyHz: s.metrics.dominantFrequencyHz,
+    noiseFloorDbfs: m.noiseFloorDbfs,
+    stereoCorrelation: m.stereoCorrelation,
+    effectiveBitDepth: m.effectiveBitDepth,
+    bands: s.metrics.bands,
+    channels: m.channels,
+  };
+  const findings = [...levelSide.level.findings, ...s.findings].sort(compareFindings);
+  return {
+    metrics,
+    findings,
+    spectrogram: s.spectrogram,
+    channelSpectrograms: s.channelSpectrograms,
+    waveform: s.waveform,
+    fingerprint: spectralSide.fingerprint,
+    closeupSegments: levelSide.closeupSegments,
+    loudnessCurve: levelSide.loudnessCurve,
+    timings: { level: levelSide.timings.level, spectral: spectralSide.timings.spectral, fingerprint: spectralSide.timings.fingerprint, closeups: levelSide.timings.closeups },
   };
 }

@@ -1,0 +1,167 @@
+/**
+ * A single-producer, single-consumer ring of decoded blocks in a SharedArrayBuffer, so a second thread
+ * sees every block of the pass without a message per block. The producer (the reading thread) copies a
+ * block into the next free slot and waits only while every slot is full, which bounds memory to the ring
+ * whatever the speed of either side; the consumer (spectralThread.ts) waits for the next slot.
+ *
+ * Both sides wait with Atomics.wait in bounded steps and look at the state word between them, so a side
+ * that fails (the consumer sets `failed`, also when its script cannot load; the producer `aborted`)
+ * releases the other instead of hanging it.
+ */
+import type { AudioBlock } from "@tidemark/shared/types/analysis";
+
+/** Control words: blocks written, blocks read, state. */
+const WRITTEN = 0;
+const READ = 1;
+const STATE = 2;
+export const RING_RUNNING = 0;
+export const RING_ENDED = 1;
+export const RING_ABORTED = 2;
+export const RING_FAILED = 3;
+/** Index of the state word in `control`, for a bootstrap that must mark the ring failed without this module. */
+export const RING_STATE_INDEX = STATE;
+
+/** Slots: enough to ride out the other side's hiccups, few enough to keep memory small (8 × 512 KiB for stereo). */
+export const DEFAULT_RING_SLOTS = 8;
+/** A wait step; between steps each side looks at the state word. */
+const WAIT_STEP_MS = 250;
+/** No progress for this long means the other side is gone (a crash that could not say so). */
+const STALL_LIMIT_MS = 120_000;
+
+export interface BlockRingShape {
+  channels: number;
+  /** Frames a slot holds: the largest block the reader hands out. */
+  slotFrames: number;
+  slots: number;
+}
+
+/** The shared memory of one ring; posted to the consumer thread as workerData (shared, not copied). */
+export interface BlockRingMemory extends BlockRingShape {
+  control: SharedArrayBuffer;
+  meta: SharedArrayBuffer;
+  samples: SharedArrayBuffer;
+}
+
+export function allocateBlockRing(shape: BlockRingShape): BlockRingMemory {
+  const { channels, slotFrames, slots } = shape;
+  for (const [name, v] of Object.entries(shape)) {
+    if (!Number.isInteger(v) || v < 1) throw new RangeError(`block ring: ${name} must be a whole number ≥ 1, got ${v}`);
+  }
+  return {
+    ...shape,
+    control: new SharedArrayBuffer(3 * Int32Array.BYTES_PER_ELEMENT),
+    meta: new SharedArrayBuffer(2 * slots * Float64Array.BYTES_PER_ELEMENT),
+    samples: new SharedArrayBuffer(slots * channels * slotFrames * Float32Array.BYTES_PER_ELEMENT),
+  };
+}
+
+export class BlockRingError extends Error {
+  constructor(message: string) {
+    super(message);
+    this.name = "BlockRingError";
+  }
+}
+
+/**
+ * Waits while control[index] still holds `seen` and the state is `running`. The producer gives up after
+ * a long stall (a consumer that crashed without a word); the consumer waits as long as reading takes.
+ */
+function waitWhile(control: Int32Array, index: number, seen: number, side: string, limitMs = Number.POSITIVE_INFINITY): void {
+  let waited = 0;
+  while (Atomics.load(control, index) === seen) {
+    const state = Atomics.load(control, STATE);
+    if (state === RING_FAILED || state === RING_ABORTED) return;
+    if (index === WRITTEN && state === RING_ENDED) return;
+    if (waited >= limitMs) throw new BlockRingError(`block ring: the ${side} made no progress for ${limitMs / 1000} s`);
+    Atomics.wait(control, index, seen, WAIT_STEP_MS);
+    waited += WAIT_STEP_MS;
+  }
+}
+
+export interface BlockRingWriter {
+  /** Copies the block into the ring (waiting for a free slot); throws if the consumer has failed. */
+  push(block: AudioBlock): void;
+  /** No more blocks: the consumer finishes once it has read the rest. */
+  end(): void;
+  /** Stops the consumer without finishing (the read failed or was cancelled). */
+  abort(): void;
+  /** The consumer said it failed (its message comes through its own channel). */
+  readonly failed: boolean;
+}
+
+export function createBlockRingWriter(memory: BlockRingMemory): BlockRingWriter {
+  const { channels, slotFrames, slots } = memory;
+  const control = new Int32Array(memory.control);
+  const meta = new Float64Array(memory.meta);
+  const samples = new Float32Array(memory.samples);
+  let written = 0;
+  return {
+    push(block) {
+      if (block.channels.length !== channels) throw new BlockRingError(`block ring: expected ${channels} channels, got ${block.channels.length}`);
+      if (block.frames > slotFrames) throw new BlockRingError(`block ring: a slot holds ${slotFrames} frames, the block has ${block.frames}`);
+      for (;;) {
+        const read = Atomics.load(control, READ);
+        if (Atomics.load(control, STATE) === RING_FAILED) throw new BlockRingError("block ring: the consumer thread failed");
+        if (written - read < slots) break;
+        waitWhile(control, READ, read, "consumer thread", STALL_LIMIT_MS);
+      }
+      const slot = written % slots;
+      for (let c = 0; c < channels; c++) samples.set(block.channels[c].subarray(0, block.frames), (slot * channels + c) * slotFrames);
+      meta[2 * slot] = block.frames;
+      meta[2 * slot + 1] = block.startFrame;
+      written += 1;
+      Atomics.store(control, WRITTEN, written);
+      Atomics.notify(control, WRITTEN);
+    },
+    end() {
+      Atomics.compareExchange(control, STATE, RING_RUNNING, RING_ENDED);
+      Atomics.notify(control, WRITTEN);
+    },
+    abort() {
+      Atomics.compareExchange(control, STATE, RING_RUNNING, RING_ABORTED);
+      Atomics.notify(control, WRITTEN);
+    },
+    get failed() {
+      return Atomics.load(control, STATE) === RING_FAILED;
+    },
+  };
+}
+
+/**
+ * Hands every block to `onBlock` in order, as views into the ring (valid only during the call, like a
+ * decoder's reused buffers), until the producer ends the ring; returns false if it aborted instead.
+ * An exception from `onBlock` marks the ring failed, so the producer stops waiting, and is rethrown.
+ */
+export function consumeBlockRing(memory: BlockRingMemory, onBlock: (block: AudioBlock) => void): boolean {
+  const { channels, slotFrames, slots } = memory;
+  const control = new Int32Array(memory.control);
+  const meta = new Float64Array(memory.meta);
+  const samples = new Float32Array(memory.samples);
+  const views: Float32Array[][] = [];
+  for (let s = 0; s < slots; s++) {
+    views.push(Array.from({ length: channels }, (_, c) => samples.subarray((s * channels + c) * slotFrames, (s * channels + c + 1) * slotFrames)));
+  }
+  let read = 0;
+  try {
+    for (;;) {
+      const written = Atomics.load(control, WRITTEN);
+      if (read < written) {
+        const slot = read % slots;
+        onBlock({ channels: views[slot], frames: meta[2 * slot], startFrame: meta[2 * slot + 1] });
+        read += 1;
+        Atomics.store(control, READ, read);
+        Atomics.notify(control, READ);
+        continue;
+      }
+      const state = Atomics.load(control, STATE);
+      if (state === RING_ABORTED) return false;
+      // `ended` is set after the last block was counted: look at the count once more before stopping.
+      if (state === RING_ENDED && Atomics.load(control, WRITTEN) === read) return true;
+      waitWhile(control, WRITTEN, written, "reading thread");
+    }
+  } catch (error) {
+    Atomics.store(control, STATE, RING_FAILED);
+    Atomics.notify(control, READ);
+    throw error;
+  }
+}
