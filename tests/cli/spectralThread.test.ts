@@ -1,0 +1,126 @@
+/**
+ * Issue #22: one file's spectral side on a second thread (cli/src/scan/spectralThreadClient.ts) must give
+ * the one-thread result to the bit: every report field, the fingerprint, and every PNG and JSON artefact
+ * byte for byte. The files carry what each side measures: clipping, a dropout, a near-full-scale sample,
+ * a tone for the spectrum, an odd channel count (the fingerprint pairs channels), float samples with a
+ * NaN, and blocks that end short of the ring's slot. pngjs (npm) checks the PNGs decode.
+ */
+import { mkdtempSync, readdirSync, readFileSync, rmSync, writeFileSync } from "node:fs";
+import { tmpdir } from "node:os";
+import path from "node:path";
+import { PNG } from "pngjs";
+import { afterAll, beforeAll, describe, expect, it } from "vitest";
+import { hardClip, mix, pinkNoise, sine } from "../fixtures/synth.ts";
+import { encodeWav } from "../fixtures/wavWriter.ts";
+import { loadProfile } from "../../cli/src/profiles/loadProfile.ts";
+import { analyseFile, type ScanContext } from "../../cli/src/scan/analyseFile.ts";
+import { allocateBlockRing, consumeBlockRing, createBlockRingWriter } from "../../cli/src/scan/blockRing.ts";
+import type { AudioBlock } from "../../shared/src/types/analysis.ts";
+
+let dir: string;
+let context: ScanContext;
+const RATE = 48000;
+
+beforeAll(async () => {
+  dir = mkdtempSync(path.join(tmpdir(), "tidemark-split-"));
+  const seconds = 12.3; // 590 400 frames: the last 65 536-frame block is short
+  const left = mix(pinkNoise({ sampleRateHz: RATE, seconds, rmsDbfs: -22, seed: 3 }), sine({ frequencyHz: 1000, sampleRateHz: RATE, seconds, peakDbfs: -30 }));
+  const right = pinkNoise({ sampleRateHz: RATE, seconds, rmsDbfs: -22, seed: 4 });
+  for (const x of [left, right]) x.fill(0, 6 * RATE, 6 * RATE + Math.round(0.04 * RATE));
+  left[9 * RATE + 77] = 0.999;
+  const clipped = hardClip(sine({ frequencyHz: 440, sampleRateHz: RATE, seconds, peakDbfs: 3 }));
+  writeFileSync(path.join(dir, "faults.wav"), encodeWav([left, right, clipped], { sampleRateHz: RATE, bitDepth: 24 }));
+  const float = pinkNoise({ sampleRateHz: 44100, seconds: 3, rmsDbfs: -18, seed: 9 });
+  float[1000] = Number.NaN;
+  writeFileSync(path.join(dir, "float.wav"), encodeWav([float, float], { sampleRateHz: 44100, bitDepth: 32, encoding: "float" }));
+  const loaded = await loadProfile("preservation-master", dir);
+  context = { profile: loaded.profile, settings: { ...loaded.settings, spectrogram: { ...loaded.settings.spectrogram, width: 400, height: 200 } }, spectrograms: { dirAbs: path.join(dir, "png"), dirShown: "png" }, fingerprint: true, closeups: true };
+});
+
+afterAll(() => rmSync(dir, { recursive: true, force: true }));
+
+/** The report and every artefact written beside it, read back before the next run overwrites them. */
+async function scanOnce(name: string, spectralThread: boolean) {
+  rmSync(path.join(dir, "png"), { recursive: true, force: true });
+  const result = await analyseFile({ absPath: path.join(dir, name), relPath: name, sizeBytes: 0 }, { ...context, spectralThread });
+  const artefacts = new Map<string, Buffer>();
+  for (const f of readdirSync(path.join(dir, "png"), { recursive: true, withFileTypes: true })) {
+    if (f.isFile()) artefacts.set(path.relative(dir, path.join(f.parentPath, f.name)), readFileSync(path.join(f.parentPath, f.name)));
+  }
+  return { report: result.report, artefacts, timings: result.timingsMs };
+}
+
+describe("the spectral side on a second thread", () => {
+  it.each(["faults.wav", "float.wav"])("gives %s the one-thread report and artefacts to the bit", async (name) => {
+    const one = await scanOnce(name, false);
+    const two = await scanOnce(name, true);
+    expect(one.report.error).toBeNull();
+    expect(two.report).toEqual(one.report);
+    // toEqual treats -0 and 0 alike and NaN as NaN; the JSON text is what the report file holds.
+    expect(JSON.stringify(two.report)).toBe(JSON.stringify(one.report));
+    expect([...two.artefacts.keys()].sort()).toEqual([...one.artefacts.keys()].sort());
+    for (const [file, bytes] of one.artefacts) expect(two.artefacts.get(file)?.equals(bytes), file).toBe(true);
+    const spectrogram = [...two.artefacts.keys()].find((f) => f.endsWith(`${name}.png`))!;
+    expect(PNG.sync.read(two.artefacts.get(spectrogram)!).width).toBe(400);
+    // The other thread's own timings come back with its result.
+    expect(two.timings.spectral).toBeGreaterThan(0);
+    expect(two.timings.fingerprint).toBeGreaterThan(0);
+  }, 60_000);
+
+  it("finds the faults it was given (so the comparison above compares something)", async () => {
+    const { report } = await scanOnce("faults.wav", true);
+    const codes = new Set(report.findings.map((f) => f.code));
+    expect(codes.has("clipping")).toBe(true);
+    expect(codes.has("dropout")).toBe(true);
+    expect(report.fingerprint).toMatch(/\S{40,}/);
+    expect(Math.abs(report.metrics!.dominantFrequencyHz! - 440)).toBeLessThan(30);
+    expect(report.closeups?.length ?? 0).toBeGreaterThan(0);
+  }, 60_000);
+});
+
+describe("block ring", () => {
+  const block = (startFrame: number, frames: number, value: number): AudioBlock => ({ channels: [new Float32Array(frames).fill(value), new Float32Array(frames).fill(-value)], frames, startFrame });
+
+  it("hands the blocks over in order, then ends", () => {
+    const ring = allocateBlockRing({ channels: 2, slotFrames: 16, slots: 4 });
+    const writer = createBlockRingWriter(ring);
+    for (let i = 0; i < 3; i++) writer.push(block(i * 16, i === 2 ? 5 : 16, i + 1));
+    writer.end();
+    const seen: [number, number, number, number][] = [];
+    expect(consumeBlockRing(ring, (b) => seen.push([b.startFrame, b.frames, b.channels[0][b.frames - 1], b.channels[1][0]]))).toBe(true);
+    expect(seen).toEqual([
+      [0, 16, 1, -1],
+      [16, 16, 2, -2],
+      [32, 5, 3, -3],
+    ]);
+  });
+
+  it("refuses a block larger than a slot, and a block with the wrong channel count", () => {
+    const writer = createBlockRingWriter(allocateBlockRing({ channels: 2, slotFrames: 16, slots: 2 }));
+    expect(() => writer.push(block(0, 17, 1))).toThrow(/holds 16 frames, the block has 17/);
+    expect(() => writer.push({ channels: [new Float32Array(4)], frames: 4, startFrame: 0 })).toThrow(/expected 2 channels, got 1/);
+  });
+
+  it("releases the writer when the consumer fails, and the consumer when the writer aborts", () => {
+    const ring = allocateBlockRing({ channels: 2, slotFrames: 16, slots: 2 });
+    const writer = createBlockRingWriter(ring);
+    writer.push(block(0, 16, 1));
+    writer.push(block(16, 16, 1));
+    expect(() =>
+      consumeBlockRing(ring, () => {
+        throw new Error("analyser broke");
+      }),
+    ).toThrow("analyser broke");
+    expect(writer.failed).toBe(true);
+    // The ring is full and its reader gone: a push must fail at once instead of waiting.
+    expect(() => writer.push(block(32, 16, 1))).toThrow(/consumer thread failed/);
+
+    const other = allocateBlockRing({ channels: 2, slotFrames: 16, slots: 2 });
+    const w = createBlockRingWriter(other);
+    w.push(block(0, 16, 1));
+    w.abort();
+    let blocks = 0;
+    expect(consumeBlockRing(other, () => blocks++)).toBe(false);
+    expect(blocks).toBe(1);
+  });
+});
