@@ -59,6 +59,20 @@ describe("encodePng", () => {
     }
   });
 
+  it("writes the very bytes pngjs writes with the same options (RGB, Paeth rows, Z_RLE), translucent pixels included", () => {
+    // pngjs (npm) is the reference encoder the CLI used before issue #22: same conversion, filter and zlib call.
+    const rnd = seededRandom(22);
+    for (const [w, h] of [[1, 1], [2, 3], [37, 23], [300, 41]]) {
+      const data = new Uint8Array(w * h * 4);
+      for (let i = 0; i < data.length; i++) data[i] = Math.floor(rnd() * 256);
+      // Mostly opaque, as our images are, with some translucent and fully transparent pixels.
+      for (let p = 0; p < w * h; p++) if (rnd() < 0.7) data[4 * p + 3] = 255;
+      const source = { width: w, height: h, data: Buffer.from(data) } as unknown as PNG;
+      const reference = PNG.sync.write(source, { colorType: 2, inputColorType: 6, inputHasAlpha: true, filterType: 4 });
+      expect(Buffer.compare(encodePng({ width: w, height: h, data }), reference), `${w}×${h}`).toBe(0);
+    }
+  });
+
   it("rejects data that does not match the size", () => {
     expect(() => encodePng({ width: 10, height: 10, data: new Uint8Array(399) })).toThrow(/must hold 400 bytes, got 399/);
     expect(() => encodePng({ width: 0, height: 10, data: new Uint8Array(0) })).toThrow(/positive whole pixels, got 0×10/);
