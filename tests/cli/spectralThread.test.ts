@@ -78,6 +78,21 @@ describe("the spectral side on a second thread", () => {
   }, 60_000);
 });
 
+describe("a spectral side that fails", () => {
+  it("reports the same analysis error as one thread, without waiting on the ring", async () => {
+    // An FFT size that is not a power of two: only the spectral side refuses it, once the file is open.
+    const broken = { ...context, settings: { ...context.settings, fftSize: 1000 } };
+    const task = { absPath: path.join(dir, "faults.wav"), relPath: "faults.wav", sizeBytes: 0 };
+    const one = await analyseFile(task, { ...broken, spectralThread: false });
+    const started = performance.now();
+    const two = await analyseFile(task, { ...broken, spectralThread: true });
+    expect(one.report.error).toEqual({ code: "analysis-failed", message: expect.stringContaining("fftSize must be a power of two > 1, got 1000") });
+    expect(two.report).toEqual(one.report);
+    // The reading thread learns of the failure from the ring at once, not after its stall limit (120 s).
+    expect(performance.now() - started).toBeLessThan(30_000);
+  }, 60_000);
+});
+
 describe("block ring", () => {
   const block = (startFrame: number, frames: number, value: number): AudioBlock => ({ channels: [new Float32Array(frames).fill(value), new Float32Array(frames).fill(-value)], frames, startFrame });
 

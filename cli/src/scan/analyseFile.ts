@@ -11,7 +11,7 @@ import { judge } from "@tidemark/shared/profiles/judge";
 import type { Profile } from "@tidemark/shared/profiles/profileSchema";
 import { renderSpectrogramImage } from "@tidemark/shared/render/spectrogramImage";
 import { renderWaveformImage } from "@tidemark/shared/render/waveformImage";
-import type { BlockAnalyser, RgbaImage } from "@tidemark/shared/types/analysis";
+import type { BlockAnalyser, RgbaImage, StreamFormat } from "@tidemark/shared/types/analysis";
 import type { AudioFormat, FileReport, Finding, FindingCode, ReportError, Severity } from "@tidemark/shared/types/report";
 import type { AnalysisSettings } from "@tidemark/shared/types/settings";
 import { readerFindings } from "@tidemark/shared/wav/readerFindings";
@@ -21,6 +21,7 @@ import { oneLine } from "../errors.ts";
 import { errorReport } from "./errorReport.ts";
 import { displayPath, type FsPath } from "./rawPath.ts";
 import { channelSpectrogramPath, spectrogramPaths, type SpectrogramTarget } from "./spectrogramPaths.ts";
+import { BlockRingError } from "./blockRing.ts";
 import { startSpectralThread, type SpectralThread } from "./spectralThreadClient.ts";
 import { writeCloseups, type CloseupFields } from "./writeCloseups.ts";
 
@@ -148,6 +149,9 @@ export async function analyseFile(
   let analysis: BlockAnalyser<FileAnalysisResult> | null = null;
   let split: { level: BlockAnalyser<LevelSideResult>; spectral: SpectralThread } | null = null;
   let analyseMs = 0;
+  // The audio stream opened: whatever fails after this is the analysis, not the file (an analyser that
+  // refuses its settings fails alike with the spectral side in this thread or another).
+  let opened = false;
   let read: AudioFileResult;
   try {
     read = await readAudioFile(task.absPath, {
@@ -155,14 +159,16 @@ export async function analyseFile(
       onRead,
       digests: extraDigestsFor(task.expectedChecksums),
       onOpen: (info) => {
+        opened = true;
         const options = {
           clock: () => performance.now(),
           fingerprint: ctx.fingerprint,
           // Close-ups are drawn beside the PNGs, so without them there is nothing to keep samples for.
           closeups: ctx.closeups && ctx.spectrograms ? { rankOf: rankerFor(ctx.profile) } : null,
         };
-        if (ctx.spectralThread) {
-          const spectral = startSpectralThread(info.stream, ctx.settings, { fingerprint: ctx.fingerprint, slotFrames: DEFAULT_BLOCK_FRAMES });
+        // A thread that cannot start (the system's limit) leaves the file to this one: same results.
+        const spectral = ctx.spectralThread ? startSpectralThreadOrNull(info.stream, ctx.settings, ctx.fingerprint) : null;
+        if (spectral) {
           const level = createLevelSide(info.stream, ctx.settings, options);
           split = { level, spectral };
           return (block) => {
@@ -182,10 +188,16 @@ export async function analyseFile(
         };
       },
     });
-  } catch (error) {
-    (split as { spectral: SpectralThread } | null)?.spectral.abort();
+  } catch (caught) {
+    let error = caught;
+    const pair = split as { spectral: SpectralThread } | null;
+    if (pair && caught instanceof BlockRingError) {
+      // The other thread failed: its own error says what went wrong, as it would have in one thread.
+      error = await pair.spectral.failure(5000);
+    }
+    pair?.spectral.abort();
     if (signal?.aborted) throw error;
-    const code = analysis || split ? "analysis-failed" : "unreadable";
+    const code = opened ? "analysis-failed" : "unreadable";
     return { report: withPathBytes(errorReport(task.relPath, task.sizeBytes, reportErrorOf(error, task, code)), task), audioSeconds: 0, imageError: null, timingsMs };
   }
   timingsMs.read = read.timings.readMs;
@@ -261,6 +273,14 @@ export async function analyseFile(
     imageError,
     timingsMs,
   };
+}
+
+function startSpectralThreadOrNull(format: StreamFormat, settings: AnalysisSettings, fingerprint: boolean): SpectralThread | null {
+  try {
+    return startSpectralThread(format, settings, { fingerprint, slotFrames: DEFAULT_BLOCK_FRAMES });
+  } catch {
+    return null;
+  }
 }
 
 /** The digests to compute beside SHA-256 (which the reader always computes). */

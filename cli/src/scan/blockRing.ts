@@ -21,8 +21,17 @@ export const RING_FAILED = 3;
 /** Index of the state word in `control`, for a bootstrap that must mark the ring failed without this module. */
 export const RING_STATE_INDEX = STATE;
 
-/** Slots: enough to ride out the other side's hiccups, few enough to keep memory small (8 × 512 KiB for stereo). */
-export const DEFAULT_RING_SLOTS = 8;
+/** Slots: enough to ride out the other side's hiccups (8 × 512 KiB for stereo), fewer for wide files. */
+const MAX_RING_SLOTS = 8;
+const MIN_RING_SLOTS = 2;
+/** Samples the ring aims to stay under; two slots are the least it works with, whatever the width. */
+const RING_BUDGET_BYTES = 8 << 20;
+
+/** Slots for blocks of this shape: up to 8 within the budget, never fewer than 2. */
+export function ringSlotsFor(channels: number, slotFrames: number): number {
+  const slotBytes = channels * slotFrames * Float32Array.BYTES_PER_ELEMENT;
+  return Math.max(MIN_RING_SLOTS, Math.min(MAX_RING_SLOTS, Math.floor(RING_BUDGET_BYTES / slotBytes)));
+}
 /** A wait step; between steps each side looks at the state word. */
 const WAIT_STEP_MS = 250;
 /** No progress for this long means the other side is gone (a crash that could not say so). */
@@ -125,6 +134,13 @@ export function createBlockRingWriter(memory: BlockRingMemory): BlockRingWriter 
       return Atomics.load(control, STATE) === RING_FAILED;
     },
   };
+}
+
+/** Marks the ring failed from the consumer's side (it could not even start), releasing a waiting producer. */
+export function failBlockRing(memory: BlockRingMemory): void {
+  const control = new Int32Array(memory.control);
+  Atomics.store(control, STATE, RING_FAILED);
+  Atomics.notify(control, READ);
 }
 
 /**

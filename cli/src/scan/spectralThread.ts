@@ -8,7 +8,7 @@ import { createSpectralSide, type SpectralSideResult } from "@tidemark/shared/en
 import type { StreamFormat } from "@tidemark/shared/types/analysis";
 import type { AnalysisSettings } from "@tidemark/shared/types/settings";
 import { oneLine } from "../errors.ts";
-import { consumeBlockRing, type BlockRingMemory } from "./blockRing.ts";
+import { consumeBlockRing, failBlockRing, type BlockRingMemory } from "./blockRing.ts";
 
 export interface SpectralThreadData {
   ring: BlockRingMemory;
@@ -26,6 +26,8 @@ try {
   const complete = consumeBlockRing(data.ring, (block) => side.push(block));
   reply = complete ? { ok: true, result: side.finish() } : { ok: false, aborted: true };
 } catch (error) {
-  reply = { ok: false, message: oneLine(error) };
+  // Also when the side could not be set up: the reading thread must stop waiting for this one.
+  failBlockRing(data.ring);
+  reply = { ok: false, message: error instanceof Error ? error.message : oneLine(error) };
 }
 parentPort?.postMessage(reply);

@@ -10,7 +10,7 @@ import { Worker } from "node:worker_threads";
 import type { SpectralSideResult } from "@tidemark/shared/engine/spectralSide";
 import type { AudioBlock, StreamFormat } from "@tidemark/shared/types/analysis";
 import type { AnalysisSettings } from "@tidemark/shared/types/settings";
-import { allocateBlockRing, createBlockRingWriter, DEFAULT_RING_SLOTS, RING_FAILED, RING_STATE_INDEX } from "./blockRing.ts";
+import { allocateBlockRing, createBlockRingWriter, RING_FAILED, RING_STATE_INDEX, ringSlotsFor } from "./blockRing.ts";
 import type { SpectralThreadData, SpectralThreadReply } from "./spectralThread.ts";
 
 /** Running from the prebuilt bundle in cli/dist rather than the TypeScript sources (as in runScan.ts). */
@@ -24,6 +24,8 @@ export interface SpectralThread {
   push(block: AudioBlock): void;
   /** After the last block: tells the thread so at once and resolves to the spectral side's result. */
   finish(): Promise<SpectralSideResult>;
+  /** After the ring reported the thread failed: its error (or one saying it stopped answering within waitMs). */
+  failure(waitMs: number): Promise<Error>;
   /** The pass stopped: release and stop the thread. */
   abort(): void;
 }
@@ -46,14 +48,15 @@ function bootstrapCode(script: URL): string {
 }
 
 export function startSpectralThread(format: StreamFormat, settings: AnalysisSettings, o: { fingerprint: boolean; slotFrames: number }): SpectralThread {
-  const ring = allocateBlockRing({ channels: format.channels, slotFrames: o.slotFrames, slots: DEFAULT_RING_SLOTS });
+  const ring = allocateBlockRing({ channels: format.channels, slotFrames: o.slotFrames, slots: ringSlotsFor(format.channels, o.slotFrames) });
   const writer = createBlockRingWriter(ring);
   const data: SpectralThreadData = { ring, format, settings, fingerprint: o.fingerprint };
   const worker = new Worker(bootstrapCode(SCRIPT), { eval: true, workerData: data, resourceLimits: { maxOldGenerationSizeMb: HEAP_LIMIT_MB } });
   const result = new Promise<SpectralSideResult>((resolve, reject) => {
     worker.once("message", (reply: SpectralThreadReply) => {
       if (reply.ok) resolve(reply.result);
-      else reject(new Error("aborted" in reply ? "spectral thread: the pass was stopped" : `spectral thread: ${reply.message}`));
+      // The analyser's own message, as the one-thread pass would report it.
+      else reject(new Error("aborted" in reply ? "spectral thread: the pass was stopped" : reply.message));
     });
     worker.once("error", (error) => reject(new Error(`spectral thread failed: ${error instanceof Error ? error.message : String(error)}`)));
     worker.once("exit", (code) => reject(new Error(`spectral thread exited with code ${code} before its result`)));
@@ -68,6 +71,10 @@ export function startSpectralThread(format: StreamFormat, settings: AnalysisSett
       // Ended at once, not at the first await: the other thread starts finishing while the caller does.
       writer.end();
       return result.finally(() => void worker.terminate());
+    },
+    failure(waitMs) {
+      const timer = new Promise<Error>((resolve) => setTimeout(() => resolve(new Error("spectral thread: stopped answering")), waitMs).unref());
+      return Promise.race([result.then(() => new Error("spectral thread: finished after the pass had failed"), (reason: unknown) => (reason instanceof Error ? reason : new Error(String(reason)))), timer]);
     },
     abort() {
       writer.abort();
