@@ -616,6 +616,8 @@ function singleRows(lines: string[], single: Summary): void {
     `| stages (ms): decode / hash / level+loudness+true peak / spectral (FFT) / fingerprint (#11) / paint / PNG | ${["decode", "hash", "level", "spectral", "fingerprint", "paint", "png"].map((k) => fmt(st[k] ?? NaN, 0)).join(" / ")} |`,
   );
   lines.push(`| start-up and the rest (wall − file stages) | ${fmt(single.wallSeconds * 1000 - (st.read + st.decode + st.hash + st.analyse + st.render), 0)} ms |`);
+  // #22: with two threads on the file, the busier thread's own CPU time is what a quiet machine's wall follows.
+  lines.push(`| threads on the file (ms on a core): reading + level side + images / spectral side; reading thread's wait for a core | ${fmt(st.threadCpu ?? NaN, 0)} / ${fmt(st.spectralThreadCpu ?? NaN, 0)}; ${fmt(st.runQueue ?? NaN, 0)} |`);
 }
 
 function otherRows(lines: string[], r: Record<string, unknown>): void {

@@ -62,9 +62,27 @@ describe("the spectral side on a second thread", () => {
     for (const [file, bytes] of one.artefacts) expect(two.artefacts.get(file)?.equals(bytes), file).toBe(true);
     const spectrogram = [...two.artefacts.keys()].find((f) => f.endsWith(`${name}.png`))!;
     expect(PNG.sync.read(two.artefacts.get(spectrogram)!).width).toBe(400);
-    // The other thread's own timings come back with its result.
+    // The other thread's own timings come back with its result, and it drew the spectrogram.
     expect(two.timings.spectral).toBeGreaterThan(0);
     expect(two.timings.fingerprint).toBeGreaterThan(0);
+    expect(two.timings.spectrogramsDrawnElsewhere).toBe(1);
+    expect(one.timings.spectrogramsDrawnElsewhere).toBe(0);
+  }, 60_000);
+
+  it("draws per-channel spectrograms on the other thread too, byte for byte", async () => {
+    const perChannel = { ...context.settings, spectrogram: { ...context.settings.spectrogram, perChannel: true } };
+    const saved = context;
+    context = { ...context, settings: perChannel };
+    try {
+      const one = await scanOnce("faults.wav", false);
+      const two = await scanOnce("faults.wav", true);
+      expect(JSON.stringify(two.report)).toBe(JSON.stringify(one.report));
+      expect([...one.artefacts.keys()].filter((f) => /\.ch\d\.png$/.test(f))).toHaveLength(3);
+      for (const [file, bytes] of one.artefacts) expect(two.artefacts.get(file)?.equals(bytes), file).toBe(true);
+      expect(two.timings.spectrogramsDrawnElsewhere).toBe(4);
+    } finally {
+      context = saved;
+    }
   }, 60_000);
 
   it("finds the faults it was given (so the comparison above compares something)", async () => {

@@ -22,6 +22,7 @@ import { errorReport } from "./errorReport.ts";
 import { displayPath, type FsPath } from "./rawPath.ts";
 import { channelSpectrogramPath, spectrogramPaths, type SpectrogramTarget } from "./spectrogramPaths.ts";
 import { BlockRingError } from "./blockRing.ts";
+import { readThreadClock } from "./threadClock.ts";
 import { startSpectralThread, type SpectralThread } from "./spectralThreadClient.ts";
 import { writeCloseups, type CloseupFields } from "./writeCloseups.ts";
 
@@ -79,6 +80,13 @@ export interface AnalyseTimings {
   render: number;
   paint: number;
   png: number;
+  /** Time on a core of the thread that measured the file, and of its spectral thread (0 without one), from opening to the images. */
+  threadCpu: number;
+  spectralThreadCpu: number;
+  /** Time the measuring thread waited for a core meanwhile (others' load); NaN where the system does not say. */
+  runQueue: number;
+  /** Spectrogram PNGs the spectral thread drew (a count, not a time). */
+  spectrogramsDrawnElsewhere: number;
 }
 
 /** Height of the overview waveform strip, px (its width follows the spectrogram's). */
@@ -101,6 +109,7 @@ async function writeImages(
   task: AnalyseTask,
   ctx: ScanContext,
   timings: AnalyseTimings,
+  spectralThread: SpectralThread | null,
 ): Promise<{ spectrogram: string; closeups: CloseupFields | null }> {
   const settings = ctx.settings;
   const paths = spectrogramPaths(target, task.relPath);
@@ -118,7 +127,12 @@ async function writeImages(
     return bytes;
   };
   await mkdir(path.dirname(paths.png), { recursive: true });
-  await writeFile(paths.png, png(() => renderSpectrogramImage(analysed.spectrogram, { width, height, markers, title: task.relPath })));
+  const channelTitle = (c: number): string => `${task.relPath} (channel ${c + 1})`;
+  const channelPath = (c: number): string => paths.png.replace(/\.png$/, `.ch${c + 1}.png`);
+  const channels = analysed.channelSpectrograms?.length ?? 0;
+  // With a spectral thread, it draws the spectrograms (its own grids) while this thread draws the rest.
+  const images = [{ channel: null, title: task.relPath }, ...Array.from({ length: channels }, (_, c) => ({ channel: c, title: channelTitle(c) }))];
+  const elsewhere = spectralThread?.renderSpectrograms({ images, width, height, markers }).catch(() => null) ?? Promise.resolve(null);
   await writeFile(paths.waveform, png(() => renderWaveformImage(analysed.waveform, { width, height: WAVEFORM_HEIGHT_PX, markers })));
   if (analysed.channelSpectrograms) {
     for (const [c, grid] of analysed.channelSpectrograms.entries()) {
@@ -129,6 +143,20 @@ async function writeImages(
   const closeups = ctx.closeups
     ? await writeCloseups({ analysed, findings, format, target, relPath: task.relPath, settings, waveformHeightPx: WAVEFORM_HEIGHT_PX, png })
     : null;
+  const drawn = await elsewhere;
+  if (drawn) {
+    timings.paint += drawn.paintMs;
+    timings.png += drawn.pngMs;
+    timings.spectralThreadCpu = drawn.threadCpuMs;
+    timings.spectrogramsDrawnElsewhere = drawn.pngs.length;
+    await writeFile(paths.png, drawn.pngs[0]);
+    for (let c = 0; c < channels; c++) await writeFile(channelPath(c), drawn.pngs[c + 1]);
+  } else {
+    await writeFile(paths.png, png(() => renderSpectrogramImage(analysed.spectrogram, { width, height, markers, title: task.relPath })));
+    for (const [c, grid] of (analysed.channelSpectrograms ?? []).entries()) {
+      await writeFile(channelPath(c), png(() => renderSpectrogramImage(grid, { width, height, markers, title: channelTitle(c) })));
+    }
+  }
   return { spectrogram: paths.shown, closeups };
 }
 
@@ -145,7 +173,8 @@ export async function analyseFile(
   signal?: AbortSignal,
   onRead?: (bytesRead: number) => void,
 ): Promise<AnalysedFile> {
-  const timingsMs: AnalyseTimings = { read: 0, decode: 0, hash: 0, analyse: 0, level: 0, spectral: 0, fingerprint: 0, closeups: 0, render: 0, paint: 0, png: 0 };
+  const timingsMs: AnalyseTimings = { read: 0, decode: 0, hash: 0, analyse: 0, level: 0, spectral: 0, fingerprint: 0, closeups: 0, render: 0, paint: 0, png: 0, threadCpu: 0, spectralThreadCpu: 0, runQueue: 0, spectrogramsDrawnElsewhere: 0 };
+  const clockAtStart = readThreadClock();
   let analysis: BlockAnalyser<FileAnalysisResult> | null = null;
   let split: { level: BlockAnalyser<LevelSideResult>; spectral: SpectralThread } | null = null;
   let analyseMs = 0;
@@ -204,10 +233,10 @@ export async function analyseFile(
   timingsMs.decode = read.timings.decodeMs;
   timingsMs.hash = read.timings.hashMs;
 
+  const two = split as { level: BlockAnalyser<LevelSideResult>; spectral: SpectralThread } | null;
   let analysed: FileAnalysisResult;
   try {
     const t = performance.now();
-    const two = split as { level: BlockAnalyser<LevelSideResult>; spectral: SpectralThread } | null;
     if (two) {
       // The other thread finishes the spectral side while this one finishes the level side.
       const spectralSide = two.spectral.finish();
@@ -219,12 +248,15 @@ export async function analyseFile(
         two.spectral.abort();
         throw error;
       }
-      analysed = mergeFileAnalysis(levelSide, await spectralSide);
+      const other = await spectralSide;
+      timingsMs.spectralThreadCpu = other.threadCpuMs;
+      analysed = mergeFileAnalysis(levelSide, other.result);
     } else {
       analysed = (analysis as BlockAnalyser<FileAnalysisResult> | null)?.finish() ?? failNoAnalysis();
     }
     analyseMs += performance.now() - t;
   } catch (error) {
+    two?.spectral.close();
     return { report: withPathBytes(errorReport(task.relPath, read.sizeBytes, reportErrorOf(error, task, "analysis-failed")), task), audioSeconds: 0, imageError: null, timingsMs };
   }
   timingsMs.analyse = analyseMs;
@@ -244,12 +276,16 @@ export async function analyseFile(
   if (ctx.spectrograms) {
     const t = performance.now();
     try {
-      ({ spectrogram, closeups } = await writeImages(analysed, judged.findings, format, ctx.spectrograms, task, ctx, timingsMs));
+      ({ spectrogram, closeups } = await writeImages(analysed, judged.findings, format, ctx.spectrograms, task, ctx, timingsMs, two?.spectral ?? null));
     } catch (error) {
       imageError = `${task.relPath}: spectrogram not written (${oneLine(error)})`;
     }
     timingsMs.render = performance.now() - t;
   }
+  two?.spectral.close();
+  const clockAtEnd = readThreadClock();
+  timingsMs.threadCpu = clockAtEnd.cpuMs - clockAtStart.cpuMs;
+  timingsMs.runQueue = clockAtEnd.runQueueMs - clockAtStart.runQueueMs;
 
   return {
     report: {

@@ -11,7 +11,7 @@ import type { SpectralSideResult } from "@tidemark/shared/engine/spectralSide";
 import type { AudioBlock, StreamFormat } from "@tidemark/shared/types/analysis";
 import type { AnalysisSettings } from "@tidemark/shared/types/settings";
 import { allocateBlockRing, createBlockRingWriter, RING_FAILED, RING_STATE_INDEX, ringSlotsFor } from "./blockRing.ts";
-import type { SpectralThreadData, SpectralThreadReply } from "./spectralThread.ts";
+import type { SpectralThreadData, SpectralThreadReply, SpectrogramRenderReply, SpectrogramRenderRequest } from "./spectralThread.ts";
 
 /** Running from the prebuilt bundle in cli/dist rather than the TypeScript sources (as in runScan.ts). */
 const IS_BUNDLED = !import.meta.url.endsWith(".ts");
@@ -22,8 +22,15 @@ const HEAP_LIMIT_MB = 1024;
 export interface SpectralThread {
   /** Copies the block for the other thread (waiting while the ring is full). */
   push(block: AudioBlock): void;
-  /** After the last block: tells the thread so at once and resolves to the spectral side's result. */
-  finish(): Promise<SpectralSideResult>;
+  /** After the last block: tells the thread so at once and resolves to the spectral side's result (and the thread's time on a core). */
+  finish(): Promise<{ result: SpectralSideResult; threadCpuMs: number }>;
+  /**
+   * After finish(): paints and encodes the spectrogram PNGs on that thread; at most once. Rejects if the
+   * thread cannot (the caller then draws them itself).
+   */
+  renderSpectrograms(request: SpectrogramRenderRequest): Promise<SpectrogramRenderReply & { ok: true }>;
+  /** Stops the thread (after finish() and any rendering; abort() stops it too). */
+  close(): void;
   /** After the ring reported the thread failed: its error (or one saying it stopped answering within waitMs). */
   failure(waitMs: number): Promise<Error>;
   /** The pass stopped: release and stop the thread. */
@@ -52,9 +59,9 @@ export function startSpectralThread(format: StreamFormat, settings: AnalysisSett
   const writer = createBlockRingWriter(ring);
   const data: SpectralThreadData = { ring, format, settings, fingerprint: o.fingerprint };
   const worker = new Worker(bootstrapCode(SCRIPT), { eval: true, workerData: data, resourceLimits: { maxOldGenerationSizeMb: HEAP_LIMIT_MB } });
-  const result = new Promise<SpectralSideResult>((resolve, reject) => {
+  const result = new Promise<{ result: SpectralSideResult; threadCpuMs: number }>((resolve, reject) => {
     worker.once("message", (reply: SpectralThreadReply) => {
-      if (reply.ok) resolve(reply.result);
+      if (reply.ok) resolve({ result: reply.result, threadCpuMs: reply.threadCpuMs });
       // The analyser's own message, as the one-thread pass would report it.
       else reject(new Error("aborted" in reply ? "spectral thread: the pass was stopped" : reply.message));
     });
@@ -70,7 +77,23 @@ export function startSpectralThread(format: StreamFormat, settings: AnalysisSett
     finish() {
       // Ended at once, not at the first await: the other thread starts finishing while the caller does.
       writer.end();
-      return result.finally(() => void worker.terminate());
+      // Kept for the images, but never holding the process open if the caller forgets close().
+      return result.finally(() => worker.unref());
+    },
+    renderSpectrograms(request) {
+      return new Promise((resolve, reject) => {
+        const onExit = (): void => reject(new Error("spectral thread exited before its images"));
+        worker.once("exit", onExit);
+        worker.once("message", (reply: SpectrogramRenderReply) => {
+          worker.off("exit", onExit);
+          if (reply.ok) resolve(reply);
+          else reject(new Error(`spectral thread: ${reply.message}`));
+        });
+        worker.postMessage(request);
+      });
+    },
+    close() {
+      void worker.terminate();
     },
     failure(waitMs) {
       const timer = new Promise<Error>((resolve) => setTimeout(() => resolve(new Error("spectral thread: stopped answering")), waitMs).unref());
