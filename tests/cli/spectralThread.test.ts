@@ -69,6 +69,15 @@ describe("the spectral side on a second thread", () => {
     expect(one.timings.spectrogramsDrawnElsewhere).toBe(0);
   }, 60_000);
 
+  it("gives the same report without images (the thread is stopped without being asked to draw)", async () => {
+    const task = { absPath: path.join(dir, "faults.wav"), relPath: "faults.wav", sizeBytes: 0 };
+    const one = await analyseFile(task, { ...context, spectrograms: null, spectralThread: false });
+    const two = await analyseFile(task, { ...context, spectrograms: null, spectralThread: true });
+    expect(two.report.spectrogram).toBeNull();
+    expect(JSON.stringify(two.report)).toBe(JSON.stringify(one.report));
+    expect(two.timingsMs.spectrogramsDrawnElsewhere).toBe(0);
+  }, 60_000);
+
   it("draws per-channel spectrograms on the other thread too, byte for byte", async () => {
     const perChannel = { ...context.settings, spectrogram: { ...context.settings.spectrogram, perChannel: true } };
     const saved = context;

@@ -196,7 +196,7 @@ export async function analyseFile(
           closeups: ctx.closeups && ctx.spectrograms ? { rankOf: rankerFor(ctx.profile) } : null,
         };
         // A thread that cannot start (the system's limit) leaves the file to this one: same results.
-        const spectral = ctx.spectralThread ? startSpectralThreadOrNull(info.stream, ctx.settings, ctx.fingerprint) : null;
+        const spectral = ctx.spectralThread ? startSpectralThreadOrNull(info.stream, ctx.settings, ctx.fingerprint, ctx.spectrograms !== null) : null;
         if (spectral) {
           const level = createLevelSide(info.stream, ctx.settings, options);
           split = { level, spectral };
@@ -311,9 +311,9 @@ export async function analyseFile(
   };
 }
 
-function startSpectralThreadOrNull(format: StreamFormat, settings: AnalysisSettings, fingerprint: boolean): SpectralThread | null {
+function startSpectralThreadOrNull(format: StreamFormat, settings: AnalysisSettings, fingerprint: boolean, images: boolean): SpectralThread | null {
   try {
-    return startSpectralThread(format, settings, { fingerprint, slotFrames: DEFAULT_BLOCK_FRAMES });
+    return startSpectralThread(format, settings, { fingerprint, slotFrames: DEFAULT_BLOCK_FRAMES, images });
   } catch {
     return null;
   }

@@ -21,6 +21,8 @@ export interface SpectralThreadData {
   format: StreamFormat;
   settings: AnalysisSettings;
   fingerprint: boolean;
+  /** The spectrograms will be asked for: the typesetter is loaded while the reading thread finishes its side. */
+  images: boolean;
 }
 
 export type SpectralThreadReply = { ok: true; result: SpectralSideResult; threadCpuMs: number } | { ok: false; message: string } | { ok: false; aborted: true };
@@ -50,6 +52,8 @@ parentPort?.postMessage(reply);
 
 if (reply.ok) {
   const { spectrogram, channelSpectrograms } = reply.result.spectral;
+  const typesetter = data.images ? import("../render/fontTypesetter.ts").then((m) => m.installFontTypesetter()) : null;
+  typesetter?.catch(() => undefined);
   // One request at most; the reading thread closes this thread when it has no use for it.
   parentPort?.once("message", (request: SpectrogramRenderRequest) => {
     void renderSpectrograms(request).then((answer) => parentPort?.postMessage(answer, answer.ok ? answer.pngs.map((p) => p.buffer as ArrayBuffer) : []));
@@ -57,7 +61,7 @@ if (reply.ok) {
 
   async function renderSpectrograms(request: SpectrogramRenderRequest): Promise<SpectrogramRenderReply> {
     try {
-      (await import("../render/fontTypesetter.ts")).installFontTypesetter();
+      await (typesetter ?? import("../render/fontTypesetter.ts").then((m) => m.installFontTypesetter()));
       let paintMs = 0;
       let pngMs = 0;
       const pngs = request.images.map(({ channel, title }) => {

@@ -54,10 +54,10 @@ function bootstrapCode(script: URL): string {
   ].join("\n");
 }
 
-export function startSpectralThread(format: StreamFormat, settings: AnalysisSettings, o: { fingerprint: boolean; slotFrames: number }): SpectralThread {
+export function startSpectralThread(format: StreamFormat, settings: AnalysisSettings, o: { fingerprint: boolean; slotFrames: number; images: boolean }): SpectralThread {
   const ring = allocateBlockRing({ channels: format.channels, slotFrames: o.slotFrames, slots: ringSlotsFor(format.channels, o.slotFrames) });
   const writer = createBlockRingWriter(ring);
-  const data: SpectralThreadData = { ring, format, settings, fingerprint: o.fingerprint };
+  const data: SpectralThreadData = { ring, format, settings, fingerprint: o.fingerprint, images: o.images };
   const worker = new Worker(bootstrapCode(SCRIPT), { eval: true, workerData: data, resourceLimits: { maxOldGenerationSizeMb: HEAP_LIMIT_MB } });
   const result = new Promise<{ result: SpectralSideResult; threadCpuMs: number }>((resolve, reject) => {
     worker.once("message", (reply: SpectralThreadReply) => {
