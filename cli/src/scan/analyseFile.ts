@@ -195,10 +195,11 @@ export async function analyseFile(
           // Close-ups are drawn beside the PNGs, so without them there is nothing to keep samples for.
           closeups: ctx.closeups && ctx.spectrograms ? { rankOf: rankerFor(ctx.profile) } : null,
         };
-        // A thread that cannot start (the system's limit) leaves the file to this one: same results.
-        const spectral = ctx.spectralThread ? startSpectralThreadOrNull(info.stream, ctx.settings, ctx.fingerprint, ctx.spectrograms !== null) : null;
-        if (spectral) {
-          const level = createLevelSide(info.stream, ctx.settings, options);
+        // The level side first: if it cannot be set up, no thread is left waiting on the ring. A thread that
+        // cannot start (the system's limit) leaves the file to this one: same results.
+        const level = ctx.spectralThread ? createLevelSide(info.stream, ctx.settings, options) : null;
+        const spectral = level ? startSpectralThreadOrNull(info.stream, ctx.settings, ctx.fingerprint, ctx.spectrograms !== null) : null;
+        if (level && spectral) {
           split = { level, spectral };
           return (block) => {
             const t = performance.now();
