@@ -86,9 +86,12 @@ export function startSpectralThread(format: StreamFormat, settings: AnalysisSett
         worker.once("exit", onExit);
         worker.once("message", (reply: SpectrogramRenderReply) => {
           worker.off("exit", onExit);
+          worker.unref();
           if (reply.ok) resolve(reply);
           else reject(new Error(`spectral thread: ${reply.message}`));
         });
+        // Held while it draws: with nothing else pending, an unreferenced thread would let the process end.
+        worker.ref();
         worker.postMessage(request);
       });
     },
