@@ -128,18 +128,12 @@ async function writeImages(
   };
   await mkdir(path.dirname(paths.png), { recursive: true });
   const channelTitle = (c: number): string => `${task.relPath} (channel ${c + 1})`;
-  const channelPath = (c: number): string => paths.png.replace(/\.png$/, `.ch${c + 1}.png`);
+  const channelPath = (c: number): string => channelSpectrogramPath(paths.png, c);
   const channels = analysed.channelSpectrograms?.length ?? 0;
   // With a spectral thread, it draws the spectrograms (its own grids) while this thread draws the rest.
   const images = [{ channel: null, title: task.relPath }, ...Array.from({ length: channels }, (_, c) => ({ channel: c, title: channelTitle(c) }))];
   const elsewhere = spectralThread?.renderSpectrograms({ images, width, height, markers }).catch(() => null) ?? Promise.resolve(null);
   await writeFile(paths.waveform, png(() => renderWaveformImage(analysed.waveform, { width, height: WAVEFORM_HEIGHT_PX, markers })));
-  if (analysed.channelSpectrograms) {
-    for (const [c, grid] of analysed.channelSpectrograms.entries()) {
-      const title = `${task.relPath} (channel ${c + 1})`;
-      await writeFile(channelSpectrogramPath(paths.png, c), png(() => renderSpectrogramImage(grid, { width, height, markers, title })));
-    }
-  }
   const closeups = ctx.closeups
     ? await writeCloseups({ analysed, findings, format, target, relPath: task.relPath, settings, waveformHeightPx: WAVEFORM_HEIGHT_PX, png })
     : null;
