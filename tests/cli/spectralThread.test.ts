@@ -34,7 +34,8 @@ beforeAll(async () => {
   float[1000] = Number.NaN;
   writeFileSync(path.join(dir, "float.wav"), encodeWav([float, float], { sampleRateHz: 44100, bitDepth: 32, encoding: "float" }));
   const loaded = await loadProfile("preservation-master", dir);
-  context = { profile: loaded.profile, settings: { ...loaded.settings, spectrogram: { ...loaded.settings.spectrogram, width: 400, height: 200 } }, spectrograms: { dirAbs: path.join(dir, "png"), dirShown: "png" }, fingerprint: true, closeups: true };
+  // Files of any length get the second thread here (a scan gives it to files of a minute and more).
+  context = { profile: loaded.profile, settings: { ...loaded.settings, spectrogram: { ...loaded.settings.spectrogram, width: 400, height: 200 } }, spectrograms: { dirAbs: path.join(dir, "png"), dirShown: "png" }, fingerprint: true, closeups: true, spectralThreadMinSeconds: 0 };
 });
 
 afterAll(() => rmSync(dir, { recursive: true, force: true }));
@@ -102,6 +103,17 @@ describe("the spectral side on a second thread", () => {
     expect(report.fingerprint).toMatch(/\S{40,}/);
     expect(Math.abs(report.metrics!.dominantFrequencyHz! - 440)).toBeLessThan(30);
     expect(report.closeups?.length ?? 0).toBeGreaterThan(0);
+  }, 60_000);
+});
+
+describe("which files get the second thread", () => {
+  it("leaves files shorter than the minimum on one thread", async () => {
+    const task = { absPath: path.join(dir, "float.wav"), relPath: "float.wav", sizeBytes: 0 };
+    const short = await analyseFile(task, { ...context, spectralThread: true, spectralThreadMinSeconds: 3.5 });
+    const long = await analyseFile(task, { ...context, spectralThread: true, spectralThreadMinSeconds: 2.5 });
+    expect(short.timingsMs.spectrogramsDrawnElsewhere).toBe(0);
+    expect(long.timingsMs.spectrogramsDrawnElsewhere).toBe(1);
+    expect(JSON.stringify(long.report)).toBe(JSON.stringify(short.report));
   }, 60_000);
 });
 
