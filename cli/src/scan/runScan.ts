@@ -23,6 +23,11 @@ import { createWorkerPool, WORKER_HEAP_LIMIT_MB, WorkerCrashError, WorkerStartEr
 export interface RunScanOptions {
   files: readonly CrawledFile[];
   workers: number;
+  /**
+   * Opt-in (--spectral-thread): a second thread costs about 30 MB, which would take a long file's scan
+   * past the 150 MB memory budget (issue #17), so by default each file stays on one thread.
+   */
+  spectralThread?: boolean;
   context: ScanContext;
   resume: ResumeState | null;
   progress: ScanProgress;
@@ -90,9 +95,9 @@ const isSmall = (file: CrawledFile): boolean => file.sizeBytes <= SMALL_FILE_BYT
 
 export async function runScan(options: RunScanOptions): Promise<RunScanResult> {
   const { files, resume, progress, interruption } = options;
-  // Two workers' worth of cores per file (one long file on the default workers): each file's spectral
-  // side gets a thread of its own (spectralThreadClient.ts). With more files the pool keeps the cores busy.
-  const context: ScanContext = options.workers >= 2 * files.length ? { ...options.context, spectralThread: true } : options.context;
+  // Asked for, and two workers' worth of cores per file (one long file on the default workers): each
+  // file's spectral side gets a thread of its own (spectralThreadClient.ts). With more files the pool keeps the cores busy.
+  const context: ScanContext = options.spectralThread === true && options.workers >= 2 * files.length ? { ...options.context, spectralThread: true } : options.context;
   const reports: FileReport[] = [];
   let measured = 0;
   let reused = 0;

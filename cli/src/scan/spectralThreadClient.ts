@@ -12,12 +12,11 @@ import type { AudioBlock, StreamFormat } from "@tidemark/shared/types/analysis";
 import type { AnalysisSettings } from "@tidemark/shared/types/settings";
 import { allocateBlockRing, createBlockRingWriter, RING_FAILED, RING_STATE_INDEX, ringSlotsFor } from "./blockRing.ts";
 import type { SpectralThreadData, SpectralThreadReply, SpectrogramRenderReply, SpectrogramRenderRequest } from "./spectralThread.ts";
+import { WORKER_HEAP_LIMIT_MB } from "./workerPool.ts";
 
 /** Running from the prebuilt bundle in cli/dist rather than the TypeScript sources (as in runScan.ts). */
 const IS_BUNDLED = !import.meta.url.endsWith(".ts");
 const SCRIPT = new URL(IS_BUNDLED ? "./spectralThread.js" : "./spectralThread.ts", import.meta.url);
-/** The spectral side holds grids and fingerprint hashes, far below this; it stops a runaway. */
-const HEAP_LIMIT_MB = 1024;
 
 export interface SpectralThread {
   /** Copies the block for the other thread (waiting while the ring is full). */
@@ -58,7 +57,7 @@ export function startSpectralThread(format: StreamFormat, settings: AnalysisSett
   const ring = allocateBlockRing({ channels: format.channels, slotFrames: o.slotFrames, slots: ringSlotsFor(format.channels, o.slotFrames) });
   const writer = createBlockRingWriter(ring);
   const data: SpectralThreadData = { ring, format, settings, fingerprint: o.fingerprint, images: o.images };
-  const worker = new Worker(bootstrapCode(SCRIPT), { eval: true, workerData: data, resourceLimits: { maxOldGenerationSizeMb: HEAP_LIMIT_MB } });
+  const worker = new Worker(bootstrapCode(SCRIPT), { eval: true, workerData: data, resourceLimits: { maxOldGenerationSizeMb: WORKER_HEAP_LIMIT_MB } });
   const result = new Promise<{ result: SpectralSideResult; threadCpuMs: number }>((resolve, reject) => {
     worker.once("message", (reply: SpectralThreadReply) => {
       if (reply.ok) resolve({ result: reply.result, threadCpuMs: reply.threadCpuMs });
