@@ -58,54 +58,77 @@ function check(measureName: string, caseName: string, expected: number, measured
   expect(Math.abs(measured - expected), `${caseName}: measured ${measured.toFixed(3)} LUFS`).toBeLessThanOrEqual(TOLERANCE_LU);
 }
 
+/** Momentary (400 ms window) and short-term (3 s window) are checked alike; only the window and names differ. */
+const SCALES = {
+  momentary: { key: "momentaryLufs", maxKey: "maxMomentaryLufs", windowSeconds: 0.4, measure: "momentary loudness" },
+  shortTerm: { key: "shortTermLufs", maxKey: "maxShortTermLufs", windowSeconds: 3, measure: "short-term loudness" },
+} as const;
+type Scale = (typeof SCALES)[keyof typeof SCALES];
+
+/** Cases 9 and 12: alternating levels whose every full window reads −23.0; the worst 5 ms hop after `settleSeconds`. */
+function constantAfter(scale: Scale, steps: [number, number][], settleSeconds: number, minHops: number, caseName: string): void {
+  const rate = 48000;
+  const { hops } = measure(stereo(sineSteps({ frequencyHz: 1000, sampleRateHz: rate, steps })), rate);
+  const after = hops.filter((h) => h.endFrame >= settleSeconds * rate);
+  expect(after.length).toBeGreaterThan(minHops);
+  let worst = -23;
+  for (const h of after) if (Math.abs(h[scale.key] + 23) > Math.abs(worst + 23)) worst = h[scale.key];
+  check(scale.measure, caseName, -23, worst);
+}
+
+/** Cases 10 and 13: one window-long burst at −23 dBFS, its onset moved across a 100 ms block in 20 variants. */
+function burstAtAnyOnset(scale: Scale, caseNumber: number, onsetStep: number, onsetOffset: number): void {
+  for (const rate of [48000, 44100]) {
+    it.each(Array.from({ length: 20 }, (_, k) => k + 1))(`${rate} Hz, variant %i`, (variant) => {
+      // Onsets spread over one 100 ms block, each at a different place within a 5 ms hop too.
+      const onset = 1 + (variant - 1) * onsetStep + onsetOffset;
+      const x = concat(gap(rate, onset), tone(rate, scale.windowSeconds, -23), gap(rate, 1));
+      const { result } = measure(stereo(x), rate);
+      check(`max ${scale.measure}`, `case ${caseNumber}-${variant} (${rate / 1000} kHz)`, -23, result[scale.maxKey]);
+    });
+  }
+}
+
+/** Cases 11 and 14: 20 window-long tones from −38 to −19 dBFS, each tone's maximum reading its own level. */
+function stepsReadOwnLevel(scale: Scale, caseNumber: number, pauseSeconds: (k: number) => number): void {
+  const rate = 48000;
+  const toneFrames = Math.round(scale.windowSeconds * rate);
+  const parts: Float32Array[] = [];
+  const spans: { level: number; from: number; to: number }[] = [];
+  let at = 0;
+  for (let k = 0; k < 20; k++) {
+    const level = -38 + k;
+    const pause = pauseSeconds(k);
+    parts.push(gap(rate, pause), tone(rate, scale.windowSeconds, level));
+    at += Math.round(pause * rate);
+    spans.push({ level, from: at, to: at + toneFrames });
+    at += toneFrames;
+  }
+  parts.push(gap(rate, 1));
+  const { hops } = measure(stereo(concat(...parts)), rate);
+  for (const { level, from, to } of spans) {
+    let best = -Infinity;
+    for (const h of hops) if (h.endFrame > from && h.endFrame <= to + toneFrames) best = Math.max(best, h[scale.key]);
+    check(scale.measure, `case ${caseNumber}: step at ${level} LUFS`, level, best);
+  }
+}
+
 describe("EBU Tech 3341 case 9: short-term loudness constant at −23.0 LUFS after 3 s", () => {
   it("1.34 s at −20 dBFS and 1.66 s at −30 dBFS, alternating: every 3 s window reads −23.0", () => {
     const steps: [number, number][] = [];
     for (let k = 0; k < 5; k++) steps.push([-20, 1.34], [-30, 1.66]);
-    const rate = 48000;
-    const { hops } = measure(stereo(sineSteps({ frequencyHz: 1000, sampleRateHz: rate, steps })), rate);
-    const after = hops.filter((h) => h.endFrame >= 3 * rate);
-    expect(after.length).toBeGreaterThan(2000);
-    let worst = -23;
-    for (const h of after) if (Math.abs(h.shortTermLufs + 23) > Math.abs(worst + 23)) worst = h.shortTermLufs;
-    check("short-term loudness", "case 9: S constant after 3 s (worst 5 ms hop)", -23, worst);
+    constantAfter(SCALES.shortTerm, steps, 3, 2000, "case 9: S constant after 3 s (worst 5 ms hop)");
   });
 });
 
 describe("EBU Tech 3341 case 10: max short-term −23.0 LUFS for a 3 s burst at any onset (20 variants)", () => {
-  for (const rate of [48000, 44100]) {
-    it.each(Array.from({ length: 20 }, (_, k) => k + 1))(`${rate} Hz, variant %i`, (variant) => {
-      // Onsets spread over one 100 ms block, each at a different place within a 5 ms hop too.
-      const onset = 1 + (variant - 1) * 0.00513 + 0.0013;
-      const x = concat(gap(rate, onset), tone(rate, 3, -23), gap(rate, 1));
-      const { result } = measure(stereo(x), rate);
-      check("max short-term loudness", `case 10-${variant} (${rate / 1000} kHz)`, -23, result.maxShortTermLufs);
-    });
-  }
+  burstAtAnyOnset(SCALES.shortTerm, 10, 0.00513, 0.0013);
 });
 
 describe("EBU Tech 3341 case 11: short-term loudness of 20 steps from −38 to −19 LUFS", () => {
   it("each 3 s tone's short-term maximum reads its own level", () => {
-    const rate = 48000;
-    const parts: Float32Array[] = [];
-    const spans: { level: number; from: number; to: number }[] = [];
-    let at = 0;
-    for (let k = 0; k < 20; k++) {
-      const level = -38 + k;
-      // 3.2 s of silence between tones (from memory the tones are separated): each window holds one tone.
-      const pause = 3.2 + 0.0037 * k;
-      parts.push(gap(rate, pause), tone(rate, 3, level));
-      at += Math.round(pause * rate);
-      spans.push({ level, from: at, to: at + 3 * rate });
-      at += 3 * rate;
-    }
-    parts.push(gap(rate, 1));
-    const { hops } = measure(stereo(concat(...parts)), rate);
-    for (const { level, from, to } of spans) {
-      let best = -Infinity;
-      for (const h of hops) if (h.endFrame > from && h.endFrame <= to + 3 * rate) best = Math.max(best, h.shortTermLufs);
-      check("short-term loudness", `case 11: step at ${level} LUFS`, level, best);
-    }
+    // 3.2 s of silence between tones (from memory the tones are separated): each window holds one tone.
+    stepsReadOwnLevel(SCALES.shortTerm, 11, (k) => 3.2 + 0.0037 * k);
   });
 });
 
@@ -113,48 +136,17 @@ describe("EBU Tech 3341 case 12: momentary loudness constant at −23.0 LUFS aft
   it("0.18 s at −20 dBFS and 0.22 s at −30 dBFS, alternating: every 400 ms window reads −23.0", () => {
     const steps: [number, number][] = [];
     for (let k = 0; k < 25; k++) steps.push([-20, 0.18], [-30, 0.22]);
-    const rate = 48000;
-    const { hops } = measure(stereo(sineSteps({ frequencyHz: 1000, sampleRateHz: rate, steps })), rate);
-    const after = hops.filter((h) => h.endFrame >= rate);
-    expect(after.length).toBeGreaterThan(1500);
-    let worst = -23;
-    for (const h of after) if (Math.abs(h.momentaryLufs + 23) > Math.abs(worst + 23)) worst = h.momentaryLufs;
-    check("momentary loudness", "case 12: M constant after 1 s (worst 5 ms hop)", -23, worst);
+    constantAfter(SCALES.momentary, steps, 1, 1500, "case 12: M constant after 1 s (worst 5 ms hop)");
   });
 });
 
 describe("EBU Tech 3341 case 13: max momentary −23.0 LUFS for a 400 ms burst at any onset (20 variants)", () => {
-  for (const rate of [48000, 44100]) {
-    it.each(Array.from({ length: 20 }, (_, k) => k + 1))(`${rate} Hz, variant %i`, (variant) => {
-      const onset = 1 + (variant - 1) * 0.00509 + 0.0027;
-      const x = concat(gap(rate, onset), tone(rate, 0.4, -23), gap(rate, 1));
-      const { result } = measure(stereo(x), rate);
-      check("max momentary loudness", `case 13-${variant} (${rate / 1000} kHz)`, -23, result.maxMomentaryLufs);
-    });
-  }
+  burstAtAnyOnset(SCALES.momentary, 13, 0.00509, 0.0027);
 });
 
 describe("EBU Tech 3341 case 14: momentary loudness of 20 steps from −38 to −19 LUFS", () => {
   it("each 400 ms tone's momentary maximum reads its own level", () => {
-    const rate = 48000;
-    const parts: Float32Array[] = [];
-    const spans: { level: number; from: number; to: number }[] = [];
-    let at = 0;
-    for (let k = 0; k < 20; k++) {
-      const level = -38 + k;
-      const pause = 0.6 + 0.0041 * k;
-      parts.push(gap(rate, pause), tone(rate, 0.4, level));
-      at += Math.round(pause * rate);
-      spans.push({ level, from: at, to: at + Math.round(0.4 * rate) });
-      at += Math.round(0.4 * rate);
-    }
-    parts.push(gap(rate, 1));
-    const { hops } = measure(stereo(concat(...parts)), rate);
-    for (const { level, from, to } of spans) {
-      let best = -Infinity;
-      for (const h of hops) if (h.endFrame > from && h.endFrame <= to + Math.round(0.4 * rate)) best = Math.max(best, h.momentaryLufs);
-      check("momentary loudness", `case 14: step at ${level} LUFS`, level, best);
-    }
+    stepsReadOwnLevel(SCALES.momentary, 14, (k) => 0.6 + 0.0041 * k);
   });
 });
 
