@@ -68,7 +68,15 @@ class RunTracker implements ValueRunTracker {
     // at index r follows x[r − 1], or the carried value when r = 0.
     let k = i + 1;
     for (;;) {
-      while (k < frames && x[k] !== x[k - 1]) k++;
+      // The previous sample rides in a local: one load a sample.
+      if (k < frames) {
+        let prev = x[k - 1];
+        for (; k < frames; k++) {
+          const v = x[k];
+          if (v === prev) break;
+          prev = v;
+        }
+      }
       if (k >= frames) break;
       const value = x[k];
       const runStart = k - 1;
