@@ -11,6 +11,7 @@
  */
 import { FrameGrid, Float64Series } from "./frameGrid.ts";
 import { kWeightingHighPass, kWeightingShelf } from "./kWeighting.ts";
+import { createLevelKernels, ensureKernelMemory, type LevelKernels } from "./levelKernels.ts";
 import { integratedLoudnessLufs, loudnessRangeLu, powerToLufs } from "./loudnessGating.ts";
 
 export interface LoudnessResult {
@@ -49,6 +50,18 @@ const MOMENTARY_HOPS = MOMENTARY_SUB_BLOCKS * HOPS_PER_SUB_BLOCK;
 const SHORT_TERM_HOPS = SHORT_TERM_SUB_BLOCKS * HOPS_PER_SUB_BLOCK;
 /** Filter states this small are flushed to zero so long silences do not run on subnormal arithmetic. */
 const SUBNORMAL_GUARD = 1e-150;
+/**
+ * Filter state per channel pair, as the WebAssembly kernel keeps it (a lane per channel): s1, s2 (shelf),
+ * t1, t2 (high-pass), Σy² of the hop, each two f64. Channel c is lane c & 1 of pair c >> 1.
+ */
+const PAIR_SLOT = 10;
+const SLOT_S1 = 0;
+const SLOT_S2 = 2;
+const SLOT_T1 = 4;
+const SLOT_T2 = 6;
+const SLOT_SUM = 8;
+/** Frames copied into the kernel's memory at a time (32 KiB a channel). */
+const STAGE_FRAMES = 8192;
 
 /** WAVE_FORMAT_EXTENSIBLE speaker bits (Microsoft's KSAUDIO_SPEAKER definitions, from memory). */
 const SPEAKER_LFE = 0x8;
@@ -76,25 +89,35 @@ export function loudnessChannelWeights(channels: number, channelMask?: number | 
   return new Float64Array(channels).fill(1);
 }
 
+/**
+ * `filters`: "auto" runs channel pairs through the WebAssembly SIMD kernel where the runtime has one, "js"
+ * always through the JavaScript loops (the same results bit for bit; tests compare the two).
+ */
 export function createLoudnessMeter(
   sampleRateHz: number,
   channels: number,
   weights = loudnessChannelWeights(channels),
   onHop: LoudnessHopListener | null = null,
+  filters: "auto" | "js" = "auto",
 ): LoudnessMeter {
   if (weights.length !== channels) {
     throw new Error(`loudness needs one weight per channel: ${channels} channels, ${weights.length} weights`);
   }
-  return new KWeightedLoudnessMeter(sampleRateHz, channels, weights, onHop);
+  return new KWeightedLoudnessMeter(sampleRateHz, channels, weights, onHop, filters === "auto" && channels >= 2 ? createLevelKernels() : null);
 }
 
 class KWeightedLoudnessMeter implements LoudnessMeter {
   private readonly shelf;
   private readonly highPass;
-  /** Per channel: shelf s1, s2, high-pass t1, t2 (transposed direct form II). */
+  /**
+   * Per channel pair (PAIR_SLOT): shelf s1, s2, high-pass t1, t2 (transposed direct form II) and Σy² of the
+   * current hop, carried across blocks so any block size sums alike. In the kernel's memory when there is one.
+   */
   private readonly state: Float64Array;
-  /** Per channel Σy² of the current hop, carried across blocks so any block size sums alike. */
-  private readonly channelSums: Float64Array;
+  /** Byte offsets in the kernel's memory: coefficients, then STAGE_FRAMES of each paired channel. */
+  private readonly coefficientsAt: number = 0;
+  private readonly stageAt: number = 0;
+  private readonly stage: Float32Array | null = null;
   private readonly grid: FrameGrid;
   private readonly ringEnergy = new Float64Array(SHORT_TERM_SUB_BLOCKS);
   private readonly ringFrames = new Float64Array(SHORT_TERM_SUB_BLOCKS);
@@ -135,11 +158,21 @@ class KWeightedLoudnessMeter implements LoudnessMeter {
     private readonly channels: number,
     private readonly weights: Float64Array,
     private readonly onHop: LoudnessHopListener | null,
+    private readonly kernels: LevelKernels | null,
   ) {
     this.shelf = kWeightingShelf(sampleRateHz);
     this.highPass = kWeightingHighPass(sampleRateHz);
-    this.state = new Float64Array(channels * 4);
-    this.channelSums = new Float64Array(channels);
+    const pairs = Math.ceil(channels / 2);
+    if (kernels) {
+      const paired = channels - (channels % 2);
+      this.coefficientsAt = pairs * PAIR_SLOT * 8;
+      this.stageAt = this.coefficientsAt + 64;
+      ensureKernelMemory(kernels, this.stageAt + paired * STAGE_FRAMES * 4);
+      const { b0, b1, b2, a1, a2 } = this.shelf;
+      new Float64Array(kernels.memory.buffer, this.coefficientsAt, 7).set([b0, b1, b2, a1, a2, this.highPass.a1, this.highPass.a2]);
+      this.state = new Float64Array(kernels.memory.buffer, 0, pairs * PAIR_SLOT).fill(0);
+      this.stage = new Float32Array(kernels.memory.buffer, this.stageAt, paired * STAGE_FRAMES);
+    } else this.state = new Float64Array(pairs * PAIR_SLOT);
     this.grid = new FrameGrid(sampleRateHz, SUB_BLOCK_SECONDS);
     this.subBlockEnd = this.grid.boundary(1);
     this.hopEnd = this.hopBoundary(1);
@@ -159,14 +192,36 @@ class KWeightedLoudnessMeter implements LoudnessMeter {
   }
 
   push(input: Float32Array[], frames: number): void {
+    const kernels = this.kernels;
+    if (kernels === null) {
+      this.filterFrames(input, 0, frames);
+      return;
+    }
+    // Pairs of channels go through the kernel from its memory, STAGE_FRAMES at a time.
+    const stage = this.stage as Float32Array;
+    const paired = this.channels - (this.channels % 2);
+    for (let from = 0; from < frames; from += STAGE_FRAMES) {
+      const n = Math.min(STAGE_FRAMES, frames - from);
+      for (let c = 0; c < paired; c++) stage.set(input[c].subarray(from, from + n), c * STAGE_FRAMES);
+      this.filterFrames(input, from, n);
+    }
+  }
+
+  /** Frames [from, from + count) of the input, hop by hop. */
+  private filterFrames(input: Float32Array[], from: number, count: number): void {
+    const kernels = this.kernels;
     let at = 0;
-    while (at < frames) {
-      const n = Math.min(frames - at, this.hopEnd - this.position);
-      // Pairs of channels share one loop: two independent recursions overlap in the CPU (the biquads are
-      // latency-bound). Each channel's arithmetic is unchanged, so results are the same either way.
+    while (at < count) {
+      const n = Math.min(count - at, this.hopEnd - this.position);
+      // Pairs of channels share one loop (or one SIMD kernel): two independent recursions overlap in the CPU
+      // (the biquads are latency-bound). Each channel's arithmetic is unchanged, so results are the same.
       let c = 0;
-      for (; c + 1 < this.channels; c += 2) this.filterSegmentPair(c, input[c], input[c + 1], at, n);
-      if (c < this.channels) this.filterSegment(c, input[c], at, n);
+      if (kernels) {
+        for (; c + 1 < this.channels; c += 2) {
+          kernels.kweightPair(this.stageAt + (c * STAGE_FRAMES + at) * 4, this.stageAt + ((c + 1) * STAGE_FRAMES + at) * 4, n, (c >> 1) * PAIR_SLOT * 8, this.coefficientsAt);
+        }
+      } else for (; c + 1 < this.channels; c += 2) this.filterSegmentPair(c, input[c], input[c + 1], from + at, n);
+      if (c < this.channels) this.filterSegment(c, input[c], from + at, n);
       at += n;
       this.position += n;
       if (this.position === this.hopEnd) this.completeHop();
@@ -179,12 +234,12 @@ class KWeightedLoudnessMeter implements LoudnessMeter {
     const ha1 = this.highPass.a1;
     const ha2 = this.highPass.a2;
     const st = this.state;
-    const o = c * 4;
-    let s1 = st[o];
-    let s2 = st[o + 1];
-    let t1 = st[o + 2];
-    let t2 = st[o + 3];
-    let sum = this.channelSums[c];
+    const o = (c >> 1) * PAIR_SLOT + (c & 1);
+    let s1 = st[o + SLOT_S1];
+    let s2 = st[o + SLOT_S2];
+    let t1 = st[o + SLOT_T1];
+    let t2 = st[o + SLOT_T2];
+    let sum = st[o + SLOT_SUM];
     const end = from + n;
     for (let i = from; i < end; i++) {
       const v = x[i];
@@ -197,11 +252,11 @@ class KWeightedLoudnessMeter implements LoudnessMeter {
       t2 = y1 - ha2 * y2;
       sum += y2 * y2;
     }
-    st[o] = s1;
-    st[o + 1] = s2;
-    st[o + 2] = t1;
-    st[o + 3] = t2;
-    this.channelSums[c] = sum;
+    st[o + SLOT_S1] = s1;
+    st[o + SLOT_S2] = s2;
+    st[o + SLOT_T1] = t1;
+    st[o + SLOT_T2] = t2;
+    st[o + SLOT_SUM] = sum;
   }
 
   private filterSegmentPair(c: number, x: Float32Array, z: Float32Array, from: number, n: number): void {
@@ -209,17 +264,17 @@ class KWeightedLoudnessMeter implements LoudnessMeter {
     const ha1 = this.highPass.a1;
     const ha2 = this.highPass.a2;
     const st = this.state;
-    const o = c * 4;
-    let s1 = st[o];
-    let s2 = st[o + 1];
-    let t1 = st[o + 2];
-    let t2 = st[o + 3];
-    let q1 = st[o + 4];
-    let q2 = st[o + 5];
-    let u1 = st[o + 6];
-    let u2 = st[o + 7];
-    let sum = this.channelSums[c];
-    let sumZ = this.channelSums[c + 1];
+    const o = (c >> 1) * PAIR_SLOT;
+    let s1 = st[o + SLOT_S1];
+    let s2 = st[o + SLOT_S2];
+    let t1 = st[o + SLOT_T1];
+    let t2 = st[o + SLOT_T2];
+    let sum = st[o + SLOT_SUM];
+    let q1 = st[o + SLOT_S1 + 1];
+    let q2 = st[o + SLOT_S2 + 1];
+    let u1 = st[o + SLOT_T1 + 1];
+    let u2 = st[o + SLOT_T2 + 1];
+    let sumZ = st[o + SLOT_SUM + 1];
     const end = from + n;
     for (let i = from; i < end; i++) {
       const v = x[i];
@@ -239,26 +294,27 @@ class KWeightedLoudnessMeter implements LoudnessMeter {
       u2 = g1 - ha2 * g2;
       sumZ += g2 * g2;
     }
-    st[o] = s1;
-    st[o + 1] = s2;
-    st[o + 2] = t1;
-    st[o + 3] = t2;
-    st[o + 4] = q1;
-    st[o + 5] = q2;
-    st[o + 6] = u1;
-    st[o + 7] = u2;
-    this.channelSums[c] = sum;
-    this.channelSums[c + 1] = sumZ;
+    st[o + SLOT_S1] = s1;
+    st[o + SLOT_S2] = s2;
+    st[o + SLOT_T1] = t1;
+    st[o + SLOT_T2] = t2;
+    st[o + SLOT_SUM] = sum;
+    st[o + SLOT_S1 + 1] = q1;
+    st[o + SLOT_S2 + 1] = q2;
+    st[o + SLOT_T1 + 1] = u1;
+    st[o + SLOT_T2 + 1] = u2;
+    st[o + SLOT_SUM + 1] = sumZ;
   }
 
   private completeHop(): void {
     let energy = 0;
-    for (let c = 0; c < this.channels; c++) {
-      energy += this.weights[c] * this.channelSums[c];
-      this.channelSums[c] = 0;
-    }
-    // Flushed on the absolute hop grid, so the result does not depend on block size.
     const st = this.state;
+    for (let c = 0; c < this.channels; c++) {
+      const at = (c >> 1) * PAIR_SLOT + (c & 1) + SLOT_SUM;
+      energy += this.weights[c] * st[at];
+      st[at] = 0;
+    }
+    // Flushed on the absolute hop grid, so the result does not depend on block size (the sums are 0 here).
     for (let i = 0; i < st.length; i++) if (st[i] < SUBNORMAL_GUARD && st[i] > -SUBNORMAL_GUARD) st[i] = 0;
     const hopIndex = this.hopsCompleted % HOPS_PER_SUB_BLOCK;
     const hopStart = hopIndex === 0 ? this.subBlockStart : this.hopBoundary(hopIndex);

@@ -1,0 +1,62 @@
+;; WebAssembly SIMD kernels of the level side (source of levelKernelsWasm.ts; rebuild with
+;; `npm run build:level-kernels`). Two channels ride in the two f64 lanes of a v128, so one instruction
+;; does the work of two scalar ones. Every lane does exactly the scalar code's IEEE operations in the same
+;; order (WebAssembly has no fused multiply-add), so results are bit-identical to the JavaScript path.
+(module
+  (memory (export "memory") 1)
+
+  ;; kweightPair(x, z, n, st, co): both K-weighting biquads of ITU-R BS.1770-4 (kWeighting.ts) over n frames
+  ;; of two planar float32 channels at byte offsets x and z, adding y² into each channel's sum.
+  ;; st (16-byte aligned): five f64x2, lane 0 the x channel, lane 1 the z channel: shelf s1, s2, high-pass
+  ;; t1, t2 (transposed direct form II), Σy². co: seven f64: shelf b0 b1 b2 a1 a2, high-pass a1 a2 (its
+  ;; numerator is 1, −2, 1). The arithmetic is loudness.ts's filterSegment, operation for operation.
+  (func (export "kweightPair") (param $x i32) (param $z i32) (param $n i32) (param $st i32) (param $co i32)
+    (local $b0 v128) (local $b1 v128) (local $b2 v128) (local $a1 v128) (local $a2 v128)
+    (local $ha1 v128) (local $ha2 v128) (local $minus2 v128)
+    (local $s1 v128) (local $s2 v128) (local $t1 v128) (local $t2 v128) (local $sum v128)
+    (local $v v128) (local $y1 v128) (local $y2 v128) (local $end i32)
+    (local.set $b0 (f64x2.splat (f64.load offset=0 (local.get $co))))
+    (local.set $b1 (f64x2.splat (f64.load offset=8 (local.get $co))))
+    (local.set $b2 (f64x2.splat (f64.load offset=16 (local.get $co))))
+    (local.set $a1 (f64x2.splat (f64.load offset=24 (local.get $co))))
+    (local.set $a2 (f64x2.splat (f64.load offset=32 (local.get $co))))
+    (local.set $ha1 (f64x2.splat (f64.load offset=40 (local.get $co))))
+    (local.set $ha2 (f64x2.splat (f64.load offset=48 (local.get $co))))
+    (local.set $minus2 (f64x2.splat (f64.const -2)))
+    (local.set $s1 (v128.load offset=0 (local.get $st)))
+    (local.set $s2 (v128.load offset=16 (local.get $st)))
+    (local.set $t1 (v128.load offset=32 (local.get $st)))
+    (local.set $t2 (v128.load offset=48 (local.get $st)))
+    (local.set $sum (v128.load offset=64 (local.get $st)))
+    (local.set $end (i32.add (local.get $x) (i32.shl (local.get $n) (i32.const 2))))
+    (block $done
+      (br_if $done (i32.ge_u (local.get $x) (local.get $end)))
+      (loop $next
+        (local.set $v
+          (f64x2.replace_lane 1
+            (f64x2.splat (f64.promote_f32 (f32.load (local.get $x))))
+            (f64.promote_f32 (f32.load (local.get $z)))))
+        ;; y1 = b0·v + s1; s1 = b1·v − a1·y1 + s2; s2 = b2·v − a2·y1
+        (local.set $y1 (f64x2.add (f64x2.mul (local.get $b0) (local.get $v)) (local.get $s1)))
+        (local.set $s1
+          (f64x2.add
+            (f64x2.sub (f64x2.mul (local.get $b1) (local.get $v)) (f64x2.mul (local.get $a1) (local.get $y1)))
+            (local.get $s2)))
+        (local.set $s2 (f64x2.sub (f64x2.mul (local.get $b2) (local.get $v)) (f64x2.mul (local.get $a2) (local.get $y1))))
+        ;; y2 = y1 + t1; t1 = −2·y1 − ha1·y2 + t2; t2 = y1 − ha2·y2; sum += y2·y2
+        (local.set $y2 (f64x2.add (local.get $y1) (local.get $t1)))
+        (local.set $t1
+          (f64x2.add
+            (f64x2.sub (f64x2.mul (local.get $minus2) (local.get $y1)) (f64x2.mul (local.get $ha1) (local.get $y2)))
+            (local.get $t2)))
+        (local.set $t2 (f64x2.sub (local.get $y1) (f64x2.mul (local.get $ha2) (local.get $y2))))
+        (local.set $sum (f64x2.add (local.get $sum) (f64x2.mul (local.get $y2) (local.get $y2))))
+        (local.set $x (i32.add (local.get $x) (i32.const 4)))
+        (local.set $z (i32.add (local.get $z) (i32.const 4)))
+        (br_if $next (i32.lt_u (local.get $x) (local.get $end)))))
+    (v128.store offset=0 (local.get $st) (local.get $s1))
+    (v128.store offset=16 (local.get $st) (local.get $s2))
+    (v128.store offset=32 (local.get $st) (local.get $t1))
+    (v128.store offset=48 (local.get $st) (local.get $t2))
+    (v128.store offset=64 (local.get $st) (local.get $sum)))
+)
