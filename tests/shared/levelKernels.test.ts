@@ -6,11 +6,12 @@
  */
 import { readFileSync } from "node:fs";
 import { describe, expect, it } from "vitest";
-import { createLevelKernels } from "../../shared/src/analysis/levelKernels.ts";
+import { createLevelKernels, ensureKernelMemory } from "../../shared/src/analysis/levelKernels.ts";
 import { LEVEL_KERNELS_BASE64 } from "../../shared/src/analysis/levelKernels.generated.ts";
+import { createClickDetector } from "../../shared/src/analysis/clicks.ts";
 import { createLoudnessMeter, type LoudnessResult } from "../../shared/src/analysis/loudness.ts";
 import { compileLevelKernels, LEVEL_KERNELS_GENERATED, levelKernelsModuleText } from "../../scripts/lib/levelKernelsWasm.ts";
-import { pinkNoise, sine, silence, concat } from "../fixtures/synth.ts";
+import { concat, pinkNoise, seededRandom, silence, sine, speechLike } from "../fixtures/synth.ts";
 
 describe("level kernels module", () => {
   it("is the current levelKernels.wat, assembled by wabt (else run scripts/generate-level-kernels.ts)", async () => {
@@ -69,6 +70,81 @@ describe("K-weighting kernel", () => {
         expect(simd.shortTerm).toEqual(js.shortTerm);
         expect(simd.hops).toEqual(js.hops);
       }
+    });
+  }
+});
+
+describe("click pre-screen kernel", () => {
+  /** clicks.ts's JavaScript first pass over x[first, first + count) in chunks of L: Σ|d| and max |d|. */
+  function reference(x: Float32Array, first: number, count: number, L: number): { sums: number[]; maxima: number[] } {
+    const sums: number[] = [];
+    const maxima: number[] = [];
+    for (let from = first; from < first + count; from += L) {
+      const to = Math.min(first + count, from + L);
+      let sumA = 0;
+      let sumB = 0;
+      let max = 0;
+      let n = from;
+      for (; n + 1 < to; n += 2) {
+        const v = Math.abs(x[n] - 2 * x[n - 1] + x[n - 2]);
+        const w = Math.abs(x[n + 1] - 2 * x[n] + x[n - 1]);
+        sumA += v;
+        sumB += w;
+        if (v > max) max = v;
+        if (w > max) max = w;
+      }
+      if (n < to) {
+        const v = Math.abs(x[n] - 2 * x[n - 1] + x[n - 2]);
+        sumA += v;
+        if (v > max) max = v;
+      }
+      sums.push(sumA + sumB);
+      maxima.push(max);
+    }
+    return { sums, maxima };
+  }
+
+  it("gives the JavaScript pass's chunk sums and maxima bit for bit, for even and odd chunks and a short last one", () => {
+    const k = createLevelKernels();
+    if (!k) throw new Error("no WebAssembly SIMD in this runtime");
+    const samples = 4000;
+    ensureKernelMemory(k, 20 * samples);
+    const x = new Float32Array(k.memory.buffer, 0, samples);
+    const random = seededRandom(11);
+    for (let i = 0; i < samples; i++) x[i] = Math.fround((random() - 0.5) * (i % 97 === 0 ? 1.5 : 0.2));
+    const out = new Float64Array(k.memory.buffer, 4 * samples, 2 * samples);
+    for (const [first, count, L] of [[2, 3000, 120], [16, 2753, 55], [5, 1, 20], [9, 2, 20], [3, 3, 20], [16, 997, 16]]) {
+      const chunks = Math.ceil(count / L);
+      k.diffChunks(4 * first, count, L, 4 * samples, 4 * samples + 8 * chunks);
+      const want = reference(x, first, count, L);
+      expect(Array.from(out.subarray(0, chunks))).toEqual(want.sums);
+      expect(Array.from(out.subarray(chunks, 2 * chunks))).toEqual(want.maxima);
+      expect(want.maxima.every((m) => m > 0)).toBe(true);
+    }
+  });
+
+  /** Speech-like sound with 40 single-sample clicks at seeded places, and a stretch of silence. */
+  function clicked(rateHz: number, seed: number): Float32Array {
+    const x = concat(speechLike({ sampleRateHz: rateHz, seconds: 6, rmsDbfs: -24, seed }), silence({ sampleRateHz: rateHz, seconds: 0.5 }), pinkNoise({ sampleRateHz: rateHz, seconds: 2, rmsDbfs: -30, seed }));
+    const random = seededRandom(seed + 1);
+    for (let k = 0; k < 40; k++) x[Math.floor(random() * (x.length - 10))] += random() < 0.5 ? 0.3 : -0.3;
+    return x;
+  }
+  // 48 kHz and 44.1 kHz make even chunks of the pre-screen (120 and 110 samples), 22.05 kHz odd ones (55).
+  for (const rateHz of [48000, 44100, 22050]) {
+    it(`${rateHz} Hz: the SIMD path finds the JavaScript path's clicks, with the same prominence, at any block size`, () => {
+      const channels = [clicked(rateHz, 3), clicked(rateHz, 7)];
+      const detect = (kernels: "auto" | "js", block: number) => {
+        const d = createClickDetector(rateHz, 2, { clickThresholdDb: 40 }, null, kernels);
+        for (let at = 0; at < channels[0].length; at += block) {
+          const n = Math.min(block, channels[0].length - at);
+          d.push(channels.map((x) => x.subarray(at, at + n)), n);
+        }
+        return d.finish();
+      };
+      const js = detect("js", 65536);
+      expect(js.counts[0] + js.counts[1]).toBeGreaterThan(40);
+      for (const block of [65536, 1000, 4097]) expect(detect("auto", block)).toEqual(js);
     });
   }
 });

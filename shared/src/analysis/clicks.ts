@@ -33,6 +33,7 @@
 import type { Finding } from "../types/report.ts";
 import type { AnalysisSettings } from "../types/settings.ts";
 import { channelLabel, formatTimestamp } from "./findings.ts";
+import { createLevelKernels, ensureKernelMemory, type LevelKernels } from "./levelKernels.ts";
 
 /** AR model order: 16 predicts speech and music well at 44.1/48 kHz (Godsill & Rayner use 10–40). */
 export const CLICK_AR_ORDER = 16;
@@ -83,14 +84,19 @@ export interface ClickDetector {
   finish(): { findings: Finding[]; counts: number[] };
 }
 
-/** `onCandidate` hears of each click as it is found, before the findings are made at the end (close-ups keep its samples). */
+/**
+ * `onCandidate` hears of each click as it is found, before the findings are made at the end (close-ups keep
+ * its samples). `kernels`: "auto" runs the pre-screen's first pass in the WebAssembly SIMD kernel where the
+ * runtime has one, "js" always in JavaScript (the same results bit for bit; tests compare the two).
+ */
 export function createClickDetector(
   sampleRateHz: number,
   channels: number,
   settings: Pick<AnalysisSettings, "clickThresholdDb">,
   onCandidate: ((startFrame: number, endFrame: number) => void) | null = null,
+  kernels: "auto" | "js" = "auto",
 ): ClickDetector {
-  return new ArResidualClickDetector(sampleRateHz, channels, settings.clickThresholdDb, onCandidate);
+  return new ArResidualClickDetector(sampleRateHz, channels, settings.clickThresholdDb, onCandidate, kernels === "auto" ? createLevelKernels() : null);
 }
 
 class ArResidualClickDetector implements ClickDetector {
@@ -108,9 +114,13 @@ class ArResidualClickDetector implements ClickDetector {
   private readonly stepRatio = 10 ** (LEVEL_STEP_DB / 20);
   /**
    * Per channel: p samples of history, then the span: margin, stretch, margin. Float32 like the decoded
-   * input, so filling it is a copy, not a conversion; every read widens to double as before.
+   * input, so filling it is a copy, not a conversion; every read widens to double as before. With the
+   * kernels, these and the chunk sums and maxima live in their memory (byte offsets below).
    */
   private readonly buffers: Float32Array[];
+  private readonly bufferAt: number[] = [];
+  private readonly chunkSumAt: number[] = [];
+  private readonly chunkMaxAt: number[] = [];
   /** Span samples present; the margin before the stream's start is silence. */
   private fill: number;
   /** Absolute frame of span index 0 (buffer index p). */
@@ -140,7 +150,8 @@ class ArResidualClickDetector implements ClickDetector {
     private readonly sampleRateHz: number,
     private readonly channels: number,
     thresholdDb: number,
-    private readonly onCandidate: ((startFrame: number, endFrame: number) => void) | null = null,
+    private readonly onCandidate: ((startFrame: number, endFrame: number) => void) | null,
+    private readonly kernels: LevelKernels | null,
   ) {
     const p = this.p;
     // Margins and stretch are whole chunks, so chunks fall at the same frames in every span.
@@ -152,11 +163,30 @@ class ArResidualClickDetector implements ClickDetector {
     this.contextFrames = Math.max(8, Math.round(CONTEXT_SECONDS * sampleRateHz));
     this.ratio = 10 ** (thresholdDb / 20);
     this.prescreenRatio = Math.max(PRESCREEN_MIN_RATIO, PRESCREEN_RATIO * Math.min(1, 10 ** ((thresholdDb - PRESCREEN_AT_DB) / 20)));
-    this.buffers = Array.from({ length: channels }, () => new Float32Array(p + this.spanFrames));
+    const chunks = this.spanFrames / L;
+    if (kernels) {
+      const align = (bytes: number) => Math.ceil(bytes / 16) * 16;
+      let at = 0;
+      for (let c = 0; c < channels; c++) {
+        this.bufferAt.push(at);
+        at += align(4 * (p + this.spanFrames));
+        this.chunkSumAt.push(at);
+        at += align(8 * chunks);
+        this.chunkMaxAt.push(at);
+        at += align(8 * chunks);
+      }
+      ensureKernelMemory(kernels, at);
+      const memory = kernels.memory.buffer;
+      this.buffers = this.bufferAt.map((b) => new Float32Array(memory, b, p + this.spanFrames));
+      this.chunkSum = this.chunkSumAt.map((b) => new Float64Array(memory, b, chunks));
+      this.chunkMax = this.chunkMaxAt.map((b) => new Float64Array(memory, b, chunks));
+    } else {
+      this.buffers = Array.from({ length: channels }, () => new Float32Array(p + this.spanFrames));
+      this.chunkSum = Array.from({ length: channels }, () => new Float64Array(chunks));
+      this.chunkMax = Array.from({ length: channels }, () => new Float64Array(chunks));
+    }
     this.fill = this.half;
     this.spanStart = -this.half;
-    this.chunkSum = Array.from({ length: channels }, () => new Float64Array(this.spanFrames / L));
-    this.chunkMax = Array.from({ length: channels }, () => new Float64Array(this.spanFrames / L));
     this.candidates = new Int32Array(this.spanFrames);
     this.residual = new Float64Array(this.spanFrames);
     this.fitData = new Float64Array(this.spanFrames);
@@ -212,7 +242,10 @@ class ArResidualClickDetector implements ClickDetector {
     const sums = this.chunkSum[c];
     const maxima = this.chunkMax[c];
     const chunks = Math.ceil(end / L);
-    for (let q = this.chunksDone; q < chunks; q++) {
+    const done = this.chunksDone;
+    // The same first pass in the SIMD kernel, over the same memory, when there is one.
+    if (this.kernels && chunks > done) this.kernels.diffChunks(this.bufferAt[c] + 4 * (done * L + p), end - done * L, L, this.chunkSumAt[c] + 8 * done, this.chunkMaxAt[c] + 8 * done);
+    for (let q = this.kernels ? chunks : done; q < chunks; q++) {
       const to = Math.min(end, (q + 1) * L) + p;
       // The two samples before n ride in locals (one load a sample instead of three), and two partial sums
       // halve the chain of dependent additions. For integer PCM every |d| is a multiple of 2^(1−bits) and the

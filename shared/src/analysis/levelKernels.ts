@@ -20,6 +20,7 @@ export interface LevelKernels {
   readonly memory: WasmMemory;
   /** See levelKernels.wat. All arguments are byte offsets into `memory` except n (frames). */
   kweightPair(x: number, z: number, n: number, state: number, coefficients: number): void;
+  diffChunks(x: number, count: number, chunk: number, sums: number, maxima: number): void;
 }
 
 const PAGE_BYTES = 65536;
@@ -59,6 +60,7 @@ export function createLevelKernels(): LevelKernels | null {
   return {
     memory: exports.memory as WasmMemory,
     kweightPair: exports.kweightPair as LevelKernels["kweightPair"],
+    diffChunks: exports.diffChunks as LevelKernels["diffChunks"],
   };
 }
 

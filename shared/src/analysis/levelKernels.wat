@@ -59,4 +59,60 @@
     (v128.store offset=32 (local.get $st) (local.get $t1))
     (v128.store offset=48 (local.get $st) (local.get $t2))
     (v128.store offset=64 (local.get $st) (local.get $sum)))
+;; diffChunks(x, count, L, sums, maxima): the click pre-screen's first pass (clicks.ts). Over count
+  ;; float32 samples from byte offset x (the two before it readable), chunk by chunk of L samples (the last
+  ;; may be short), the second difference d = x[n] − 2·x[n−1] + x[n−2]: Σ|d| into the f64 at sums + 8q and
+  ;; the largest |d| into maxima + 8q. Lane 0 takes the even samples of a chunk and lane 1 the odd ones,
+  ;; as the JavaScript loop's two partial sums do; pmax is its `if (v > max) max = v`.
+  (func (export "diffChunks") (param $x i32) (param $count i32) (param $L i32) (param $sums i32) (param $maxima i32)
+    (local $end i32) (local $chunkEnd i32) (local $pairEnd i32)
+    (local $sum v128) (local $max v128) (local $d v128) (local $two v128)
+    (local $tail f64) (local $lo f64) (local $hi f64)
+    (local.set $two (f64x2.splat (f64.const 2)))
+    (local.set $end (i32.add (local.get $x) (i32.shl (local.get $count) (i32.const 2))))
+    (block $chunksDone
+      (loop $chunk
+        (br_if $chunksDone (i32.ge_u (local.get $x) (local.get $end)))
+        (local.set $chunkEnd (i32.add (local.get $x) (i32.shl (local.get $L) (i32.const 2))))
+        (if (i32.gt_u (local.get $chunkEnd) (local.get $end)) (then (local.set $chunkEnd (local.get $end))))
+        ;; Whole pairs: up to the last even offset that leaves two samples.
+        (local.set $pairEnd (i32.sub (local.get $chunkEnd) (i32.const 4)))
+        (local.set $sum (v128.const f64x2 0 0))
+        (local.set $max (v128.const f64x2 0 0))
+        (block $pairsDone
+          (loop $pair
+            (br_if $pairsDone (i32.ge_u (local.get $x) (local.get $pairEnd)))
+            ;; (x[n], x[n+1]) − 2·(x[n−1], x[n]) + (x[n−2], x[n−1])
+            (local.set $d
+              (f64x2.abs
+                (f64x2.add
+                  (f64x2.sub
+                    (f64x2.promote_low_f32x4 (v128.load64_zero (local.get $x)))
+                    (f64x2.mul (local.get $two) (f64x2.promote_low_f32x4 (v128.load64_zero offset=0 (i32.sub (local.get $x) (i32.const 4))))))
+                  (f64x2.promote_low_f32x4 (v128.load64_zero (i32.sub (local.get $x) (i32.const 8)))))))
+            (local.set $sum (f64x2.add (local.get $sum) (local.get $d)))
+            (local.set $max (f64x2.pmax (local.get $max) (local.get $d)))
+            (local.set $x (i32.add (local.get $x) (i32.const 8)))
+            (br $pair)))
+        ;; An odd sample left: the even lane's, as in the JavaScript loop.
+        (if (i32.lt_u (local.get $x) (local.get $chunkEnd))
+          (then
+            (local.set $tail
+              (f64.abs
+                (f64.add
+                  (f64.sub
+                    (f64.promote_f32 (f32.load (local.get $x)))
+                    (f64.mul (f64.const 2) (f64.promote_f32 (f32.load (i32.sub (local.get $x) (i32.const 4))))))
+                  (f64.promote_f32 (f32.load (i32.sub (local.get $x) (i32.const 8)))))))
+            (local.set $sum (f64x2.replace_lane 0 (local.get $sum) (f64.add (f64x2.extract_lane 0 (local.get $sum)) (local.get $tail))))
+            (local.set $max (f64x2.pmax (local.get $max) (f64x2.replace_lane 1 (f64x2.splat (local.get $tail)) (f64.const 0))))
+            (local.set $x (i32.add (local.get $x) (i32.const 4)))))
+        (f64.store (local.get $sums) (f64.add (f64x2.extract_lane 0 (local.get $sum)) (f64x2.extract_lane 1 (local.get $sum))))
+        ;; max over the lanes, as `if (w > max) max = w` after lane 0's
+        (local.set $lo (f64x2.extract_lane 0 (local.get $max)))
+        (local.set $hi (f64x2.extract_lane 1 (local.get $max)))
+        (f64.store (local.get $maxima) (select (local.get $hi) (local.get $lo) (f64.gt (local.get $hi) (local.get $lo))))
+        (local.set $sums (i32.add (local.get $sums) (i32.const 8)))
+        (local.set $maxima (i32.add (local.get $maxima) (i32.const 8)))
+        (br $chunk))))
 )
