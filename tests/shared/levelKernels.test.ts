@@ -10,6 +10,7 @@ import { createLevelKernels, ensureKernelMemory } from "../../shared/src/analysi
 import { LEVEL_KERNELS_BASE64 } from "../../shared/src/analysis/levelKernels.generated.ts";
 import { createClickDetector } from "../../shared/src/analysis/clicks.ts";
 import { createLoudnessMeter, type LoudnessResult } from "../../shared/src/analysis/loudness.ts";
+import { createTruePeakMeter, flagByBits } from "../../shared/src/analysis/truePeak.ts";
 import { compileLevelKernels, LEVEL_KERNELS_GENERATED, levelKernelsModuleText } from "../../scripts/lib/levelKernelsWasm.ts";
 import { concat, pinkNoise, seededRandom, silence, sine, speechLike } from "../fixtures/synth.ts";
 
@@ -147,4 +148,48 @@ describe("click pre-screen kernel", () => {
       for (const block of [65536, 1000, 4097]) expect(detect("auto", block)).toEqual(js);
     });
   }
+});
+
+describe("true-peak flagging kernel", () => {
+  it("writes the JavaScript pass's candidate ranges, for any length and threshold", () => {
+    const k = createLevelKernels();
+    if (!k) throw new Error("no WebAssembly SIMD in this runtime");
+    const length = 3000;
+    ensureKernelMemory(k, 4 * length + 4 * 2 * length);
+    const x = new Float32Array(k.memory.buffer, 0, length);
+    const bits = new Int32Array(k.memory.buffer, 0, length);
+    const ranges = new Int32Array(k.memory.buffer, 4 * length, 2 * length);
+    const random = seededRandom(5);
+    for (let i = 0; i < length; i++) x[i] = Math.fround((random() - 0.5) * (i % 500 < 250 ? 0.3 : 1));
+    const want = new Int32Array(2 * length);
+    let nonEmpty = 0;
+    for (const threshold of [0.01, 0.2, 0.4, 0.49, 0.6]) {
+      const thresholdBits = new Int32Array(Float32Array.of(threshold).buffer)[0];
+      for (const end of [length, 2999, 2998, 2997, 12, 11, 3]) {
+        const count = flagByBits(bits, 11, end, 12, thresholdBits, want);
+        expect(k.flagBits(0, 11, end, 12, thresholdBits, 4 * length)).toBe(count);
+        expect(Array.from(ranges.subarray(0, count))).toEqual(Array.from(want.subarray(0, count)));
+        if (count > 2) nonEmpty++;
+      }
+    }
+    expect(nonEmpty).toBeGreaterThan(10);
+  });
+
+  it("a meter using it reads what the JavaScript meter reads, value and position, on rising bursts", () => {
+    const fs = 48000;
+    const random = seededRandom(9);
+    const x = pinkNoise({ sampleRateHz: fs, seconds: 6, rmsDbfs: -30, seed: 8 });
+    // Louder and louder bursts, so the running maximum keeps moving and the flagging keeps mattering.
+    for (let b = 0; b < 30; b++) {
+      const at = Math.floor(random() * (x.length - 100));
+      for (let i = 0; i < 40; i++) x[at + i] += (0.02 + 0.03 * b) * Math.sin(i * 2.6);
+    }
+    const measure = (kernels: "auto" | "js", block: number) => {
+      const m = createTruePeakMeter(fs, 1, kernels);
+      for (let at = 0; at < x.length; at += block) m.push([x.subarray(at, Math.min(x.length, at + block))], Math.min(block, x.length - at));
+      return m.finish();
+    };
+    const js = measure("js", 65536);
+    for (const block of [65536, 5000, 333]) expect(measure("auto", block)).toEqual(js);
+  });
 });

@@ -21,6 +21,7 @@ export interface LevelKernels {
   /** See levelKernels.wat. All arguments are byte offsets into `memory` except n (frames). */
   kweightPair(x: number, z: number, n: number, state: number, coefficients: number): void;
   diffChunks(x: number, count: number, chunk: number, sums: number, maxima: number): void;
+  flagBits(x: number, h: number, end: number, taps: number, thresholdBits: number, ranges: number): number;
 }
 
 const PAGE_BYTES = 65536;
@@ -61,6 +62,7 @@ export function createLevelKernels(): LevelKernels | null {
     memory: exports.memory as WasmMemory,
     kweightPair: exports.kweightPair as LevelKernels["kweightPair"],
     diffChunks: exports.diffChunks as LevelKernels["diffChunks"],
+    flagBits: exports.flagBits as LevelKernels["flagBits"],
   };
 }
 

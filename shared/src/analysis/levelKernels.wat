@@ -115,4 +115,62 @@
         (local.set $sums (i32.add (local.get $sums) (i32.const 8)))
         (local.set $maxima (i32.add (local.get $maxima) (i32.const 8)))
         (br $chunk))))
+;; flagBits(x, h, end, taps, threshold, ranges) → count: the true-peak meter's flagging pass (truePeak.ts,
+  ;; flagByBits). Sample i of the float32 block at byte offset x (i < end) is flagged when its magnitude bits
+  ;; exceed `threshold`; it marks outputs [max(i, h), min(i + taps, end)) as candidates, and touching ranges
+  ;; merge. The [start, end) pairs go to the i32s at `ranges`; returns how many numbers were written. Four
+  ;; samples are tested at once, and only a group with a flagged sample is walked one by one.
+  (func (export "flagBits") (param $x i32) (param $h i32) (param $end i32) (param $taps i32) (param $threshold i32) (param $ranges i32) (result i32)
+    (local $i i32) (local $stop i32) (local $lo i32) (local $hi i32) (local $count i32)
+    (local $rangeStart i32) (local $rangeEnd i32) (local $limit v128) (local $magnitude v128)
+    (local.set $rangeStart (i32.const -1))
+    (local.set $rangeEnd (i32.const -1))
+    (local.set $limit (i32x4.splat (local.get $threshold)))
+    (local.set $magnitude (i32x4.splat (i32.const 0x7fffffff)))
+    (block $done
+      (loop $outer
+        (br_if $done (i32.ge_s (local.get $i) (local.get $end)))
+        ;; Skip whole groups of four with nothing flagged.
+        (block $found
+          (loop $skip
+            (br_if $found (i32.gt_s (i32.add (local.get $i) (i32.const 4)) (local.get $end)))
+            (br_if $found
+              (v128.any_true
+                (i32x4.gt_s
+                  (v128.and (v128.load (i32.add (local.get $x) (i32.shl (local.get $i) (i32.const 2)))) (local.get $magnitude))
+                  (local.get $limit))))
+            (local.set $i (i32.add (local.get $i) (i32.const 4)))
+            (br $skip)))
+        ;; One by one through this group (or the last few samples).
+        (local.set $stop (i32.add (local.get $i) (i32.const 4)))
+        (if (i32.gt_s (local.get $stop) (local.get $end)) (then (local.set $stop (local.get $end))))
+        (block $groupDone
+          (loop $scalar
+            (br_if $groupDone (i32.ge_s (local.get $i) (local.get $stop)))
+            (if (i32.gt_s
+                  (i32.and (i32.load (i32.add (local.get $x) (i32.shl (local.get $i) (i32.const 2)))) (i32.const 0x7fffffff))
+                  (local.get $threshold))
+              (then
+                (local.set $lo (select (local.get $i) (local.get $h) (i32.gt_s (local.get $i) (local.get $h))))
+                (local.set $hi (i32.add (local.get $i) (local.get $taps)))
+                (if (i32.gt_s (local.get $hi) (local.get $end)) (then (local.set $hi (local.get $end))))
+                (if (i32.le_s (local.get $lo) (local.get $rangeEnd))
+                  (then (local.set $rangeEnd (local.get $hi)))
+                  (else
+                    (if (i32.ge_s (local.get $rangeStart) (i32.const 0))
+                      (then
+                        (i32.store (i32.add (local.get $ranges) (i32.shl (local.get $count) (i32.const 2))) (local.get $rangeStart))
+                        (i32.store offset=4 (i32.add (local.get $ranges) (i32.shl (local.get $count) (i32.const 2))) (local.get $rangeEnd))
+                        (local.set $count (i32.add (local.get $count) (i32.const 2)))))
+                    (local.set $rangeStart (local.get $lo))
+                    (local.set $rangeEnd (local.get $hi))))))
+            (local.set $i (i32.add (local.get $i) (i32.const 1)))
+            (br $scalar)))
+        (br $outer)))
+    (if (i32.ge_s (local.get $rangeStart) (i32.const 0))
+      (then
+        (i32.store (i32.add (local.get $ranges) (i32.shl (local.get $count) (i32.const 2))) (local.get $rangeStart))
+        (i32.store offset=4 (i32.add (local.get $ranges) (i32.shl (local.get $count) (i32.const 2))) (local.get $rangeEnd))
+        (local.set $count (i32.add (local.get $count) (i32.const 2)))))
+    (local.get $count))
 )

@@ -13,6 +13,7 @@
  * the meter class). The skipped outputs are provably no larger, so the result is exactly the full
  * computation's (value and position); only where the bounds reach the running maximum are the phases computed.
  */
+import { createLevelKernels, ensureKernelMemory, type LevelKernels } from "./levelKernels.ts";
 
 export interface InterpolationFilter {
   /** Oversampling factor L. */
@@ -112,9 +113,16 @@ export interface TruePeakMeter {
   readonly runningPeak: Float64Array;
 }
 
-export function createTruePeakMeter(sampleRateHz: number, channels: number): TruePeakMeter {
-  return new PolyphaseTruePeakMeter(designInterpolationFilter(truePeakOversampling(sampleRateHz)), channels);
+/**
+ * `kernels`: "auto" runs the flagging pass in the WebAssembly SIMD kernel where the runtime has one, "js"
+ * always in JavaScript (the same results bit for bit; tests compare the two).
+ */
+export function createTruePeakMeter(sampleRateHz: number, channels: number, kernels: "auto" | "js" = "auto"): TruePeakMeter {
+  return new PolyphaseTruePeakMeter(designInterpolationFilter(truePeakOversampling(sampleRateHz)), channels, kernels === "auto" ? createLevelKernels() : null);
 }
+
+/** Frames judged at a time: pushes are cut into blocks of at most this (the result does not depend on it). */
+const BLOCK_FRAMES = 16384;
 
 /** Samples taken for a block's centre estimate c: every 64th (any c is correct; a good one skips more). */
 const CENTRE_STRIDE = 64;
@@ -140,7 +148,7 @@ function float32BitsAtMost(t: number): number {
  * returns how many numbers were written. Sample i is read by outputs i … i + T − 1; touching ranges merge.
  * Two copies of one loop, because V8 does not unswitch the test out of it.
  */
-function flagByBits(bits: Int32Array, h: number, end: number, taps: number, thresholdBits: number, ranges: Int32Array): number {
+export function flagByBits(bits: Int32Array, h: number, end: number, taps: number, thresholdBits: number, ranges: Int32Array): number {
   let count = 0;
   let rangeStart = -1;
   let rangeEnd = -1;
@@ -203,12 +211,15 @@ function flagByDeviation(x: Float32Array, h: number, end: number, taps: number, 
  */
 class PolyphaseTruePeakMeter implements TruePeakMeter {
   private readonly history: number;
-  /** Per channel: the last (taps − 1) input samples, then the current block. */
-  private extended: Float32Array[];
+  /** Per channel: the last (taps − 1) input samples, then the current block (in the kernels' memory if any). */
+  private readonly extended: Float32Array[];
   /** The same memory as int32, for the sign-free magnitude compare of the flagging pass. */
-  private extendedBits: Int32Array[];
+  private readonly extendedBits: Int32Array[];
   /** Candidate output ranges of the current block and channel: [start, end) pairs of ext indices. */
-  private ranges = new Int32Array(0);
+  private readonly ranges: Int32Array;
+  /** Byte offsets of `extended` and `ranges` in the kernels' memory. */
+  private readonly extendedAt: number[] = [];
+  private readonly rangesAt: number = 0;
   private readonly peak: Float64Array;
   private readonly peakFrame: Float64Array;
   /** Flat taps, phase-major, for the unrolled kernels. */
@@ -227,10 +238,26 @@ class PolyphaseTruePeakMeter implements TruePeakMeter {
   constructor(
     private readonly filter: InterpolationFilter,
     private readonly channels: number,
+    private readonly kernels: LevelKernels | null,
   ) {
     this.history = filter.tapsPerPhase - 1;
-    this.extended = Array.from({ length: channels }, () => new Float32Array(this.history + 4096));
-    this.extendedBits = this.extended.map((e) => new Int32Array(e.buffer));
+    const extLength = this.history + BLOCK_FRAMES;
+    // Each range but the last spans ≥ T outputs and ranges never touch: at most ⌈(h + frames) / T⌉ + 1.
+    const rangesLength = 2 * (Math.ceil(extLength / filter.tapsPerPhase) + 2);
+    if (kernels) {
+      const align = (bytes: number) => Math.ceil(bytes / 16) * 16;
+      let at = 0;
+      for (let c = 0; c < channels; c++, at += align(4 * extLength)) this.extendedAt.push(at);
+      this.rangesAt = at;
+      ensureKernelMemory(kernels, at + 4 * rangesLength);
+      this.extended = this.extendedAt.map((b) => new Float32Array(kernels.memory.buffer, b, extLength));
+      this.extendedBits = this.extendedAt.map((b) => new Int32Array(kernels.memory.buffer, b, extLength));
+      this.ranges = new Int32Array(kernels.memory.buffer, this.rangesAt, rangesLength);
+    } else {
+      this.extended = Array.from({ length: channels }, () => new Float32Array(extLength));
+      this.extendedBits = this.extended.map((e) => new Int32Array(e.buffer));
+      this.ranges = new Int32Array(rangesLength);
+    }
     this.peak = new Float64Array(channels);
     this.peakFrame = new Float64Array(channels);
     this.taps = new Float64Array(filter.phases.length * filter.tapsPerPhase);
@@ -249,25 +276,16 @@ class PolyphaseTruePeakMeter implements TruePeakMeter {
       this.position += frames;
       return;
     }
-    if (this.extended[0].length < h + frames) {
-      this.extended = this.extended.map((old) => {
-        const grown = new Float32Array(h + frames);
-        grown.set(old.subarray(0, h));
-        return grown;
-      });
-      this.extendedBits = this.extended.map((e) => new Int32Array(e.buffer));
+    for (let from = 0; from < frames; from += BLOCK_FRAMES) {
+      const n = Math.min(BLOCK_FRAMES, frames - from);
+      for (let c = 0; c < this.channels; c++) {
+        const ext = this.extended[c];
+        ext.set(input[c].subarray(from, from + n), h);
+        this.interpolatedPeak(c, ext, n);
+        ext.copyWithin(0, n, n + h);
+      }
+      this.position += n;
     }
-    if (this.ranges.length < 2 * (Math.ceil((h + frames) / this.filter.tapsPerPhase) + 2)) {
-      // Each range but the last spans ≥ 12 outputs and ranges never touch: at most ⌈(h + frames) / 12⌉ + 1.
-      this.ranges = new Int32Array(2 * (Math.ceil((h + frames) / this.filter.tapsPerPhase) + 2));
-    }
-    for (let c = 0; c < this.channels; c++) {
-      const ext = this.extended[c];
-      ext.set(input[c].subarray(0, frames), h);
-      this.interpolatedPeak(c, ext, frames);
-      ext.copyWithin(0, frames, frames + h);
-    }
-    this.position += frames;
   }
 
   /** No oversampling: the sample peak, first occurrence. */
@@ -309,9 +327,12 @@ class PolyphaseTruePeakMeter implements TruePeakMeter {
     // (1) Flag samples; T < 0 (best still below |c|) flags all of them.
     const threshold = (best0 - centreAbs) / this.l1;
     const ranges = this.ranges;
-    const count = useBits
-      ? flagByBits(this.extendedBits[c], h, end, taps, float32BitsAtMost(threshold), ranges)
-      : flagByDeviation(ext, h, end, taps, centre, threshold, ranges);
+    const kernels = this.kernels;
+    const count = !useBits
+      ? flagByDeviation(ext, h, end, taps, centre, threshold, ranges)
+      : kernels
+        ? kernels.flagBits(this.extendedAt[c], h, end, taps, float32BitsAtMost(threshold), this.rangesAt)
+        : flagByBits(this.extendedBits[c], h, end, taps, float32BitsAtMost(threshold), ranges);
     if (count === 0) return;
 
     // (2a) Phase 0: the block's sample peak lies in the ranges if it beats the running maximum.
