@@ -11,6 +11,7 @@ import { LEVEL_KERNELS_BASE64 } from "../../shared/src/analysis/levelKernels.gen
 import { createClickDetector } from "../../shared/src/analysis/clicks.ts";
 import { createLoudnessMeter, type LoudnessResult } from "../../shared/src/analysis/loudness.ts";
 import { createTruePeakMeter, flagByBits } from "../../shared/src/analysis/truePeak.ts";
+import { createValueRunTracker, type ValueRun } from "../../shared/src/analysis/valueRuns.ts";
 import { compileLevelKernels, LEVEL_KERNELS_GENERATED, levelKernelsModuleText } from "../../scripts/lib/levelKernelsWasm.ts";
 import { concat, pinkNoise, seededRandom, silence, sine, speechLike } from "../fixtures/synth.ts";
 
@@ -191,5 +192,38 @@ describe("true-peak flagging kernel", () => {
     };
     const js = measure("js", 65536);
     for (const block of [65536, 5000, 333]) expect(measure("auto", block)).toEqual(js);
+  });
+});
+
+describe("equal-neighbour kernel", () => {
+  it("the value-run tracker finds the JavaScript path's runs, in the same order (zeros, ±0, stuck values, NaN, 8-bit steps)", () => {
+    const random = seededRandom(21);
+    const n = 100000;
+    const make = (quantum: number) => {
+      const x = new Float32Array(n);
+      for (let i = 0; i < n; i++) x[i] = Math.round(((random() - 0.5) * 0.02) / quantum) * quantum;
+      for (let k = 0; k < 60; k++) {
+        const at = Math.floor(random() * (n - 400));
+        const length = 1 + Math.floor(random() * 300);
+        x.fill(k % 3 === 0 ? 0 : k % 3 === 1 ? x[at] : -0, at, at + length);
+      }
+      for (let i = 500; i < 520; i += 2) x[i] = -0;
+      x[9000] = x[9001] = NaN;
+      return x;
+    };
+    const channels = [make(2 ** -7), make(2 ** -23), make(2 ** -15)];
+    const runs = (kernels: "auto" | "js", block: number) => {
+      const found: ValueRun[] = [];
+      const t = createValueRunTracker(channels.length, 2, (r) => found.push({ ...r }), kernels);
+      for (let at = 0; at < n; at += block) t.push(channels.map((x) => x.subarray(at, Math.min(n, at + block))), Math.min(block, n - at));
+      t.finish();
+      return found;
+    };
+    // Channels report in turn within each block, so the order depends on the block size: compare like with like.
+    for (const block of [65536, 16384, 999, 20000]) {
+      const js = runs("js", block);
+      expect(js.length).toBeGreaterThan(500);
+      expect(runs("auto", block)).toEqual(js);
+    }
   });
 });

@@ -22,6 +22,7 @@ export interface LevelKernels {
   kweightPair(x: number, z: number, n: number, state: number, coefficients: number): void;
   diffChunks(x: number, count: number, chunk: number, sums: number, maxima: number): void;
   flagBits(x: number, h: number, end: number, taps: number, thresholdBits: number, ranges: number): number;
+  findEqual(x: number, k: number, end: number): number;
 }
 
 const PAGE_BYTES = 65536;
@@ -63,6 +64,7 @@ export function createLevelKernels(): LevelKernels | null {
     kweightPair: exports.kweightPair as LevelKernels["kweightPair"],
     diffChunks: exports.diffChunks as LevelKernels["diffChunks"],
     flagBits: exports.flagBits as LevelKernels["flagBits"],
+    findEqual: exports.findEqual as LevelKernels["findEqual"],
   };
 }
 

@@ -173,4 +173,24 @@
         (i32.store offset=4 (i32.add (local.get $ranges) (i32.shl (local.get $count) (i32.const 2))) (local.get $rangeEnd))
         (local.set $count (i32.add (local.get $count) (i32.const 2)))))
     (local.get $count))
+;; findEqual(x, k, end) → the first i in [k, end) with x[i] = x[i − 1] (float32 at byte offset x, k ≥ 1), or end:
+  ;; valueRuns.ts's search for the start of a run. Float equality, as the JavaScript loop's (0 = −0, NaN is
+  ;; never equal), four neighbours at a time.
+  (func (export "findEqual") (param $x i32) (param $k i32) (param $end i32) (result i32)
+    (local $at i32)
+    (block $scalar
+      (loop $group
+        (br_if $scalar (i32.gt_s (i32.add (local.get $k) (i32.const 4)) (local.get $end)))
+        (local.set $at (i32.add (local.get $x) (i32.shl (local.get $k) (i32.const 2))))
+        (br_if $scalar (v128.any_true (f32x4.eq (v128.load (local.get $at)) (v128.load (i32.sub (local.get $at) (i32.const 4))))))
+        (local.set $k (i32.add (local.get $k) (i32.const 4)))
+        (br $group)))
+    (block $done
+      (loop $one
+        (br_if $done (i32.ge_s (local.get $k) (local.get $end)))
+        (local.set $at (i32.add (local.get $x) (i32.shl (local.get $k) (i32.const 2))))
+        (if (f32.eq (f32.load (local.get $at)) (f32.load (i32.sub (local.get $at) (i32.const 4)))) (then (return (local.get $k))))
+        (local.set $k (i32.add (local.get $k) (i32.const 1)))
+        (br $one)))
+    (local.get $end))
 )

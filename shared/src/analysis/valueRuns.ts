@@ -3,6 +3,7 @@
  * zero) and stuck samples (runs of one non-zero value). One comparison per sample; runs shorter than
  * `minLength` are never reported.
  */
+import { createLevelKernels, ensureKernelMemory, type LevelKernels } from "./levelKernels.ts";
 
 export interface ValueRun {
   channel: number;
@@ -20,9 +21,14 @@ export interface ValueRunTracker {
   finish(): void;
 }
 
-export function createValueRunTracker(channels: number, minLength: number, onRun: (run: ValueRun) => void): ValueRunTracker {
-  return new RunTracker(channels, Math.max(2, minLength), onRun);
+/**
+ * `kernels`: "auto" searches for equal neighbours in the WebAssembly SIMD kernel where the runtime has one,
+ * "js" always in JavaScript (the same runs; tests compare the two).
+ */
+export function createValueRunTracker(channels: number, minLength: number, onRun: (run: ValueRun) => void, kernels: "auto" | "js" = "auto"): ValueRunTracker {
+  return new RunTracker(channels, Math.max(2, minLength), onRun, kernels === "auto" ? createLevelKernels() : null);
 }
+
 
 /**
  * Per channel it carries the run that the previous block ended in: its value (NaN before the first sample),
@@ -34,16 +40,21 @@ class RunTracker implements ValueRunTracker {
   private readonly lastStart: Float64Array;
   private readonly beforeLast: Float64Array;
   private position = 0;
+  /** Each channel's samples of the current block in the kernel's memory, stageFrames apart (grown to the block). */
+  private stage: Float32Array | null = null;
+  private stageFrames = 0;
 
   constructor(
     private readonly channels: number,
     private readonly minLength: number,
     private readonly onRun: (run: ValueRun) => void,
+    private readonly kernels: LevelKernels | null,
   ) {
     this.last = new Float64Array(channels).fill(NaN);
     this.lastStart = new Float64Array(channels);
     this.beforeLast = new Float64Array(channels).fill(NaN);
   }
+
 
   private report(c: number, value: number, startFrame: number, endFrame: number, before: number, after: number | null): void {
     if (endFrame - startFrame < this.minLength || Number.isNaN(value)) return;
@@ -52,7 +63,17 @@ class RunTracker implements ValueRunTracker {
 
   push(input: Float32Array[], frames: number): void {
     if (frames <= 0) return;
-    for (let c = 0; c < this.channels; c++) this.scan(c, input[c], frames);
+    const kernels = this.kernels;
+    if (kernels && frames > this.stageFrames) {
+      // Whole blocks, so runs are reported in the same order as without the kernel.
+      ensureKernelMemory(kernels, this.channels * frames * 4);
+      this.stageFrames = frames;
+      this.stage = new Float32Array(kernels.memory.buffer, 0, this.channels * frames);
+    }
+    for (let c = 0; c < this.channels; c++) {
+      this.stage?.set(input[c].subarray(0, frames), c * this.stageFrames);
+      this.scan(c, input[c], frames);
+    }
     this.position += frames;
   }
 
@@ -68,8 +89,9 @@ class RunTracker implements ValueRunTracker {
     // at index r follows x[r − 1], or the carried value when r = 0.
     let k = i + 1;
     for (;;) {
-      // The previous sample rides in a local: one load a sample.
-      if (k < frames) {
+      // The previous sample rides in a local: one load a sample (or four at once in the kernel).
+      if (this.kernels && k < frames) k = this.kernels.findEqual(c * this.stageFrames * 4, k, frames);
+      else if (k < frames) {
         let prev = x[k - 1];
         for (; k < frames; k++) {
           const v = x[k];
