@@ -50,15 +50,25 @@ function decodeBase64(text: string): Uint8Array {
   return out;
 }
 
-/** A fresh instance, or null where this runtime cannot run the module. */
+/**
+ * A fresh instance, or null where this runtime cannot run the module (no WebAssembly or no SIMD, a content
+ * security policy without 'wasm-unsafe-eval', no address space left for another memory): the callers'
+ * JavaScript loops give the same results, only slower.
+ */
 export function createLevelKernels(): LevelKernels | null {
   const api = (globalThis as { WebAssembly?: WasmApi }).WebAssembly;
-  if (compiled === undefined) {
-    const bytes = decodeBase64(LEVEL_KERNELS_BASE64);
-    compiled = api && api.validate(bytes) ? new api.Module(bytes) : null;
+  if (!api) return null;
+  let exports: Record<string, unknown>;
+  try {
+    if (compiled === undefined) {
+      const bytes = decodeBase64(LEVEL_KERNELS_BASE64);
+      compiled = api.validate(bytes) ? new api.Module(bytes) : null;
+    }
+    if (compiled === null) return null;
+    exports = new api.Instance(compiled).exports;
+  } catch {
+    return null;
   }
-  if (!api || compiled === null) return null;
-  const { exports } = new api.Instance(compiled);
   return {
     memory: exports.memory as WasmMemory,
     kweightPair: exports.kweightPair as LevelKernels["kweightPair"],
