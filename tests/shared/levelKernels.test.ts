@@ -10,7 +10,7 @@ import { createLevelKernels, ensureKernelMemory } from "../../shared/src/analysi
 import { LEVEL_KERNELS_BASE64 } from "../../shared/src/analysis/levelKernels.generated.ts";
 import { createClickDetector } from "../../shared/src/analysis/clicks.ts";
 import { createLoudnessMeter, type LoudnessResult } from "../../shared/src/analysis/loudness.ts";
-import { createTruePeakMeter, flagByBits } from "../../shared/src/analysis/truePeak.ts";
+import { createTruePeakMeter, designInterpolationFilter, flagByBits } from "../../shared/src/analysis/truePeak.ts";
 import { createValueRunTracker, type ValueRun } from "../../shared/src/analysis/valueRuns.ts";
 import { compileLevelKernels, LEVEL_KERNELS_GENERATED, levelKernelsModuleText } from "../../scripts/lib/levelKernelsWasm.ts";
 import { concat, pinkNoise, seededRandom, silence, sine, speechLike } from "../fixtures/synth.ts";
@@ -174,6 +174,54 @@ describe("true-peak flagging kernel", () => {
       }
     }
     expect(nonEmpty).toBeGreaterThan(10);
+  });
+
+  it("the per-output bound stops at the outputs whose bound around their centre samples exceeds the maximum", () => {
+    const k = createLevelKernels();
+    if (!k) throw new Error("no WebAssembly SIMD in this runtime");
+    const length = 4000;
+    ensureKernelMemory(k, 4 * length + 4 * 64 + 64);
+    const x = new Float32Array(k.memory.buffer, 0, length);
+    const random = seededRandom(13);
+    // Smooth noise with a few sharp steps, so some outputs' bounds are high and most are low.
+    let v = 0;
+    for (let i = 0; i < length; i++) x[i] = v = 0.9 * v + 0.1 * (random() - 0.5) + (i % 301 === 0 ? 0.8 : 0);
+    const tapMax = designInterpolationFilter(8).tapMax;
+    const slack = 1 + 1e-9;
+    const g = Array.from({ length: 6 }, (_, j) => Math.max(tapMax[j], tapMax[11 - j]) * slack);
+    const gAt = 4 * length + 4 * 64;
+    new Float64Array(k.memory.buffer, gAt, 7).set([...g, slack]);
+    const local = (n: number): number => {
+      const m = 0.5 * (x[n - 5] + x[n - 6]);
+      let b = Math.abs(m) * slack + g[5] * Math.abs(x[n - 5] - x[n - 6]);
+      for (let j = 0; j < 5; j++) b += g[j] * (Math.abs(x[n - j] - m) + Math.abs(x[n - 11 + j] - m));
+      return b;
+    };
+    const rangeList = [11, 40, 100, 101, 200, 777, 900, 3999];
+    new Int32Array(k.memory.buffer, 4 * length, rangeList.length).set(rangeList);
+    let stops = 0;
+    for (const best of [0.05, 0.2, 0.4, 0.8]) {
+      // Walk the ranges as the meter does, and as a plain loop over every output would.
+      const want: number[] = [];
+      for (let r = 0; r < rangeList.length; r += 2) for (let n = rangeList[r]; n < rangeList[r + 1]; n++) if (local(n) > best) want.push(n);
+      const got: number[] = [];
+      let r = 0;
+      let n = rangeList[0];
+      for (;;) {
+        n = k.localBounds(0, 4 * length, rangeList.length, r, n, best, gAt);
+        if (n < 0) break;
+        got.push(n);
+        while (rangeList[r + 1] <= n) r += 2;
+        if (++n >= rangeList[r + 1]) {
+          r += 2;
+          if (r >= rangeList.length) break;
+          n = rangeList[r];
+        }
+      }
+      expect(got).toEqual(want);
+      stops += got.length;
+    }
+    expect(stops).toBeGreaterThan(20);
   });
 
   it("a meter using it reads what the JavaScript meter reads, value and position, on rising bursts", () => {

@@ -23,6 +23,7 @@ export interface LevelKernels {
   diffChunks(x: number, count: number, chunk: number, sums: number, maxima: number): void;
   flagBits(x: number, h: number, end: number, taps: number, thresholdBits: number, ranges: number): number;
   findEqual(x: number, k: number, end: number): number;
+  localBounds(x: number, ranges: number, count: number, r: number, n: number, best: number, g: number): number;
 }
 
 const PAGE_BYTES = 65536;
@@ -75,6 +76,7 @@ export function createLevelKernels(): LevelKernels | null {
     diffChunks: exports.diffChunks as LevelKernels["diffChunks"],
     flagBits: exports.flagBits as LevelKernels["flagBits"],
     findEqual: exports.findEqual as LevelKernels["findEqual"],
+    localBounds: exports.localBounds as LevelKernels["localBounds"],
   };
 }
 

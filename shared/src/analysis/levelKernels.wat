@@ -193,4 +193,63 @@
         (local.set $k (i32.add (local.get $k) (i32.const 1)))
         (br $one)))
     (local.get $end))
+;; localBounds(x, ranges, count, r, n, best, g) → the first candidate output, from output n of range r on (of
+  ;; the [start, end) i32 pairs at `ranges`, `count` numbers), whose bound around its own centre samples
+  ;; exceeds `best`, or −1 when none does: truePeak.ts's first per-output bound (fir12x7), for 12 taps, two
+  ;; outputs at a time (lane 0 output n, lane 1 output n + 1). x: the float32 block; g: six f64, the folded
+  ;; per-tap maxima g0…g5, then the slack for |m|. Any order of the additions is a valid bound (the slack
+  ;; covers rounding); the caller bounds the output found again and runs the FIR there.
+  (func (export "localBounds") (param $x i32) (param $ranges i32) (param $count i32) (param $r i32) (param $n i32) (param $best f64) (param $g i32) (result i32)
+    (local $end i32) (local $base i32) (local $limit v128) (local $half v128) (local $slack v128) (local $m v128) (local $over v128)
+    (local $x0 v128) (local $x1 v128) (local $x2 v128) (local $x3 v128) (local $x4 v128) (local $x5 v128) (local $x6 v128) (local $x7 v128) (local $x8 v128) (local $x9 v128) (local $x10 v128) (local $x11 v128)
+    (local $g0 v128) (local $g1 v128) (local $g2 v128) (local $g3 v128) (local $g4 v128) (local $g5 v128)
+    (local.set $g0 (f64x2.splat (f64.load offset=0 (local.get $g))))
+    (local.set $g1 (f64x2.splat (f64.load offset=8 (local.get $g))))
+    (local.set $g2 (f64x2.splat (f64.load offset=16 (local.get $g))))
+    (local.set $g3 (f64x2.splat (f64.load offset=24 (local.get $g))))
+    (local.set $g4 (f64x2.splat (f64.load offset=32 (local.get $g))))
+    (local.set $g5 (f64x2.splat (f64.load offset=40 (local.get $g))))
+    (local.set $slack (f64x2.splat (f64.load offset=48 (local.get $g))))
+    (local.set $half (f64x2.splat (f64.const 0.5)))
+    (local.set $limit (f64x2.splat (local.get $best)))
+    (block $done
+      (loop $range
+        (br_if $done (i32.ge_s (local.get $r) (local.get $count)))
+        (local.set $end (i32.load offset=4 (i32.add (local.get $ranges) (i32.shl (local.get $r) (i32.const 2)))))
+        (block $rangeDone
+          (loop $output
+            (br_if $rangeDone (i32.ge_s (local.get $n) (local.get $end)))
+            (local.set $base (i32.add (local.get $x) (i32.shl (local.get $n) (i32.const 2))))
+            (local.set $x0 (f64x2.promote_low_f32x4 (v128.load64_zero (i32.sub (local.get $base) (i32.const 0)))))
+            (local.set $x1 (f64x2.promote_low_f32x4 (v128.load64_zero (i32.sub (local.get $base) (i32.const 4)))))
+            (local.set $x2 (f64x2.promote_low_f32x4 (v128.load64_zero (i32.sub (local.get $base) (i32.const 8)))))
+            (local.set $x3 (f64x2.promote_low_f32x4 (v128.load64_zero (i32.sub (local.get $base) (i32.const 12)))))
+            (local.set $x4 (f64x2.promote_low_f32x4 (v128.load64_zero (i32.sub (local.get $base) (i32.const 16)))))
+            (local.set $x5 (f64x2.promote_low_f32x4 (v128.load64_zero (i32.sub (local.get $base) (i32.const 20)))))
+            (local.set $x6 (f64x2.promote_low_f32x4 (v128.load64_zero (i32.sub (local.get $base) (i32.const 24)))))
+            (local.set $x7 (f64x2.promote_low_f32x4 (v128.load64_zero (i32.sub (local.get $base) (i32.const 28)))))
+            (local.set $x8 (f64x2.promote_low_f32x4 (v128.load64_zero (i32.sub (local.get $base) (i32.const 32)))))
+            (local.set $x9 (f64x2.promote_low_f32x4 (v128.load64_zero (i32.sub (local.get $base) (i32.const 36)))))
+            (local.set $x10 (f64x2.promote_low_f32x4 (v128.load64_zero (i32.sub (local.get $base) (i32.const 40)))))
+            (local.set $x11 (f64x2.promote_low_f32x4 (v128.load64_zero (i32.sub (local.get $base) (i32.const 44)))))
+            (local.set $m (f64x2.mul (local.get $half) (f64x2.add (local.get $x5) (local.get $x6))))
+            (local.set $over (f64x2.gt
+              (f64x2.add (f64x2.add (f64x2.add (f64x2.add (f64x2.add (f64x2.add (f64x2.mul (f64x2.abs (local.get $m)) (local.get $slack)) (f64x2.mul (local.get $g5) (f64x2.abs (f64x2.sub (local.get $x5) (local.get $x6)))))
+                (f64x2.mul (local.get $g4) (f64x2.add (f64x2.abs (f64x2.sub (local.get $x4) (local.get $m))) (f64x2.abs (f64x2.sub (local.get $x7) (local.get $m))))))
+                (f64x2.mul (local.get $g3) (f64x2.add (f64x2.abs (f64x2.sub (local.get $x3) (local.get $m))) (f64x2.abs (f64x2.sub (local.get $x8) (local.get $m))))))
+                (f64x2.mul (local.get $g2) (f64x2.add (f64x2.abs (f64x2.sub (local.get $x2) (local.get $m))) (f64x2.abs (f64x2.sub (local.get $x9) (local.get $m))))))
+                (f64x2.mul (local.get $g1) (f64x2.add (f64x2.abs (f64x2.sub (local.get $x1) (local.get $m))) (f64x2.abs (f64x2.sub (local.get $x10) (local.get $m))))))
+                (f64x2.mul (local.get $g0) (f64x2.add (f64x2.abs (f64x2.sub (local.get $x0) (local.get $m))) (f64x2.abs (f64x2.sub (local.get $x11) (local.get $m))))))
+              (local.get $limit)))
+            (if (v128.any_true (local.get $over))
+              (then
+                (if (i64.ne (i64x2.extract_lane 0 (local.get $over)) (i64.const 0)) (then (return (local.get $n))))
+                (if (i32.lt_s (i32.add (local.get $n) (i32.const 1)) (local.get $end)) (then (return (i32.add (local.get $n) (i32.const 1)))))))
+            (local.set $n (i32.add (local.get $n) (i32.const 2)))
+            (br $output)))
+        (local.set $r (i32.add (local.get $r) (i32.const 2)))
+        (if (i32.lt_s (local.get $r) (local.get $count))
+          (then (local.set $n (i32.load (i32.add (local.get $ranges) (i32.shl (local.get $r) (i32.const 2)))))))
+        (br $range)))
+    (i32.const -1))
 )

@@ -12,6 +12,8 @@
  * Speed: most outputs cannot hold a new maximum, and that is proved before the FIR runs (bounds below, on
  * the meter class). The skipped outputs are provably no larger, so the result is exactly the full
  * computation's (value and position); only where the bounds reach the running maximum are the phases computed.
+ * The flagging pass and the first per-output bound run as WebAssembly SIMD kernels where the runtime has them
+ * (levelKernels.wat); the bounds only decide what is skipped, so the result is the same either way.
  */
 import { createLevelKernels, ensureKernelMemory, type LevelKernels } from "./levelKernels.ts";
 
@@ -217,9 +219,10 @@ class PolyphaseTruePeakMeter implements TruePeakMeter {
   private readonly extendedBits: Int32Array[];
   /** Candidate output ranges of the current block and channel: [start, end) pairs of ext indices. */
   private readonly ranges: Int32Array;
-  /** Byte offsets of `extended` and `ranges` in the kernels' memory. */
+  /** Byte offsets of `extended`, `ranges` and the bound's constants (g0…g5, slack) in the kernels' memory. */
   private readonly extendedAt: number[] = [];
   private readonly rangesAt: number = 0;
+  private readonly boundAt: number = 0;
   private readonly peak: Float64Array;
   private readonly peakFrame: Float64Array;
   /** Flat taps, phase-major, for the unrolled kernels. */
@@ -249,7 +252,8 @@ class PolyphaseTruePeakMeter implements TruePeakMeter {
       let at = 0;
       for (let c = 0; c < channels; c++, at += align(4 * extLength)) this.extendedAt.push(at);
       this.rangesAt = at;
-      ensureKernelMemory(kernels, at + 4 * rangesLength);
+      this.boundAt = align(at + 4 * rangesLength);
+      ensureKernelMemory(kernels, this.boundAt + 7 * 8);
       this.extended = this.extendedAt.map((b) => new Float32Array(kernels.memory.buffer, b, extLength));
       this.extendedBits = this.extendedAt.map((b) => new Int32Array(kernels.memory.buffer, b, extLength));
       this.ranges = new Int32Array(kernels.memory.buffer, this.rangesAt, rangesLength);
@@ -266,6 +270,11 @@ class PolyphaseTruePeakMeter implements TruePeakMeter {
     this.foldedTapMax = new Float64Array(t);
     for (let j = 0; j < t; j++) this.foldedTapMax[j] = Math.max(filter.tapMax[j], filter.tapMax[t - 1 - j]) * BOUND_SLACK;
     this.l1 = filter.maxL1 * BOUND_SLACK;
+    if (kernels && t === 12) {
+      const bound = new Float64Array(kernels.memory.buffer, this.boundAt, 7);
+      bound.set(this.foldedTapMax.subarray(0, 6));
+      bound[6] = BOUND_SLACK;
+    }
   }
 
   push(input: Float32Array[], frames: number): void {
@@ -351,8 +360,25 @@ class PolyphaseTruePeakMeter implements TruePeakMeter {
       this.peak[c] = best;
       this.peakFrame[c] = this.position + (bestAt - h);
     }
-    // (2b, 3) The other phases, bounded per output first.
-    for (let r = 0; r < count; r += 2) this.computeOutputs(c, ext, ranges[r], ranges[r + 1], centre, centreAbs);
+    // (2b, 3) The other phases, bounded per output first. With the kernels, the first bound runs there,
+    // two outputs at a time, and only the outputs it leaves come back to be bounded again and computed.
+    if (kernels === null || taps !== 12 || this.filter.factor !== 8) {
+      for (let r = 0; r < count; r += 2) this.computeOutputs(c, ext, ranges[r], ranges[r + 1], centre, centreAbs);
+      return;
+    }
+    let r = 0;
+    let n = ranges[0];
+    for (;;) {
+      n = kernels.localBounds(this.extendedAt[c], this.rangesAt, count, r, n, this.peak[c], this.boundAt);
+      if (n < 0) break;
+      while (ranges[r + 1] <= n) r += 2;
+      this.computeOutputs(c, ext, n, n + 1, centre, centreAbs);
+      if (++n >= ranges[r + 1]) {
+        r += 2;
+        if (r >= count) break;
+        n = ranges[r];
+      }
+    }
   }
 
   private computeOutputs(c: number, ext: Float32Array, s0: number, s1: number, centre: number, centreAbs: number): void {
