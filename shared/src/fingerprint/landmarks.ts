@@ -12,6 +12,8 @@
  * picks the same peaks.
  */
 
+import { createSlidingMax } from "./slidingMax.ts";
+
 export interface PeakPickerParams {
   /** Spectrum values per frame (the band's bins). */
   bins: number;
@@ -46,6 +48,11 @@ export function createPeakPicker(params: PeakPickerParams): PeakPicker {
   }
   const depth = 2 * dt + 1;
   const rows = new Float32Array(depth * bins);
+  // Each row's ±df maximum, made once when the row arrives (it serves depth frames), and whether the
+  // row holds a NaN: a neighbourhood with one goes through isLocalMax, whose comparisons define NaN's fate.
+  const rowMax = new Float32Array(depth * bins);
+  const rowFinite = new Uint8Array(depth);
+  const slidingMax = createSlidingMax(bins, df);
   let framesIn = 0;
 
   // Per-frame top-N scratch (sorted strongest first). A peak kept by the window rank is also in
@@ -104,12 +111,35 @@ export function createPeakPicker(params: PeakPickerParams): PeakPicker {
     return true;
   }
 
+  /**
+   * isLocalMax's answer from the row maxima, for neighbourhoods without NaN. A bin below its own row's
+   * maximum has a greater value beside it; at the maximum, only an equal value at a lower bin of the
+   * own row, or an equal maximum in an earlier row, or a greater one in any row, beats it.
+   */
+  function isLocalMaxByRows(k: number, b: number, v: number, lastFrame: number): boolean {
+    const own = (k % depth) * bins;
+    for (let c = Math.max(0, b - df); c < b; c++) if (rows[own + c] === v) return false;
+    const jLo = Math.max(0, k - dt);
+    const jHi = Math.min(lastFrame, k + dt);
+    for (let j = jLo; j <= jHi; j++) {
+      if (j === k) continue;
+      const m = rowMax[(j % depth) * bins + b];
+      if (m > v || (m === v && j < k)) return false;
+    }
+    return true;
+  }
+
   function evaluateFrame(k: number, lastFrame: number): void {
     const own = (k % depth) * bins;
+    let finite = true;
+    for (let j = Math.max(0, k - dt); j <= Math.min(lastFrame, k + dt); j++) if (rowFinite[j % depth] === 0) finite = false;
     let n = 0;
     for (let b = 0; b < bins; b++) {
       const v = rows[own + b];
-      if (v < floor || !isLocalMax(k, b, v, lastFrame)) continue;
+      if (finite) {
+        // Most bins leave here: one predictable comparison instead of a scan of their neighbourhood.
+        if (v !== rowMax[own + b] || v < floor || !isLocalMaxByRows(k, b, v, lastFrame)) continue;
+      } else if (v < floor || !isLocalMax(k, b, v, lastFrame)) continue;
       // Insert into the frame's sorted top-N (strongest first, lower bin on ties by scan order).
       if (n === peaksPerWindow && v <= frameValues[n - 1]) continue;
       let i = n < peaksPerWindow ? n++ : n - 1;
@@ -158,7 +188,9 @@ export function createPeakPicker(params: PeakPickerParams): PeakPicker {
       if (finished) throw new Error("peak picker: pushFrame after finish()");
       if (spectrum.length < bins) throw new RangeError(`peak picker: frame needs ${bins} values, got ${spectrum.length}`);
       const k = framesIn++;
-      rows.set(spectrum.subarray(0, bins), (k % depth) * bins);
+      const at = (k % depth) * bins;
+      rows.set(spectrum.subarray(0, bins), at);
+      rowFinite[k % depth] = slidingMax.apply(rows, at, rowMax, at) ? 1 : 0;
       const ready = k - dt;
       if (ready >= 0) {
         evaluateFrame(ready, k);
