@@ -5,6 +5,8 @@
  * given in hertz, the table is computed once, and `read` allocates nothing.
  */
 
+import { createSimdResampleStore, SIMD_SCHEDULE_OUTPUTS, type SimdResampleStore } from "./resamplerSimd.ts";
+
 export interface ResamplerOptions {
   inputRateHz: number;
   outputRateHz: number;
@@ -12,6 +14,11 @@ export interface ResamplerOptions {
   passbandHz: number;
   /** Lowest frequency attenuated by ≥ STOPBAND_ATTENUATION_DB. */
   stopbandHz: number;
+  /**
+   * Run the multiply-adds in WebAssembly SIMD where available (default true): bit-identical to the
+   * JavaScript loop, which stays for hosts without it and for the test that compares the two.
+   */
+  simd?: boolean;
 }
 
 export interface StreamingResampler {
@@ -137,9 +144,13 @@ export function createMultiChannelResampler(o: ResamplerOptions, channels: numbe
   const table = kernelTable(inputRateHz, cutoffHz, half);
 
   const step = inputRateHz / outputRateHz;
+  const initialCapacity = Math.max(4096, 4 * taps);
+  const simd: SimdResampleStore | null = o.simd === false ? null : createSimdResampleStore(table, taps, channels, initialCapacity);
   // History starts with `half` zeros so the first outputs see silence before the file.
   let bufs: Float32Array[] = [];
-  for (let c = 0; c < channels; c++) bufs.push(new Float32Array(Math.max(4096, 4 * taps)));
+  if (simd) bufs = simd.buffers.slice();
+  else for (let c = 0; c < channels; c++) bufs.push(new Float32Array(initialCapacity));
+  // A store's fresh memory is zero, and so are fresh arrays: the leading `half` zeros are there already.
   let bufStart = -half; // absolute input index of bufs[c][0]
   let bufLen = half;
   let inputSamples = 0;
@@ -154,7 +165,10 @@ export function createMultiChannelResampler(o: ResamplerOptions, channels: numbe
       bufStart += drop;
       bufLen -= drop;
     }
-    if (bufLen + extra > bufs[0].length) {
+    if (bufLen + extra > bufs[0].length && simd) {
+      simd.grow(bufLen + extra, bufLen);
+      bufs = simd.buffers.slice();
+    } else if (bufLen + extra > bufs[0].length) {
       const size = Math.max(2 * bufs[0].length, bufLen + extra);
       bufs = bufs.map((b) => {
         const grown = new Float32Array(size);
@@ -196,6 +210,9 @@ export function createMultiChannelResampler(o: ResamplerOptions, channels: numbe
       for (let c = 1; c < channels; c++) capacity = Math.min(capacity, outs[c].length);
       let index = outIndex;
       let n = 0;
+      // With the SIMD store, outputs are only scheduled here and computed a run at a time.
+      const schedule = simd?.schedule;
+      let scheduled = 0;
       while (n < capacity) {
         const x = index * ratio;
         if (x >= limit) break;
@@ -208,6 +225,17 @@ export function createMultiChannelResampler(o: ResamplerOptions, channels: numbe
         if (i0 + lead >= available - 1) break;
         const first = i0 - lead - origin;
         const row = p * width;
+        if (schedule) {
+          schedule[2 * scheduled] = 4 * first;
+          schedule[2 * scheduled + 1] = 4 * row;
+          n++;
+          index++;
+          if (++scheduled === SIMD_SCHEDULE_OUTPUTS) {
+            simd!.run(scheduled, outs, n - scheduled);
+            scheduled = 0;
+          }
+          continue;
+        }
         let c = 0;
         for (; c + 1 < channels; c += 2) {
           const l = inputs[c];
@@ -242,6 +270,7 @@ export function createMultiChannelResampler(o: ResamplerOptions, channels: numbe
         n++;
         index++;
       }
+      if (scheduled > 0) simd!.run(scheduled, outs, n - scheduled);
       outIndex = index;
       return n;
     },

@@ -1,0 +1,73 @@
+;; The fingerprint resampler's inner loop (resampler.ts) in WebAssembly SIMD, built into
+;; resampleKernel.generated.ts by scripts/generate-fingerprint-wasm.ts (wabt's wat2wasm).
+;;
+;; It repeats the JavaScript loop's arithmetic exactly: two float64 partial sums per channel, one over
+;; the even taps and one over the odd ones, each added in tap order (lane 0 and lane 1 of an f64x2);
+;; products of float32 samples and float32 taps are exact in float64; then lane 0 + lane 1, rounded
+;; to float32 once on the store. WebAssembly has no fused multiply-add outside the relaxed-SIMD
+;; proposal, so every result is bit-identical to the JavaScript loop's.
+;;
+;; schedule: `count` pairs of i32 (byte offset of the output's first input in a channel buffer,
+;; byte offset of its kernel row); `width` taps a row, even and ≥ 2.
+(module
+  (memory (export "memory") 1)
+
+  (func (export "pair")
+    (param $left i32) (param $right i32) (param $kernel i32) (param $schedule i32) (param $count i32)
+    (param $outLeft i32) (param $outRight i32) (param $width i32)
+    (local $end i32) (local $l i32) (local $r i32) (local $k i32) (local $kEnd i32)
+    (local $sumL v128) (local $sumR v128) (local $taps v128)
+    (local.set $end (i32.add (local.get $schedule) (i32.shl (local.get $count) (i32.const 3))))
+    (block $done
+      (br_if $done (i32.eqz (local.get $count)))
+      (loop $output
+        (local.set $l (i32.add (local.get $left) (i32.load (local.get $schedule))))
+        (local.set $r (i32.add (local.get $right) (i32.load (local.get $schedule))))
+        (local.set $k (i32.add (local.get $kernel) (i32.load offset=4 (local.get $schedule))))
+        (local.set $kEnd (i32.add (local.get $k) (i32.shl (local.get $width) (i32.const 2))))
+        (local.set $sumL (v128.const i64x2 0 0))
+        (local.set $sumR (v128.const i64x2 0 0))
+        (loop $tap
+          (local.set $taps (f64x2.promote_low_f32x4 (v128.load64_zero (local.get $k))))
+          (local.set $sumL (f64x2.add (local.get $sumL)
+            (f64x2.mul (f64x2.promote_low_f32x4 (v128.load64_zero (local.get $l))) (local.get $taps))))
+          (local.set $sumR (f64x2.add (local.get $sumR)
+            (f64x2.mul (f64x2.promote_low_f32x4 (v128.load64_zero (local.get $r))) (local.get $taps))))
+          (local.set $l (i32.add (local.get $l) (i32.const 8)))
+          (local.set $r (i32.add (local.get $r) (i32.const 8)))
+          (local.set $k (i32.add (local.get $k) (i32.const 8)))
+          (br_if $tap (i32.lt_u (local.get $k) (local.get $kEnd))))
+        (f32.store (local.get $outLeft)
+          (f32.demote_f64 (f64.add (f64x2.extract_lane 0 (local.get $sumL)) (f64x2.extract_lane 1 (local.get $sumL)))))
+        (f32.store (local.get $outRight)
+          (f32.demote_f64 (f64.add (f64x2.extract_lane 0 (local.get $sumR)) (f64x2.extract_lane 1 (local.get $sumR)))))
+        (local.set $outLeft (i32.add (local.get $outLeft) (i32.const 4)))
+        (local.set $outRight (i32.add (local.get $outRight) (i32.const 4)))
+        (local.set $schedule (i32.add (local.get $schedule) (i32.const 8)))
+        (br_if $output (i32.lt_u (local.get $schedule) (local.get $end))))))
+
+  (func (export "single")
+    (param $input i32) (param $kernel i32) (param $schedule i32) (param $count i32)
+    (param $out i32) (param $width i32)
+    (local $end i32) (local $x i32) (local $k i32) (local $kEnd i32) (local $sum v128)
+    (local.set $end (i32.add (local.get $schedule) (i32.shl (local.get $count) (i32.const 3))))
+    (block $done
+      (br_if $done (i32.eqz (local.get $count)))
+      (loop $output
+        (local.set $x (i32.add (local.get $input) (i32.load (local.get $schedule))))
+        (local.set $k (i32.add (local.get $kernel) (i32.load offset=4 (local.get $schedule))))
+        (local.set $kEnd (i32.add (local.get $k) (i32.shl (local.get $width) (i32.const 2))))
+        (local.set $sum (v128.const i64x2 0 0))
+        (loop $tap
+          (local.set $sum (f64x2.add (local.get $sum)
+            (f64x2.mul (f64x2.promote_low_f32x4 (v128.load64_zero (local.get $x)))
+              (f64x2.promote_low_f32x4 (v128.load64_zero (local.get $k))))))
+          (local.set $x (i32.add (local.get $x) (i32.const 8)))
+          (local.set $k (i32.add (local.get $k) (i32.const 8)))
+          (br_if $tap (i32.lt_u (local.get $k) (local.get $kEnd))))
+        (f32.store (local.get $out)
+          (f32.demote_f64 (f64.add (f64x2.extract_lane 0 (local.get $sum)) (f64x2.extract_lane 1 (local.get $sum)))))
+        (local.set $out (i32.add (local.get $out) (i32.const 4)))
+        (local.set $schedule (i32.add (local.get $schedule) (i32.const 8)))
+        (br_if $output (i32.lt_u (local.get $schedule) (local.get $end))))))
+)

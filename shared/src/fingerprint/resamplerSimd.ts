@@ -1,0 +1,130 @@
+/**
+ * The fingerprint resampler's multiply-adds in WebAssembly SIMD (resampleKernel.wat), about three
+ * times faster than the JavaScript loop and bit-identical to it (see the .wat's header), so stored
+ * fingerprints stay valid. The resampler (resampler.ts) still decides which input and kernel row
+ * every output uses; this store only holds the channel buffers, the kernel and that schedule in the
+ * instance's memory and runs the loop. Where WebAssembly SIMD is missing, `createSimdResampleStore`
+ * returns null and the resampler keeps its JavaScript loop.
+ */
+import { RESAMPLE_KERNEL_WASM } from "./resampleKernel.generated.ts";
+
+// shared/ is built without DOM or Node typings: just what is used of the WebAssembly global.
+interface WasmMemory {
+  readonly buffer: ArrayBuffer;
+  grow(pages: number): number;
+}
+interface KernelExports {
+  memory: WasmMemory;
+  pair(left: number, right: number, kernel: number, schedule: number, count: number, outLeft: number, outRight: number, width: number): void;
+  single(input: number, kernel: number, schedule: number, count: number, out: number, width: number): void;
+}
+interface WasmApi {
+  validate(bytes: Uint8Array): boolean;
+  Module: new (bytes: Uint8Array) => object;
+  Instance: new (module: object, imports?: object) => { exports: unknown };
+}
+
+const PAGE_BYTES = 65536;
+/** Outputs scheduled per call into the module. */
+export const SIMD_SCHEDULE_OUTPUTS = 4096;
+
+let compiled: object | null | undefined;
+
+function kernelModule(): object | null {
+  if (compiled === undefined) {
+    const api = (globalThis as { WebAssembly?: WasmApi }).WebAssembly;
+    try {
+      compiled = api && api.validate(RESAMPLE_KERNEL_WASM) ? new api.Module(RESAMPLE_KERNEL_WASM) : null;
+    } catch {
+      compiled = null;
+    }
+  }
+  return compiled;
+}
+
+export interface SimdResampleStore {
+  readonly channels: number;
+  /** Samples each channel buffer holds. */
+  readonly capacity: number;
+  /** Channel buffers in the module's memory: replaced by grow(), so read them afresh after it. */
+  readonly buffers: readonly Float32Array[];
+  /**
+   * Room for SIMD_SCHEDULE_OUTPUTS pairs, in bytes: (4 × the output's first input index in a buffer,
+   * 4 × the index of its kernel row's first tap).
+   */
+  readonly schedule: Int32Array;
+  /** Makes every buffer hold at least `size` samples, keeping the first `keep` of each. */
+  grow(size: number, keep: number): void;
+  /** Computes the first `count` scheduled outputs of every channel into outs[c][at, at + count). */
+  run(count: number, outs: readonly Float32Array[], at: number): void;
+}
+
+const align16 = (n: number): number => (n + 15) & ~15;
+
+export function createSimdResampleStore(table: Float32Array, taps: number, channels: number, initialCapacity: number): SimdResampleStore | null {
+  const module = kernelModule();
+  if (module === null) return null;
+  if (taps < 2 || taps % 2 !== 0) throw new RangeError(`SIMD resampler: taps must be even and ≥ 2, got ${taps}`);
+  const api = (globalThis as { WebAssembly?: WasmApi }).WebAssembly!;
+  const kernel = new api.Instance(module, {}).exports as KernelExports;
+  const memory = kernel.memory;
+
+  const tableAt = 0;
+  const scheduleAt = align16(tableAt + 4 * table.length);
+  const outsAt = align16(scheduleAt + 8 * SIMD_SCHEDULE_OUTPUTS);
+  const buffersAt = align16(outsAt + 4 * SIMD_SCHEDULE_OUTPUTS * channels);
+  let capacity = 0;
+  let buffers: Float32Array[] = [];
+  let outViews: Float32Array[] = [];
+  let schedule = new Int32Array(0);
+
+  function layout(newCapacity: number): void {
+    const needed = buffersAt + 4 * newCapacity * channels;
+    const have = memory.buffer.byteLength;
+    if (needed > have) memory.grow(Math.ceil((needed - have) / PAGE_BYTES));
+    capacity = newCapacity;
+    const heap = memory.buffer;
+    buffers = Array.from({ length: channels }, (_, c) => new Float32Array(heap, buffersAt + 4 * capacity * c, capacity));
+    outViews = Array.from({ length: channels }, (_, c) => new Float32Array(heap, outsAt + 4 * SIMD_SCHEDULE_OUTPUTS * c, SIMD_SCHEDULE_OUTPUTS));
+    schedule = new Int32Array(heap, scheduleAt, 2 * SIMD_SCHEDULE_OUTPUTS);
+  }
+
+  layout(align16(Math.max(16, initialCapacity)));
+  new Float32Array(memory.buffer, tableAt, table.length).set(table);
+
+  return {
+    channels,
+    get capacity() {
+      return capacity;
+    },
+    get buffers() {
+      return buffers;
+    },
+    get schedule() {
+      return schedule;
+    },
+    grow(size, keep) {
+      if (size <= capacity) return;
+      const oldCapacity = capacity;
+      layout(align16(Math.max(2 * capacity, size)));
+      // Every channel moves up (its new start is past its old one): last channel first, like memmove.
+      const bytes = new Uint8Array(memory.buffer);
+      for (let c = channels - 1; c >= 1; c--) {
+        const from = buffersAt + 4 * oldCapacity * c;
+        bytes.copyWithin(buffersAt + 4 * capacity * c, from, from + 4 * Math.min(keep, oldCapacity));
+      }
+    },
+    run(count, outs, at) {
+      if (count <= 0) return;
+      if (count > SIMD_SCHEDULE_OUTPUTS) throw new RangeError(`SIMD resampler: at most ${SIMD_SCHEDULE_OUTPUTS} outputs a run, got ${count}`);
+      const bufferBytes = 4 * capacity;
+      const outBytes = 4 * SIMD_SCHEDULE_OUTPUTS;
+      let c = 0;
+      for (; c + 1 < channels; c += 2) {
+        kernel.pair(buffersAt + bufferBytes * c, buffersAt + bufferBytes * (c + 1), tableAt, scheduleAt, count, outsAt + outBytes * c, outsAt + outBytes * (c + 1), taps);
+      }
+      if (c < channels) kernel.single(buffersAt + bufferBytes * c, tableAt, scheduleAt, count, outsAt + outBytes * c, taps);
+      for (let ch = 0; ch < channels; ch++) outs[ch].set(outViews[ch].subarray(0, count), at);
+    },
+  };
+}
