@@ -63,6 +63,10 @@ describe("fingerprint: SIMD resampler", () => {
     [32000, 2, true],
     [8000, 1, false],
     [48000, 4, false],
+    // A step of exactly 1025/1024 input samples: every other output's phase is an exact tie (x.5 of
+    // 512), where Math.round goes up and a round-half-even would not.
+    [(11025 * 1025) / 1024, 1, false],
+    [(11025 * 1025) / 1024, 2, false],
   ])("%i Hz, %i channel(s), planted non-finite %s: bit-identical to the JavaScript loop", (rate, channels, planted) => {
     const inputs = Array.from({ length: channels }, (_, c) => noise(100 * rate + c, Math.round(1.5 * rate), planted as boolean));
     // 40 000 frames outgrow the 4096-sample start; the odd sizes split kernel spans anywhere.

@@ -1,4 +1,4 @@
-;; The fingerprint resampler's inner loop (resampler.ts) in WebAssembly SIMD, built into
+;; The fingerprint resampler's loops (resampler.ts) in WebAssembly, the multiply-adds in SIMD, built into
 ;; resampleKernel.generated.ts by scripts/generate-fingerprint-wasm.ts (wabt's wat2wasm).
 ;;
 ;; It repeats the JavaScript loop's arithmetic exactly: two float64 partial sums per channel, one over
@@ -11,6 +11,41 @@
 ;; byte offset of its kernel row); `width` taps a row, even and ≥ 2.
 (module
   (memory (export "memory") 1)
+
+  ;; Schedules up to `capacity` outputs from output number `index` on, as resampler.ts's JavaScript
+  ;; loop picks them, in the same float64 operations: x = index · ratio; the input i0 = floor(x) and
+  ;; the phase p = Math.round((x − i0) · phases), a phase of `phases` being phase 0 of the next input;
+  ;; stop at x ≥ limit or when the kernel would reach past `available`. Math.round (ECMAScript: ties
+  ;; toward +∞) is ceil(y) less 1 where ceil(y) − 0.5 > y: exact for 0 ≤ y ≤ phases. Returns how many.
+  (func (export "plan")
+    (param $index f64) (param $ratio f64) (param $limit f64) (param $origin f64) (param $available f64)
+    (param $lead f64) (param $width i32) (param $phases f64) (param $schedule i32) (param $capacity i32)
+    (result i32)
+    (local $n i32) (local $x f64) (local $i0 f64) (local $y f64) (local $p f64)
+    (block $done
+      (loop $output
+        (br_if $done (i32.ge_u (local.get $n) (local.get $capacity)))
+        (local.set $x (f64.mul (local.get $index) (local.get $ratio)))
+        (br_if $done (f64.ge (local.get $x) (local.get $limit)))
+        (local.set $i0 (f64.floor (local.get $x)))
+        (local.set $y (f64.mul (f64.sub (local.get $x) (local.get $i0)) (local.get $phases)))
+        (local.set $p (f64.ceil (local.get $y)))
+        (if (f64.gt (f64.sub (local.get $p) (f64.const 0.5)) (local.get $y))
+          (then (local.set $p (f64.sub (local.get $p) (f64.const 1)))))
+        (if (f64.eq (local.get $p) (local.get $phases))
+          (then
+            (local.set $i0 (f64.add (local.get $i0) (f64.const 1)))
+            (local.set $p (f64.const 0))))
+        (br_if $done (f64.ge (f64.add (local.get $i0) (local.get $lead)) (f64.sub (local.get $available) (f64.const 1))))
+        (i32.store (local.get $schedule)
+          (i32.shl (i32.trunc_f64_s (f64.sub (f64.sub (local.get $i0) (local.get $lead)) (local.get $origin))) (i32.const 2)))
+        (i32.store offset=4 (local.get $schedule)
+          (i32.shl (i32.mul (i32.trunc_f64_s (local.get $p)) (local.get $width)) (i32.const 2)))
+        (local.set $schedule (i32.add (local.get $schedule) (i32.const 8)))
+        (local.set $index (f64.add (local.get $index) (f64.const 1)))
+        (local.set $n (i32.add (local.get $n) (i32.const 1)))
+        (br $output)))
+    (local.get $n))
 
   (func (export "pair")
     (param $left i32) (param $right i32) (param $kernel i32) (param $schedule i32) (param $count i32)

@@ -5,7 +5,7 @@
  * given in hertz, the table is computed once, and `read` allocates nothing.
  */
 
-import { createSimdResampleStore, SIMD_SCHEDULE_OUTPUTS, type SimdResampleStore } from "./resamplerSimd.ts";
+import { createSimdResampleStore, type SimdResampleStore } from "./resamplerSimd.ts";
 
 export interface ResamplerOptions {
   inputRateHz: number;
@@ -210,9 +210,18 @@ export function createMultiChannelResampler(o: ResamplerOptions, channels: numbe
       for (let c = 1; c < channels; c++) capacity = Math.min(capacity, outs[c].length);
       let index = outIndex;
       let n = 0;
-      // With the SIMD store, outputs are only scheduled here and computed a run at a time.
-      const schedule = simd?.schedule;
-      let scheduled = 0;
+      if (simd) {
+        // The same choice of input and phase as the loop below, made in WebAssembly, a run at a time.
+        for (;;) {
+          const count = simd.plan({ index, ratio, limit, origin, available, lead, phases: PHASES, capacity: capacity - n });
+          if (count === 0) break;
+          simd.run(count, outs, n);
+          n += count;
+          index += count;
+        }
+        outIndex = index;
+        return n;
+      }
       while (n < capacity) {
         const x = index * ratio;
         if (x >= limit) break;
@@ -225,17 +234,6 @@ export function createMultiChannelResampler(o: ResamplerOptions, channels: numbe
         if (i0 + lead >= available - 1) break;
         const first = i0 - lead - origin;
         const row = p * width;
-        if (schedule) {
-          schedule[2 * scheduled] = 4 * first;
-          schedule[2 * scheduled + 1] = 4 * row;
-          n++;
-          index++;
-          if (++scheduled === SIMD_SCHEDULE_OUTPUTS) {
-            simd!.run(scheduled, outs, n - scheduled);
-            scheduled = 0;
-          }
-          continue;
-        }
         let c = 0;
         for (; c + 1 < channels; c += 2) {
           const l = inputs[c];
@@ -270,7 +268,6 @@ export function createMultiChannelResampler(o: ResamplerOptions, channels: numbe
         n++;
         index++;
       }
-      if (scheduled > 0) simd!.run(scheduled, outs, n - scheduled);
       outIndex = index;
       return n;
     },

@@ -15,6 +15,7 @@ interface WasmMemory {
 }
 interface KernelExports {
   memory: WasmMemory;
+  plan(index: number, ratio: number, limit: number, origin: number, available: number, lead: number, width: number, phases: number, schedule: number, capacity: number): number;
   pair(left: number, right: number, kernel: number, schedule: number, count: number, outLeft: number, outRight: number, width: number): void;
   single(input: number, kernel: number, schedule: number, count: number, out: number, width: number): void;
 }
@@ -49,10 +50,11 @@ export interface SimdResampleStore {
   /** Channel buffers in the module's memory: replaced by grow(), so read them afresh after it. */
   readonly buffers: readonly Float32Array[];
   /**
-   * Room for SIMD_SCHEDULE_OUTPUTS pairs, in bytes: (4 × the output's first input index in a buffer,
-   * 4 × the index of its kernel row's first tap).
+   * Schedules up to min(`capacity`, SIMD_SCHEDULE_OUTPUTS) outputs from output number `index` on, as
+   * the resampler's JavaScript loop would pick them (resampleKernel.wat's `plan`); returns how many.
+   * `origin` is the input index at the buffers' start, `available` one past the last buffered input.
    */
-  readonly schedule: Int32Array;
+  plan(p: { index: number; ratio: number; limit: number; origin: number; available: number; lead: number; phases: number; capacity: number }): number;
   /** Makes every buffer hold at least `size` samples, keeping the first `keep` of each. */
   grow(size: number, keep: number): void;
   /** Computes the first `count` scheduled outputs of every channel into outs[c][at, at + count). */
@@ -76,7 +78,6 @@ export function createSimdResampleStore(table: Float32Array, taps: number, chann
   let capacity = 0;
   let buffers: Float32Array[] = [];
   let outViews: Float32Array[] = [];
-  let schedule = new Int32Array(0);
 
   function layout(newCapacity: number): void {
     const needed = buffersAt + 4 * newCapacity * channels;
@@ -86,7 +87,6 @@ export function createSimdResampleStore(table: Float32Array, taps: number, chann
     const heap = memory.buffer;
     buffers = Array.from({ length: channels }, (_, c) => new Float32Array(heap, buffersAt + 4 * capacity * c, capacity));
     outViews = Array.from({ length: channels }, (_, c) => new Float32Array(heap, outsAt + 4 * SIMD_SCHEDULE_OUTPUTS * c, SIMD_SCHEDULE_OUTPUTS));
-    schedule = new Int32Array(heap, scheduleAt, 2 * SIMD_SCHEDULE_OUTPUTS);
   }
 
   layout(align16(Math.max(16, initialCapacity)));
@@ -100,8 +100,9 @@ export function createSimdResampleStore(table: Float32Array, taps: number, chann
     get buffers() {
       return buffers;
     },
-    get schedule() {
-      return schedule;
+    plan(p) {
+      const capacity = Math.min(p.capacity, SIMD_SCHEDULE_OUTPUTS);
+      return kernel.plan(p.index, p.ratio, p.limit, p.origin, p.available, p.lead, taps, p.phases, scheduleAt, capacity);
     },
     grow(size, keep) {
       if (size <= capacity) return;
