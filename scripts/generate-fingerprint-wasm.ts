@@ -1,6 +1,6 @@
 /**
- * Writes shared/src/fingerprint/resampleKernel.generated.ts from resampleKernel.wat beside it (the
- * fingerprint resampler's SIMD loop). Run `node --import tsx scripts/generate-fingerprint-wasm.ts` after
+ * Writes shared/src/fingerprint/kernels.generated.ts from kernels.wat beside it (the
+ * fingerprint's WebAssembly loops). Run `node --import tsx scripts/generate-fingerprint-wasm.ts` after
  * changing the .wat; tests/shared/fingerprintResamplerSimd.test.ts fails while the file is out of date.
  */
 import { readFileSync, writeFileSync } from "node:fs";
@@ -9,10 +9,10 @@ import { fileURLToPath } from "node:url";
 import { wasmModuleText, watToBytes } from "./lib/wasmModuleText.ts";
 
 export const FINGERPRINT_WASM = {
-  wat: "shared/src/fingerprint/resampleKernel.wat",
-  generated: "shared/src/fingerprint/resampleKernel.generated.ts",
+  wat: "shared/src/fingerprint/kernels.wat",
+  generated: "shared/src/fingerprint/kernels.generated.ts",
   generator: "scripts/generate-fingerprint-wasm.ts",
-  exportName: "RESAMPLE_KERNEL_WASM",
+  exportName: "FINGERPRINT_KERNELS_WASM",
 };
 
 export async function fingerprintWasmText(root: string): Promise<string> {

@@ -9,6 +9,7 @@
  */
 import { describe, expect, it } from "vitest";
 import { createPeakPicker, type PeakPickerParams } from "../../shared/src/fingerprint/landmarks.ts";
+import { createPeakRowsSimd } from "../../shared/src/fingerprint/peakRowsSimd.ts";
 import { createSlidingMax } from "../../shared/src/fingerprint/slidingMax.ts";
 import { FINGERPRINT_GRID } from "../../shared/src/fingerprint/fingerprinter.ts";
 import { seededRandom } from "../fixtures/synth.ts";
@@ -61,8 +62,8 @@ function referencePeaks(spectra: Float32Array[], p: PeakPickerParams): string[] 
   return out;
 }
 
-function pick(spectra: Float32Array[], p: PeakPickerParams): string[] {
-  const picker = createPeakPicker(p);
+function pick(spectra: Float32Array[], p: PeakPickerParams, simd: boolean): string[] {
+  const picker = createPeakPicker(p, { simd });
   for (const s of spectra) picker.pushFrame(s);
   const { frames, bins, count } = picker.finish();
   return Array.from({ length: count }, (_, i) => `${frames[i]}:${bins[i]}`);
@@ -76,7 +77,10 @@ function quantisedSpectra(seed: number, frames: number, bins: number, levels: nu
 
 const SMALL: PeakPickerParams = { bins: 40, freqRadiusBins: 3, timeRadiusFrames: 2, floor: 0.2, peaksPerWindow: 3, rankRadiusFrames: 4 };
 
-describe("fingerprint: peak picker against its definition", () => {
+describe.each([
+  ["WebAssembly SIMD", true],
+  ["JavaScript", false],
+])("fingerprint: peak picker (%s) against its definition", (_, simd) => {
   it.each([
     ["few levels (ties everywhere)", 11, 4],
     ["some levels", 12, 16],
@@ -85,13 +89,13 @@ describe("fingerprint: peak picker against its definition", () => {
     const spectra = quantisedSpectra(seed, 120, SMALL.bins, levels);
     const expected = referencePeaks(spectra, SMALL);
     expect(expected.length).toBeGreaterThan(5);
-    expect(pick(spectra, SMALL)).toEqual(expected);
+    expect(pick(spectra, SMALL, simd)).toEqual(expected);
   });
 
   it("with the fingerprint's own parameters", () => {
     const p = FINGERPRINT_GRID.peaks;
     const spectra = quantisedSpectra(14, 60, p.bins, 64).map((s) => s.map((v) => v * p.floor * 1e6));
-    expect(pick(spectra, p)).toEqual(referencePeaks(spectra, p));
+    expect(pick(spectra, p, simd)).toEqual(referencePeaks(spectra, p));
   });
 
   it("treats NaN and infinities as the definition's comparisons do", () => {
@@ -101,7 +105,7 @@ describe("fingerprint: peak picker against its definition", () => {
     spectra[31][21] = Number.POSITIVE_INFINITY;
     spectra[50].fill(Number.NaN, 0, 10);
     spectra[79][39] = Number.NaN; // in the last frames, evaluated by finish()
-    const got = pick(spectra, SMALL);
+    const got = pick(spectra, SMALL, simd);
     expect(got).toContain("10:5"); // NaN is never beaten, so it stands as a peak
     expect(got).toEqual(referencePeaks(spectra, SMALL));
   });
@@ -109,7 +113,7 @@ describe("fingerprint: peak picker against its definition", () => {
   it("has no frequency or time neighbourhood at radius 0", () => {
     const p = { ...SMALL, freqRadiusBins: 0, timeRadiusFrames: 0 };
     const spectra = quantisedSpectra(16, 30, SMALL.bins, 8);
-    expect(pick(spectra, p)).toEqual(referencePeaks(spectra, p));
+    expect(pick(spectra, p, simd)).toEqual(referencePeaks(spectra, p));
   });
 });
 
@@ -132,4 +136,32 @@ describe("fingerprint: sliding maximum", () => {
     expect(() => createSlidingMax(4, 1).apply(new Float32Array(4), 1, new Float32Array(4), 0)).toThrow(/4 values from 1 of 4/);
     expect(() => createSlidingMax(0, 1)).toThrow(/length ≥ 1/);
   });
+
+  it("is the same in WebAssembly SIMD (which runs here), row by row in a ring, with candidates above the floor", () => {
+    const rnd = seededRandom(18);
+    for (const [bins, radius, depth] of [[344, 10, 5], [7, 3, 1], [41, 0, 3], [13, 20, 2], [4, 1, 5]]) {
+      const simd = createPeakRowsSimd(bins, depth, radius);
+      expect(simd, "WebAssembly SIMD missing: the comparison would be vacuous").not.toBeNull();
+      const js = createSlidingMax(bins, radius);
+      const want = new Float32Array(bins);
+      for (let round = 0; round < 3 * depth; round++) {
+        const at = (round % depth) * bins;
+        const row = Float32Array.from({ length: bins }, () => Math.floor(rnd() * 30) / 7);
+        if (round === 2) row[bins >> 1] = Number.NaN;
+        simd!.rows.set(row, at);
+        expect(simd!.updateMax(at), `round ${round}`).toBe(round !== 2);
+        if (round === 2) continue;
+        js.apply(row, 0, want, 0);
+        expect(Array.from(simd!.rowMax.subarray(at, at + bins)), `bins ${bins}, radius ${radius}, round ${round}`).toEqual(Array.from(want));
+        // The floor compares as float64, as in JavaScript: just above the float32 1/7, it shuts out the
+        // rows' 1/7, which a float32 comparison (the floor rounded to 1/7) would let in.
+        const floor = Math.fround(1 / 7) * (1 + 2 ** -40);
+        const expected = [];
+        for (let b = 0; b < bins; b++) if (row[b] === want[b] && row[b] >= floor) expected.push(b);
+        const count = simd!.candidates(at, floor);
+        expect(Array.from(simd!.candidateBins.subarray(0, count))).toEqual(expected);
+      }
+    }
+  });
 });
+

@@ -12,6 +12,7 @@
  * picks the same peaks.
  */
 
+import { createPeakRowsSimd } from "./peakRowsSimd.ts";
 import { createSlidingMax } from "./slidingMax.ts";
 
 export interface PeakPickerParams {
@@ -39,7 +40,12 @@ export interface PeakPicker {
   finish(): PeakList;
 }
 
-export function createPeakPicker(params: PeakPickerParams): PeakPicker {
+export interface PeakPickerOptions {
+  /** Row maxima and candidate bins in WebAssembly SIMD where available (default true); same peaks. */
+  simd?: boolean;
+}
+
+export function createPeakPicker(params: PeakPickerParams, options: PeakPickerOptions = {}): PeakPicker {
   const { bins, freqRadiusBins: df, timeRadiusFrames: dt, floor, peaksPerWindow, rankRadiusFrames } = params;
   for (const [name, v] of Object.entries({ bins, df, dt, peaksPerWindow, rankRadiusFrames })) {
     if (!Number.isInteger(v) || v < (name === "bins" || name === "peaksPerWindow" ? 1 : 0)) {
@@ -47,12 +53,13 @@ export function createPeakPicker(params: PeakPickerParams): PeakPicker {
     }
   }
   const depth = 2 * dt + 1;
-  const rows = new Float32Array(depth * bins);
   // Each row's ±df maximum, made once when the row arrives (it serves depth frames), and whether the
   // row holds a NaN: a neighbourhood with one goes through isLocalMax, whose comparisons define NaN's fate.
-  const rowMax = new Float32Array(depth * bins);
+  const simd = options.simd === false ? null : createPeakRowsSimd(bins, depth, df);
+  const rows = simd ? simd.rows : new Float32Array(depth * bins);
+  const rowMax = simd ? simd.rowMax : new Float32Array(depth * bins);
   const rowFinite = new Uint8Array(depth);
-  const slidingMax = createSlidingMax(bins, df);
+  const slidingMax = simd ? null : createSlidingMax(bins, df);
   let framesIn = 0;
 
   // Per-frame top-N scratch (sorted strongest first). A peak kept by the window rank is also in
@@ -129,27 +136,43 @@ export function createPeakPicker(params: PeakPickerParams): PeakPicker {
     return true;
   }
 
+  /** Inserts a peak into the frame's sorted top N of `n` (strongest first, lower bin on ties by scan order); returns the new n. */
+  function rankInFrame(b: number, v: number, n: number): number {
+    if (n === peaksPerWindow && v <= frameValues[n - 1]) return n;
+    let i = n < peaksPerWindow ? n++ : n - 1;
+    while (i > 0 && frameValues[i - 1] < v) {
+      frameValues[i] = frameValues[i - 1];
+      frameBins[i] = frameBins[i - 1];
+      i--;
+    }
+    frameValues[i] = v;
+    frameBins[i] = b;
+    return n;
+  }
+
   function evaluateFrame(k: number, lastFrame: number): void {
     const own = (k % depth) * bins;
     let finite = true;
     for (let j = Math.max(0, k - dt); j <= Math.min(lastFrame, k + dt); j++) if (rowFinite[j % depth] === 0) finite = false;
     let n = 0;
-    for (let b = 0; b < bins; b++) {
-      const v = rows[own + b];
-      if (finite) {
-        // Most bins leave here: one predictable comparison instead of a scan of their neighbourhood.
-        if (v !== rowMax[own + b] || v < floor || !isLocalMaxByRows(k, b, v, lastFrame)) continue;
-      } else if (v < floor || !isLocalMax(k, b, v, lastFrame)) continue;
-      // Insert into the frame's sorted top-N (strongest first, lower bin on ties by scan order).
-      if (n === peaksPerWindow && v <= frameValues[n - 1]) continue;
-      let i = n < peaksPerWindow ? n++ : n - 1;
-      while (i > 0 && frameValues[i - 1] < v) {
-        frameValues[i] = frameValues[i - 1];
-        frameBins[i] = frameBins[i - 1];
-        i--;
+    if (finite && simd) {
+      // The bins at their own row's maximum and above the floor, in increasing order, as the scan below finds them.
+      const count = simd.candidates(own, floor);
+      const found = simd.candidateBins;
+      for (let i = 0; i < count; i++) {
+        const b = found[i];
+        const v = rows[own + b];
+        if (isLocalMaxByRows(k, b, v, lastFrame)) n = rankInFrame(b, v, n);
       }
-      frameValues[i] = v;
-      frameBins[i] = b;
+    } else {
+      for (let b = 0; b < bins; b++) {
+        const v = rows[own + b];
+        if (finite) {
+          // Most bins leave here: one predictable comparison instead of a scan of their neighbourhood.
+          if (v !== rowMax[own + b] || v < floor || !isLocalMaxByRows(k, b, v, lastFrame)) continue;
+        } else if (v < floor || !isLocalMax(k, b, v, lastFrame)) continue;
+        n = rankInFrame(b, v, n);
+      }
     }
     if (tail + n - head > capacity) throw new Error("peak picker: candidate ring overflow (internal error)");
     for (let i = 0; i < n; i++) {
@@ -190,7 +213,8 @@ export function createPeakPicker(params: PeakPickerParams): PeakPicker {
       const k = framesIn++;
       const at = (k % depth) * bins;
       rows.set(spectrum.subarray(0, bins), at);
-      rowFinite[k % depth] = slidingMax.apply(rows, at, rowMax, at) ? 1 : 0;
+      const finite = simd ? simd.updateMax(at) : slidingMax!.apply(rows, at, rowMax, at);
+      rowFinite[k % depth] = finite ? 1 : 0;
       const ready = k - dt;
       if (ready >= 0) {
         evaluateFrame(ready, k);

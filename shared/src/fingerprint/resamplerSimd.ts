@@ -1,47 +1,14 @@
 /**
- * The fingerprint resampler's multiply-adds in WebAssembly SIMD (resampleKernel.wat), about three
- * times faster than the JavaScript loop and bit-identical to it (see the .wat's header), so stored
- * fingerprints stay valid. The resampler (resampler.ts) still decides which input and kernel row
- * every output uses; this store only holds the channel buffers, the kernel and that schedule in the
- * instance's memory and runs the loop. Where WebAssembly SIMD is missing, `createSimdResampleStore`
+ * The fingerprint resampler's loops in WebAssembly SIMD (kernels.wat), about three times faster
+ * than the JavaScript loop and bit-identical to it (see the .wat's header), so stored fingerprints
+ * stay valid. The resampler (resampler.ts) keeps its state and its JavaScript loop; this store holds
+ * the channel buffers, the kernel and the schedule in the instance's memory and runs the loops. Where WebAssembly SIMD is missing, `createSimdResampleStore`
  * returns null and the resampler keeps its JavaScript loop.
  */
-import { RESAMPLE_KERNEL_WASM } from "./resampleKernel.generated.ts";
+import { instantiateKernels, reserveBytes } from "./wasmKernels.ts";
 
-// shared/ is built without DOM or Node typings: just what is used of the WebAssembly global.
-interface WasmMemory {
-  readonly buffer: ArrayBuffer;
-  grow(pages: number): number;
-}
-interface KernelExports {
-  memory: WasmMemory;
-  plan(index: number, ratio: number, limit: number, origin: number, available: number, lead: number, width: number, phases: number, schedule: number, capacity: number): number;
-  pair(left: number, right: number, kernel: number, schedule: number, count: number, outLeft: number, outRight: number, width: number): void;
-  single(input: number, kernel: number, schedule: number, count: number, out: number, width: number): void;
-}
-interface WasmApi {
-  validate(bytes: Uint8Array): boolean;
-  Module: new (bytes: Uint8Array) => object;
-  Instance: new (module: object, imports?: object) => { exports: unknown };
-}
-
-const PAGE_BYTES = 65536;
 /** Outputs scheduled per call into the module. */
 export const SIMD_SCHEDULE_OUTPUTS = 4096;
-
-let compiled: object | null | undefined;
-
-function kernelModule(): object | null {
-  if (compiled === undefined) {
-    const api = (globalThis as { WebAssembly?: WasmApi }).WebAssembly;
-    try {
-      compiled = api && api.validate(RESAMPLE_KERNEL_WASM) ? new api.Module(RESAMPLE_KERNEL_WASM) : null;
-    } catch {
-      compiled = null;
-    }
-  }
-  return compiled;
-}
 
 export interface SimdResampleStore {
   readonly channels: number;
@@ -51,7 +18,7 @@ export interface SimdResampleStore {
   readonly buffers: readonly Float32Array[];
   /**
    * Schedules up to min(`capacity`, SIMD_SCHEDULE_OUTPUTS) outputs from output number `index` on, as
-   * the resampler's JavaScript loop would pick them (resampleKernel.wat's `plan`); returns how many.
+   * the resampler's JavaScript loop would pick them (kernels.wat's `plan`); returns how many.
    * `origin` is the input index at the buffers' start, `available` one past the last buffered input.
    */
   plan(p: { index: number; ratio: number; limit: number; origin: number; available: number; lead: number; phases: number; capacity: number }): number;
@@ -64,11 +31,9 @@ export interface SimdResampleStore {
 const align16 = (n: number): number => (n + 15) & ~15;
 
 export function createSimdResampleStore(table: Float32Array, taps: number, channels: number, initialCapacity: number): SimdResampleStore | null {
-  const module = kernelModule();
-  if (module === null) return null;
   if (taps < 2 || taps % 2 !== 0) throw new RangeError(`SIMD resampler: taps must be even and ≥ 2, got ${taps}`);
-  const api = (globalThis as { WebAssembly?: WasmApi }).WebAssembly!;
-  const kernel = new api.Instance(module, {}).exports as KernelExports;
+  const kernel = instantiateKernels();
+  if (kernel === null) return null;
   const memory = kernel.memory;
 
   const tableAt = 0;
@@ -80,9 +45,7 @@ export function createSimdResampleStore(table: Float32Array, taps: number, chann
   let outViews: Float32Array[] = [];
 
   function layout(newCapacity: number): void {
-    const needed = buffersAt + 4 * newCapacity * channels;
-    const have = memory.buffer.byteLength;
-    if (needed > have) memory.grow(Math.ceil((needed - have) / PAGE_BYTES));
+    reserveBytes(memory, buffersAt + 4 * newCapacity * channels);
     capacity = newCapacity;
     const heap = memory.buffer;
     buffers = Array.from({ length: channels }, (_, c) => new Float32Array(heap, buffersAt + 4 * capacity * c, capacity));

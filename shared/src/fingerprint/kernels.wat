@@ -1,7 +1,7 @@
-;; The fingerprint resampler's loops (resampler.ts) in WebAssembly, the multiply-adds in SIMD, built into
-;; resampleKernel.generated.ts by scripts/generate-fingerprint-wasm.ts (wabt's wat2wasm).
+;; The fingerprint's hot loops in WebAssembly SIMD, built into kernels.generated.ts by
+;; scripts/generate-fingerprint-wasm.ts (wabt's wat2wasm); loaded by wasmKernels.ts.
 ;;
-;; It repeats the JavaScript loop's arithmetic exactly: two float64 partial sums per channel, one over
+;; Resampler (resampler.ts, resamplerSimd.ts): `plan`, then `pair` or `single`. `pair` repeats the JavaScript loop's arithmetic exactly: two float64 partial sums per channel, one over
 ;; the even taps and one over the odd ones, each added in tap order (lane 0 and lane 1 of an f64x2);
 ;; products of float32 samples and float32 taps are exact in float64; then lane 0 + lane 1, rounded
 ;; to float32 once on the store. WebAssembly has no fused multiply-add outside the relaxed-SIMD
@@ -105,4 +105,82 @@
         (local.set $out (i32.add (local.get $out) (i32.const 4)))
         (local.set $schedule (i32.add (local.get $schedule) (i32.const 8)))
         (br_if $output (i32.lt_u (local.get $schedule) (local.get $end))))))
+;; Peak picker (landmarks.ts): `rowMax`, then `candidates`.
+
+  ;; out[i] = max of src[i … i + 2·radius] for i in [0, length), where src holds the row from
+  ;; `radius` on and −∞ around it (and for ≥ 64 values past `size`): widths 2, 4, 8 … by doubling into
+  ;; `work` (`size` positions a pass, a multiple of 4), then two overlapping windows of the largest
+  ;; width. A maximum is one of its inputs, so this is exactly what a scan finds, except around a NaN
+  ;; (f32x4.max spreads it): returns 1 if the row holds none, else 0, and the caller then scans.
+  (func (export "rowMax")
+    (param $src i32) (param $work i32) (param $out i32) (param $length i32) (param $radius i32) (param $size i32)
+    (result i32)
+    (local $w i32) (local $s i32) (local $cur i32) (local $i i32) (local $shift i32) (local $nan v128)
+    (local.set $w (i32.add (i32.shl (local.get $radius) (i32.const 1)) (i32.const 1)))
+    (local.set $s (i32.const 1))
+    (local.set $cur (local.get $src))
+    (block $widths
+      (loop $width
+        (br_if $widths (i32.gt_u (i32.shl (local.get $s) (i32.const 1)) (local.get $w)))
+        (local.set $shift (i32.shl (local.get $s) (i32.const 2)))
+        (local.set $i (i32.const 0))
+        (loop $pass
+          (v128.store (i32.add (local.get $work) (local.get $i))
+            (f32x4.max (v128.load (i32.add (local.get $cur) (local.get $i)))
+              (v128.load (i32.add (i32.add (local.get $cur) (local.get $i)) (local.get $shift)))))
+          (local.set $i (i32.add (local.get $i) (i32.const 16)))
+          (br_if $pass (i32.lt_u (local.get $i) (i32.shl (local.get $size) (i32.const 2)))))
+        (local.set $cur (local.get $work))
+        (local.set $s (i32.shl (local.get $s) (i32.const 1)))
+        (br $width)))
+    ;; The two windows of width s starting at i and at i + w − s cover exactly [i, i + w).
+    (local.set $shift (i32.shl (i32.sub (local.get $w) (local.get $s)) (i32.const 2)))
+    (local.set $i (i32.const 0))
+    (block $vectors
+      (loop $vector
+        (br_if $vectors (i32.gt_u (i32.add (local.get $i) (i32.const 16)) (i32.shl (local.get $length) (i32.const 2))))
+        (v128.store (i32.add (local.get $out) (local.get $i))
+          (f32x4.max (v128.load (i32.add (local.get $cur) (local.get $i)))
+            (v128.load (i32.add (i32.add (local.get $cur) (local.get $i)) (local.get $shift)))))
+        (local.set $i (i32.add (local.get $i) (i32.const 16)))
+        (br $vector)))
+    ;; The last length mod 4 values one at a time: `out` is one row of a ring, with another right after it.
+    (block $scalars
+      (loop $scalar
+        (br_if $scalars (i32.ge_u (local.get $i) (i32.shl (local.get $length) (i32.const 2))))
+        (f32.store (i32.add (local.get $out) (local.get $i))
+          (f32.max (f32.load (i32.add (local.get $cur) (local.get $i)))
+            (f32.load (i32.add (i32.add (local.get $cur) (local.get $i)) (local.get $shift)))))
+        (local.set $i (i32.add (local.get $i) (i32.const 4)))
+        (br $scalar)))
+    ;; NaN anywhere in the row (the −∞ after it, read by the last vector, is not NaN).
+    (local.set $nan (v128.const i32x4 0 0 0 0))
+    (local.set $i (i32.const 0))
+    (block $checked
+      (loop $check
+        (br_if $checked (i32.ge_u (local.get $i) (i32.shl (local.get $length) (i32.const 2))))
+        (local.set $cur (i32.add (i32.add (local.get $src) (i32.shl (local.get $radius) (i32.const 2))) (local.get $i)))
+        (local.set $nan (v128.or (local.get $nan) (f32x4.ne (v128.load (local.get $cur)) (v128.load (local.get $cur)))))
+        (local.set $i (i32.add (local.get $i) (i32.const 16)))
+        (br $check)))
+    (i32.eqz (v128.any_true (local.get $nan))))
+
+  ;; Writes to `out` (i32) the bins b in [0, bins) where row[b] equals max[b] and, as a float64 like
+  ;; the JavaScript comparison, is ≥ floor; returns how many, in increasing order.
+  (func (export "candidates")
+    (param $row i32) (param $max i32) (param $bins i32) (param $floor f64) (param $out i32) (result i32)
+    (local $b i32) (local $n i32) (local $v f32)
+    (block $done
+      (loop $bin
+        (br_if $done (i32.ge_u (local.get $b) (local.get $bins)))
+        (local.set $v (f32.load (i32.add (local.get $row) (i32.shl (local.get $b) (i32.const 2)))))
+        (if (i32.and
+              (f32.eq (local.get $v) (f32.load (i32.add (local.get $max) (i32.shl (local.get $b) (i32.const 2)))))
+              (f64.ge (f64.promote_f32 (local.get $v)) (local.get $floor)))
+          (then
+            (i32.store (i32.add (local.get $out) (i32.shl (local.get $n) (i32.const 2))) (local.get $b))
+            (local.set $n (i32.add (local.get $n) (i32.const 1)))))
+        (local.set $b (i32.add (local.get $b) (i32.const 1)))
+        (br $bin)))
+    (local.get $n))
 )
