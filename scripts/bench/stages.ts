@@ -17,6 +17,8 @@ import { createStereoAnalyser } from "@tidemark/shared/analysis/stereo";
 import { createTruePeakMeter } from "@tidemark/shared/analysis/truePeak";
 import { createValueRunTracker } from "@tidemark/shared/analysis/valueRuns";
 import { createFileAnalysis } from "@tidemark/shared/engine/fileAnalysis";
+import { encodeFingerprint } from "@tidemark/shared/fingerprint/codec";
+import { createFingerprinter } from "@tidemark/shared/fingerprint/fingerprinter";
 import { renderSpectrogramImage } from "@tidemark/shared/render/spectrogramImage";
 import { renderWaveformImage } from "@tidemark/shared/render/waveformImage";
 import { createSpectralAnalyser } from "@tidemark/shared/spectral/spectralAnalyser";
@@ -112,6 +114,11 @@ export async function runStages(file: string, maxSeconds: number, repeats: numbe
       const s = createSpectralAnalyser(format, settings);
       feedBlocks((b) => s.push(b));
       s.finish();
+    },
+    fingerprint: () => {
+      const f = createFingerprinter(format);
+      feedBlocks((b) => f.push(b));
+      encodeFingerprint(f.finish());
     },
     render: () => {
       installFontTypesetter();

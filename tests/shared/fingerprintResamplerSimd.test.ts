@@ -77,6 +77,19 @@ describe("fingerprint: SIMD resampler", () => {
     for (let c = 0; c < channels; c++) expect(bits(simd[c]), `channel ${c}`).toEqual(bits(js[c]));
   });
 
+  it("grows into a new memory instead of growing one (which would detach its buffer and slow every typed array)", () => {
+    const store = createSimdResampleStore(new Float32Array(8), 4, 2, 16)!;
+    const before = store.buffers.slice();
+    before[0].set([1, 2, 3]);
+    before[1].set([4, 5]);
+    store.grow(100000, 3);
+    expect(store.capacity).toBeGreaterThanOrEqual(100000);
+    // A detached buffer's views read as empty.
+    expect(before[0].length).toBe(16);
+    expect(Array.from(store.buffers[0].subarray(0, 3))).toEqual([1, 2, 3]);
+    expect(Array.from(store.buffers[1].subarray(0, 3))).toEqual([4, 5, 0]);
+  });
+
   it("is built from the .wat as it stands (run scripts/generate-fingerprint-wasm.ts after editing it)", async () => {
     const current = readFileSync(path.join(root, FINGERPRINT_WASM.generated), "utf8");
     expect(current).toBe(await fingerprintWasmText(root));

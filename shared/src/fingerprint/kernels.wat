@@ -10,7 +10,8 @@
 ;; schedule: `count` pairs of i32 (byte offset of the output's first input in a channel buffer,
 ;; byte offset of its kernel row); `width` taps a row, even and ≥ 2.
 (module
-  (memory (export "memory") 1)
+  ;; Made by the caller at its full size (wasmKernels.ts): growing a memory would detach its buffer.
+  (import "env" "memory" (memory 1))
 
   ;; Schedules up to `capacity` outputs from output number `index` on, as resampler.ts's JavaScript
   ;; loop picks them, in the same float64 operations: x = index · ratio; the input i0 = floor(x) and
@@ -30,8 +31,9 @@
         (local.set $i0 (f64.floor (local.get $x)))
         (local.set $y (f64.mul (f64.sub (local.get $x) (local.get $i0)) (local.get $phases)))
         (local.set $p (f64.ceil (local.get $y)))
-        (if (f64.gt (f64.sub (local.get $p) (f64.const 0.5)) (local.get $y))
-          (then (local.set $p (f64.sub (local.get $p) (f64.const 1)))))
+        ;; A select, not a branch: which way it goes is as good as random from one output to the next.
+        (local.set $p (select (f64.sub (local.get $p) (f64.const 1)) (local.get $p)
+          (f64.gt (f64.sub (local.get $p) (f64.const 0.5)) (local.get $y))))
         (if (f64.eq (local.get $p) (local.get $phases))
           (then
             (local.set $i0 (f64.add (local.get $i0) (f64.const 1)))

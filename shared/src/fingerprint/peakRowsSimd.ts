@@ -4,7 +4,7 @@
  * data-dependent branch a bin), where the JavaScript fallback (slidingMax.ts and a scan of the row)
  * mispredicts a branch at almost every bin of a noise-like spectrum. Same values, same bins.
  */
-import { instantiateKernels, reserveBytes } from "./wasmKernels.ts";
+import { instantiateKernels } from "./wasmKernels.ts";
 
 export interface PeakRowsSimd {
   /** depth rows of `bins` spectrum values, and their ±radius maxima (views into the module's memory). */
@@ -21,8 +21,6 @@ export interface PeakRowsSimd {
 const align16 = (n: number): number => (n + 15) & ~15;
 
 export function createPeakRowsSimd(bins: number, depth: number, radius: number): PeakRowsSimd | null {
-  const kernels = instantiateKernels();
-  if (kernels === null) return null;
   const w = 2 * radius + 1;
   const size = align16(bins + 2 * radius); // positions a doubling pass computes, a multiple of 4
   const padded = size + w + 16; // and what its reads past them may reach, all −∞
@@ -31,8 +29,8 @@ export function createPeakRowsSimd(bins: number, depth: number, radius: number):
   const srcAt = align16(maxAt + 4 * depth * bins);
   const workAt = align16(srcAt + 4 * padded);
   const candAt = align16(workAt + 4 * padded);
-  reserveBytes(kernels.memory, candAt + 4 * bins);
-  // The memory never grows after this, so the views stay valid.
+  const kernels = instantiateKernels(candAt + 4 * bins);
+  if (kernels === null) return null;
   const heap = kernels.memory.buffer;
   const rows = new Float32Array(heap, rowsAt, depth * bins);
   const rowMax = new Float32Array(heap, maxAt, depth * bins);

@@ -5,7 +5,7 @@
  * the channel buffers, the kernel and the schedule in the instance's memory and runs the loops. Where WebAssembly SIMD is missing, `createSimdResampleStore`
  * returns null and the resampler keeps its JavaScript loop.
  */
-import { instantiateKernels, reserveBytes } from "./wasmKernels.ts";
+import { instantiateKernels, type FingerprintKernels } from "./wasmKernels.ts";
 
 /** Outputs scheduled per call into the module. */
 export const SIMD_SCHEDULE_OUTPUTS = 4096;
@@ -14,7 +14,7 @@ export interface SimdResampleStore {
   readonly channels: number;
   /** Samples each channel buffer holds. */
   readonly capacity: number;
-  /** Channel buffers in the module's memory: replaced by grow(), so read them afresh after it. */
+  /** Channel buffers in the module's memory: replaced by grow() (the old ones stay readable), so read them afresh after it. */
   readonly buffers: readonly Float32Array[];
   /**
    * Schedules up to min(`capacity`, SIMD_SCHEDULE_OUTPUTS) outputs from output number `index` on, as
@@ -32,28 +32,29 @@ const align16 = (n: number): number => (n + 15) & ~15;
 
 export function createSimdResampleStore(table: Float32Array, taps: number, channels: number, initialCapacity: number): SimdResampleStore | null {
   if (taps < 2 || taps % 2 !== 0) throw new RangeError(`SIMD resampler: taps must be even and ≥ 2, got ${taps}`);
-  const kernel = instantiateKernels();
-  if (kernel === null) return null;
-  const memory = kernel.memory;
-
   const tableAt = 0;
   const scheduleAt = align16(tableAt + 4 * table.length);
   const outsAt = align16(scheduleAt + 8 * SIMD_SCHEDULE_OUTPUTS);
   const buffersAt = align16(outsAt + 4 * SIMD_SCHEDULE_OUTPUTS * channels);
   let capacity = 0;
+  let kernel: FingerprintKernels | null = null;
   let buffers: Float32Array[] = [];
   let outViews: Float32Array[] = [];
 
-  function layout(newCapacity: number): void {
-    reserveBytes(memory, buffersAt + 4 * newCapacity * channels);
+  /** A new instance whose buffers hold `newCapacity` samples (its memory is made at that size, never grown). */
+  function layout(newCapacity: number): boolean {
+    const next = instantiateKernels(buffersAt + 4 * newCapacity * channels);
+    if (next === null) return false;
+    kernel = next;
     capacity = newCapacity;
-    const heap = memory.buffer;
+    const heap = next.memory.buffer;
+    new Float32Array(heap, tableAt, table.length).set(table);
     buffers = Array.from({ length: channels }, (_, c) => new Float32Array(heap, buffersAt + 4 * capacity * c, capacity));
     outViews = Array.from({ length: channels }, (_, c) => new Float32Array(heap, outsAt + 4 * SIMD_SCHEDULE_OUTPUTS * c, SIMD_SCHEDULE_OUTPUTS));
+    return true;
   }
 
-  layout(align16(Math.max(16, initialCapacity)));
-  new Float32Array(memory.buffer, tableAt, table.length).set(table);
+  if (!layout(align16(Math.max(16, initialCapacity)))) return null;
 
   return {
     channels,
@@ -65,18 +66,13 @@ export function createSimdResampleStore(table: Float32Array, taps: number, chann
     },
     plan(p) {
       const capacity = Math.min(p.capacity, SIMD_SCHEDULE_OUTPUTS);
-      return kernel.plan(p.index, p.ratio, p.limit, p.origin, p.available, p.lead, taps, p.phases, scheduleAt, capacity);
+      return kernel!.plan(p.index, p.ratio, p.limit, p.origin, p.available, p.lead, taps, p.phases, scheduleAt, capacity);
     },
     grow(size, keep) {
       if (size <= capacity) return;
-      const oldCapacity = capacity;
+      const old = buffers;
       layout(align16(Math.max(2 * capacity, size)));
-      // Every channel moves up (its new start is past its old one): last channel first, like memmove.
-      const bytes = new Uint8Array(memory.buffer);
-      for (let c = channels - 1; c >= 1; c--) {
-        const from = buffersAt + 4 * oldCapacity * c;
-        bytes.copyWithin(buffersAt + 4 * capacity * c, from, from + 4 * Math.min(keep, oldCapacity));
-      }
+      for (let c = 0; c < channels; c++) buffers[c].set(old[c].subarray(0, Math.min(keep, old[c].length)));
     },
     run(count, outs, at) {
       if (count <= 0) return;
@@ -85,9 +81,9 @@ export function createSimdResampleStore(table: Float32Array, taps: number, chann
       const outBytes = 4 * SIMD_SCHEDULE_OUTPUTS;
       let c = 0;
       for (; c + 1 < channels; c += 2) {
-        kernel.pair(buffersAt + bufferBytes * c, buffersAt + bufferBytes * (c + 1), tableAt, scheduleAt, count, outsAt + outBytes * c, outsAt + outBytes * (c + 1), taps);
+        kernel!.pair(buffersAt + bufferBytes * c, buffersAt + bufferBytes * (c + 1), tableAt, scheduleAt, count, outsAt + outBytes * c, outsAt + outBytes * (c + 1), taps);
       }
-      if (c < channels) kernel.single(buffersAt + bufferBytes * c, tableAt, scheduleAt, count, outsAt + outBytes * c, taps);
+      if (c < channels) kernel!.single(buffersAt + bufferBytes * c, tableAt, scheduleAt, count, outsAt + outBytes * c, taps);
       for (let ch = 0; ch < channels; ch++) outs[ch].set(outViews[ch].subarray(0, count), at);
     },
   };
