@@ -11,6 +11,8 @@ import { fileURLToPath } from "node:url";
 import { describe, expect, it } from "vitest";
 import { createMultiChannelResampler } from "../../shared/src/fingerprint/resampler.ts";
 import { createSimdResampleStore } from "../../shared/src/fingerprint/resamplerSimd.ts";
+import { createHalvingStage, type HalvingStage } from "../../shared/src/fingerprint/halvingStage.ts";
+import { createSimdHalvingStage } from "../../shared/src/fingerprint/halvingSimd.ts";
 import { FINGERPRINT_WASM, fingerprintWasmText } from "../../scripts/generate-fingerprint-wasm.ts";
 import { seededRandom } from "../fixtures/synth.ts";
 
@@ -95,3 +97,37 @@ describe("fingerprint: SIMD resampler", () => {
     expect(current).toBe(await fingerprintWasmText(root));
   });
 });
+
+/** Runs `inputs` through a stage in the given block sizes (cycled), then end(); all outputs concatenated. */
+function halveAll(stage: HalvingStage, inputs: Float32Array[], blocks: number[]): Float32Array[] {
+  const length = inputs[0].length;
+  const outs = inputs.map(() => new Float32Array(Math.floor(length / 2) + 2));
+  let n = 0;
+  let b = 0;
+  for (let s = 0; s < length; ) {
+    const count = Math.min(blocks[b++ % blocks.length], length - s);
+    n += stage.push(inputs.map((x) => x.subarray(s, s + count)), count, outs.map((o) => o.subarray(n)));
+    s += count;
+  }
+  n += stage.end(outs.map((o) => o.subarray(n)));
+  return outs.map((o) => o.subarray(0, n));
+}
+
+describe("fingerprint: SIMD halving stage", () => {
+  it.each([
+    [1, [65536, 3, 1, 0, 20000]],
+    [2, [65536, 7, 1, 2, 40001]],
+    [2, [1, 1, 1, 5]],
+    [3, [9999, 16384, 16385, 2]],
+    [4, [33333, 4]],
+  ])("%i channel(s), blocks %j: bit-identical to the JavaScript stage", (channels, blocks) => {
+    const inputs = Array.from({ length: channels }, (_, c) => noise(7 + c, 100001, c === 0));
+    const simd = createSimdHalvingStage(channels);
+    expect(simd, "WebAssembly SIMD missing: the comparison would be vacuous").not.toBeNull();
+    const want = halveAll(createHalvingStage(channels), inputs, blocks);
+    const got = halveAll(simd!, inputs, blocks);
+    expect(want[0].length).toBe(50001);
+    for (let c = 0; c < channels; c++) expect(bits(got[c]), `channel ${c}`).toEqual(bits(want[c]));
+  });
+});
+

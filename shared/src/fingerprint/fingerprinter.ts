@@ -13,6 +13,7 @@ import type { AudioBlock, BlockAnalyser, StreamFormat } from "../types/analysis.
 import { createFramePowerSpectrum } from "./fftFrames.ts";
 import { createPeakPicker, hashLandmarks } from "./landmarks.ts";
 import { createHalvingStage, MIN_HALVING_INPUT_HZ, type HalvingStage } from "./halvingStage.ts";
+import { createSimdHalvingStage } from "./halvingSimd.ts";
 import { createMultiChannelResampler } from "./resampler.ts";
 import type { Fingerprint } from "./types.ts";
 
@@ -97,7 +98,7 @@ export function createFingerprinter(format: StreamFormat): BlockAnalyser<Fingerp
   const halvings: HalvingStage[] = [];
   let kernelRateHz = sampleRateHz;
   while (kernelRateHz >= MIN_HALVING_INPUT_HZ) {
-    halvings.push(createHalvingStage(channels));
+    halvings.push(createSimdHalvingStage(channels) ?? createHalvingStage(channels));
     kernelRateHz /= 2;
   }
   const halved: Float32Array[][] = halvings.map(() => Array.from({ length: channels }, () => new Float32Array(0)));

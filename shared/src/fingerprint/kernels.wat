@@ -185,4 +185,65 @@
         (local.set $b (i32.add (local.get $b) (i32.const 1)))
         (br $bin)))
     (local.get $n))
+;; Halving (halvingStage.ts, halvingSimd.ts): `halvePair` for two channels, `halveSingle` for one.
+
+  ;; `pairs` outputs per channel, y = ((b + 3·(c + e0)) + e1) · 0.125 in float64 as the JavaScript
+  ;; stage computes it (b, c the two newest inputs, e0, e1 the next two), rounded to float32 on the
+  ;; store. state: float64 b of both channels, then c of both (lane 0 the first channel), in and out.
+  (func (export "halvePair")
+    (param $inL i32) (param $inR i32) (param $pairs i32) (param $outL i32) (param $outR i32) (param $state i32)
+    (local $b v128) (local $c v128) (local $e0 v128) (local $e1 v128) (local $t v128) (local $y v128) (local $end i32)
+    (local.set $b (v128.load (local.get $state)))
+    (local.set $c (v128.load offset=16 (local.get $state)))
+    (local.set $end (i32.add (local.get $inL) (i32.shl (local.get $pairs) (i32.const 3))))
+    (block $done
+      (br_if $done (i32.eqz (local.get $pairs)))
+      (loop $pair
+        ;; (L[2j], R[2j], L[2j+1], R[2j+1]) as float32, then each half to float64.
+        (local.set $t (i8x16.shuffle 0 1 2 3 16 17 18 19 4 5 6 7 20 21 22 23
+          (v128.load64_zero (local.get $inL)) (v128.load64_zero (local.get $inR))))
+        (local.set $e0 (f64x2.promote_low_f32x4 (local.get $t)))
+        (local.set $e1 (f64x2.promote_low_f32x4
+          (i8x16.shuffle 8 9 10 11 12 13 14 15 8 9 10 11 12 13 14 15 (local.get $t) (local.get $t))))
+        (local.set $y (f32x4.demote_f64x2_zero
+          (f64x2.mul
+            (f64x2.add
+              (f64x2.add (local.get $b) (f64x2.mul (f64x2.splat (f64.const 3)) (f64x2.add (local.get $c) (local.get $e0))))
+              (local.get $e1))
+            (f64x2.splat (f64.const 0.125)))))
+        (v128.store32_lane 0 (local.get $outL) (local.get $y))
+        (v128.store32_lane 1 (local.get $outR) (local.get $y))
+        (local.set $b (local.get $e0))
+        (local.set $c (local.get $e1))
+        (local.set $inL (i32.add (local.get $inL) (i32.const 8)))
+        (local.set $inR (i32.add (local.get $inR) (i32.const 8)))
+        (local.set $outL (i32.add (local.get $outL) (i32.const 4)))
+        (local.set $outR (i32.add (local.get $outR) (i32.const 4)))
+        (br_if $pair (i32.lt_u (local.get $inL) (local.get $end)))))
+    (v128.store (local.get $state) (local.get $b))
+    (v128.store offset=16 (local.get $state) (local.get $c)))
+
+  ;; The same for one channel; state: float64 b at 0, c at 16.
+  (func (export "halveSingle")
+    (param $in i32) (param $pairs i32) (param $out i32) (param $state i32)
+    (local $b f64) (local $c f64) (local $e0 f64) (local $e1 f64) (local $end i32)
+    (local.set $b (f64.load (local.get $state)))
+    (local.set $c (f64.load offset=16 (local.get $state)))
+    (local.set $end (i32.add (local.get $in) (i32.shl (local.get $pairs) (i32.const 3))))
+    (block $done
+      (br_if $done (i32.eqz (local.get $pairs)))
+      (loop $pair
+        (local.set $e0 (f64.promote_f32 (f32.load (local.get $in))))
+        (local.set $e1 (f64.promote_f32 (f32.load offset=4 (local.get $in))))
+        (f32.store (local.get $out) (f32.demote_f64
+          (f64.mul
+            (f64.add (f64.add (local.get $b) (f64.mul (f64.const 3) (f64.add (local.get $c) (local.get $e0)))) (local.get $e1))
+            (f64.const 0.125))))
+        (local.set $b (local.get $e0))
+        (local.set $c (local.get $e1))
+        (local.set $in (i32.add (local.get $in) (i32.const 8)))
+        (local.set $out (i32.add (local.get $out) (i32.const 4)))
+        (br_if $pair (i32.lt_u (local.get $in) (local.get $end)))))
+    (f64.store (local.get $state) (local.get $b))
+    (f64.store offset=16 (local.get $state) (local.get $c)))
 )

@@ -21,6 +21,8 @@ export interface FingerprintKernels {
   single(input: number, kernel: number, schedule: number, count: number, out: number, width: number): void;
   rowMax(src: number, work: number, out: number, length: number, radius: number, size: number): number;
   candidates(row: number, max: number, bins: number, floor: number, out: number): number;
+  halvePair(inLeft: number, inRight: number, pairs: number, outLeft: number, outRight: number, state: number): void;
+  halveSingle(input: number, pairs: number, out: number, state: number): void;
 }
 interface WasmApi {
   validate(bytes: Uint8Array): boolean;
