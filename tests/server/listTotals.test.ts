@@ -57,6 +57,26 @@ describe("list totals", () => {
     expect(c.calls).toEqual({ count: 1, estimate: 1 });
   });
 
+  it("estimates a filter once per version while its count waits for the background", async () => {
+    const { db, sequelize } = fakeDb();
+    const totals = createListTotals(sequelize);
+    const slow = counter(30_000, 29_000, 40);
+    const waiting = counter(25_000, 26_000);
+    // The slow count takes the one background slot, so the second filter's count has to wait.
+    await totals.count("finding=hum", slow.how);
+    expect(await totals.count("q=take-07", waiting.how)).toEqual({ total: 26_000, exact: false });
+    expect(await totals.count("q=take-07", waiting.how)).toEqual({ total: 26_000, exact: false });
+    expect(waiting.calls).toEqual({ count: 0, estimate: 1 });
+    db.version = "2";
+    // After a change the earlier estimate still stands in (no new estimate) until a count is made.
+    expect(await totals.count("q=take-07", waiting.how)).toEqual({ total: 26_000, exact: false });
+    expect(waiting.calls.estimate).toBe(1);
+    await totals.settled();
+    await totals.count("q=take-07", waiting.how);
+    await totals.settled();
+    expect(await totals.count("q=take-07", waiting.how)).toEqual({ total: 25_000, exact: true });
+  });
+
   it("after a change, serves the earlier count as approximate while recounting", async () => {
     const { db, sequelize } = fakeDb();
     const totals = createListTotals(sequelize);

@@ -5,6 +5,15 @@
  * NULL (a quiet −∞ level, or no duration for an unreadable file) sorts as the smallest value: first when
  * ascending, last when descending (the sort columns store it as −Infinity).
  *
+ * The path search (`q`: ILIKE, so case-insensitive, with `%` and `_` literal) is checked on the path each
+ * covering index includes: a text many paths hold is found within the first few thousand entries of the
+ * sort's walk (about 1 ms a page), a rare one through the trigram index (file_results_path_trgm_idx).
+ * PostgreSQL cannot tell which a text is: it tries an infix pattern on ~100 histogram entries, and a text in
+ * 2.5 % of 1 M paths often matched none of them, so it was taken for 100 rows, read through the trigram
+ * index (every match from the table, then sorted: 0.25–0.37 s) and counted inline (as long again). So the
+ * search's matches are estimated on a fixed sample of the table (searchEstimate), and a page whose walk
+ * that estimate (or the exact count) puts within WALK_BUDGET entries is run with the walk forced.
+ *
  * Two ways to ask for a page: `page` (an offset: cost grows with depth, ~0.5 µs a skipped row) or a cursor
  * (`after` / `before`, from a previous page's nextCursor / prevCursor: a seek, the same cost at any depth).
  */
@@ -144,12 +153,101 @@ const LIST_COLUMNS = `f.id, f.batch_id, f.collection_id, c.name as collection_na
 type Row = FileListRow & { sort_text: string };
 
 /**
+ * A page of a search is walked along its sort's index when the walk should take at most this many index
+ * entries, (offset + page) ÷ the share of rows that match: 25–100 ms at 0.5–2 µs an entry (EXPLAIN ANALYZE
+ * at 1 M rows, quiet to busy 2-core machine), where reading all 25 000 matches of a 2.5 % text through the
+ * trigram index costs 0.25 s. Past it the planner chooses (the trigram index, for a rare text).
+ */
+export const WALK_BUDGET = 50_000;
+
+/** Rows the search estimate reads: ~0.5 % of the pages at 1 M rows (10–30 ms on a busy machine), the whole table up to 5 000 rows. */
+const SAMPLE_ROWS = 5_000;
+
+/**
+ * Planner settings for a forced walk, for one transaction: without bitmaps, sequential scans and sorts the
+ * page's ids can only come from walking the sort's covering index in order (with a low estimate the planner
+ * otherwise read the smaller file_results_history_idx whole and sorted its matches). The final sort of the
+ * 51 rows has no other way, so it is kept, with the penalty PostgreSQL adds to a switched-off step in its
+ * cost; that cost would pass jit_above_cost and compile the query (0.28 s), so JIT is off too.
+ */
+export const WALK_SETTINGS = `select ${["enable_bitmapscan", "enable_seqscan", "enable_sort", "enable_incremental_sort", "jit"].map((n) => `set_config('${n}', 'off', true)`).join(", ")}`;
+
+/** Rows in file_results as of the last VACUUM or ANALYZE (the planner's own figure), 0 before the first. */
+async function tableRows(sequelize: Sequelize): Promise<number> {
+  const [row] = await sequelize.query<{ rows: number }>(
+    `select greatest(reltuples, 0)::float8 as rows from pg_class where oid = 'file_results'::regclass`,
+    { type: QueryTypes.SELECT },
+  );
+  return row?.rows ?? 0;
+}
+
+/**
+ * The matches of a query with a search, estimated from a fixed sample of the table's pages (TABLESAMPLE
+ * SYSTEM, the same pages every time): the matching rows there, scaled up by the share of pages read.
+ */
+export async function searchEstimate(sequelize: Sequelize, query: FileListQuery): Promise<number> {
+  const { conds, bind } = listConditions(query);
+  const percent = `(select least(100, 100 * ${SAMPLE_ROWS} / greatest(reltuples, 1))::float8 from pg_class where oid = 'file_results'::regclass)`;
+  const [row] = await sequelize.query<{ n: number }>(
+    `select coalesce(count(*) filter (where ${conds.join(" and ")}) * 100 / ${percent}, 0)::float8 as n
+       from file_results f tablesample system (${percent}) repeatable (0)`,
+    { bind, type: QueryTypes.SELECT },
+  );
+  return Math.round(row.n);
+}
+
+/**
+ * Whether a page of this query is walked along its sort's covering index with the other ways switched
+ * off (WALK_SETTINGS): a search whose matches are a large enough share of the rows (the total, exact or
+ * estimated, over the table's rows) for the page's walk to fit WALK_BUDGET.
+ */
+export function walksSortIndex(query: FileListQuery, { offset, limit }: PageWindow, matches: number, rows: number): boolean {
+  if (query.q === undefined || matches <= 0 || rows <= 0) return false;
+  return ((offset + limit + 1) * rows) / matches <= WALK_BUDGET;
+}
+
+/** Where a page starts and which way it is read: what listFiles decides from the query and the total. */
+export interface PageWindow {
+  offset: number;
+  limit: number;
+  /** Read in the opposite order of the sort (a `before` cursor, or a page nearer the far end) and reversed. */
+  flipped: boolean;
+}
+
+/**
+ * The SQL of one page (exported so tests can EXPLAIN exactly what is run). The page's ids come through the
+ * sort's covering index (an index-only walk, or the planner's bitmap of a selective filter such as a batch
+ * or a rare search text), then only those rows are read.
+ */
+export function pageQuery(query: FileListQuery, { offset, limit, flipped }: PageWindow): { sql: string; bind: unknown[] } {
+  const { sort, order } = effectiveSort(query);
+  const { column, type } = SORT_COLUMNS[sort];
+  const { conds, bind } = listConditions(query);
+  const cursor = query.after ?? query.before;
+  const dir = flipped ? (order === "asc" ? "desc" : "asc") : order;
+  const param = (v: unknown): string => {
+    bind.push(v);
+    return `$${bind.length}`;
+  };
+  if (cursor) conds.push(`(f.${column}, f.id) ${dir === "asc" ? ">" : "<"} (${param(cursor.value)}::${type}, ${param(cursor.id)}::int)`);
+  // One row more than the page says whether there is another page in the reading direction.
+  const fetch = limit + 1;
+  const orderBy = (v: string, id: string): string => `order by ${v} ${dir}, ${id} ${dir}`;
+  const page = `page as materialized (select f.id, f.${column} as sort_value from file_results f ${whereSql(conds)}
+      ${orderBy(`f.${column}`, "f.id")} limit ${param(fetch)} offset ${param(offset)})`;
+  const sql = `with ${page}
+    select ${LIST_COLUMNS}, p.sort_value::text as sort_text
+      from page p join file_results f on f.id = p.id join collections c on c.id = f.collection_id
+     ${orderBy("p.sort_value", "p.id")}`;
+  return { sql, bind };
+}
+
+/**
  * One page of the list. Without a cursor, a page past the middle (when the total is exact) is read from
  * the far end in the opposite order and reversed: the last page costs what the first does.
  */
 export async function listFiles(sequelize: Sequelize, query: FileListQuery, totals: ListTotals): Promise<FileListPage> {
   const { sort, order } = effectiveSort(query);
-  const { column, type } = SORT_COLUMNS[sort];
   const filters = listConditions(query);
   const filterKey = JSON.stringify([query.batch, query.collection, query.verdict, query.reviewState, query.finding, query.q]);
   const filterSql = whereSql(filters.conds);
@@ -166,12 +264,14 @@ export async function listFiles(sequelize: Sequelize, query: FileListQuery, tota
         return Number(row.n);
       }),
     estimate: () =>
-      sequelize
-        .query<{ "QUERY PLAN": [{ Plan: { "Plan Rows": number } }] }>(`explain (format json) select 1 from file_results f ${filterSql}`, {
-          bind: filters.bind,
-          type: QueryTypes.SELECT,
-        })
-        .then(([row]) => Math.round(row["QUERY PLAN"][0].Plan["Plan Rows"])),
+      query.q !== undefined
+        ? searchEstimate(sequelize, query)
+        : sequelize
+            .query<{ "QUERY PLAN": [{ Plan: { "Plan Rows": number } }] }>(`explain (format json) select 1 from file_results f ${filterSql}`, {
+              bind: filters.bind,
+              type: QueryTypes.SELECT,
+            })
+            .then(([row]) => Math.round(row["QUERY PLAN"][0].Plan["Plan Rows"])),
   });
 
   const cursor = query.after ?? query.before;
@@ -186,26 +286,15 @@ export async function listFiles(sequelize: Sequelize, query: FileListQuery, tota
     const fromEnd = total - offset - limit;
     if (fromEnd < offset) [flipped, offset] = [true, fromEnd];
   }
-  const dir = flipped ? (order === "asc" ? "desc" : "asc") : order;
-  const conds = [...filters.conds];
-  const bind = [...filters.bind];
-  const param = (v: unknown): string => {
-    bind.push(v);
-    return `$${bind.length}`;
-  };
-  if (cursor) conds.push(`(f.${column}, f.id) ${dir === "asc" ? ">" : "<"} (${param(cursor.value)}::${type}, ${param(cursor.id)}::int)`);
-  // One row more than the page says whether there is another page in the reading direction.
-  const fetch = limit + 1;
-  const orderBy = (v: string, id: string): string => `order by ${v} ${dir}, ${id} ${dir}`;
-  // The page's ids through the sort's covering index (an index-only walk, or the planner's bitmap of a
-  // selective filter such as a batch), then only those rows are read.
-  const page = `page as materialized (select f.id, f.${column} as sort_value from file_results f ${whereSql(conds)}
-      ${orderBy(`f.${column}`, "f.id")} limit ${param(fetch)} offset ${param(offset)})`;
-  const sql = `with ${page}
-    select ${LIST_COLUMNS}, p.sort_value::text as sort_text
-      from page p join file_results f on f.id = p.id join collections c on c.id = f.collection_id
-     ${orderBy("p.sort_value", "p.id")}`;
-  const fetched = await sequelize.query<Row>(sql, { bind, type: QueryTypes.SELECT });
+  const window = { offset, limit, flipped };
+  const { sql, bind } = pageQuery(query, window);
+  const walk = query.q !== undefined && walksSortIndex(query, window, total, await tableRows(sequelize));
+  const fetched = walk
+    ? await sequelize.transaction(async (transaction) => {
+        await sequelize.query(WALK_SETTINGS, { transaction });
+        return sequelize.query<Row>(sql, { bind, type: QueryTypes.SELECT, transaction });
+      })
+    : await sequelize.query<Row>(sql, { bind, type: QueryTypes.SELECT });
   const more = fetched.length > limit;
   const rows = fetched.slice(0, limit);
   if (flipped) rows.reverse();

@@ -3,8 +3,9 @@
  * moves with every committed change to file_results). A page turn reads one tiny row unless the data
  * changed. When it did (or for a filter not seen yet) and many matches are expected, counting them would
  * cost 0.1–0.5 s at 1 M rows, so the answer carries an approximate total, marked as such (the total counted
- * before the change, or else the planner's estimate), while one exact count at a time runs in the
- * background and fills the cache for the next request.
+ * before the change, or else an estimate), while one exact count at a time runs in the background and
+ * fills the cache for the next request. The estimate is kept too, so a filter waiting for its count is
+ * estimated once per version, not on every page.
  */
 import { QueryTypes, type Sequelize } from "sequelize";
 
@@ -20,11 +21,11 @@ export interface ListTotals {
 }
 
 export function createListTotals(sequelize: Sequelize, onError: (message: string) => void = () => undefined): ListTotals {
-  const cache = new Map<string, { version: string; total: number }>();
+  const cache = new Map<string, { version: string; total: number; exact: boolean }>();
   let background: Promise<void> | null = null;
-  const remember = (filterKey: string, version: string, total: number): void => {
+  const remember = (filterKey: string, version: string, total: number, exact = true): void => {
     if (cache.size >= MAX_ENTRIES && !cache.has(filterKey)) cache.delete(cache.keys().next().value!);
-    cache.set(filterKey, { version, total });
+    cache.set(filterKey, { version, total, exact });
   };
   return {
     async count(filterKey, how) {
@@ -32,14 +33,16 @@ export function createListTotals(sequelize: Sequelize, onError: (message: string
       const [row] = await sequelize.query<{ version: string }>(`select version from file_list_version`, { type: QueryTypes.SELECT });
       const version = row?.version ?? "none";
       const hit = cache.get(filterKey);
-      if (hit && hit.version === version) return { total: hit.total, exact: true };
-      // A total counted before the latest change is usually closer than the planner's guess (and free).
+      if (hit && hit.version === version && hit.exact) return { total: hit.total, exact: true };
+      // A total counted before the latest change is usually closer than an estimate (and free); an
+      // estimate already made for this version is not made again.
       const guess = hit ? hit.total : await how.estimate();
       if (guess <= EXACT_COUNT_MAX) {
         const total = await how.count();
         remember(filterKey, version, total);
         return { total, exact: true };
       }
+      if (!hit) remember(filterKey, version, guess, false);
       // One background count at a time, then a pause three times as long as it took: while reviewers keep
       // changing files, recounting stays under a quarter of one database process instead of competing with
       // every page (one count at 1 M rows takes 0.1–0.5 s).
