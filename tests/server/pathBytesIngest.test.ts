@@ -53,6 +53,23 @@ describe("paths that are not UTF-8", () => {
     expect(files.map((f) => f.pathBytes).sort()).toEqual([E8, E9].sort());
   });
 
+  it("the Files search finds names shown with U+FFFD, and ignores case beyond ASCII as PostgreSQL's ILIKE does", async () => {
+    const odd = await ingest(t.app, token, { collection: "Harbourside", batchKey: "pb-search", report: lookAlikes(sha("s9"), sha("s8")) });
+    const accented = await ingest(t.app, token, { collection: "Harbourside", batchKey: "pb-accents", report: scanReport([{ path: "Rådhus/ÉTÉ-1979.wav" }, { path: "Rådhus/winter.wav" }]) });
+    expect([odd.status, accented.status]).toEqual([201, 201]);
+    const { agent } = await t.signIn("auditor");
+    const search = async (batch: number, q: string): Promise<string[]> => {
+      const res = await agent.get(`/api/files?batch=${batch}&sort=path&q=${encodeURIComponent(q)}`);
+      expect(res.status, q).toBe(200);
+      return (res.body.items as { path: string }[]).map((f) => f.path);
+    };
+    expect(await search(odd.body.batchId, "\uFFFD")).toEqual([SHOWN, SHOWN]);
+    expect(await search(odd.body.batchId, "CAF\uFFFD.WAV")).toEqual([SHOWN, SHOWN]);
+    expect(await search(odd.body.batchId, "cafe")).toEqual([]);
+    expect(await search(accented.body.batchId, "été-1979")).toEqual(["Rådhus/ÉTÉ-1979.wav"]);
+    expect(await search(accented.body.batchId, "RÅDHUS/")).toEqual(["Rådhus/winter.wav", "Rådhus/ÉTÉ-1979.wav"].sort());
+  });
+
   it("the same path and the same bytes twice in one report is still a duplicate (422)", async () => {
     const report = lookAlikes(sha("a"), sha("b"));
     report.files[1].pathBytes = E9;
