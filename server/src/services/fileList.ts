@@ -172,13 +172,22 @@ const SAMPLE_ROWS = 5_000;
  */
 export const WALK_SETTINGS = `select ${["enable_bitmapscan", "enable_seqscan", "enable_sort", "enable_incremental_sort", "jit"].map((n) => `set_config('${n}', 'off', true)`).join(", ")}`;
 
-/** Rows in file_results as of the last VACUUM or ANALYZE (the planner's own figure), 0 before the first. */
-async function tableRows(sequelize: Sequelize): Promise<number> {
-  const [row] = await sequelize.query<{ rows: number }>(
-    `select greatest(reltuples, 0)::float8 as rows from pg_class where oid = 'file_results'::regclass`,
-    { type: QueryTypes.SELECT },
-  );
-  return row?.rows ?? 0;
+const tableRowsRead = new WeakMap<Sequelize, { rows: Promise<number>; at: number }>();
+
+/**
+ * Rows in file_results as of the last VACUUM or ANALYZE (the planner's own figure), 0 before the first.
+ * It moves only with (auto)vacuum, so it is read at most every 10 s: a search page saves a round trip.
+ */
+function tableRows(sequelize: Sequelize): Promise<number> {
+  const last = tableRowsRead.get(sequelize);
+  if (last && Date.now() - last.at < 10_000) return last.rows;
+  const rows = sequelize
+    .query<{ rows: number }>(`select greatest(reltuples, 0)::float8 as rows from pg_class where oid = 'file_results'::regclass`, { type: QueryTypes.SELECT })
+    .then(([row]) => row?.rows ?? 0);
+  tableRowsRead.set(sequelize, { rows, at: Date.now() });
+  // A failed read is not kept: the next search asks again.
+  rows.catch(() => tableRowsRead.delete(sequelize));
+  return rows;
 }
 
 /**
