@@ -12,7 +12,7 @@
  * 2.5 % of 1 M paths often matched none of them, so it was taken for 100 rows, read through the trigram
  * index (every match from the table, then sorted: 0.25–0.37 s) and counted inline (as long again). So the
  * search's matches are estimated on a fixed sample of the table (searchEstimate), and a page whose walk
- * that estimate (or the exact count) puts within WALK_BUDGET entries is run with the walk forced.
+ * that estimate (or the exact count) puts within WALK_BUDGET entries is written so it can only walk.
  *
  * Two ways to ask for a page: `page` (an offset: cost grows with depth, ~0.5 µs a skipped row) or a cursor
  * (`after` / `before`, from a previous page's nextCursor / prevCursor: a seek, the same cost at any depth).
@@ -163,15 +163,6 @@ export const WALK_BUDGET = 50_000;
 /** Rows the search estimate reads: ~0.5 % of the pages at 1 M rows (10–30 ms on a busy machine), the whole table up to 5 000 rows. */
 const SAMPLE_ROWS = 5_000;
 
-/**
- * Planner settings for a forced walk, for one transaction: without bitmaps, sequential scans and sorts the
- * page's ids can only come from walking the sort's covering index in order (with a low estimate the planner
- * otherwise read the smaller file_results_history_idx whole and sorted its matches). The final sort of the
- * 51 rows has no other way, so it is kept, with the penalty PostgreSQL adds to a switched-off step in its
- * cost; that cost would pass jit_above_cost and compile the query (0.28 s), so JIT is off too.
- */
-export const WALK_SETTINGS = `select ${["enable_bitmapscan", "enable_seqscan", "enable_sort", "enable_incremental_sort", "jit"].map((n) => `set_config('${n}', 'off', true)`).join(", ")}`;
-
 const tableRowsRead = new WeakMap<Sequelize, { rows: Promise<number>; at: number }>();
 
 /**
@@ -206,9 +197,9 @@ export async function searchEstimate(sequelize: Sequelize, query: FileListQuery)
 }
 
 /**
- * Whether a page of this query is walked along its sort's covering index with the other ways switched
- * off (WALK_SETTINGS): a search whose matches are a large enough share of the rows (the total, exact or
- * estimated, over the table's rows) for the page's walk to fit WALK_BUDGET.
+ * Whether a page of this query is a forced walk along its sort's covering index (pageQuery): a search
+ * whose matches are a large enough share of the rows (the total, exact or estimated, over the table's
+ * rows) for the page's walk to fit WALK_BUDGET.
  */
 export function walksSortIndex(query: FileListQuery, { offset, limit }: PageWindow, matches: number, rows: number): boolean {
   if (query.q === undefined || matches <= 0 || rows <= 0) return false;
@@ -223,12 +214,21 @@ export interface PageWindow {
   flipped: boolean;
 }
 
+/** The columns a forced walk reads from the sort's covering index: the filter columns it INCLUDEs. */
+const WALK_COLUMNS = "f.id, f.path, f.batch_id, f.collection_id, f.verdict, f.review_state, f.finding_codes";
+
 /**
  * The SQL of one page (exported so tests can EXPLAIN exactly what is run). The page's ids come through the
  * sort's covering index (an index-only walk, or the planner's bitmap of a selective filter such as a batch
  * or a rare search text), then only those rows are read.
+ *
+ * `walk` forces the walk: the index is read in order in a subquery that only seeks the cursor, fenced by
+ * OFFSET 0 so the filters stay outside it; planned for every row, the index-only walk is by far the
+ * cheapest way to them in order, whatever the planner thinks the search matches, and the outer LIMIT stops
+ * it after the page. (Switching the other plans off per transaction did the same with three more round
+ * trips, and the penalty of a switched-off sort passed jit_above_cost: 0.28 s of JIT a page.)
  */
-export function pageQuery(query: FileListQuery, { offset, limit, flipped }: PageWindow): { sql: string; bind: unknown[] } {
+export function pageQuery(query: FileListQuery, { offset, limit, flipped }: PageWindow, walk = false): { sql: string; bind: unknown[] } {
   const { sort, order } = effectiveSort(query);
   const { column, type } = SORT_COLUMNS[sort];
   const { conds, bind } = listConditions(query);
@@ -238,12 +238,16 @@ export function pageQuery(query: FileListQuery, { offset, limit, flipped }: Page
     bind.push(v);
     return `$${bind.length}`;
   };
-  if (cursor) conds.push(`(f.${column}, f.id) ${dir === "asc" ? ">" : "<"} (${param(cursor.value)}::${type}, ${param(cursor.id)}::int)`);
+  const seek = cursor ? `(f.${column}, f.id) ${dir === "asc" ? ">" : "<"} (${param(cursor.value)}::${type}, ${param(cursor.id)}::int)` : null;
   // One row more than the page says whether there is another page in the reading direction.
   const fetch = limit + 1;
   const orderBy = (v: string, id: string): string => `order by ${v} ${dir}, ${id} ${dir}`;
-  const page = `page as materialized (select f.id, f.${column} as sort_value from file_results f ${whereSql(conds)}
-      ${orderBy(`f.${column}`, "f.id")} limit ${param(fetch)} offset ${param(offset)})`;
+  const source = walk
+    ? `(select ${WALK_COLUMNS}, f.${column} as sort_value from file_results f ${whereSql(seek ? [seek] : [])}
+         ${orderBy(`f.${column}`, "f.id")} offset 0) f ${whereSql(conds)} ${orderBy("f.sort_value", "f.id")}`
+    : `file_results f ${whereSql(seek ? [...conds, seek] : conds)} ${orderBy(`f.${column}`, "f.id")}`;
+  const page = `page as materialized (select f.id, ${walk ? "f.sort_value" : `f.${column} as sort_value`} from ${source}
+      limit ${param(fetch)} offset ${param(offset)})`;
   const sql = `with ${page}
     select ${LIST_COLUMNS}, p.sort_value::text as sort_text
       from page p join file_results f on f.id = p.id join collections c on c.id = f.collection_id
@@ -296,14 +300,9 @@ export async function listFiles(sequelize: Sequelize, query: FileListQuery, tota
     if (fromEnd < offset) [flipped, offset] = [true, fromEnd];
   }
   const window = { offset, limit, flipped };
-  const { sql, bind } = pageQuery(query, window);
   const walk = query.q !== undefined && walksSortIndex(query, window, total, await tableRows(sequelize));
-  const fetched = walk
-    ? await sequelize.transaction(async (transaction) => {
-        await sequelize.query(WALK_SETTINGS, { transaction });
-        return sequelize.query<Row>(sql, { bind, type: QueryTypes.SELECT, transaction });
-      })
-    : await sequelize.query<Row>(sql, { bind, type: QueryTypes.SELECT });
+  const { sql, bind } = pageQuery(query, window, walk);
+  const fetched = await sequelize.query<Row>(sql, { bind, type: QueryTypes.SELECT });
   const more = fetched.length > limit;
   const rows = fetched.slice(0, limit);
   if (flipped) rows.reverse();
