@@ -4,6 +4,7 @@
  */
 import type { AddressInfo } from "node:net";
 import type { Server } from "node:http";
+import { QueryTypes } from "sequelize";
 import { afterAll, beforeAll, expect, it } from "vitest";
 import { CSRF_HEADER } from "@tidemark/shared/types/api";
 import { createApp } from "../../server/src/app.ts";
@@ -46,6 +47,11 @@ afterAll(async () => {
   await new Promise((r) => server.close(r));
   await db.close();
   await pg.dispose();
+});
+
+it("runs the server's queries without JIT compilation (a short list page must not pay ~0.3 s to compile)", async () => {
+  const row = await db.sequelize.query("show jit", { type: QueryTypes.SELECT, plain: true });
+  expect(row).toEqual({ jit: "off" });
 });
 
 async function health(): Promise<number> {
