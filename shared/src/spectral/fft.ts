@@ -58,7 +58,12 @@ export function isPowerOfTwo(n: number): boolean {
   return Number.isInteger(n) && n > 1 && (n & (n - 1)) === 0;
 }
 
-export function createSpectrumAnalyzer(fftSize: number): SpectrumAnalyzer {
+export interface SpectrumAnalyzerOptions {
+  /** "fft.js" forces the double-precision path for the amplitude spectra too (benches and comparisons). */
+  engine?: "auto" | "fft.js";
+}
+
+export function createSpectrumAnalyzer(fftSize: number, options: SpectrumAnalyzerOptions = {}): SpectrumAnalyzer {
   // fft.js checks too, but with a message that does not say what arrived; 2^30 keeps `n & (n − 1)` in int32.
   if (!isPowerOfTwo(fftSize) || fftSize > 2 ** 30) {
     throw new Error(`fftSize must be a power of two > 1, got ${fftSize}`);
@@ -77,7 +82,7 @@ export function createSpectrumAnalyzer(fftSize: number): SpectrumAnalyzer {
   // Amplitude of bin k is 2|X_k|/Σw (one-sided); DC and Nyquist are |X_k|/Σw.
   const sideScale = 4 / (windowSum * windowSum);
   const edgeScale = 1 / (windowSum * windowSum);
-  const plan = pffftRealPlan(fftSize);
+  const plan = options.engine === "fft.js" ? null : pffftRealPlan(fftSize);
 
   // fft.js and its buffers only once a caller needs them: the STFT path never does when PFFFT serves it.
   let fft: FFT | null = null;
