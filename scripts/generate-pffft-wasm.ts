@@ -1,6 +1,6 @@
 /**
  * Writes shared/src/spectral/pffftWasm.generated.ts: the WASM SIMD build of PFFFT shipped in
- * @echogarden/pffft-wasm (dist/simd/pffft.wasm, pinned in shared/package.json), as base64, with the
+ * @echogarden/pffft-wasm (dist/simd/pffft.wasm, pinned in the root package.json), as base64, with the
  * library's licence. Embedding the bytes lets the pure core instantiate it synchronously anywhere
  * (tsx, vitest, the esbuild bundle, a worker) without file access. Run
  * `node --import tsx scripts/generate-pffft-wasm.ts` after the package changes;

@@ -7,7 +7,7 @@
  * Which transform serves which call (issue #22; figures from scripts/bench/fft.ts):
  * - `amplitudeSquared` / `magnitudeDb` (every STFT, hum and close-up frame) run PFFFT's single-precision
  *   real transform where it exists (sizes that are multiples of 32, a runtime with WASM SIMD), about 4×
- *   fft.js at 512 … 8192 points with the copies in and out; its rounding sits ≈ 130 dB below a frame's
+ *   fft.js at 512 … 65536 points with the copies in and out; its rounding sits ≈ 135 dB below a frame's
  *   strongest bin, far under any level the analysis reports.
  * - `spectrum` / `pairSpectrum` (complex output: the fingerprint) stay on fft.js in double precision,
  *   which issue #4 checks against a naive DFT to 1e-9.
