@@ -1,15 +1,27 @@
 /**
- * The one adapter around fft.js (CommonJS, `any` typings): everything else in Tidemark sees only the
- * typed `SpectrumAnalyzer` below. One analyzer owns one planned FFT, its Hann window and its scratch
- * buffers, so a caller that keeps one analyzer per configuration allocates nothing per frame.
+ * The one adapter around the FFTs (fft.js, CommonJS with `any` typings, and PFFFT in WASM SIMD via
+ * ./pffft.ts): everything else in Tidemark sees only the typed `SpectrumAnalyzer` below. One analyzer owns
+ * its planned transforms, its Hann window and its scratch buffers, so a caller that keeps one analyzer per
+ * configuration allocates nothing per frame.
+ *
+ * Which transform serves which call (issue #22; figures from scripts/bench/fft.ts):
+ * - `amplitudeSquared` / `magnitudeDb` (every STFT, hum and close-up frame) run PFFFT's single-precision
+ *   real transform where it exists (sizes that are multiples of 32, a runtime with WASM SIMD), about 4×
+ *   fft.js at 512 … 65536 points with the copies in and out; its rounding sits ≈ 135 dB below a frame's
+ *   strongest bin, far under any level the analysis reports.
+ * - `spectrum` / `pairSpectrum` (complex output: the fingerprint) stay on fft.js in double precision,
+ *   which issue #4 checks against a naive DFT to 1e-9.
  */
 import FFT from "fft.js";
+import { pffftRealPlan } from "./pffft.ts";
 
 /** Anything indexable by sample: the block and frame buffers are Float32Array, test frames Float64Array. */
 export type SampleFrame = Float32Array | Float64Array;
 
 export interface SpectrumAnalyzer {
   readonly fftSize: number;
+  /** The transform behind `amplitudeSquared` and `magnitudeDb` (tests and benches say which ran). */
+  readonly engine: "pffft-wasm-simd" | "fft.js";
   /** Bins 0 … fftSize/2 of the one-sided spectrum. */
   readonly binCount: number;
   /** Periodic ("DFT-even") Hann window, length fftSize. */
@@ -46,12 +58,16 @@ export function isPowerOfTwo(n: number): boolean {
   return Number.isInteger(n) && n > 1 && (n & (n - 1)) === 0;
 }
 
-export function createSpectrumAnalyzer(fftSize: number): SpectrumAnalyzer {
+export interface SpectrumAnalyzerOptions {
+  /** "fft.js" forces the double-precision path for the amplitude spectra too (benches and comparisons). */
+  engine?: "auto" | "fft.js";
+}
+
+export function createSpectrumAnalyzer(fftSize: number, options: SpectrumAnalyzerOptions = {}): SpectrumAnalyzer {
   // fft.js checks too, but with a message that does not say what arrived; 2^30 keeps `n & (n − 1)` in int32.
   if (!isPowerOfTwo(fftSize) || fftSize > 2 ** 30) {
     throw new Error(`fftSize must be a power of two > 1, got ${fftSize}`);
   }
-  const fft = new FFT(fftSize);
   const binCount = fftSize / 2 + 1;
   const window = new Float64Array(fftSize);
   let windowSum = 0;
@@ -63,12 +79,17 @@ export function createSpectrumAnalyzer(fftSize: number): SpectrumAnalyzer {
     windowSum += w;
     windowEnergy += w * w;
   }
-  const windowed = new Float64Array(fftSize);
-  const complex = new Float64Array(2 * fftSize);
-  const pairInput = new Float64Array(2 * fftSize);
   // Amplitude of bin k is 2|X_k|/Σw (one-sided); DC and Nyquist are |X_k|/Σw.
   const sideScale = 4 / (windowSum * windowSum);
   const edgeScale = 1 / (windowSum * windowSum);
+  const plan = options.engine === "fft.js" ? null : pffftRealPlan(fftSize);
+
+  // fft.js and its buffers only once a caller needs them: the STFT path never does when PFFFT serves it.
+  let fft: FFT | null = null;
+  let windowed: Float64Array | null = null;
+  let complex: Float64Array | null = null;
+  let pairInput: Float64Array | null = null;
+  const fftJs = (): FFT => (fft ??= new FFT(fftSize));
 
   function checkFrame(frame: SampleFrame): void {
     if (frame.length < fftSize) {
@@ -76,15 +97,20 @@ export function createSpectrumAnalyzer(fftSize: number): SpectrumAnalyzer {
     }
   }
 
-  function transform(frame: SampleFrame, out: Float64Array): void {
-    checkFrame(frame);
-    for (let n = 0; n < fftSize; n++) windowed[n] = frame[n] * window[n];
-    // realTransform fills bins 0 … N/2 (the left half); the mirrored half is never needed here.
-    fft.realTransform(out, windowed);
+  function checkBins(out: Float32Array | Float64Array): void {
+    if (out.length < binCount) throw new Error(`out must hold binCount = ${binCount} values, got ${out.length}`);
   }
 
-  function amplitudeSquared(frame: SampleFrame, out: Float32Array | Float64Array): void {
-    if (out.length < binCount) throw new Error(`out must hold binCount = ${binCount} values, got ${out.length}`);
+  function transform(frame: SampleFrame, out: Float64Array): void {
+    checkFrame(frame);
+    windowed ??= new Float64Array(fftSize);
+    for (let n = 0; n < fftSize; n++) windowed[n] = frame[n] * window[n];
+    // realTransform fills bins 0 … N/2 (the left half); the mirrored half is never needed here.
+    fftJs().realTransform(out, windowed);
+  }
+
+  function amplitudeSquaredFftJs(frame: SampleFrame, out: Float32Array | Float64Array): void {
+    complex ??= new Float64Array(2 * fftSize);
     transform(frame, complex);
     const last = binCount - 1;
     out[0] = complex[0] * complex[0] * edgeScale;
@@ -98,8 +124,60 @@ export function createSpectrumAnalyzer(fftSize: number): SpectrumAnalyzer {
     out[last] = (reN * reN + imN * imN) * edgeScale;
   }
 
+  /**
+   * The periodic Hann applied after the transform: w[n] = ½ − ¼e^(2πin/N) − ¼e^(−2πin/N), so by the DFT's
+   * modulation property (Oppenheim & Schafer, 3rd ed., ch. 8) X_w[k] = ½X[k] − ¼(X[k−1] + X[k+1])
+   * exactly. The frame is then copied into the heap as it is, with no
+   * windowing pass and no window table to read. X[−1] = conj X[1] and X[N/2+1] = conj X[N/2−1] for a
+   * real frame; DC and Nyquist are real (PFFFT packs them into the first two slots).
+   */
+  function amplitudeSquaredPffft(frame: SampleFrame, out: Float32Array | Float64Array): void {
+    checkFrame(frame);
+    const h = plan!.forward(frame);
+    const o = plan!.outputIndex;
+    const half = fftSize >> 1;
+    const dc = h[o];
+    const nyquist = h[o + 1];
+    // k = 0 and k = N/2: real; their neighbours' imaginary parts cancel against the mirror image.
+    const w0 = 0.5 * dc - 0.5 * h[o + 2];
+    out[0] = w0 * w0 * edgeScale;
+    const wN = 0.5 * nyquist - 0.5 * h[o + fftSize - 2];
+    out[half] = wN * wN * edgeScale;
+    // k = 1: its lower neighbour is DC (imaginary part 0).
+    {
+      const re = 0.5 * h[o + 2] - 0.25 * (dc + h[o + 4]);
+      const im = 0.5 * h[o + 3] - 0.25 * h[o + 5];
+      out[1] = (re * re + im * im) * sideScale;
+    }
+    for (let k = 2; k < half - 1; k++) {
+      const i = o + 2 * k;
+      const re = 0.5 * h[i] - 0.25 * (h[i - 2] + h[i + 2]);
+      const im = 0.5 * h[i + 1] - 0.25 * (h[i - 1] + h[i + 3]);
+      out[k] = (re * re + im * im) * sideScale;
+    }
+    // k = N/2 − 1: its upper neighbour is Nyquist (imaginary part 0).
+    {
+      const i = o + fftSize - 2;
+      const re = 0.5 * h[i] - 0.25 * (h[i - 2] + nyquist);
+      const im = 0.5 * h[i + 1] - 0.25 * h[i - 1];
+      out[half - 1] = (re * re + im * im) * sideScale;
+    }
+  }
+
+  const amplitudeSquared =
+    plan === null
+      ? (frame: SampleFrame, out: Float32Array | Float64Array): void => {
+          checkBins(out);
+          amplitudeSquaredFftJs(frame, out);
+        }
+      : (frame: SampleFrame, out: Float32Array | Float64Array): void => {
+          checkBins(out);
+          amplitudeSquaredPffft(frame, out);
+        };
+
   return {
     fftSize,
+    engine: plan === null ? "fft.js" : "pffft-wasm-simd",
     binCount,
     window,
     windowSum,
@@ -117,11 +195,12 @@ export function createSpectrumAnalyzer(fftSize: number): SpectrumAnalyzer {
       if (out.length < 2 * fftSize) {
         throw new Error(`out must hold 2 × fftSize = ${2 * fftSize} values, got ${out.length}`);
       }
+      pairInput ??= new Float64Array(2 * fftSize);
       for (let n = 0; n < fftSize; n++) {
         pairInput[2 * n] = a[n] * window[n];
         pairInput[2 * n + 1] = b[n] * window[n];
       }
-      fft.transform(out, pairInput);
+      fftJs().transform(out, pairInput);
     },
     amplitudeSquared,
     magnitudeDb(frame, out) {
