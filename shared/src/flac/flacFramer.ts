@@ -5,6 +5,14 @@
  * bytes with no valid header, comes out as a gap of known length (from the sample numbers), so the caller can
  * fill it with silence, report it with its time, and keep measuring. Memory stays bounded: a frame that
  * never ends within `maxFrameBytes` is given up and the framer searches for the next header.
+ *
+ * The CRC-16 is the framer's only per-byte work, and a decoder checks it again (libFLAC does), so at a header
+ * that continues the sample count exactly the frame is first offered unchecked: when the caller's decoder takes
+ * it, that decoder's CRC-16 held and the framer's own pass is skipped. Only a frame the caller turns down, or a
+ * boundary that skips samples, is checked here, byte for byte as before; a turned-down frame whose CRC-16 fails
+ * at that header may hold a false sync code in its data (a sync code, a header passing CRC-8, the next sample
+ * number), so the framer reads on to where the CRC-16 comes to 0 at a header, and falls back to the first one
+ * once the next frame's header shows the frame was damaged after all.
  */
 import type { FlacStreamInfo } from "./flacLayout.ts";
 
@@ -17,8 +25,13 @@ export interface FlacFrameHeader {
 }
 
 export interface FlacFramerEvents {
-  /** A whole frame (valid CRC-16); `bytes` is only valid during the call. */
-  frame(bytes: Uint8Array, header: FlacFrameHeader, fileOffset: number): void;
+  /**
+   * A frame; `bytes` is only valid during the call. With `checked` its CRC-16 held here and the caller must take
+   * it (the return value is ignored). Without, its CRC-16 is not yet checked: the caller returns true when it
+   * took the frame (its decoder verified the CRC-16 and decoded every sample), or false, having taken nothing,
+   * so that the framer checks it and calls again (`checked`, same bytes and offset) or reports a gap.
+   */
+  frame(bytes: Uint8Array, header: FlacFrameHeader, fileOffset: number, checked: boolean): boolean;
   /** `frames` samples from `startSample` were lost (bad CRC-16, lost sync); `why` says which. */
   gap(startSample: number, frames: number, fileOffset: number, why: string): void;
 }
@@ -176,11 +189,17 @@ class Framer implements FlacFramer {
   private curStart = 0;
   /** Next index to look for a sync code at. */
   private scan = 0;
-  /** CRC-16 of buf[curStart, crcPos). */
+  /** CRC-16 of buf[curStart, crcPos), brought forward only when a boundary needs it (`crcUpTo`). */
   private crc = 0;
   private crcPos = 0;
   /** A sync code where the CRC-16 was 0: where this frame ends if the next header turns out damaged. */
   private lastZero = -1;
+  /**
+   * The first header continuing the sample count exactly, where the caller turned the open frame down and its
+   * CRC-16 failed: the frame's end if it proves damaged, or a false sync in its data if the CRC-16 later holds.
+   */
+  private pendingAt = -1;
+  private pendingHeader: FlacFrameHeader | null = null;
 
   constructor(
     private readonly info: FlacStreamInfo,
@@ -199,10 +218,11 @@ class Framer implements FlacFramer {
   }
 
   finish(): { trailingBytes: number } {
-    this.process(true);
     let trailingBytes = 0;
-    const h = this.cur;
-    if (h) {
+    for (;;) {
+      this.process(true);
+      const h = this.cur;
+      if (!h) break;
       // The last frame ends where the CRC-16 last comes to 0; anything after it belongs to no frame.
       let end = -1;
       let c = 0;
@@ -212,10 +232,16 @@ class Framer implements FlacFramer {
         c = ((c << 8) & 0xffff) ^ CRC16[(c >> 8) ^ b[i]];
         if (c === 0 && i + 1 >= minEnd) end = i + 1;
       }
+      if (this.pendingHeader && end <= this.pendingAt) {
+        // Not whole past the header it was turned down at: damaged there, and the rest is read from that header.
+        this.resolvePending();
+        continue;
+      }
       if (end > 0) {
         trailingBytes = this.len - end;
         this.close(end, true);
       } else this.close(this.len, false);
+      break;
     }
     // With no frame open, the bytes since the last one were already reported as a gap.
     return { trailingBytes };
@@ -236,6 +262,7 @@ class Framer implements FlacFramer {
       this.scan -= keepFrom;
       this.crcPos -= keepFrom;
       if (this.lastZero >= 0) this.lastZero -= keepFrom;
+      if (this.pendingAt >= 0) this.pendingAt -= keepFrom;
     }
     this.buf.set(bytes, this.len);
     this.len += bytes.length;
@@ -257,19 +284,73 @@ class Framer implements FlacFramer {
     this.crcPos = at;
     this.scan = at + header.headerBytes + 2;
     this.lastZero = -1;
+    this.pendingAt = -1;
+    this.pendingHeader = null;
   }
 
-  /** Ends the open frame at `end`, whole or damaged. */
+  /** Frames missing before the open one are a gap first, whatever becomes of it. */
+  private gapBefore(): void {
+    const h = this.cur as FlacFrameHeader;
+    if (h.sampleNumber > this.nextSample) this.gapTo(h.sampleNumber, this.base + this.curStart, "lost sync: frames missing before this point");
+  }
+
+  /** Ends the open frame at `end`, whole (CRC-16 checked here) or damaged. */
   private close(end: number, isWhole: boolean): void {
     const h = this.cur as FlacFrameHeader;
     const offset = this.base + this.curStart;
-    if (h.sampleNumber > this.nextSample) this.gapTo(h.sampleNumber, offset, "lost sync: frames missing before this point");
+    this.gapBefore();
     if (isWhole) {
-      this.events.frame(this.buf.subarray(this.curStart, end), h, offset);
+      this.events.frame(this.buf.subarray(this.curStart, end), h, offset, true);
       this.nextSample = h.sampleNumber + h.blockSize;
     } else this.gapTo(h.sampleNumber + h.blockSize, offset, "frame CRC-16 mismatch");
     this.cur = null;
     this.scan = end;
+    this.pendingAt = -1;
+    this.pendingHeader = null;
+  }
+
+  /** Offers the open frame, ending at `end`, unchecked; true when the caller took it. */
+  private offer(end: number): boolean {
+    const h = this.cur as FlacFrameHeader;
+    this.gapBefore();
+    if (!this.events.frame(this.buf.subarray(this.curStart, end), h, this.base + this.curStart, false)) return false;
+    this.nextSample = h.sampleNumber + h.blockSize;
+    this.cur = null;
+    this.scan = end;
+    return true;
+  }
+
+  /** The open frame was damaged after all: it ends at the pending header, which opens the next frame. */
+  private resolvePending(): void {
+    const at = this.pendingAt;
+    const next = this.pendingHeader as FlacFrameHeader;
+    this.close(at, false);
+    this.begin(next, at);
+  }
+
+  /** The open frame is longer than any real frame: given up at the pending header, or at that length. */
+  private giveUp(): void {
+    if (this.pendingHeader) this.resolvePending();
+    else this.close(this.curStart + this.maxFrameBytes, false);
+  }
+
+  /**
+   * Brings the CRC-16 of the open frame forward to `to`, noting every sync code on the way where it was 0
+   * (`lastZero`), exactly as if it had been kept up at each sync code the scan passed.
+   */
+  private crcUpTo(to: number): void {
+    const b = this.buf;
+    const view = this.view;
+    const h = this.cur as FlacFrameHeader;
+    for (let s = view.indexOf(0xff, Math.max(this.crcPos + 1, this.curStart + h.headerBytes + 2)); s >= 0 && s < to; s = view.indexOf(0xff, s + 1)) {
+      if ((b[s + 1] & 0xfe) !== 0xf8) continue;
+      this.crc = crc16(b, this.crcPos, s, this.crc);
+      this.crcPos = s;
+      if (this.crc === 0) this.lastZero = s;
+    }
+    this.crc = crc16(b, this.crcPos, to, this.crc);
+    this.crcPos = to;
+    if (this.crc === 0) this.lastZero = to;
   }
 
   private process(isFinal: boolean): void {
@@ -282,7 +363,7 @@ class Framer implements FlacFramer {
         if (q >= 0 && !isFinal) this.scan = q;
         else this.scan = Math.max(this.scan, len);
         // A frame that never ends within any real frame's length is given up; the search starts again.
-        if (this.cur && len - this.curStart > this.maxFrameBytes) this.close(this.curStart + this.maxFrameBytes, false);
+        if (this.cur && len - this.curStart > this.maxFrameBytes) this.giveUp();
         else return;
         continue;
       }
@@ -303,20 +384,57 @@ class Framer implements FlacFramer {
         continue;
       }
       if (q - this.curStart > this.maxFrameBytes) {
-        this.close(this.curStart + this.maxFrameBytes, false);
+        this.giveUp();
         continue;
       }
-      this.crc = crc16(b, this.crcPos, q, this.crc);
-      this.crcPos = q;
-      if (this.crc === 0) this.lastZero = q;
       const expected = h.sampleNumber + h.blockSize;
       const next = parseFrameHeader(b, q, len, info);
-      if (next && next.sampleNumber >= expected && (this.crc === 0 || next.sampleNumber <= expected + 16 * info.maxBlockSize)) {
-        // A frame was whole up to an earlier sync code, and what followed it lost its header.
-        if (this.crc !== 0 && next.sampleNumber > expected && this.lastZero > this.curStart) this.close(this.lastZero, true);
-        else this.close(q, this.crc === 0);
+      if (!next || next.sampleNumber < expected) {
+        this.scan = q + 1;
+        continue;
+      }
+      if (next.sampleNumber === expected && !this.pendingHeader) {
+        // The usual boundary: offered unchecked, and the caller's decoder checks the CRC-16.
+        if (this.offer(q)) {
+          this.begin(next, q);
+          continue;
+        }
+        this.crcUpTo(q);
+        if (this.crc === 0) {
+          this.close(q, true);
+          this.begin(next, q);
+        } else {
+          this.pendingAt = q;
+          this.pendingHeader = next;
+          this.scan = q + 1;
+        }
+        continue;
+      }
+      this.crcUpTo(q);
+      if (this.crc === 0) {
+        this.close(q, true);
         this.begin(next, q);
-      } else this.scan = q + 1;
+        continue;
+      }
+      if (next.sampleNumber > expected + 16 * info.maxBlockSize) {
+        this.scan = q + 1;
+        continue;
+      }
+      if (this.pendingHeader && next.sampleNumber === expected) {
+        // Two headers for the same next frame and no CRC-16 at either: the earlier one is likelier the false one.
+        this.pendingAt = q;
+        this.pendingHeader = next;
+        this.scan = q + 1;
+        continue;
+      }
+      // A frame was whole up to an earlier sync code, and what followed it lost its header.
+      const wholeEarlier = next.sampleNumber > expected && this.lastZero > Math.max(this.curStart, this.pendingAt);
+      if (this.pendingHeader && !wholeEarlier) {
+        this.resolvePending();
+        continue;
+      }
+      this.close(wholeEarlier ? this.lastZero : q, wholeEarlier);
+      this.begin(next, q);
     }
   }
 }
