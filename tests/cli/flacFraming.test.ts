@@ -260,3 +260,74 @@ describe.runIf(hasFlac)("FLAC frame boundaries", () => {
     expect(decodeErrors(d)).toEqual([]);
   });
 });
+
+/** Stereo PCM WAV (16 or 24 bits, little-endian), and its samples as integers per channel. */
+function stereoWav(bits: 16 | 24, frames: number): { wav: Uint8Array; left: Int32Array; right: Int32Array } {
+  const width = bits / 8;
+  const left = new Int32Array(frames);
+  const right = new Int32Array(frames);
+  const full = 2 ** (bits - 1);
+  let seed = 12345;
+  for (let i = 0; i < frames; i++) {
+    seed = (seed * 1103515245 + 12345) >>> 0;
+    left[i] = Math.round(0.4 * full * Math.sin((i * 2 * Math.PI * 997) / RATE)) + ((seed >>> 8) % 2001) - 1000;
+    right[i] = Math.max(-full, Math.min(full - 1, Math.round(-0.7 * full * Math.sin((i * 2 * Math.PI * 50) / RATE))));
+  }
+  const data = new Uint8Array(frames * 2 * width);
+  const v = new DataView(data.buffer);
+  for (let i = 0, j = 0; i < frames; i++) {
+    for (const x of [left[i], right[i]]) {
+      if (width === 2) v.setInt16(j, x, true);
+      else {
+        v.setUint8(j, x & 0xff);
+        v.setInt16(j + 1, x >> 8, true);
+      }
+      j += width;
+    }
+  }
+  const head = new Uint8Array(44);
+  const h = new DataView(head.buffer);
+  head.set(Buffer.from("RIFF"), 0);
+  h.setUint32(4, 36 + data.length, true);
+  head.set(Buffer.from("WAVEfmt "), 8);
+  h.setUint32(16, 16, true);
+  h.setUint16(20, 1, true);
+  h.setUint16(22, 2, true);
+  h.setUint32(24, RATE, true);
+  h.setUint32(28, RATE * 2 * width, true);
+  h.setUint16(32, 2 * width, true);
+  h.setUint16(34, bits, true);
+  head.set(Buffer.from("data"), 36);
+  h.setUint32(40, data.length, true);
+  return { wav: new Uint8Array([...head, ...data]), left, right };
+}
+
+describe.runIf(hasFlac)("FLAC stereo samples and MD5 input", () => {
+  // flac computes STREAMINFO's MD5 from the WAV it encodes (Debian's flac): our MD5 of the decoded codes must equal it.
+  it.each([
+    [16, 4096],
+    [24, 4096],
+    [16, 1001],
+    [24, 1001],
+    [24, 4097],
+  ] as const)("%i-bit stereo in %i-sample frames: every code back, the MD5 agrees", async (bits, block) => {
+    const frames = RATE + 7;
+    const { wav, left, right } = stereoWav(bits, frames);
+    const wavFile = path.join(dir, `st${bits}-${block}.wav`);
+    const flacFile = path.join(dir, `st${bits}-${block}.flac`);
+    writeFileSync(wavFile, wav);
+    execFileSync("flac", ["-s", "-f", "--lax", "-b", String(block), wavFile, "-o", flacFile]);
+    const bytes = new Uint8Array(readFileSync(flacFile));
+    const layout = await readFlacLayout(byteSourceFromBytes(bytes));
+    const got = [new Int32Array(frames), new Int32Array(frames)];
+    const decoder = await createFlacStreamDecoder(layout, 65536, (b) => {
+      for (let c = 0; c < 2; c++) for (let i = 0; i < b.frames; i++) got[c][b.startFrame + i] = Math.round(b.channels[c][i] * 2 ** (bits - 1));
+    });
+    for (let at = 0; at < bytes.length; at += 100_000) await decoder.push(bytes.subarray(at, Math.min(bytes.length, at + 100_000)), at);
+    await decoder.finish();
+    expect(decoder.findings).toEqual([]);
+    expect(layout.streamInfo.md5).not.toBeNull();
+    expect(got[0]).toEqual(left);
+    expect(got[1]).toEqual(right);
+  });
+});
