@@ -46,10 +46,10 @@ function frameHeader(n: number): Uint8Array {
   return h;
 }
 
-function samplesOf(n: number, falseSync: boolean): Int16Array {
+function samplesOf(n: number, falseSyncFrame: number | null): Int16Array {
   const s = new Int16Array(BLOCK);
   for (let i = 0; i < BLOCK; i++) s[i] = Math.round(9000 * Math.sin(((n * BLOCK + i) * 2 * Math.PI * 441) / RATE) + 700 * Math.sin(n * 7 + i * 1.3));
-  if (falseSync && n === FALSE_SYNC_FRAME) {
+  if (n === falseSyncFrame) {
     // Three samples whose big-endian bytes are the next frame's header: FF F8 8A 08 n+1 CRC-8.
     const h = frameHeader(n + 1);
     for (let k = 0; k < 3; k++) s[FALSE_SYNC_SAMPLE + k] = (h[2 * k] << 8) | h[2 * k + 1];
@@ -75,11 +75,11 @@ interface Stream {
   samples: Int16Array;
 }
 
-function buildStream(falseSync: boolean): Stream {
+function buildStream(falseSyncFrame: number | null): Stream {
   const samples = new Int16Array(FRAMES * BLOCK);
   const frames: Uint8Array[] = [];
   for (let n = 0; n < FRAMES; n++) {
-    const s = samplesOf(n, falseSync);
+    const s = samplesOf(n, falseSyncFrame);
     samples.set(s, n * BLOCK);
     frames.push(frameBytes(n, s));
   }
@@ -130,8 +130,10 @@ const decodeErrors = (d: Decoded): Finding[] => d.findings.filter((f) => f.code 
 const codes = (d: Decoded): string[] => d.findings.map((f) => f.code);
 
 let dir: string;
-const stream = buildStream(true);
-const plain = buildStream(false);
+const stream = buildStream(FALSE_SYNC_FRAME);
+const plain = buildStream(null);
+/** The false sync in the last frame: only the end of the stream can show where that frame ends. */
+const lastFalse = buildStream(FRAMES - 1);
 beforeAll(() => {
   dir = mkdtempSync(path.join(tmpdir(), "tidemark-flacframing-"));
 });
@@ -142,6 +144,9 @@ describe.runIf(hasFlac)("FLAC frame boundaries", () => {
     const file = path.join(dir, "falsesync.flac");
     writeFileSync(file, stream.bytes);
     expect(spawnSync("flac", ["-s", "-t", file]).status).toBe(0);
+    const last = path.join(dir, "lastfalse.flac");
+    writeFileSync(last, lastFalse.bytes);
+    expect(spawnSync("flac", ["-s", "-t", last]).status).toBe(0);
     const raw = path.join(dir, "falsesync.raw");
     execFileSync("flac", ["-s", "-f", "-d", "--force-raw-format", "--endian=little", "--sign=signed", file, "-o", raw]);
     const decoded = new Int16Array(new Uint8Array(readFileSync(raw)).buffer);
@@ -158,6 +163,27 @@ describe.runIf(hasFlac)("FLAC frame boundaries", () => {
       expect(d.samples).toEqual(stream.samples);
       expect(d.trailingBytes).toBe(0);
     }
+  });
+
+  it("a false sync code in the last frame's data: the frame runs to the end of the stream, whole", async () => {
+    const d = await decode(lastFalse.bytes);
+    expect(d.findings).toEqual([]);
+    expect(d.samples).toEqual(lastFalse.samples);
+    expect(d.trailingBytes).toBe(0);
+  });
+
+  it("a flipped byte after a false sync code in the last frame: that frame is lost at its time, nothing else", async () => {
+    const n = FRAMES - 1;
+    const bytes = lastFalse.bytes.slice();
+    bytes[lastFalse.offsets[n] + 7 + 2 * (FALSE_SYNC_SAMPLE + 50)] ^= 0x04;
+    const d = await decode(bytes);
+    const errors = decodeErrors(d);
+    expect(errors).toHaveLength(1);
+    expect(errors[0].startSeconds).toBeCloseTo((n * BLOCK) / RATE, 9);
+    expect(errors[0].endSeconds).toBeCloseTo(((n + 1) * BLOCK) / RATE, 9);
+    expect(frameOf(d.samples, n).every((x) => x === 0)).toBe(true);
+    for (let k = 0; k < n; k++) expect(frameOf(d.samples, k)).toEqual(frameOf(lastFalse.samples, k));
+    expect(codes(d)).not.toContain("truncated");
   });
 
   it.each([
