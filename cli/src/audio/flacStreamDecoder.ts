@@ -10,7 +10,7 @@ import type { AudioBlock } from "@tidemark/shared/types/analysis";
 import type { Finding } from "@tidemark/shared/types/report";
 import { createFlacFramer, type FlacFrameHeader, type FlacFramer } from "@tidemark/shared/flac/flacFramer";
 import type { FlacLayout } from "@tidemark/shared/flac/flacLayout";
-import { createLibflacFrames, type DecodedFrame, type LibflacFrames } from "./libflacFrames.ts";
+import { createLibflacFrames, type LibflacFrames } from "./libflacFrames.ts";
 
 const FRAMER_SLICE_BYTES = 256 * 1024;
 /** At most this many decode-error findings per file; the last one says how many more. */
@@ -66,12 +66,6 @@ class FlacStream implements FlacStreamDecoder {
   private dataStarted = false;
   private readonly libScale: number;
   private readonly inverse: number;
-  /** The last frame turned down, and its decode (valid until the next decode). */
-  private declined: DecodedFrame | null = null;
-  private declinedOffset = -1;
-  private declinedLength = 0;
-  /** libFLAC complained about the last frame: it starts afresh before the next. */
-  private resetBeforeNext = false;
 
   constructor(
     private readonly layout: FlacLayout,
@@ -82,7 +76,7 @@ class FlacStream implements FlacStreamDecoder {
     const channels = layout.channels;
     this.planar = Array.from({ length: channels }, () => new Float32Array(blockFrames));
     this.framer = createFlacFramer(layout.streamInfo, layout.dataOffset, {
-      frame: (bytes, header, offset, checked) => this.frame(bytes, header, offset, checked),
+      frame: (bytes, header) => this.frame(bytes, header),
       gap: (sample, frames, _offset, why) => this.gap(sample, frames, why),
     });
     const bits = layout.streamInfo.bitsPerSample;
@@ -114,22 +108,8 @@ class FlacStream implements FlacStreamDecoder {
     this.closingFindings();
   }
 
-  /**
-   * An unchecked frame is taken only when libFLAC decodes all of it without complaint (libFLAC checks its
-   * CRC-16 and gives back nothing when it fails); otherwise it is turned down untouched, the framer checks it,
-   * and a checked call for the same bytes reuses this decode, so findings are as if it had been checked first.
-   */
-  private frame(bytes: Uint8Array, header: FlacFrameHeader, offset: number, checked: boolean): boolean {
-    const reused = checked && offset === this.declinedOffset && bytes.length === this.declinedLength ? this.declined : null;
-    this.declinedOffset = -1;
-    const decoded = reused ?? this.decode(bytes);
-    if (decoded.error !== null || decoded.samples !== header.blockSize) this.resetBeforeNext = true;
-    if (!checked && (decoded.samples !== header.blockSize || decoded.error !== null)) {
-      this.declined = decoded;
-      this.declinedOffset = offset;
-      this.declinedLength = bytes.length;
-      return false;
-    }
+  private frame(bytes: Uint8Array, header: FlacFrameHeader): void {
+    const decoded = this.decoder.decode(bytes);
     const samples = Math.min(decoded.samples, header.blockSize);
     const error = decoded.error;
     if (samples < header.blockSize) {
@@ -144,16 +124,6 @@ class FlacStream implements FlacStreamDecoder {
     if (kept > 0) this.take(decoded.data, decoded.samples, kept);
     // A frame libFLAC gave back short keeps its length, as silence, so later times stay right.
     if (samples < header.blockSize) this.silence(header.blockSize - samples);
-    return true;
-  }
-
-  private decode(bytes: Uint8Array): DecodedFrame {
-    if (this.resetBeforeNext) {
-      this.resetBeforeNext = false;
-      this.decoder.reset();
-      this.decoder.decode(this.layout.streamHeader);
-    }
-    return this.decoder.decode(bytes);
   }
 
   /**

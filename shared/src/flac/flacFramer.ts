@@ -6,13 +6,11 @@
  * fill it with silence, report it with its time, and keep measuring. Memory stays bounded: a frame that
  * never ends within `maxFrameBytes` is given up and the framer searches for the next header.
  *
- * The CRC-16 is the framer's only per-byte work, and a decoder checks it again (libFLAC does), so at a header
- * that continues the sample count exactly the frame is first offered unchecked: when the caller's decoder takes
- * it, that decoder's CRC-16 held and the framer's own pass is skipped. Only a frame the caller turns down, or a
- * boundary that skips samples, is checked here, byte for byte as before; a turned-down frame whose CRC-16 fails
- * at that header may hold a false sync code in its data (a sync code, a header passing CRC-8, the next sample
- * number), so the framer reads on to where the CRC-16 comes to 0 at a header, and falls back to the first one
- * once the next frame's header shows the frame was damaged after all.
+ * A frame whose CRC-16 fails at a header continuing the sample count exactly may hold a false sync code in its
+ * data (a sync code, a header passing CRC-8, the next sample number), so the framer reads on to where the
+ * CRC-16 comes to 0 at a header, and falls back to the first one once the next frame's header shows the frame
+ * was damaged after all. Only frames whose CRC-16 held reach the caller: libFLAC's WebAssembly build, given
+ * damaged frames unchecked, was seen to fault (out-of-bounds memory access) on a file with many flipped bytes.
  */
 import type { FlacStreamInfo } from "./flacLayout.ts";
 
@@ -25,13 +23,8 @@ export interface FlacFrameHeader {
 }
 
 export interface FlacFramerEvents {
-  /**
-   * A frame; `bytes` is only valid during the call. With `checked` its CRC-16 held here and the caller must take
-   * it (the return value is ignored). Without, its CRC-16 is not yet checked: the caller returns true when it
-   * took the frame (its decoder verified the CRC-16 and decoded every sample), or false, having taken nothing,
-   * so that the framer checks it and calls again (`checked`, same bytes and offset) or reports a gap.
-   */
-  frame(bytes: Uint8Array, header: FlacFrameHeader, fileOffset: number, checked: boolean): boolean;
+  /** A whole frame (valid CRC-16); `bytes` is only valid during the call. */
+  frame(bytes: Uint8Array, header: FlacFrameHeader, fileOffset: number): void;
   /** `frames` samples from `startSample` were lost (bad CRC-16, lost sync); `why` says which. */
   gap(startSample: number, frames: number, fileOffset: number, why: string): void;
 }
@@ -195,8 +188,8 @@ class Framer implements FlacFramer {
   /** A sync code where the CRC-16 was 0: where this frame ends if the next header turns out damaged. */
   private lastZero = -1;
   /**
-   * The first header continuing the sample count exactly, where the caller turned the open frame down and its
-   * CRC-16 failed: the frame's end if it proves damaged, or a false sync in its data if the CRC-16 later holds.
+   * The first header continuing the sample count exactly where the open frame's CRC-16 failed: the frame's end
+   * if it proves damaged, or a false sync code in its data if the CRC-16 later holds.
    */
   private pendingAt = -1;
   private pendingHeader: FlacFrameHeader | null = null;
@@ -300,24 +293,13 @@ class Framer implements FlacFramer {
     const offset = this.base + this.curStart;
     this.gapBefore();
     if (isWhole) {
-      this.events.frame(this.buf.subarray(this.curStart, end), h, offset, true);
+      this.events.frame(this.buf.subarray(this.curStart, end), h, offset);
       this.nextSample = h.sampleNumber + h.blockSize;
     } else this.gapTo(h.sampleNumber + h.blockSize, offset, "frame CRC-16 mismatch");
     this.cur = null;
     this.scan = end;
     this.pendingAt = -1;
     this.pendingHeader = null;
-  }
-
-  /** Offers the open frame, ending at `end`, unchecked; true when the caller took it. */
-  private offer(end: number): boolean {
-    const h = this.cur as FlacFrameHeader;
-    this.gapBefore();
-    if (!this.events.frame(this.buf.subarray(this.curStart, end), h, this.base + this.curStart, false)) return false;
-    this.nextSample = h.sampleNumber + h.blockSize;
-    this.cur = null;
-    this.scan = end;
-    return true;
   }
 
   /** The open frame was damaged after all: it ends at the pending header, which opens the next frame. */
@@ -393,23 +375,6 @@ class Framer implements FlacFramer {
         this.scan = q + 1;
         continue;
       }
-      if (next.sampleNumber === expected && !this.pendingHeader) {
-        // The usual boundary: offered unchecked, and the caller's decoder checks the CRC-16.
-        if (this.offer(q)) {
-          this.begin(next, q);
-          continue;
-        }
-        this.crcUpTo(q);
-        if (this.crc === 0) {
-          this.close(q, true);
-          this.begin(next, q);
-        } else {
-          this.pendingAt = q;
-          this.pendingHeader = next;
-          this.scan = q + 1;
-        }
-        continue;
-      }
       this.crcUpTo(q);
       if (this.crc === 0) {
         this.close(q, true);
@@ -420,8 +385,9 @@ class Framer implements FlacFramer {
         this.scan = q + 1;
         continue;
       }
-      if (this.pendingHeader && next.sampleNumber === expected) {
-        // Two headers for the same next frame and no CRC-16 at either: the earlier one is likelier the false one.
+      if (next.sampleNumber === expected) {
+        // No CRC-16 here: damage, or a false sync code in the data. With two such headers and no CRC-16 at
+        // either, the earlier one is likelier the false one.
         this.pendingAt = q;
         this.pendingHeader = next;
         this.scan = q + 1;
