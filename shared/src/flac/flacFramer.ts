@@ -182,7 +182,7 @@ class Framer implements FlacFramer {
   private curStart = 0;
   /** Next index to look for a sync code at. */
   private scan = 0;
-  /** CRC-16 of buf[curStart, crcPos), brought forward only when a boundary needs it (`crcUpTo`). */
+  /** CRC-16 of buf[curStart, crcPos). */
   private crc = 0;
   private crcPos = 0;
   /** A sync code where the CRC-16 was 0: where this frame ends if the next header turns out damaged. */
@@ -226,7 +226,7 @@ class Framer implements FlacFramer {
         if (c === 0 && i + 1 >= minEnd) end = i + 1;
       }
       if (this.pendingHeader && end <= this.pendingAt) {
-        // Not whole past the header it was turned down at: damaged there, and the rest is read from that header.
+        // The CRC-16 never came to 0 past the pending header: damaged there, and the rest is read from that header.
         this.resolvePending();
         continue;
       }
@@ -316,25 +316,6 @@ class Framer implements FlacFramer {
     else this.close(this.curStart + this.maxFrameBytes, false);
   }
 
-  /**
-   * Brings the CRC-16 of the open frame forward to `to`, noting every sync code on the way where it was 0
-   * (`lastZero`), exactly as if it had been kept up at each sync code the scan passed.
-   */
-  private crcUpTo(to: number): void {
-    const b = this.buf;
-    const view = this.view;
-    const h = this.cur as FlacFrameHeader;
-    for (let s = view.indexOf(0xff, Math.max(this.crcPos + 1, this.curStart + h.headerBytes + 2)); s >= 0 && s < to; s = view.indexOf(0xff, s + 1)) {
-      if ((b[s + 1] & 0xfe) !== 0xf8) continue;
-      this.crc = crc16(b, this.crcPos, s, this.crc);
-      this.crcPos = s;
-      if (this.crc === 0) this.lastZero = s;
-    }
-    this.crc = crc16(b, this.crcPos, to, this.crc);
-    this.crcPos = to;
-    if (this.crc === 0) this.lastZero = to;
-  }
-
   private process(isFinal: boolean): void {
     const info = this.info;
     for (;;) {
@@ -369,13 +350,15 @@ class Framer implements FlacFramer {
         this.giveUp();
         continue;
       }
+      this.crc = crc16(b, this.crcPos, q, this.crc);
+      this.crcPos = q;
+      if (this.crc === 0) this.lastZero = q;
       const expected = h.sampleNumber + h.blockSize;
       const next = parseFrameHeader(b, q, len, info);
       if (!next || next.sampleNumber < expected) {
         this.scan = q + 1;
         continue;
       }
-      this.crcUpTo(q);
       if (this.crc === 0) {
         this.close(q, true);
         this.begin(next, q);
