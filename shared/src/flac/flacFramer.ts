@@ -5,6 +5,12 @@
  * bytes with no valid header, comes out as a gap of known length (from the sample numbers), so the caller can
  * fill it with silence, report it with its time, and keep measuring. Memory stays bounded: a frame that
  * never ends within `maxFrameBytes` is given up and the framer searches for the next header.
+ *
+ * A frame whose CRC-16 fails at a header continuing the sample count exactly may hold a false sync code in its
+ * data (a sync code, a header passing CRC-8, the next sample number), so the framer reads on to where the
+ * CRC-16 comes to 0 at a header, and falls back to the first one once the next frame's header shows the frame
+ * was damaged after all. Only frames whose CRC-16 held reach the caller: libFLAC's WebAssembly build, given
+ * damaged frames unchecked, was seen to fault (out-of-bounds memory access) on a file with many flipped bytes.
  */
 import type { FlacStreamInfo } from "./flacLayout.ts";
 
@@ -181,6 +187,12 @@ class Framer implements FlacFramer {
   private crcPos = 0;
   /** A sync code where the CRC-16 was 0: where this frame ends if the next header turns out damaged. */
   private lastZero = -1;
+  /**
+   * The first header continuing the sample count exactly where the open frame's CRC-16 failed: the frame's end
+   * if it proves damaged, or a false sync code in its data if the CRC-16 later holds.
+   */
+  private pendingAt = -1;
+  private pendingHeader: FlacFrameHeader | null = null;
 
   constructor(
     private readonly info: FlacStreamInfo,
@@ -199,10 +211,11 @@ class Framer implements FlacFramer {
   }
 
   finish(): { trailingBytes: number } {
-    this.process(true);
     let trailingBytes = 0;
-    const h = this.cur;
-    if (h) {
+    for (;;) {
+      this.process(true);
+      const h = this.cur;
+      if (!h) break;
       // The last frame ends where the CRC-16 last comes to 0; anything after it belongs to no frame.
       let end = -1;
       let c = 0;
@@ -212,10 +225,16 @@ class Framer implements FlacFramer {
         c = ((c << 8) & 0xffff) ^ CRC16[(c >> 8) ^ b[i]];
         if (c === 0 && i + 1 >= minEnd) end = i + 1;
       }
+      if (this.pendingHeader && end <= this.pendingAt) {
+        // The CRC-16 never came to 0 past the pending header: damaged there, and the rest is read from that header.
+        this.resolvePending();
+        continue;
+      }
       if (end > 0) {
         trailingBytes = this.len - end;
         this.close(end, true);
       } else this.close(this.len, false);
+      break;
     }
     // With no frame open, the bytes since the last one were already reported as a gap.
     return { trailingBytes };
@@ -236,6 +255,7 @@ class Framer implements FlacFramer {
       this.scan -= keepFrom;
       this.crcPos -= keepFrom;
       if (this.lastZero >= 0) this.lastZero -= keepFrom;
+      if (this.pendingAt >= 0) this.pendingAt -= keepFrom;
     }
     this.buf.set(bytes, this.len);
     this.len += bytes.length;
@@ -257,19 +277,43 @@ class Framer implements FlacFramer {
     this.crcPos = at;
     this.scan = at + header.headerBytes + 2;
     this.lastZero = -1;
+    this.pendingAt = -1;
+    this.pendingHeader = null;
   }
 
-  /** Ends the open frame at `end`, whole or damaged. */
+  /** Frames missing before the open one are a gap first, whatever becomes of it. */
+  private gapBefore(): void {
+    const h = this.cur as FlacFrameHeader;
+    if (h.sampleNumber > this.nextSample) this.gapTo(h.sampleNumber, this.base + this.curStart, "lost sync: frames missing before this point");
+  }
+
+  /** Ends the open frame at `end`, whole (CRC-16 checked here) or damaged. */
   private close(end: number, isWhole: boolean): void {
     const h = this.cur as FlacFrameHeader;
     const offset = this.base + this.curStart;
-    if (h.sampleNumber > this.nextSample) this.gapTo(h.sampleNumber, offset, "lost sync: frames missing before this point");
+    this.gapBefore();
     if (isWhole) {
       this.events.frame(this.buf.subarray(this.curStart, end), h, offset);
       this.nextSample = h.sampleNumber + h.blockSize;
     } else this.gapTo(h.sampleNumber + h.blockSize, offset, "frame CRC-16 mismatch");
     this.cur = null;
     this.scan = end;
+    this.pendingAt = -1;
+    this.pendingHeader = null;
+  }
+
+  /** The open frame was damaged after all: it ends at the pending header, which opens the next frame. */
+  private resolvePending(): void {
+    const at = this.pendingAt;
+    const next = this.pendingHeader as FlacFrameHeader;
+    this.close(at, false);
+    this.begin(next, at);
+  }
+
+  /** The open frame is longer than any real frame: given up at the pending header, or at that length. */
+  private giveUp(): void {
+    if (this.pendingHeader) this.resolvePending();
+    else this.close(this.curStart + this.maxFrameBytes, false);
   }
 
   private process(isFinal: boolean): void {
@@ -282,7 +326,7 @@ class Framer implements FlacFramer {
         if (q >= 0 && !isFinal) this.scan = q;
         else this.scan = Math.max(this.scan, len);
         // A frame that never ends within any real frame's length is given up; the search starts again.
-        if (this.cur && len - this.curStart > this.maxFrameBytes) this.close(this.curStart + this.maxFrameBytes, false);
+        if (this.cur && len - this.curStart > this.maxFrameBytes) this.giveUp();
         else return;
         continue;
       }
@@ -303,7 +347,7 @@ class Framer implements FlacFramer {
         continue;
       }
       if (q - this.curStart > this.maxFrameBytes) {
-        this.close(this.curStart + this.maxFrameBytes, false);
+        this.giveUp();
         continue;
       }
       this.crc = crc16(b, this.crcPos, q, this.crc);
@@ -311,12 +355,35 @@ class Framer implements FlacFramer {
       if (this.crc === 0) this.lastZero = q;
       const expected = h.sampleNumber + h.blockSize;
       const next = parseFrameHeader(b, q, len, info);
-      if (next && next.sampleNumber >= expected && (this.crc === 0 || next.sampleNumber <= expected + 16 * info.maxBlockSize)) {
-        // A frame was whole up to an earlier sync code, and what followed it lost its header.
-        if (this.crc !== 0 && next.sampleNumber > expected && this.lastZero > this.curStart) this.close(this.lastZero, true);
-        else this.close(q, this.crc === 0);
+      if (!next || next.sampleNumber < expected) {
+        this.scan = q + 1;
+        continue;
+      }
+      if (this.crc === 0) {
+        this.close(q, true);
         this.begin(next, q);
-      } else this.scan = q + 1;
+        continue;
+      }
+      if (next.sampleNumber > expected + 16 * info.maxBlockSize) {
+        this.scan = q + 1;
+        continue;
+      }
+      if (next.sampleNumber === expected) {
+        // No CRC-16 here: damage, or a false sync code in the data. With two such headers and no CRC-16 at
+        // either, the earlier one is likelier the false one.
+        this.pendingAt = q;
+        this.pendingHeader = next;
+        this.scan = q + 1;
+        continue;
+      }
+      // A frame was whole up to an earlier sync code, and what followed it lost its header.
+      const wholeEarlier = next.sampleNumber > expected && this.lastZero > Math.max(this.curStart, this.pendingAt);
+      if (this.pendingHeader && !wholeEarlier) {
+        this.resolvePending();
+        continue;
+      }
+      this.close(wholeEarlier ? this.lastZero : q, wholeEarlier);
+      this.begin(next, q);
     }
   }
 }
