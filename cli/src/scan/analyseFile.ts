@@ -89,13 +89,13 @@ export interface AnalyseTimings {
   render: number;
   paint: number;
   png: number;
-  /** Time on a core of the thread that measured the file, and of its spectral thread (0 without one), from opening to the images. */
+  /** Time on a core of the thread that measured the file (opening to the images), and of its spectral thread (0 without one). */
   threadCpu: number;
   spectralThreadCpu: number;
+  /** 1 when the file's spectral side ran on a second thread, else 0 (a count, not a time). */
+  spectralThreads: number;
   /** Time the measuring thread waited for a core meanwhile (others' load); NaN where the system does not say. */
   runQueue: number;
-  /** Spectrogram PNGs the spectral thread drew (a count, not a time). */
-  spectrogramsDrawnElsewhere: number;
 }
 
 /** Height of the overview waveform strip, px (its width follows the spectrogram's). */
@@ -118,7 +118,6 @@ async function writeImages(
   task: AnalyseTask,
   ctx: ScanContext,
   timings: AnalyseTimings,
-  spectralThread: SpectralThread | null,
 ): Promise<{ spectrogram: string; closeups: CloseupFields | null }> {
   const settings = ctx.settings;
   const paths = spectrogramPaths(target, task.relPath);
@@ -138,27 +137,13 @@ async function writeImages(
   await mkdir(path.dirname(paths.png), { recursive: true });
   const channelTitle = (c: number): string => `${task.relPath} (channel ${c + 1})`;
   const channelPath = (c: number): string => channelSpectrogramPath(paths.png, c);
-  const channels = analysed.channelSpectrograms?.length ?? 0;
-  // With a spectral thread, it draws the spectrograms (its own grids) while this thread draws the rest.
-  const images = [{ channel: null, title: task.relPath }, ...Array.from({ length: channels }, (_, c) => ({ channel: c, title: channelTitle(c) }))];
-  const elsewhere = spectralThread?.renderSpectrograms({ images, width, height, markers }).catch(() => null) ?? Promise.resolve(null);
   await writeFile(paths.waveform, png(() => renderWaveformImage(analysed.waveform, { width, height: WAVEFORM_HEIGHT_PX, markers })));
   const closeups = ctx.closeups
     ? await writeCloseups({ analysed, findings, format, target, relPath: task.relPath, settings, waveformHeightPx: WAVEFORM_HEIGHT_PX, png })
     : null;
-  const drawn = await elsewhere;
-  if (drawn) {
-    timings.paint += drawn.paintMs;
-    timings.png += drawn.pngMs;
-    timings.spectralThreadCpu = drawn.threadCpuMs;
-    timings.spectrogramsDrawnElsewhere = drawn.pngs.length;
-    await writeFile(paths.png, drawn.pngs[0]);
-    for (let c = 0; c < channels; c++) await writeFile(channelPath(c), drawn.pngs[c + 1]);
-  } else {
-    await writeFile(paths.png, png(() => renderSpectrogramImage(analysed.spectrogram, { width, height, markers, title: task.relPath })));
-    for (const [c, grid] of (analysed.channelSpectrograms ?? []).entries()) {
-      await writeFile(channelPath(c), png(() => renderSpectrogramImage(grid, { width, height, markers, title: channelTitle(c) })));
-    }
+  await writeFile(paths.png, png(() => renderSpectrogramImage(analysed.spectrogram, { width, height, markers, title: task.relPath })));
+  for (const [c, grid] of (analysed.channelSpectrograms ?? []).entries()) {
+    await writeFile(channelPath(c), png(() => renderSpectrogramImage(grid, { width, height, markers, title: channelTitle(c) })));
   }
   return { spectrogram: paths.shown, closeups };
 }
@@ -176,7 +161,7 @@ export async function analyseFile(
   signal?: AbortSignal,
   onRead?: (bytesRead: number) => void,
 ): Promise<AnalysedFile> {
-  const timingsMs: AnalyseTimings = { read: 0, decode: 0, hash: 0, analyse: 0, level: 0, spectral: 0, fingerprint: 0, closeups: 0, render: 0, paint: 0, png: 0, threadCpu: 0, spectralThreadCpu: 0, runQueue: 0, spectrogramsDrawnElsewhere: 0 };
+  const timingsMs: AnalyseTimings = { read: 0, decode: 0, hash: 0, analyse: 0, level: 0, spectral: 0, fingerprint: 0, closeups: 0, render: 0, paint: 0, png: 0, threadCpu: 0, spectralThreadCpu: 0, runQueue: 0, spectralThreads: 0 };
   const clockAtStart = readThreadClock();
   let analysis: BlockAnalyser<FileAnalysisResult> | null = null;
   let split: { level: BlockAnalyser<LevelSideResult>; spectral: SpectralThread } | null = null;
@@ -202,7 +187,7 @@ export async function analyseFile(
         // cannot start (the system's limit) leaves the file to this one: same results.
         const long = info.stream.totalFrames >= (ctx.spectralThreadMinSeconds ?? SPECTRAL_THREAD_MIN_SECONDS) * info.stream.sampleRateHz;
         const level = ctx.spectralThread && long ? createLevelSide(info.stream, ctx.settings, options) : null;
-        const spectral = level ? startSpectralThreadOrNull(info.stream, ctx.settings, ctx.fingerprint, ctx.spectrograms !== null) : null;
+        const spectral = level ? startSpectralThreadOrNull(info.stream, ctx.settings, ctx.fingerprint) : null;
         if (level && spectral) {
           split = { level, spectral };
           return (block) => {
@@ -255,13 +240,14 @@ export async function analyseFile(
       }
       const other = await spectralSide;
       timingsMs.spectralThreadCpu = other.threadCpuMs;
+      timingsMs.spectralThreads = 1;
       analysed = mergeFileAnalysis(levelSide, other.result);
     } else {
       analysed = (analysis as BlockAnalyser<FileAnalysisResult> | null)?.finish() ?? failNoAnalysis();
     }
     analyseMs += performance.now() - t;
   } catch (error) {
-    two?.spectral.close();
+    two?.spectral.abort();
     return { report: withPathBytes(errorReport(task.relPath, read.sizeBytes, reportErrorOf(error, task, "analysis-failed")), task), audioSeconds: 0, imageError: null, timingsMs };
   }
   timingsMs.analyse = analyseMs;
@@ -281,13 +267,12 @@ export async function analyseFile(
   if (ctx.spectrograms) {
     const t = performance.now();
     try {
-      ({ spectrogram, closeups } = await writeImages(analysed, judged.findings, format, ctx.spectrograms, task, ctx, timingsMs, two?.spectral ?? null));
+      ({ spectrogram, closeups } = await writeImages(analysed, judged.findings, format, ctx.spectrograms, task, ctx, timingsMs));
     } catch (error) {
       imageError = `${task.relPath}: spectrogram not written (${oneLine(error)})`;
     }
     timingsMs.render = performance.now() - t;
   }
-  two?.spectral.close();
   const clockAtEnd = readThreadClock();
   timingsMs.threadCpu = clockAtEnd.cpuMs - clockAtStart.cpuMs;
   timingsMs.runQueue = clockAtEnd.runQueueMs - clockAtStart.runQueueMs;
@@ -316,9 +301,9 @@ export async function analyseFile(
   };
 }
 
-function startSpectralThreadOrNull(format: StreamFormat, settings: AnalysisSettings, fingerprint: boolean, images: boolean): SpectralThread | null {
+function startSpectralThreadOrNull(format: StreamFormat, settings: AnalysisSettings, fingerprint: boolean): SpectralThread | null {
   try {
-    return startSpectralThread(format, settings, { fingerprint, slotFrames: DEFAULT_BLOCK_FRAMES, images });
+    return startSpectralThread(format, settings, { fingerprint, slotFrames: DEFAULT_BLOCK_FRAMES });
   } catch {
     return null;
   }

@@ -2,17 +2,26 @@
  * One file's pass on two threads: the reading thread keeps the level side (levels, loudness, true peak,
  * close-up capture) and a second thread runs the spectral side (spectrogram, bands, fingerprint) on
  * copies of the same blocks, passed through a shared ring (blockRing.ts). Worth it when a core would
- * otherwise idle: a scan with fewer files than workers (runScan.ts sets ScanContext.spectralThread).
- * The same analysers see the same samples in the same order, so the merged result is the one-thread result
- * to the bit (tests/cli/spectralThread.test.ts).
+ * otherwise idle: runScan.ts decides (spectralThreadRule.ts). The same analysers see the same samples in
+ * the same order, so the merged result is the one-thread result to the bit (tests/cli/spectralThread.test.ts).
+ *
+ * Memory (issue #22: a long file's scan stays within 150 MB): the thread ends as soon as its result is
+ * posted, before the reading thread draws the images (where a scan peaks), its result's arrays are moved
+ * rather than copied, and its young generation is held small as the scan workers' is.
  */
 import { Worker } from "node:worker_threads";
 import type { SpectralSideResult } from "@tidemark/shared/engine/spectralSide";
 import type { AudioBlock, StreamFormat } from "@tidemark/shared/types/analysis";
 import type { AnalysisSettings } from "@tidemark/shared/types/settings";
-import { allocateBlockRing, createBlockRingWriter, RING_FAILED, RING_STATE_INDEX, ringSlotsFor } from "./blockRing.ts";
-import type { SpectralThreadData, SpectralThreadReply, SpectrogramRenderReply, SpectrogramRenderRequest } from "./spectralThread.ts";
+import { allocateBlockRing, createBlockRingWriter, RING_FAILED, RING_STATE_INDEX, ringSlotsFor, type BlockRingWriter } from "./blockRing.ts";
+import type { SpectralThreadData, SpectralThreadReply } from "./spectralThread.ts";
 import { WORKER_HEAP_LIMIT_MB } from "./workerPool.ts";
+
+/**
+ * The thread's young generation, MB. V8's default let its isolate hold ≈ 30 MB of garbage between
+ * scavenges; the spectral side allocates little per block, so a small one costs it no measurable time.
+ */
+const SPECTRAL_THREAD_YOUNG_GENERATION_MB = 4;
 
 /** Running from the prebuilt bundle in cli/dist rather than the TypeScript sources (as in runScan.ts). */
 const IS_BUNDLED = !import.meta.url.endsWith(".ts");
@@ -21,15 +30,11 @@ const SCRIPT = new URL(IS_BUNDLED ? "./spectralThread.js" : "./spectralThread.ts
 export interface SpectralThread {
   /** Copies the block for the other thread (waiting while the ring is full). */
   push(block: AudioBlock): void;
-  /** After the last block: tells the thread so at once and resolves to the spectral side's result (and the thread's time on a core). */
-  finish(): Promise<{ result: SpectralSideResult; threadCpuMs: number }>;
   /**
-   * After finish(): paints and encodes the spectrogram PNGs on that thread; at most once. Rejects if the
-   * thread cannot (the caller then draws them itself).
+   * After the last block: tells the thread so at once and resolves to the spectral side's result (and the
+   * thread's time on a core); the thread then ends and the ring is let go.
    */
-  renderSpectrograms(request: SpectrogramRenderRequest): Promise<SpectrogramRenderReply & { ok: true }>;
-  /** Stops the thread (after finish() and any rendering; abort() stops it too). */
-  close(): void;
+  finish(): Promise<{ result: SpectralSideResult; threadCpuMs: number }>;
   /** After the ring reported the thread failed: its error (or one saying it stopped answering within waitMs). */
   failure(waitMs: number): Promise<Error>;
   /** The pass stopped: release and stop the thread. */
@@ -53,11 +58,16 @@ function bootstrapCode(script: URL): string {
   ].join("\n");
 }
 
-export function startSpectralThread(format: StreamFormat, settings: AnalysisSettings, o: { fingerprint: boolean; slotFrames: number; images: boolean }): SpectralThread {
+export function startSpectralThread(format: StreamFormat, settings: AnalysisSettings, o: { fingerprint: boolean; slotFrames: number }): SpectralThread {
   const ring = allocateBlockRing({ channels: format.channels, slotFrames: o.slotFrames, slots: ringSlotsFor(format.channels, o.slotFrames) });
-  const writer = createBlockRingWriter(ring);
-  const data: SpectralThreadData = { ring, format, settings, fingerprint: o.fingerprint, images: o.images };
-  const worker = new Worker(bootstrapCode(SCRIPT), { eval: true, workerData: data, resourceLimits: { maxOldGenerationSizeMb: WORKER_HEAP_LIMIT_MB } });
+  // Dropped after the last block, so the ring's memory goes as soon as the thread has ended too.
+  let writer: BlockRingWriter | null = createBlockRingWriter(ring);
+  const data: SpectralThreadData = { ring, format, settings, fingerprint: o.fingerprint };
+  const worker = new Worker(bootstrapCode(SCRIPT), {
+    eval: true,
+    workerData: data,
+    resourceLimits: { maxOldGenerationSizeMb: WORKER_HEAP_LIMIT_MB, maxYoungGenerationSizeMb: SPECTRAL_THREAD_YOUNG_GENERATION_MB },
+  });
   const result = new Promise<{ result: SpectralSideResult; threadCpuMs: number }>((resolve, reject) => {
     worker.once("message", (reply: SpectralThreadReply) => {
       if (reply.ok) resolve({ result: reply.result, threadCpuMs: reply.threadCpuMs });
@@ -71,38 +81,23 @@ export function startSpectralThread(format: StreamFormat, settings: AnalysisSett
   result.catch(() => undefined);
   return {
     push(block) {
+      if (!writer) throw new Error("spectral thread: a block after the last one");
       writer.push(block);
     },
     finish() {
       // Ended at once, not at the first await: the other thread starts finishing while the caller does.
-      writer.end();
-      // Kept for the images, but never holding the process open if the caller forgets close().
-      return result.finally(() => worker.unref());
-    },
-    renderSpectrograms(request) {
-      return new Promise((resolve, reject) => {
-        const onExit = (): void => reject(new Error("spectral thread exited before its images"));
-        worker.once("exit", onExit);
-        worker.once("message", (reply: SpectrogramRenderReply) => {
-          worker.off("exit", onExit);
-          worker.unref();
-          if (reply.ok) resolve(reply);
-          else reject(new Error(`spectral thread: ${reply.message}`));
-        });
-        // Held while it draws: with nothing else pending, an unreferenced thread would let the process end.
-        worker.ref();
-        worker.postMessage(request);
-      });
-    },
-    close() {
-      void worker.terminate();
+      writer?.end();
+      writer = null;
+      // It ends by itself once the result is posted; terminate() makes sure of it on every path.
+      return result.finally(() => void worker.terminate());
     },
     failure(waitMs) {
       const timer = new Promise<Error>((resolve) => setTimeout(() => resolve(new Error("spectral thread: stopped answering")), waitMs).unref());
       return Promise.race([result.then(() => new Error("spectral thread: finished after the pass had failed"), (reason: unknown) => (reason instanceof Error ? reason : new Error(String(reason)))), timer]);
     },
     abort() {
-      writer.abort();
+      writer?.abort();
+      writer = null;
       void worker.terminate();
     },
   };
