@@ -90,7 +90,7 @@ export interface ScanOptions {
   /** false with --no-closeups: no close-ups, level grid or loudness curve beside the PNGs. */
   closeups: boolean;
   workers: number;
-  /** --spectral-thread: a long file's spectral side on a second thread when the workers leave a core spare. */
+  /** --spectral-thread (true) / --no-spectral-thread (false); absent: a long file's spectral side on a second thread when the workers leave a core spare. */
   spectralThread?: boolean;
   include: string[];
   exclude: string[];

@@ -88,6 +88,7 @@ describe("createProgram argv table", () => {
     [["scan", "x", "--no-fingerprint"], { command: "scan", args: [["x"], { ...scanDefaults, fingerprint: false }] }],
     [["scan", "x", "--no-closeups"], { command: "scan", args: [["x"], { ...scanDefaults, closeups: false }] }],
     [["scan", "x", "--spectral-thread"], { command: "scan", args: [["x"], { ...scanDefaults, spectralThread: true }] }],
+    [["scan", "x", "--no-spectral-thread"], { command: "scan", args: [["x"], { ...scanDefaults, spectralThread: false }] }],
     [["verify", "bag-17"], { command: "verify", args: [["bag-17"], { against: null, include: scanDefaults.include, exclude: [], json: false, quiet: false, progress: "auto", checksums: [], upload: null }] }],
     [["verify", "reels", "--against", "r.json"], { command: "verify", args: [["reels"], { against: "r.json", include: scanDefaults.include, exclude: [], json: false, quiet: false, progress: "auto", checksums: [], upload: null }] }],
     [["upload", "r.json", "--collection", "Ferry Terminal Interviews 1978"], { command: "upload", args: ["r.json", { spool: false, server: null, collection: "Ferry Terminal Interviews 1978", batchKey: null }] }],

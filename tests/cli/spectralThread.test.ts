@@ -5,8 +5,8 @@
  * a tone for the spectrum, an odd channel count (the fingerprint pairs channels), float samples with a
  * NaN, and blocks that end short of the ring's slot. pngjs (npm) checks the PNGs decode.
  */
-import { mkdtempSync, readdirSync, readFileSync, rmSync, writeFileSync } from "node:fs";
-import { tmpdir } from "node:os";
+import { mkdtempSync, readdirSync, readFileSync, rmSync, statSync, writeFileSync } from "node:fs";
+import { availableParallelism, tmpdir } from "node:os";
 import path from "node:path";
 import { PNG } from "pngjs";
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
@@ -15,6 +15,7 @@ import { encodeWav } from "../fixtures/wavWriter.ts";
 import { loadProfile } from "../../cli/src/profiles/loadProfile.ts";
 import { analyseFile, type ScanContext } from "../../cli/src/scan/analyseFile.ts";
 import { allocateBlockRing, consumeBlockRing, createBlockRingWriter } from "../../cli/src/scan/blockRing.ts";
+import { runScan } from "../../cli/src/scan/runScan.ts";
 import type { AudioBlock } from "../../shared/src/types/analysis.ts";
 
 let dir: string;
@@ -114,6 +115,37 @@ describe("which files get the second thread", () => {
     expect(short.timingsMs.spectralThreads).toBe(0);
     expect(long.timingsMs.spectralThreads).toBe(1);
     expect(JSON.stringify(long.report)).toBe(JSON.stringify(short.report));
+  }, 60_000);
+});
+
+describe("runScan's choice (spectralThreadRule.ts, tested alone in spectralThreadRule.test.ts)", () => {
+  /** Runs one file through runScan and returns the stage times it appends for the benchmark. */
+  async function threadsOfOneFileScan(spectralThread: boolean | undefined, workers: number): Promise<number> {
+    const timings = path.join(dir, `stages-${String(spectralThread)}-${workers}.jsonl`);
+    const saved = process.env.TIDEMARK_STAGE_TIMINGS;
+    process.env.TIDEMARK_STAGE_TIMINGS = timings;
+    try {
+      const name = "faults.wav";
+      const files = [{ absPath: path.join(dir, name), relPath: name, sizeBytes: statSync(path.join(dir, name)).size, mtimeMs: 0 }];
+      const progress = { grow() {}, fileStarted() {}, fileBytes() {}, fileDone() {}, note() {}, stop() {} };
+      const interruption = { requested: false, immediate: false, onImmediate() {}, dispose() {} };
+      const result = await runScan({ files, workers, spectralThread, context: { ...context, spectrograms: null }, resume: null, progress, interruption });
+      expect(result.reports[0].error).toBeNull();
+      const line = JSON.parse(readFileSync(timings, "utf8").trim()) as { timingsMs: { spectralThreads: number } };
+      return line.timingsMs.spectralThreads;
+    } finally {
+      if (saved === undefined) delete process.env.TIDEMARK_STAGE_TIMINGS;
+      else process.env.TIDEMARK_STAGE_TIMINGS = saved;
+    }
+  }
+
+  it("follows --spectral-thread and --no-spectral-thread", async () => {
+    expect(await threadsOfOneFileScan(false, 1)).toBe(0);
+    expect(await threadsOfOneFileScan(true, 1)).toBe(1);
+  }, 60_000);
+
+  it.runIf(availableParallelism() >= 2)("gives one file on one worker the second thread by default when there is a core for it", async () => {
+    expect(await threadsOfOneFileScan(undefined, 1)).toBe(1);
   }, 60_000);
 });
 

@@ -181,7 +181,7 @@ export async function scanCommand(paths: string[], options: ScanOptions, io: Cli
 
   let result;
   try {
-    result = await runScan({ files: crawl.files, workers: options.workers, spectralThread: options.spectralThread === true, context, resume, progress, interruption, expectedChecksums: checksums.byFile });
+    result = await runScan({ files: crawl.files, workers: options.workers, spectralThread: options.spectralThread, context, resume, progress, interruption, expectedChecksums: checksums.byFile });
   } finally {
     interruption.dispose();
     progress.stop();

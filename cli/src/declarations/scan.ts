@@ -30,7 +30,8 @@ export function declareScan(program: Command, { run, io }: Declared<CommandActio
     .option("--no-fingerprint", "skip the fingerprint that finds the same recording elsewhere (about a third faster; uploads are then not compared)")
     .option("--no-closeups", "skip the close-ups around findings (detailed images and audio excerpts), the level grid and the loudness curve written beside the PNGs")
     .option("-w, --workers <n>", "parallel workers (default: number of cores)", parseWorkerCount)
-    .option("--spectral-thread", "measure the spectrum of a file of a minute or more on a second thread when the workers leave a core spare (faster on an otherwise idle machine; about 30 MB more memory)")
+    .option("--spectral-thread", "measure the spectrum of each file of a minute or more on a second thread even when the workers use every core (default: only when they leave a core spare for each)")
+    .option("--no-spectral-thread", "measure each file on one thread only")
     .option("--resume <state-file>", "record progress there, and skip files already measured and unchanged")
     .addOption(new Option("--fail-on <level>", "exit 1 when a file gets this verdict or worse (default: tidemark.json's, else fail)").choices(FAIL_ON_LEVELS))
     .option("-q, --quiet", "no progress display")
@@ -60,8 +61,8 @@ export function declareScan(program: Command, { run, io }: Declared<CommandActio
       fingerprint: o.fingerprint,
       closeups: o.closeups,
       workers: o.workers ?? defaultWorkerCount(),
-      // Only when asked for, so the parsed options of a plain scan stay as they were.
-      ...(o.spectralThread === true ? { spectralThread: true } : {}),
+      // Only when asked for either way, so the parsed options of a plain scan stay as they were.
+      ...(o.spectralThread !== undefined ? { spectralThread: o.spectralThread } : {}),
       include: project.include(o.include, DEFAULT_INCLUDE_GLOBS),
       exclude: project.exclude(o.exclude),
       resume: o.resume ?? null,

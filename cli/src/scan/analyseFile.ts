@@ -24,6 +24,7 @@ import { channelSpectrogramPath, spectrogramPaths, type SpectrogramTarget } from
 import { BlockRingError } from "./blockRing.ts";
 import { readThreadClock } from "./threadClock.ts";
 import { startSpectralThread, type SpectralThread } from "./spectralThreadClient.ts";
+import { SPECTRAL_THREAD_MIN_SECONDS } from "./spectralThreadRule.ts";
 import { writeCloseups, type CloseupFields } from "./writeCloseups.ts";
 
 export interface ScanContext {
@@ -36,19 +37,15 @@ export interface ScanContext {
   closeups: boolean;
   /**
    * Run each file's spectral side (spectrogram, bands, fingerprint) on a second thread
-   * (spectralThreadClient.ts): set by runScan when the scan has a spare core for it. Same results.
+   * (spectralThreadClient.ts): set by runScan when the scan has a spare core for it
+   * (spectralThreadRule.ts). Same results.
    */
   spectralThread?: boolean;
   /** Shortest file that gets the second thread (default SPECTRAL_THREAD_MIN_SECONDS; tests lower it). */
   spectralThreadMinSeconds?: number;
 }
 
-/**
- * A second thread costs ≈ 0.1 s of CPU and ≈ 35 MB (its isolate and typesetter) and saves about half of
- * ≈ 4 ms of analysis per audio second: worth it from about half a minute; a minute leaves a margin, and
- * keeps short files (start-up bound) on one thread.
- */
-export const SPECTRAL_THREAD_MIN_SECONDS = 60;
+export { SPECTRAL_THREAD_MIN_SECONDS };
 
 export interface AnalyseTask {
   /** A Buffer for a name that is not valid UTF-8 (rawPath.ts). */

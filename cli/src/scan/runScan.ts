@@ -5,12 +5,14 @@
  */
 import { appendFileSync } from "node:fs";
 import { access } from "node:fs/promises";
+import { availableParallelism } from "node:os";
 import type { FileReport } from "@tidemark/shared/types/report";
 import { oneLine } from "../errors.ts";
 import type { ScanContext } from "./analyseFile.ts";
 import { errorReport } from "./errorReport.ts";
 import { fileKey } from "./rawPath.ts";
 import { spectrogramPaths } from "./spectrogramPaths.ts";
+import { useSpectralThread } from "./spectralThreadRule.ts";
 import type { CrawledFile } from "./crawlFiles.ts";
 import type { Interruption } from "./interruption.ts";
 import type { ScanProgress } from "./progress.ts";
@@ -24,8 +26,8 @@ export interface RunScanOptions {
   files: readonly CrawledFile[];
   workers: number;
   /**
-   * Opt-in (--spectral-thread): a second thread costs about 30 MB, which would take a long file's scan
-   * past the 150 MB memory budget (issue #17), so by default each file stays on one thread.
+   * Each long file's spectral side on a second thread: true (--spectral-thread) or false
+   * (--no-spectral-thread); absent, when the cores allow (spectralThreadRule.ts).
    */
   spectralThread?: boolean;
   context: ScanContext;
@@ -95,9 +97,10 @@ const isSmall = (file: CrawledFile): boolean => file.sizeBytes <= SMALL_FILE_BYT
 
 export async function runScan(options: RunScanOptions): Promise<RunScanResult> {
   const { files, resume, progress, interruption } = options;
-  // Asked for, and two workers' worth of cores per file (one long file on the default workers): each
-  // file's spectral side gets a thread of its own (spectralThreadClient.ts). With more files the pool keeps the cores busy.
-  const context: ScanContext = options.spectralThread === true && options.workers >= 2 * files.length ? { ...options.context, spectralThread: true } : options.context;
+  // A spare core for every file measured at once, or asked for: each long file's spectral side gets a
+  // thread of its own (spectralThreadClient.ts). With more files than that the pool keeps the cores busy.
+  const split = useSpectralThread({ forced: options.spectralThread, workers: options.workers, files: files.length, cores: availableParallelism() });
+  const context: ScanContext = { ...options.context, spectralThread: split };
   const reports: FileReport[] = [];
   let measured = 0;
   let reused = 0;
