@@ -5,6 +5,7 @@
  * a tone for the spectrum, an odd channel count (the fingerprint pairs channels), float samples with a
  * NaN, and blocks that end short of the ring's slot. pngjs (npm) checks the PNGs decode.
  */
+import { execFileSync, spawnSync } from "node:child_process";
 import { mkdtempSync, readdirSync, readFileSync, rmSync, statSync, writeFileSync } from "node:fs";
 import { availableParallelism, tmpdir } from "node:os";
 import path from "node:path";
@@ -18,6 +19,7 @@ import { allocateBlockRing, consumeBlockRing, createBlockRingWriter } from "../.
 import { runScan } from "../../cli/src/scan/runScan.ts";
 import type { AudioBlock } from "../../shared/src/types/analysis.ts";
 
+const hasFlac = spawnSync("flac", ["--version"], { stdio: "ignore" }).status === 0;
 let dir: string;
 let context: ScanContext;
 const RATE = 48000;
@@ -34,6 +36,8 @@ beforeAll(async () => {
   const float = pinkNoise({ sampleRateHz: 44100, seconds: 3, rmsDbfs: -18, seed: 9 });
   float[1000] = Number.NaN;
   writeFileSync(path.join(dir, "float.wav"), encodeWav([float, float], { sampleRateHz: 44100, bitDepth: 32, encoding: "float" }));
+  // The same audio as FLAC (Debian's flac): there the second thread measures everything.
+  if (hasFlac) execFileSync("flac", ["-s", "-f", "--channel-map=none", path.join(dir, "faults.wav"), "-o", path.join(dir, "faults.flac")]);
   const loaded = await loadProfile("preservation-master", dir);
   // Files of any length get the second thread here (a scan gives it to files of a minute and more).
   context = { profile: loaded.profile, settings: { ...loaded.settings, spectrogram: { ...loaded.settings.spectrogram, width: 400, height: 200 } }, spectrograms: { dirAbs: path.join(dir, "png"), dirShown: "png" }, fingerprint: true, closeups: true, spectralThreadMinSeconds: 0 };
@@ -68,7 +72,24 @@ describe("the spectral side on a second thread", () => {
     expect(two.timings.spectral).toBeGreaterThan(0);
     expect(two.timings.fingerprint).toBeGreaterThan(0);
     expect(two.timings.spectralThreads).toBe(1);
+    expect(two.timings.secondThreadAll).toBe(0);
     expect(one.timings.spectralThreads).toBe(0);
+  }, 60_000);
+
+  it.runIf(hasFlac)("gives a FLAC file, measured wholly on the other thread, the one-thread report and artefacts to the bit", async () => {
+    const one = await scanOnce("faults.flac", false);
+    const two = await scanOnce("faults.flac", true);
+    expect(one.report.error).toBeNull();
+    expect(one.report.findings.map((f) => f.code)).toContain("dropout");
+    expect(one.report.closeups?.length ?? 0).toBeGreaterThan(0);
+    expect(JSON.stringify(two.report)).toBe(JSON.stringify(one.report));
+    expect([...two.artefacts.keys()].sort()).toEqual([...one.artefacts.keys()].sort());
+    for (const [file, bytes] of one.artefacts) expect(two.artefacts.get(file)?.equals(bytes), file).toBe(true);
+    expect(two.timings.spectralThreads).toBe(1);
+    expect(two.timings.secondThreadAll).toBe(1);
+    // Its analysers' timings came back from that thread.
+    expect(two.timings.level).toBeGreaterThan(0);
+    expect(two.timings.closeups).toBeGreaterThan(0);
   }, 60_000);
 
   it("gives the same report without images", async () => {
@@ -161,6 +182,15 @@ describe("a spectral side that fails", () => {
     expect(two.report).toEqual(one.report);
     // The reading thread learns of the failure from the ring at once, not after its stall limit (120 s).
     expect(performance.now() - started).toBeLessThan(30_000);
+  }, 60_000);
+
+  it.runIf(hasFlac)("reports the same error when the other thread measures everything (FLAC)", async () => {
+    const broken = { ...context, settings: { ...context.settings, fftSize: 1000 } };
+    const task = { absPath: path.join(dir, "faults.flac"), relPath: "faults.flac", sizeBytes: 0 };
+    const one = await analyseFile(task, { ...broken, spectralThread: false });
+    const two = await analyseFile(task, { ...broken, spectralThread: true });
+    expect(one.report.error).toEqual({ code: "analysis-failed", message: expect.stringContaining("fftSize must be a power of two > 1, got 1000") });
+    expect(two.report).toEqual(one.report);
   }, 60_000);
 });
 

@@ -12,7 +12,7 @@ import type { Profile } from "@tidemark/shared/profiles/profileSchema";
 import { renderSpectrogramImage } from "@tidemark/shared/render/spectrogramImage";
 import { renderWaveformImage } from "@tidemark/shared/render/waveformImage";
 import type { BlockAnalyser, RgbaImage, StreamFormat } from "@tidemark/shared/types/analysis";
-import type { AudioFormat, FileReport, Finding, FindingCode, ReportError, Severity } from "@tidemark/shared/types/report";
+import type { AudioFormat, FileReport, Finding, ReportError } from "@tidemark/shared/types/report";
 import type { AnalysisSettings } from "@tidemark/shared/types/settings";
 import { readerFindings } from "@tidemark/shared/wav/readerFindings";
 import { DEFAULT_BLOCK_FRAMES, readAudioFile, type AudioFileResult } from "../audio/readAudioFile.ts";
@@ -24,6 +24,8 @@ import { channelSpectrogramPath, spectrogramPaths, type SpectrogramTarget } from
 import { BlockRingError } from "./blockRing.ts";
 import { readThreadClock } from "./threadClock.ts";
 import { startSpectralThread, type SpectralThread } from "./spectralThreadClient.ts";
+import type { SecondThreadPart } from "./spectralThread.ts";
+import { rankerFor } from "./closeupRank.ts";
 import { SPECTRAL_THREAD_MIN_SECONDS } from "./spectralThreadRule.ts";
 import { writeCloseups, type CloseupFields } from "./writeCloseups.ts";
 
@@ -91,6 +93,8 @@ export interface AnalyseTimings {
   spectralThreadCpu: number;
   /** 1 when the file's spectral side ran on a second thread, else 0 (a count, not a time). */
   spectralThreads: number;
+  /** 1 when that thread measured the level side too (FLAC: this thread only read and decoded), else 0. */
+  secondThreadAll: number;
   /** Time the measuring thread waited for a core meanwhile (others' load); NaN where the system does not say. */
   runQueue: number;
 }
@@ -145,12 +149,6 @@ async function writeImages(
   return { spectrogram: paths.shown, closeups };
 }
 
-/** Candidates rank by the severity the profile will give their code (0: the profile turns it off). */
-function rankerFor(profile: Profile): (code: FindingCode, severity: Severity) => number {
-  const rank: Record<Severity | "off", number> = { off: 0, info: 1, warn: 2, fail: 3 };
-  return (code, severity) => rank[profile.severities[code] ?? severity];
-}
-
 /** `signal` stops the read mid-file; an aborted file rejects instead of being reported as unreadable. */
 export async function analyseFile(
   task: AnalyseTask,
@@ -158,10 +156,11 @@ export async function analyseFile(
   signal?: AbortSignal,
   onRead?: (bytesRead: number) => void,
 ): Promise<AnalysedFile> {
-  const timingsMs: AnalyseTimings = { read: 0, decode: 0, hash: 0, analyse: 0, level: 0, spectral: 0, fingerprint: 0, closeups: 0, render: 0, paint: 0, png: 0, threadCpu: 0, spectralThreadCpu: 0, runQueue: 0, spectralThreads: 0 };
+  const timingsMs: AnalyseTimings = { read: 0, decode: 0, hash: 0, analyse: 0, level: 0, spectral: 0, fingerprint: 0, closeups: 0, render: 0, paint: 0, png: 0, threadCpu: 0, spectralThreadCpu: 0, runQueue: 0, spectralThreads: 0, secondThreadAll: 0 };
   const clockAtStart = readThreadClock();
   let analysis: BlockAnalyser<FileAnalysisResult> | null = null;
-  let split: { level: BlockAnalyser<LevelSideResult>; spectral: SpectralThread } | null = null;
+  // With a second thread: the level side here (null when that thread measures everything) and the thread.
+  let split: { level: BlockAnalyser<LevelSideResult> | null; spectral: SpectralThread } | null = null;
   let analyseMs = 0;
   // The audio stream opened: whatever fails after this is the analysis, not the file (an analyser that
   // refuses its settings fails alike with the spectral side in this thread or another).
@@ -174,26 +173,33 @@ export async function analyseFile(
       digests: extraDigestsFor(task.expectedChecksums),
       onOpen: (info) => {
         opened = true;
+        // Close-ups are drawn beside the PNGs, so without them there is nothing to keep samples for.
+        const wantsCloseups = ctx.closeups && ctx.spectrograms !== null;
         const options = {
           clock: () => performance.now(),
           fingerprint: ctx.fingerprint,
-          // Close-ups are drawn beside the PNGs, so without them there is nothing to keep samples for.
-          closeups: ctx.closeups && ctx.spectrograms ? { rankOf: rankerFor(ctx.profile) } : null,
+          closeups: wantsCloseups ? { rankOf: rankerFor(ctx.profile.severities) } : null,
         };
-        // The level side first: if it cannot be set up, no thread is left waiting on the ring. A thread that
-        // cannot start (the system's limit) leaves the file to this one: same results.
         const long = info.stream.totalFrames >= (ctx.spectralThreadMinSeconds ?? SPECTRAL_THREAD_MIN_SECONDS) * info.stream.sampleRateHz;
-        const level = ctx.spectralThread && long ? createLevelSide(info.stream, ctx.settings, options) : null;
-        const spectral = level ? startSpectralThreadOrNull(info.stream, ctx.settings, ctx.fingerprint) : null;
-        if (level && spectral) {
-          split = { level, spectral };
-          return (block) => {
-            const t = performance.now();
-            // Into the ring first, so the other thread works on this block while this one measures levels.
-            spectral.push(block);
-            level.push(block);
-            analyseMs += performance.now() - t;
-          };
+        if (ctx.spectralThread && long) {
+          // FLAC's decoding takes this thread about as long as either side of the analysis: the other thread
+          // then measures everything, which balances the two best. PCM costs next to nothing to decode.
+          const all = info.format.container === "flac";
+          // The level side first: if it cannot be set up, no thread is left waiting on the ring. A thread that
+          // cannot start (the system's limit) leaves the file to this one: same results.
+          const level = all ? null : createLevelSide(info.stream, ctx.settings, options);
+          const part: SecondThreadPart = all ? { kind: "all", closeups: wantsCloseups ? { severities: ctx.profile.severities } : null } : { kind: "spectral" };
+          const spectral = startSpectralThreadOrNull(info.stream, ctx.settings, ctx.fingerprint, part);
+          if (spectral) {
+            split = { level, spectral };
+            return (block) => {
+              const t = performance.now();
+              // Into the ring first, so the other thread works on this block while this one measures levels.
+              spectral.push(block);
+              level?.push(block);
+              analyseMs += performance.now() - t;
+            };
+          }
         }
         const a = createFileAnalysis(info.stream, ctx.settings, options);
         analysis = a;
@@ -220,25 +226,28 @@ export async function analyseFile(
   timingsMs.decode = read.timings.decodeMs;
   timingsMs.hash = read.timings.hashMs;
 
-  const two = split as { level: BlockAnalyser<LevelSideResult>; spectral: SpectralThread } | null;
+  const two = split as { level: BlockAnalyser<LevelSideResult> | null; spectral: SpectralThread } | null;
   let analysed: FileAnalysisResult;
   try {
     const t = performance.now();
     if (two) {
-      // The other thread finishes the spectral side while this one finishes the level side.
-      const spectralSide = two.spectral.finish();
-      let levelSide: LevelSideResult;
+      // The other thread finishes its part while this one finishes the level side (if it has it).
+      const otherPart = two.spectral.finish();
+      let levelSide: LevelSideResult | null;
       try {
-        levelSide = two.level.finish();
+        levelSide = two.level?.finish() ?? null;
       } catch (error) {
-        spectralSide.catch(() => undefined);
+        otherPart.catch(() => undefined);
         two.spectral.abort();
         throw error;
       }
-      const other = await spectralSide;
+      const other = await otherPart;
       timingsMs.spectralThreadCpu = other.threadCpuMs;
       timingsMs.spectralThreads = 1;
-      analysed = mergeFileAnalysis(levelSide, other.result);
+      timingsMs.secondThreadAll = other.kind === "all" ? 1 : 0;
+      if (other.kind === "all") analysed = other.result;
+      else if (levelSide) analysed = mergeFileAnalysis(levelSide, other.result);
+      else throw new Error("second thread: measured the spectral side only, but no level side was kept here");
     } else {
       analysed = (analysis as BlockAnalyser<FileAnalysisResult> | null)?.finish() ?? failNoAnalysis();
     }
@@ -298,9 +307,9 @@ export async function analyseFile(
   };
 }
 
-function startSpectralThreadOrNull(format: StreamFormat, settings: AnalysisSettings, fingerprint: boolean): SpectralThread | null {
+function startSpectralThreadOrNull(format: StreamFormat, settings: AnalysisSettings, fingerprint: boolean, part: SecondThreadPart): SpectralThread | null {
   try {
-    return startSpectralThread(format, settings, { fingerprint, slotFrames: DEFAULT_BLOCK_FRAMES });
+    return startSpectralThread(format, settings, { fingerprint, slotFrames: DEFAULT_BLOCK_FRAMES, part });
   } catch {
     return null;
   }

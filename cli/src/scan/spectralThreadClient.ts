@@ -1,20 +1,21 @@
 /**
  * One file's pass on two threads: the reading thread keeps the level side (levels, loudness, true peak,
  * close-up capture) and a second thread runs the spectral side (spectrogram, bands, fingerprint) on
- * copies of the same blocks, passed through a shared ring (blockRing.ts). Worth it when a core would
- * otherwise idle: runScan.ts decides (spectralThreadRule.ts). The same analysers see the same samples in
- * the same order, so the merged result is the one-thread result to the bit (tests/cli/spectralThread.test.ts).
+ * copies of the same blocks, passed through a shared ring (blockRing.ts). When decoding alone takes about
+ * as long as either side (FLAC), the second thread runs both sides and the reading thread only reads and
+ * decodes (part "all"). Worth it when a core would otherwise idle: runScan.ts decides
+ * (spectralThreadRule.ts). The same analysers see the same samples in the same order, so the result is the
+ * one-thread result to the bit (tests/cli/spectralThread.test.ts).
  *
  * Memory (issue #22: a long file's scan stays within 150 MB): the thread ends as soon as its result is
  * posted, before the reading thread draws the images (where a scan peaks), its result's arrays are moved
  * rather than copied, and its young generation is held small as the scan workers' is.
  */
 import { Worker } from "node:worker_threads";
-import type { SpectralSideResult } from "@tidemark/shared/engine/spectralSide";
 import type { AudioBlock, StreamFormat } from "@tidemark/shared/types/analysis";
 import type { AnalysisSettings } from "@tidemark/shared/types/settings";
 import { allocateBlockRing, createBlockRingWriter, RING_FAILED, RING_STATE_INDEX, ringSlotsFor, type BlockRingWriter } from "./blockRing.ts";
-import type { SpectralThreadData, SpectralThreadReply } from "./spectralThread.ts";
+import type { SecondThreadPart, SecondThreadResult, SpectralThreadData, SpectralThreadReply } from "./spectralThread.ts";
 import { WORKER_HEAP_LIMIT_MB } from "./workerPool.ts";
 
 /**
@@ -34,7 +35,7 @@ export interface SpectralThread {
    * After the last block: tells the thread so at once and resolves to the spectral side's result (and the
    * thread's time on a core); the thread then ends and the ring is let go.
    */
-  finish(): Promise<{ result: SpectralSideResult; threadCpuMs: number }>;
+  finish(): Promise<SecondThreadResult & { threadCpuMs: number }>;
   /** After the ring reported the thread failed: its error (or one saying it stopped answering within waitMs). */
   failure(waitMs: number): Promise<Error>;
   /** The pass stopped: release and stop the thread. */
@@ -58,19 +59,19 @@ function bootstrapCode(script: URL): string {
   ].join("\n");
 }
 
-export function startSpectralThread(format: StreamFormat, settings: AnalysisSettings, o: { fingerprint: boolean; slotFrames: number }): SpectralThread {
+export function startSpectralThread(format: StreamFormat, settings: AnalysisSettings, o: { fingerprint: boolean; slotFrames: number; part: SecondThreadPart }): SpectralThread {
   const ring = allocateBlockRing({ channels: format.channels, slotFrames: o.slotFrames, slots: ringSlotsFor(format.channels, o.slotFrames) });
   // Dropped after the last block, so the ring's memory goes as soon as the thread has ended too.
   let writer: BlockRingWriter | null = createBlockRingWriter(ring);
-  const data: SpectralThreadData = { ring, format, settings, fingerprint: o.fingerprint };
+  const data: SpectralThreadData = { ring, format, settings, fingerprint: o.fingerprint, part: o.part };
   const worker = new Worker(bootstrapCode(SCRIPT), {
     eval: true,
     workerData: data,
     resourceLimits: { maxOldGenerationSizeMb: WORKER_HEAP_LIMIT_MB, maxYoungGenerationSizeMb: SPECTRAL_THREAD_YOUNG_GENERATION_MB },
   });
-  const result = new Promise<{ result: SpectralSideResult; threadCpuMs: number }>((resolve, reject) => {
+  const result = new Promise<SecondThreadResult & { threadCpuMs: number }>((resolve, reject) => {
     worker.once("message", (reply: SpectralThreadReply) => {
-      if (reply.ok) resolve({ result: reply.result, threadCpuMs: reply.threadCpuMs });
+      if (reply.ok) resolve(reply);
       // The analyser's own message, as the one-thread pass would report it.
       else reject(new Error("aborted" in reply ? "spectral thread: the pass was stopped" : reply.message));
     });
