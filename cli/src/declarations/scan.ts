@@ -30,7 +30,7 @@ export function declareScan(program: Command, { run, io }: Declared<CommandActio
     .option("--no-fingerprint", "skip the fingerprint that finds the same recording elsewhere (about a third faster; uploads are then not compared)")
     .option("--no-closeups", "skip the close-ups around findings (detailed images and audio excerpts), the level grid and the loudness curve written beside the PNGs")
     .option("-w, --workers <n>", "parallel workers (default: number of cores)", parseWorkerCount)
-    .option("--spectral-thread", "measure the spectrum of each file of a minute or more on a second thread even when the workers use every core (default: only when they leave a core spare for each)")
+    .option("--spectral-thread", "measure each file of 10 s or more on two threads even when the workers use every core (default: only when they leave a core spare for each)")
     .option("--no-spectral-thread", "measure each file on one thread only")
     .option("--resume <state-file>", "record progress there, and skip files already measured and unchanged")
     .addOption(new Option("--fail-on <level>", "exit 1 when a file gets this verdict or worse (default: tidemark.json's, else fail)").choices(FAIL_ON_LEVELS))
