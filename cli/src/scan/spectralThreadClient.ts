@@ -90,8 +90,18 @@ export function startSpectralThread(format: StreamFormat, settings: AnalysisSett
       // Ended at once, not at the first await: the other thread starts finishing while the caller does.
       writer?.end();
       writer = null;
-      // It ends by itself once the result is posted; terminate() makes sure of it on every path.
-      return result.finally(() => void worker.terminate());
+      // It ends by itself once the result is posted; the result is handed on only once it has (terminate()
+      // makes sure of it), so its isolate is gone before the caller draws the images, where memory peaks.
+      return result.then(
+        async (r) => {
+          await worker.terminate();
+          return r;
+        },
+        async (error: unknown) => {
+          await worker.terminate();
+          throw error;
+        },
+      );
     },
     failure(waitMs) {
       const timer = new Promise<Error>((resolve) => setTimeout(() => resolve(new Error("spectral thread: stopped answering")), waitMs).unref());
