@@ -33,7 +33,7 @@
 import type { Finding } from "../types/report.ts";
 import type { AnalysisSettings } from "../types/settings.ts";
 import { channelLabel, formatTimestamp } from "./findings.ts";
-import { createLevelKernels, ensureKernelMemory, type LevelKernels } from "./levelKernels.ts";
+import { createLevelKernels, type LevelKernels } from "./levelKernels.ts";
 
 /** AR model order: 16 predicts speech and music well at 44.1/48 kHz (Godsill & Rayner use 10–40). */
 export const CLICK_AR_ORDER = 16;
@@ -96,7 +96,7 @@ export function createClickDetector(
   onCandidate: ((startFrame: number, endFrame: number) => void) | null = null,
   kernels: "auto" | "js" = "auto",
 ): ClickDetector {
-  return new ArResidualClickDetector(sampleRateHz, channels, settings.clickThresholdDb, onCandidate, kernels === "auto" ? createLevelKernels() : null);
+  return new ArResidualClickDetector(sampleRateHz, channels, settings.clickThresholdDb, onCandidate, kernels === "auto");
 }
 
 class ArResidualClickDetector implements ClickDetector {
@@ -112,6 +112,8 @@ class ArResidualClickDetector implements ClickDetector {
   private readonly prescreenRatio: number;
   private readonly neighbourRatio = 10 ** (NEIGHBOUR_DB / 20);
   private readonly stepRatio = 10 ** (LEVEL_STEP_DB / 20);
+  /** The SIMD kernels, or null for the JavaScript loops (asked for "js", or no WebAssembly SIMD here). */
+  private readonly kernels: LevelKernels | null;
   /**
    * Per channel: p samples of history, then the span: margin, stretch, margin. Float32 like the decoded
    * input, so filling it is a copy, not a conversion; every read widens to double as before. With the
@@ -151,7 +153,7 @@ class ArResidualClickDetector implements ClickDetector {
     private readonly channels: number,
     thresholdDb: number,
     private readonly onCandidate: ((startFrame: number, endFrame: number) => void) | null,
-    private readonly kernels: LevelKernels | null,
+    useKernels: boolean,
   ) {
     const p = this.p;
     // Margins and stretch are whole chunks, so chunks fall at the same frames in every span.
@@ -164,18 +166,19 @@ class ArResidualClickDetector implements ClickDetector {
     this.ratio = 10 ** (thresholdDb / 20);
     this.prescreenRatio = Math.max(PRESCREEN_MIN_RATIO, PRESCREEN_RATIO * Math.min(1, 10 ** ((thresholdDb - PRESCREEN_AT_DB) / 20)));
     const chunks = this.spanFrames / L;
+    const align = (bytes: number) => Math.ceil(bytes / 16) * 16;
+    let at = 0;
+    for (let c = 0; c < channels; c++) {
+      this.bufferAt.push(at);
+      at += align(4 * (p + this.spanFrames));
+      this.chunkSumAt.push(at);
+      at += align(8 * chunks);
+      this.chunkMaxAt.push(at);
+      at += align(8 * chunks);
+    }
+    // The span's size is fixed, so the memory is made at its full size once.
+    const kernels = (this.kernels = useKernels ? createLevelKernels(at) : null);
     if (kernels) {
-      const align = (bytes: number) => Math.ceil(bytes / 16) * 16;
-      let at = 0;
-      for (let c = 0; c < channels; c++) {
-        this.bufferAt.push(at);
-        at += align(4 * (p + this.spanFrames));
-        this.chunkSumAt.push(at);
-        at += align(8 * chunks);
-        this.chunkMaxAt.push(at);
-        at += align(8 * chunks);
-      }
-      ensureKernelMemory(kernels, at);
       const memory = kernels.memory.buffer;
       this.buffers = this.bufferAt.map((b) => new Float32Array(memory, b, p + this.spanFrames));
       this.chunkSum = this.chunkSumAt.map((b) => new Float64Array(memory, b, chunks));

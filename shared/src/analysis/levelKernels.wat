@@ -1,9 +1,11 @@
-;; WebAssembly SIMD kernels of the level side (source of levelKernelsWasm.ts; rebuild with
-;; `npm run build:level-kernels`). Two channels ride in the two f64 lanes of a v128, so one instruction
+;; WebAssembly SIMD kernels of the level side (loaded by levelKernels.ts; rebuild levelKernels.generated.ts
+;; with `node --import tsx scripts/generate-wasm-kernels.ts`). Two channels ride in the two f64 lanes of a v128, so one instruction
 ;; does the work of two scalar ones. Every lane does exactly the scalar code's IEEE operations in the same
 ;; order (WebAssembly has no fused multiply-add), so results are bit-identical to the JavaScript path.
 (module
-  (memory (export "memory") 1)
+  ;; Made by the caller at its full size (shared/src/wasm/kernelModule.ts): growing a memory would detach
+  ;; its buffer.
+  (import "env" "memory" (memory 1))
 
   ;; kweightPair(x, z, n, st, co): both K-weighting biquads of ITU-R BS.1770-4 (kWeighting.ts) over n frames
   ;; of two planar float32 channels at byte offsets x and z, adding y² into each channel's sum.

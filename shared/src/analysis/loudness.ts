@@ -11,7 +11,7 @@
  */
 import { FrameGrid, Float64Series } from "./frameGrid.ts";
 import { kWeightingHighPass, kWeightingShelf } from "./kWeighting.ts";
-import { createLevelKernels, ensureKernelMemory, type LevelKernels } from "./levelKernels.ts";
+import { createLevelKernels, type LevelKernels } from "./levelKernels.ts";
 import { integratedLoudnessLufs, loudnessRangeLu, powerToLufs } from "./loudnessGating.ts";
 
 export interface LoudnessResult {
@@ -103,7 +103,7 @@ export function createLoudnessMeter(
   if (weights.length !== channels) {
     throw new Error(`loudness needs one weight per channel: ${channels} channels, ${weights.length} weights`);
   }
-  return new KWeightedLoudnessMeter(sampleRateHz, channels, weights, onHop, filters === "auto" && channels >= 2 ? createLevelKernels() : null);
+  return new KWeightedLoudnessMeter(sampleRateHz, channels, weights, onHop, filters === "auto" && channels >= 2);
 }
 
 class KWeightedLoudnessMeter implements LoudnessMeter {
@@ -118,6 +118,8 @@ class KWeightedLoudnessMeter implements LoudnessMeter {
   private readonly coefficientsAt: number = 0;
   private readonly stageAt: number = 0;
   private readonly stage: Float32Array | null = null;
+  /** The SIMD kernels, or null for the JavaScript loops. */
+  private readonly kernels: LevelKernels | null;
   private readonly grid: FrameGrid;
   private readonly ringEnergy = new Float64Array(SHORT_TERM_SUB_BLOCKS);
   private readonly ringFrames = new Float64Array(SHORT_TERM_SUB_BLOCKS);
@@ -158,16 +160,17 @@ class KWeightedLoudnessMeter implements LoudnessMeter {
     private readonly channels: number,
     private readonly weights: Float64Array,
     private readonly onHop: LoudnessHopListener | null,
-    private readonly kernels: LevelKernels | null,
+    useKernels: boolean,
   ) {
     this.shelf = kWeightingShelf(sampleRateHz);
     this.highPass = kWeightingHighPass(sampleRateHz);
     const pairs = Math.ceil(channels / 2);
+    const paired = channels - (channels % 2);
+    // Blocks go through a stage of fixed size, so the memory is made at its full size once.
+    const kernels = (this.kernels = useKernels ? createLevelKernels(pairs * PAIR_SLOT * 8 + 64 + paired * STAGE_FRAMES * 4) : null);
     if (kernels) {
-      const paired = channels - (channels % 2);
       this.coefficientsAt = pairs * PAIR_SLOT * 8;
       this.stageAt = this.coefficientsAt + 64;
-      ensureKernelMemory(kernels, this.stageAt + paired * STAGE_FRAMES * 4);
       const { b0, b1, b2, a1, a2 } = this.shelf;
       new Float64Array(kernels.memory.buffer, this.coefficientsAt, 7).set([b0, b1, b2, a1, a2, this.highPass.a1, this.highPass.a2]);
       this.state = new Float64Array(kernels.memory.buffer, 0, pairs * PAIR_SLOT).fill(0);

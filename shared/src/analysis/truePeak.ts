@@ -15,7 +15,7 @@
  * The flagging pass and the first per-output bound run as WebAssembly SIMD kernels where the runtime has them
  * (levelKernels.wat); the bounds only decide what is skipped, so the result is the same either way.
  */
-import { createLevelKernels, ensureKernelMemory, type LevelKernels } from "./levelKernels.ts";
+import { createLevelKernels, type LevelKernels } from "./levelKernels.ts";
 
 export interface InterpolationFilter {
   /** Oversampling factor L. */
@@ -120,7 +120,7 @@ export interface TruePeakMeter {
  * always in JavaScript (the same results bit for bit; tests compare the two).
  */
 export function createTruePeakMeter(sampleRateHz: number, channels: number, kernels: "auto" | "js" = "auto"): TruePeakMeter {
-  return new PolyphaseTruePeakMeter(designInterpolationFilter(truePeakOversampling(sampleRateHz)), channels, kernels === "auto" ? createLevelKernels() : null);
+  return new PolyphaseTruePeakMeter(designInterpolationFilter(truePeakOversampling(sampleRateHz)), channels, kernels === "auto");
 }
 
 /** Frames judged at a time: pushes are cut into blocks of at most this (the result does not depend on it). */
@@ -213,6 +213,8 @@ function flagByDeviation(x: Float32Array, h: number, end: number, taps: number, 
  */
 class PolyphaseTruePeakMeter implements TruePeakMeter {
   private readonly history: number;
+  /** The SIMD kernels, or null for the JavaScript loops (asked for "js", or no WebAssembly SIMD here). */
+  private readonly kernels: LevelKernels | null;
   /** Per channel: the last (taps − 1) input samples, then the current block (in the kernels' memory if any). */
   private readonly extended: Float32Array[];
   /** The same memory as int32, for the sign-free magnitude compare of the flagging pass. */
@@ -241,19 +243,20 @@ class PolyphaseTruePeakMeter implements TruePeakMeter {
   constructor(
     private readonly filter: InterpolationFilter,
     private readonly channels: number,
-    private readonly kernels: LevelKernels | null,
+    useKernels: boolean,
   ) {
     this.history = filter.tapsPerPhase - 1;
     const extLength = this.history + BLOCK_FRAMES;
     // Each range but the last spans ≥ T outputs and ranges never touch: at most ⌈(h + frames) / T⌉ + 1.
     const rangesLength = 2 * (Math.ceil(extLength / filter.tapsPerPhase) + 2);
+    const align = (bytes: number) => Math.ceil(bytes / 16) * 16;
+    let at = 0;
+    for (let c = 0; c < channels; c++, at += align(4 * extLength)) this.extendedAt.push(at);
+    this.rangesAt = at;
+    this.boundAt = align(at + 4 * rangesLength);
+    // Input is taken BLOCK_FRAMES at a time, so the memory is made at its full size once.
+    const kernels = (this.kernels = useKernels ? createLevelKernels(this.boundAt + 7 * 8) : null);
     if (kernels) {
-      const align = (bytes: number) => Math.ceil(bytes / 16) * 16;
-      let at = 0;
-      for (let c = 0; c < channels; c++, at += align(4 * extLength)) this.extendedAt.push(at);
-      this.rangesAt = at;
-      this.boundAt = align(at + 4 * rangesLength);
-      ensureKernelMemory(kernels, this.boundAt + 7 * 8);
       this.extended = this.extendedAt.map((b) => new Float32Array(kernels.memory.buffer, b, extLength));
       this.extendedBits = this.extendedAt.map((b) => new Int32Array(kernels.memory.buffer, b, extLength));
       this.ranges = new Int32Array(kernels.memory.buffer, this.rangesAt, rangesLength);

@@ -3,7 +3,7 @@
  * zero) and stuck samples (runs of one non-zero value). One comparison per sample; runs shorter than
  * `minLength` are never reported.
  */
-import { createLevelKernels, ensureKernelMemory, type LevelKernels } from "./levelKernels.ts";
+import { createLevelKernels, type LevelKernels } from "./levelKernels.ts";
 
 export interface ValueRun {
   channel: number;
@@ -26,7 +26,7 @@ export interface ValueRunTracker {
  * "js" always in JavaScript (the same runs; tests compare the two).
  */
 export function createValueRunTracker(channels: number, minLength: number, onRun: (run: ValueRun) => void, kernels: "auto" | "js" = "auto"): ValueRunTracker {
-  return new RunTracker(channels, Math.max(2, minLength), onRun, kernels === "auto" ? createLevelKernels() : null);
+  return new RunTracker(channels, Math.max(2, minLength), onRun, kernels === "auto");
 }
 
 
@@ -40,15 +40,17 @@ class RunTracker implements ValueRunTracker {
   private readonly lastStart: Float64Array;
   private readonly beforeLast: Float64Array;
   private position = 0;
-  /** Each channel's samples of the current block in the kernel's memory, stageFrames apart (grown to the block). */
+  /** Each channel's samples of the current block in the kernel's memory, stageFrames apart. */
   private stage: Float32Array | null = null;
   private stageFrames = 0;
+  /** The SIMD kernel, made at the first block (null before it, or for the JavaScript loops). */
+  private kernels: LevelKernels | null = null;
 
   constructor(
     private readonly channels: number,
     private readonly minLength: number,
     private readonly onRun: (run: ValueRun) => void,
-    private readonly kernels: LevelKernels | null,
+    private useKernels: boolean,
   ) {
     this.last = new Float64Array(channels).fill(NaN);
     this.lastStart = new Float64Array(channels);
@@ -63,12 +65,18 @@ class RunTracker implements ValueRunTracker {
 
   push(input: Float32Array[], frames: number): void {
     if (frames <= 0) return;
-    const kernels = this.kernels;
-    if (kernels && frames > this.stageFrames) {
-      // Whole blocks, so runs are reported in the same order as without the kernel.
-      ensureKernelMemory(kernels, this.channels * frames * 4);
-      this.stageFrames = frames;
-      this.stage = new Float32Array(kernels.memory.buffer, 0, this.channels * frames);
+    if (this.useKernels && frames > this.stageFrames) {
+      // Whole blocks, so runs are reported in the same order as without the kernel. A bigger block than the
+      // memory holds gets a new instance: growing the memory would detach its buffer (see kernelModule.ts).
+      const kernels = (this.kernels = createLevelKernels(this.channels * frames * 4));
+      if (kernels) {
+        this.stageFrames = Math.floor(kernels.memory.buffer.byteLength / (4 * this.channels));
+        this.stage = new Float32Array(kernels.memory.buffer, 0, this.channels * this.stageFrames);
+      } else {
+        this.useKernels = false;
+        this.stage = null;
+        this.stageFrames = 0;
+      }
     }
     for (let c = 0; c < this.channels; c++) {
       this.stage?.set(input[c].subarray(0, frames), c * this.stageFrames);

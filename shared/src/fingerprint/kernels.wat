@@ -1,5 +1,5 @@
 ;; The fingerprint's hot loops in WebAssembly SIMD, built into kernels.generated.ts by
-;; scripts/generate-fingerprint-wasm.ts (wabt's wat2wasm); loaded by wasmKernels.ts.
+;; scripts/generate-wasm-kernels.ts (wabt's wat2wasm); loaded by wasmKernels.ts.
 ;;
 ;; Resampler (resampler.ts, resamplerSimd.ts): `plan`, then `pair` or `single`. `pair` repeats the JavaScript loop's arithmetic exactly: two float64 partial sums per channel, one over
 ;; the even taps and one over the odd ones, each added in tap order (lane 0 and lane 1 of an f64x2);
@@ -10,7 +10,7 @@
 ;; schedule: `count` pairs of i32 (byte offset of the output's first input in a channel buffer,
 ;; byte offset of its kernel row); `width` taps a row, even and ≥ 2.
 (module
-  ;; Made by the caller at its full size (wasmKernels.ts): growing a memory would detach its buffer.
+  ;; Made by the caller at its full size (shared/src/wasm/kernelModule.ts): growing a memory would detach its buffer.
   (import "env" "memory" (memory 1))
 
   ;; Schedules up to `capacity` outputs from output number `index` on, as resampler.ts's JavaScript
