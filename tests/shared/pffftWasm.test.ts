@@ -2,7 +2,7 @@ import { readFileSync } from "node:fs";
 import FFT from "fft.js";
 import { describe, expect, it } from "vitest";
 import { createSpectrumAnalyzer } from "../../shared/src/spectral/fft.ts";
-import { pffftAvailable, pffftRealPlan } from "../../shared/src/spectral/pffft.ts";
+import { PFFFT_LARGEST_REAL_SIZE, pffftAvailable, pffftRealPlan } from "../../shared/src/spectral/pffft.ts";
 import { PFFFT_WASM_BASE64 } from "../../shared/src/spectral/pffftWasm.generated.ts";
 import { pffftPackageFiles, pffftWasmModuleText } from "../../scripts/lib/pffftWasmSource.ts";
 import { seededRandom, sine } from "../fixtures/synth.ts";
@@ -93,6 +93,24 @@ describe("PFFFT amplitude spectra (WASM SIMD)", () => {
   it.each([2, 8, 16])("leaves sizes PFFFT cannot do (N = %i) to fft.js", (n) => {
     expect(pffftRealPlan(n)).toBeNull();
     expect(createSpectrumAnalyzer(n).engine).toBe("fft.js");
+  });
+
+  it("never grows its heap: sizes beyond what its 16 MiB hold go to fft.js and PFFFT keeps working", () => {
+    // 2^22 points would need three 16 MiB buffers. Growing the heap would detach the old buffer and slow
+    // every later typed-array loop of the thread (DEVELOPERS.md, "A WebAssembly SIMD kernel").
+    expect(pffftRealPlan(2 ** 22)).toBeNull();
+    expect(pffftRealPlan(PFFFT_LARGEST_REAL_SIZE)).not.toBeNull();
+    expect(createSpectrumAnalyzer(2 ** 22).engine).toBe("fft.js");
+    const n = 2048;
+    const x = noiseFrame(n, 77);
+    const viaPffft = createSpectrumAnalyzer(n);
+    expect(viaPffft.engine).toBe("pffft-wasm-simd");
+    const a = new Float64Array(n / 2 + 1);
+    const b = new Float64Array(n / 2 + 1);
+    viaPffft.amplitudeSquared(x, a);
+    createSpectrumAnalyzer(n, { engine: "fft.js" }).amplitudeSquared(x, b);
+    const peak = Math.max(...b);
+    for (let k = 0; k < a.length; k++) expect(Math.abs(a[k] - b[k])).toBeLessThan(SINGLE_PRECISION_TOLERANCE * peak);
   });
 
   it.each([32, 64, 128, 512, 2048, 4096])("matches a naive DFT of the time-windowed frame on noise (N = %i)", (n) => {

@@ -15,7 +15,11 @@ const PFFFT_REAL = 0;
 const PFFFT_FORWARD = 0;
 /** pffft.c asserts N % (2·SIMD_SZ²) == 0 for real transforms, SIMD_SZ = 4 floats. */
 export const PFFFT_REAL_SIZE_MULTIPLE = 32;
-const WASM_PAGE_BYTES = 65536;
+/**
+ * Largest size planned in PFFFT's fixed 16 MiB heap (its three buffers and setup take about 2 MiB here):
+ * larger ones go to fft.js without touching the heap, so they cannot use up the room smaller sizes need.
+ */
+export const PFFFT_LARGEST_REAL_SIZE = 2 ** 17;
 
 export interface PffftRealPlan {
   readonly size: number;
@@ -31,7 +35,6 @@ export interface PffftRealPlan {
 /* Just the WebAssembly API this file calls: shared/ compiles without DOM or Node typings. */
 interface WasmMemory {
   readonly buffer: ArrayBuffer;
-  grow(pages: number): number;
 }
 interface WasmApi {
   validate(bytes: Uint8Array): boolean;
@@ -48,13 +51,13 @@ interface PffftExports {
 
 let loaded: PffftExports | null | undefined;
 let heap = new Float32Array(0);
-const plans = new Map<number, PffftRealPlan>();
+const plans = new Map<number, PffftRealPlan | null>();
 
 /** A plan for real transforms of `size` points, or null where PFFFT cannot serve it (size, or no WASM SIMD here). */
 export function pffftRealPlan(size: number): PffftRealPlan | null {
-  if (size < PFFFT_REAL_SIZE_MULTIPLE || size % PFFFT_REAL_SIZE_MULTIPLE !== 0) return null;
+  if (size < PFFFT_REAL_SIZE_MULTIPLE || size % PFFFT_REAL_SIZE_MULTIPLE !== 0 || size > PFFFT_LARGEST_REAL_SIZE) return null;
   const cached = plans.get(size);
-  if (cached) return cached;
+  if (cached !== undefined) return cached;
   const pffft = loadPffft();
   if (pffft === null) return null;
   const setup = pffft.newSetup(size, PFFFT_REAL);
@@ -63,8 +66,10 @@ export function pffftRealPlan(size: number): PffftRealPlan | null {
   const input = pffft.alignedMalloc(4 * size);
   const output = pffft.alignedMalloc(4 * size);
   const work = pffft.alignedMalloc(4 * size);
+  // Out of heap (it never grows): fft.js serves this size.
   if (setup === 0 || input === 0 || output === 0 || work === 0) {
-    throw new Error(`PFFFT could not allocate a plan for ${size} points in its WASM heap`);
+    plans.set(size, null);
+    return null;
   }
   const inputIndex = input >> 2;
   const plan: PffftRealPlan = {
@@ -87,7 +92,6 @@ export function pffftAvailable(): boolean {
 }
 
 function currentHeap(pffft: PffftExports): Float32Array {
-  // A memory.grow detaches the old buffer; views are remade only then.
   if (heap.buffer !== pffft.memory.buffer) heap = new Float32Array(pffft.memory.buffer);
   return heap;
 }
@@ -111,17 +115,11 @@ function loadPffft(): PffftExports | null {
       a: () => {
         throw new Error(`${PFFFT_WASM_SOURCE}: an internal assertion failed`);
       },
-      // emscripten_resize_heap(requested bytes) → 1 on success, 0 when the heap cannot grow.
-      b: (requested: number) => {
-        if (memory === null) return 0;
-        const missing = Math.ceil((requested - memory.buffer.byteLength) / WASM_PAGE_BYTES);
-        try {
-          memory.grow(Math.max(0, missing));
-          return 1;
-        } catch {
-          return 0;
-        }
-      },
+      // emscripten_resize_heap(requested bytes) → 0: the heap never grows. A grown memory detaches its old
+      // buffer, and the first detached ArrayBuffer slows every later typed-array loop of the thread (see
+      // DEVELOPERS.md, "A WebAssembly SIMD kernel"); the module's 16 MiB hold every plan the analysis makes,
+      // and a plan that does not fit is served by fft.js instead (pffftRealPlan).
+      b: () => 0,
       // _emscripten_memcpy_js(dest, src, count)
       c: (dest: number, src: number, count: number) => {
         if (memory !== null) new Uint8Array(memory.buffer).copyWithin(dest, src, src + count);
