@@ -5,7 +5,7 @@
  */
 import { mkdir, writeFile } from "node:fs/promises";
 import path from "node:path";
-import { createFileAnalysis, createLevelSide, mergeFileAnalysis, type FileAnalysisResult, type LevelSideResult } from "@tidemark/shared/engine/fileAnalysis";
+import { createFileAnalysis, createLevelSide, imagesOf, mergeFileAnalysis, type FileAnalysisResult, type LevelSideResult } from "@tidemark/shared/engine/fileAnalysis";
 import { checksumFindings, compareChecksums, type ExpectedChecksum } from "@tidemark/shared/fixity/checksumFiles";
 import { judge } from "@tidemark/shared/profiles/judge";
 import type { Profile } from "@tidemark/shared/profiles/profileSchema";
@@ -138,12 +138,13 @@ async function writeImages(
   await mkdir(path.dirname(paths.png), { recursive: true });
   const channelTitle = (c: number): string => `${task.relPath} (channel ${c + 1})`;
   const channelPath = (c: number): string => channelSpectrogramPath(paths.png, c);
-  await writeFile(paths.waveform, png(() => renderWaveformImage(analysed.waveform, { width, height: WAVEFORM_HEIGHT_PX, markers })));
+  const grids = imagesOf(analysed);
+  await writeFile(paths.waveform, png(() => renderWaveformImage(grids.waveform, { width, height: WAVEFORM_HEIGHT_PX, markers })));
   const closeups = ctx.closeups
     ? await writeCloseups({ analysed, findings, format, target, relPath: task.relPath, settings, waveformHeightPx: WAVEFORM_HEIGHT_PX, png })
     : null;
-  await writeFile(paths.png, png(() => renderSpectrogramImage(analysed.spectrogram, { width, height, markers, title: task.relPath })));
-  for (const [c, grid] of (analysed.channelSpectrograms ?? []).entries()) {
+  await writeFile(paths.png, png(() => renderSpectrogramImage(grids.spectrogram, { width, height, markers, title: task.relPath })));
+  for (const [c, grid] of (grids.channelSpectrograms ?? []).entries()) {
     await writeFile(channelPath(c), png(() => renderSpectrogramImage(grid, { width, height, markers, title: channelTitle(c) })));
   }
   return { spectrogram: paths.shown, closeups };
@@ -179,6 +180,8 @@ export async function analyseFile(
           clock: () => performance.now(),
           fingerprint: ctx.fingerprint,
           closeups: wantsCloseups ? { rankOf: rankerFor(ctx.profile.severities) } : null,
+          // The spectrogram grid and waveform envelope only feed the images: a scan without them skips both.
+          images: ctx.spectrograms !== null,
         };
         const long = info.stream.totalFrames >= (ctx.spectralThreadMinSeconds ?? SPECTRAL_THREAD_MIN_SECONDS) * info.stream.sampleRateHz;
         if (ctx.spectralThread && long) {

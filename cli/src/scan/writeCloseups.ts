@@ -4,7 +4,7 @@
  * samples the single pass kept (shared/src/closeups). Returns the report's fields for them.
  */
 import { writeFile } from "node:fs/promises";
-import type { FileAnalysisResult } from "@tidemark/shared/engine/fileAnalysis";
+import { imagesOf, type FileAnalysisResult } from "@tidemark/shared/engine/fileAnalysis";
 import { formatTimestamp } from "@tidemark/shared/analysis/findings";
 import { closeupColumns, closeupSpectrogramGrid, closeupWaveform } from "@tidemark/shared/closeups/closeupImages";
 import { selectCloseups } from "@tidemark/shared/closeups/closeupSelection";
@@ -38,7 +38,7 @@ export async function writeCloseups(o: {
   const paths = artefactPaths(target, relPath);
   const rate = format.sampleRateHz;
 
-  await writeFile(paths.abs(ARTEFACT_SUFFIXES.levelGrid), JSON.stringify(levelGridJson(analysed.spectrogram, bufferBase64)));
+  await writeFile(paths.abs(ARTEFACT_SUFFIXES.levelGrid), JSON.stringify(levelGridJson(imagesOf(analysed).spectrogram, bufferBase64)));
   let loudnessCurve: string | null = null;
   if (analysed.loudnessCurve) {
     await writeFile(paths.abs(ARTEFACT_SUFFIXES.loudnessCurve), JSON.stringify(analysed.loudnessCurve));

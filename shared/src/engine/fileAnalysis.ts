@@ -21,9 +21,10 @@ import type { AnalysisSettings } from "../types/settings.ts";
 export interface FileAnalysisResult {
   metrics: FileMetrics;
   findings: Finding[];
-  spectrogram: SpectrogramGrid;
+  /** Null when `images: false` was asked for, as `waveform`. */
+  spectrogram: SpectrogramGrid | null;
   channelSpectrograms: SpectrogramGrid[] | null;
-  waveform: WaveformEnvelope;
+  waveform: WaveformEnvelope | null;
   /** Encoded fingerprint for the report; null when the rate is outside what the fingerprinter takes. */
   fingerprint: string | null;
   /** Samples kept around candidate events for close-ups (issue #16); null with close-ups off. */
@@ -44,6 +45,14 @@ export interface FileAnalysisOptions {
    * (`--no-closeups`). `rankOf` ranks a candidate by the severity the profile will give its code (0 = off).
    */
   closeups?: { rankOf(code: FindingCode, severity: Severity): number } | null;
+  /** Build the spectrogram grid and waveform envelope the images are drawn from (default true). */
+  images?: boolean;
+}
+
+/** What the images are drawn from; throws when the analysis was run with `images: false`. */
+export function imagesOf(r: FileAnalysisResult): { spectrogram: SpectrogramGrid; channelSpectrograms: SpectrogramGrid[] | null; waveform: WaveformEnvelope } {
+  if (r.spectrogram === null || r.waveform === null) throw new Error("expected the spectrogram grid and waveform envelope, but the analysis ran with images: false");
+  return { spectrogram: r.spectrogram, channelSpectrograms: r.channelSpectrograms, waveform: r.waveform };
 }
 
 /** What the level side of the pass hands to mergeFileAnalysis. */
@@ -55,7 +64,7 @@ export interface LevelSideResult {
   timings: { level: number; closeups: number };
 }
 
-export type LevelSideOptions = Omit<FileAnalysisOptions, "fingerprint">;
+export type LevelSideOptions = Omit<FileAnalysisOptions, "fingerprint" | "images">;
 
 /** The level analyser with the close-up capture and the loudness curve its hooks feed. */
 export function createLevelSide(format: StreamFormat, settings: AnalysisSettings, options: LevelSideOptions = {}): BlockAnalyser<LevelSideResult> {

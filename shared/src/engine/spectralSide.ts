@@ -7,11 +7,12 @@
 import { encodeFingerprint } from "../fingerprint/codec.ts";
 import { canFingerprint, createFingerprinter } from "../fingerprint/fingerprinter.ts";
 import { createSpectralAnalyser } from "../spectral/spectralAnalyser.ts";
-import type { AudioBlock, BlockAnalyser, SpectralAnalysisResult, StreamFormat } from "../types/analysis.ts";
+import type { AudioBlock, BlockAnalyser, SpectralAnalysisResult, SpectralMeasuresResult, StreamFormat } from "../types/analysis.ts";
 import type { AnalysisSettings } from "../types/settings.ts";
 
 export interface SpectralSideResult {
-  spectral: SpectralAnalysisResult;
+  /** Without images (`images: false`), its grids and envelope are null. */
+  spectral: SpectralAnalysisResult | SpectralMeasuresResult;
   /** Encoded fingerprint; null when turned off or the rate is outside what the fingerprinter takes. */
   fingerprint: string | null;
   /** In the clock's unit (0 without a clock). */
@@ -23,10 +24,12 @@ export interface SpectralSideOptions {
   clock?: () => number;
   /** Compute the fingerprint (default true). */
   fingerprint?: boolean;
+  /** Build the spectrogram grid and waveform envelope (default true; see SpectralAnalyserOptions). */
+  images?: boolean;
 }
 
 export function createSpectralSide(format: StreamFormat, settings: AnalysisSettings, options: SpectralSideOptions = {}): BlockAnalyser<SpectralSideResult> {
-  const spectral = createSpectralAnalyser(format, settings);
+  const spectral = createSpectralAnalyser(format, settings, { images: options.images });
   const fingerprinter = options.fingerprint !== false && canFingerprint(format) ? createFingerprinter(format) : null;
   const clock = options.clock;
   const timings = { spectral: 0, fingerprint: 0 };

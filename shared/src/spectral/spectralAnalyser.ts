@@ -4,7 +4,7 @@
  * audio decimated to ≈ 6 kHz feeds the fine low rows of the grid and a fine spectrum (hum, low bands);
  * every sample feeds the waveform strip.
  */
-import type { AudioBlock, BlockAnalyser, SpectralAnalysisResult, SpectrogramGrid, StreamFormat } from "../types/analysis.ts";
+import type { AudioBlock, BlockAnalyser, SpectralAnalysisResult, SpectralMeasuresResult, SpectrogramGrid, StreamFormat } from "../types/analysis.ts";
 import type { BandLevel, Finding } from "../types/report.ts";
 import type { AnalysisSettings } from "../types/settings.ts";
 import { spectrogramPlotArea } from "../render/layout.ts";
@@ -44,8 +44,21 @@ const MIN_BINS_PER_BAND = 4;
  */
 const FINE_RELIABLE_FRACTION = 1 / 8;
 
-export function createSpectralAnalyser(format: StreamFormat, settings: AnalysisSettings): BlockAnalyser<SpectralAnalysisResult> {
+export interface SpectralAnalyserOptions {
+  /**
+   * Build what the images are drawn from (default true): the spectrogram grid with its low-frequency
+   * detail analysis, and the waveform envelope. A scan that draws no image skips them (a third of a 1 s
+   * file's spectral work); the metrics and findings come from the Welch and fine spectra alone, so they
+   * are the same either way.
+   */
+  images?: boolean;
+}
+
+export function createSpectralAnalyser(format: StreamFormat, settings: AnalysisSettings, options?: { images?: true }): BlockAnalyser<SpectralAnalysisResult>;
+export function createSpectralAnalyser(format: StreamFormat, settings: AnalysisSettings, options: SpectralAnalyserOptions): BlockAnalyser<SpectralAnalysisResult | SpectralMeasuresResult>;
+export function createSpectralAnalyser(format: StreamFormat, settings: AnalysisSettings, options: SpectralAnalyserOptions = {}): BlockAnalyser<SpectralAnalysisResult | SpectralMeasuresResult> {
   checkFormat(format);
+  const images = options.images !== false;
   const { sampleRateHz, channels, totalFrames } = format;
   const fftSize = fftSizeFor(settings.fftSize ?? defaultFftSize(sampleRateHz), totalFrames);
   const analyzer = createSpectrumAnalyzer(fftSize);
@@ -62,16 +75,18 @@ export function createSpectralAnalyser(format: StreamFormat, settings: AnalysisS
   const layout = spectrogramRowLayout(plot.height, spectrogramSettings.frequencyScale, sampleRateHz, fftSize);
   const lowFactor = lowRateFactor(sampleRateHz);
   const lowRate = { factor: lowFactor, sampleRateHz: sampleRateHz / lowFactor, totalFrames: Math.floor(totalFrames / lowFactor) };
-  const lowDetail = createLowFrequencyDetail({
-    sampleRateHz: lowRate.sampleRateHz,
-    totalFrames: lowRate.totalFrames,
-    channels,
-    columns: plot.width,
-    layout,
-    aggregate: spectrogramSettings.aggregate,
-    perChannel: spectrogramSettings.perChannel,
-    mainBinHz: sampleRateHz / fftSize,
-  });
+  const lowDetail = !images
+    ? null
+    : createLowFrequencyDetail({
+        sampleRateHz: lowRate.sampleRateHz,
+        totalFrames: lowRate.totalFrames,
+        channels,
+        columns: plot.width,
+        layout,
+        aggregate: spectrogramSettings.aggregate,
+        perChannel: spectrogramSettings.perChannel,
+        mainBinHz: sampleRateHz / fftSize,
+      });
   const mainGrid = (): SpectrogramAccumulator =>
     createSpectrogramAccumulator({
       columns: plot.width,
@@ -85,10 +100,10 @@ export function createSpectralAnalyser(format: StreamFormat, settings: AnalysisS
       schedule,
       totalFrames,
     });
-  const grid = mainGrid();
+  const grid = images ? mainGrid() : null;
   const withDetail = (main: SpectrogramAccumulator, detail: SpectrogramAccumulator | undefined) =>
     detail && lowDetail ? [{ accumulator: main }, { accumulator: detail, weightOfRow: lowDetail.weightOfRow }] : [{ accumulator: main }];
-  const channelGrids = spectrogramSettings.perChannel ? Array.from({ length: channels }, mainGrid) : null;
+  const channelGrids = images && spectrogramSettings.perChannel ? Array.from({ length: channels }, mainGrid) : null;
   const welch = createWelchAccumulator({ channels, fftSize, sampleRateHz, noiseBandwidthBins: analyzer.noiseBandwidthBins });
   const channelSpectrum = new Float64Array(analyzer.binCount);
   const meanSpectrum = new Float64Array(analyzer.binCount);
@@ -108,21 +123,21 @@ export function createSpectralAnalyser(format: StreamFormat, settings: AnalysisS
         channelGrids?.[c].addFrame(channelSpectrum, frameIndex);
       }
       welch.endFrame();
-      grid.addFrame(meanSpectrum, frameIndex);
+      grid?.addFrame(meanSpectrum, frameIndex);
     },
   });
 
   const fine = createFineSpectrum(channels, lowRate.sampleRateHz, lowRate.totalFrames);
   const lowRateConsumers = [lowDetail?.collector, fine?.collector].filter((c): c is FrameCollector => c !== undefined);
   const lowRateStream = lowRateConsumers.length > 0 ? createLowRateStream({ channels, factor: lowRate.factor, consumers: lowRateConsumers }) : null;
-  const waveform = createWaveformAccumulator({ columns: plot.width, totalFrames, sampleRateHz });
+  const waveform = images ? createWaveformAccumulator({ columns: plot.width, totalFrames, sampleRateHz }) : null;
 
   return {
     push(block) {
       checkBlock(block, channels);
       stft.push(block);
       lowRateStream?.push(block);
-      waveform.push(block);
+      waveform?.push(block);
     },
     finish() {
       stft.flushShortFile();
@@ -139,12 +154,12 @@ export function createSpectralAnalyser(format: StreamFormat, settings: AnalysisS
       const findings: Finding[] = tooShort
         ? []
         : [
-            ...bandwidthFindings(overall, perChannel, settings.bandwidthThresholdDb, sampleRateHz),
+            ...bandwidthFindings(bandwidth, perChannel, settings.bandwidthThresholdDb, sampleRateHz),
             ...humFindings(fineOverall, finePerChannel, settings.humProminenceDb),
           ];
       const bands = (bandsPerOctave: 1 | 3): BandLevel[] =>
         tooShort ? bandLevels(bandsPerOctave, overall, null).map((b) => ({ ...b, db: null })) : bandLevels(bandsPerOctave, overall, fineOverall);
-      return {
+      const measures = {
         metrics: {
           bands: {
             octave: bands(1),
@@ -154,6 +169,10 @@ export function createSpectralAnalyser(format: StreamFormat, settings: AnalysisS
           dominantFrequencyHz: isSilent ? null : roundTo(dominantFrequencyHz(overall, fineOverall, FINE_RELIABLE_FRACTION * lowRate.sampleRateHz), 100),
         },
         findings,
+      };
+      if (grid === null || waveform === null) return { ...measures, spectrogram: null, channelSpectrograms: null, waveform: null };
+      return {
+        ...measures,
         spectrogram: assembleGrid(withDetail(grid, lowDetail?.overall), plot.width, layout, durationSeconds, sampleRateHz),
         channelSpectrograms: channelGrids
           ? channelGrids.map(
@@ -247,15 +266,17 @@ function bandLevels(bandsPerOctave: 1 | 3, coarse: LongTermSpectrum, fine: LongT
   });
 }
 
-/** Judged on the channel average; a channel that alone shows a shelf is reported on its own. */
+/**
+ * Judged on the channel average (its estimate, already made for the metric: null when silent); a channel
+ * that alone shows a shelf is reported on its own.
+ */
 function bandwidthFindings(
-  overall: LongTermSpectrum,
+  overall: BandwidthEstimate | null,
   perChannel: LongTermSpectrum[],
   thresholdDb: number,
   sampleRateHz: number,
 ): Finding[] {
-  const judge = (s: LongTermSpectrum, channel: number | null): Finding | null => {
-    const estimate = estimateBandwidth(s, thresholdDb);
+  const judge = (estimate: BandwidthEstimate | null, channel: number | null): Finding | null => {
     if (estimate === null) return null;
     const verdict = judgeBandwidth(estimate, sampleRateHz);
     if (verdict === null) return null;
@@ -263,7 +284,7 @@ function bandwidthFindings(
   };
   const whole = judge(overall, null);
   if (whole !== null || perChannel.length === 1) return whole ? [whole] : [];
-  return perChannel.map((s, c) => judge(s, c)).filter((f): f is Finding => f !== null);
+  return perChannel.map((s, c) => judge(estimateBandwidth(s, thresholdDb), c)).filter((f): f is Finding => f !== null);
 }
 
 function humFindings(overall: LongTermSpectrum | null, perChannel: LongTermSpectrum[] | null, prominenceDb: number): Finding[] {

@@ -76,6 +76,13 @@ export interface SpectralAnalysisResult {
   waveform: WaveformEnvelope;
 }
 
+/** The spectral analysis told to build no images (createSpectralAnalyser's `images: false`): measures only. */
+export type SpectralMeasuresResult = Omit<SpectralAnalysisResult, "spectrogram" | "channelSpectrograms" | "waveform"> & {
+  spectrogram: null;
+  channelSpectrograms: null;
+  waveform: null;
+};
+
 /** An RGBA raster ready for PNG encoding (4 bytes a pixel, row-major, top row first). */
 export interface RgbaImage {
   width: number;
