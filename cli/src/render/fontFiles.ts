@@ -1,11 +1,16 @@
 /** The shipped font files: Source Sans 3 (OFL 1.1) subsets from @fontsource/source-sans-3, in fallback order. */
 import { createRequire } from "node:module";
+import path from "node:path";
 
 /** Subsets in fallback order; Latin first, as its .notdef is the box for characters no subset has. */
 export const SUBSETS = ["latin", "latin-ext", "greek", "cyrillic"] as const;
 const WEIGHT = 500;
 
+const fileName = (subset: string): string => `source-sans-3-${subset}-${WEIGHT}-normal.woff`;
+
+/** One package lookup: the subsets lie side by side in its files folder (each resolve walks node_modules again). */
 export function fontFilePaths(): string[] {
-  const require = createRequire(import.meta.url);
-  return SUBSETS.map((s) => require.resolve(`@fontsource/source-sans-3/files/source-sans-3-${s}-${WEIGHT}-normal.woff`));
+  const first = createRequire(import.meta.url).resolve(`@fontsource/source-sans-3/files/${fileName(SUBSETS[0])}`);
+  const folder = path.dirname(first);
+  return SUBSETS.map((s) => path.join(folder, fileName(s)));
 }
