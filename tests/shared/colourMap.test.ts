@@ -1,5 +1,13 @@
 import { describe, expect, it } from "vitest";
-import { COLOUR_MAP_SIZE, wracklineColourMap, wracklineCssGradient, wracklineHex } from "../../shared/src/render/colourMap.ts";
+import { readFileSync } from "node:fs";
+import {
+  colourMapTableModuleText,
+  COLOUR_MAP_SIZE,
+  computeWracklineColourMap,
+  wracklineColourMap,
+  wracklineCssGradient,
+  wracklineHex,
+} from "../../shared/src/render/colourMap.ts";
 import { encodeSrgb8, linearSrgbToOklab, oklabToLinearSrgb } from "../../shared/src/render/oklab.ts";
 
 /** IEC 61966-2-1:1999: 8-bit sRGB code value → linear light. */
@@ -126,6 +134,14 @@ describe("Wrackline colour map", () => {
     // ITU-R BT.709 luma weights on the 8-bit code values, as a greyscale printer or screen would do.
     const luma = Array.from({ length: COLOUR_MAP_SIZE }, (_, i) => 0.2126 * map[3 * i] + 0.7152 * map[3 * i + 1] + 0.0722 * map[3 * i + 2]);
     for (let i = 4; i < COLOUR_MAP_SIZE; i++) expect(luma[i]).toBeGreaterThan(luma[i - 4]);
+  });
+
+  it("is the table generated from its design, byte for byte (run scripts/generate-colour-map.ts after a change)", () => {
+    const computed = computeWracklineColourMap();
+    expect(computed.length).toBe(COLOUR_MAP_SIZE * 3);
+    expect(Array.from(wracklineColourMap())).toEqual(Array.from(computed));
+    const file = new URL("../../shared/src/render/colourMapTable.generated.ts", import.meta.url);
+    expect(readFileSync(file, "utf8")).toBe(colourMapTableModuleText(computed));
   });
 
   it("gives the portal the same colours as hex and as a CSS gradient", () => {
