@@ -124,13 +124,20 @@ export function createSpectrogramAccumulator(o: {
       let c0 = clampColumn(Math.ceil(cellStart * columnsPerSample - 0.5));
       let c1 = clampColumn(Math.ceil(cellEnd * columnsPerSample - 0.5) - 1);
       if (c1 < c0) c0 = c1 = clampColumn(Math.floor(centre * columnsPerSample));
+      // A column no frame has reached yet holds zeros, so every such column ends up as the first one did:
+      // it is copied rather than computed again (a frame of a short file spans several columns, ≈ 8 at 1 s).
+      let freshBase = -1;
       for (let c = c0; c <= c1; c++) {
         const base = c * ownRows;
-        if (aggregate === "max") {
+        const fresh = framesInColumn[c] === 0;
+        if (fresh && freshBase >= 0) {
+          power.copyWithin(base, freshBase, freshBase + ownRows);
+        } else if (aggregate === "max") {
           for (let i = 0; i < ownRows; i++) if (rowPower[i] > power[base + i]) power[base + i] = rowPower[i];
         } else {
           for (let i = 0; i < ownRows; i++) power[base + i] += rowPower[i];
         }
+        if (fresh && freshBase < 0) freshBase = base;
         framesInColumn[c]++;
       }
     },
