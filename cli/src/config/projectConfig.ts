@@ -30,7 +30,8 @@ export function parseProjectConfig(text: string, file: string): ProjectConfig {
   } catch (error) {
     throw new UsageError(`${file} is not valid JSON: ${(error as Error).message.split("\n")[0]}`);
   }
-  const parsed = projectConfigSchema.safeParse(value);
+  // One parse a process: not worth zod's generated fast path (see builtinProfiles.ts).
+  const parsed = projectConfigSchema.safeParse(value, { jitless: true });
   if (!parsed.success) {
     const issue = parsed.error.issues[0];
     const field = issue.path.map(String).join(".") || "(top level)";

@@ -134,8 +134,10 @@ const broadcastLoudness: ProfileInput = {
   metadata: METADATA_CONSISTENCY,
 };
 
+// Parsed once a process (defaults filled in). jitless: zod would otherwise generate and compile a fast
+// parser for the profile schema on this first parse, which costs every command more than three parses save.
 export const BUILTIN_PROFILES: readonly Profile[] = [preservationMaster, accessCopy, broadcastLoudness].map((p) =>
-  profileSchema.parse(p),
+  profileSchema.parse(p, { jitless: true }),
 );
 
 export const DEFAULT_PROFILE_NAME = "access-copy";
