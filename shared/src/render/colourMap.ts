@@ -42,7 +42,7 @@ let cached: Uint8Array | null = null;
  * computeWracklineColourMap() gives, as generated into colourMapTable.generated.ts. Computing it costs every
  * process that draws an image tens of milliseconds of cold code (≈ 60 000 gamut tests; issue #22), and the
  * table also makes the CLI and the portal's browsers agree to the byte. tests/shared/colourMap.test.ts
- * fails while the table is out of date (`node --import tsx scripts/generate-colour-map.ts`).
+ * fails while the table is out of date (regenerate it with scripts/generate-colour-map.ts).
  */
 export function wracklineColourMap(): Uint8Array {
   if (cached !== null) return cached;
