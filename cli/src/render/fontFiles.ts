@@ -10,7 +10,8 @@ const fileName = (subset: string): string => `source-sans-3-${subset}-${WEIGHT}-
 
 /** One package lookup: the subsets lie side by side in its files folder (each resolve walks node_modules again). */
 export function fontFilePaths(): string[] {
-  const first = createRequire(import.meta.url).resolve(`@fontsource/source-sans-3/files/${fileName(SUBSETS[0])}`);
+  const require = createRequire(import.meta.url);
+  const first = require.resolve(`@fontsource/source-sans-3/files/${fileName(SUBSETS[0])}`);
   const folder = path.dirname(first);
   return SUBSETS.map((s) => path.join(folder, fileName(s)));
 }

@@ -26,7 +26,8 @@ function loadCanvas(): typeof import("@napi-rs/canvas") {
   const before = process.env.DISABLE_SYSTEM_FONTS_LOAD;
   process.env.DISABLE_SYSTEM_FONTS_LOAD = "1";
   try {
-    return createRequire(import.meta.url)("@napi-rs/canvas") as typeof import("@napi-rs/canvas");
+    const require = createRequire(import.meta.url);
+    return require("@napi-rs/canvas") as typeof import("@napi-rs/canvas");
   } finally {
     if (before === undefined) delete process.env.DISABLE_SYSTEM_FONTS_LOAD;
     else process.env.DISABLE_SYSTEM_FONTS_LOAD = before;
