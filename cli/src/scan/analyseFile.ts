@@ -192,7 +192,7 @@ export async function analyseFile(
           // cannot start (the system's limit) leaves the file to this one: same results.
           const level = all ? null : createLevelSide(info.stream, ctx.settings, options);
           const part: SecondThreadPart = all ? { kind: "all", closeups: wantsCloseups ? { severities: ctx.profile.severities } : null } : { kind: "spectral" };
-          const spectral = startSpectralThreadOrNull(info.stream, ctx.settings, ctx.fingerprint, part);
+          const spectral = startSpectralThreadOrNull(info.stream, ctx.settings, { fingerprint: ctx.fingerprint, images: options.images }, part);
           if (spectral) {
             split = { level, spectral };
             return (block) => {
@@ -310,9 +310,9 @@ export async function analyseFile(
   };
 }
 
-function startSpectralThreadOrNull(format: StreamFormat, settings: AnalysisSettings, fingerprint: boolean, part: SecondThreadPart): SpectralThread | null {
+function startSpectralThreadOrNull(format: StreamFormat, settings: AnalysisSettings, o: { fingerprint: boolean; images: boolean }, part: SecondThreadPart): SpectralThread | null {
   try {
-    return startSpectralThread(format, settings, { fingerprint, slotFrames: DEFAULT_BLOCK_FRAMES, part });
+    return startSpectralThread(format, settings, { ...o, slotFrames: DEFAULT_BLOCK_FRAMES, part });
   } catch {
     return null;
   }

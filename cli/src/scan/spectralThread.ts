@@ -27,6 +27,8 @@ export interface SpectralThreadData {
   format: StreamFormat;
   settings: AnalysisSettings;
   fingerprint: boolean;
+  /** Build the spectrogram grids and waveform envelope (only a scan that draws images needs them). */
+  images: boolean;
   part: SecondThreadPart;
 }
 
@@ -42,11 +44,11 @@ try {
   let finish: () => SecondThreadResult;
   let analyser: BlockAnalyser<unknown>;
   if (part.kind === "all") {
-    const all = createFileAnalysis(data.format, data.settings, { clock, fingerprint: data.fingerprint, closeups: part.closeups ? { rankOf: rankerFor(part.closeups.severities) } : null });
+    const all = createFileAnalysis(data.format, data.settings, { clock, fingerprint: data.fingerprint, images: data.images, closeups: part.closeups ? { rankOf: rankerFor(part.closeups.severities) } : null });
     analyser = all;
     finish = () => ({ kind: "all", result: all.finish() });
   } else {
-    const side = createSpectralSide(data.format, data.settings, { clock, fingerprint: data.fingerprint });
+    const side = createSpectralSide(data.format, data.settings, { clock, fingerprint: data.fingerprint, images: data.images });
     analyser = side;
     finish = () => ({ kind: "spectral", result: side.finish() });
   }

@@ -60,11 +60,11 @@ function bootstrapCode(script: URL): string {
   ].join("\n");
 }
 
-export function startSpectralThread(format: StreamFormat, settings: AnalysisSettings, o: { fingerprint: boolean; slotFrames: number; part: SecondThreadPart }): SpectralThread {
+export function startSpectralThread(format: StreamFormat, settings: AnalysisSettings, o: { fingerprint: boolean; images: boolean; slotFrames: number; part: SecondThreadPart }): SpectralThread {
   const ring = allocateBlockRing({ channels: format.channels, slotFrames: o.slotFrames, slots: ringSlotsFor(format.channels, o.slotFrames) });
   // Dropped after the last block, so the ring's memory goes as soon as the thread has ended too.
   let writer: BlockRingWriter | null = createBlockRingWriter(ring);
-  const data: SpectralThreadData = { ring, format, settings, fingerprint: o.fingerprint, part: o.part };
+  const data: SpectralThreadData = { ring, format, settings, fingerprint: o.fingerprint, images: o.images, part: o.part };
   const worker = new Worker(bootstrapCode(SCRIPT), {
     eval: true,
     workerData: data,
