@@ -62,6 +62,8 @@ class FlacStream implements FlacStreamDecoder {
   private md5Filled = 0;
   private decodeErrors = 0;
   private afterGap = false;
+  /** libFLAC must be restarted before the next frame (see restartLibflac). */
+  private resync = false;
   private overran = false;
   private dataStarted = false;
   private readonly libScale: number;
@@ -109,6 +111,7 @@ class FlacStream implements FlacStreamDecoder {
   }
 
   private frame(bytes: Uint8Array, header: FlacFrameHeader): void {
+    if (this.resync) this.restartLibflac();
     const decoded = this.decoder.decode(bytes);
     const samples = Math.min(decoded.samples, header.blockSize);
     const error = decoded.error;
@@ -120,6 +123,8 @@ class FlacStream implements FlacStreamDecoder {
       this.decodeError(header.sampleNumber, 0, `libFLAC: ${error}`);
     }
     this.afterGap = false;
+    // libFLAC may have kept part of a frame it could not decode and would misread the next one with it.
+    if (samples < header.blockSize || error !== null) this.resync = true;
     const kept = this.room(samples);
     if (kept > 0) this.take(decoded.data, decoded.samples, kept);
     // A frame libFLAC gave back short keeps its length, as silence, so later times stay right.
@@ -274,8 +279,26 @@ class FlacStream implements FlacStreamDecoder {
     this.md5Filled = 0;
   }
 
+  /**
+   * A fresh libFLAC decoder, primed with STREAMINFO, for the frame after a gap or a failed frame. Fed a frame whose
+   * number jumps, libFLAC 1.4 reports MISSING_FRAME and writes silence for the missing samples before the frame;
+   * the package's write callback mallocs an output buffer for each write and keeps only the last pointer, so the
+   * silence buffer (block size × channels × 4 bytes, 32 KB for 4096-sample stereo) leaked on every gap. The
+   * module's heap is fixed at 16 MB: after ≈ 500 gaps malloc returned 0, the write callback stored a frame at
+   * address 0 over the module's own data, and the scan spun forever or died with an out-of-bounds access
+   * (measured 2026-12-05: free heap fell 2 MB per ≈ 60 gaps; with the restart it stays flat). A decoder that has
+   * seen no frame takes any frame as it comes: one write per frame, nothing leaks, and libFLAC keeps no bytes
+   * of a frame it rejected to misread the next one with.
+   */
+  private restartLibflac(): void {
+    this.resync = false;
+    this.decoder.restart();
+    this.decoder.decode(this.layout.streamHeader);
+  }
+
   private gap(sample: number, frames: number, why: string): void {
     this.decodeError(sample, frames, why);
+    this.resync = true;
     this.afterGap = true;
     this.silence(frames);
   }

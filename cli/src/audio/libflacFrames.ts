@@ -5,7 +5,7 @@
  * on a 600 s stereo file that was ≈ 0.15 s and 350 MB of garbage. Here the caller gets a view of the heap,
  * valid until the next call, and rescales it once into its own blocks.
  *
- * This uses the package's internals (its `_decoder` and the C functions `decode_frame`, `malloc`, `free`, as
+ * This uses the package's internals (its `_decoder` and the C functions `decode_frame`, `create_decoder`, `destroy_decoder`, `malloc`, `free`, as
  * in its src/FLACDecoder.js and src/flac_decoder.c); `createLibflacFrames` checks they are there and says so
  * if an upgrade moved them (tests/cli/audioFormats.test.ts decodes through this module).
  */
@@ -24,6 +24,12 @@ export interface DecodedFrame {
 export interface LibflacFrames {
   /** Decodes one whole frame (or the stream header, to prime the decoder). The result is valid until the next call. */
   decode(frame: Uint8Array): DecodedFrame;
+  /**
+   * Replaces libFLAC's decoder by a fresh one in the same module (cheap: no new WebAssembly instance), forgetting
+   * the previous frame; prime it again with the stream header. Call it after frames were left out: see
+   * flacStreamDecoder.ts for why libFLAC must not see the sample numbers jump.
+   */
+  restart(): void;
   free(): void;
 }
 
@@ -32,6 +38,8 @@ interface WasmExports {
   malloc(bytes: number): number;
   free(ptr: number): void;
   decode_frame(decoder: number, input: number, length: number): number;
+  create_decoder(channels: number, sampleRate: number, bitsPerSample: number, samples: number, outPtr: number, outLen: number, error: number, state: number): number;
+  destroy_decoder(decoder: number): void;
 }
 
 interface Cell {
@@ -43,6 +51,8 @@ interface InnerDecoder {
   _common: { wasm: WasmExports; codeToString(ptr: number): string };
   _decoder: number;
   _channels: Cell;
+  _sampleRate: Cell;
+  _bitsPerSample: Cell;
   _samplesDecoded: Cell;
   _outputBufferPtr: Cell;
   _outputBufferLen: Cell;
@@ -57,13 +67,13 @@ export async function createLibflacFrames(): Promise<LibflacFrames> {
   await outer.ready;
   const inner = (outer as unknown as { _decoder?: Partial<InnerDecoder> })._decoder;
   const wasm = inner?._common?.wasm;
-  const cells = [inner?._channels, inner?._samplesDecoded, inner?._outputBufferPtr, inner?._outputBufferLen, inner?._errorStringPtr, inner?._stateStringPtr];
-  if (!inner || !wasm || typeof wasm.decode_frame !== "function" || typeof wasm.malloc !== "function" || typeof inner._decoder !== "number" || cells.some((c) => typeof c?.ptr !== "number")) {
+  const cells = [inner?._channels, inner?._sampleRate, inner?._bitsPerSample, inner?._samplesDecoded, inner?._outputBufferPtr, inner?._outputBufferLen, inner?._errorStringPtr, inner?._stateStringPtr];
+  if (!inner || !wasm || typeof wasm.decode_frame !== "function" || typeof wasm.malloc !== "function" || typeof wasm.create_decoder !== "function" || typeof wasm.destroy_decoder !== "function" || typeof inner._decoder !== "number" || cells.some((c) => typeof c?.ptr !== "number")) {
     outer.free();
     throw new Error("@wasm-audio-decoders/flac: expected the 0.2.x internals (_decoder._common.wasm.decode_frame and the output cells); the package changed, see cli/src/audio/libflacFrames.ts");
   }
   const d = inner as InnerDecoder;
-  const handle = d._decoder;
+  let handle = d._decoder;
   // Word indexes of the cells the C side writes (pointers into the heap, 4-byte aligned).
   const channelsAt = d._channels.ptr >> 2;
   const samplesAt = d._samplesDecoded.ptr >> 2;
@@ -108,6 +118,17 @@ export async function createLibflacFrames(): Promise<LibflacFrames> {
       result.samples = out !== 0 ? samples : 0;
       result.data = out !== 0 ? new Float32Array(wasm.HEAP, out, length) : EMPTY;
       return result;
+    },
+    restart() {
+      if (lastOut !== 0) wasm.free(lastOut);
+      lastOut = 0;
+      wasm.destroy_decoder(handle);
+      handle = wasm.create_decoder(
+        d._channels.ptr, d._sampleRate.ptr, d._bitsPerSample.ptr, d._samplesDecoded.ptr,
+        d._outputBufferPtr.ptr, d._outputBufferLen.ptr, d._errorStringPtr.ptr, d._stateStringPtr.ptr,
+      );
+      // The package's own free() destroys whichever decoder it holds.
+      d._decoder = handle;
     },
     free() {
       if (lastOut !== 0) wasm.free(lastOut);
