@@ -52,6 +52,14 @@ describe("hum", () => {
     expect(humFindings(r)).toEqual([]);
   });
 
+  it.each([440, 997])("leaves a clean one-second %i Hz tone at −12 dBFS, quantised to 24 bits, alone", (hz) => {
+    // Far below the tone, at 60 Hz, a single-precision transform's rounding once stood 18 dB over the
+    // true floor (24-bit quantisation noise) and read as hum; the fine spectrum is computed in double.
+    const tone = sine({ frequencyHz: hz, sampleRateHz: rate, seconds: 1, peakDbfs: -12 });
+    for (let i = 0; i < tone.length; i++) tone[i] = Math.round(tone[i] * 2 ** 23) / 2 ** 23;
+    expect(humFindings(analyse([tone], rate))).toEqual([]);
+  });
+
   it("leaves noise alone, white or pink", () => {
     expect(humFindings(analyse([whiteNoise({ sampleRateHz: rate, seconds, rmsDbfs: -20, seed: 8 })], rate))).toEqual([]);
     expect(humFindings(analyse([pinkNoise({ sampleRateHz: rate, seconds, rmsDbfs: -20, seed: 8 })], rate))).toEqual([]);

@@ -59,7 +59,7 @@ export function isPowerOfTwo(n: number): boolean {
 }
 
 export interface SpectrumAnalyzerOptions {
-  /** "fft.js" forces the double-precision path for the amplitude spectra too (benches and comparisons). */
+  /** "fft.js" forces the double-precision path for the amplitude spectra too: where levels far below the signal are judged (the fine spectrum), and for benches and comparisons. */
   engine?: "auto" | "fft.js";
 }
 

@@ -209,7 +209,10 @@ function createFineSpectrum(
 ): { collector: FrameCollector; welch: WelchAccumulator } | null {
   const schedule: FrameSchedule | null = chooseLongFrameSchedule(totalFrames, sampleRateHz);
   if (schedule === null) return null;
-  const analyzer = createSpectrumAnalyzer(schedule.frameSize);
+  // In double precision (fft.js): hum is judged far below the signal, where a single-precision transform's
+  // rounding stood 18 dB over a clean 24-bit tone's floor and read as hum (tests/shared/hum.test.ts). These
+  // few long frames of the decimated stream cost little either way.
+  const analyzer = createSpectrumAnalyzer(schedule.frameSize, { engine: "fft.js" });
   const spectrum = new Float64Array(analyzer.binCount);
   const welch = createWelchAccumulator({ channels, fftSize: schedule.frameSize, sampleRateHz, noiseBandwidthBins: analyzer.noiseBandwidthBins });
   const collector = createFrameCollector({
