@@ -6,7 +6,7 @@
  * in JavaScript exactly as there. Inputs are copied into the instance's memory a chunk at a time and the
  * outputs copied back, which still costs well under half of the JavaScript loop.
  */
-import type { HalvingStage } from "./halvingStage.ts";
+import { checkHalvingOutputs, type HalvingStage } from "./halvingStage.ts";
 import { instantiateKernels } from "./wasmKernels.ts";
 
 /** Output pairs handled per call into the module (its memory is sized for this many). */
@@ -33,18 +33,13 @@ export function createSimdHalvingStage(channels: number): HalvingStage | null {
   let odd = false;
   let ended = false;
 
-  function check(outputs: readonly Float32Array[], needed: number): void {
-    if (outputs.length !== channels) throw new RangeError(`halving stage: expected ${channels} outputs, got ${outputs.length}`);
-    for (const y of outputs) if (y.length < needed) throw new RangeError(`halving stage: an output holds ${y.length}, needs ${needed}`);
-  }
-
   return {
     channels,
     push(inputs, count, outputs) {
       if (ended) throw new Error("halving stage: push after end()");
       if (inputs.length !== channels) throw new RangeError(`halving stage: expected ${channels} inputs, got ${inputs.length}`);
       const written = Math.floor((count + (odd ? 1 : 0)) / 2);
-      check(outputs, written);
+      checkHalvingOutputs(channels, outputs, written);
       let i = 0;
       let n = 0;
       if (odd && count > 0) {
@@ -92,7 +87,7 @@ export function createSimdHalvingStage(channels: number): HalvingStage | null {
       if (ended) return 0;
       ended = true;
       if (!odd) return 0;
-      check(outputs, 1);
+      checkHalvingOutputs(channels, outputs, 1);
       for (let ch = 0; ch < channels; ch++) outputs[ch][0] = (olderA[ch] + 3 * (state[bAt(ch)] + state[cAt(ch)])) * 0.125;
       return 1;
     },

@@ -20,6 +20,12 @@ export interface HalvingStage {
 /** The lowest input rate a halving keeps the fingerprint band clean for (see above). */
 export const MIN_HALVING_INPUT_HZ = 44100;
 
+/** The output checks of every halving stage (the JavaScript one here and the SIMD one). */
+export function checkHalvingOutputs(channels: number, outputs: readonly Float32Array[], needed: number): void {
+  if (outputs.length !== channels) throw new RangeError(`halving stage: expected ${channels} outputs, got ${outputs.length}`);
+  for (const y of outputs) if (y.length < needed) throw new RangeError(`halving stage: an output holds ${y.length}, needs ${needed}`);
+}
+
 export function createHalvingStage(channels: number): HalvingStage {
   if (!Number.isInteger(channels) || channels < 1) throw new RangeError(`channels must be an integer ≥ 1, got ${channels}`);
   // Output j = (x[2j−2] + 3·x[2j−1] + 3·x[2j] + x[2j+1]) / 8, made when x[2j+1] arrives; x before
@@ -28,18 +34,13 @@ export function createHalvingStage(channels: number): HalvingStage {
   let odd = false; // the next input has an odd index, so it completes an output
   let ended = false;
 
-  function check(outputs: readonly Float32Array[], needed: number): void {
-    if (outputs.length !== channels) throw new RangeError(`halving stage: expected ${channels} outputs, got ${outputs.length}`);
-    for (const y of outputs) if (y.length < needed) throw new RangeError(`halving stage: an output holds ${y.length}, needs ${needed}`);
-  }
-
   return {
     channels,
     push(inputs, count, outputs) {
       if (ended) throw new Error("halving stage: push after end()");
       if (inputs.length !== channels) throw new RangeError(`halving stage: expected ${channels} inputs, got ${inputs.length}`);
       const written = Math.floor((count + (odd ? 1 : 0)) / 2);
-      check(outputs, written);
+      checkHalvingOutputs(channels, outputs, written);
       for (let ch = 0; ch < channels; ch++) {
         const x = inputs[ch];
         const y = outputs[ch];
@@ -81,7 +82,7 @@ export function createHalvingStage(channels: number): HalvingStage {
       if (ended) return 0;
       ended = true;
       if (!odd) return 0;
-      check(outputs, 1);
+      checkHalvingOutputs(channels, outputs, 1);
       for (let ch = 0; ch < channels; ch++) {
         const a = history[3 * ch];
         const b = history[3 * ch + 1];
