@@ -6,7 +6,7 @@
  * in JavaScript exactly as there. Inputs are copied into the instance's memory a chunk at a time and the
  * outputs copied back, which still costs well under half of the JavaScript loop.
  */
-import { checkHalvingOutputs, type HalvingStage } from "./halvingStage.ts";
+import { checkHalvingOutputs, checkHalvingPush, type HalvingStage } from "./halvingStage.ts";
 import { instantiateKernels } from "./wasmKernels.ts";
 
 /** Output pairs handled per call into the module (its memory is sized for this many). */
@@ -36,10 +36,7 @@ export function createSimdHalvingStage(channels: number): HalvingStage | null {
   return {
     channels,
     push(inputs, count, outputs) {
-      if (ended) throw new Error("halving stage: push after end()");
-      if (inputs.length !== channels) throw new RangeError(`halving stage: expected ${channels} inputs, got ${inputs.length}`);
-      const written = Math.floor((count + (odd ? 1 : 0)) / 2);
-      checkHalvingOutputs(channels, outputs, written);
+      const written = checkHalvingPush(channels, ended, odd, inputs, count, outputs);
       let i = 0;
       let n = 0;
       if (odd && count > 0) {

@@ -20,6 +20,18 @@ export interface HalvingStage {
 /** The lowest input rate a halving keeps the fingerprint band clean for (see above). */
 export const MIN_HALVING_INPUT_HZ = 44100;
 
+/**
+ * A push's checks, shared by the JavaScript stage here and the SIMD one; returns how many outputs it writes
+ * (one per input pair completed, counting a pending odd input).
+ */
+export function checkHalvingPush(channels: number, ended: boolean, odd: boolean, inputs: readonly Float32Array[], count: number, outputs: readonly Float32Array[]): number {
+  if (ended) throw new Error("halving stage: push after end()");
+  if (inputs.length !== channels) throw new RangeError(`halving stage: expected ${channels} inputs, got ${inputs.length}`);
+  const written = Math.floor((count + (odd ? 1 : 0)) / 2);
+  checkHalvingOutputs(channels, outputs, written);
+  return written;
+}
+
 /** The output checks of every halving stage (the JavaScript one here and the SIMD one). */
 export function checkHalvingOutputs(channels: number, outputs: readonly Float32Array[], needed: number): void {
   if (outputs.length !== channels) throw new RangeError(`halving stage: expected ${channels} outputs, got ${outputs.length}`);
@@ -37,10 +49,7 @@ export function createHalvingStage(channels: number): HalvingStage {
   return {
     channels,
     push(inputs, count, outputs) {
-      if (ended) throw new Error("halving stage: push after end()");
-      if (inputs.length !== channels) throw new RangeError(`halving stage: expected ${channels} inputs, got ${inputs.length}`);
-      const written = Math.floor((count + (odd ? 1 : 0)) / 2);
-      checkHalvingOutputs(channels, outputs, written);
+      const written = checkHalvingPush(channels, ended, odd, inputs, count, outputs);
       for (let ch = 0; ch < channels; ch++) {
         const x = inputs[ch];
         const y = outputs[ch];
