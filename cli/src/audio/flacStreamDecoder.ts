@@ -78,7 +78,7 @@ class FlacStream implements FlacStreamDecoder {
     const channels = layout.channels;
     this.planar = Array.from({ length: channels }, () => new Float32Array(blockFrames));
     this.framer = createFlacFramer(layout.streamInfo, layout.dataOffset, {
-      frame: (bytes, header) => this.frame(bytes, header),
+      frame: (bytes, header, _offset, tentative) => this.frame(bytes, header, tentative === true),
       gap: (sample, frames, _offset, why) => this.gap(sample, frames, why),
     });
     const bits = layout.streamInfo.bitsPerSample;
@@ -110,11 +110,16 @@ class FlacStream implements FlacStreamDecoder {
     this.closingFindings();
   }
 
-  private frame(bytes: Uint8Array, header: FlacFrameHeader): void {
+  /** `tentative`: the framer's guess at the last frame's end; turned down, unreported, unless libFLAC decodes it whole. */
+  private frame(bytes: Uint8Array, header: FlacFrameHeader, tentative: boolean): boolean {
     if (this.resync) this.restartLibflac();
     const decoded = this.decoder.decode(bytes);
     const samples = Math.min(decoded.samples, header.blockSize);
     const error = decoded.error;
+    if (tentative && (samples < header.blockSize || (error !== null && !(this.afterGap && /MISSING_FRAME/.test(error))))) {
+      this.resync = true;
+      return false;
+    }
     if (samples < header.blockSize) {
       const lost = header.blockSize - samples;
       this.decodeError(header.sampleNumber + samples, lost, `libFLAC decoded ${samples} of the frame's ${header.blockSize} samples${error ? ` (${error})` : ""}`);
@@ -129,6 +134,7 @@ class FlacStream implements FlacStreamDecoder {
     if (kept > 0) this.take(decoded.data, decoded.samples, kept);
     // A frame libFLAC gave back short keeps its length, as silence, so later times stay right.
     if (samples < header.blockSize) this.silence(header.blockSize - samples);
+    return true;
   }
 
   /**

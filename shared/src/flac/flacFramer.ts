@@ -23,8 +23,12 @@ export interface FlacFrameHeader {
 }
 
 export interface FlacFramerEvents {
-  /** A whole frame (valid CRC-16); `bytes` is only valid during the call. */
-  frame(bytes: Uint8Array, header: FlacFrameHeader, fileOffset: number): void;
+  /**
+   * A whole frame (valid CRC-16); `bytes` is only valid during the call. With `tentative` (the last frame, whose
+   * end only its CRC-16 shows), a frame that does not decode whole must be turned down: return false and
+   * report nothing, and the framer tries another end or reports it itself.
+   */
+  frame(bytes: Uint8Array, header: FlacFrameHeader, fileOffset: number, tentative?: boolean): boolean | void;
   /** `frames` samples from `startSample` were lost (bad CRC-16, lost sync); `why` says which. */
   gap(startSample: number, frames: number, fileOffset: number, why: string): void;
 }
@@ -53,6 +57,8 @@ const SAMPLE_RATES = [0, 88200, 176400, 192000, 8000, 16000, 22050, 24000, 32000
 const SAMPLE_SIZES = [0, 8, 12, -1, 16, 20, 24, 32];
 /** Longest header: 4 fixed bytes, 7-byte coded number, 2 bytes block size, 2 bytes rate, CRC-8. */
 export const MAX_HEADER_BYTES = 16;
+/** At the end of the stream, CRC-16 zeros offered to libFLAC as the last frame's end before it counts as damaged. */
+const MAX_END_TRIES = 8;
 
 /**
  * Parses a frame header at `at` (RFC 9639, 9.1), or null when it is not one that fits this stream (bad CRC-8,
@@ -210,34 +216,152 @@ class Framer implements FlacFramer {
     this.process(false);
   }
 
+  /**
+   * The end of the stream is the last frame's only boundary, so the open frame is settled on three facts: where
+   * its CRC-16 comes to 0 (a zero exactly at the end of the data is the evidence a next header gives mid-stream;
+   * a zero earlier may be the frame's end before trailing bytes, or chance: 1 in 65536 per byte), STREAMINFO's
+   * total (a header at or past it is a false sync code), and whether libFLAC accepted the frame.
+   */
   finish(): { trailingBytes: number } {
     let trailingBytes = 0;
     for (;;) {
       this.process(true);
       const h = this.cur;
       if (!h) break;
-      // The last frame ends where the CRC-16 last comes to 0; anything after it belongs to no frame.
-      let end = -1;
-      let c = 0;
-      const b = this.buf;
-      const minEnd = this.curStart + h.headerBytes + 2;
-      for (let i = this.curStart; i < this.len; i++) {
-        c = ((c << 8) & 0xffff) ^ CRC16[(c >> 8) ^ b[i]];
-        if (c === 0 && i + 1 >= minEnd) end = i + 1;
+      const total = this.info.totalSamples;
+      if (this.pendingHeader && total > 0 && this.pendingHeader.sampleNumber >= total) {
+        // No frame starts at or after the announced end: the pending header is a false sync code in this frame's data.
+        this.pendingAt = -1;
+        this.pendingHeader = null;
       }
-      if (this.pendingHeader && end <= this.pendingAt) {
-        // The CRC-16 never came to 0 past the pending header: damaged there, and the rest is read from that header.
-        this.resolvePending();
-        continue;
+      const pendingAt = this.pendingAt;
+      const open = this.crcZeros(this.curStart, h);
+      if (this.pendingHeader) {
+        const pending = this.crcZeros(pendingAt, this.pendingHeader);
+        // The open frame was damaged, and the pending header begins the next one, unless the open frame's
+        // CRC-16 holds at the very end of the data (a false sync code in its data) and the pending one's does not.
+        // Both cannot hold there: the open frame's CRC-16 failed at the pending header.
+        if (pending.atEnd || (!open.atEnd && (pending.last > 0 || open.last <= pendingAt))) {
+          this.resolvePending();
+          continue;
+        }
+      }
+      let end = this.firstDecodableEnd(h);
+      if (end < 0 && open.atEnd) {
+        // Whole by its CRC-16 to the last byte, yet libFLAC turned it down: decoded as any frame, its finding says why.
+        end = this.len;
+        this.close(end, true);
       }
       if (end > 0) {
         trailingBytes = this.len - end;
-        this.close(end, true);
+        if (trailingBytes > 0 && total > this.nextSample) {
+          if (this.isCutShort(trailingBytes)) {
+            // Fewer bytes than the smallest frame: the start of a frame the file was cut in (its header
+            // incomplete); the truncated finding reports the missing samples.
+            trailingBytes = 0;
+          } else if (this.lastFrameLost() && (this.info.minFrameSize > 0 || trailingBytes > MAX_HEADER_BYTES)) {
+            // Exactly the last frame's samples are missing and its bytes are there: that frame, its header
+            // damaged (a lost sync code or a failing CRC-8), rather than data appended to the stream.
+            this.gapTo(total, this.base + end, `lost sync: no valid frame header in the last ${trailingBytes} bytes`);
+            trailingBytes = 0;
+          }
+        }
+      } else if (this.isCutShort(this.len - this.curStart) || total > h.sampleNumber + h.blockSize) {
+        // Frames after this one are missing too, so the file was cut, most likely inside this frame.
+        this.cutOff();
       } else this.close(this.len, false);
       break;
     }
     // With no frame open, the bytes since the last one were already reported as a gap.
     return { trailingBytes };
+  }
+
+  /**
+   * The open frame's end before the end of the data: the first place its CRC-16 comes to 0 at which libFLAC
+   * decodes it whole. An earlier zero is chance inside the frame (libFLAC runs out of bytes there), a later
+   * one chance in the bytes after it (or zero bytes appended, which keep the CRC-16 at 0), so the first
+   * accepted one is where the frame ends and the trailing bytes begin. The frame is closed there; −1 (frame
+   * still open, nothing reported) when no zero is accepted among the first few.
+   */
+  private firstDecodableEnd(h: FlacFrameHeader): number {
+    const b = this.buf;
+    const from = this.curStart;
+    const minEnd = from + h.headerBytes + 2;
+    let tries = 0;
+    let c = 0;
+    for (let i = from; i < this.len && tries < MAX_END_TRIES; i++) {
+      c = ((c << 8) & 0xffff) ^ CRC16[(c >> 8) ^ b[i]];
+      if (c !== 0 || i + 1 < minEnd) continue;
+      tries++;
+      this.gapBefore();
+      if (this.events.frame(b.subarray(from, i + 1), h, this.base + from, true) === false) continue;
+      this.nextSample = h.sampleNumber + h.blockSize;
+      this.cur = null;
+      this.scan = i + 1;
+      this.pendingAt = -1;
+      this.pendingHeader = null;
+      return i + 1;
+    }
+    return -1;
+  }
+
+  /**
+   * Where the CRC-16 of the frame starting at `from` comes to 0 in the data held: the last such place (−1 if
+   * none), and whether that is the end of the data. Run once per stream, at its end.
+   */
+  private crcZeros(from: number, h: FlacFrameHeader): { last: number; atEnd: boolean } {
+    const b = this.buf;
+    const minEnd = from + h.headerBytes + 2;
+    let last = -1;
+    let c = 0;
+    for (let i = from; i < this.len; i++) {
+      c = ((c << 8) & 0xffff) ^ CRC16[(c >> 8) ^ b[i]];
+      if (c === 0 && i + 1 >= minEnd) last = i + 1;
+    }
+    return { last, atEnd: last === this.len && last > from };
+  }
+
+  /**
+   * The open frame's end before a frame whose sync code was damaged, found when a later header skips frames: a
+   * place before `to` where its CRC-16 comes to 0 and exactly one of the two sync bytes (0xFF, 0xF8/0xF9) is
+   * intact, as one damaged byte leaves it (RFC 9639, 9.1). Chance gives both facts about once in 10^7 bytes;
+   * the frame still goes through libFLAC, which reports it if it is not whole. −1 when there is none.
+   */
+  private endBeforeBrokenSync(to: number): number {
+    const b = this.buf;
+    const h = this.cur as FlacFrameHeader;
+    const minEnd = this.curStart + h.headerBytes + 2;
+    let found = -1;
+    let c = 0;
+    for (let i = this.curStart; i < to - 1; i++) {
+      c = ((c << 8) & 0xffff) ^ CRC16[(c >> 8) ^ b[i]];
+      const e = i + 1;
+      if (c === 0 && e >= minEnd && (b[e] === 0xff) !== ((b[e + 1] & 0xfe) === 0xf8)) found = e;
+    }
+    return found;
+  }
+
+  /**
+   * A frame holding fewer bytes than STREAMINFO's smallest frame (RFC 9639, 8.2) cannot be whole, damaged or
+   * not: the file was cut there. Only with a known total, so the missing samples are reported as truncation.
+   */
+  private isCutShort(bytes: number): boolean {
+    return this.info.totalSamples > 0 && bytes < this.info.minFrameSize;
+  }
+
+  /** The open frame was cut off by the end of the file: not decoded, and its samples left to the truncated finding. */
+  private cutOff(): void {
+    this.gapBefore();
+    this.cur = null;
+    this.scan = this.len;
+    this.pendingAt = -1;
+    this.pendingHeader = null;
+  }
+
+  /** STREAMINFO announces more samples than were accounted for, at most one frame's worth. */
+  private lastFrameLost(): boolean {
+    const total = this.info.totalSamples;
+    return total > this.nextSample && total - this.nextSample <= this.info.maxBlockSize;
   }
 
   private append(bytes: Uint8Array): void {
@@ -382,7 +506,10 @@ class Framer implements FlacFramer {
         this.resolvePending();
         continue;
       }
-      this.close(wholeEarlier ? this.lastZero : q, wholeEarlier);
+      // No sync code where the frame ended: the next frame's own sync code may be the damaged part.
+      const brokenSync = wholeEarlier || this.pendingHeader || next.sampleNumber <= expected ? -1 : this.endBeforeBrokenSync(q);
+      if (brokenSync > 0) this.close(brokenSync, true);
+      else this.close(wholeEarlier ? this.lastZero : q, wholeEarlier);
       this.begin(next, q);
     }
   }

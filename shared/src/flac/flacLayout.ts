@@ -15,6 +15,8 @@ import { parseFrameHeader } from "./flacFramer.ts";
 export interface FlacStreamInfo {
   minBlockSize: number;
   maxBlockSize: number;
+  /** Smallest and largest frame in bytes as the encoder wrote them; 0 when it did not know. */
+  minFrameSize: number;
   maxFrameSize: number;
   sampleRateHz: number;
   channels: number;
@@ -64,6 +66,7 @@ export function parseStreamInfo(b: Uint8Array): FlacStreamInfo {
   if (b.length < 34) throw new WavFormatError("bad-fmt-chunk", `STREAMINFO is ${b.length} bytes; 34 expected (RFC 9639, 8.2)`);
   const minBlockSize = (b[0] << 8) | b[1];
   const maxBlockSize = (b[2] << 8) | b[3];
+  const minFrameSize = (b[4] << 16) | (b[5] << 8) | b[6];
   const maxFrameSize = (b[7] << 16) | (b[8] << 8) | b[9];
   const sampleRateHz = (b[10] << 12) | (b[11] << 4) | (b[12] >> 4);
   const channels = ((b[12] >> 1) & 7) + 1;
@@ -72,7 +75,7 @@ export function parseStreamInfo(b: Uint8Array): FlacStreamInfo {
   let md5: string | null = "";
   for (let i = 18; i < 34; i++) md5 += b[i].toString(16).padStart(2, "0");
   if (/^0+$/.test(md5)) md5 = null;
-  return { minBlockSize, maxBlockSize, maxFrameSize, sampleRateHz, channels, bitsPerSample, totalSamples, md5 };
+  return { minBlockSize, maxBlockSize, minFrameSize, maxFrameSize, sampleRateHz, channels, bitsPerSample, totalSamples, md5 };
 }
 
 function validate(info: FlacStreamInfo): void {
