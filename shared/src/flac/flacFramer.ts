@@ -183,6 +183,8 @@ class Framer implements FlacFramer {
   private view: Uint8Array;
   /** File offset of buf[0]. */
   private base: number;
+  /** File offset just past the last frame settled (decoded, lost or cut off). */
+  private endOffset: number;
   /** The open frame's header and start, or null while searching for sync. */
   private cur: FlacFrameHeader | null = null;
   private curStart = 0;
@@ -209,6 +211,7 @@ class Framer implements FlacFramer {
     this.buf = new Uint8Array(Math.max(1 << 20, 2 * this.maxFrameBytes));
     this.view = this.buf.subarray(0, 0);
     this.base = firstOffset;
+    this.endOffset = firstOffset;
   }
 
   push(bytes: Uint8Array): void {
@@ -223,7 +226,6 @@ class Framer implements FlacFramer {
    * total (a header at or past it is a false sync code), and whether libFLAC accepted the frame.
    */
   finish(): { trailingBytes: number } {
-    let trailingBytes = 0;
     for (;;) {
       this.process(true);
       const h = this.cur;
@@ -246,34 +248,34 @@ class Framer implements FlacFramer {
           continue;
         }
       }
-      let end = this.firstDecodableEnd(h);
-      if (end < 0 && open.atEnd) {
+      if (this.firstDecodableEnd(h) > 0) break;
+      if (open.atEnd) {
         // Whole by its CRC-16 to the last byte, yet libFLAC turned it down: decoded as any frame, its finding says why.
-        end = this.len;
-        this.close(end, true);
-      }
-      if (end > 0) {
-        trailingBytes = this.len - end;
-        if (trailingBytes > 0 && total > this.nextSample) {
-          if (this.isCutShort(trailingBytes)) {
-            // Fewer bytes than the smallest frame: the start of a frame the file was cut in (its header
-            // incomplete); the truncated finding reports the missing samples.
-            trailingBytes = 0;
-          } else if (this.lastFrameLost() && (this.info.minFrameSize > 0 || trailingBytes > MAX_HEADER_BYTES)) {
-            // Exactly the last frame's samples are missing and its bytes are there: that frame, its header
-            // damaged (a lost sync code or a failing CRC-8), rather than data appended to the stream.
-            this.gapTo(total, this.base + end, `lost sync: no valid frame header in the last ${trailingBytes} bytes`);
-            trailingBytes = 0;
-          }
-        }
+        this.close(this.len, true);
       } else if (this.isCutShort(this.len - this.curStart) || total > h.sampleNumber + h.blockSize) {
         // Frames after this one are missing too, so the file was cut, most likely inside this frame.
         this.cutOff();
       } else this.close(this.len, false);
       break;
     }
-    // With no frame open, the bytes since the last one were already reported as a gap.
-    return { trailingBytes };
+    return { trailingBytes: this.settleRest() };
+  }
+
+  /**
+   * The bytes after the last frame: data appended to a complete stream (trailing bytes), or, while STREAMINFO
+   * still misses samples, part of the audio: the last frame with its header damaged (a lost sync code or a
+   * failing CRC-8) when exactly its samples are missing and it is not shorter than the smallest frame, else the
+   * start of a frame the file was cut in, or damage, which the truncated finding reports.
+   */
+  private settleRest(): number {
+    const rest = this.base + this.len - this.endOffset;
+    const total = this.info.totalSamples;
+    if (rest <= 0) return 0;
+    if (total <= this.nextSample) return rest;
+    if (this.lastFrameLost() && !this.isCutShort(rest) && (this.info.minFrameSize > 0 || rest > MAX_HEADER_BYTES)) {
+      this.gapTo(total, this.endOffset, `lost sync: no valid frame header in the last ${rest} bytes`);
+    }
+    return 0;
   }
 
   /**
@@ -298,6 +300,7 @@ class Framer implements FlacFramer {
       this.nextSample = h.sampleNumber + h.blockSize;
       this.cur = null;
       this.scan = i + 1;
+      this.endOffset = this.base + i + 1;
       this.pendingAt = -1;
       this.pendingHeader = null;
       return i + 1;
@@ -354,6 +357,7 @@ class Framer implements FlacFramer {
     this.gapBefore();
     this.cur = null;
     this.scan = this.len;
+    this.endOffset = this.base + this.len;
     this.pendingAt = -1;
     this.pendingHeader = null;
   }
@@ -422,6 +426,7 @@ class Framer implements FlacFramer {
     } else this.gapTo(h.sampleNumber + h.blockSize, offset, "frame CRC-16 mismatch");
     this.cur = null;
     this.scan = end;
+    this.endOffset = this.base + end;
     this.pendingAt = -1;
     this.pendingHeader = null;
   }
@@ -434,9 +439,19 @@ class Framer implements FlacFramer {
     this.begin(next, at);
   }
 
-  /** The open frame is longer than any real frame: given up at the pending header, or at that length. */
+  /**
+   * The open frame is longer than any real frame: it ended at the pending header (damaged), or whole at a later
+   * sync code where its CRC-16 held but no header followed, or whole before a damaged sync code; else it is lost
+   * up to that length and the search starts again.
+   */
   private giveUp(): void {
-    if (this.pendingHeader) this.resolvePending();
+    if (this.pendingHeader && this.lastZero <= this.pendingAt) {
+      this.resolvePending();
+      return;
+    }
+    // Whole up to a sync code whose header was damaged, or up to a damaged sync code; else lost.
+    const end = this.lastZero > this.curStart ? this.lastZero : this.endBeforeBrokenSync(this.curStart + this.maxFrameBytes);
+    if (end > 0) this.close(end, true);
     else this.close(this.curStart + this.maxFrameBytes, false);
   }
 
