@@ -11,6 +11,11 @@
  * CRC-16 comes to 0 at a header, and falls back to the first one once the next frame's header shows the frame
  * was damaged after all. Only frames whose CRC-16 held reach the caller: libFLAC's WebAssembly build, given
  * damaged frames unchecked, was seen to fault (out-of-bounds memory access) on a file with many flipped bytes.
+ *
+ * The last frame has no next header: it ends at the first CRC-16 zero libFLAC decodes whole (offered as
+ * `tentative`), and what follows is trailing data only when STREAMINFO's total is complete; otherwise it is
+ * the last frame with a damaged header (lost at its time) or a frame cut off by the end of the file (left to
+ * the caller's truncated finding). tests/cli/flacStreamEnd.test.ts checks this on files made by Debian's flac.
  */
 import type { FlacStreamInfo } from "./flacLayout.ts";
 
