@@ -35,8 +35,6 @@ export async function createFlacStreamDecoder(
   onBlock: (block: AudioBlock) => void,
 ): Promise<FlacStreamDecoder> {
   const decoder = await createLibflacFrames();
-  // Prime libFLAC with STREAMINFO so frames that defer rate or depth to it decode.
-  decoder.decode(layout.streamHeader);
   return new FlacStream(layout, blockFrames, onBlock, decoder);
 }
 
@@ -64,6 +62,8 @@ class FlacStream implements FlacStreamDecoder {
   private afterGap = false;
   /** libFLAC must be restarted before the next frame (see restartLibflac). */
   private resync = false;
+  /** libFLAC has seen STREAMINFO (see restartLibflac): only once a frame leaves rate or depth to it. */
+  private primed = false;
   private overran = false;
   private dataStarted = false;
   private readonly libScale: number;
@@ -112,7 +112,7 @@ class FlacStream implements FlacStreamDecoder {
 
   /** `tentative`: the framer's guess at the last frame's end; turned down, unreported, unless libFLAC decodes it whole. */
   private frame(bytes: Uint8Array, header: FlacFrameHeader, tentative: boolean): boolean {
-    if (this.resync) this.restartLibflac();
+    if (this.resync || (header.defersToStreamInfo && !this.primed)) this.restartLibflac(header.defersToStreamInfo);
     const decoded = this.decoder.decode(bytes);
     const samples = Math.min(decoded.samples, header.blockSize);
     const error = decoded.error;
@@ -286,7 +286,7 @@ class FlacStream implements FlacStreamDecoder {
   }
 
   /**
-   * A fresh libFLAC decoder, primed with STREAMINFO, for the frame after a gap or a failed frame. Fed a frame whose
+   * A fresh libFLAC decoder (primed with STREAMINFO where frames need it) for the frame after a gap or a failed frame, or for the first frame that leaves its rate or depth to STREAMINFO. Fed a frame whose
    * number jumps, libFLAC 1.4 reports MISSING_FRAME and (as we read it) writes the missing samples as well; the
    * package keeps one output pointer per call, and its module's heap is fixed at 16 MB. Measured 2026-12-05 on a
    * 600 s 24-bit file with a byte flipped every 97 003: without the restart the free heap fell ≈ 2 MB per 60
@@ -294,10 +294,14 @@ class FlacStream implements FlacStreamDecoder {
    * it the free heap stays flat and the scan ends. A decoder that has seen no frame takes any frame as it comes,
    * and keeps no bytes of a frame it rejected to misread the next one with.
    */
-  private restartLibflac(): void {
+  private restartLibflac(prime: boolean): void {
     this.resync = false;
     this.decoder.restart();
-    this.decoder.decode(this.layout.streamHeader);
+    // STREAMINFO only for frames that need it (a rate or depth their header leaves to it): primed with it,
+    // libFLAC 1.4's WebAssembly build faulted (out-of-bounds access) on the third frame of every 8-channel file
+    // from Debian's flac tried (2026-12-05, 16- and 24-bit); without it, it decodes them whole.
+    this.primed = prime || this.primed;
+    if (this.primed) this.decoder.decode(this.layout.streamHeader);
   }
 
   private gap(sample: number, frames: number, why: string): void {

@@ -25,6 +25,8 @@ export interface FlacFrameHeader {
   blockSize: number;
   /** Bytes of the header including its CRC-8. */
   headerBytes: number;
+  /** The header leaves the sample rate or bit depth to STREAMINFO (code 0, RFC 9639, 9.1.2 and 9.1.4). */
+  defersToStreamInfo: boolean;
 }
 
 export interface FlacFramerEvents {
@@ -138,7 +140,7 @@ export function parseFrameHeader(b: Uint8Array, at: number, end: number, info: F
   if (p + 1 > end || crc8(b, at, p) !== b[p]) return null;
   if (blockSize > info.maxBlockSize) return null;
   const sampleNumber = isVariable ? value : value * info.maxBlockSize;
-  return { sampleNumber, blockSize, headerBytes: p + 1 - at };
+  return { sampleNumber, blockSize, headerBytes: p + 1 - at, defersToStreamInfo: rateCode === 0 || sizeCode === 0 };
 }
 
 export interface FlacFramer {

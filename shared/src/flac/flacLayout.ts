@@ -113,6 +113,25 @@ function parseVorbisComments(b: Uint8Array, out: { key: string; value: string }[
   }
 }
 
+/**
+ * Speaker positions as a WAVE_FORMAT_EXTENSIBLE mask, so loudness weights and the LFE follow the same rules as
+ * for WAV (shared/src/analysis/loudness.ts, speakers.ts): the WAVEFORMATEXTENSIBLE_CHANNEL_MASK Vorbis comment
+ * when the encoder kept the source's mask (Debian's flac writes it from a WAV), else the channel order RFC 9639
+ * (9.1.3) fixes for 3 to 8 channels: L R C; FL FR BL BR; FL FR FC BL BR; FL FR FC LFE BL BR; FL FR FC LFE BC
+ * SL SR; FL FR FC LFE BL BR SL SR. Speaker bits FL 0x1, FR 0x2, FC 0x4, LFE 0x8, BL 0x10, BR 0x20, BC 0x100,
+ * SL 0x200, SR 0x400 (Microsoft's KSAUDIO_SPEAKER definitions, from memory).
+ */
+const RFC9639_MASKS: Record<number, number> = { 3: 0x7, 4: 0x33, 5: 0x37, 6: 0x3f, 7: 0x70f, 8: 0x63f };
+
+function flacChannelMask(channels: number, comments: { key: string; value: string }[]): number | null {
+  const tag = comments.find((c) => c.key === "WAVEFORMATEXTENSIBLE_CHANNEL_MASK")?.value.trim();
+  if (tag && /^(0x[0-9a-f]{1,8}|[0-9]{1,10})$/i.test(tag)) {
+    const mask = Number(tag);
+    if (mask > 0 && mask <= 0xffffffff) return mask;
+  }
+  return RFC9639_MASKS[channels] ?? null;
+}
+
 /** Tail bytes searched for the last frame header when STREAMINFO does not give the total. */
 const TAIL_SEARCH_BYTES = 4 * 1024 * 1024;
 
@@ -193,7 +212,7 @@ export async function readFlacLayout(source: ByteSource): Promise<FlacLayout> {
     totalFrames: streamInfo.totalSamples,
     isTruncated: false,
     isDataSizeUnwritten: false,
-    channelMask: null,
+    channelMask: flacChannelMask(streamInfo.channels, comments),
     fileSizeBytes: fileSize,
     metadata,
     chunks,

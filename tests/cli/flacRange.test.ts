@@ -1,0 +1,104 @@
+/**
+ * Issue #17's FLAC range: 8 to 32 bits, 1 to 8 channels, up to 384 kHz. Each file is made by Debian's sox (a
+ * WAV) and encoded by Debian's flac; the FLAC must measure as its source WAV does: the same decoded samples
+ * (SHA-256 of the floats, up to 24 bits), sample peak, RMS and integrated loudness within 0.01 dB/LU.
+ * Multichannel loudness depends on which channel is which (ITU-R BS.1770-4, Annex 1, Table 3: surrounds 1.41,
+ * LFE left out): the WAV says so in its WAVE_FORMAT_EXTENSIBLE mask, the FLAC in flac's
+ * WAVEFORMATEXTENSIBLE_CHANNEL_MASK tag or, without one, by RFC 9639's fixed channel order (9.1.3).
+ */
+import { createHash } from "node:crypto";
+import { execFileSync, spawnSync } from "node:child_process";
+import { mkdtempSync, readFileSync, rmSync } from "node:fs";
+import { tmpdir } from "node:os";
+import path from "node:path";
+import { afterAll, beforeAll, describe, expect, it } from "vitest";
+import { readAudioFile } from "../../cli/src/audio/readAudioFile.ts";
+import { loadProfile } from "../../cli/src/profiles/loadProfile.ts";
+import { analyseFile, type ScanContext } from "../../cli/src/scan/analyseFile.ts";
+import { fileReportSchema, type FileReport } from "../../shared/src/types/report.ts";
+
+const has = (cmd: string, arg = "--version"): boolean => spawnSync(cmd, [arg], { stdio: "ignore" }).status === 0;
+const toolsPresent = has("sox") && has("flac") && has("metaflac");
+
+let dir: string;
+let context: ScanContext;
+const file = (name: string): string => path.join(dir, name);
+
+beforeAll(async () => {
+  dir = mkdtempSync(path.join(tmpdir(), "tidemark-flac-range-"));
+  const loaded = await loadProfile("preservation-master", dir);
+  context = { profile: loaded.profile, settings: loaded.settings, spectrograms: null, fingerprint: false, closeups: false };
+});
+afterAll(() => rmSync(dir, { recursive: true, force: true }));
+
+/** sox: a tone per channel at its own frequency, so every channel differs. */
+function makeWav(name: string, rate: number, bits: number, channels: number): void {
+  const tones = Array.from({ length: channels }, (_, c) => ["sine", String(220 * (c + 1))]).flat();
+  execFileSync("sox", ["-n", "-r", String(rate), "-b", String(bits), "-c", String(channels), file(name), "synth", "2", ...tones, "gain", "-3"]);
+}
+
+async function scan(name: string): Promise<FileReport> {
+  const { report } = await analyseFile({ absPath: file(name), relPath: name, sizeBytes: 0 }, context);
+  expect(fileReportSchema.safeParse(JSON.parse(JSON.stringify(report))).success).toBe(true);
+  return report;
+}
+
+async function decodedSha(p: string): Promise<string[]> {
+  const hashes: ReturnType<typeof createHash>[] = [];
+  await readAudioFile(p, {
+    onOpen: (info) => {
+      for (let c = 0; c < info.stream.channels; c++) hashes.push(createHash("sha256"));
+      return (block) => {
+        for (let c = 0; c < hashes.length; c++) {
+          const x = block.channels[c].subarray(0, block.frames);
+          hashes[c].update(new Uint8Array(x.buffer, x.byteOffset, x.byteLength));
+        }
+      };
+    },
+  });
+  return hashes.map((h) => h.digest("hex"));
+}
+
+describe.runIf(toolsPresent)("FLAC across its range measures as the WAV it was encoded from (Debian's sox and flac)", () => {
+  it.each([
+    ["8-bit mono", 48000, 8, 1, []],
+    ["16-bit mono 44.1 kHz", 44100, 16, 1, []],
+    ["32-bit stereo", 48000, 32, 2, []],
+    ["24-bit stereo at 384 kHz", 384000, 24, 2, ["--lax"]],
+    ["24-bit quad (FL FR BL BR)", 48000, 24, 4, []],
+    ["24-bit 5.1", 48000, 24, 6, []],
+    ["24-bit 7.1", 48000, 24, 8, []],
+  ] as const)("%s", async (label, rate, bits, channels, flags) => {
+    const stem = label.replace(/[^a-z0-9]+/gi, "-");
+    makeWav(`${stem}.wav`, rate, bits, channels);
+    execFileSync("flac", ["-s", "-f", ...flags, file(`${stem}.wav`), "-o", file(`${stem}.flac`)]);
+    const [flac, wav] = await Promise.all([scan(`${stem}.flac`), scan(`${stem}.wav`)]);
+    expect(flac.error).toBeNull();
+    expect(flac.format).toMatchObject({ container: "flac", bitDepth: bits, channels, sampleRateHz: rate });
+    const m = flac.metrics!;
+    const r = wav.metrics!;
+    expect(Math.abs(m.samplePeakDbfs! - r.samplePeakDbfs!)).toBeLessThanOrEqual(0.01);
+    expect(Math.abs(m.rmsDbfs! - r.rmsDbfs!)).toBeLessThanOrEqual(0.01);
+    expect(Math.abs(m.integratedLufs! - r.integratedLufs!)).toBeLessThanOrEqual(0.01);
+    expect(flac.format!.durationSeconds).toBeCloseTo(2, 9);
+    const codes = flac.findings.map((f) => f.code);
+    expect(codes).not.toContain("decode-error");
+    expect(codes).not.toContain("flac-md5-mismatch");
+    // Up to 24 bits the decoded floats are bit for bit the WAV's; libFLAC's WebAssembly build hands out 32-bit
+    // codes as float32, so there the MD5 is not checked (an info finding) and the samples agree to float32 only.
+    if (bits <= 24) expect(await decodedSha(file(`${stem}.flac`))).toEqual(await decodedSha(file(`${stem}.wav`)));
+    else expect(flac.findings.find((f) => f.code === "flac-md5-unset")?.severity).toBe("info");
+  }, 60_000);
+
+  it("a FLAC without the mask tag (metaflac --remove-tag) takes RFC 9639's 7.1 order: the same loudness as the 7.1 WAV", async () => {
+    makeWav("untagged.wav", 48000, 24, 8);
+    execFileSync("flac", ["-s", "-f", file("untagged.wav"), "-o", file("untagged.flac")]);
+    execFileSync("metaflac", ["--remove-tag=WAVEFORMATEXTENSIBLE_CHANNEL_MASK", file("untagged.flac")]);
+    expect(execFileSync("metaflac", ["--export-tags-to=-", file("untagged.flac")], { encoding: "utf8" })).not.toMatch(/CHANNEL_MASK/);
+    // sox writes the 7.1 WAV with mask 0x63F (FL FR FC LFE BL BR SL SR), the order RFC 9639 gives eight channels.
+    const wavBytes = readFileSync(file("untagged.wav"));
+    expect(wavBytes.readUInt32LE(40)).toBe(0x63f);
+    const [flac, wav] = await Promise.all([scan("untagged.flac"), scan("untagged.wav")]);
+    expect(Math.abs(flac.metrics!.integratedLufs! - wav.metrics!.integratedLufs!)).toBeLessThanOrEqual(0.01);
+  });
+});
