@@ -8,13 +8,14 @@
  */
 import { createHash } from "node:crypto";
 import { execFileSync, spawnSync } from "node:child_process";
-import { mkdtempSync, readFileSync, rmSync } from "node:fs";
+import { mkdtempSync, readFileSync, rmSync, writeFileSync } from "node:fs";
 import { tmpdir } from "node:os";
 import path from "node:path";
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import { readAudioFile } from "../../cli/src/audio/readAudioFile.ts";
 import { loadProfile } from "../../cli/src/profiles/loadProfile.ts";
 import { analyseFile, type ScanContext } from "../../cli/src/scan/analyseFile.ts";
+import { crc16, crc8 } from "../../shared/src/flac/flacFramer.ts";
 import { fileReportSchema, type FileReport } from "../../shared/src/types/report.ts";
 
 const has = (cmd: string, arg = "--version"): boolean => spawnSync(cmd, [arg], { stdio: "ignore" }).status === 0;
@@ -100,5 +101,38 @@ describe.runIf(toolsPresent)("FLAC across its range measures as the WAV it was e
     expect(wavBytes.readUInt32LE(40)).toBe(0x63f);
     const [flac, wav] = await Promise.all([scan("untagged.flac"), scan("untagged.wav")]);
     expect(Math.abs(flac.metrics!.integratedLufs! - wav.metrics!.integratedLufs!)).toBeLessThanOrEqual(0.01);
+  });
+
+  it("frames that leave rate and bit depth to STREAMINFO (codes 0) decode as the WAV: flac -t accepts the rewritten file", async () => {
+    makeWav("defer.wav", 48000, 24, 2);
+    execFileSync("flac", ["-s", "-f", file("defer.wav"), "-o", file("defer.flac")]);
+    execFileSync("flac", ["-s", "-a", "-f", file("defer.flac"), "-o", file("defer.ana")]);
+    const bytes = new Uint8Array(readFileSync(file("defer.flac")));
+    const offsets = [...readFileSync(file("defer.ana"), "latin1").matchAll(/^frame=\d+\toffset=(\d+)/gm)].map((m) => Number(m[1]));
+    offsets.push(bytes.length);
+    for (let k = 0; k + 1 < offsets.length; k++) {
+      const at = offsets[k];
+      const end = offsets[k + 1];
+      // Header (RFC 9639, 9.1): byte 2's low nibble is the rate code, byte 3's bits 3-1 the sample size code;
+      // 0 means "from STREAMINFO". The CRC-8 sits after the coded number and any block-size bytes (none with
+      // flac -8's 4096-sample frames, a one-byte number below 128 frames); the CRC-16 ends the frame.
+      expect(bytes[at + 2] & 0x0f).toBe(10);
+      bytes[at + 2] &= 0xf0;
+      bytes[at + 3] &= 0xf1;
+      const last = (bytes[at + 2] >> 4) === 7 ? 2 : (bytes[at + 2] >> 4) === 6 ? 1 : 0;
+      const crcAt = at + 5 + last;
+      bytes[crcAt] = crc8(bytes, at, crcAt);
+      const c = crc16(bytes, at, end - 2, 0);
+      bytes[end - 2] = c >> 8;
+      bytes[end - 1] = c & 0xff;
+    }
+    writeFileSync(file("deferred.flac"), bytes);
+    // Debian's flac: still valid FLAC, and every frame header now defers to STREAMINFO.
+    expect(spawnSync("flac", ["-s", "-t", file("deferred.flac")]).status).toBe(0);
+    const [flac, wav] = await Promise.all([scan("deferred.flac"), scan("defer.wav")]);
+    expect(flac.findings.map((f) => f.code)).not.toContain("decode-error");
+    expect(flac.findings.map((f) => f.code)).not.toContain("flac-md5-mismatch");
+    expect(Math.abs(flac.metrics!.integratedLufs! - wav.metrics!.integratedLufs!)).toBeLessThanOrEqual(0.01);
+    expect(await decodedSha(file("deferred.flac"))).toEqual(await decodedSha(file("defer.wav")));
   });
 });
