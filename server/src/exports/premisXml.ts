@@ -50,8 +50,11 @@ export interface PremisDocument {
   agents: PremisAgent[];
 }
 
-/** Common practice for the PREMIS format name of the containers Tidemark reads. */
-const FORMAT_NAMES: Record<string, string> = { wav: "WAVE", bwf: "Broadcast WAVE", rf64: "RF64" };
+/**
+ * Common practice for the PREMIS format name of the containers Tidemark reads (the names format registries
+ * such as PRONOM and the Library of Congress format descriptions use, from memory).
+ */
+const FORMAT_NAMES: Record<string, string> = { wav: "WAVE", bwf: "Broadcast WAVE", rf64: "RF64", flac: "FLAC", aiff: "AIFF", aifc: "AIFF-C" };
 
 const LOCAL = "local";
 const objectIdValue = (fileResultId: number): string => `tidemark:file-result:${fileResultId}`;
