@@ -74,6 +74,10 @@ it(`answers every sort and filter with p95 < ${P95_LIMIT_MS} ms`, async () => {
     // The finding's files sit after every passing one in verdict order: the longest index walk.
     ["finding=hum&sort=verdict", "finding_codes @> array['hum']"],
     ["q=take-07&sort=createdAt&order=desc", "path like '%take-07%'"],
+    // Every seeded readable file is a BWF: the container filter (issue #17) walks nearly the whole index.
+    ["container=bwf&sort=truePeakDbtp&order=asc", "format ->> 'container' = 'bwf'"],
+    ["container=flac&sort=path", "format ->> 'container' = 'flac'"],
+    ["q=take-07&container=bwf&sort=durationSeconds", "path like '%take-07%' and format ->> 'container' = 'bwf'"],
     [
       `verdict=warn&reviewState=pending&collection=${seeded.collectionIds[0]}&finding=dc-offset&sort=verdict`,
       `verdict = 'warn' and review_state = 'pending' and collection_id = ${seeded.collectionIds[0]} and finding_codes @> array['dc-offset']`,
@@ -104,6 +108,8 @@ it("returns the same pages as a plain ORDER BY, by number (flipped last pages to
     // The search is case-insensitive (`TAKE` finds "take"): the same rows as PostgreSQL's own ILIKE.
     ["q=TAKE-07&sort=path&order=desc", "path ilike '%take-07%'", "path desc, id desc"],
     ["verdict=pass&sort=truePeakDbtp&order=desc", "verdict = 'pass'", "true_peak_dbtp desc nulls last, id desc"],
+    // The container filter (issue #17): every readable seeded file is a BWF, the error rows have no format.
+    ["container=bwf&sort=durationSeconds&order=asc", "format ->> 'container' = 'bwf'", "duration_seconds asc nulls first, id asc"],
     // NULL levels first: the first pages walk NULLs (stored as −Infinity), then cross to values.
     ["sort=integratedLufs&order=asc", "true", "integrated_lufs asc nulls first, id asc"],
     // NULL durations last: the last pages cross from values to NULLs.

@@ -3,7 +3,7 @@
  * damaged FLAC, an empty AIFF and a FLAC with a Latin-1 name goes through `tidemark scan --upload` and through
  * `tidemark enqueue` + a real `tidemark worker` to a real server (server/src/main.ts, child process). Both must
  * store what a local `tidemark scan` measures (container, encoding, verdict, finding codes, loudness), the
- * portal's Files list must show each container and the files CSV export must carry it.
+ * portal's Files list must show and filter by each container and the files CSV export must carry it.
  * The inputs are made by Debian's flac, sox and ffmpeg, the outside reference for what each file is; each
  * stored SHA-256 is checked against the file's bytes hashed by OpenSSL (node:crypto).
  */
@@ -158,6 +158,16 @@ describe.runIf(tools)("FLAC, AIFF, AIFF-C, G.711 WAV and a Latin-1 name from sca
     const page = await api<FilePage>(`/api/files?batch=${uploaded[0].batchId}&pageSize=50`);
     const shown = Object.fromEntries(page.items.map((f) => [f.path, f.format?.container]));
     for (const [p, [container]] of Object.entries(EXPECTED)) expect(shown[p], p).toBe(container);
+
+    // The Files list's container filter (GET /api/files?container=…), checked against the containers the tools wrote.
+    for (const container of ["flac", "aiff", "aifc", "wav", "bwf"]) {
+      const filtered = await api<FilePage>(`/api/files?batch=${uploaded[0].batchId}&container=${container}&pageSize=50`);
+      const want = Object.entries(EXPECTED).filter(([, [c]]) => c === container).map(([p]) => p).sort();
+      expect(filtered.items.map((f) => f.path).sort(), container).toEqual(want);
+      expect(filtered.total, container).toBe(want.length);
+    }
+    const unknown = await fetch(`${server!.url}/api/files?container=mp3`, { headers: { authorization: `Bearer ${token}` } });
+    expect(unknown.status).toBe(400);
 
     const csv = await fetch(`${server!.url}/api/exports/files.csv?collection=${uploaded[0].collectionId}`, { headers: { authorization: `Bearer ${auditorToken}` } });
     expect(csv.status).toBe(200);

@@ -185,6 +185,37 @@ describe("Files table", () => {
     expect(alert.textContent).toContain("The database did not answer.");
   });
 
+  it("filters by container (issue #17's FLAC, AIFF and AIFF-C among them), from the select and from a link", async () => {
+    const stub = serve("technician");
+    const { router } = renderApp("/files?container=flac");
+    await rows();
+    const select = screen.getByLabelText("Container") as HTMLSelectElement;
+    expect(select.value).toBe("flac");
+    expect(lastListQuery(stub).get("container")).toBe("flac");
+    expect([...select.options].map((o) => [o.value, o.text])).toEqual([
+      ["", "Any"],
+      ["wav", "WAV"],
+      ["bwf", "BWF"],
+      ["rf64", "RF64"],
+      ["flac", "FLAC"],
+      ["aiff", "AIFF"],
+      ["aifc", "AIFF-C"],
+    ]);
+    fireEvent.change(select, { target: { value: "aifc" } });
+    await waitFor(() => expect(router.state.location.search).toBe("?container=aifc"));
+    await waitFor(() => expect(lastListQuery(stub).get("container")).toBe("aifc"));
+    fireEvent.change(select, { target: { value: "" } });
+    await waitFor(() => expect(router.state.location.search).toBe(""));
+    await waitFor(() => expect(lastListQuery(stub).has("container")).toBe(false));
+  });
+
+  it("drops a container the contract does not know from the address bar instead of sending it", async () => {
+    const stub = serve("technician");
+    renderApp("/files?container=mp3");
+    await rows();
+    expect(lastListQuery(stub).has("container")).toBe(false);
+  });
+
   it("tells an empty filtered view apart from an empty archive", async () => {
     serve("technician").on("GET", "/api/files", { body: filePage([], 0) });
     renderApp("/files?verdict=error");

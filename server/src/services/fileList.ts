@@ -141,6 +141,7 @@ function listConditions(query: FileListQuery): { conds: string[]; bind: unknown[
   if (query.verdict) add((n) => `f.verdict = ${n}::verdict`, query.verdict);
   if (query.reviewState) add((n) => `f.review_state = ${n}::review_state`, query.reviewState);
   if (query.finding) add((n) => `f.finding_codes @> array[${n}::text]`, query.finding);
+  if (query.container) add((n) => `(f.format ->> 'container') = ${n}`, query.container);
   if (query.q) add((n) => `f.path ilike ${n}`, `%${escapeLike(query.q)}%`);
   return { conds, bind };
 }
@@ -214,7 +215,10 @@ export interface PageWindow {
   flipped: boolean;
 }
 
-/** The columns a forced walk reads from the sort's covering index: the filter columns it INCLUDEs. */
+/**
+ * The columns a forced walk reads from the sort's covering index: the filter columns it INCLUDEs. The
+ * container filter (issue #17) reads `format` from the row as well, so a search with it visits the heap.
+ */
 const WALK_COLUMNS = "f.id, f.path, f.batch_id, f.collection_id, f.verdict, f.review_state, f.finding_codes";
 
 /**
@@ -243,7 +247,7 @@ export function pageQuery(query: FileListQuery, { offset, limit, flipped }: Page
   const fetch = limit + 1;
   const orderBy = (v: string, id: string): string => `order by ${v} ${dir}, ${id} ${dir}`;
   const source = walk
-    ? `(select ${WALK_COLUMNS}, f.${column} as sort_value from file_results f ${whereSql(seek ? [seek] : [])}
+    ? `(select ${WALK_COLUMNS}${query.container ? ", f.format" : ""}, f.${column} as sort_value from file_results f ${whereSql(seek ? [seek] : [])}
          ${orderBy(`f.${column}`, "f.id")} offset 0) f ${whereSql(conds)} ${orderBy("f.sort_value", "f.id")}`
     : `file_results f ${whereSql(seek ? [...conds, seek] : conds)} ${orderBy(`f.${column}`, "f.id")}`;
   const page = `page as materialized (select f.id, ${walk ? "f.sort_value" : `f.${column} as sort_value`} from ${source}
@@ -262,7 +266,7 @@ export function pageQuery(query: FileListQuery, { offset, limit, flipped }: Page
 export async function listFiles(sequelize: Sequelize, query: FileListQuery, totals: ListTotals): Promise<FileListPage> {
   const { sort, order } = effectiveSort(query);
   const filters = listConditions(query);
-  const filterKey = JSON.stringify([query.batch, query.collection, query.verdict, query.reviewState, query.finding, query.q]);
+  const filterKey = JSON.stringify([query.batch, query.collection, query.verdict, query.reviewState, query.finding, query.q, query.container]);
   const filterSql = whereSql(filters.conds);
   const { total, exact } = await totals.count(filterKey, {
     // On one core: a parallel count of a million rows would take every core from the pages being served.

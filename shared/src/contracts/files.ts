@@ -4,7 +4,7 @@
  * more field here: the server, the portal's address bar and its requests all follow.
  */
 import { z } from "zod";
-import { FINDING_CODES, VERDICTS } from "../types/codes.ts";
+import { CONTAINERS, FINDING_CODES, VERDICTS } from "../types/codes.ts";
 import { FILE_SORT_KEYS, REVIEW_STATES } from "../types/api.ts";
 import { blankToUndefined, INT32_MAX, optionalEnum, optionalId, optionalText, orderParam, pageParams } from "./fields.ts";
 import type { QueryOf } from "./searchParams.ts";
@@ -20,6 +20,8 @@ export const fileQueryFields = {
   verdict: optionalEnum(VERDICTS),
   reviewState: optionalEnum(REVIEW_STATES),
   finding: optionalEnum(FINDING_CODES),
+  /** `format.container` of the stored report ("flac", "aiff", "aifc", "wav", "bwf", "rf64"). */
+  container: optionalEnum(CONTAINERS),
   q: optionalText(200),
   sort: optionalEnum(FILE_SORT_KEYS),
   order: orderParam,

@@ -1,6 +1,6 @@
 import { useState, type FormEvent } from "react";
 import { REVIEW_STATES, type FileQuery } from "@tidemark/shared/types/api";
-import { FINDING_CODES, VERDICTS } from "@tidemark/shared/types/codes";
+import { CONTAINERS, FINDING_CODES, VERDICTS } from "@tidemark/shared/types/codes";
 import { useCollections } from "../../api/batches.ts";
 import { buttonClass, SelectField, TextField } from "../fields.tsx";
 
@@ -25,6 +25,16 @@ function SearchForm({ initial, onSearch }: { initial: string; onSearch: (q: stri
     </form>
   );
 }
+
+/** How each container is named in the portal (its file format's usual name). */
+const CONTAINER_LABELS: Record<(typeof CONTAINERS)[number], string> = {
+  wav: "WAV",
+  bwf: "BWF",
+  rf64: "RF64",
+  flac: "FLAC",
+  aiff: "AIFF",
+  aifc: "AIFF-C",
+};
 
 function CollectionSelect({ value, onChange }: { value: number | undefined; onChange: (id: number | undefined) => void }) {
   const collections = useCollections();
@@ -77,6 +87,14 @@ export function FileFilters({ query, onChange, onClear }: FileFiltersProps) {
         {FINDING_CODES.map((code) => (
           <option key={code} value={code}>
             {code}
+          </option>
+        ))}
+      </SelectField>
+      <SelectField label="Container" value={query.container ?? ""} onChange={(e) => onChange({ container: (e.target.value || undefined) as FileQuery["container"] })} className="w-28">
+        <option value="">Any</option>
+        {CONTAINERS.map((c) => (
+          <option key={c} value={c}>
+            {CONTAINER_LABELS[c]}
           </option>
         ))}
       </SelectField>

@@ -37,5 +37,5 @@ export function filesLink(query: FileQuery): string {
 }
 
 export function hasFilters(query: FileQuery): boolean {
-  return Boolean(query.batch || query.collection || query.verdict || query.reviewState || query.finding || query.q);
+  return Boolean(query.batch || query.collection || query.verdict || query.reviewState || query.finding || query.container || query.q);
 }
