@@ -209,6 +209,18 @@ describe("Files table", () => {
     await waitFor(() => expect(lastListQuery(stub).has("container")).toBe(false));
   });
 
+  it("shows a name that is not UTF-8 as the server sends it, with U+FFFD where the bytes were (issue #17)", async () => {
+    const latin1 = fileSummary(1, {
+      path: "R\uFFFDels/caf\uFFFD.flac",
+      format: { container: "flac", encoding: "pcm", sampleRateHz: 48000, bitDepth: 24, channels: 2, durationSeconds: 4 },
+    });
+    serve("technician").on("GET", "/api/files", { body: filePage([latin1]) });
+    renderApp("/files");
+    const link = await screen.findByRole("link", { name: "R\uFFFDels/caf\uFFFD.flac" });
+    expect(link.getAttribute("href")).toBe("/files/1");
+    expect(screen.getByText("48 kHz · 24-bit · stereo")).toBeTruthy();
+  });
+
   it("drops a container the contract does not know from the address bar instead of sending it", async () => {
     const stub = serve("technician");
     renderApp("/files?container=mp3");
