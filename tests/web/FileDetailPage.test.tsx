@@ -26,6 +26,16 @@ function loadImage(alt: RegExp, width: number, height: number) {
 }
 
 describe("File page", () => {
+  it("names the container as its format is called (AIFF-C, not the code aifc) and the G.711 encoding", async () => {
+    const base = fileDetail(7);
+    serve("technician", fileDetail(7, { format: { ...base.format!, container: "aifc", encoding: "alaw", bitDepth: 8 } }));
+    renderApp("/files/7");
+    await screen.findByRole("heading", { name: "ferry/interview-07.wav" });
+    const container = screen.getByText("Container");
+    expect(container.nextElementSibling?.textContent).toBe("AIFF-C");
+    expect(screen.getByText("Encoding").nextElementSibling?.textContent).toBe("A-law");
+  });
+
   it("lays finding markers over the plot area at their time, and highlights the one picked in the table", async () => {
     serve("technician");
     renderApp("/files/7");

@@ -64,6 +64,13 @@ export function formatChannels(channels: number): string {
   return `${channels} ch`;
 }
 
+const CONTAINER_NAMES: Record<AudioFormat["container"], string> = { wav: "WAV", bwf: "BWF", rf64: "RF64", flac: "FLAC", aiff: "AIFF", aifc: "AIFF-C" };
+
+/** A container as its file format is usually called (the Files filter and the file page alike). */
+export function formatContainer(container: AudioFormat["container"]): string {
+  return CONTAINER_NAMES[container];
+}
+
 const ENCODING_NAMES: Record<AudioFormat["encoding"], string> = { pcm: "PCM", float: "floating point", alaw: "A-law", mulaw: "µ-law" };
 
 export function formatEncoding(encoding: AudioFormat["encoding"]): string {

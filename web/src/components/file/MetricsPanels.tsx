@@ -4,6 +4,7 @@ import {
   formatAudioFormat,
   formatBytes,
   formatChannels,
+  formatContainer,
   formatDuration,
   formatEncoding,
   formatHz,
@@ -44,7 +45,7 @@ export function MetricsPanels({ file }: { file: FileDetailDto }) {
   const m = file.metrics;
   const f = file.format;
   const formatRows: [string, ReactNode][] = [
-    ["Container", f ? f.container.toUpperCase() : NOT_MEASURED],
+    ["Container", f ? formatContainer(f.container) : NOT_MEASURED],
     ["Encoding", f ? formatEncoding(f.encoding) : NOT_MEASURED],
     ["Sample rate", f ? formatSampleRate(f.sampleRateHz) : NOT_MEASURED],
     ["Bit depth", f ? `${f.bitDepth} bit` : NOT_MEASURED],

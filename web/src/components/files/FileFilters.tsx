@@ -2,6 +2,7 @@ import { useState, type FormEvent } from "react";
 import { REVIEW_STATES, type FileQuery } from "@tidemark/shared/types/api";
 import { CONTAINERS, FINDING_CODES, VERDICTS } from "@tidemark/shared/types/codes";
 import { useCollections } from "../../api/batches.ts";
+import { formatContainer } from "../../format/units.ts";
 import { buttonClass, SelectField, TextField } from "../fields.tsx";
 
 interface FileFiltersProps {
@@ -25,16 +26,6 @@ function SearchForm({ initial, onSearch }: { initial: string; onSearch: (q: stri
     </form>
   );
 }
-
-/** How each container is named in the portal (its file format's usual name). */
-const CONTAINER_LABELS: Record<(typeof CONTAINERS)[number], string> = {
-  wav: "WAV",
-  bwf: "BWF",
-  rf64: "RF64",
-  flac: "FLAC",
-  aiff: "AIFF",
-  aifc: "AIFF-C",
-};
 
 function CollectionSelect({ value, onChange }: { value: number | undefined; onChange: (id: number | undefined) => void }) {
   const collections = useCollections();
@@ -94,7 +85,7 @@ export function FileFilters({ query, onChange, onClear }: FileFiltersProps) {
         <option value="">Any</option>
         {CONTAINERS.map((c) => (
           <option key={c} value={c}>
-            {CONTAINER_LABELS[c]}
+            {formatContainer(c)}
           </option>
         ))}
       </SelectField>
