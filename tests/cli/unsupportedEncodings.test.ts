@@ -28,18 +28,20 @@ beforeAll(async () => {
 });
 afterAll(() => rmSync(dir, { recursive: true, force: true }));
 
-const ffmpeg = (codec: string, out: string, format?: string): void =>
-  void execFileSync("ffmpeg", ["-loglevel", "error", "-y", "-i", file("src.wav"), "-c:a", codec, ...(format ? ["-f", format] : []), file(out)]);
+const ffmpeg = (codec: string, out: string, format?: string): void => {
+  execFileSync("ffmpeg", ["-loglevel", "error", "-y", "-i", file("src.wav"), "-c:a", codec, ...(format ? ["-f", format] : []), file(out)]);
+};
 const probedCodec = (name: string): string =>
   execFileSync("ffprobe", ["-v", "error", "-select_streams", "a:0", "-show_entries", "stream=codec_name", "-of", "csv=p=0", file(name)], { encoding: "utf8" }).trim();
 
 describe.runIf(tools)("still-unsupported encodings name what they are", () => {
-  it.each([
-    ["gsm.wav", () => void execFileSync("sox", [file("src.wav"), "-e", "gsm-full-rate", file("gsm.wav")]), "gsm_ms", /format tag 0x0031 \(GSM 6\.10\) is not supported/],
+  const cases: [string, () => void, string, RegExp][] = [
+    ["gsm.wav", () => execFileSync("sox", [file("src.wav"), "-e", "gsm-full-rate", file("gsm.wav")]), "gsm_ms", /format tag 0x0031 \(GSM 6\.10\) is not supported/],
     ["ima.wav", () => ffmpeg("adpcm_ima_wav", "ima.wav"), "adpcm_ima_wav", /format tag 0x0011 \(IMA ADPCM\) is not supported/],
     ["msadpcm.wav", () => ffmpeg("adpcm_ms", "msadpcm.wav"), "adpcm_ms", /format tag 0x0002 \(Microsoft ADPCM\) is not supported/],
     ["ima4.aifc", () => ffmpeg("adpcm_ima_qt", "ima4.aifc", "aiff"), "adpcm_ima_qt", /AIFF-C compression type "ima4" is not supported/],
-  ] as const)("%s → unsupported-encoding, naming it", async (name, make, codec, message) => {
+  ];
+  it.each(cases)("%s → unsupported-encoding, naming it", async (name, make, codec, message) => {
     make();
     expect(probedCodec(name)).toBe(codec);
     const { report } = await analyseFile({ absPath: file(name), relPath: name, sizeBytes: 0 }, context);

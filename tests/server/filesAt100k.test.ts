@@ -110,6 +110,8 @@ it("returns the same pages as a plain ORDER BY, by number (flipped last pages to
     ["verdict=pass&sort=truePeakDbtp&order=desc", "verdict = 'pass'", "true_peak_dbtp desc nulls last, id desc"],
     // The container filter (issue #17): every readable seeded file is a BWF, the error rows have no format.
     ["container=bwf&sort=durationSeconds&order=asc", "format ->> 'container' = 'bwf'", "duration_seconds asc nulls first, id asc"],
+    // A search with a container: left to the planner, not walked (fileList.ts, listFiles).
+    ["q=take-07&container=bwf&sort=path&order=asc", "path ilike '%take-07%' and format ->> 'container' = 'bwf'", "path asc, id asc"],
     // NULL levels first: the first pages walk NULLs (stored as −Infinity), then cross to values.
     ["sort=integratedLufs&order=asc", "true", "integrated_lufs asc nulls first, id asc"],
     // NULL durations last: the last pages cross from values to NULLs.
