@@ -10,6 +10,7 @@ import type { AudioBlock } from "@tidemark/shared/types/analysis";
 import type { Finding } from "@tidemark/shared/types/report";
 import { createFlacFramer, type FlacFrameHeader, type FlacFramer } from "@tidemark/shared/flac/flacFramer";
 import type { FlacLayout } from "@tidemark/shared/flac/flacLayout";
+import { WavFormatError } from "@tidemark/shared/wav/errors";
 import { createLibflacFrames, type LibflacFrames } from "./libflacFrames.ts";
 
 const FRAMER_SLICE_BYTES = 256 * 1024;
@@ -29,11 +30,26 @@ export interface FlacStreamDecoder {
   readonly trailingBytes: number;
 }
 
+/**
+ * Sample depths libFLAC's WebAssembly build hands out: its write callback (@wasm-audio-decoders/flac 0.2.x,
+ * src/flac_decoder.c) divides by 2^(bits−1) − 1 only for 8, 16, 24 and 32 bits and leaves the divisor unset
+ * otherwise. A 12- or 20-bit FLAC from Debian's flac came back as ±Infinity (measured 2026-12-05: −23 LUFS
+ * and clipping for a −3 LUFS tone), so other depths are refused rather than measured wrong.
+ */
+const DECODABLE_BITS: ReadonlySet<number> = new Set([8, 16, 24, 32]);
+
 export async function createFlacStreamDecoder(
   layout: FlacLayout,
   blockFrames: number,
   onBlock: (block: AudioBlock) => void,
 ): Promise<FlacStreamDecoder> {
+  const bits = layout.streamInfo.bitsPerSample;
+  if (!DECODABLE_BITS.has(bits)) {
+    throw new WavFormatError(
+      "unsupported-encoding",
+      `FLAC with ${bits}-bit samples is not decoded: the bundled libFLAC build hands out 8-, 16-, 24- and 32-bit samples only`,
+    );
+  }
   const decoder = await createLibflacFrames();
   return new FlacStream(layout, blockFrames, onBlock, decoder);
 }
