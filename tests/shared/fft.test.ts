@@ -98,6 +98,24 @@ describe("createSpectrumAnalyzer", () => {
     expect(() => createSpectrumAnalyzer(n)).toThrow(new RegExp(`power of two > 1, got ${n}`));
   });
 
+  // The Welch sums of a scan without images add each frame's spectrum in one pass (issue #22): the sum must hold
+  // exactly the doubles that amplitudeSquared gives, added in the same order, on either engine.
+  it.each([["auto", 2048], ["fft.js", 2048], ["auto", 64]] as const)("adds amplitudeSquared to a sum bit for bit (%s, N = %i)", (engine, n) => {
+    const a = createSpectrumAnalyzer(n, { engine });
+    const expected = new Float64Array(a.binCount);
+    const sum = new Float64Array(a.binCount);
+    const spectrum = new Float64Array(a.binCount);
+    for (let frame = 0; frame < 3; frame++) {
+      const x = Float32Array.from(randomFrame(n, 100 + frame));
+      a.amplitudeSquared(x, spectrum);
+      for (let k = 0; k < a.binCount; k++) expected[k] += spectrum[k];
+      a.addAmplitudeSquared(x, sum);
+    }
+    expect(sum.some((v) => v > 0)).toBe(true);
+    expect(Array.from(sum)).toEqual(Array.from(expected));
+    expect(() => a.addAmplitudeSquared(new Float32Array(n), new Float64Array(a.binCount - 1))).toThrow(/binCount/);
+  });
+
   it("rejects frames and outputs that are too short", () => {
     const a = createSpectrumAnalyzer(64);
     expect(() => a.magnitudeDb(new Float32Array(63), new Float64Array(33))).toThrow(/at least fftSize = 64 samples, got 63/);

@@ -52,6 +52,11 @@ export interface SpectrumAnalyzer {
   amplitudeSquared(frame: SampleFrame, out: Float32Array | Float64Array): void;
   /** 10·log10 of `amplitudeSquared` (dB re full scale; −Infinity for an empty bin). */
   magnitudeDb(frame: SampleFrame, out: Float32Array | Float64Array): void;
+  /**
+   * Adds `amplitudeSquared(frame)` bin by bin to `sum` (a Welch sum): the same doubles as computing them into
+   * a Float64Array first and adding that, in one pass with no spectrum in between.
+   */
+  addAmplitudeSquared(frame: SampleFrame, sum: Float64Array): void;
 }
 
 export function isPowerOfTwo(n: number): boolean {
@@ -164,6 +169,51 @@ export function createSpectrumAnalyzer(fftSize: number, options: SpectrumAnalyze
     }
   }
 
+  /** amplitudeSquaredPffft's arithmetic, each value added to sum[k] instead of stored. */
+  function addAmplitudeSquaredPffft(frame: SampleFrame, sum: Float64Array): void {
+    checkFrame(frame);
+    const h = plan!.forward(frame);
+    const o = plan!.outputIndex;
+    const half = fftSize >> 1;
+    const dc = h[o];
+    const nyquist = h[o + 1];
+    const w0 = 0.5 * dc - 0.5 * h[o + 2];
+    sum[0] += w0 * w0 * edgeScale;
+    {
+      const re = 0.5 * h[o + 2] - 0.25 * (dc + h[o + 4]);
+      const im = 0.5 * h[o + 3] - 0.25 * h[o + 5];
+      sum[1] += (re * re + im * im) * sideScale;
+    }
+    for (let k = 2; k < half - 1; k++) {
+      const i = o + 2 * k;
+      const re = 0.5 * h[i] - 0.25 * (h[i - 2] + h[i + 2]);
+      const im = 0.5 * h[i + 1] - 0.25 * (h[i - 1] + h[i + 3]);
+      sum[k] += (re * re + im * im) * sideScale;
+    }
+    {
+      const i = o + fftSize - 2;
+      const re = 0.5 * h[i] - 0.25 * (h[i - 2] + nyquist);
+      const im = 0.5 * h[i + 1] - 0.25 * h[i - 1];
+      sum[half - 1] += (re * re + im * im) * sideScale;
+    }
+    const wN = 0.5 * nyquist - 0.5 * h[o + fftSize - 2];
+    sum[half] += wN * wN * edgeScale;
+  }
+
+  let addScratch: Float64Array | null = null;
+  const addAmplitudeSquared =
+    plan === null
+      ? (frame: SampleFrame, sum: Float64Array): void => {
+          checkBins(sum);
+          addScratch ??= new Float64Array(binCount);
+          amplitudeSquaredFftJs(frame, addScratch);
+          for (let k = 0; k < binCount; k++) sum[k] += addScratch[k];
+        }
+      : (frame: SampleFrame, sum: Float64Array): void => {
+          checkBins(sum);
+          addAmplitudeSquaredPffft(frame, sum);
+        };
+
   const amplitudeSquared =
     plan === null
       ? (frame: SampleFrame, out: Float32Array | Float64Array): void => {
@@ -207,5 +257,6 @@ export function createSpectrumAnalyzer(fftSize: number, options: SpectrumAnalyze
       amplitudeSquared(frame, out);
       for (let k = 0; k < binCount; k++) out[k] = 10 * Math.log10(out[k]);
     },
+    addAmplitudeSquared,
   };
 }

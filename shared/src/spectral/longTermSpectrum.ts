@@ -20,6 +20,11 @@ export interface LongTermSpectrum {
 export interface WelchAccumulator {
   /** Adds channel c's amplitude² spectrum of one frame. */
   add(channel: number, amplitudeSquared: Float64Array | Float32Array): void;
+  /**
+   * Channel c's running sum, for a caller that adds a frame's spectrum into it directly
+   * (SpectrumAnalyzer.addAmplitudeSquared) instead of through `add`.
+   */
+  sumOf(channel: number): Float64Array;
   /** Counts one frame (call once per frame, after adding every channel). */
   endFrame(): void;
   readonly frames: number;
@@ -53,6 +58,9 @@ export function createWelchAccumulator(o: {
     add(channel, amplitudeSquared) {
       const sum = sums[channel];
       for (let k = 0; k < binCount; k++) sum[k] += amplitudeSquared[k];
+    },
+    sumOf(channel) {
+      return sums[channel];
     },
     endFrame() {
       frames++;

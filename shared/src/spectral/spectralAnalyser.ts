@@ -114,6 +114,13 @@ export function createSpectralAnalyser(format: StreamFormat, settings: AnalysisS
     schedule,
     onFrame(frames, frameIndex, validSamples, paddingBefore) {
       const gain = validSamples === fftSize ? 1 : partialFrameGain(analyzer, paddingBefore, validSamples);
+      if (gain === 1 && grid === null && channelGrids === null) {
+        // No image to feed (a scan without --spectrograms; 360 frames of a 1 s stereo file): each channel's
+        // spectrum goes straight into its Welch sum, the same doubles without the spectrum or channel mean.
+        for (let c = 0; c < channels; c++) analyzer.addAmplitudeSquared(frames[c], welch.sumOf(c));
+        welch.endFrame();
+        return;
+      }
       meanSpectrum.fill(0);
       for (let c = 0; c < channels; c++) {
         analyzer.amplitudeSquared(frames[c], channelSpectrum);
