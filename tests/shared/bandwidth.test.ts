@@ -1,10 +1,10 @@
 import { describe, expect, it } from "vitest";
-import { judgeBandwidth } from "../../shared/src/spectral/bandwidth.ts";
+import { judgeBandwidth, medianSmooth } from "../../shared/src/spectral/bandwidth.ts";
 import { createSpectralAnalyser } from "../../shared/src/spectral/spectralAnalyser.ts";
 import type { SpectralAnalysisResult } from "../../shared/src/types/analysis.ts";
 import { DEFAULT_ANALYSIS_SETTINGS } from "../../shared/src/types/settings.ts";
 import { blocksOf, resampleWithSox, streamFormat, windowedSincLowpass } from "../fixtures/spectralSignals.ts";
-import { mix, pinkNoise, sine, whiteNoise } from "../fixtures/synth.ts";
+import { mix, pinkNoise, seededRandom, sine, whiteNoise } from "../fixtures/synth.ts";
 import { recordAccuracy } from "../helpers/accuracyLog.ts";
 import { ffmpegEncoders, lossyRoundTrip, soxAvailable } from "../helpers/externalAudio.ts";
 
@@ -155,5 +155,45 @@ describe("judgeBandwidth", () => {
     // An ADC's anti-alias filter is 40 dB down only near Nyquist (0.95 × Nyquist and up, common practice): no finding.
     expect(judgeBandwidth(shelf(21200), 44100)).toBeNull();
     expect(judgeBandwidth({ bandwidthHz: 24000, hasShelf: false, shelfDepthDb: 0 }, 48000)).toBeNull();
+  });
+});
+
+describe("medianSmooth (the bandwidth's running median)", () => {
+  /** The median of each window, by sorting it: the definition the running one must reproduce. */
+  function sortedMedians(levelDb: Float64Array, top: number): Float64Array {
+    const out = Float64Array.from(levelDb);
+    for (let k = 0; k <= top; k++) {
+      // ±1/96 octave, 4 … 32 bins (bandwidth.ts's window).
+      const half = Math.min(32, Math.max(4, Math.round(k * (2 ** (1 / 96) - 1))));
+      const w = Array.from(levelDb.subarray(Math.max(0, k - half), Math.min(top, k + half) + 1)).sort((a, b) => a - b);
+      out[k] = w.length % 2 === 1 ? w[(w.length - 1) / 2] : 0.5 * (w[w.length / 2 - 1] + w[w.length / 2]);
+    }
+    return out;
+  }
+
+  it.each([
+    ["random levels, 1025 bins", 1025, (k: number, r: () => number) => -60 * r() - k / 100],
+    ["many equal values (a stepped spectrum), 8193 bins", 8193, (k: number, r: () => number) => Math.round(4 * r()) - Math.floor(k / 500)],
+    ["a floor at −200 dB with tones", 513, (k: number, r: () => number) => (k % 37 === 0 ? -20 * r() : -200)],
+  ])("gives each window's sorted median: %s", (_name, n, level) => {
+    const r = seededRandom(n);
+    const levelDb = new Float64Array(n);
+    for (let k = 0; k < n; k++) levelDb[k] = level(k, r);
+    const top = n - 2;
+    const got = medianSmooth(levelDb, top);
+    expect(Array.from(got)).toEqual(Array.from(sortedMedians(levelDb, top)));
+    // The last bin (Nyquist) is left as it was.
+    expect(got[n - 1]).toBe(levelDb[n - 1]);
+  });
+
+  it("puts NaN last, as a sort does, when a spectrum holds one", () => {
+    const levelDb = Float64Array.from({ length: 40 }, (_v, k) => (k === 10 ? NaN : -k));
+    const got = medianSmooth(levelDb, 38);
+    const expected = Float64Array.from(levelDb);
+    for (let k = 0; k <= 38; k++) {
+      const w = levelDb.slice(Math.max(0, k - 4), Math.min(38, k + 4) + 1).sort();
+      expected[k] = w.length % 2 === 1 ? w[(w.length - 1) / 2] : 0.5 * (w[w.length / 2 - 1] + w[w.length / 2]);
+    }
+    expect(Array.from(got)).toEqual(Array.from(expected));
   });
 });
