@@ -68,12 +68,35 @@ export interface SpectrumAnalyzerOptions {
   engine?: "auto" | "fft.js";
 }
 
-export function createSpectrumAnalyzer(fftSize: number, options: SpectrumAnalyzerOptions = {}): SpectrumAnalyzer {
-  // fft.js checks too, but with a message that does not say what arrived; 2^30 keeps `n & (n − 1)` in int32.
-  if (!isPowerOfTwo(fftSize) || fftSize > 2 ** 30) {
-    throw new Error(`fftSize must be a power of two > 1, got ${fftSize}`);
+interface HannWindow {
+  window: Float64Array;
+  windowSum: number;
+  windowEnergy: number;
+}
+
+/**
+ * One window and one fft.js plan a size for the whole process, up to CACHED_MAX_SIZE: a scan of many short
+ * files makes three analyzers a file, and their cosines and tables were a tenth of setting a file up (issue
+ * #22). Nothing writes into a window; an fft.js plan keeps no state between calls (each runs to its end
+ * before another can start), so analyzers may share it.
+ */
+const hannWindows = new Map<number, HannWindow>();
+const fftJsPlans = new Map<number, FFT>();
+/** Larger sizes (a custom profile's) are made for their analyzer alone rather than kept for the process. */
+const CACHED_MAX_SIZE = 65536;
+
+function fftJsPlan(fftSize: number): FFT {
+  let plan = fftJsPlans.get(fftSize);
+  if (plan === undefined) {
+    plan = new FFT(fftSize);
+    if (fftSize <= CACHED_MAX_SIZE) fftJsPlans.set(fftSize, plan);
   }
-  const binCount = fftSize / 2 + 1;
+  return plan;
+}
+
+function hannWindow(fftSize: number): HannWindow {
+  const cached = hannWindows.get(fftSize);
+  if (cached) return cached;
   const window = new Float64Array(fftSize);
   let windowSum = 0;
   let windowEnergy = 0;
@@ -84,6 +107,18 @@ export function createSpectrumAnalyzer(fftSize: number, options: SpectrumAnalyze
     windowSum += w;
     windowEnergy += w * w;
   }
+  const made = { window, windowSum, windowEnergy };
+  if (fftSize <= CACHED_MAX_SIZE) hannWindows.set(fftSize, made);
+  return made;
+}
+
+export function createSpectrumAnalyzer(fftSize: number, options: SpectrumAnalyzerOptions = {}): SpectrumAnalyzer {
+  // fft.js checks too, but with a message that does not say what arrived; 2^30 keeps `n & (n − 1)` in int32.
+  if (!isPowerOfTwo(fftSize) || fftSize > 2 ** 30) {
+    throw new Error(`fftSize must be a power of two > 1, got ${fftSize}`);
+  }
+  const binCount = fftSize / 2 + 1;
+  const { window, windowSum, windowEnergy } = hannWindow(fftSize);
   // Amplitude of bin k is 2|X_k|/Σw (one-sided); DC and Nyquist are |X_k|/Σw.
   const sideScale = 4 / (windowSum * windowSum);
   const edgeScale = 1 / (windowSum * windowSum);
@@ -94,7 +129,7 @@ export function createSpectrumAnalyzer(fftSize: number, options: SpectrumAnalyze
   let windowed: Float64Array | null = null;
   let complex: Float64Array | null = null;
   let pairInput: Float64Array | null = null;
-  const fftJs = (): FFT => (fft ??= new FFT(fftSize));
+  const fftJs = (): FFT => (fft ??= fftJsPlan(fftSize));
 
   function checkFrame(frame: SampleFrame): void {
     if (frame.length < fftSize) {
