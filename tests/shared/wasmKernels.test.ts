@@ -8,7 +8,7 @@ import { readFileSync } from "node:fs";
 import path from "node:path";
 import { pathToFileURL } from "node:url";
 import { afterEach, describe, expect, it, vi } from "vitest";
-import { kernelModule, WASM_PAGE_BYTES } from "../../shared/src/wasm/kernelModule.ts";
+import { createKernelArena, kernelModule, WASM_PAGE_BYTES } from "../../shared/src/wasm/kernelModule.ts";
 import { projectRoot } from "../../scripts/lib/paths.ts";
 import { generatedKernelText, wasmKernelSources } from "../../scripts/lib/wasmKernels.ts";
 
@@ -27,6 +27,12 @@ describe("WebAssembly kernel modules", () => {
   for (const source of sources) {
     it(`${source.generated} is ${source.wat} as it stands (else run scripts/generate-wasm-kernels.ts)`, async () => {
       expect(readFileSync(path.join(projectRoot, source.generated), "utf8")).toBe(await generatedKernelText(source));
+    });
+
+    // A reused instance is as good as a fresh one only if everything it keeps is in its memory (zeroed on reuse).
+    it(`${source.wat} keeps no state outside its memory (no globals, tables or data segments)`, () => {
+      const text = readFileSync(path.join(projectRoot, source.wat), "utf8").replace(/;;.*$/gm, "");
+      expect(text).not.toMatch(/\((global|table|data|elem)\b/);
     });
 
     it(`${source.wat} imports its memory as env.memory and exports none`, async () => {
@@ -54,5 +60,50 @@ describe("kernel loader", () => {
     expect(kernelModule(bytes.slice(0, 20))(1024)).toBeNull();
     vi.stubGlobal("WebAssembly", undefined);
     expect(kernelModule(bytes)(1024)).toBeNull();
+  });
+});
+
+describe("kernel arena (issue #22: instances reused from file to file)", () => {
+  it("hands an arena's instances back, zeroed, to the next arena asking for that memory size", async () => {
+    const instantiate = kernelModule(await generatedBytes(sources[0].generated));
+    const first = createKernelArena();
+    const a = first.run(() => instantiate(2 * WASM_PAGE_BYTES));
+    const small = first.run(() => instantiate(100));
+    new Uint8Array(a!.memory.buffer).fill(7);
+    first.release();
+    const second = createKernelArena();
+    const b = second.run(() => instantiate(2 * WASM_PAGE_BYTES));
+    // The same instance, with a memory as a fresh one has it.
+    expect(b).toBe(a);
+    expect(new Uint8Array(b!.memory.buffer).every((v) => v === 0)).toBe(true);
+    // Another size is not handed out for this one; the released one-page instance is there for its size.
+    const c = second.run(() => instantiate(3 * WASM_PAGE_BYTES));
+    expect(c).not.toBe(a);
+    expect(second.run(() => instantiate(1))).toBe(small);
+    // Taken once: a second ask while it is in use makes a new one.
+    expect(second.run(() => instantiate(2 * WASM_PAGE_BYTES))).not.toBe(a);
+  });
+
+  it("never hands out an instance still in use: not outside an arena, not twice, not after a second release", async () => {
+    const instantiate = kernelModule(await generatedBytes(sources[0].generated));
+    const outside = instantiate(WASM_PAGE_BYTES);
+    const first = createKernelArena();
+    const a = first.run(() => instantiate(WASM_PAGE_BYTES));
+    first.release();
+    first.release();
+    // Outside any arena nothing is pooled or reused.
+    expect(instantiate(WASM_PAGE_BYTES)).not.toBe(a);
+    const second = createKernelArena();
+    const third = createKernelArena();
+    const b = second.run(() => instantiate(WASM_PAGE_BYTES));
+    const c = third.run(() => instantiate(WASM_PAGE_BYTES));
+    expect(b).toBe(a);
+    expect(c).not.toBe(a);
+    expect(c).not.toBe(outside);
+    // A released arena runs later code without pooling.
+    const late = first.run(() => instantiate(WASM_PAGE_BYTES));
+    second.release();
+    expect(third.run(() => instantiate(WASM_PAGE_BYTES))).toBe(a);
+    expect(createKernelArena().run(() => instantiate(WASM_PAGE_BYTES))).not.toBe(late);
   });
 });

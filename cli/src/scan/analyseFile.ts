@@ -11,7 +11,8 @@ import { judge } from "@tidemark/shared/profiles/judge";
 import type { Profile } from "@tidemark/shared/profiles/profileSchema";
 import { renderSpectrogramImage } from "@tidemark/shared/render/spectrogramImage";
 import { renderWaveformImage } from "@tidemark/shared/render/waveformImage";
-import type { BlockAnalyser, RgbaImage, StreamFormat } from "@tidemark/shared/types/analysis";
+import type { AudioBlock, BlockAnalyser, RgbaImage, StreamFormat } from "@tidemark/shared/types/analysis";
+import { createKernelArena, type KernelArena } from "@tidemark/shared/wasm/kernelModule";
 import type { AudioFormat, FileReport, Finding, ReportError } from "@tidemark/shared/types/report";
 import type { AnalysisSettings } from "@tidemark/shared/types/settings";
 import { readerFindings } from "@tidemark/shared/wav/readerFindings";
@@ -150,8 +151,27 @@ async function writeImages(
   return { spectrogram: paths.shown, closeups };
 }
 
-/** `signal` stops the read mid-file; an aborted file rejects instead of being reported as unreadable. */
+/**
+ * `signal` stops the read mid-file; an aborted file rejects instead of being reported as unreadable.
+ * The analysers' WebAssembly instances are made in a kernel arena and handed back for the next file once
+ * this one is done (issue #22; kernelModule.ts): nothing returned refers to them.
+ */
 export async function analyseFile(
+  task: AnalyseTask,
+  ctx: ScanContext,
+  signal?: AbortSignal,
+  onRead?: (bytesRead: number) => void,
+): Promise<AnalysedFile> {
+  const arena = createKernelArena();
+  try {
+    return await analyseFileIn(arena, task, ctx, signal, onRead);
+  } finally {
+    arena.release();
+  }
+}
+
+async function analyseFileIn(
+  arena: KernelArena,
   task: AnalyseTask,
   ctx: ScanContext,
   signal?: AbortSignal,
@@ -172,7 +192,7 @@ export async function analyseFile(
       signal,
       onRead,
       digests: extraDigestsFor(task.expectedChecksums),
-      onOpen: (info) => {
+      onOpen: (info) => arena.run(() => {
         opened = true;
         // Close-ups are drawn beside the PNGs, so without them there is nothing to keep samples for.
         const wantsCloseups = ctx.closeups && ctx.spectrograms !== null;
@@ -199,19 +219,20 @@ export async function analyseFile(
               const t = performance.now();
               // Into the ring first, so the other thread works on this block while this one measures levels.
               spectral.push(block);
-              level?.push(block);
+              if (level) arena.run(() => level.push(block));
               analyseMs += performance.now() - t;
             };
           }
         }
         const a = createFileAnalysis(info.stream, ctx.settings, options);
         analysis = a;
+        const push = (block: AudioBlock): void => a.push(block);
         return (block) => {
           const t = performance.now();
-          a.push(block);
+          arena.run(() => push(block));
           analyseMs += performance.now() - t;
         };
-      },
+      }),
     });
   } catch (caught) {
     let error = caught;
@@ -238,7 +259,7 @@ export async function analyseFile(
       const otherPart = two.spectral.finish();
       let levelSide: LevelSideResult | null;
       try {
-        levelSide = two.level?.finish() ?? null;
+        levelSide = arena.run(() => two.level?.finish() ?? null);
       } catch (error) {
         otherPart.catch(() => undefined);
         two.spectral.abort();
@@ -252,7 +273,8 @@ export async function analyseFile(
       else if (levelSide) analysed = mergeFileAnalysis(levelSide, other.result);
       else throw new Error("second thread: measured the spectral side only, but no level side was kept here");
     } else {
-      analysed = (analysis as BlockAnalyser<FileAnalysisResult> | null)?.finish() ?? failNoAnalysis();
+      const one = analysis as BlockAnalyser<FileAnalysisResult> | null;
+      analysed = (one ? arena.run(() => one.finish()) : null) ?? failNoAnalysis();
     }
     analyseMs += performance.now() - t;
   } catch (error) {
