@@ -1,5 +1,6 @@
 import { describe, expect, it } from "vitest";
 import { createSpectrumAnalyzer } from "../../shared/src/spectral/fft.ts";
+import { createSpectrumKernels } from "../../shared/src/spectral/spectrumKernels.ts";
 import { seededRandom, sine } from "../fixtures/synth.ts";
 
 /**
@@ -114,6 +115,34 @@ describe("createSpectrumAnalyzer", () => {
     expect(sum.some((v) => v > 0)).toBe(true);
     expect(Array.from(sum)).toEqual(Array.from(expected));
     expect(() => a.addAmplitudeSquared(new Float32Array(n), new Float64Array(a.binCount - 1))).toThrow(/binCount/);
+  });
+
+  // A scan without images keeps its Welch sums in a WebAssembly SIMD kernel's memory (spectrumKernels.wat):
+  // the same doubles as adding amplitudeSquared in JavaScript, channel by channel.
+  it.each([["auto", 2048, 2], ["auto", 32, 1], ["auto", 4096, 3], ["fft.js", 1024, 2]] as const)("keeps Welch sums bit for bit (%s, N = %i, %i channels)", (engine, n, channels) => {
+    const a = createSpectrumAnalyzer(n, { engine });
+    const sums = a.powerSums(channels);
+    const expected = Array.from({ length: channels }, () => new Float64Array(a.binCount));
+    const spectrum = new Float64Array(a.binCount);
+    for (let frame = 0; frame < 4; frame++) {
+      for (let c = 0; c < channels; c++) {
+        // Loud, quiet and a tone: far apart in level, so a rounding slip would show.
+        const x = Float32Array.from(randomFrame(n, 1000 * frame + c), (v, i) => (c === 1 ? 1e-4 * v : c === 2 ? Math.sin(0.3 * i) : v));
+        a.amplitudeSquared(x, spectrum);
+        for (let k = 0; k < a.binCount; k++) expected[c][k] += spectrum[k];
+        sums.add(c, x);
+      }
+    }
+    for (let c = 0; c < channels; c++) {
+      const out = new Float64Array(a.binCount);
+      sums.addTo(c, out);
+      expect(out.some((v) => v > 0)).toBe(true);
+      expect(Array.from(out)).toEqual(Array.from(expected[c]));
+    }
+  });
+
+  it("has the WebAssembly SIMD kernel for those sums on this runtime", () => {
+    expect(createSpectrumKernels(1024)).not.toBeNull();
   });
 
   it("rejects frames and outputs that are too short", () => {

@@ -108,16 +108,18 @@ export function createSpectralAnalyser(format: StreamFormat, settings: AnalysisS
   const channelSpectrum = new Float64Array(analyzer.binCount);
   const meanSpectrum = new Float64Array(analyzer.binCount);
   const perChannelShare = 1 / channels;
+  const powerSums = grid === null && channelGrids === null ? analyzer.powerSums(channels) : null;
 
   const stft = createFrameCollector({
     channels,
     schedule,
     onFrame(frames, frameIndex, validSamples, paddingBefore) {
       const gain = validSamples === fftSize ? 1 : partialFrameGain(analyzer, paddingBefore, validSamples);
-      if (gain === 1 && grid === null && channelGrids === null) {
+      if (gain === 1 && powerSums !== null) {
         // No image to feed (a scan without --spectrograms; 360 frames of a 1 s stereo file): each channel's
-        // spectrum goes straight into its Welch sum, the same doubles without the spectrum or channel mean.
-        for (let c = 0; c < channels; c++) analyzer.addAmplitudeSquared(frames[c], welch.sumOf(c));
+        // spectrum goes straight into its sums, the same doubles without the spectrum or channel mean; they
+        // join the (then empty) Welch sums at the end.
+        for (let c = 0; c < channels; c++) powerSums.add(c, frames[c]);
         welch.endFrame();
         return;
       }
@@ -148,6 +150,7 @@ export function createSpectralAnalyser(format: StreamFormat, settings: AnalysisS
     },
     finish() {
       stft.flushShortFile();
+      if (powerSums !== null) for (let c = 0; c < channels; c++) powerSums.addTo(c, welch.sumOf(c));
       const durationSeconds = totalFrames / sampleRateHz;
       const overall = welch.overall();
       const perChannel = welch.perChannel();
