@@ -67,6 +67,14 @@ export const DEFAULT_BLOCK_FRAMES = 65536;
  * 600 s file), and the two buffers cost 2 MiB of the 150 MB budget instead of 8 (issue #22).
  */
 const READ_BUFFER_BYTES = 1024 * 1024;
+/**
+ * Read buffers a thread keeps for its next files (two files at once, two buffers each): a scan of many short
+ * files made two new ones a file, garbage that piled up outside the JavaScript heap between collections
+ * (issue #22). A buffer is taken back only once its file is done with it: every sink copies what it keeps.
+ */
+const spareBuffers: Uint8Array[] = [];
+const SPARE_BUFFERS = 4;
+const takeBuffer = (): Uint8Array => spareBuffers.pop() ?? new Uint8Array(READ_BUFFER_BYTES);
 
 export function describeAudioFile(layout: WavLayout): AudioFileInfo {
   const format: AudioFormat = {
@@ -212,8 +220,8 @@ async function readOpenFile(
   const hash = createHash("sha256");
   const extra = (opts.digests ?? []).map((a) => [a, createHash(a)] as const);
   const timings = { readMs: 0, decodeMs: 0, hashMs: 0 };
-  const bufferBytes = Math.max(1, Math.min(READ_BUFFER_BYTES, sizeBytes));
-  const buffers = [new Uint8Array(bufferBytes), new Uint8Array(bufferBytes)];
+  // The second buffer only once a file needs a second read.
+  const buffers: Uint8Array[] = [takeBuffer()];
 
   const readInto = (buffer: Uint8Array, position: number) =>
     handle.read(buffer, 0, Math.min(buffer.length, sizeBytes - position), position).then(
@@ -241,7 +249,7 @@ async function readOpenFile(
       opts.signal?.throwIfAborted();
       opts.onRead?.(position);
       // Start the next read into the other buffer before working on this one.
-      if (position < sizeBytes) pending = readInto(buffers[1 - current], position);
+      if (position < sizeBytes) pending = readInto((buffers[1 - current] ??= takeBuffer()), position);
       const t1 = performance.now();
       hash.update(chunk);
       for (const [, h] of extra) h.update(chunk);
@@ -254,14 +262,15 @@ async function readOpenFile(
       }
       current = 1 - current;
     }
+    const before = consumerMs;
+    const t = performance.now();
+    for (const sink of sinks) await sink.finish();
+    timings.decodeMs += performance.now() - t - (consumerMs - before);
   } finally {
-    // Never close the file under an in-flight read.
+    // Never close the file under an in-flight read, nor hand its buffer on.
     if (pending) await pending.catch(() => undefined);
+    for (const b of buffers) if (spareBuffers.length < SPARE_BUFFERS) spareBuffers.push(b);
   }
-  const before = consumerMs;
-  const t = performance.now();
-  for (const sink of sinks) await sink.finish();
-  timings.decodeMs += performance.now() - t - (consumerMs - before);
   const samples = sinks.find((s) => s.nonFinite)?.nonFinite;
   return {
     info,
