@@ -27,6 +27,7 @@ import {
   assembleGrid,
   createSpectrogramAccumulator,
   spectrogramRowLayout,
+  type RowLayout,
   type SpectrogramAccumulator,
 } from "./spectrogramGrid.ts";
 import { chooseLongFrameSchedule, chooseStftSchedule, defaultFftSize, type FrameSchedule } from "./stftSchedule.ts";
@@ -72,10 +73,11 @@ export function createSpectralAnalyser(format: StreamFormat, settings: AnalysisS
   });
 
   const spectrogramSettings = settings.spectrogram;
-  const layout = spectrogramRowLayout(plot.height, spectrogramSettings.frequencyScale, sampleRateHz, fftSize);
+  // The grid's rows only matter to the images (and plotArea already holds their count to its minimum).
+  const layout = images ? spectrogramRowLayout(plot.height, spectrogramSettings.frequencyScale, sampleRateHz, fftSize) : null;
   const lowFactor = lowRateFactor(sampleRateHz);
   const lowRate = { factor: lowFactor, sampleRateHz: sampleRateHz / lowFactor, totalFrames: Math.floor(totalFrames / lowFactor) };
-  const lowDetail = !images
+  const lowDetail = layout === null
     ? null
     : createLowFrequencyDetail({
         sampleRateHz: lowRate.sampleRateHz,
@@ -87,7 +89,7 @@ export function createSpectralAnalyser(format: StreamFormat, settings: AnalysisS
         perChannel: spectrogramSettings.perChannel,
         mainBinHz: sampleRateHz / fftSize,
       });
-  const mainGrid = (): SpectrogramAccumulator =>
+  const mainGrid = (layout: RowLayout): SpectrogramAccumulator =>
     createSpectrogramAccumulator({
       columns: plot.width,
       layout,
@@ -100,10 +102,10 @@ export function createSpectralAnalyser(format: StreamFormat, settings: AnalysisS
       schedule,
       totalFrames,
     });
-  const grid = images ? mainGrid() : null;
+  const grid = layout ? mainGrid(layout) : null;
   const withDetail = (main: SpectrogramAccumulator, detail: SpectrogramAccumulator | undefined) =>
     detail && lowDetail ? [{ accumulator: main }, { accumulator: detail, weightOfRow: lowDetail.weightOfRow }] : [{ accumulator: main }];
-  const channelGrids = images && spectrogramSettings.perChannel ? Array.from({ length: channels }, mainGrid) : null;
+  const channelGrids = layout && spectrogramSettings.perChannel ? Array.from({ length: channels }, () => mainGrid(layout)) : null;
   const welch = createWelchAccumulator({ channels, fftSize, sampleRateHz, noiseBandwidthBins: analyzer.noiseBandwidthBins });
   const channelSpectrum = new Float64Array(analyzer.binCount);
   const meanSpectrum = new Float64Array(analyzer.binCount);
@@ -180,7 +182,7 @@ export function createSpectralAnalyser(format: StreamFormat, settings: AnalysisS
         },
         findings,
       };
-      if (grid === null || waveform === null) return { ...measures, spectrogram: null, channelSpectrograms: null, waveform: null };
+      if (grid === null || waveform === null || layout === null) return { ...measures, spectrogram: null, channelSpectrograms: null, waveform: null };
       return {
         ...measures,
         spectrogram: assembleGrid(withDetail(grid, lowDetail?.overall), plot.width, layout, durationSeconds, sampleRateHz),
