@@ -13,7 +13,12 @@ const context = workerData as ScanContext;
 const SMALL_AT_ONCE = 2;
 
 async function run(message: WorkerRequest<ScanTask>): Promise<void> {
-  const onProgress = (bytesRead: number): void => parentPort?.postMessage({ id: message.id, progress: bytesRead } satisfies WorkerReply<ScanTaskResult>);
+  // A read that reaches the crawled size says nothing the result, just behind it, does not (issue #22: a
+  // message less each short file, which is read in one go).
+  const sizeBytes = message.task.kind === "analyse" ? message.task.sizeBytes : Infinity;
+  const onProgress = (bytesRead: number): void => {
+    if (bytesRead < sizeBytes) parentPort?.postMessage({ id: message.id, progress: bytesRead } satisfies WorkerReply<ScanTaskResult>);
+  };
   try {
     const result = await runScanTask(message.task, context, undefined, onProgress);
     parentPort?.postMessage({ id: message.id, ok: true, result } satisfies WorkerReply<ScanTaskResult>);
