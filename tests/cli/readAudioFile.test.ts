@@ -77,6 +77,26 @@ describe("readAudioFile", () => {
     }
   });
 
+  // Issue #22: the header is walked from the file's first read, and the read buffers go on to the next files.
+  it("keeps each file's header and metadata its own while its read buffers serve later files", async () => {
+    const flacPath = join(dir, "header.flac");
+    const wavPath = await writeWav("for-flac.wav", encodeWav([sine({ frequencyHz: 440, sampleRateHz: 44100, seconds: 0.5, peakDbfs: -6 })], { sampleRateHz: 44100, bitDepth: 16 }));
+    // Debian's flac (the reference encoder) writes the STREAMINFO header the FLAC reader keeps as bytes.
+    execFileSync("flac", ["--silent", "--force", "-o", flacPath, wavPath]);
+    const bwf = await writeWav("described.wav", encodeWav([whiteNoise({ sampleRateHz: 48000, seconds: 0.2, rmsDbfs: -20, seed: 3 })], { sampleRateHz: 48000, bitDepth: 24, bext: { description: "Harbourside reel 7, side A" } }));
+    const first = await readAudioFile(flacPath, { onOpen: () => () => undefined });
+    const header = Uint8Array.from((first.info.layout as unknown as { streamHeader: Uint8Array }).streamHeader);
+    const described = await readAudioFile(bwf, { onOpen: () => () => undefined });
+    const metadata = JSON.stringify(described.info.metadata);
+    // Other files through the same buffers, one of them at once with a second read.
+    for (let i = 0; i < 3; i++) await Promise.all([readAll(wavPath), readAll(bwf), readAll(wavPath)]);
+    expect(header.length).toBeGreaterThan(0);
+    expect(Array.from((first.info.layout as unknown as { streamHeader: Uint8Array }).streamHeader)).toEqual(Array.from(header));
+    expect(JSON.stringify(described.info.metadata)).toBe(metadata);
+    expect(metadata).toContain("Harbourside reel 7, side A");
+    expect(described.sha256).toBe(createHash("sha256").update(await readFile(bwf)).digest("hex"));
+  });
+
   it("reuses the block arrays (flat memory)", async () => {
     const path = await writeWav("reuse.wav", encodeWav([whiteNoise({ sampleRateHz: 8000, seconds: 1, rmsDbfs: -20 })], { sampleRateHz: 8000, bitDepth: 16 }));
     const seen = new Set<Float32Array>();

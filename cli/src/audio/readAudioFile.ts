@@ -171,6 +171,21 @@ export async function readAudioFile(path: string | Buffer, opts: ReadAudioFileOp
   }
 }
 
+/**
+ * Reads inside `head` (the file's first bytes, already read) are served from it, as copies: the walkers may
+ * keep what they get, and the buffer goes on to the next file. Everything else comes from the file.
+ */
+function withHead(source: ByteSource, head: Uint8Array): ByteSource {
+  return {
+    sizeBytes: source.sizeBytes,
+    readAt: async (offset, length) => {
+      const end = Math.min(source.sizeBytes, offset + length);
+      if (offset >= 0 && end <= head.length) return head.slice(offset, Math.max(offset, end));
+      return source.readAt(offset, length);
+    },
+  };
+}
+
 async function readOpenFile(
   path: string | Buffer,
   handle: FileHandle,
@@ -182,8 +197,26 @@ async function readOpenFile(
   });
   if (!opened.isFile()) throw new AudioFileError("not-a-file", `${path}: changed into a non-regular file while opening`);
   const sizeBytes = opened.size;
+  const timings = { readMs: 0, decodeMs: 0, hashMs: 0 };
+  // The second buffer only once a file needs a second read.
+  const buffers: Uint8Array[] = [takeBuffer()];
+  const readInto = (buffer: Uint8Array, position: number) =>
+    handle.read(buffer, 0, Math.min(buffer.length, sizeBytes - position), position).then(
+      (r) => r.bytesRead,
+      (error: unknown) => {
+        throw audioFileErrorFromSystem(error, path);
+      },
+    );
+  // The first read comes before the header walk, which is served from it as far as it reaches: a short
+  // file is read once (issue #22: two reads less a file).
+  let firstBytes = 0;
+  if (sizeBytes > 0) {
+    const t0 = performance.now();
+    firstBytes = await readInto(buffers[0], 0);
+    timings.readMs += performance.now() - t0;
+  }
 
-  const layout = await readLayout(fileByteSource(handle, sizeBytes)).catch((error: unknown) => {
+  const layout = await readLayout(withHead(fileByteSource(handle, sizeBytes), buffers[0].subarray(0, firstBytes))).catch((error: unknown) => {
     if (error instanceof WavFormatError) throw error;
     throw audioFileErrorFromSystem(error, path);
   });
@@ -219,21 +252,10 @@ async function readOpenFile(
   if (md5) sinks.push(md5);
   const hash = createHash("sha256");
   const extra = (opts.digests ?? []).map((a) => [a, createHash(a)] as const);
-  const timings = { readMs: 0, decodeMs: 0, hashMs: 0 };
-  // The second buffer only once a file needs a second read.
-  const buffers: Uint8Array[] = [takeBuffer()];
-
-  const readInto = (buffer: Uint8Array, position: number) =>
-    handle.read(buffer, 0, Math.min(buffer.length, sizeBytes - position), position).then(
-      (r) => r.bytesRead,
-      (error: unknown) => {
-        throw audioFileErrorFromSystem(error, path);
-      },
-    );
 
   let position = 0;
   let current = 0;
-  let pending: Promise<number> | null = sizeBytes > 0 ? readInto(buffers[0], 0) : null;
+  let pending: Promise<number> | null = sizeBytes > 0 ? Promise.resolve(firstBytes) : null;
   try {
     while (pending) {
       const t0 = performance.now();
