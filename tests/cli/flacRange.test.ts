@@ -17,8 +17,6 @@ import { loadProfile } from "../../cli/src/profiles/loadProfile.ts";
 import { analyseFile, type ScanContext } from "../../cli/src/scan/analyseFile.ts";
 import { crc16, crc8 } from "../../shared/src/flac/flacFramer.ts";
 import { fileReportSchema, type FileReport } from "../../shared/src/types/report.ts";
-import { sine } from "../fixtures/synth.ts";
-import { encodeWav } from "../fixtures/wavWriter.ts";
 
 const has = (cmd: string, arg = "--version"): boolean => spawnSync(cmd, [arg], { stdio: "ignore" }).status === 0;
 const toolsPresent = has("sox") && has("flac") && has("metaflac");
@@ -138,21 +136,20 @@ describe.runIf(toolsPresent)("FLAC across its range measures as the WAV it was e
     expect(await decodedSha(file("deferred.flac"))).toEqual(await decodedSha(file("defer.wav")));
   });
 
-  it.each([12, 20])("a %i-bit FLAC (Debian's flac from a WAV with that many valid bits) is refused with unsupported-encoding, never measured wrong", async (bits) => {
-    // The WAV: WAVE_FORMAT_EXTENSIBLE, 16/24-bit words, wValidBitsPerSample = bits (Microsoft's layout, as in
-    // audioFormats.test.ts); flac keeps the valid bits as the stream's depth (metaflac --show-bps says so).
-    const container = bits === 12 ? 16 : 24;
-    const step = 2 ** (bits - 1);
-    const tone = sine({ frequencyHz: 1000, sampleRateHz: 48000, seconds: 1, peakDbfs: -3 }).map((v) => Math.round(v * step) / step);
-    const wav = encodeWav([tone, tone], { sampleRateHz: 48000, bitDepth: container, extensible: true });
-    new DataView(wav.buffer).setUint16(20 + 18, bits, true);
-    writeFileSync(file(`low${bits}.wav`), wav);
-    execFileSync("flac", ["-s", "-f", file(`low${bits}.wav`), "-o", file(`low${bits}.flac`)]);
-    expect(execFileSync("metaflac", ["--show-bps", file(`low${bits}.flac`)], { encoding: "utf8" }).trim()).toBe(String(bits));
-    const report = await scan(`low${bits}.flac`);
+  // 12-, 20- and other odd depths are decoded: tests/cli/flacOddDepths.test.ts. Below RFC 9639's 4 bits (8.2)
+  // nothing is: a STREAMINFO saying 3 bits gives a stable error, not a measurement.
+  it("a STREAMINFO claiming 3-bit samples is refused with bad-bit-depth", async () => {
+    makeWav("three.wav", 48000, 16, 1);
+    execFileSync("flac", ["-s", "-f", file("three.wav"), "-o", file("three.flac")]);
+    const bytes = new Uint8Array(readFileSync(file("three.flac")));
+    // STREAMINFO body from byte 8; bits per sample − 1 is bit 0 of its byte 12 and the top nibble of byte 13.
+    bytes[20] &= 0xfe;
+    bytes[21] = (bytes[21] & 0x0f) | (2 << 4);
+    writeFileSync(file("three-bit.flac"), bytes);
+    const report = await scan("three-bit.flac");
     expect(report.verdict).toBe("error");
     expect(report.metrics).toBeNull();
-    expect(report.error?.code).toBe("unsupported-encoding");
-    expect(report.error?.message).toMatch(new RegExp(`FLAC with ${bits}-bit samples is not decoded`));
+    expect(report.error?.code).toBe("bad-bit-depth");
+    expect(report.error?.message).toMatch(/3 bits per sample; 4 to 32 supported/);
   });
 });

@@ -11,7 +11,9 @@ import type { Finding } from "@tidemark/shared/types/report";
 import { createFlacFramer, type FlacFrameHeader, type FlacFramer } from "@tidemark/shared/flac/flacFramer";
 import type { FlacLayout } from "@tidemark/shared/flac/flacLayout";
 import { WavFormatError } from "@tidemark/shared/wav/errors";
+import { containerDepth } from "@tidemark/shared/flac/flacDepthWidening";
 import { createLibflacFrames, type LibflacFrames } from "./libflacFrames.ts";
+import { wrapOddDepthFrames } from "./oddDepthFrames.ts";
 
 const FRAMER_SLICE_BYTES = 256 * 1024;
 /** At most this many decode-error findings per file; the last one says how many more. */
@@ -33,8 +35,8 @@ export interface FlacStreamDecoder {
 /**
  * Sample depths libFLAC's WebAssembly build hands out: its write callback (@wasm-audio-decoders/flac 0.2.x,
  * src/flac_decoder.c) divides by 2^(bits−1) − 1 only for 8, 16, 24 and 32 bits and leaves the divisor unset
- * otherwise. A 12- or 20-bit FLAC from Debian's flac came back as ±Infinity (measured 2026-12-05: −23 LUFS
- * and clipping for a −3 LUFS tone), so other depths are refused rather than measured wrong.
+ * otherwise (a 12- or 20-bit FLAC came back as ±Infinity, measured 2026-12-05). Other depths (4–32 bits, RFC
+ * 9639) go through oddDepthFrames.ts, which rewrites each frame at the next of these depths and scales back.
  */
 const DECODABLE_BITS: ReadonlySet<number> = new Set([8, 16, 24, 32]);
 
@@ -44,13 +46,11 @@ export async function createFlacStreamDecoder(
   onBlock: (block: AudioBlock) => void,
 ): Promise<FlacStreamDecoder> {
   const bits = layout.streamInfo.bitsPerSample;
-  if (!DECODABLE_BITS.has(bits)) {
-    throw new WavFormatError(
-      "unsupported-encoding",
-      `FLAC with ${bits}-bit samples is not decoded: the bundled libFLAC build hands out 8-, 16-, 24- and 32-bit samples only`,
-    );
+  if (containerDepth(bits) === null) {
+    throw new WavFormatError("unsupported-encoding", `FLAC with ${bits}-bit samples is not decoded: 4 to 32 bits expected (RFC 9639, 8.2)`);
   }
-  const decoder = await createLibflacFrames();
+  const libflac = await createLibflacFrames();
+  const decoder = DECODABLE_BITS.has(bits) ? libflac : wrapOddDepthFrames(libflac, layout.streamInfo);
   return new FlacStream(layout, blockFrames, onBlock, decoder);
 }
 

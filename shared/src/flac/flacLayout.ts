@@ -86,8 +86,8 @@ function validate(info: FlacStreamInfo): void {
       `sample rate ${info.sampleRateHz} Hz; ${MIN_SAMPLE_RATE_HZ} to ${MAX_SAMPLE_RATE_HZ} Hz supported`,
     );
   }
-  if (info.bitsPerSample < 8) {
-    throw new WavFormatError("bad-bit-depth", `${info.bitsPerSample} bits per sample; 8 to 32 supported`);
+  if (info.bitsPerSample < 4) {
+    throw new WavFormatError("bad-bit-depth", `${info.bitsPerSample} bits per sample; 4 to 32 supported (RFC 9639, 8.2)`);
   }
   if (info.minBlockSize < 16 || info.maxBlockSize < info.minBlockSize) {
     throw new WavFormatError("bad-fmt-chunk", `STREAMINFO block sizes ${info.minBlockSize}–${info.maxBlockSize}; 16 ≤ min ≤ max expected`);

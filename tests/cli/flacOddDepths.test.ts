@@ -1,0 +1,217 @@
+/**
+ * FLAC at depths the bundled libFLAC build does not hand out (4–7, 9–15, 17–23, 25–31 bits): each frame is
+ * rewritten at the next of 8/16/24/32 bits (shared/src/flac/flacDepthWidening.ts) and scaled back. The files are
+ * made by Debian's flac from WAVs whose WAVE_FORMAT_EXTENSIBLE wValidBitsPerSample says the depth; they must
+ * measure as that WAV (sample peak, RMS, integrated loudness within 0.01 dB/LU), decode to the same samples as
+ * Debian's `flac -d` does, and pass the STREAMINFO MD5 (RFC 9639, 8.2: MD5 of the samples at the stream's depth).
+ */
+import { createHash } from "node:crypto";
+import { execFileSync, spawnSync } from "node:child_process";
+import { mkdtempSync, readFileSync, rmSync, writeFileSync } from "node:fs";
+import { tmpdir } from "node:os";
+import path from "node:path";
+import { afterAll, beforeAll, describe, expect, it } from "vitest";
+import { readAudioFile } from "../../cli/src/audio/readAudioFile.ts";
+import { loadProfile } from "../../cli/src/profiles/loadProfile.ts";
+import { analyseFile, type ScanContext } from "../../cli/src/scan/analyseFile.ts";
+import { fileReportSchema, type FileReport } from "../../shared/src/types/report.ts";
+import { seededRandom } from "../fixtures/synth.ts";
+import { encodeWav } from "../fixtures/wavWriter.ts";
+
+const has = (cmd: string, arg = "--version"): boolean => spawnSync(cmd, [arg], { stdio: "ignore" }).status === 0;
+const toolsPresent = has("flac") && has("metaflac");
+
+let dir: string;
+let context: ScanContext;
+const file = (name: string): string => path.join(dir, name);
+
+beforeAll(async () => {
+  dir = mkdtempSync(path.join(tmpdir(), "tidemark-flac-odd-"));
+  const loaded = await loadProfile("preservation-master", dir);
+  context = { profile: loaded.profile, settings: loaded.settings, spectrograms: null, fingerprint: false, closeups: false };
+});
+afterAll(() => rmSync(dir, { recursive: true, force: true }));
+
+const RATE = 48000;
+const SEG = 8192;
+
+/**
+ * Integer codes at `bits`, in segments meant to make flac -8 pick each stereo decorrelation (RFC 9639, 9.1.3):
+ * a loud and a quiet channel (independent), R = L + noise (left/side), L = R + noise (right/side), L/R = A ± 2B
+ * (mid/side); then tones (FIXED/LPC), silence beside full-scale noise (CONSTANT, VERBATIM). Extra channels are
+ * the first two with a delay and gain of their own, so every channel differs.
+ */
+function codes(bits: number, channels: number, seed: number): Int32Array[] {
+  const full = 2 ** (bits - 1);
+  const a = Math.max(1, Math.floor(full / 4));
+  const rnd = seededRandom(seed);
+  const noise = (amp: number): number => Math.round((rnd() * 2 - 1) * amp);
+  const clip = (v: number): number => Math.max(-full, Math.min(full - 1, v));
+  const n = 6 * SEG;
+  const l = new Int32Array(n);
+  const r = new Int32Array(n);
+  for (let i = 0; i < SEG; i++) {
+    l[i] = noise(a);
+    r[i] = noise(a / 16);
+    const A = noise(a);
+    l[SEG + i] = A;
+    r[SEG + i] = clip(A + noise(a));
+    const C = noise(a);
+    r[2 * SEG + i] = C;
+    l[2 * SEG + i] = clip(C + noise(a));
+    const M = noise(a / 2);
+    const S = noise(a / 2);
+    l[3 * SEG + i] = clip(M + 2 * S);
+    r[3 * SEG + i] = clip(M - 2 * S);
+    l[4 * SEG + i] = Math.round(Math.sin(i * 0.05) * full * 0.7);
+    r[4 * SEG + i] = Math.round(Math.sin(i * 0.031 + 0.3 * Math.sin(i * 0.001)) * full * 0.6);
+    l[5 * SEG + i] = 0;
+    r[5 * SEG + i] = noise(full - 1);
+  }
+  // Mono: the right channel, silent in its first segment (CONSTANT) and full-scale noise in its last (VERBATIM).
+  if (channels === 1) r.fill(0, 0, SEG);
+  const out = channels === 1 ? [r] : [l, r];
+  for (let c = 2; c < channels; c++) {
+    const src = out[c % 2];
+    const x = new Int32Array(n);
+    for (let i = 0; i < n; i++) x[i] = Math.round(src[(i + 97 * c) % n] * (0.9 - 0.1 * c));
+    out.push(x);
+  }
+  return out;
+}
+
+/** The WAV: extensible, 8/16/24/32-bit words, wValidBitsPerSample = bits (flac keeps that as the stream's depth). */
+function makeWav(name: string, bits: number, channels: number, seed = bits): void {
+  const container = (Math.ceil(bits / 8) * 8) as 8 | 16 | 24 | 32;
+  const full = 2 ** (bits - 1);
+  const planar = codes(bits, channels, seed).map((x) => Float32Array.from(x, (v) => v / full));
+  const masks: Record<number, number> = { 1: 0x4, 2: 0x3, 6: 0x3f };
+  const wav = encodeWav(planar, { sampleRateHz: RATE, bitDepth: container, extensible: true, channelMask: masks[channels] } as Parameters<typeof encodeWav>[1]);
+  new DataView(wav.buffer).setUint16(20 + 18, bits, true);
+  writeFileSync(file(name), wav);
+}
+
+function encode(wav: string, flac: string, flags: string[]): void {
+  execFileSync("flac", ["-s", "-f", ...flags, file(wav), "-o", file(flac)]);
+}
+
+/** Debian's flac's own analysis (flac -a): per frame its offset, channel assignment and subframe types. */
+function analyse(flac: string): { offsets: number[]; assignments: Set<string>; types: Set<string>; wasted: Set<string> } {
+  execFileSync("flac", ["-s", "-a", "-f", file(flac), "-o", file(`${flac}.ana`)]);
+  const text = readFileSync(file(`${flac}.ana`), "latin1");
+  return {
+    offsets: [...text.matchAll(/^frame=\d+\toffset=(\d+)/gm)].map((m) => Number(m[1])),
+    assignments: new Set([...text.matchAll(/channel_assignment=(\w+)/g)].map((m) => m[1])),
+    types: new Set([...text.matchAll(/\ttype=(\w+)/g)].map((m) => m[1])),
+    wasted: new Set([...text.matchAll(/wasted_bits=(\d+)/g)].map((m) => m[1])),
+  };
+}
+
+async function scan(name: string): Promise<FileReport> {
+  const { report } = await analyseFile({ absPath: file(name), relPath: name, sizeBytes: 0 }, context);
+  expect(fileReportSchema.safeParse(JSON.parse(JSON.stringify(report))).success).toBe(true);
+  return report;
+}
+
+async function decodedSha(p: string): Promise<string[]> {
+  const hashes: ReturnType<typeof createHash>[] = [];
+  await readAudioFile(p, {
+    onOpen: (info) => {
+      for (let c = 0; c < info.stream.channels; c++) hashes.push(createHash("sha256"));
+      return (block) => {
+        for (let c = 0; c < hashes.length; c++) {
+          const x = block.channels[c].subarray(0, block.frames);
+          hashes[c].update(new Uint8Array(x.buffer, x.byteOffset, x.byteLength));
+        }
+      };
+    },
+  });
+  return hashes.map((h) => h.digest("hex"));
+}
+
+function expectSameMeasurements(flac: FileReport, wav: FileReport): void {
+  const m = flac.metrics!;
+  const r = wav.metrics!;
+  expect(Math.abs(m.samplePeakDbfs! - r.samplePeakDbfs!)).toBeLessThanOrEqual(0.01);
+  expect(Math.abs(m.rmsDbfs! - r.rmsDbfs!)).toBeLessThanOrEqual(0.01);
+  expect(Math.abs(m.integratedLufs! - r.integratedLufs!)).toBeLessThanOrEqual(0.01);
+}
+
+describe.runIf(toolsPresent)("FLAC at odd depths decodes as the WAV it came from (Debian's flac)", () => {
+  // 4, 7 and 28 bits are outside the FLAC subset: flac makes them with --lax only.
+  it.each([
+    ["12-bit stereo -8", 12, 2, ["-8"]],
+    ["20-bit stereo -8", 20, 2, ["-8"]],
+    ["20-bit stereo --no-mid-side", 20, 2, ["-8", "--no-mid-side"]],
+    ["20-bit mono", 20, 1, ["-5"]],
+    ["20-bit 6 channels", 20, 6, ["-8"]],
+    ["12-bit 6 channels", 12, 6, ["-5"]],
+    ["4-bit stereo", 4, 2, ["-8", "--lax"]],
+    ["7-bit mono", 7, 1, ["-8", "--lax"]],
+    ["23-bit stereo", 23, 2, ["-8", "--lax"]],
+  ] as const)("%s", async (label, bits, channels, flagList) => {
+    const flags: readonly string[] = flagList;
+    const stem = label.replace(/[^a-z0-9]+/gi, "-");
+    makeWav(`${stem}.wav`, bits, channels);
+    encode(`${stem}.wav`, `${stem}.flac`, [...flags]);
+    expect(execFileSync("metaflac", ["--show-bps", file(`${stem}.flac`)], { encoding: "utf8" }).trim()).toBe(String(bits));
+    const ana = analyse(`${stem}.flac`);
+    if (channels === 2 && !flags.includes("--no-mid-side")) {
+      // The test's point: every stereo decorrelation, whose side channel is one bit wider, went through the rewrite.
+      expect([...ana.assignments].sort()).toEqual(["INDEPENDENT", "LEFT_SIDE", "MID_SIDE", "RIGHT_SIDE"]);
+    }
+    if (flags.includes("--no-mid-side")) expect([...ana.assignments]).toEqual(["INDEPENDENT"]);
+    for (const t of ["CONSTANT", "VERBATIM", "FIXED"]) expect(ana.types).toContain(t);
+    if (label === "20-bit stereo -8") {
+      // LPC subframes, and subframes that already had wasted bits (their count grows by the rewrite).
+      expect(ana.types).toContain("LPC");
+      expect([...ana.wasted].some((k) => k !== "0")).toBe(true);
+    }
+    // Debian's flac decodes the same file to a WAV: our decode of the FLAC must give its samples bit for bit.
+    execFileSync("flac", ["-s", "-d", "-f", file(`${stem}.flac`), "-o", file(`${stem}.ref.wav`)]);
+    const [flac, wav] = await Promise.all([scan(`${stem}.flac`), scan(`${stem}.wav`)]);
+    expect(flac.error).toBeNull();
+    expect(flac.format).toMatchObject({ container: "flac", bitDepth: bits, channels, sampleRateHz: RATE });
+    expect(flac.metrics!.effectiveBitDepth).toBe(wav.metrics!.effectiveBitDepth);
+    expectSameMeasurements(flac, wav);
+    const codes = flac.findings.map((f) => f.code);
+    expect(codes).not.toContain("decode-error");
+    // The MD5 was checked (no unset finding) and held (no mismatch).
+    expect(codes).not.toContain("flac-md5-mismatch");
+    expect(codes).not.toContain("flac-md5-unset");
+    const ours = await decodedSha(file(`${stem}.flac`));
+    expect(ours).toEqual(await decodedSha(file(`${stem}.wav`)));
+    expect(ours).toEqual(await decodedSha(file(`${stem}.ref.wav`)));
+  }, 60_000);
+
+  it("28-bit (flac --lax) measures as its WAV; the MD5 is not checked, as for 32-bit (float32 output)", async () => {
+    makeWav("d28.wav", 28, 2);
+    encode("d28.wav", "d28.flac", ["-8", "--lax"]);
+    expect(execFileSync("metaflac", ["--show-bps", file("d28.flac")], { encoding: "utf8" }).trim()).toBe("28");
+    const [flac, wav] = await Promise.all([scan("d28.flac"), scan("d28.wav")]);
+    expect(flac.error).toBeNull();
+    expect(flac.format).toMatchObject({ container: "flac", bitDepth: 28, channels: 2 });
+    expectSameMeasurements(flac, wav);
+    expect(flac.findings.map((f) => f.code)).not.toContain("decode-error");
+    expect(flac.findings.find((f) => f.code === "flac-md5-unset")?.severity).toBe("info");
+  }, 60_000);
+
+  it("a flipped byte inside one frame of a 20-bit FLAC: exactly one decode-error, at that frame's time; the rest decodes", async () => {
+    makeWav("flip.wav", 20, 2, 99);
+    encode("flip.wav", "flip.flac", ["-8"]);
+    const { offsets } = analyse("flip.flac");
+    const bytes = new Uint8Array(readFileSync(file("flip.flac")));
+    const k = 5;
+    const at = Math.floor((offsets[k] + offsets[k + 1]) / 2);
+    bytes[at] ^= 0x5a;
+    writeFileSync(file("flipped.flac"), bytes);
+    const report = await scan("flipped.flac");
+    const errors = report.findings.filter((f) => f.code === "decode-error");
+    expect(errors).toHaveLength(1);
+    // flac -8 frames hold 4096 samples (RFC 9639 block size code 12): frame 5 starts at 5 × 4096.
+    expect(errors[0].startSeconds).toBeCloseTo((k * 4096) / RATE, 6);
+    expect(errors[0].endSeconds).toBeCloseTo(((k + 1) * 4096) / RATE, 6);
+    expect(report.findings.map((f) => f.code)).toContain("flac-md5-mismatch");
+    expect(report.format).toMatchObject({ bitDepth: 20, durationSeconds: (6 * SEG) / RATE });
+  }, 60_000);
+});
