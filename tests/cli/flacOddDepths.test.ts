@@ -17,6 +17,7 @@ import { analyseFile, type ScanContext } from "../../cli/src/scan/analyseFile.ts
 import { fileReportSchema, type FileReport } from "../../shared/src/types/report.ts";
 import { seededRandom } from "../fixtures/synth.ts";
 import { encodeWav } from "../fixtures/wavWriter.ts";
+import { BLOCK, constant, fixed, frame, lpc, SIZE_CODE, verbatim, zeroEscape, type Sub } from "../helpers/flacFrameBuilder.ts";
 
 const has = (cmd: string, arg = "--version"): boolean => spawnSync(cmd, [arg], { stdio: "ignore" }).status === 0;
 const toolsPresent = has("flac") && has("metaflac");
@@ -182,6 +183,34 @@ describe.runIf(toolsPresent)("FLAC at odd depths decodes as the WAV it came from
     const ours = await decodedSha(file(`${stem}.flac`));
     expect(ours).toEqual(await decodedSha(file(`${stem}.wav`)));
     expect(ours).toEqual(await decodedSha(file(`${stem}.ref.wav`)));
+  }, 60_000);
+
+  // Debian's flac does not write escaped Rice partitions (RFC 9639, 9.2.7.1), nor every subframe shape: frames
+  // built bit by bit (tests/helpers/flacFrameBuilder.ts) make a file that Debian's flac -d decodes as reference.
+  it.each([
+    ["20-bit mono, every subframe type and escapes", 20, 0, 1, [[constant(0, -123456)], [verbatim(3, 11)], [lpc(0, false)], [lpc(2, true)], [fixed(1)]]],
+    ["12-bit mono, escapes of width 0 and 7", 12, 0, 1, [[fixed(0)], [zeroEscape(0)], [verbatim(1, 4)]]],
+    ["20-bit stereo in each decorrelation", 20, -1, 2, [[fixed(1), verbatim(0, 3)], [verbatim(0, 5), verbatim(0, 9)], [verbatim(2, 5), lpc(0, false)], [lpc(1, true), verbatim(1, 2)]]],
+    ["7-bit mono (frames defer their depth to STREAMINFO)", 7, 0, 1, [[verbatim(0, 1)], [fixed(0)], [constant(0, -3)]]],
+  ] as const)("hand-built frames, %s: the samples flac -d gives", async (label, bps, assignment, channels, frameSubs) => {
+    const stem = label.replace(/[^a-z0-9]+/gi, "-").slice(0, 40);
+    const info = new Uint8Array(42);
+    info.set([0x66, 0x4c, 0x61, 0x43, 0x80, 0, 0, 34]);
+    // STREAMINFO (RFC 9639, 8.2): block sizes 16, frame sizes unknown, 48 kHz, channels, depth, total; MD5 unset.
+    const total = BLOCK * frameSubs.length;
+    info.set([0, BLOCK, 0, BLOCK, 0, 0, 0, 0, 0, 0, 0x0b, 0xb8, ((channels - 1) << 1) | ((bps - 1) >> 4), (((bps - 1) & 15) << 4), 0, 0, 0, total], 8);
+    // Stereo: independent, left/side, side/right, mid/side in turn (channel codes 1, 8, 9, 10).
+    const codesFor = [1, 8, 9, 10];
+    const frames = frameSubs.map((subs, i) => frame(SIZE_CODE[bps] ?? 0, assignment < 0 ? codesFor[i] : assignment, bps, subs as unknown as Sub[], 0, i));
+    writeFileSync(file(`${stem}.flac`), Uint8Array.from([...info, ...frames.flatMap((f) => [...f])]));
+    // (flac warns that the MD5 is unset: its stderr is kept out of the test output.)
+    execFileSync("flac", ["-s", "-d", "-f", file(`${stem}.flac`), "-o", file(`${stem}.ref.wav`)], { stdio: ["ignore", "ignore", "pipe"] });
+    const report = await scan(`${stem}.flac`);
+    expect(report.metrics!.samplePeakDbfs!).toBeGreaterThan(-60);
+    expect(report.error).toBeNull();
+    expect(report.format).toMatchObject({ bitDepth: bps, channels });
+    expect(report.findings.map((f) => f.code)).not.toContain("decode-error");
+    expect(await decodedSha(file(`${stem}.flac`))).toEqual(await decodedSha(file(`${stem}.ref.wav`)));
   }, 60_000);
 
   it("28-bit (flac --lax) measures as its WAV; the MD5 is not checked, as for 32-bit (float32 output)", async () => {
