@@ -15,7 +15,7 @@ import { readAudioFile } from "../../cli/src/audio/readAudioFile.ts";
 import { loadProfile } from "../../cli/src/profiles/loadProfile.ts";
 import { analyseFile, type ScanContext } from "../../cli/src/scan/analyseFile.ts";
 import { fileReportSchema, type FileReport } from "../../shared/src/types/report.ts";
-import { seededRandom } from "../fixtures/synth.ts";
+import { pinkNoise, seededRandom } from "../fixtures/synth.ts";
 import { encodeWav } from "../fixtures/wavWriter.ts";
 import { BLOCK, constant, fixed, frame, lpc, SIZE_CODE, verbatim, zeroEscape, type Sub } from "../helpers/flacFrameBuilder.ts";
 
@@ -63,8 +63,10 @@ function codes(bits: number, channels: number, seed: number): Int32Array[] {
     const M = noise(a / 2);
     const S = noise(a / 2);
     l[3 * SEG + i] = clip(M + 2 * S);
-    r[3 * SEG + i] = clip(M - 2 * S);
-    l[4 * SEG + i] = Math.round(Math.sin(i * 0.05) * full * 0.7);
+    // L + R odd half the time: mid/side keeps that bit in the side channel's lowest bit (RFC 9639, 4.2).
+    r[3 * SEG + i] = clip(M - 2 * S + (rnd() < 0.5 ? 1 : 0));
+    // Multiples of 4: flac codes them with 2 wasted bits (RFC 9639, 9.2.2), which the rewrite grows.
+    l[4 * SEG + i] = 4 * Math.round((Math.sin(i * 0.05) * full * 0.7) / 4);
     r[4 * SEG + i] = Math.round(Math.sin(i * 0.031 + 0.3 * Math.sin(i * 0.001)) * full * 0.6);
     l[5 * SEG + i] = 0;
     r[5 * SEG + i] = noise(full - 1);
@@ -190,7 +192,7 @@ describe.runIf(toolsPresent)("FLAC at odd depths decodes as the WAV it came from
   it.each([
     ["20-bit mono, every subframe type and escapes", 20, 0, 1, [[constant(0, -123456)], [verbatim(3, 11)], [lpc(0, false)], [lpc(2, true)], [fixed(1)]]],
     ["12-bit mono, escapes of width 0 and 7", 12, 0, 1, [[fixed(0)], [zeroEscape(0)], [verbatim(1, 4)]]],
-    ["20-bit stereo in each decorrelation", 20, -1, 2, [[fixed(1), verbatim(0, 3)], [verbatim(0, 5), verbatim(0, 9)], [verbatim(2, 5), lpc(0, false)], [lpc(1, true), verbatim(1, 2)]]],
+    ["20-bit stereo in each decorrelation", 20, -1, 2, [[fixed(1), verbatim(0, 3)], [verbatim(0, 5), verbatim(0, 9)], [verbatim(2, 5), lpc(0, false)], [lpc(1, true), verbatim(1, 2)], [verbatim(0, 7), verbatim(0, 4)]]],
     ["7-bit mono (frames defer their depth to STREAMINFO)", 7, 0, 1, [[verbatim(0, 1)], [fixed(0)], [constant(0, -3)]]],
   ] as const)("hand-built frames, %s: the samples flac -d gives", async (label, bps, assignment, channels, frameSubs) => {
     const stem = label.replace(/[^a-z0-9]+/gi, "-").slice(0, 40);
@@ -199,8 +201,9 @@ describe.runIf(toolsPresent)("FLAC at odd depths decodes as the WAV it came from
     // STREAMINFO (RFC 9639, 8.2): block sizes 16, frame sizes unknown, 48 kHz, channels, depth, total; MD5 unset.
     const total = BLOCK * frameSubs.length;
     info.set([0, BLOCK, 0, BLOCK, 0, 0, 0, 0, 0, 0, 0x0b, 0xb8, ((channels - 1) << 1) | ((bps - 1) >> 4), (((bps - 1) & 15) << 4), 0, 0, 0, total], 8);
-    // Stereo: independent, left/side, side/right, mid/side in turn (channel codes 1, 8, 9, 10).
-    const codesFor = [1, 8, 9, 10];
+    // Stereo: independent, left/side, side/right, mid/side in turn (channel codes 1, 8, 9, 10); the last frame
+    // is mid/side with odd side values, whose lowest bit is the one mid lost (RFC 9639, 4.2).
+    const codesFor = [1, 8, 9, 10, 10];
     const frames = frameSubs.map((subs, i) => frame(SIZE_CODE[bps] ?? 0, assignment < 0 ? codesFor[i] : assignment, bps, subs as unknown as Sub[], 0, i));
     writeFileSync(file(`${stem}.flac`), Uint8Array.from([...info, ...frames.flatMap((f) => [...f])]));
     // (flac warns that the MD5 is unset: its stderr is kept out of the test output.)
@@ -212,6 +215,46 @@ describe.runIf(toolsPresent)("FLAC at odd depths decodes as the WAV it came from
     expect(report.findings.map((f) => f.code)).not.toContain("decode-error");
     expect(await decodedSha(file(`${stem}.flac`))).toEqual(await decodedSha(file(`${stem}.ref.wav`)));
   }, 60_000);
+
+  it("a 30 s 20-bit FLAC decodes as flac -d; with trailing bytes, cut short, and one with a byte flipped every 9 701: findings as for 24-bit, never a crash", async () => {
+    const seconds = 30;
+    const q = 2 ** 19;
+    const tone = [1, 2].map((seed) => Float32Array.from(pinkNoise({ sampleRateHz: RATE, seconds, rmsDbfs: -20, seed }), (v) => Math.round(v * q) / q));
+    const wav = encodeWav(tone, { sampleRateHz: RATE, bitDepth: 24, extensible: true });
+    new DataView(wav.buffer).setUint16(20 + 18, 20, true);
+    writeFileSync(file("long20.wav"), wav);
+    encode("long20.wav", "long20.flac", []);
+    const whole = new Uint8Array(readFileSync(file("long20.flac")));
+    writeFileSync(file("trailing20.flac"), Uint8Array.from([...whole, ...new Uint8Array(777).fill(0x55)]));
+    writeFileSync(file("cut20.flac"), whole.subarray(0, Math.floor(whole.length * 0.6)));
+    const dense = whole.slice();
+    let damaged = 0;
+    for (let p = 20_000; p < dense.length; p += 9_701, damaged++) dense[p] ^= 0x5a;
+    writeFileSync(file("dense20.flac"), dense);
+    expect(damaged).toBeGreaterThan(100);
+
+    // A mid/side-heavy stream at its default setting: every sample as Debian's flac -d gives it, MD5 holds.
+    const plain = await scan("long20.flac");
+    expect(plain.findings.map((f) => f.code)).not.toContain("flac-md5-mismatch");
+    expect(plain.findings.map((f) => f.code)).not.toContain("decode-error");
+    execFileSync("flac", ["-s", "-d", "-f", file("long20.flac"), "-o", file("long20.ref.wav")]);
+    expect(await decodedSha(file("long20.flac"))).toEqual(await decodedSha(file("long20.ref.wav")));
+    const trailing = await scan("trailing20.flac");
+    expect(trailing.findings.find((f) => f.code === "trailing-data")?.message).toMatch(/777/);
+    expect(trailing.findings.map((f) => f.code)).not.toContain("decode-error");
+    expect(trailing.findings.map((f) => f.code)).not.toContain("flac-md5-mismatch");
+
+    const cut = await scan("cut20.flac");
+    const truncated = cut.findings.find((f) => f.code === "truncated");
+    expect(truncated?.startSeconds).toBeGreaterThan(0.5 * seconds);
+    expect(truncated?.startSeconds).toBeLessThan(0.7 * seconds);
+
+    const hurt = await scan("dense20.flac");
+    expect(hurt.error).toBeNull();
+    expect(hurt.format!.durationSeconds).toBeCloseTo(seconds, 6);
+    expect(hurt.findings.filter((f) => f.code === "decode-error").length).toBeGreaterThan(40);
+    expect(hurt.findings.map((f) => f.code)).toContain("flac-md5-mismatch");
+  }, 120_000);
 
   it("28-bit (flac --lax) measures as its WAV; the MD5 is not checked, as for 32-bit (float32 output)", async () => {
     makeWav("d28.wav", 28, 2);

@@ -20,7 +20,8 @@ export function wrapOddDepthFrames(inner: LibflacFrames, info: FlacStreamInfo): 
   const offset = 2 ** (container - 1);
   const bias = offset + 0.5;
   const target = 1 / (2 ** (bps - 1) - 1);
-  // Above 24 bits libFLAC's float32 is not exact anyway (see flacStreamDecoder.ts): one factor, no rounding.
+  // Above 24 bits libFLAC's float32 is not exact anyway (see flacStreamDecoder.ts): one factor, no rounding
+  // (mid/side frames are then off by up to half a step at the stream's depth, below float32's resolution).
   const factor = containerScale / (2 ** shift * (2 ** (bps - 1) - 1));
   const failed: DecodedFrame = { samples: 0, channels: info.channels, data: EMPTY, error: null };
   let header: Uint8Array | null = null;
@@ -30,8 +31,12 @@ export function wrapOddDepthFrames(inner: LibflacFrames, info: FlacStreamInfo): 
       for (let i = 0; i < length; i++) data[i] *= factor;
       return;
     }
-    // Exact: every value is within 1e-6 of an integer code at the container depth, whose low `shift` bits are 0.
-    for (let i = 0; i < length; i++) data[i] = ((((data[i] * containerScale + bias) | 0) - offset) >> shift) * target;
+    // Every value is within 1e-6 of an integer code at the container depth (rounded by a bias and |0, as in
+    // flacStreamDecoder.ts). Its low `shift` bits are 0, except in mid/side frames: libFLAC rebuilds the mid
+    // channel's lost low bit from the side channel's lowest bit (RFC 9639, 4.2: mid = (mid << 1) | (side & 1)),
+    // which the shift has made 0, so it gives 2^(shift−1)·(2M + S) where the stream's depth gives
+    // ceil((2M + S) / 2). Dividing by 2^shift rounding up is exact for both: −((−v) >> shift).
+    for (let i = 0; i < length; i++) data[i] = -((offset - ((data[i] * containerScale + bias) | 0)) >> shift) * target;
   };
 
   return {
