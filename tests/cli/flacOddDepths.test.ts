@@ -140,6 +140,14 @@ function expectSameMeasurements(flac: FileReport, wav: FileReport): void {
   expect(Math.abs(m.integratedLufs! - r.integratedLufs!)).toBeLessThanOrEqual(0.01);
 }
 
+/** "fLaC" + STREAMINFO (RFC 9639, 8.2): block sizes 16, frame sizes unknown, 48 kHz, channels, depth, total; MD5 unset. */
+function streamHeader(bps: number, channels: number, frames: number): Uint8Array {
+  const info = new Uint8Array(42);
+  info.set([0x66, 0x4c, 0x61, 0x43, 0x80, 0, 0, 34]);
+  info.set([0, BLOCK, 0, BLOCK, 0, 0, 0, 0, 0, 0, 0x0b, 0xb8, ((channels - 1) << 1) | ((bps - 1) >> 4), ((bps - 1) & 15) << 4, 0, 0, 0, BLOCK * frames], 8);
+  return info;
+}
+
 describe.runIf(toolsPresent)("FLAC at odd depths decodes as the WAV it came from (Debian's flac)", () => {
   // 4, 7 and 28 bits are outside the FLAC subset: flac makes them with --lax only.
   it.each([
@@ -196,11 +204,7 @@ describe.runIf(toolsPresent)("FLAC at odd depths decodes as the WAV it came from
     ["7-bit mono (frames defer their depth to STREAMINFO)", 7, 0, 1, [[verbatim(0, 1)], [fixed(0)], [constant(0, -3)]]],
   ] as const)("hand-built frames, %s: the samples flac -d gives", async (label, bps, assignment, channels, frameSubs) => {
     const stem = label.replace(/[^a-z0-9]+/gi, "-").slice(0, 40);
-    const info = new Uint8Array(42);
-    info.set([0x66, 0x4c, 0x61, 0x43, 0x80, 0, 0, 34]);
-    // STREAMINFO (RFC 9639, 8.2): block sizes 16, frame sizes unknown, 48 kHz, channels, depth, total; MD5 unset.
-    const total = BLOCK * frameSubs.length;
-    info.set([0, BLOCK, 0, BLOCK, 0, 0, 0, 0, 0, 0, 0x0b, 0xb8, ((channels - 1) << 1) | ((bps - 1) >> 4), (((bps - 1) & 15) << 4), 0, 0, 0, total], 8);
+    const info = streamHeader(bps, channels, frameSubs.length);
     // Stereo: independent, left/side, side/right, mid/side in turn (channel codes 1, 8, 9, 10); the last frame
     // is mid/side with odd side values, whose lowest bit is the one mid lost (RFC 9639, 4.2).
     const codesFor = [1, 8, 9, 10, 10];
@@ -255,6 +259,18 @@ describe.runIf(toolsPresent)("FLAC at odd depths decodes as the WAV it came from
     expect(hurt.findings.filter((f) => f.code === "decode-error").length).toBeGreaterThan(40);
     expect(hurt.findings.map((f) => f.code)).toContain("flac-md5-mismatch");
   }, 120_000);
+
+  it("a frame whose CRC-16 holds but whose subframe cannot be walked (reserved type) is one decode-error at its time", async () => {
+    const frames = [[verbatim(0, 1)], [{ k: 0, type: 2, body: () => {} }], [fixed(0)]].map((subs, i) => frame(SIZE_CODE[20], 0, 20, subs as Sub[], 0, i));
+    writeFileSync(file("reserved.flac"), Uint8Array.from([...streamHeader(20, 1, 3), ...frames.flatMap((f) => [...f])]));
+    const report = await scan("reserved.flac");
+    const errors = report.findings.filter((f) => f.code === "decode-error");
+    expect(errors).toHaveLength(1);
+    expect(errors[0].startSeconds).toBeCloseTo(BLOCK / RATE, 9);
+    expect(errors[0].endSeconds).toBeCloseTo((2 * BLOCK) / RATE, 9);
+    expect(errors[0].message).toMatch(/reserved subframe type 2/);
+    expect(report.format!.durationSeconds).toBeCloseTo((3 * BLOCK) / RATE, 9);
+  });
 
   it("28-bit (flac --lax) measures as its WAV; the MD5 is not checked, as for 32-bit (float32 output)", async () => {
     makeWav("d28.wav", 28, 2);
