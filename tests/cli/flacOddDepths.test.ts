@@ -14,6 +14,7 @@ import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import { readAudioFile } from "../../cli/src/audio/readAudioFile.ts";
 import { loadProfile } from "../../cli/src/profiles/loadProfile.ts";
 import { analyseFile, type ScanContext } from "../../cli/src/scan/analyseFile.ts";
+import { crc16, crc8 } from "../../shared/src/flac/flacFramer.ts";
 import { fileReportSchema, type FileReport } from "../../shared/src/types/report.ts";
 import { pinkNoise, seededRandom } from "../fixtures/synth.ts";
 import { encodeWav } from "../fixtures/wavWriter.ts";
@@ -88,7 +89,7 @@ function makeWav(name: string, bits: number, channels: number, seed = bits): voi
   const container = (Math.ceil(bits / 8) * 8) as 8 | 16 | 24 | 32;
   const full = 2 ** (bits - 1);
   const planar = codes(bits, channels, seed).map((x) => Float32Array.from(x, (v) => v / full));
-  const masks: Record<number, number> = { 1: 0x4, 2: 0x3, 6: 0x3f };
+  const masks: Record<number, number> = { 1: 0x4, 2: 0x3, 6: 0x3f, 8: 0x63f };
   const wav = encodeWav(planar, { sampleRateHz: RATE, bitDepth: container, extensible: true, channelMask: masks[channels] } as Parameters<typeof encodeWav>[1]);
   new DataView(wav.buffer).setUint16(20 + 18, bits, true);
   writeFileSync(file(name), wav);
@@ -160,6 +161,8 @@ describe.runIf(toolsPresent)("FLAC at odd depths decodes as the WAV it came from
     ["4-bit stereo", 4, 2, ["-8", "--lax"]],
     ["7-bit mono", 7, 1, ["-8", "--lax"]],
     ["23-bit stereo", 23, 2, ["-8", "--lax"]],
+    ["23-bit 8 channels (depth left to STREAMINFO)", 23, 8, ["-8", "--lax"]],
+    ["20-bit 8 channels", 20, 8, ["-5"]],
   ] as const)("%s", async (label, bits, channels, flagList) => {
     const flags: readonly string[] = flagList;
     const stem = label.replace(/[^a-z0-9]+/gi, "-");
@@ -270,6 +273,33 @@ describe.runIf(toolsPresent)("FLAC at odd depths decodes as the WAV it came from
     expect(errors[0].endSeconds).toBeCloseTo((2 * BLOCK) / RATE, 9);
     expect(errors[0].message).toMatch(/reserved subframe type 2/);
     expect(report.format!.durationSeconds).toBeCloseTo((3 * BLOCK) / RATE, 9);
+  });
+
+  it("20-bit frames that leave their rate to STREAMINFO (code 0): libFLAC is primed with the rewritten STREAMINFO; flac -t accepts the file", async () => {
+    makeWav("rate0.wav", 20, 2, 7);
+    encode("rate0.wav", "rate0.flac", ["-8"]);
+    const { offsets } = analyse("rate0.flac");
+    const bytes = new Uint8Array(readFileSync(file("rate0.flac")));
+    offsets.push(bytes.length);
+    for (let k = 0; k + 1 < offsets.length; k++) {
+      const at = offsets[k];
+      const end = offsets[k + 1];
+      // RFC 9639, 9.1: byte 2's low nibble is the rate code (10 = 48 kHz); the CRC-8 follows the one-byte
+      // frame number and any block-size bytes (code 7: two); the CRC-16 ends the frame.
+      expect(bytes[at + 2] & 0x0f).toBe(10);
+      bytes[at + 2] &= 0xf0;
+      const last = bytes[at + 2] >> 4 === 7 ? 2 : bytes[at + 2] >> 4 === 6 ? 1 : 0;
+      bytes[at + 5 + last] = crc8(bytes, at, at + 5 + last);
+      const c = crc16(bytes, at, end - 2, 0);
+      bytes[end - 2] = c >> 8;
+      bytes[end - 1] = c & 0xff;
+    }
+    writeFileSync(file("rate0-deferred.flac"), bytes);
+    expect(spawnSync("flac", ["-s", "-t", file("rate0-deferred.flac")]).status).toBe(0);
+    const report = await scan("rate0-deferred.flac");
+    expect(report.findings.map((f) => f.code)).not.toContain("decode-error");
+    expect(report.findings.map((f) => f.code)).not.toContain("flac-md5-mismatch");
+    expect(await decodedSha(file("rate0-deferred.flac"))).toEqual(await decodedSha(file("rate0.wav")));
   });
 
   it("28-bit (flac --lax) measures as its WAV; the MD5 is not checked, as for 32-bit (float32 output)", async () => {

@@ -25,6 +25,10 @@ export function wrapOddDepthFrames(inner: LibflacFrames, info: FlacStreamInfo): 
   const factor = containerScale / (2 ** shift * (2 ** (bps - 1) - 1));
   const failed: DecodedFrame = { samples: 0, channels: info.channels, data: EMPTY, error: null };
   let header: Uint8Array | null = null;
+  /** The caller primed libFLAC with STREAMINFO since its last restart, and no frame has been decoded since. */
+  let primePending = false;
+  let fresh = true;
+  const idle: DecodedFrame = { samples: 0, channels: info.channels, data: EMPTY, error: null };
 
   const restore = (data: Float32Array, length: number): void => {
     if (container > 24) {
@@ -43,19 +47,31 @@ export function wrapOddDepthFrames(inner: LibflacFrames, info: FlacStreamInfo): 
     decode(frame) {
       const isStreamHeader = frame.length >= 4 && frame[0] === 0x66 && frame[1] === 0x4c && frame[2] === 0x61 && frame[3] === 0x43;
       if (isStreamHeader) {
+        // Held back: a rewritten frame never leaves its depth to STREAMINFO, only perhaps its rate (code 0,
+        // RFC 9639, 9.1.2), and libFLAC primed with STREAMINFO faulted on 8-channel files (flacStreamDecoder.ts,
+        // restartLibflac; seen again here on a 23-bit 8-channel file from Debian's flac, whose frames defer
+        // their depth only).
         header ??= widenStreamHeader(frame, container);
-        return inner.decode(header);
+        primePending = fresh;
+        return idle;
       }
       const widened = widener.widen(frame);
       if (typeof widened === "string") {
         failed.error = `frame not rewritten from ${bps} to ${container} bits for the decoder: ${widened}`;
         return failed;
       }
+      if (primePending && header && (widened[2] & 0x0f) === 0) inner.decode(header);
+      primePending = false;
+      fresh = false;
       const decoded = inner.decode(widened);
       restore(decoded.data, Math.min(decoded.data.length, decoded.samples * decoded.channels));
       return decoded;
     },
-    restart: () => inner.restart(),
+    restart: () => {
+      inner.restart();
+      fresh = true;
+      primePending = false;
+    },
     free: () => inner.free(),
   };
 }
