@@ -7,9 +7,9 @@
 // the compile; one that cannot be written is skipped without a word.
 //
 // One cache a command (`scan`, `verify`…: the first argument), so each holds the code its command runs and
-// `tidemark --version` does not load a scan's. Written at exit, after the run compiled what it needed: when there was none, when V8 rejected it, or when
-// this run compiled a tenth more code than the run that wrote it (a one-file scan, measured and drawn in this
-// thread, after a scan on the worker pool). Not after a
+// `tidemark --version` does not load a scan's. Written at exit, after the run compiled what it needed: when
+// there was none, when V8 rejected it, or when this run compiled a tenth more code than the run that wrote
+// it (a one-file scan, measured and drawn in this thread, after a scan on the worker pool). Not after a
 // usage error (exit 2): that run compiled little of what the command needs.
 //
 // Where: TIDEMARK_CODE_CACHE_DIR when set ("off" for none), else beside the bundle, else (not writable there,
