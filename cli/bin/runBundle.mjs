@@ -9,8 +9,9 @@
 // One cache a command (`scan`, `verify`…: the first argument), so each holds the code its command runs and
 // `tidemark --version` does not load a scan's. Written at exit, after the run compiled what it needed: when
 // there was none, when V8 rejected it, or when this run compiled a tenth more code than the run that wrote
-// it (a one-file scan, measured and drawn in this thread, after a scan on the worker pool). Not after a
-// usage error (exit 2): that run compiled little of what the command needs.
+// it (a one-file scan, measured and drawn in this thread, after a scan on the worker pool). That takes a walk
+// over the heap (≈ 2.5 ms), so a run with a cache V8 took looks at one time in four (every time when
+// debugging). Not after a usage error (exit 2): that run compiled little of what the command needs.
 //
 // Where: TIDEMARK_CODE_CACHE_DIR when set ("off" for none), else beside the bundle, else (not writable there,
 // as in a system-wide install) $XDG_CACHE_HOME/tidemark or ~/.cache/tidemark.
@@ -30,6 +31,8 @@ const HEADER_BYTES = 12;
 /** Rewrite when this run holds this much more bytecode than the one that wrote the cache (Node's own included: ≈ 0.8 MB for a scan on the worker pool, ≈ 0.94 MB for one that also measured and drew in this thread). */
 const GROWTH_TO_REWRITE = 1.1;
 const USAGE_EXIT_CODE = 2;
+/** A run with an accepted cache checks for growth with this probability. */
+const GROWTH_CHECK_SHARE = 0.25;
 
 /** Folders tried in order, for reading and for writing. */
 export function codeCacheDirs(bundlePath, env = process.env) {
@@ -67,7 +70,11 @@ function writeCache(dirs, name, data, bytecode) {
       renameSync(temp, file);
       return { file, reasons };
     } catch (error) {
-      rmSync(temp, { force: true });
+      try {
+        rmSync(temp, { force: true });
+      } catch {
+        // The folder is not there or not a folder: no temporary file either.
+      }
       reasons.push(`${dir}: ${error?.code ?? error}`);
     }
   }
@@ -79,8 +86,12 @@ function writeCache(dirs, name, data, bytecode) {
  * Returns what happened to the cache: "accepted", "rejected", "missing" or "off".
  */
 export function runBundle(bundlePath, env = process.env) {
-  const debug = env.TIDEMARK_DEBUG_CODE_CACHE === "1" ? (line) => process.stderr.write(`tidemark: code cache: ${line}\n`) : () => {};
-  const source = readFileSync(bundlePath, "utf8");
+  const debugging = env.TIDEMARK_DEBUG_CODE_CACHE === "1";
+  const debug = debugging ? (line) => process.stderr.write(`tidemark: code cache: ${line}\n`) : () => {};
+  // bundle.mjs writes ASCII only: Latin-1 reads it without UTF-8 decoding. A bundle without its id was not
+  // written by it, and is read again as UTF-8.
+  let source = readFileSync(bundlePath, "latin1");
+  if (!source.includes(BUNDLE_ID_MARK, source.length - 200)) source = readFileSync(bundlePath, "utf8");
   const at = source.lastIndexOf(BUNDLE_ID_MARK);
   const id = at >= 0 ? source.slice(at + BUNDLE_ID_MARK.length).trim() : "";
   // A bundle without its id (not built by bundle.mjs) gets no cache: nothing would tell its builds apart.
@@ -104,10 +115,16 @@ export function runBundle(bundlePath, env = process.env) {
   if (state !== "off") {
     process.once("exit", (code) => {
       if (code === USAGE_EXIT_CODE) return;
-      const bytecode = getHeapCodeStatistics().bytecode_and_metadata_size;
-      if (state === "accepted" && bytecode < found.bytecode * GROWTH_TO_REWRITE) return;
-      const written = writeCache(dirs, name, script.createCachedData(), bytecode);
-      debug(written.file ? `written ${written.file}` : `not written (${written.reasons.join("; ")})`);
+      if (state === "accepted" && !debugging && Math.random() >= GROWTH_CHECK_SHARE) return;
+      // Whatever goes wrong here, the command has done its work: its exit code and output stand.
+      try {
+        const bytecode = getHeapCodeStatistics().bytecode_and_metadata_size;
+        if (state === "accepted" && bytecode < found.bytecode * GROWTH_TO_REWRITE) return;
+        const written = writeCache(dirs, name, script.createCachedData(), bytecode);
+        debug(written.file ? `written ${written.file}` : `not written (${written.reasons.join("; ")})`);
+      } catch (error) {
+        debug(`not written (${error})`);
+      }
     });
   }
   const module = { exports: {}, filename: bundlePath, id: bundlePath };
