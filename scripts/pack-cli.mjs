@@ -24,7 +24,7 @@ try {
   copyFileSync(path.join(cliDir, "bin", "runBundle.mjs"), path.join(stage, "bin", "runBundle.mjs"));
   writeFileSync(
     bin,
-    '#!/usr/bin/env node\nimport { fileURLToPath } from "node:url";\nimport { runBundle } from "./runBundle.mjs";\nrunBundle(fileURLToPath(new URL("../dist/bin.cjs", import.meta.url)));\n',
+    '#!/usr/bin/env node\nimport { fileURLToPath } from "node:url";\nimport { answerVersion, runBundle } from "./runBundle.mjs";\nconst bundle = fileURLToPath(new URL("../dist/bin.cjs", import.meta.url));\nif (!answerVersion(bundle)) runBundle(bundle);\n',
   );
   chmodSync(bin, 0o755);
   const pkg = {

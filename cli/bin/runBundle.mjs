@@ -82,6 +82,23 @@ function writeCache(dirs, name, data, bytecode) {
 }
 
 /**
+ * `tidemark --version` (or `-V`) alone: the version in the package.json above the bundle's folder, as
+ * cli/src/quickAnswers.ts prints it, without reading the bundle at all (issue #22: ≈ 10 ms of CPU less).
+ * True when answered.
+ */
+export function answerVersion(bundlePath, argv = process.argv) {
+  if (argv.length !== 3 || (argv[2] !== "--version" && argv[2] !== "-V")) return false;
+  let version;
+  try {
+    version = JSON.parse(readFileSync(path.join(path.dirname(bundlePath), "..", "package.json"), "utf8")).version;
+  } catch {
+    return false;
+  }
+  process.stdout.write(`${typeof version === "string" ? version : "0.0.0"}\n`);
+  return true;
+}
+
+/**
  * Compiles and runs the CommonJS file at `bundlePath` (absolute) as Node would, with a code cache.
  * Returns what happened to the cache: "accepted", "rejected", "missing" or "off".
  */

@@ -4,10 +4,11 @@
 // through tsx's loader. TIDEMARK_FROM_SOURCE=1 forces the sources.
 import { fileURLToPath } from "node:url";
 import { staleBundleSources } from "./bundleState.mjs";
-import { runBundle } from "./runBundle.mjs";
+import { answerVersion, runBundle } from "./runBundle.mjs";
 
 if (process.env.TIDEMARK_FROM_SOURCE !== "1" && staleBundleSources()?.length === 0) {
-  runBundle(fileURLToPath(new URL("../dist/bin.cjs", import.meta.url)));
+  const bundle = fileURLToPath(new URL("../dist/bin.cjs", import.meta.url));
+  if (!answerVersion(bundle)) runBundle(bundle);
 } else {
   const { register } = await import("tsx/esm/api");
   register();

@@ -24,10 +24,11 @@ beforeAll(() => {
 });
 afterAll(() => rmSync(dir, { recursive: true, force: true }));
 
-/** A launcher as cli/bin/tidemark.js is one: runBundle on `bundle`, the command's arguments after it. */
+/** A launcher as cli/bin/tidemark.js is one: answerVersion or runBundle on `bundle`, the command's arguments after it. */
 function launcher(bundle: string): string {
   const file = path.join(path.dirname(bundle), "launch.mjs");
-  writeFileSync(file, `import { runBundle } from ${JSON.stringify(RUN_BUNDLE)};\nrunBundle(${JSON.stringify(bundle)});\n`);
+  const b = JSON.stringify(bundle);
+  writeFileSync(file, `import { answerVersion, runBundle } from ${JSON.stringify(RUN_BUNDLE)};\nif (!answerVersion(${b})) runBundle(${b});\n`);
   return file;
 }
 
@@ -154,6 +155,15 @@ describe("the CLI's bundle", () => {
     const state = /code cache: (accepted|rejected|missing|off)/.exec(r.stderr)?.[1];
     return { exitCode: r.exitCode, report, state, png: readFileSync(path.join(work, "png", "tone.wav.png")) };
   }
+
+  it("answers --version alone from package.json without loading the bundle", async () => {
+    const version = (JSON.parse(readFileSync(path.join(repoRoot, "cli", "package.json"), "utf8")) as { version: string }).version;
+    const quick = await run(launch, ["--version"]);
+    expect([quick.exitCode, quick.stdout, quick.state]).toEqual([0, version, null]);
+    // No cache state said: the bundle was not even read. Anything else goes to it.
+    const full = await execa("node", [launch, "help"], { reject: false });
+    expect(full.stdout).toMatch(/Usage: tidemark/);
+  });
 
   it("is one ASCII CommonJS file ending in its build id", () => {
     const bytes = readFileSync(path.join(bundleDir, "bin.cjs"));
