@@ -19,8 +19,15 @@ const instantiate = kernelModule(WASM_MODULE_BYTES);
 
 interface PngFilterExports {
   rgb(src: number, pixels: number, dst: number): void;
-  paeth(src: number, rowBytes: number, height: number, dst: number): void;
+  paeth(src: number, rowBytes: number, y0: number, y1: number, dst: number): void;
 }
+
+/**
+ * Rows a kernel call: V8 runs a WebAssembly function's first calls in its baseline compiler (Liftoff) and
+ * swaps in the optimised code for later calls only, so an image is handed over in slices (about twice as
+ * fast as one call, measured on 1600×600).
+ */
+const ROWS_A_CALL = 16;
 
 /**
  * The filtered scanlines ((3·width + 1)·height bytes) of `rgba` (4·width·height bytes). `useWasm: false`
@@ -39,8 +46,11 @@ export function pngScanlines(rgba: Uint8Array, width: number, height: number, us
   const memory = new Uint8Array(kernels.memory.buffer);
   memory.set(rgba, 0);
   const k = kernels.exports as unknown as PngFilterExports;
-  k.rgb(0, pixels, rgbAt);
-  k.paeth(rgbAt, rowBytes, height, outAt);
+  for (let y = 0; y < height; y += ROWS_A_CALL) {
+    const rows = Math.min(ROWS_A_CALL, height - y);
+    k.rgb(4 * y * width, rows * width, rgbAt + rowBytes * y);
+  }
+  for (let y = 0; y < height; y += ROWS_A_CALL) k.paeth(rgbAt, rowBytes, y, Math.min(height, y + ROWS_A_CALL), outAt);
   return memory.slice(outAt, outAt + outBytes);
 }
 

@@ -1,7 +1,8 @@
 ;; WebAssembly SIMD kernels of PNG scanline filtering (loaded by pngFilter.ts; rebuild pngFilter.generated.ts
 ;; with `node --import tsx scripts/generate-wasm-kernels.ts`). A PNG is encoded once per image, so its loops
-;; never run long enough for V8 to optimise them: here they run at full speed from the first byte (issue #22's
-;; one-file scan). The bytes are those of pngFilter.ts's JavaScript loops (tests/shared/pngFilter.test.ts).
+;; never run long enough for V8 to optimise them: here they run compiled from the first byte (issue #22's
+;; one-file scan). The caller hands them a few rows at a time: V8 runs a module's first calls in its baseline
+;; compiler while it optimises the functions in the background, and a single call would never leave it. The bytes are those of pngFilter.ts's JavaScript loops (tests/shared/pngFilter.test.ts).
 (module
   ;; Made by the caller at its full size (shared/src/wasm/kernelModule.ts).
   (import "env" "memory" (memory 1))
@@ -98,16 +99,17 @@
       (v128.bitselect (local.get $b) (local.get $c) (i16x8.le_s (local.get $pb) (local.get $pc)))
       (v128.and (i16x8.le_s (local.get $pa) (local.get $pb)) (i16x8.le_s (local.get $pa) (local.get $pc)))))
 
-  ;; paeth(src, rowBytes, height, dst): each row of RGB bytes at src (rowBytes each, 3 bytes a pixel) as PNG
-  ;; filter type 4 then its bytes x − Paeth(left, up, up-left), bytes outside the image 0: rowBytes + 1 bytes a
-  ;; row at dst.
-  (func (export "paeth") (param $src i32) (param $rowBytes i32) (param $height i32) (param $dst i32)
+  ;; paeth(src, rowBytes, y0, y1, dst): rows y0 to y1 − 1 of the RGB image at src (rowBytes each, 3 bytes a
+  ;; pixel) as PNG filter type 4 then their bytes x − Paeth(left, up, up-left), bytes outside the image 0:
+  ;; rowBytes + 1 bytes a row at dst.
+  (func (export "paeth") (param $src i32) (param $rowBytes i32) (param $y0 i32) (param $y1 i32) (param $dst i32)
     (local $y i32) (local $row i32) (local $up i32) (local $out i32) (local $x i32) (local $first i32)
     (local $va v128) (local $vb v128) (local $vc v128) (local $lo v128) (local $hi v128)
     (local.set $first (select (local.get $rowBytes) (i32.const 3) (i32.lt_u (local.get $rowBytes) (i32.const 3))))
+    (local.set $y (local.get $y0))
     (block $rows
       (loop $eachRow
-        (br_if $rows (i32.ge_u (local.get $y) (local.get $height)))
+        (br_if $rows (i32.ge_u (local.get $y) (local.get $y1)))
         (local.set $row (i32.add (local.get $src) (i32.mul (local.get $y) (local.get $rowBytes))))
         (local.set $up (i32.sub (local.get $row) (local.get $rowBytes)))
         (local.set $out (i32.add (i32.add (local.get $dst) (i32.mul (local.get $y) (i32.add (local.get $rowBytes) (i32.const 1)))) (i32.const 1)))
