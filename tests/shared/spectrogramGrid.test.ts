@@ -95,3 +95,44 @@ describe("spectrogram accumulator", () => {
     if (totalFrames === RATE) expect(r.schedule.frameCount).toBeLessThan(columns / 2);
   });
 });
+
+describe("a grid of two parts (the low-frequency detail blended over the main one)", () => {
+  /** Two accumulators with their own frames, the second owning the lowest rows and fading out over some. */
+  function twoParts(totalFrames: number, columns: number, seed: number) {
+    const layout = spectrogramRowLayout(48, "log", RATE, FFT);
+    const random = seededRandom(seed);
+    const part = (fftSize: number, rowTo: number) => {
+      const bins = fftSize / 2 + 1;
+      const schedule = chooseStftSchedule({ totalFrames, fftSize, columns, channels: 2, hopSize: null });
+      const acc = createSpectrogramAccumulator({ columns, layout, rowFrom: 0, rowTo, aggregate: "max", binHz: RATE / fftSize, binCount: bins, powerScale: 1, schedule, totalFrames });
+      for (let k = 0; k < schedule.frameCount; k++) acc.addFrame(Float64Array.from({ length: bins }, () => random() * 1e-3), k);
+      return acc;
+    };
+    const main = part(FFT, layout.rows);
+    const detail = part(4 * FFT, 20);
+    // Full weight below row 8, fading to 0 at row 16, nothing above.
+    const weightOfRow = (row: number): number => (row < 8 ? 1 : Math.max(0, 1 - (row - 8) / 8));
+    const parts = [{ accumulator: main }, { accumulator: detail, weightOfRow }];
+    return { parts, layout, grid: assembleGrid(parts, columns, layout, totalFrames / RATE, RATE) };
+  }
+
+  it.each([
+    ["1 s", RATE, 400],
+    ["0.3 s", 0.3 * RATE, 400],
+    ["20 s", 20 * RATE, 400],
+  ] as const)("%s: the columns copied from their left neighbour are the ones every part writes alike", (_name, totalFrames, columns) => {
+    const { parts, layout, grid } = twoParts(totalFrames, columns, 3);
+    // Every part written into every column, none copied: what the grid must hold.
+    const expected = new Float32Array(columns * layout.rows).fill(NaN);
+    for (const p of parts) p.accumulator.writeDb(expected, p.weightOfRow);
+    const db = grid.db;
+    let copied = 0;
+    for (let c = 1; c < columns; c++) if (parts.every((p) => p.accumulator.splitFromLeft[c] === 0)) copied++;
+    for (let i = 0; i < db.length; i++) {
+      if (Number.isNaN(expected[i])) expect(db[i], `cell ${i}`).toBeNaN();
+      else expect(db[i], `cell ${i}`).toBe(expected[i]);
+    }
+    // The short files did copy many of their columns, so the copying was exercised.
+    if (totalFrames <= RATE) expect(copied).toBeGreaterThan(columns / 4);
+  });
+});

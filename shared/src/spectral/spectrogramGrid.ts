@@ -43,7 +43,13 @@ export interface SpectrogramAccumulator {
    * `weightOfRow`, a row is instead blended with what `db` already holds: weight 1 replaces it, 0 leaves
    * it (a missing value on either side yields the other).
    */
-  writeDb(db: Float32Array, weightOfRow?: (row: number) => number): void;
+  writeDb(db: Float32Array, weightOfRow?: (row: number) => number, skip?: Uint8Array): void;
+  /**
+   * Per column, 1 once some frame reached only one of it and the column to its left; 0 while both were
+   * reached by the same frames in the same order, so they hold the same powers. `skip[c] = 1` in writeDb
+   * leaves such a column to be copied from the left afterwards (assembleGrid).
+   */
+  readonly splitFromLeft: Uint8Array;
 }
 
 export function createSpectrogramAccumulator(o: {
@@ -141,7 +147,8 @@ export function createSpectrogramAccumulator(o: {
         framesInColumn[c]++;
       }
     },
-    writeDb(db, weightOfRow) {
+    splitFromLeft,
+    writeDb(db, weightOfRow, skip) {
       const weights = new Float64Array(ownRows).fill(1);
       if (weightOfRow) for (let i = 0; i < ownRows; i++) weights[i] = Math.min(1, Math.max(0, weightOfRow(rowFrom + i)));
       // A frame of a short file spans several columns, which then hold the same powers: the dB of the
@@ -154,13 +161,18 @@ export function createSpectrogramAccumulator(o: {
       // they equal the column to the left, their dB values are copied from it.
       let owned = 0;
       while (owned < ownRows && weights[owned] === 1) owned++;
+      // The last column written here: the skipped ones between it and c are written later, and hold what it
+      // holds (every part's splitFromLeft is 0 across them).
+      let previous = -1;
       for (let c = 0; c < columns; c++) {
+        if (skip !== undefined && skip[c] === 1) continue;
         const n = framesInColumn[c];
         let first = 0;
-        if (owned > 0 && c > 0 && splitFromLeft[c] === 0) {
-          db.copyWithin(c * rows + rowFrom, (c - 1) * rows + rowFrom, (c - 1) * rows + rowFrom + owned);
+        if (owned > 0 && previous >= 0 && splitFromLeft[c] === 0) {
+          db.copyWithin(c * rows + rowFrom, previous * rows + rowFrom, previous * rows + rowFrom + owned);
           first = owned;
         }
+        previous = c;
         const scale = aggregate === "mean" && n > 0 ? 1 / n : 1;
         for (let i = first; i < ownRows; i++) {
           const at = c * rows + rowFrom + i;
@@ -209,7 +221,14 @@ export function assembleGrid(
     get db(): Float32Array {
       if (db === null) {
         db = new Float32Array(columns * layout.rows).fill(NaN);
-        for (const part of parts) part.accumulator.writeDb(db, part.weightOfRow);
+        // A column that every part holds as it holds the one to its left comes out as that one does, blends
+        // included (the same values in, the same arithmetic): it is copied whole once the others are written.
+        // A 1 s file's frames span ≈ 16 columns each, so most of its grid is copied (issue #22).
+        const skip = new Uint8Array(columns);
+        for (let c = 1; c < columns; c++) skip[c] = parts.every((part) => part.accumulator.splitFromLeft[c] === 0) ? 1 : 0;
+        for (const part of parts) part.accumulator.writeDb(db, part.weightOfRow, skip);
+        const rows = layout.rows;
+        for (let c = 1; c < columns; c++) if (skip[c] === 1) db.copyWithin(c * rows, (c - 1) * rows, c * rows);
       }
       return db;
     },
