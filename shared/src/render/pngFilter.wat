@@ -7,8 +7,8 @@
   ;; Made by the caller at its full size (shared/src/wasm/kernelModule.ts).
   (import "env" "memory" (memory 1))
 
-  ;; One pixel: RGBA at $s → RGB at $d, composited over white where not opaque:
-  ;; round((1 − a)·255 + a·v) with a = alpha / 255, rounding halves up as JavaScript's Math.round does.
+  ;; One pixel: RGBA at $s -> RGB at $d, composited over white where not opaque:
+  ;; round((1 - a)*255 + a*v) with a = alpha / 255, rounding halves up as JavaScript's Math.round does.
   (func $pixel (param $s i32) (param $d i32)
     (local $alpha i32) (local $a f64) (local $k i32) (local $x f64) (local $r f64)
     (local.set $alpha (i32.load8_u offset=3 (local.get $s)))
@@ -30,8 +30,8 @@
       (local.set $k (i32.add (local.get $k) (i32.const 1)))
       (br_if $channel (i32.lt_u (local.get $k) (i32.const 3)))))
 
-  ;; rgb(src, pixels, dst): RGBA pixels at src → RGB at dst. Four opaque pixels at a time are one shuffle;
-  ;; the 16-byte store writes 4 bytes past them, so dst + 3·pixels + 4 must lie in memory.
+  ;; rgb(src, pixels, dst): RGBA pixels at src -> RGB at dst. Four opaque pixels at a time are one shuffle;
+  ;; the 16-byte store writes 4 bytes past them, so dst + 3*pixels + 4 must lie in memory.
   (func (export "rgb") (param $src i32) (param $pixels i32) (param $dst i32)
     (local $p i32) (local $v v128) (local $q i32)
     (block $quads
@@ -65,7 +65,7 @@
         (local.set $p (i32.add (local.get $p) (i32.const 1)))
         (br $rest))))
 
-  ;; One byte of a row after the first, from its third byte on: x − Paeth(a left, b up, c up-left)
+  ;; One byte of a row after the first, from its third byte on: x - Paeth(a left, b up, c up-left)
   ;; (ISO/IEC 15948:2004, 9.4: ties go to a, then b).
   (func $paethByte (param $row i32) (param $up i32) (param $out i32) (param $x i32)
     (local $a i32) (local $b i32) (local $c i32) (local $pa i32) (local $pb i32) (local $pc i32) (local $pred i32)
@@ -99,8 +99,8 @@
       (v128.bitselect (local.get $b) (local.get $c) (i16x8.le_s (local.get $pb) (local.get $pc)))
       (v128.and (i16x8.le_s (local.get $pa) (local.get $pb)) (i16x8.le_s (local.get $pa) (local.get $pc)))))
 
-  ;; paeth(src, rowBytes, y0, y1, dst): rows y0 to y1 − 1 of the RGB image at src (rowBytes each, 3 bytes a
-  ;; pixel) as PNG filter type 4 then their bytes x − Paeth(left, up, up-left), bytes outside the image 0:
+  ;; paeth(src, rowBytes, y0, y1, dst): rows y0 to y1 - 1 of the RGB image at src (rowBytes each, 3 bytes a
+  ;; pixel) as PNG filter type 4 then their bytes x - Paeth(left, up, up-left), bytes outside the image 0:
   ;; rowBytes + 1 bytes a row at dst.
   (func (export "paeth") (param $src i32) (param $rowBytes i32) (param $y0 i32) (param $y1 i32) (param $dst i32)
     (local $y i32) (local $row i32) (local $up i32) (local $out i32) (local $x i32) (local $first i32)
