@@ -7,6 +7,7 @@
  */
 import { describe, expect, it } from "vitest";
 import { assembleGrid, createSpectrogramAccumulator, spectrogramRowLayout } from "../../shared/src/spectral/spectrogramGrid.ts";
+import { createGridKernels } from "../../shared/src/spectral/gridKernels.ts";
 import { chooseStftSchedule, frameStart } from "../../shared/src/spectral/stftSchedule.ts";
 import { seededRandom } from "../fixtures/synth.ts";
 
@@ -134,5 +135,37 @@ describe("a grid of two parts (the low-frequency detail blended over the main on
     }
     // The short files did copy many of their columns, so the copying was exercised.
     if (totalFrames <= RATE) expect(copied).toBeGreaterThan(columns / 4);
+  });
+});
+
+describe("the accumulator's WebAssembly kernels (gridKernels.wat)", () => {
+  it("load here, so the kernel path is what the comparisons below run", () => {
+    expect(createGridKernels(1024)).not.toBeNull();
+  });
+
+  it.each([
+    ["1 s, max", RATE, 400, "max", 1],
+    ["1 s, mean, a power scale", RATE, 400, "mean", 0.37],
+    ["20 s, max", 20 * RATE, 300, "max", 1],
+    ["a file shorter than a frame", 1500, 50, "mean", 1],
+  ] as const)("%s: the very grid the JavaScript loops make", (_name, totalFrames, columns, aggregate, powerScale) => {
+    const schedule = chooseStftSchedule({ totalFrames, fftSize: FFT, columns, channels: 2, hopSize: null });
+    const layout = spectrogramRowLayout(160, "log", RATE, FFT);
+    const make = (kernels: "auto" | "js") =>
+      createSpectrogramAccumulator({ columns, layout, rowFrom: 0, rowTo: layout.rows, aggregate, binHz: RATE / FFT, binCount: BINS, powerScale, schedule, totalFrames, kernels });
+    const withKernels = make("auto");
+    const withJs = make("js");
+    const random = seededRandom(totalFrames + columns);
+    for (let k = 0; k < schedule.frameCount; k++) {
+      // Spread over many decades, as power spectra are, so rounding to float32 matters.
+      const spectrum = Float64Array.from({ length: BINS }, () => 10 ** (-12 * random()));
+      withKernels.addFrame(spectrum, k);
+      withJs.addFrame(spectrum, k);
+    }
+    const a = assembleGrid([{ accumulator: withKernels }], columns, layout, totalFrames / RATE, RATE).db;
+    const b = assembleGrid([{ accumulator: withJs }], columns, layout, totalFrames / RATE, RATE).db;
+    expect(Buffer.compare(Buffer.from(a.buffer, a.byteOffset, a.byteLength), Buffer.from(b.buffer, b.byteOffset, b.byteLength))).toBe(0);
+    // The log axis's lowest rows are narrower than a bin: the interpolating path ran too.
+    expect(layout.edgesHz[1] - layout.edgesHz[0]).toBeLessThan(RATE / FFT);
   });
 });
