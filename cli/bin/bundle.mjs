@@ -78,11 +78,6 @@ export async function bundleCli({ outdir, selfContained = false }) {
     let text = file.text;
     if (path.basename(file.path) === MAIN_BUNDLE) {
       text = CJS_PROLOGUE + (text.startsWith("#!") ? `//${text.slice(2)}` : text);
-      // ASCII only, so runBundle.mjs reads it as Latin-1: a one-byte string, without UTF-8 decoding (≈ 4 ms of
-      // every start). esbuild escapes every non-ASCII character of strings, templates and regular
-      // expressions (its default charset), so what is left is in comments, where an escape is harmless.
-      // eslint-disable-next-line no-control-regex -- every character outside ASCII, and only those
-      text = text.replace(/[^\x00-\x7f]/gu, (c) => `\\u{${c.codePointAt(0).toString(16)}}`);
       // The build's identity, appended (not prepended: the source map's lines stay where they are).
       text += `\n${BUNDLE_ID_MARK}${createHash("sha256").update(text).digest("hex").slice(0, 32)}\n`;
     }
