@@ -10,7 +10,7 @@ import { createHash } from "node:crypto";
 import { mkdir, writeFile } from "node:fs/promises";
 import path from "node:path";
 import { fileURLToPath } from "node:url";
-import { build } from "esbuild";
+import { build, transform } from "esbuild";
 
 export const cliDir = path.resolve(path.dirname(fileURLToPath(import.meta.url)), "..");
 export const repoRoot = path.resolve(cliDir, "..");
@@ -29,6 +29,14 @@ const unbundled = {
   name: "unbundled-packages",
   setup(b) {
     b.onResolve({ filter: /^@(napi-rs\/canvas|fontsource\/source-sans-3)(\/|$)/ }, (args) => ({ path: args.path, external: true }));
+  },
+};
+
+const LIBFLAC_PACKAGE = "@wasm-audio-decoders/flac";
+const libflacBeside = {
+  name: "libflac-beside",
+  setup(b) {
+    b.onResolve({ filter: /^@wasm-audio-decoders\/flac$/ }, () => ({ path: "./libflac.cjs", external: true }));
   },
 };
 
@@ -65,19 +73,24 @@ export async function bundleCli({ outdir, selfContained = false }) {
   });
   // Lazily imported commands stay lazy inside the one file: esbuild runs a module's body when it is first
   // imported, and V8 compiles a function when it is first called (or takes it from the code cache).
+  // libFLAC's package is a file of its own beside it (libflac.cjs, required by the FLAC reader only): it
+  // carries its WebAssembly as String.raw text outside ASCII, which would keep bin.cjs from being ASCII.
   const main = await build({
     ...common,
     entryPoints: { bin: "cli/src/bin.ts" },
     format: "cjs",
     outExtension: { ".js": ".cjs" },
     define: { "import.meta": "__tidemarkImportMeta" },
+    plugins: [unbundled, libflacBeside],
     write: false,
   });
+  const libflac = await build({ ...common, entryPoints: { libflac: LIBFLAC_PACKAGE }, format: "cjs", outExtension: { ".js": ".cjs" } });
   await mkdir(outdir, { recursive: true });
   for (const file of main.outputFiles) {
     let text = file.text;
     if (path.basename(file.path) === MAIN_BUNDLE) {
       text = CJS_PROLOGUE + (text.startsWith("#!") ? `//${text.slice(2)}` : text);
+      text = await asciiIfSame(text);
       // The build's identity, appended (not prepended: the source map's lines stay where they are).
       text += `\n${BUNDLE_ID_MARK}${createHash("sha256").update(text).digest("hex").slice(0, 32)}\n`;
     }
@@ -85,8 +98,24 @@ export async function bundleCli({ outdir, selfContained = false }) {
   }
   return {
     metafile: {
-      inputs: { ...workers.metafile.inputs, ...main.metafile.inputs },
-      outputs: { ...workers.metafile.outputs, ...main.metafile.outputs },
+      inputs: { ...workers.metafile.inputs, ...main.metafile.inputs, ...libflac.metafile.inputs },
+      outputs: { ...workers.metafile.outputs, ...main.metafile.outputs, ...libflac.metafile.outputs },
     },
   };
+}
+
+/**
+ * `text` with every character outside ASCII written as an escape, if that changes nothing but comments: then
+ * runBundle.mjs reads the file as Latin-1, a one-byte string without UTF-8 decoding (≈ 4 ms of every start,
+ * issue #22). Checked rather than assumed: esbuild escapes strings, templates and regular expressions, but
+ * must leave a String.raw template's text raw, where an escape would change the value. Both versions are
+ * printed without comments and compared.
+ */
+async function asciiIfSame(text) {
+  // eslint-disable-next-line no-control-regex -- every character outside ASCII, and only those
+  const escaped = text.replace(/[^\x00-\x7f]/gu, (c) => `\\u{${c.codePointAt(0).toString(16)}}`);
+  if (escaped === text) return text;
+  const printed = (code) => transform(code, { loader: "js", format: "cjs", minifyWhitespace: true }).then((r) => r.code);
+  const [before, after] = await Promise.all([printed(text), printed(escaped)]);
+  return before === after ? escaped : text;
 }

@@ -4,6 +4,7 @@
  * gives the same output; a good cache is taken (V8's own `cachedDataRejected` says so). First on a small
  * CommonJS bundle of our own, then on the real one (cli/bin/bundle.mjs) scanning a file.
  */
+import { isAscii } from "node:buffer";
 import { spawnSync } from "node:child_process";
 import { mkdirSync, mkdtempSync, readdirSync, readFileSync, rmSync, writeFileSync } from "node:fs";
 import path from "node:path";
@@ -168,9 +169,13 @@ describe("the CLI's bundle", () => {
     expect(full.stdout).toMatch(/Usage: tidemark/);
   });
 
-  it("is one CommonJS file ending in its build id", () => {
-    const text = readFileSync(path.join(bundleDir, "bin.cjs"), "utf8");
-    expect(text.trimEnd()).toMatch(/\n\/\/# tidemarkBundleId=[0-9a-f]{32}$/);
+  it("is one ASCII CommonJS file ending in its build id, libFLAC's package beside it", () => {
+    const bytes = readFileSync(path.join(bundleDir, "bin.cjs"));
+    expect(bytes.toString("latin1").trimEnd()).toMatch(/\n\/\/# tidemarkBundleId=[0-9a-f]{32}$/);
+    // ASCII is what lets runBundle.mjs read it as Latin-1 (bundle.mjs escapes where that changes nothing).
+    expect(isAscii(bytes), "bin.cjs holds characters outside ASCII that bundle.mjs could not escape").toBe(true);
+    expect(bytes.toString("latin1")).toContain('require("./libflac.cjs")');
+    expect(readdirSync(bundleDir)).toContain("libflac.cjs");
   });
 
   it("scans alike with the cache missing, taken, corrupt and unwritable", async () => {
