@@ -7,6 +7,7 @@
  */
 import { describe, expect, it } from "vitest";
 import { assembleGrid, createSpectrogramAccumulator, spectrogramRowLayout } from "../../shared/src/spectral/spectrogramGrid.ts";
+import { quantiseLevels } from "../../shared/src/closeups/levelGrid.ts";
 import { createGridKernels } from "../../shared/src/spectral/gridKernels.ts";
 import { chooseStftSchedule, frameStart } from "../../shared/src/spectral/stftSchedule.ts";
 import { seededRandom } from "../fixtures/synth.ts";
@@ -135,6 +136,18 @@ describe("a grid of two parts (the low-frequency detail blended over the main on
     }
     // The short files did copy many of their columns, so the copying was exercised.
     if (totalFrames <= RATE) expect(copied).toBeGreaterThan(columns / 4);
+    // The grid says which columns repeat their left neighbour, and they do, bit for bit.
+    const repeats = grid.repeatsLeft as Uint8Array;
+    let flagged = 0;
+    for (let c = 1; c < columns; c++) {
+      if (repeats[c] !== 1) continue;
+      flagged++;
+      const at = c * layout.rows;
+      expect(Buffer.compare(Buffer.from(db.buffer, 4 * at, 4 * layout.rows), Buffer.from(db.buffer, 4 * (at - layout.rows), 4 * layout.rows)), `column ${c}`).toBe(0);
+    }
+    expect(flagged).toBe(copied);
+    // The level grid's bytes come out the same with the copying as cell by cell (closeups/levelGrid.ts).
+    expect([...quantiseLevels(db, -130, 0, grid)]).toEqual([...quantiseLevels(db, -130, 0)]);
   });
 });
 

@@ -249,9 +249,14 @@ export function assembleGrid(
   // The dB values are written on first read: a scan that draws no image never reads them, which saves a
   // 1 s file a third of its spectral time and 3.7 MB (issue #22). Whoever draws pays for them then.
   let db: Float32Array | null = null;
+  let repeatsLeft: Uint8Array | null = null;
   return {
     columns,
     rows: layout.rows,
+    get repeatsLeft(): Uint8Array {
+      if (repeatsLeft === null) void this.db;
+      return repeatsLeft as Uint8Array;
+    },
     get db(): Float32Array {
       if (db === null) {
         db = new Float32Array(columns * layout.rows).fill(NaN);
@@ -263,6 +268,7 @@ export function assembleGrid(
         for (const part of parts) part.accumulator.writeDb(db, part.weightOfRow, skip);
         const rows = layout.rows;
         for (let c = 1; c < columns; c++) if (skip[c] === 1) db.copyWithin(c * rows, (c - 1) * rows, c * rows);
+        repeatsLeft = skip;
       }
       return db;
     },
