@@ -4,7 +4,7 @@
 // (cli/bin/bundle.mjs, UNBUNDLED_PACKAGES), which stay its only dependencies: `npm install -g
 // tidemark-<version>.tgz` works on a machine with only Node 20 and the npm registry.
 import { execFileSync } from "node:child_process";
-import { mkdirSync, mkdtempSync, readFileSync, rmSync, writeFileSync, chmodSync } from "node:fs";
+import { chmodSync, copyFileSync, mkdirSync, mkdtempSync, readFileSync, rmSync, writeFileSync } from "node:fs";
 import { tmpdir } from "node:os";
 import path from "node:path";
 import { bundleCli, cliDir, repoRoot, UNBUNDLED_PACKAGES } from "../cli/bin/bundle.mjs";
@@ -19,7 +19,13 @@ try {
   await bundleCli({ outdir: path.join(stage, "dist"), selfContained: true });
   mkdirSync(path.join(stage, "bin"));
   const bin = path.join(stage, "bin", "tidemark.js");
-  writeFileSync(bin, '#!/usr/bin/env node\nawait import("../dist/bin.js");\n');
+  // The bundle runs with V8's code cache (cli/bin/runBundle.mjs): written beside it, or in the user's cache
+  // folder when the install is not writable.
+  copyFileSync(path.join(cliDir, "bin", "runBundle.mjs"), path.join(stage, "bin", "runBundle.mjs"));
+  writeFileSync(
+    bin,
+    '#!/usr/bin/env node\nimport { fileURLToPath } from "node:url";\nimport { answerVersion, runBundle } from "./runBundle.mjs";\nconst bundle = fileURLToPath(new URL("../dist/bin.cjs", import.meta.url));\nif (!answerVersion(bundle)) runBundle(bundle);\n',
+  );
   chmodSync(bin, 0o755);
   const pkg = {
     name: "tidemark",

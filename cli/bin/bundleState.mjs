@@ -1,14 +1,17 @@
 // Whether cli/dist (built by build.mjs) is current: every source listed in its manifest still has the size
 // and mtime it had when bundled. Shared by tidemark.js and the benchmark.
 import { readFileSync, statSync } from "node:fs";
+import path from "node:path";
+import { fileURLToPath } from "node:url";
 
-const root = new URL("../../", import.meta.url);
+// Paths joined as strings: a URL built and converted back for each of ≈ 200 sources cost ≈ 2 ms a start.
+const root = path.resolve(path.dirname(fileURLToPath(import.meta.url)), "..", "..");
 
 /** Sources that changed since the build (empty when current); null when there is no usable bundle. */
 export function staleBundleSources() {
   let manifest;
   try {
-    manifest = JSON.parse(readFileSync(new URL("../dist/manifest.json", import.meta.url), "utf8"));
+    manifest = JSON.parse(readFileSync(path.join(root, "cli", "dist", "manifest.json"), "utf8"));
   } catch {
     return null;
   }
@@ -16,7 +19,7 @@ export function staleBundleSources() {
   if (inputs.length === 0) return null;
   return inputs
     .filter(([file, built]) => {
-      const now = statSync(new URL(file, root), { throwIfNoEntry: false });
+      const now = statSync(path.join(root, file), { throwIfNoEntry: false });
       return !now || now.size !== built.size || now.mtimeMs !== built.mtimeMs;
     })
     .map(([file]) => file);

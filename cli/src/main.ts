@@ -3,7 +3,7 @@
  * Stack traces are shown only with TIDEMARK_DEBUG=1.
  */
 import { CommanderError } from "commander";
-import { ProfileError } from "@tidemark/shared/profiles/parseProfile";
+import { ProfileError } from "@tidemark/shared/profiles/profileError";
 import { EXIT_CODES, ExitError, oneLine } from "./errors.ts";
 import { createProgram } from "./program.ts";
 

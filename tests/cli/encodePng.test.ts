@@ -1,7 +1,7 @@
 import { execFileSync } from "node:child_process";
 import { PNG } from "pngjs";
 import { describe, expect, it } from "vitest";
-import { encodePng } from "../../cli/src/render/encodePng.ts";
+import { encodePng, encodePngAsync } from "../../cli/src/render/encodePng.ts";
 import { installFontTypesetter } from "../../cli/src/render/fontTypesetter.ts";
 import { renderSpectrogramImage } from "../../shared/src/render/spectrogramImage.ts";
 import { renderWaveformImage } from "../../shared/src/render/waveformImage.ts";
@@ -129,5 +129,18 @@ describe("spectrogram pipeline", () => {
     // Loose floor for a loaded CI machine (this includes JIT warm-up); issue #8 holds the whole pipeline
     // to 150× on 600 s, where this part's fixed cost (images, fine spectrum) weighs ten times less.
     expect(realtime).toBeGreaterThan(10);
+  });
+});
+
+describe("encodePngAsync", () => {
+  it("writes the very bytes encodePng writes (the deflate on the thread pool is the same zlib call)", async () => {
+    const random = seededRandom(5);
+    const data = new Uint8Array(97 * 41 * 4);
+    for (let i = 0; i < data.length; i++) data[i] = i % 4 === 3 ? (random() < 0.1 ? Math.floor(random() * 255) : 255) : Math.floor(random() * 256);
+    const image = { width: 97, height: 41, data };
+    const [sync, pooled] = [encodePng(image), await encodePngAsync(image)];
+    expect(pooled.length).toBeGreaterThan(100);
+    expect(Buffer.compare(pooled, sync)).toBe(0);
+    await expect(encodePngAsync({ width: 2, height: 2, data: new Uint8Array(3) })).rejects.toThrow(/must hold 16 bytes, got 3/);
   });
 });

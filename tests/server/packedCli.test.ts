@@ -47,7 +47,8 @@ it("holds only the bundle, its launcher and a manifest whose only dependencies a
   expect(tarball).toMatch(/^tidemark-\d+\.\d+\.\d+\.tgz$/);
   const listing = execFileSync("tar", ["-tzf", path.join(packDir, tarball)], { encoding: "utf8" }).trim().split("\n");
   expect(listing).toContain("package/bin/tidemark.js");
-  expect(listing).toContain("package/dist/bin.js");
+  expect(listing).toContain("package/bin/runBundle.mjs");
+  expect(listing).toContain("package/dist/bin.cjs");
   expect(listing.some((f) => f.includes("node_modules") || f.endsWith(".ts"))).toBe(false);
   const manifest = JSON.parse(execFileSync("tar", ["-xzOf", path.join(packDir, tarball), "package/package.json"], { encoding: "utf8" })) as Record<string, unknown>;
   // What a bundle cannot hold: the native Skia binary (npm picks the machine's) and the font files.

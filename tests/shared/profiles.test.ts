@@ -7,6 +7,7 @@ import {
   judge,
   parseProfileJson,
   ProfileError,
+  profileSchema,
   resolveAnalysisSettings,
   type Profile,
 } from "../../shared/src/profiles/index.ts";
@@ -71,6 +72,16 @@ describe("built-in profiles", () => {
       expect(parseProfileJson(JSON.stringify(p), `${p.name}.json`)).toEqual(p);
       expect(p.sources.length).toBeGreaterThan(0);
     }
+  });
+
+  it("are stored in their parsed form: the profile schema's parse (defaults filled in) changes none of them", () => {
+    // A scan uses them without loading zod (issue #22), so nothing else would fill in a default left out.
+    for (const p of BUILTIN_PROFILES) expect(profileSchema.parse(structuredClone(p)), p.name).toStrictEqual(p);
+    // The check sees a default left out: without its sources (default []) the parse adds them back.
+    const access = structuredClone(findBuiltinProfile("access-copy") as Profile);
+    const withoutSources: Record<string, unknown> = { ...access };
+    delete withoutSources.sources;
+    expect(profileSchema.parse(withoutSources)).not.toStrictEqual(withoutSources);
   });
 
   it("cite in their user-visible sources only what the project ships: README sections, no recall marks", () => {

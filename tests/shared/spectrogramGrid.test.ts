@@ -7,6 +7,8 @@
  */
 import { describe, expect, it } from "vitest";
 import { assembleGrid, createSpectrogramAccumulator, spectrogramRowLayout } from "../../shared/src/spectral/spectrogramGrid.ts";
+import { quantiseLevels } from "../../shared/src/closeups/levelGrid.ts";
+import { createGridKernels } from "../../shared/src/spectral/gridKernels.ts";
 import { chooseStftSchedule, frameStart } from "../../shared/src/spectral/stftSchedule.ts";
 import { seededRandom } from "../fixtures/synth.ts";
 
@@ -93,5 +95,90 @@ describe("spectrogram accumulator", () => {
     }
     // Frames did cover several columns each in the short cases, so the copying was exercised.
     if (totalFrames === RATE) expect(r.schedule.frameCount).toBeLessThan(columns / 2);
+  });
+});
+
+describe("a grid of two parts (the low-frequency detail blended over the main one)", () => {
+  /** Two accumulators with their own frames, the second owning the lowest rows and fading out over some. */
+  function twoParts(totalFrames: number, columns: number, seed: number) {
+    const layout = spectrogramRowLayout(48, "log", RATE, FFT);
+    const random = seededRandom(seed);
+    const part = (fftSize: number, rowTo: number) => {
+      const bins = fftSize / 2 + 1;
+      const schedule = chooseStftSchedule({ totalFrames, fftSize, columns, channels: 2, hopSize: null });
+      const acc = createSpectrogramAccumulator({ columns, layout, rowFrom: 0, rowTo, aggregate: "max", binHz: RATE / fftSize, binCount: bins, powerScale: 1, schedule, totalFrames });
+      for (let k = 0; k < schedule.frameCount; k++) acc.addFrame(Float64Array.from({ length: bins }, () => random() * 1e-3), k);
+      return acc;
+    };
+    const main = part(FFT, layout.rows);
+    const detail = part(4 * FFT, 20);
+    // Full weight below row 8, fading to 0 at row 16, nothing above.
+    const weightOfRow = (row: number): number => (row < 8 ? 1 : Math.max(0, 1 - (row - 8) / 8));
+    const parts = [{ accumulator: main }, { accumulator: detail, weightOfRow }];
+    return { parts, layout, grid: assembleGrid(parts, columns, layout, totalFrames / RATE, RATE) };
+  }
+
+  it.each([
+    ["1 s", RATE, 400],
+    ["0.3 s", 0.3 * RATE, 400],
+    ["20 s", 20 * RATE, 400],
+  ] as const)("%s: the columns copied from their left neighbour are the ones every part writes alike", (_name, totalFrames, columns) => {
+    const { parts, layout, grid } = twoParts(totalFrames, columns, 3);
+    // Every part written into every column, none copied: what the grid must hold.
+    const expected = new Float32Array(columns * layout.rows).fill(NaN);
+    for (const p of parts) p.accumulator.writeDb(expected, p.weightOfRow);
+    const db = grid.db;
+    let copied = 0;
+    for (let c = 1; c < columns; c++) if (parts.every((p) => p.accumulator.splitFromLeft[c] === 0)) copied++;
+    for (let i = 0; i < db.length; i++) {
+      if (Number.isNaN(expected[i])) expect(db[i], `cell ${i}`).toBeNaN();
+      else expect(db[i], `cell ${i}`).toBe(expected[i]);
+    }
+    // The short files did copy many of their columns, so the copying was exercised.
+    if (totalFrames <= RATE) expect(copied).toBeGreaterThan(columns / 4);
+    // The grid says which columns repeat their left neighbour, and they do, bit for bit.
+    const repeats = grid.repeatsLeft as Uint8Array;
+    let flagged = 0;
+    for (let c = 1; c < columns; c++) {
+      if (repeats[c] !== 1) continue;
+      flagged++;
+      const at = c * layout.rows;
+      expect(Buffer.compare(Buffer.from(db.buffer, 4 * at, 4 * layout.rows), Buffer.from(db.buffer, 4 * (at - layout.rows), 4 * layout.rows)), `column ${c}`).toBe(0);
+    }
+    expect(flagged).toBe(copied);
+    // The level grid's bytes come out the same with the copying as cell by cell (closeups/levelGrid.ts).
+    expect([...quantiseLevels(db, -130, 0, grid)]).toEqual([...quantiseLevels(db, -130, 0)]);
+  });
+});
+
+describe("the accumulator's WebAssembly kernels (gridKernels.wat)", () => {
+  it("load here, so the kernel path is what the comparisons below run", () => {
+    expect(createGridKernels(1024)).not.toBeNull();
+  });
+
+  it.each([
+    ["1 s, max", RATE, 400, "max", 1],
+    ["1 s, mean, a power scale", RATE, 400, "mean", 0.37],
+    ["20 s, max", 20 * RATE, 300, "max", 1],
+    ["a file shorter than a frame", 1500, 50, "mean", 1],
+  ] as const)("%s: the very grid the JavaScript loops make", (_name, totalFrames, columns, aggregate, powerScale) => {
+    const schedule = chooseStftSchedule({ totalFrames, fftSize: FFT, columns, channels: 2, hopSize: null });
+    const layout = spectrogramRowLayout(160, "log", RATE, FFT);
+    const make = (kernels: "auto" | "js") =>
+      createSpectrogramAccumulator({ columns, layout, rowFrom: 0, rowTo: layout.rows, aggregate, binHz: RATE / FFT, binCount: BINS, powerScale, schedule, totalFrames, kernels });
+    const withKernels = make("auto");
+    const withJs = make("js");
+    const random = seededRandom(totalFrames + columns);
+    for (let k = 0; k < schedule.frameCount; k++) {
+      // Spread over many decades, as power spectra are, so rounding to float32 matters.
+      const spectrum = Float64Array.from({ length: BINS }, () => 10 ** (-12 * random()));
+      withKernels.addFrame(spectrum, k);
+      withJs.addFrame(spectrum, k);
+    }
+    const a = assembleGrid([{ accumulator: withKernels }], columns, layout, totalFrames / RATE, RATE).db;
+    const b = assembleGrid([{ accumulator: withJs }], columns, layout, totalFrames / RATE, RATE).db;
+    expect(Buffer.compare(Buffer.from(a.buffer, a.byteOffset, a.byteLength), Buffer.from(b.buffer, b.byteOffset, b.byteLength))).toBe(0);
+    // The log axis's lowest rows are narrower than a bin: the interpolating path ran too.
+    expect(layout.edgesHz[1] - layout.edgesHz[0]).toBeLessThan(RATE / FFT);
   });
 });

@@ -1,10 +1,12 @@
 /**
  * Finds and reads `tidemark.json` (the project's CLI defaults) in the working folder or the nearest parent.
- * A broken file is a usage error naming the file and the bad field, never silently ignored.
+ * A broken file is a usage error naming the file and the bad field, never silently ignored. Its zod schema is
+ * loaded only when there is a file to check: a command run without one does not pay for building it.
  */
 import { readFileSync } from "node:fs";
 import path from "node:path";
-import { PROJECT_CONFIG_FILE, projectConfigSchema, type ProjectConfig } from "@tidemark/shared/types/projectConfig";
+import type { ProjectConfig } from "@tidemark/shared/types/projectConfig";
+import { PROJECT_CONFIG_FILE } from "@tidemark/shared/types/projectConfigFile";
 import { UsageError } from "../errors.ts";
 
 export interface FoundProjectConfig {
@@ -23,14 +25,15 @@ function readIfPresent(file: string): string | null {
   }
 }
 
-export function parseProjectConfig(text: string, file: string): ProjectConfig {
+export async function parseProjectConfig(text: string, file: string): Promise<ProjectConfig> {
   let value: unknown;
   try {
     value = JSON.parse(text);
   } catch (error) {
     throw new UsageError(`${file} is not valid JSON: ${(error as Error).message.split("\n")[0]}`);
   }
-  // One parse a process: not worth zod's generated fast path (see builtinProfiles.ts).
+  const { projectConfigSchema } = await import("@tidemark/shared/types/projectConfig");
+  // One parse a process: not worth zod's generated fast path, which it would compile on the first parse.
   const parsed = projectConfigSchema.safeParse(value, { jitless: true });
   if (!parsed.success) {
     const issue = parsed.error.issues[0];
@@ -41,13 +44,13 @@ export function parseProjectConfig(text: string, file: string): ProjectConfig {
 }
 
 /** The nearest tidemark.json from `cwd` upwards, or null. TIDEMARK_NO_CONFIG=1 ignores every such file. */
-export function findProjectConfig(cwd: string, env: NodeJS.ProcessEnv): FoundProjectConfig | null {
+export async function findProjectConfig(cwd: string, env: NodeJS.ProcessEnv): Promise<FoundProjectConfig | null> {
   if (env.TIDEMARK_NO_CONFIG === "1") return null;
   let dir = path.resolve(cwd);
   for (;;) {
     const file = path.join(dir, PROJECT_CONFIG_FILE);
     const text = readIfPresent(file);
-    if (text !== null) return { file, config: parseProjectConfig(text, file) };
+    if (text !== null) return { file, config: await parseProjectConfig(text, file) };
     const parent = path.dirname(dir);
     if (parent === dir) return null;
     dir = parent;
@@ -74,8 +77,8 @@ export class ProjectDefaults {
     private readonly cwd: string,
   ) {}
 
-  static load(cwd: string, env: NodeJS.ProcessEnv): ProjectDefaults {
-    return new ProjectDefaults(findProjectConfig(cwd, env), cwd);
+  static async load(cwd: string, env: NodeJS.ProcessEnv): Promise<ProjectDefaults> {
+    return new ProjectDefaults(await findProjectConfig(cwd, env), cwd);
   }
 
   private get config(): ProjectConfig {

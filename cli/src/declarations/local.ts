@@ -1,6 +1,6 @@
 /** `tidemark profiles`, `tidemark init` and `tidemark match`: the commands around a scan. */
 import { Option, type Command } from "@commander-js/extra-typings";
-import { PROJECT_CONFIG_FILE } from "@tidemark/shared/types/projectConfig";
+import { PROJECT_CONFIG_FILE } from "@tidemark/shared/types/projectConfigFile";
 import { UsageError } from "../errors.ts";
 import { DEFAULT_MATCH_LIMIT, MATCH_EXIT_CODES_HELP, parseMatchLimit, type MatchOptions } from "../match/matchOptions.ts";
 import { collect, FAIL_ON_LEVELS, parseCollectionName, parseServerUrl, type InitOptions } from "../options.ts";

@@ -23,7 +23,7 @@ export function declareEnqueue(program: Command, { run, io }: Declared<QueueComm
     .option("--json", "print the run and the counts as JSON");
   globOptions(enqueue).action(async (paths, o) => {
     const cliIo = io();
-    const project = ProjectDefaults.load(cliIo.cwd, cliIo.env);
+    const project = await ProjectDefaults.load(cliIo.cwd, cliIo.env);
     const collection = project.collection(o.collection);
     if (!collection) throw new UsageError("expected --collection NAME (or a collection in tidemark.json): the collection the run's batch is filed under");
     const options: EnqueueOptions = {
@@ -60,7 +60,7 @@ export function declareWorker(program: Command, { run, io }: Declared<QueueComma
     .action(async (o) => {
       const cliIo = io();
       const options: WorkerOptions = {
-        server: ProjectDefaults.load(cliIo.cwd, cliIo.env).server(o.server),
+        server: (await ProjectDefaults.load(cliIo.cwd, cliIo.env)).server(o.server),
         concurrency: o.concurrency,
         name: o.name ?? null,
         pollSeconds: o.poll,

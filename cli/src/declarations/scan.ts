@@ -44,7 +44,7 @@ export function declareScan(program: Command, { run, io }: Declared<CommandActio
     .option("--batch-key <key>", "idempotency key: the same key uploaded twice is one batch (default: SHA-256 of the report)", parseBatchKey);
   globOptions(scan).action(async (paths, o) => {
     const cliIo = io();
-    const project = ProjectDefaults.load(cliIo.cwd, cliIo.env);
+    const project = await ProjectDefaults.load(cliIo.cwd, cliIo.env);
     const wantsUpload = o.upload === true;
     for (const flag of ["server", "collection", "batchKey"] as const) {
       if (o[flag] !== undefined && !wantsUpload) {

@@ -17,7 +17,7 @@ export function declareUpload(program: Command, { run, io }: Declared<CommandAct
     .option("--batch-key <key>", "idempotency key (default: SHA-256 of the report)", parseBatchKey)
     .action(async (report, o) => {
       const cliIo = io();
-      const project = ProjectDefaults.load(cliIo.cwd, cliIo.env);
+      const project = await ProjectDefaults.load(cliIo.cwd, cliIo.env);
       const spool = o.spool === true;
       if (spool === (report !== undefined)) {
         throw new UsageError(spool ? "give either a report file or --spool, not both" : "expected a report file to upload (or --spool to send spooled batches)");
@@ -44,7 +44,7 @@ export function declareLogin(program: Command, { run, io }: Declared<CommandActi
     .option("--token-name <name>", "name of the token created on the server (default: tidemark-cli on <host>)")
     .action(async (o) => {
       const cliIo = io();
-      const server = ProjectDefaults.load(cliIo.cwd, cliIo.env).server(o.server);
+      const server = (await ProjectDefaults.load(cliIo.cwd, cliIo.env)).server(o.server);
       if (!server) throw new UsageError("expected --server URL (or a server in tidemark.json): the server to sign in to");
       const options: LoginOptions = {
         server,

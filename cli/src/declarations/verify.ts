@@ -21,7 +21,7 @@ export function declareVerify(program: Command, { run, io }: Declared<CommandAct
     .option("--collection <name>", "collection the files were scanned into, for --upload (default: tidemark.json's)", parseCollectionName);
   globOptions(verify).action(async (paths, o) => {
     const cliIo = io();
-    const project = ProjectDefaults.load(cliIo.cwd, cliIo.env);
+    const project = await ProjectDefaults.load(cliIo.cwd, cliIo.env);
     const options: VerifyOptions = {
       against: o.against ?? null,
       include: project.include(o.include, DEFAULT_INCLUDE_GLOBS),

@@ -4,7 +4,6 @@ import { readFile } from "node:fs/promises";
 import path from "node:path";
 import { BUILTIN_PROFILES, findBuiltinProfile } from "@tidemark/shared/profiles/builtinProfiles";
 import { canonicalProfileJson } from "@tidemark/shared/profiles/canonicalProfileJson";
-import { parseProfileJson } from "@tidemark/shared/profiles/parseProfile";
 import type { Profile } from "@tidemark/shared/profiles/profileSchema";
 import { resolveAnalysisSettings } from "@tidemark/shared/profiles/profileSettings";
 import type { AnalysisSettings } from "@tidemark/shared/types/settings";
@@ -49,5 +48,7 @@ export async function loadProfile(nameOrFile: string, cwd: string): Promise<Load
     if (errno === "EISDIR") throw new UsageError(`bad profile ${nameOrFile}: expected a JSON file, got a folder`);
     throw new UsageError(`cannot read profile ${nameOrFile}: ${errno ?? String(error)}`);
   }
+  // zod is loaded only for a profile file: the built-ins are stored already validated (builtinProfiles.ts).
+  const { parseProfileJson } = await import("@tidemark/shared/profiles/parseProfile");
   return loaded(parseProfileJson(text, nameOrFile));
 }

@@ -1,10 +1,12 @@
 /**
  * RgbaImage → PNG bytes, synchronously. The bytes are those pngjs 7 writes with the options below (the
  * test compares them): the same RGB conversion, Paeth filter and zlib call, but in typed-array loops
- * instead of pngjs's per-pixel object code, which made PNG encoding most of the time a scan spends on
- * its images (issue #22).
+ * (WebAssembly SIMD where available: shared/src/render/pngFilter.ts) instead of pngjs's per-pixel object
+ * code, which made PNG encoding most of the time a scan spends on its images (issue #22).
  */
-import { crc32, deflateSync } from "node:zlib";
+import { promisify } from "node:util";
+import { crc32, deflate, deflateSync } from "node:zlib";
+import { pngScanlines } from "@tidemark/shared/render/pngFilter";
 import type { RgbaImage } from "@tidemark/shared/types/analysis";
 
 /**
@@ -16,9 +18,22 @@ import type { RgbaImage } from "@tidemark/shared/types/analysis";
 const DEFLATE_OPTIONS = { chunkSize: 32 * 1024, level: 9, strategy: 3 } as const;
 const SIGNATURE = Buffer.from([137, 80, 78, 71, 13, 10, 26, 10]);
 const COLOUR_TYPE_RGB = 2;
-const PAETH = 4;
+
+const deflateInPool = promisify(deflate);
 
 export function encodePng(image: RgbaImage): Buffer {
+  return assemble(image, deflateSync(scanlines(image), DEFLATE_OPTIONS));
+}
+
+/**
+ * The same bytes as encodePng, deflated on libuv's thread pool: the scan draws its next image meanwhile
+ * (issue #22: a one-file scan's wall time).
+ */
+export async function encodePngAsync(image: RgbaImage): Promise<Buffer> {
+  return assemble(image, await deflateInPool(scanlines(image), DEFLATE_OPTIONS));
+}
+
+function scanlines(image: RgbaImage): Uint8Array {
   const { width, height, data } = image;
   if (!Number.isInteger(width) || width < 1 || !Number.isInteger(height) || height < 1) {
     throw new Error(`PNG size must be positive whole pixels, got ${width}×${height}`);
@@ -26,58 +41,18 @@ export function encodePng(image: RgbaImage): Buffer {
   if (data.length !== width * height * 4) {
     throw new Error(`RGBA data for ${width}×${height} must hold ${width * height * 4} bytes, got ${data.length}`);
   }
-  const rgb = toRgb(data, width * height);
-  const filtered = paethRows(rgb, width * 3, height);
+  return pngScanlines(data, width, height);
+}
+
+function assemble(image: RgbaImage, deflated: Uint8Array): Buffer {
+  const { width, height } = image;
   const header = Buffer.alloc(13);
   header.writeUInt32BE(width, 0);
   header.writeUInt32BE(height, 4);
   header[8] = 8; // bit depth
   header[9] = COLOUR_TYPE_RGB;
   // compression, filter method and interlace: 0
-  return Buffer.concat([SIGNATURE, chunk("IHDR", header), chunk("IDAT", deflateSync(filtered, DEFLATE_OPTIONS)), chunk("IEND", null)]);
-}
-
-/**
- * RGBA → RGB, composited over white where a pixel is not opaque, rounding as pngjs does
- * (round((1 − a)·255 + a·v) with a = alpha / 255).
- */
-function toRgb(rgba: Uint8Array, pixels: number): Uint8Array {
-  const out = new Uint8Array(pixels * 3);
-  for (let p = 0, i = 0, o = 0; p < pixels; p++, i += 4, o += 3) {
-    const alpha = rgba[i + 3];
-    if (alpha === 255) {
-      out[o] = rgba[i];
-      out[o + 1] = rgba[i + 1];
-      out[o + 2] = rgba[i + 2];
-    } else {
-      const a = alpha / 255;
-      out[o] = Math.round((1 - a) * 255 + a * rgba[i]);
-      out[o + 1] = Math.round((1 - a) * 255 + a * rgba[i + 1]);
-      out[o + 2] = Math.round((1 - a) * 255 + a * rgba[i + 2]);
-    }
-  }
-  return out;
-}
-
-/** Each row as filter byte 4 then x − Paeth(left, up, up-left) (ISO/IEC 15948:2004, 9.4), bytes before the image 0. */
-function paethRows(px: Uint8Array, rowBytes: number, height: number): Uint8Array {
-  const out = new Uint8Array((rowBytes + 1) * height);
-  const bpp = 3;
-  for (let y = 0, at = 0, row = 0; y < height; y++, row += rowBytes) {
-    out[at++] = PAETH;
-    for (let x = 0; x < rowBytes; x++) {
-      const left = x >= bpp ? px[row + x - bpp] : 0;
-      const up = y > 0 ? px[row + x - rowBytes] : 0;
-      const upLeft = y > 0 && x >= bpp ? px[row + x - rowBytes - bpp] : 0;
-      const estimate = left + up - upLeft;
-      const pLeft = Math.abs(estimate - left);
-      const pUp = Math.abs(estimate - up);
-      const pUpLeft = Math.abs(estimate - upLeft);
-      const predictor = pLeft <= pUp && pLeft <= pUpLeft ? left : pUp <= pUpLeft ? up : upLeft;
-      out[at++] = px[row + x] - predictor;
-    }
-  }
-  return out;
+  return Buffer.concat([SIGNATURE, chunk("IHDR", header), chunk("IDAT", deflated), chunk("IEND", null)]);
 }
 
 /** Length, type, data, CRC-32 of type and data (ISO/IEC 15948:2004, 5.3). */

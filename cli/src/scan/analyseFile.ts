@@ -17,7 +17,7 @@ import type { AudioFormat, FileReport, Finding, ReportError } from "@tidemark/sh
 import type { AnalysisSettings } from "@tidemark/shared/types/settings";
 import { readerFindings } from "@tidemark/shared/wav/readerFindings";
 import { DEFAULT_BLOCK_FRAMES, readAudioFile, type AudioFileResult } from "../audio/readAudioFile.ts";
-import { encodePng } from "../render/encodePng.ts";
+import { encodePng, encodePngAsync } from "../render/encodePng.ts";
 import { oneLine } from "../errors.ts";
 import { errorReport } from "./errorReport.ts";
 import { displayPath, type FsPath } from "./rawPath.ts";
@@ -136,18 +136,41 @@ async function writeImages(
     timings.png += performance.now() - t1;
     return bytes;
   };
+  // The overview PNGs are deflated on the thread pool and written while this thread draws on (their
+  // bytes as encodePng's); every one is waited for before the file counts as done.
+  const writing: Promise<void>[] = [];
+  const writePng = (file: string, paint: () => RgbaImage): void => {
+    const t0 = performance.now();
+    const image = paint();
+    const t1 = performance.now();
+    timings.paint += t1 - t0;
+    writing.push(
+      encodePngAsync(image).then((bytes) => {
+        timings.png += performance.now() - t1;
+        return writeFile(file, bytes);
+      }),
+    );
+  };
   await mkdir(path.dirname(paths.png), { recursive: true });
   const channelTitle = (c: number): string => `${task.relPath} (channel ${c + 1})`;
   const channelPath = (c: number): string => channelSpectrogramPath(paths.png, c);
   const grids = imagesOf(analysed);
-  await writeFile(paths.waveform, png(() => renderWaveformImage(grids.waveform, { width, height: WAVEFORM_HEIGHT_PX, markers })));
-  const closeups = ctx.closeups
-    ? await writeCloseups({ analysed, findings, format, target, relPath: task.relPath, settings, waveformHeightPx: WAVEFORM_HEIGHT_PX, png })
-    : null;
-  await writeFile(paths.png, png(() => renderSpectrogramImage(grids.spectrogram, { width, height, markers, title: task.relPath })));
-  for (const [c, grid] of (grids.channelSpectrograms ?? []).entries()) {
-    await writeFile(channelPath(c), png(() => renderSpectrogramImage(grid, { width, height, markers, title: channelTitle(c) })));
+  let closeups: CloseupFields | null;
+  try {
+    writePng(paths.waveform, () => renderWaveformImage(grids.waveform, { width, height: WAVEFORM_HEIGHT_PX, markers }));
+    closeups = ctx.closeups
+      ? await writeCloseups({ analysed, findings, format, target, relPath: task.relPath, settings, waveformHeightPx: WAVEFORM_HEIGHT_PX, png })
+      : null;
+    writePng(paths.png, () => renderSpectrogramImage(grids.spectrogram, { width, height, markers, title: task.relPath }));
+    for (const [c, grid] of (grids.channelSpectrograms ?? []).entries()) {
+      writePng(channelPath(c), () => renderSpectrogramImage(grid, { width, height, markers, title: channelTitle(c) }));
+    }
+  } catch (error) {
+    // The writes already started are let finish (or fail) before the file counts as done.
+    await Promise.allSettled(writing);
+    throw error;
   }
+  await Promise.all(writing);
   return { spectrogram: paths.shown, closeups };
 }
 

@@ -24,15 +24,28 @@ export interface LevelGridJson {
   levels: string;
 }
 
-/** 0 = at or below dbMin (and cells without data), 255 = dbMax, linear in dB between (≈ 0.5 dB a step). */
-export function quantiseLevels(db: Float32Array, dbMin: number, dbMax: number): Uint8Array {
+/**
+ * 0 = at or below dbMin (and cells without data), 255 = dbMax, linear in dB between (≈ 0.5 dB a step). With
+ * the grid's `rows` and `repeatsLeft`, a column known equal to its left neighbour gets that one's bytes
+ * copied (most of a 1 s file's grid, issue #22).
+ */
+export function quantiseLevels(db: Float32Array, dbMin: number, dbMax: number, columnsOf?: { rows: number; repeatsLeft?: Uint8Array }): Uint8Array {
   const out = new Uint8Array(db.length);
   const scale = 255 / (dbMax - dbMin);
-  for (let i = 0; i < db.length; i++) {
-    const v = db[i];
-    if (!(v > dbMin)) continue; // NaN and −∞ stay 0
-    const q = Math.round((v - dbMin) * scale);
-    out[i] = q > 255 ? 255 : q;
+  const rows = columnsOf?.rows ?? db.length;
+  const repeats = columnsOf?.repeatsLeft;
+  for (let start = 0, c = 0; start < db.length; start += rows, c++) {
+    if (repeats !== undefined && c > 0 && repeats[c] === 1) {
+      out.copyWithin(start, start - rows, start);
+      continue;
+    }
+    const end = Math.min(db.length, start + rows);
+    for (let i = start; i < end; i++) {
+      const v = db[i];
+      if (!(v > dbMin)) continue; // NaN and −∞ stay 0
+      const q = Math.round((v - dbMin) * scale);
+      out[i] = q > 255 ? 255 : q;
+    }
   }
   return out;
 }
@@ -58,7 +71,7 @@ export function levelGridJson(grid: SpectrogramGrid, base64: (bytes: Uint8Array)
     rowCenterHz: Array.from(grid.rowFrequencyHz, (hz) => round(hz, 1000)),
     dbMin: minDb,
     dbMax: maxDb,
-    levels: base64(quantiseLevels(grid.db, minDb, maxDb)),
+    levels: base64(quantiseLevels(grid.db, minDb, maxDb, grid)),
   };
 }
 

@@ -3,11 +3,16 @@
  * `sources` is shown to users (`tidemark profiles NAME`, reports): it cites documents and the README, and
  * carries no "from memory" marks; those stay in the comments beside the values.
  * Findings a profile does not name keep the severity the analysers gave them.
+ *
+ * They are written in their parsed form (every default spelt out), so a scan uses them as they are and
+ * never loads zod for them (issue #22: building the schemas was a tenth of a one-file scan's start-up);
+ * tests/shared/profiles.test.ts checks that the profile schema's parse of each changes nothing.
  */
-import { profileSchema, type Profile, type ProfileInput } from "./profileSchema.ts";
+import type { MetadataFieldName } from "../metadata/metadataFields.ts";
+import type { Profile } from "./profileSchema.ts";
 
 /** Severities shared by all built-ins, so a verdict never hinges on an analyser's private default. */
-const BASE_SEVERITIES: ProfileInput["severities"] = {
+const BASE_SEVERITIES: Profile["severities"] = {
   clipping: "fail",
   "near-clip": "warn",
   "lead-silence": "info",
@@ -67,16 +72,16 @@ const DETECTION_RULES = [
  * the rest optional. A version 3 (2021) exists; we have not checked whether it reclassifies any field.
  */
 export const FADGI_BWF_GUIDELINE = "FADGI Guideline for Federal Agency Use of Broadcast WAVE Files, version 2 (2012)";
-const FADGI_STRONGLY_RECOMMENDED = ["bext", "bext.Description", "bext.Originator", "bext.OriginatorReference", "bext.OriginationDate", "bext.UMID"];
-const FADGI_RECOMMENDED = ["bext.TimeReference", "INFO.IARL"];
+const FADGI_STRONGLY_RECOMMENDED: MetadataFieldName[] = ["bext", "bext.Description", "bext.Originator", "bext.OriginatorReference", "bext.OriginationDate", "bext.UMID"];
+const FADGI_RECOMMENDED: MetadataFieldName[] = ["bext.TimeReference", "INFO.IARL"];
 
 /** Judge what metadata is there (formats, version, CodingHistory, loudness fields) without demanding any. */
-const METADATA_CONSISTENCY = { required: [], recommended: [], formats: true, codingHistory: true, loudnessToleranceLu: 0.5 };
+const METADATA_CONSISTENCY: NonNullable<Profile["metadata"]> = { required: [], recommended: [], formats: true, codingHistory: true, loudnessToleranceLu: 0.5 };
 
 // Common practice: |DC| under 0.1 % of full scale is inaudible and harmless; 1 % costs headroom.
 const DC_OFFSET_LIMITS = { warn: 0.1, fail: 1 };
 
-const preservationMaster: ProfileInput = {
+const preservationMaster: Profile = {
   name: "preservation-master",
   description:
     "Preservation masters: linear PCM, at least 48 kHz (96 kHz recommended) and 24-bit, no clipping, " +
@@ -97,7 +102,7 @@ const preservationMaster: ProfileInput = {
   metadata: { ...METADATA_CONSISTENCY, required: FADGI_STRONGLY_RECOMMENDED, recommended: FADGI_RECOMMENDED },
 };
 
-const accessCopy: ProfileInput = {
+const accessCopy: Profile = {
   name: "access-copy",
   description: "Access and listening copies: at least 44.1 kHz and 16-bit, true peak at or below −1 dBTP.",
   sources: [
@@ -113,7 +118,7 @@ const accessCopy: ProfileInput = {
   metadata: METADATA_CONSISTENCY,
 };
 
-const broadcastLoudness: ProfileInput = {
+const broadcastLoudness: Profile = {
   name: "broadcast-loudness",
   description:
     "Programmes for broadcast: integrated loudness −23 LUFS ± 0.5 LU (warn up to ± 1 LU), true peak at or below −1 dBTP.",
@@ -134,11 +139,8 @@ const broadcastLoudness: ProfileInput = {
   metadata: METADATA_CONSISTENCY,
 };
 
-// Parsed once a process (defaults filled in). jitless: zod would otherwise generate and compile a fast
-// parser for the profile schema on this first parse, which costs every command more than three parses save.
-export const BUILTIN_PROFILES: readonly Profile[] = [preservationMaster, accessCopy, broadcastLoudness].map((p) =>
-  profileSchema.parse(p, { jitless: true }),
-);
+// Each its own copy, as a parse made them: the profiles share lists and limits above.
+export const BUILTIN_PROFILES: readonly Profile[] = [preservationMaster, accessCopy, broadcastLoudness].map((p) => structuredClone(p));
 
 export const DEFAULT_PROFILE_NAME = "access-copy";
 

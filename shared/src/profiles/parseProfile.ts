@@ -3,19 +3,10 @@
  * bad field(s), e.g. `mine.json: thresholds.truePeakDbtp.fail: expected number, received string`.
  */
 import type { z } from "zod";
+import { ProfileError } from "./profileError.ts";
 import { profileSchema, type Profile } from "./profileSchema.ts";
 
-export class ProfileError extends Error {
-  readonly code = "bad-profile";
-  /** Dotted path of the first bad field, or null when the file is not JSON at all. */
-  readonly field: string | null;
-
-  constructor(message: string, field: string | null) {
-    super(message);
-    this.name = "ProfileError";
-    this.field = field;
-  }
-}
+export { ProfileError };
 
 const MAX_ISSUES_SHOWN = 3;
 

@@ -4,7 +4,7 @@
  * silently ignored setting.
  */
 import { z } from "zod";
-import { CONTAINERS, ENCODINGS, FINDING_CODES, SEVERITIES } from "../types/report.ts";
+import { CONTAINERS, ENCODINGS, FINDING_CODES, SEVERITIES } from "../types/codes.ts";
 import type { AnalysisSettings } from "../types/settings.ts";
 import { isMetadataFieldName, type MetadataFieldName } from "../metadata/metadataFields.ts";
 

@@ -8,6 +8,7 @@ import type { Finding } from "../types/report.ts";
 import { dbTicks, linearFrequencyTicks, logFrequencyTicks, timeTicks } from "./axisTicks.ts";
 import { COLOUR_MAP_SIZE, wracklineColourMap } from "./colourMap.ts";
 import { drawFindingMarkers } from "./findingMarkers.ts";
+import { paintPlotCells } from "./gridPaint.ts";
 import { plotXOfSeconds, spectrogramPlotArea, type PlotArea } from "./layout.ts";
 import { createImage, fillRect, strokeRectOutside, type Rgb } from "./raster.ts";
 import { capHeightPx, drawText, fitTextKeepingEnd, textWidthPx } from "./text.ts";
@@ -79,48 +80,27 @@ function checkGrid(g: SpectrogramGrid): void {
   }
 }
 
-/** Columns painted together: the grid is stored column after column, the image row after row. */
-const PAINT_TILE_COLUMNS = 32;
-
-/**
- * Nearest-cell lookup, so a grid made for another size still fills the plot. In tiles of 32 columns: row by
- * row across the whole plot every grid read was a cache miss (the grid is 3.7 MB at 1600×600), column by
- * column every pixel write; a tile keeps both the 32 grid columns and its rows of pixels in cache.
- */
 function paintPlot(image: RgbaImage, plot: PlotArea, grid: SpectrogramGrid): void {
-  const lut = wracklineColourMap();
   const { minDb, maxDb } = SPECTROGRAM_DB_RANGE;
-  const indexPerDb = (COLOUR_MAP_SIZE - 1) / (maxDb - minDb);
   const rowOf = new Int32Array(plot.height);
   for (let y = 0; y < plot.height; y++) rowOf[y] = grid.rows - 1 - Math.min(grid.rows - 1, Math.floor((y * grid.rows) / plot.height));
   const cellOf = new Int32Array(plot.width);
   for (let x = 0; x < plot.width; x++) cellOf[x] = Math.min(grid.columns - 1, Math.floor((x * grid.columns) / plot.width)) * grid.rows;
-  const d = image.data;
-  const db = grid.db;
-  const [nr, ng, nb] = THEME.noData;
-  const top = COLOUR_MAP_SIZE - 1;
-  for (let x0 = 0; x0 < plot.width; x0 += PAINT_TILE_COLUMNS) {
-    const x1 = Math.min(plot.width, x0 + PAINT_TILE_COLUMNS);
-    for (let y = 0; y < plot.height; y++) {
-      const row = rowOf[y];
-      let i = ((plot.top + y) * image.width + plot.left + x0) * 4;
-      for (let x = x0; x < x1; x++, i += 4) {
-        const value = db[cellOf[x] + row];
-        if (Number.isNaN(value)) {
-          d[i] = nr;
-          d[i + 1] = ng;
-          d[i + 2] = nb;
-          continue;
-        }
-        // min(top, max(0, Math.round(v))) with Math.round(v) = ⌊v + ½⌋, in compares and a truncation.
-        const t = (value - minDb) * indexPerDb + 0.5;
-        const e = 3 * (t < 1 ? 0 : t >= top ? top : t | 0);
-        d[i] = lut[e];
-        d[i + 1] = lut[e + 1];
-        d[i + 2] = lut[e + 2];
-      }
-    }
-  }
+  paintPlotCells({
+    data: image.data,
+    imageWidth: image.width,
+    left: plot.left,
+    top: plot.top,
+    width: plot.width,
+    height: plot.height,
+    db: grid.db,
+    cellOf,
+    rowOf,
+    lut: wracklineColourMap(),
+    minDb,
+    indexPerDb: (COLOUR_MAP_SIZE - 1) / (maxDb - minDb),
+    noData: THEME.noData,
+  });
 }
 
 interface FrequencyAxis {

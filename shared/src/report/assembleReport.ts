@@ -1,5 +1,6 @@
 /** Builds the report document (REPORT_SCHEMA_ID) from file results: stable file order and the verdict summary. */
-import { REPORT_SCHEMA_ID, type FileReport, type ProfileLimits, type ReportSummary, type ScanReport } from "../types/report.ts";
+import { REPORT_SCHEMA_ID } from "../types/codes.ts";
+import type { FileReport, ProfileLimits, ReportSummary, ScanReport } from "../types/report.ts";
 
 export interface ReportHeader {
   tool: { name: string; version: string };

@@ -57,6 +57,11 @@ export interface SpectrogramGrid {
   frequencyScale: "log" | "linear";
   durationSeconds: number;
   sampleRateHz: number;
+  /**
+   * Where known from how the grid was made: 1 for a column whose dB values are exactly those of the column to
+   * its left (a short file's frame spans many columns), so a pass over the cells may copy instead of compute.
+   */
+  readonly repeatsLeft?: Uint8Array;
 }
 
 /** Peak envelope for the overview strip: per column min and max over all channels. */

@@ -4,9 +4,9 @@
  * The shipped JSON Schema (shared/schema/tidemark-config.schema.json) is generated from this zod schema.
  */
 import { z } from "zod";
+import { PROJECT_CONFIG_JSON_SCHEMA_ID } from "./projectConfigFile.ts";
 
-export const PROJECT_CONFIG_FILE = "tidemark.json";
-export const PROJECT_CONFIG_JSON_SCHEMA_ID = "https://tidemark.invalid/schema/tidemark-config.schema.json";
+export { PROJECT_CONFIG_FILE, PROJECT_CONFIG_JSON_SCHEMA_ID } from "./projectConfigFile.ts";
 
 const glob = z.string().min(1).max(500);
 

@@ -21,7 +21,6 @@ export interface WasmMemory {
   readonly buffer: ArrayBuffer;
 }
 interface WasmApi {
-  validate(bytes: Uint8Array): boolean;
   Module: new (bytes: Uint8Array) => object;
   Instance: new (module: object, imports?: object) => { exports: Record<string, unknown> };
   Memory: new (descriptor: { initial: number }) => WasmMemory;
@@ -106,7 +105,8 @@ export function kernelModule(bytes: Uint8Array): KernelInstantiator {
     const api = (globalThis as { WebAssembly?: WasmApi }).WebAssembly;
     if (!api) return null;
     try {
-      if (compiled === undefined) compiled = api.validate(bytes) ? new api.Module(bytes) : null;
+      // No validate() first: compiling validates too, and throws for a module this runtime cannot run (no SIMD).
+      if (compiled === undefined) compiled = new api.Module(bytes);
       if (compiled === null) return null;
       const pages = Math.max(1, Math.ceil(memoryBytes / WASM_PAGE_BYTES));
       const arena = currentArena;

@@ -1,0 +1,107 @@
+/**
+ * Painting a spectrogram plot through the colour map (spectrogramImage.ts), once per image over ≈ 10⁶ pixels:
+ * in WebAssembly (gridPaint.wat) where the runtime has it, as V8 would run most of the JavaScript loop
+ * unoptimised (≈ 5 ms less on a one-file scan, issue #22; the level grid's bytes, a simpler loop, measured
+ * no faster that way and stay in JavaScript). The JavaScript loop here gives the same bytes
+ * (tests/shared/gridPaint.test.ts) and runs where WebAssembly does not.
+ */
+import { kernelModule } from "../wasm/kernelModule.ts";
+import { WASM_MODULE_BYTES } from "./gridPaint.generated.ts";
+
+const instantiate = kernelModule(WASM_MODULE_BYTES);
+
+/**
+ * Rows a kernel call: V8 runs a WebAssembly function's first calls in its baseline compiler and swaps in the
+ * optimised code for later calls only, so the plot is handed over in slices.
+ */
+const ROWS_A_CALL = 16;
+
+interface GridPaintExports {
+  paint(db: number, cellOf: number, rowOf: number, width: number, height: number, rgba: number, lut: number, minDb: number, indexPerDb: number, top: number, noData: number): void;
+}
+
+export interface PlotPaint {
+  /** The image's RGBA bytes and width; the plot is `width` × `height` pixels from (left, top). */
+  data: Uint8Array;
+  imageWidth: number;
+  left: number;
+  top: number;
+  width: number;
+  height: number;
+  db: Float32Array;
+  /** Per pixel column: index of its grid column's first cell; per pixel row: its grid row. */
+  cellOf: Int32Array;
+  rowOf: Int32Array;
+  /** 3 bytes a colour, indices 0…top. */
+  lut: Uint8Array;
+  minDb: number;
+  indexPerDb: number;
+  noData: readonly [number, number, number];
+}
+
+/** Paints R, G and B of the plot's pixels (alpha as it is): each pixel's cell through the colour map. `useWasm: false` runs the JavaScript. */
+export function paintPlotCells(p: PlotPaint, useWasm = true): void {
+  const top = p.lut.length / 3 - 1;
+  const rowBytes = 4 * p.width;
+  const cellsAt = 0;
+  const cellOfAt = cellsAt + 4 * p.db.length;
+  const rowOfAt = cellOfAt + 4 * p.width;
+  const lutAt = rowOfAt + 4 * p.height;
+  const rgbaAt = lutAt + p.lut.length;
+  const kernels = useWasm ? instantiate(rgbaAt + rowBytes * p.height) : null;
+  if (kernels) {
+    const buffer = kernels.memory.buffer;
+    new Float32Array(buffer, cellsAt, p.db.length).set(p.db);
+    new Int32Array(buffer, cellOfAt, p.width).set(p.cellOf);
+    new Int32Array(buffer, rowOfAt, p.height).set(p.rowOf);
+    const bytes = new Uint8Array(buffer);
+    bytes.set(p.lut, lutAt);
+    const plotRow = (y: number): number => ((p.top + y) * p.imageWidth + p.left) * 4;
+    // The plot's rows in and out as they are, so alpha (and nothing else) stays the image's.
+    for (let y = 0; y < p.height; y++) bytes.set(p.data.subarray(plotRow(y), plotRow(y) + rowBytes), rgbaAt + y * rowBytes);
+    const noData = p.noData[0] | (p.noData[1] << 8) | (p.noData[2] << 16);
+    const k = kernels.exports as unknown as GridPaintExports;
+    for (let y = 0; y < p.height; y += ROWS_A_CALL) {
+      const rows = Math.min(ROWS_A_CALL, p.height - y);
+      k.paint(cellsAt, cellOfAt, rowOfAt + 4 * y, p.width, rows, rgbaAt + y * rowBytes, lutAt, p.minDb, p.indexPerDb, top, noData);
+    }
+    for (let y = 0; y < p.height; y++) p.data.set(bytes.subarray(rgbaAt + y * rowBytes, rgbaAt + (y + 1) * rowBytes), plotRow(y));
+    return;
+  }
+  paintPlotCellsJs(p, top);
+}
+
+/** Columns painted together: the grid is stored column after column, the image row after row. */
+const PAINT_TILE_COLUMNS = 32;
+
+/**
+ * Nearest-cell lookup, so a grid made for another size still fills the plot. In tiles of 32 columns: row by
+ * row across the whole plot every grid read was a cache miss (the grid is 3.7 MB at 1600×600), column by
+ * column every pixel write; a tile keeps both the 32 grid columns and its rows of pixels in cache.
+ */
+function paintPlotCellsJs(p: PlotPaint, top: number): void {
+  const { data: d, db, cellOf, rowOf, lut, minDb, indexPerDb } = p;
+  const [nr, ng, nb] = p.noData;
+  for (let x0 = 0; x0 < p.width; x0 += PAINT_TILE_COLUMNS) {
+    const x1 = Math.min(p.width, x0 + PAINT_TILE_COLUMNS);
+    for (let y = 0; y < p.height; y++) {
+      const row = rowOf[y];
+      let i = ((p.top + y) * p.imageWidth + p.left + x0) * 4;
+      for (let x = x0; x < x1; x++, i += 4) {
+        const value = db[cellOf[x] + row];
+        if (Number.isNaN(value)) {
+          d[i] = nr;
+          d[i + 1] = ng;
+          d[i + 2] = nb;
+          continue;
+        }
+        // min(top, max(0, Math.round(v))) with Math.round(v) = ⌊v + ½⌋, in compares and a truncation.
+        const t = (value - minDb) * indexPerDb + 0.5;
+        const e = 3 * (t < 1 ? 0 : t >= top ? top : t | 0);
+        d[i] = lut[e];
+        d[i + 1] = lut[e + 1];
+        d[i + 2] = lut[e + 2];
+      }
+    }
+  }
+}

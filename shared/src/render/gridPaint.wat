@@ -1,0 +1,57 @@
+;; WebAssembly kernel painting a spectrogram plot through the colour map (loaded by gridPaint.ts; rebuild
+;; gridPaint.generated.ts with `node --import tsx scripts/generate-wasm-kernels.ts`). It runs once per image
+;; over about 10^6 pixels, where V8 would run most of the JavaScript loop unoptimised (issue #22's one-file
+;; scan). Every operation is the JavaScript's own (IEEE double, in the same order), so the bytes are the same
+;; (tests/shared/gridPaint.test.ts).
+(module
+  ;; Made by the caller at its full size (shared/src/wasm/kernelModule.ts).
+  (import "env" "memory" (memory 1))
+
+  ;; paint(db, cellOf, rowOf, width, height, rgba, lut, minDb, indexPerDb, top, noData): the plot's pixels.
+  ;; db: float32 cells; cellOf: int32 per pixel column (first cell of its grid column); rowOf: int32 per pixel
+  ;; row (grid row); rgba: width*height pixels, of which R, G and B are written (alpha left as it is); lut:
+  ;; 3 bytes a colour index 0...top; noData: 0xBBGGRR for a cell without data (NaN).
+  ;; A pixel's index is min(top, max(0, floor((v - minDb)*indexPerDb + 1/2))), as spectrogramImage.ts computes it.
+  (func (export "paint")
+    (param $db i32) (param $cellOf i32) (param $rowOf i32) (param $width i32) (param $height i32)
+    (param $rgba i32) (param $lut i32) (param $minDb f64) (param $indexPerDb f64) (param $top i32) (param $noData i32)
+    (local $y i32) (local $x i32) (local $row i32) (local $px i32) (local $v f64) (local $t f64) (local $e i32)
+    (local $topF f64)
+    (local.set $topF (f64.convert_i32_s (local.get $top)))
+    (local.set $px (local.get $rgba))
+    (block $rows
+      (loop $eachRow
+        (br_if $rows (i32.ge_u (local.get $y) (local.get $height)))
+        (local.set $row (i32.load (i32.add (local.get $rowOf) (i32.shl (local.get $y) (i32.const 2)))))
+        (local.set $x (i32.const 0))
+        (block $cols
+          (loop $eachCol
+            (br_if $cols (i32.ge_u (local.get $x) (local.get $width)))
+            (local.set $v
+              (f64.promote_f32
+                (f32.load
+                  (i32.add (local.get $db)
+                    (i32.shl
+                      (i32.add (i32.load (i32.add (local.get $cellOf) (i32.shl (local.get $x) (i32.const 2)))) (local.get $row))
+                      (i32.const 2))))))
+            (if (f64.ne (local.get $v) (local.get $v))
+              (then
+                (i32.store16 (local.get $px) (local.get $noData))
+                (i32.store8 offset=2 (local.get $px) (i32.shr_u (local.get $noData) (i32.const 16))))
+              (else
+                (local.set $t (f64.add (f64.mul (f64.sub (local.get $v) (local.get $minDb)) (local.get $indexPerDb)) (f64.const 0.5)))
+                (local.set $e
+                  (if (result i32) (f64.lt (local.get $t) (f64.const 1))
+                    (then (i32.const 0))
+                    (else
+                      (if (result i32) (f64.ge (local.get $t) (local.get $topF))
+                        (then (local.get $top))
+                        (else (i32.trunc_f64_s (local.get $t)))))))
+                (local.set $e (i32.add (local.get $lut) (i32.mul (local.get $e) (i32.const 3))))
+                (i32.store16 (local.get $px) (i32.load16_u (local.get $e)))
+                (i32.store8 offset=2 (local.get $px) (i32.load8_u offset=2 (local.get $e)))))
+            (local.set $px (i32.add (local.get $px) (i32.const 4)))
+            (local.set $x (i32.add (local.get $x) (i32.const 1)))
+            (br $eachCol)))
+        (local.set $y (i32.add (local.get $y) (i32.const 1)))
+        (br $eachRow)))))
