@@ -159,24 +159,34 @@ export function createFlacFramer(info: FlacStreamInfo, firstOffset: number, even
 }
 
 /**
- * Slice-by-4 tables: CRC16_K[k][x] is the register after a top byte x is followed by k more zero bytes, so four
- * input bytes cost four lookups and one step (the CRC is linear; the framer's per-byte cost is this loop).
+ * Slice-by-16 table, flat: CRC16_16[k·256 + x] is the register after a byte x at the top is followed by k more
+ * zero bytes (k = 0 is the byte-wise table), so sixteen input bytes cost sixteen lookups and one step (the CRC is
+ * linear; the framer's per-byte cost is this loop). One flat array rather than one per k: V8 keeps a single
+ * base and bounds check in registers. Measured on the project's machine (Node 20, CPU time, 152 MB in 4.3 kB
+ * frames, 4 alternating runs): slice-by-4 in four arrays ≈ 150 ms, slice-by-8 flat ≈ 93 ms, this ≈ 88 ms.
  */
-const CRC16_K = [CRC16, new Uint16Array(256), new Uint16Array(256), new Uint16Array(256)];
-for (let k = 1; k < 4; k++) {
+const CRC16_16 = new Uint16Array(16 * 256);
+CRC16_16.set(CRC16, 0);
+for (let k = 1; k < 16; k++) {
   for (let x = 0; x < 256; x++) {
-    const r = CRC16_K[k - 1][x];
-    CRC16_K[k][x] = ((r << 8) & 0xffff) ^ CRC16[r >> 8];
+    const r = CRC16_16[(k - 1) * 256 + x];
+    CRC16_16[k * 256 + x] = ((r << 8) & 0xffff) ^ CRC16[r >> 8];
   }
 }
 
 /** CRC-16 of b[from, to) continuing from `crc`. */
 export function crc16(b: Uint8Array, from: number, to: number, crc: number): number {
-  const [t0, t1, t2, t3] = CRC16_K;
+  const t = CRC16_16;
   let c = crc;
   let i = from;
-  for (const end4 = to - 3; i < end4; i += 4) c = t3[(c >> 8) ^ b[i]] ^ t2[(c & 0xff) ^ b[i + 1]] ^ t1[b[i + 2]] ^ t0[b[i + 3]];
-  for (; i < to; i++) c = ((c << 8) & 0xffff) ^ t0[(c >> 8) ^ b[i]];
+  for (const end16 = to - 15; i < end16; i += 16) {
+    c =
+      t[3840 + ((c >> 8) ^ b[i])] ^ t[3584 + ((c & 0xff) ^ b[i + 1])] ^ t[3328 + b[i + 2]] ^ t[3072 + b[i + 3]] ^
+      t[2816 + b[i + 4]] ^ t[2560 + b[i + 5]] ^ t[2304 + b[i + 6]] ^ t[2048 + b[i + 7]] ^
+      t[1792 + b[i + 8]] ^ t[1536 + b[i + 9]] ^ t[1280 + b[i + 10]] ^ t[1024 + b[i + 11]] ^
+      t[768 + b[i + 12]] ^ t[512 + b[i + 13]] ^ t[256 + b[i + 14]] ^ t[b[i + 15]];
+  }
+  for (; i < to; i++) c = ((c << 8) & 0xffff) ^ t[(c >> 8) ^ b[i]];
   return c;
 }
 
