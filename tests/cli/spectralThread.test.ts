@@ -10,12 +10,13 @@ import { mkdtempSync, readdirSync, readFileSync, rmSync, statSync, writeFileSync
 import { availableParallelism, tmpdir } from "node:os";
 import path from "node:path";
 import { PNG } from "pngjs";
+import { Worker } from "node:worker_threads";
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import { hardClip, mix, pinkNoise, sine } from "../fixtures/synth.ts";
 import { encodeWav } from "../fixtures/wavWriter.ts";
 import { loadProfile } from "../../cli/src/profiles/loadProfile.ts";
 import { analyseFile, type ScanContext } from "../../cli/src/scan/analyseFile.ts";
-import { allocateBlockRing, consumeBlockRing, createBlockRingWriter } from "../../cli/src/scan/blockRing.ts";
+import { allocateBlockRing, consumeBlockRing, createBlockRingWriter, DECODING_READER_RING_BUDGET_BYTES, RING_FAILED, RING_STATE_INDEX, ringSlotsFor } from "../../cli/src/scan/blockRing.ts";
 import { runScan } from "../../cli/src/scan/runScan.ts";
 import type { AudioBlock } from "../../shared/src/types/analysis.ts";
 
@@ -209,6 +210,35 @@ describe("block ring", () => {
       [16, 16, 2, -2],
       [32, 5, 3, -3],
     ]);
+  });
+
+  it("stays within its memory budget: 8 slots of 65536 stereo frames, 32 for a decoding reader (FLAC), fewer for wide files, never under 2", () => {
+    const bytes = (channels: number, frames: number, slots: number): number => channels * frames * 4 * slots;
+    expect(ringSlotsFor(2, 65536)).toBe(8);
+    expect(ringSlotsFor(2, 65536, true)).toBe(32);
+    expect(bytes(2, 65536, ringSlotsFor(2, 65536, true))).toBeLessThanOrEqual(DECODING_READER_RING_BUDGET_BYTES);
+    // 8 channels: 2 MiB a slot, so 8 within the decoding reader's 16 MiB and the 2-slot floor otherwise.
+    expect(ringSlotsFor(8, 65536, true)).toBe(8);
+    expect(ringSlotsFor(8, 65536)).toBe(4);
+    expect(ringSlotsFor(64, 65536, true)).toBe(2);
+  });
+
+  it("keeps to 8 slots until the consumer has taken a block, so a consumer that fails while setting up stops the reader", async () => {
+    const ring = allocateBlockRing({ channels: 2, slotFrames: 16, slots: 32 });
+    const writer = createBlockRingWriter(ring);
+    for (let i = 0; i < 8; i++) writer.push(block(i * 16, 16, 1));
+    // A consumer that fails 200 ms from now without taking a block (its setup failed).
+    const consumer = new Worker(
+      `const { workerData } = require("node:worker_threads");
+       setTimeout(() => { const c = new Int32Array(workerData.control); Atomics.store(c, ${RING_STATE_INDEX}, ${RING_FAILED}); Atomics.notify(c, 1); }, 200);`,
+      { eval: true, workerData: ring },
+    );
+    try {
+      // With all 32 slots open at once this push would return, and a short file end before the failure shows.
+      expect(() => writer.push(block(128, 16, 1))).toThrow(/consumer thread failed/);
+    } finally {
+      await consumer.terminate();
+    }
   });
 
   it("refuses a block larger than a slot, and a block with the wrong channel count", () => {

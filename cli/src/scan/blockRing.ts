@@ -27,10 +27,26 @@ const MIN_RING_SLOTS = 2;
 /** Samples the ring aims to stay under; two slots are the least it works with, whatever the width. */
 const RING_BUDGET_BYTES = 8 << 20;
 
-/** Slots for blocks of this shape: up to 8 within the budget, never fewer than 2. */
-export function ringSlotsFor(channels: number, slotFrames: number): number {
+/**
+ * When the reading thread decodes FLAC and the other thread measures everything (spectralThread.ts, part
+ * "all"), the reader is the slower side once both run, but the other thread starts late and slow (its own
+ * isolate, cold code): with 8 slots the reader waited ≈ 0.1 s for it at the start of the 600 s bench file
+ * (timestamps on both threads, 5 December 2026), time the scan's wall clock then lacks. 32 stereo slots (16 MiB,
+ * ≈ 44 s of 48 kHz audio) let it decode ahead instead; the scan's peak RSS rose ≈ 11 MB (121 → 132 MB, median of
+ * 4 runs), within issue #22's 150 MB.
+ */
+export const DECODING_READER_RING_BUDGET_BYTES = 16 << 20;
+const DECODING_READER_MAX_SLOTS = 32;
+
+/**
+ * Slots for blocks of this shape: up to 8 within the budget, never fewer than 2 (`decodingReader`: up to 32
+ * within DECODING_READER_RING_BUDGET_BYTES).
+ */
+export function ringSlotsFor(channels: number, slotFrames: number, decodingReader = false): number {
   const slotBytes = channels * slotFrames * Float32Array.BYTES_PER_ELEMENT;
-  return Math.max(MIN_RING_SLOTS, Math.min(MAX_RING_SLOTS, Math.floor(RING_BUDGET_BYTES / slotBytes)));
+  const budget = decodingReader ? DECODING_READER_RING_BUDGET_BYTES : RING_BUDGET_BYTES;
+  const most = decodingReader ? DECODING_READER_MAX_SLOTS : MAX_RING_SLOTS;
+  return Math.max(MIN_RING_SLOTS, Math.min(most, Math.floor(budget / slotBytes)));
 }
 /** A wait step; between steps each side looks at the state word. */
 const WAIT_STEP_MS = 250;
@@ -111,7 +127,9 @@ export function createBlockRingWriter(memory: BlockRingMemory): BlockRingWriter 
       for (;;) {
         const read = Atomics.load(control, READ);
         if (Atomics.load(control, STATE) === RING_FAILED) throw new BlockRingError("block ring: the consumer thread failed");
-        if (written - read < slots) break;
+        // Until the consumer has taken a block, no more than the usual slots: a consumer that fails while setting
+        // up is then still noticed during the read, as one thread notices it, whatever the ring's size.
+        if (written - read < (read > 0 ? slots : Math.min(slots, MAX_RING_SLOTS))) break;
         waitWhile(control, READ, read, "consumer thread", STALL_LIMIT_MS);
       }
       const slot = written % slots;

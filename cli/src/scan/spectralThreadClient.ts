@@ -61,7 +61,7 @@ function bootstrapCode(script: URL): string {
 }
 
 export function startSpectralThread(format: StreamFormat, settings: AnalysisSettings, o: { fingerprint: boolean; images: boolean; slotFrames: number; part: SecondThreadPart }): SpectralThread {
-  const ring = allocateBlockRing({ channels: format.channels, slotFrames: o.slotFrames, slots: ringSlotsFor(format.channels, o.slotFrames) });
+  const ring = allocateBlockRing({ channels: format.channels, slotFrames: o.slotFrames, slots: ringSlotsFor(format.channels, o.slotFrames, o.part.kind === "all") });
   // Dropped after the last block, so the ring's memory goes as soon as the thread has ended too.
   let writer: BlockRingWriter | null = createBlockRingWriter(ring);
   const data: SpectralThreadData = { ring, format, settings, fingerprint: o.fingerprint, images: o.images, part: o.part };
