@@ -20,8 +20,8 @@ async function generatedBytes(generated: string): Promise<Uint8Array> {
 }
 
 describe("WebAssembly kernel modules", () => {
-  it("finds the level and fingerprint kernels", () => {
-    expect(sources.map((s) => s.wat)).toEqual(expect.arrayContaining(["shared/src/analysis/levelKernels.wat", "shared/src/fingerprint/kernels.wat"]));
+  it("finds the level, fingerprint and FLAC rescaling kernels", () => {
+    expect(sources.map((s) => s.wat)).toEqual(expect.arrayContaining(["shared/src/analysis/levelKernels.wat", "shared/src/fingerprint/kernels.wat", "shared/src/flac/flacRescale.wat"]));
   });
 
   for (const source of sources) {

@@ -12,6 +12,7 @@ import { createFlacFramer, type FlacFrameHeader, type FlacFramer } from "@tidema
 import type { FlacLayout } from "@tidemark/shared/flac/flacLayout";
 import { WavFormatError } from "@tidemark/shared/wav/errors";
 import { containerDepth } from "@tidemark/shared/flac/flacDepthWidening";
+import { createFlacRescale, type FlacRescale } from "@tidemark/shared/flac/flacRescale";
 import { createLibflacFrames, type LibflacFrames } from "./libflacFrames.ts";
 import { wrapOddDepthFrames } from "./oddDepthFrames.ts";
 
@@ -84,6 +85,8 @@ class FlacStream implements FlacStreamDecoder {
   private dataStarted = false;
   private readonly libScale: number;
   private readonly inverse: number;
+  /** Stereo with its MD5 (16 or 24 bits, most archive masters): the SIMD kernel, whose memory holds the block and MD5 input. */
+  private readonly kernel: FlacRescale | null;
 
   constructor(
     private readonly layout: FlacLayout,
@@ -92,7 +95,6 @@ class FlacStream implements FlacStreamDecoder {
     private readonly decoder: LibflacFrames,
   ) {
     const channels = layout.channels;
-    this.planar = Array.from({ length: channels }, () => new Float32Array(blockFrames));
     this.framer = createFlacFramer(layout.streamInfo, layout.dataOffset, {
       frame: (bytes, header, _offset, tentative) => this.frame(bytes, header, tentative === true),
       gap: (sample, frames, _offset, why) => this.gap(sample, frames, why),
@@ -101,8 +103,11 @@ class FlacStream implements FlacStreamDecoder {
     // libFLAC hands out float32: exact for codes up to 24 bits, so the MD5 can be rebuilt only up to there.
     this.md5 = layout.streamInfo.md5 !== null && bits <= 24 ? createHash("md5") : null;
     this.md5Bytes = Math.ceil(bits / 8);
-    this.md5Buffer = new Uint8Array(this.md5 ? MD5_BATCH_BYTES : 0);
-    this.md5Words = new Uint32Array(this.md5Buffer.buffer, 0, this.md5Buffer.length >> 2);
+    const stereoKernel = this.md5 !== null && channels === 2 && this.md5Bytes >= 2 && LITTLE_ENDIAN;
+    this.kernel = stereoKernel ? createFlacRescale({ frameCapacity: layout.streamInfo.maxBlockSize, blockFrames, md5Bytes: MD5_BATCH_BYTES }) : null;
+    this.planar = this.kernel ? [this.kernel.left, this.kernel.right] : Array.from({ length: channels }, () => new Float32Array(blockFrames));
+    this.md5Buffer = this.kernel ? this.kernel.md5 : new Uint8Array(this.md5 ? MD5_BATCH_BYTES : 0);
+    this.md5Words = new Uint32Array(this.md5Buffer.buffer, this.md5Buffer.byteOffset, this.md5Buffer.length >> 2);
     this.libScale = 2 ** (bits - 1) - 1;
     this.inverse = 1 / 2 ** (bits - 1);
   }
@@ -161,6 +166,12 @@ class FlacStream implements FlacStreamDecoder {
    */
   private take(data: Float32Array, stride: number, frames: number): void {
     const rowBytes = this.planar.length * this.md5Bytes;
+    const kernel = this.kernel && stride <= this.layout.streamInfo.maxBlockSize ? this.kernel : null;
+    if (kernel) {
+      // Into the kernel's memory once; libFLAC's heap is another module's.
+      kernel.input.set(data.subarray(0, frames), 0);
+      kernel.input.set(data.subarray(stride, stride + frames), this.layout.streamInfo.maxBlockSize);
+    }
     let at = 0;
     while (at < frames) {
       let n = Math.min(frames - at, this.blockFrames - this.filled);
@@ -168,7 +179,8 @@ class FlacStream implements FlacStreamDecoder {
         if (this.md5Buffer.length - this.md5Filled < rowBytes) this.flushMd5();
         n = Math.min(n, Math.floor((this.md5Buffer.length - this.md5Filled) / rowBytes));
       }
-      this.rescale(data, stride, at, n);
+      if (kernel) this.rescaleKernel(kernel, at, n);
+      else this.rescale(data, stride, at, n);
       at += n;
       if (this.filled === this.blockFrames) this.flushBlock();
     }
@@ -293,6 +305,35 @@ class FlacStream implements FlacStreamDecoder {
       out[j + 3] = b;
       out[j + 4] = b >> 8;
       out[j + 5] = b >> 16;
+    }
+  }
+
+  /** rescaleStereo's work on the frame in the kernel's memory: four frames a step there, the last few here. */
+  private rescaleKernel(kernel: FlacRescale, from: number, frames: number): void {
+    const bits = this.layout.streamInfo.bitsPerSample;
+    const offset = 2 ** (bits - 1);
+    const bias = offset + 0.5;
+    const width = this.md5Bytes;
+    const to = this.filled;
+    const base = this.md5Filled;
+    const rowBytes = 2 * width;
+    this.filled += frames;
+    this.md5Filled += frames * rowBytes;
+    const n4 = frames & ~3;
+    kernel.stereo(from, n4, to, base, width, this.libScale, bias, offset, this.inverse);
+    const input = kernel.input;
+    const capacity = this.layout.streamInfo.maxBlockSize;
+    const out = this.md5Buffer;
+    for (let c = 0; c < 2; c++) {
+      const x = this.planar[c];
+      for (let i = n4; i < frames; i++) {
+        const v = ((input[c * capacity + from + i] * this.libScale + bias) | 0) - offset;
+        x[to + i] = v * this.inverse;
+        const j = base + i * rowBytes + c * width;
+        out[j] = v;
+        out[j + 1] = v >> 8;
+        if (width === 3) out[j + 2] = v >> 16;
+      }
     }
   }
 
