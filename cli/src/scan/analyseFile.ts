@@ -280,9 +280,6 @@ async function analyseFileIn(
     if (two) {
       // The other thread finishes its part while this one finishes the level side (if it has it).
       const otherPart = two.spectral.finish();
-      // The images come next: their typesetter loads meanwhile (≈ 25 ms: import and fonts), not after.
-      // writeImages loads it again (at once, then) and reports the error if it failed.
-      if (ctx.spectrograms) void import("../render/fontTypesetter.ts").then((m) => m.installFontTypesetter()).catch(() => undefined);
       let levelSide: LevelSideResult | null;
       try {
         levelSide = arena.run(() => two.level?.finish() ?? null);
