@@ -212,19 +212,19 @@ describe("block ring", () => {
     ]);
   });
 
-  it("stays within its memory budget: 8 slots of 65536 stereo frames, 24 for a decoding reader (FLAC), fewer for wide files, never under 2", () => {
+  it("stays within its memory budget: 8 slots of 65536 stereo frames, 16 for a decoding reader (FLAC), fewer for wide files, never under 2", () => {
     const bytes = (channels: number, frames: number, slots: number): number => channels * frames * 4 * slots;
     expect(ringSlotsFor(2, 65536)).toBe(8);
-    expect(ringSlotsFor(2, 65536, true)).toBe(24);
+    expect(ringSlotsFor(2, 65536, true)).toBe(16);
     expect(bytes(2, 65536, ringSlotsFor(2, 65536, true))).toBeLessThanOrEqual(DECODING_READER_RING_BUDGET_BYTES);
-    // 8 channels: 2 MiB a slot, so 6 within the decoding reader's 12 MiB and 4 within the usual 8 MiB.
-    expect(ringSlotsFor(8, 65536, true)).toBe(6);
+    // 8 channels: 2 MiB a slot, so 4 within either budget (8 MiB); 64 channels: the floor of 2.
+    expect(ringSlotsFor(8, 65536, true)).toBe(4);
     expect(ringSlotsFor(8, 65536)).toBe(4);
     expect(ringSlotsFor(64, 65536, true)).toBe(2);
   });
 
   it("keeps to 8 slots until the consumer has taken a block, so a consumer that fails while setting up stops the reader", async () => {
-    const ring = allocateBlockRing({ channels: 2, slotFrames: 16, slots: 24 });
+    const ring = allocateBlockRing({ channels: 2, slotFrames: 16, slots: 16 });
     const writer = createBlockRingWriter(ring);
     for (let i = 0; i < 8; i++) writer.push(block(i * 16, 16, 1));
     // A consumer that fails 200 ms from now without taking a block (its setup failed).
@@ -234,7 +234,7 @@ describe("block ring", () => {
       { eval: true, workerData: ring },
     );
     try {
-      // With all 24 slots open at once this push would return, and a short file end before the failure shows.
+      // With all 16 slots open at once this push would return, and a short file end before the failure shows.
       expect(() => writer.push(block(128, 16, 1))).toThrow(/consumer thread failed/);
     } finally {
       await consumer.terminate();
