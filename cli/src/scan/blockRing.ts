@@ -30,12 +30,13 @@ const RING_BUDGET_BYTES = 8 << 20;
 /**
  * When the reading thread decodes FLAC and the other thread measures everything (spectralThread.ts, part
  * "all"), the reader is the slower side once both run, but the other thread starts late and slow (its own
- * isolate, cold code): with 8 slots the reader waited ≈ 0.1 s for it at the start of the 600 s bench file
- * (timestamps on both threads, 5 December 2026), time the scan's wall clock then lacks. 16 stereo slots (8 MiB,
- * ≈ 22 s of 48 kHz audio) let it decode part of that ahead instead. Memory decides the size: the ring cycles
- * through every slot, so all of it stays resident, and the scan's peak RSS rose with it (the 600 s FLAC, medians
- * of 4 runs on a busy machine, 5 December 2026: 121 MB with 8 slots, 135 MB with 24; 16 about halfway), against
- * issue #22's 150 MB, which the 4-hour FLAC (131 MB before) must also keep.
+ * isolate, cold code): with 8 slots the reader waited 50–110 ms for it at the start of the 600 s bench file
+ * (timestamps on both threads, 3 runs, 5 December 2026), time the scan's wall clock then lacks. 16 stereo slots
+ * (8 MiB, ≈ 22 s of 48 kHz audio) let it decode part of that ahead instead. Memory decides the size: the ring
+ * cycles through every slot, so all of it stays resident, and the scan's peak RSS rises with it (the 600 s FLAC
+ * on a busy machine, 5 December 2026: 121 MB with 8 slots and 135 MB with 24, medians of 4 runs; with 16,
+ * 119.5 MB against 118 MB before this change, medians of 6 runs alternating with it), against issue #22's
+ * 150 MB, which the 4-hour FLAC (131 MB before) must also keep.
  */
 export const DECODING_READER_RING_BUDGET_BYTES = 8 << 20;
 const DECODING_READER_MAX_SLOTS = 16;
