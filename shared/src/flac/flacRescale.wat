@@ -1,10 +1,10 @@
 ;; WebAssembly SIMD kernels of the FLAC reader's rescaling (loaded by flacRescale.ts; rebuild
 ;; flacRescale.generated.ts with `node --import tsx scripts/generate-wasm-kernels.ts`). libFLAC's WebAssembly
-;; build hands out each code divided by 2^(bits−1) − 1 as float32; these recover the codes, write them on the
-;; reader's scale (2^−(bits−1)) as planar float32, and interleave them little-endian in whole bytes for
+;; build hands out each code divided by 2^(bits-1) - 1 as float32; these recover the codes, write them on the
+;; reader's scale (2^-(bits-1)) as planar float32, and interleave them little-endian in whole bytes for
 ;; STREAMINFO's MD5 (RFC 9639, 8.2), four stereo frames a step. Every lane does the JavaScript loop's IEEE
-;; operations (cli/src/audio/flacStreamDecoder.ts, rescale): x promoted to f64, ·scale + bias, truncated,
-;; − offset; the float out is code · inverse, exact in float32 for codes of up to 24 bits. So the results
+;; operations (cli/src/audio/flacStreamDecoder.ts, rescale): x promoted to f64, times scale plus bias, truncated,
+;; minus offset; the float out is code times inverse, exact in float32 for codes of up to 24 bits. So the results
 ;; are bit for bit those of the JavaScript path (tests/shared/flacRescale.test.ts).
 (module
   ;; Made by the caller at its full size (shared/src/wasm/kernelModule.ts): growing a memory would detach
@@ -28,7 +28,7 @@
       (local.get $offset)))
 
   ;; stereo(src, stride, n, left, right, md5, width, scale, bias, offset, inverse): n frames (a multiple of
-  ;; 4) of two planar float32 channels at byte offsets src and src + 4·stride, into the float32 arrays at
+  ;; 4) of two planar float32 channels at byte offsets src and src + 4*stride, into the float32 arrays at
   ;; left and right and, `width` (2 or 3) bytes a code, the interleaved MD5 input at md5 (any alignment).
   (func (export "stereo")
     (param $src i32) (param $stride i32) (param $n i32) (param $left i32) (param $right i32) (param $md5 i32)
