@@ -7,3 +7,5 @@ export declare const BUNDLE_ID_MARK: string;
 export declare function bundleCli(o: { outdir: string; selfContained?: boolean }): Promise<{
   metafile: { inputs: Record<string, unknown>; outputs: Record<string, unknown> };
 }>;
+/** esbuild plugin: commander's node:child_process required on its first spawn, not at load. */
+export declare const lazyCommanderChildProcess: { name: string; setup(build: unknown): void };

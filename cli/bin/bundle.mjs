@@ -7,7 +7,7 @@
 // code cache (Node 20 caches no ES module's code). The worker threads' entries stay ES modules with shared
 // chunks: they start once a scan, not once a command.
 import { createHash } from "node:crypto";
-import { mkdir, writeFile } from "node:fs/promises";
+import { mkdir, readFile, writeFile } from "node:fs/promises";
 import path from "node:path";
 import { fileURLToPath } from "node:url";
 import { build, transform } from "esbuild";
@@ -37,6 +37,29 @@ const libflacBeside = {
   name: "libflac-beside",
   setup(b) {
     b.onResolve({ filter: /^@wasm-audio-decoders\/flac$/ }, () => ({ path: "./libflac.cjs", external: true }));
+  },
+};
+
+/**
+ * commander requires node:child_process when it loads, for the executable subcommands Tidemark does not
+ * declare; that module pulls in net, dgram and the stream internals, ≈ 2 ms of every start (issue #22).
+ * The plugin makes commander require it on its first spawn instead: the same `childProcess.spawn` call,
+ * resolved then. Should a commander release word the line differently, the file is left as it is (a
+ * warning says so) and only the saving is lost.
+ */
+const COMMANDER_CHILD_PROCESS = "const childProcess = require('node:child_process');";
+const LAZY_CHILD_PROCESS =
+  "let __tidemarkChildProcess; const childProcess = { get spawn() { return (__tidemarkChildProcess ??= require('node:child_process')).spawn; } };";
+export const lazyCommanderChildProcess = {
+  name: "lazy-commander-child-process",
+  setup(b) {
+    b.onLoad({ filter: /[\\/]commander[\\/]lib[\\/]command\.js$/ }, async (args) => {
+      const text = await readFile(args.path, "utf8");
+      if (!text.includes(COMMANDER_CHILD_PROCESS)) {
+        return { contents: text, loader: "js", warnings: [{ text: `commander no longer has "${COMMANDER_CHILD_PROCESS}": node:child_process loads at start-up again` }] };
+      }
+      return { contents: text.replace(COMMANDER_CHILD_PROCESS, LAZY_CHILD_PROCESS), loader: "js" };
+    });
   },
 };
 
@@ -81,7 +104,7 @@ export async function bundleCli({ outdir, selfContained = false }) {
     format: "cjs",
     outExtension: { ".js": ".cjs" },
     define: { "import.meta": "__tidemarkImportMeta" },
-    plugins: [unbundled, libflacBeside],
+    plugins: [unbundled, libflacBeside, lazyCommanderChildProcess],
     write: false,
   });
   const libflac = await build({ ...common, entryPoints: { libflac: LIBFLAC_PACKAGE }, format: "cjs", outExtension: { ".js": ".cjs" } });
