@@ -5,8 +5,8 @@ import { blocksOf } from "../fixtures/spectralSignals.ts";
 import { seededRandom, sine } from "../fixtures/synth.ts";
 
 /** Runs the decimator over x in blocks, computing every output; returns them in order. */
-function decimateAll(x: Float32Array, factor: number, blockFrames: number): Float32Array {
-  const d = createDecimator({ channels: 1, factor });
+function decimateAll(x: Float32Array, factor: number, blockFrames: number, useWasm = true): Float32Array {
+  const d = createDecimator({ channels: 1, factor, useWasm });
   const out = new Float32Array(Math.ceil(x.length / factor));
   for (const block of blocksOf([x], blockFrames)) {
     const { firstOutput, endOutput } = d.stage(block);
@@ -63,5 +63,58 @@ describe("cubed-boxcar decimator", () => {
     expect(got[1]).toBe(2);
     expect(got[2]).toBeCloseTo(1, 6);
     expect(() => d.stage({ channels: [x], frames: 64, startFrame: 100 })).toThrow(/contiguous blocks: expected startFrame 64, got 100/);
+  });
+
+  // decimatorKernels.wat against the JavaScript loops (decimate22 for factor 8, the general loop otherwise).
+  describe("WebAssembly FIR", () => {
+    /**
+     * Every output of a stereo stream in blocks of the given lengths, computed in stretches of `stretch`
+     * outputs (as lowRateStream asks for them), the blocks handed over in arrays longer than their frames
+     * (as the reader reuses its arrays).
+     */
+    function decimateStereo(x: Float32Array[], factor: number, blockLengths: number[], stretch: number, useWasm: boolean) {
+      const d = createDecimator({ channels: 2, factor, useWasm });
+      const out = x.map((ch) => new Float32Array(Math.ceil(ch.length / factor)));
+      let start = 0;
+      for (let b = 0; start < x[0].length; b++) {
+        const frames = Math.min(blockLengths[b % blockLengths.length], x[0].length - start);
+        const channels = x.map((ch) => {
+          const padded = new Float32Array(frames + 5).fill(Number.NaN);
+          padded.set(ch.subarray(start, start + frames));
+          return padded;
+        });
+        const { firstOutput, endOutput } = d.stage({ channels, frames, startFrame: start });
+        for (let from = firstOutput; from < endOutput; from += stretch) {
+          d.compute(from, Math.min(endOutput, from + stretch), (o: AudioBlock) => {
+            for (let c = 0; c < 2; c++) out[c].set(o.channels[c].subarray(0, o.frames), o.startFrame);
+          });
+        }
+        start += frames;
+      }
+      return { out, engine: d.engine };
+    }
+
+    it.each([
+      [8, [4096], 7],
+      [8, [65536], 1000],
+      // A block longer than the kernel's memory was made for: a new instance then.
+      [8, [1000, 100_000, 333], 50],
+      [4, [777, 64], 3],
+      [16, [4096, 5], 100],
+      [1, [300], 20],
+    ])("gives the JavaScript's outputs bit for bit (factor %i, blocks %j, stretches of %i)", (factor, blocks, stretch) => {
+      const rnd = seededRandom(factor * 31 + blocks.length);
+      const x = [new Float32Array(150_000), new Float32Array(150_000)];
+      for (const ch of x) for (let i = 0; i < ch.length; i++) ch[i] = (2 * rnd() - 1) * (i % 5000 < 10 ? 1e-30 : 1);
+      const wasm = decimateStereo(x, factor, blocks, stretch, true);
+      const js = decimateStereo(x, factor, blocks, stretch, false);
+      expect(wasm.engine).toBe("wasm");
+      expect(js.engine).toBe("js");
+      for (let c = 0; c < 2; c++) {
+        expect(new Uint32Array(wasm.out[c].buffer)).toEqual(new Uint32Array(js.out[c].buffer));
+      }
+      // Not all zeros (a kernel writing nothing would agree with nothing).
+      expect(wasm.out[0].some((v) => Math.abs(v) > 0.01)).toBe(true);
+    });
   });
 });

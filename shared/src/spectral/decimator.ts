@@ -7,8 +7,11 @@
  * needs frames here and there does not pay for the gaps.
  */
 import type { AudioBlock } from "../types/analysis.ts";
+import { createDecimatorKernels, type DecimatorKernels } from "./decimatorKernels.ts";
 
 export interface Decimator {
+  /** Where the FIR runs: WebAssembly (decimatorKernels.wat) or, where the runtime has none, JavaScript. Same outputs. */
+  readonly engine: "wasm" | "js";
   /**
    * Takes the next input block (blocks must be contiguous) and returns the output indices it makes
    * computable, [firstOutput, endOutput).
@@ -30,12 +33,45 @@ function convolve(a: Float64Array, b: Float64Array): Float64Array {
   return out;
 }
 
-export function createDecimator(o: { channels: number; factor: number }): Decimator {
+/**
+ * Block length the WebAssembly kernel's memory is first made for: the CLI reader's (DEFAULT_BLOCK_FRAMES in
+ * cli/src/audio/readAudioFile.ts). A longer block gets an instance of its own, made then.
+ */
+const KERNEL_BLOCK_FRAMES = 65536;
+
+/** The kernel's instance and its memory's layout: taps, then each channel's staged block, then its outputs. */
+interface KernelSpace {
+  kernels: DecimatorKernels;
+  blockFrames: number;
+  inAt: number;
+  outAt: number;
+  outFrames: number;
+  inputs: Float32Array[];
+  outputs: Float32Array[];
+}
+
+/** `useWasm: false` runs the JavaScript loops only (tests compare the two). */
+export function createDecimator(o: { channels: number; factor: number; useWasm?: boolean }): Decimator {
   const { channels, factor } = o;
   if (!Number.isInteger(factor) || factor < 1) throw new Error(`decimation factor must be a positive integer, got ${factor}`);
   const taps = cubedBoxcarTaps(factor);
   const tapCount = taps.length;
   const history = tapCount - 1;
+  // The FIR in WebAssembly where the runtime has it (decimatorKernels.wat: the same outputs to the bit).
+  // Made now, inside the caller's kernel arena if any, for the reader's block length.
+  const kernelSpace = (blockFrames: number): KernelSpace | null => {
+    const outFrames = Math.ceil(blockFrames / factor) + 1;
+    const inAt = 8 * tapCount;
+    const outAt = inAt + 4 * blockFrames * channels;
+    const kernels = createDecimatorKernels(outAt + 4 * outFrames * channels);
+    if (kernels === null) return null;
+    const heap = kernels.memory.buffer;
+    new Float64Array(heap, 0, tapCount).set(taps);
+    const inputs = Array.from({ length: channels }, (_, c) => new Float32Array(heap, inAt + 4 * blockFrames * c, blockFrames));
+    const outputs = Array.from({ length: channels }, (_, c) => new Float32Array(heap, outAt + 4 * outFrames * c, outFrames));
+    return { kernels, blockFrames, inAt, outAt, outFrames, inputs, outputs };
+  };
+  let space = o.useWasm === false ? null : kernelSpace(KERNEL_BLOCK_FRAMES);
   // The block is read in place (valid until the next stage); only the `history` inputs before it are kept.
   let before = Array.from({ length: channels }, () => new Float32Array(history));
   let after = Array.from({ length: channels }, () => new Float32Array(history));
@@ -46,6 +82,9 @@ export function createDecimator(o: { channels: number; factor: number }): Decima
   let range = { firstOutput: 0, endOutput: 0 };
 
   return {
+    get engine() {
+      return space === null ? "js" : "wasm";
+    },
     stage(next) {
       if (next.startFrame !== nextInputFrame) {
         throw new Error(`decimator needs contiguous blocks: expected startFrame ${nextInputFrame}, got ${next.startFrame}`);
@@ -62,7 +101,12 @@ export function createDecimator(o: { channels: number; factor: number }): Decima
         }
       }
       block = next.channels;
-      if (outputs.length === 0 || outputs[0].length < Math.ceil(frames / factor) + 1) {
+      if (space !== null && frames > space.blockFrames) space = kernelSpace(frames);
+      if (space !== null) {
+        // The kernel reads the block from its memory and writes the outputs there (outputs are views of it).
+        for (let c = 0; c < channels; c++) space.inputs[c].set(frames === next.channels[c].length ? next.channels[c] : next.channels[c].subarray(0, frames));
+        outputs = space.outputs;
+      } else if (outputs.length === 0 || outputs[0].length < Math.ceil(frames / factor) + 1) {
         // Grows only when a longer block than any before arrives: the reader's block size, in practice once.
         outputs = Array.from({ length: channels }, () => new Float32Array(Math.ceil(frames / factor) + 1));
       }
@@ -92,7 +136,8 @@ export function createDecimator(o: { channels: number; factor: number }): Decima
         }
         if (m === count) continue;
         const at = (first + m) * factor - stagedStart;
-        if (tapCount === 22) decimate22(src, at, factor, out, m, count, taps);
+        if (space !== null) space.kernels.fir(space.inAt + 4 * (c * space.blockFrames + at), factor, count - m, 0, tapCount, space.outAt + 4 * (c * space.outFrames + m));
+        else if (tapCount === 22) decimate22(src, at, factor, out, m, count, taps);
         else {
           for (let i = at; m < count; m++, i += factor) {
             let acc = 0;
