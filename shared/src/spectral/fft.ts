@@ -304,16 +304,48 @@ export function createSpectrumAnalyzer(fftSize: number, options: SpectrumAnalyze
     };
   }
 
+  // amplitudeSquaredPffft's arithmetic in WebAssembly SIMD (spectrumKernels.wat's `power`, the same doubles):
+  // a short file's frames are too few for V8 to optimise the JavaScript loop before most of them are done,
+  // and unoptimised it boxes every double (issue #22). The frame's spectrum is copied from PFFFT's heap into
+  // the kernel's memory, the values out of it.
+  const frameKernels = plan === null || fftSize < 8 ? null : createSpectrumKernels(4 * fftSize + 8 * binCount);
+  const amplitudeSquaredKernel = (() => {
+    if (frameKernels === null) return null;
+    const p = plan!;
+    const spectrumIn = new Float32Array(frameKernels.memory.buffer, 0, fftSize);
+    const powerOut = new Float64Array(frameKernels.memory.buffer, 4 * fftSize, binCount);
+    const half = fftSize >> 1;
+    let heap: Float32Array | null = null;
+    let output: Float32Array = new Float32Array(0);
+    return (frame: SampleFrame, out: Float32Array | Float64Array): void => {
+      checkFrame(frame);
+      const h = p.forward(frame);
+      if (h !== heap) {
+        heap = h;
+        output = h.subarray(p.outputIndex, p.outputIndex + fftSize);
+      }
+      spectrumIn.set(output);
+      frameKernels.power(0, 4 * fftSize, half, sideScale, edgeScale);
+      // Into a Float32Array, set() rounds each value as an element assignment does.
+      out.set(powerOut);
+    };
+  })();
+
   const amplitudeSquared =
     plan === null
       ? (frame: SampleFrame, out: Float32Array | Float64Array): void => {
           checkBins(out);
           amplitudeSquaredFftJs(frame, out);
         }
-      : (frame: SampleFrame, out: Float32Array | Float64Array): void => {
-          checkBins(out);
-          amplitudeSquaredPffft(frame, out);
-        };
+      : amplitudeSquaredKernel !== null
+        ? (frame: SampleFrame, out: Float32Array | Float64Array): void => {
+            checkBins(out);
+            amplitudeSquaredKernel(frame, out);
+          }
+        : (frame: SampleFrame, out: Float32Array | Float64Array): void => {
+            checkBins(out);
+            amplitudeSquaredPffft(frame, out);
+          };
 
   return {
     fftSize,

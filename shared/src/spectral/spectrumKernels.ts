@@ -12,6 +12,8 @@ export interface SpectrumKernels {
   readonly memory: WasmMemory;
   /** See spectrumKernels.wat. h and sum are byte offsets into `memory`. */
   addPower(h: number, sum: number, half: number, sideScale: number, edgeScale: number): void;
+  /** addPower's values stored in sum[0 … half] rather than added (amplitudeSquared's, issue #22). */
+  power(h: number, sum: number, half: number, sideScale: number, edgeScale: number): void;
 }
 
 const instantiate = kernelModule(WASM_MODULE_BYTES);
@@ -20,5 +22,5 @@ const instantiate = kernelModule(WASM_MODULE_BYTES);
 export function createSpectrumKernels(bytes: number): SpectrumKernels | null {
   const instance = instantiate(bytes);
   if (!instance) return null;
-  return { addPower: instance.exports.addPower as SpectrumKernels["addPower"], memory: instance.memory };
+  return { addPower: instance.exports.addPower as SpectrumKernels["addPower"], power: instance.exports.power as SpectrumKernels["power"], memory: instance.memory };
 }
