@@ -163,6 +163,31 @@ describe("createSpectrumAnalyzer", () => {
     }
   });
 
+  // With images, spectralAnalyser.ts adds each frame's spectrum to its channel's Welch sum and the channel mean
+  // in spectrumKernels.wat's `accumulate`: the JavaScript's doubles, bin for bin.
+  it("accumulates a spectrum into a sum and a mean in the kernel as the JavaScript does", () => {
+    const n = 2049;
+    const k = createSpectrumKernels(3 * 8 * n)!;
+    const x = new Float64Array(k.memory.buffer, 0, n);
+    const sum = new Float64Array(k.memory.buffer, 8 * n, n);
+    const mean = new Float64Array(k.memory.buffer, 16 * n, n);
+    const jsSum = new Float64Array(n);
+    const jsMean = new Float64Array(n);
+    const share = 1 / 3;
+    for (let frame = 0; frame < 3; frame++) {
+      const values = randomFrame(n, 900 + frame);
+      for (let i = 0; i < n; i++) x[i] = values[i] * values[i] * 10 ** (frame - i / 300);
+      k.accumulate(0, 8 * n, 16 * n, n, share);
+      for (let i = 0; i < n; i++) {
+        jsSum[i] += x[i];
+        jsMean[i] += x[i] * share;
+      }
+    }
+    expect(sum.some((v) => v > 0)).toBe(true);
+    expect(Array.from(sum)).toEqual(Array.from(jsSum));
+    expect(Array.from(mean)).toEqual(Array.from(jsMean));
+  });
+
   it("has the WebAssembly SIMD kernel for those sums on this runtime", () => {
     expect(createSpectrumKernels(1024)).not.toBeNull();
   });

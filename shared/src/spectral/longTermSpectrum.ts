@@ -38,10 +38,19 @@ export function createWelchAccumulator(o: {
   fftSize: number;
   sampleRateHz: number;
   noiseBandwidthBins: number;
+  /**
+   * Zeroed arrays of fftSize/2 + 1 to keep the sums in (a kernel's memory, whose user adds into them
+   * directly, as with sumOf); fresh ones when absent.
+   */
+  sums?: Float64Array[];
 }): WelchAccumulator {
   const binCount = o.fftSize / 2 + 1;
   const sums: Float64Array[] = [];
-  for (let c = 0; c < o.channels; c++) sums.push(new Float64Array(binCount));
+  for (let c = 0; c < o.channels; c++) {
+    const given = o.sums?.[c];
+    if (given !== undefined && given.length !== binCount) throw new Error(`Welch sums must hold ${binCount} values, got ${given.length}`);
+    sums.push(given ?? new Float64Array(binCount));
+  }
   let frames = 0;
 
   const wrap = (amplitudeSquared: Float64Array): LongTermSpectrum => ({

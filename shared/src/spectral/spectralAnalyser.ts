@@ -14,6 +14,7 @@ import { dominantFrequencyHz } from "./dominantFrequency.ts";
 import { createSpectrumAnalyzer, isPowerOfTwo, type SpectrumAnalyzer } from "./fft.ts";
 import { createFrameCollector, type FrameCollector } from "./frameCollector.ts";
 import { createLowRateStream, lowRateFactor } from "./lowRateStream.ts";
+import { createSpectrumKernels } from "./spectrumKernels.ts";
 import { detectHum, type HumEstimate } from "./hum.ts";
 import {
   createWelchAccumulator,
@@ -106,11 +107,23 @@ export function createSpectralAnalyser(format: StreamFormat, settings: AnalysisS
   const withDetail = (main: SpectrogramAccumulator, detail: SpectrogramAccumulator | undefined) =>
     detail && lowDetail ? [{ accumulator: main }, { accumulator: detail, weightOfRow: lowDetail.weightOfRow }] : [{ accumulator: main }];
   const channelGrids = layout && spectrogramSettings.perChannel ? Array.from({ length: channels }, () => mainGrid(layout)) : null;
-  const welch = createWelchAccumulator({ channels, fftSize, sampleRateHz, noiseBandwidthBins: analyzer.noiseBandwidthBins });
-  const channelSpectrum = new Float64Array(analyzer.binCount);
-  const meanSpectrum = new Float64Array(analyzer.binCount);
   const perChannelShare = 1 / channels;
   const powerSums = grid === null && channelGrids === null ? analyzer.powerSums(channels) : null;
+  // With images each frame's spectrum is kept: it is added to its channel's Welch sum and the channel mean in
+  // spectrumKernels.wat's `accumulate` (the same doubles as the JavaScript below; issue #22: a short file's
+  // frames run that loop unoptimised), all three in the kernel's memory.
+  const binBytes = 8 * analyzer.binCount;
+  const sumKernels = powerSums === null ? createSpectrumKernels((2 + channels) * binBytes) : null;
+  const inKernel = (at: number): Float64Array => new Float64Array(sumKernels!.memory.buffer, at, analyzer.binCount);
+  const channelSpectrum = sumKernels ? inKernel(0) : new Float64Array(analyzer.binCount);
+  const meanSpectrum = sumKernels ? inKernel(binBytes) : new Float64Array(analyzer.binCount);
+  const welch = createWelchAccumulator({
+    channels,
+    fftSize,
+    sampleRateHz,
+    noiseBandwidthBins: analyzer.noiseBandwidthBins,
+    sums: sumKernels ? Array.from({ length: channels }, (_, c) => inKernel((2 + c) * binBytes)) : undefined,
+  });
 
   const stft = createFrameCollector({
     channels,
@@ -129,8 +142,11 @@ export function createSpectralAnalyser(format: StreamFormat, settings: AnalysisS
       for (let c = 0; c < channels; c++) {
         analyzer.amplitudeSquared(frames[c], channelSpectrum);
         if (gain !== 1) for (let k = 0; k < channelSpectrum.length; k++) channelSpectrum[k] *= gain;
-        welch.add(c, channelSpectrum);
-        for (let k = 0; k < channelSpectrum.length; k++) meanSpectrum[k] += channelSpectrum[k] * perChannelShare;
+        if (sumKernels) sumKernels.accumulate(0, (2 + c) * binBytes, binBytes, analyzer.binCount, perChannelShare);
+        else {
+          welch.add(c, channelSpectrum);
+          for (let k = 0; k < channelSpectrum.length; k++) meanSpectrum[k] += channelSpectrum[k] * perChannelShare;
+        }
         channelGrids?.[c].addFrame(channelSpectrum, frameIndex);
       }
       welch.endFrame();

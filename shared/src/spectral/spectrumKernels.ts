@@ -14,6 +14,8 @@ export interface SpectrumKernels {
   addPower(h: number, sum: number, half: number, sideScale: number, edgeScale: number): void;
   /** addPower's values stored in sum[0 … half] rather than added (amplitudeSquared's, issue #22). */
   power(h: number, sum: number, half: number, sideScale: number, edgeScale: number): void;
+  /** sum[k] += x[k], mean[k] += x[k]·share for n doubles (the STFT's per-frame sums with images). */
+  accumulate(x: number, sum: number, mean: number, n: number, share: number): void;
 }
 
 const instantiate = kernelModule(WASM_MODULE_BYTES);
@@ -22,5 +24,5 @@ const instantiate = kernelModule(WASM_MODULE_BYTES);
 export function createSpectrumKernels(bytes: number): SpectrumKernels | null {
   const instance = instantiate(bytes);
   if (!instance) return null;
-  return { addPower: instance.exports.addPower as SpectrumKernels["addPower"], power: instance.exports.power as SpectrumKernels["power"], memory: instance.memory };
+  return { addPower: instance.exports.addPower as SpectrumKernels["addPower"], power: instance.exports.power as SpectrumKernels["power"], accumulate: instance.exports.accumulate as SpectrumKernels["accumulate"], memory: instance.memory };
 }

@@ -148,4 +148,20 @@
       (f64.sub
         (f64.mul (f64.const 0.5) (local.get $nyq))
         (f64.mul (f64.const 0.5) (f64.promote_f32 (f32.load offset=0 (local.get $q))))))
-    (f64.store offset=8 (local.get $end) (f64.mul (f64.mul (local.get $w) (local.get $w)) (local.get $edge)))))
+    (f64.store offset=8 (local.get $end) (f64.mul (f64.mul (local.get $w) (local.get $w)) (local.get $edge))))
+  ;; accumulate(x, sum, mean, n, share): sum[k] += x[k] and mean[k] += x[k]*share for k in [0, n), all
+  ;; f64 (a frame's amplitude-squared into its channel's Welch sum and the channel mean, as the
+  ;; JavaScript of spectralAnalyser.ts does them).
+  (func (export "accumulate") (param $x i32) (param $sum i32) (param $mean i32) (param $n i32) (param $share f64)
+    (local $end i32) (local $v f64)
+    (local.set $end (i32.add (local.get $x) (i32.shl (local.get $n) (i32.const 3))))
+    (block $done
+      (br_if $done (i32.ge_u (local.get $x) (local.get $end)))
+      (loop $bin
+        (local.set $v (f64.load (local.get $x)))
+        (f64.store (local.get $sum) (f64.add (f64.load (local.get $sum)) (local.get $v)))
+        (f64.store (local.get $mean) (f64.add (f64.load (local.get $mean)) (f64.mul (local.get $v) (local.get $share))))
+        (local.set $x (i32.add (local.get $x) (i32.const 8)))
+        (local.set $sum (i32.add (local.get $sum) (i32.const 8)))
+        (local.set $mean (i32.add (local.get $mean) (i32.const 8)))
+        (br_if $bin (i32.lt_u (local.get $x) (local.get $end)))))))
