@@ -17,6 +17,7 @@ import type { FileReport } from "../../shared/src/types/report.ts";
 import { fileReportSchema } from "../../shared/src/types/report.ts";
 import { sine, whiteNoise, mix } from "../fixtures/synth.ts";
 import { encodeWav } from "../fixtures/wavWriter.ts";
+import { decodedSha } from "../helpers/decodedSha.ts";
 
 const has = (cmd: string, arg = "--version"): boolean => spawnSync(cmd, [arg], { stdio: "ignore" }).status === 0;
 const toolsPresent = has("sox") && has("ffmpeg", "-version") && has("flac");
@@ -55,23 +56,6 @@ beforeAll(async () => {
 }, 60_000);
 
 afterAll(() => rmSync(dir, { recursive: true, force: true }));
-
-/** SHA-256 per channel of the decoded float32 samples, independent of how they were cut into blocks. */
-async function decodedSha(p: string): Promise<string[]> {
-  const hashes: ReturnType<typeof createHash>[] = [];
-  await readAudioFile(p, {
-    onOpen: (info) => {
-      for (let c = 0; c < info.stream.channels; c++) hashes.push(createHash("sha256"));
-      return (block) => {
-        for (let c = 0; c < hashes.length; c++) {
-          const x = block.channels[c].subarray(0, block.frames);
-          hashes[c].update(new Uint8Array(x.buffer, x.byteOffset, x.byteLength));
-        }
-      };
-    },
-  });
-  return hashes.map((h) => h.digest("hex"));
-}
 
 async function scan(name: string): Promise<FileReport> {
   const { report } = await analyseFile({ absPath: file(name), relPath: name, sizeBytes: 0 }, context);

@@ -5,13 +5,11 @@
  * measure as that WAV (sample peak, RMS, integrated loudness within 0.01 dB/LU), decode to the same samples as
  * Debian's `flac -d` does, and pass the STREAMINFO MD5 (RFC 9639, 8.2: MD5 of the samples at the stream's depth).
  */
-import { createHash } from "node:crypto";
 import { execFileSync, spawnSync } from "node:child_process";
 import { mkdtempSync, readFileSync, rmSync, writeFileSync } from "node:fs";
 import { tmpdir } from "node:os";
 import path from "node:path";
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
-import { readAudioFile } from "../../cli/src/audio/readAudioFile.ts";
 import { loadProfile } from "../../cli/src/profiles/loadProfile.ts";
 import { analyseFile, type ScanContext } from "../../cli/src/scan/analyseFile.ts";
 import { crc16, crc8 } from "../../shared/src/flac/flacFramer.ts";
@@ -19,6 +17,7 @@ import { fileReportSchema, type FileReport } from "../../shared/src/types/report
 import { pinkNoise, seededRandom } from "../fixtures/synth.ts";
 import { encodeWav } from "../fixtures/wavWriter.ts";
 import { BLOCK, constant, fixed, frame, lpc, SIZE_CODE, verbatim, zeroEscape, type Sub } from "../helpers/flacFrameBuilder.ts";
+import { decodedSha } from "../helpers/decodedSha.ts";
 
 const has = (cmd: string, arg = "--version"): boolean => spawnSync(cmd, [arg], { stdio: "ignore" }).status === 0;
 const toolsPresent = has("flac") && has("metaflac");
@@ -115,22 +114,6 @@ async function scan(name: string): Promise<FileReport> {
   const { report } = await analyseFile({ absPath: file(name), relPath: name, sizeBytes: 0 }, context);
   expect(fileReportSchema.safeParse(JSON.parse(JSON.stringify(report))).success).toBe(true);
   return report;
-}
-
-async function decodedSha(p: string): Promise<string[]> {
-  const hashes: ReturnType<typeof createHash>[] = [];
-  await readAudioFile(p, {
-    onOpen: (info) => {
-      for (let c = 0; c < info.stream.channels; c++) hashes.push(createHash("sha256"));
-      return (block) => {
-        for (let c = 0; c < hashes.length; c++) {
-          const x = block.channels[c].subarray(0, block.frames);
-          hashes[c].update(new Uint8Array(x.buffer, x.byteOffset, x.byteLength));
-        }
-      };
-    },
-  });
-  return hashes.map((h) => h.digest("hex"));
 }
 
 function expectSameMeasurements(flac: FileReport, wav: FileReport): void {

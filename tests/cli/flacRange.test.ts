@@ -6,17 +6,16 @@
  * LFE left out): the WAV says so in its WAVE_FORMAT_EXTENSIBLE mask, the FLAC in flac's
  * WAVEFORMATEXTENSIBLE_CHANNEL_MASK tag or, without one, by RFC 9639's fixed channel order (9.1.3).
  */
-import { createHash } from "node:crypto";
 import { execFileSync, spawnSync } from "node:child_process";
 import { mkdtempSync, readFileSync, rmSync, writeFileSync } from "node:fs";
 import { tmpdir } from "node:os";
 import path from "node:path";
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
-import { readAudioFile } from "../../cli/src/audio/readAudioFile.ts";
 import { loadProfile } from "../../cli/src/profiles/loadProfile.ts";
 import { analyseFile, type ScanContext } from "../../cli/src/scan/analyseFile.ts";
 import { crc16, crc8 } from "../../shared/src/flac/flacFramer.ts";
 import { fileReportSchema, type FileReport } from "../../shared/src/types/report.ts";
+import { decodedSha } from "../helpers/decodedSha.ts";
 
 const has = (cmd: string, arg = "--version"): boolean => spawnSync(cmd, [arg], { stdio: "ignore" }).status === 0;
 const toolsPresent = has("sox") && has("flac") && has("metaflac");
@@ -42,22 +41,6 @@ async function scan(name: string): Promise<FileReport> {
   const { report } = await analyseFile({ absPath: file(name), relPath: name, sizeBytes: 0 }, context);
   expect(fileReportSchema.safeParse(JSON.parse(JSON.stringify(report))).success).toBe(true);
   return report;
-}
-
-async function decodedSha(p: string): Promise<string[]> {
-  const hashes: ReturnType<typeof createHash>[] = [];
-  await readAudioFile(p, {
-    onOpen: (info) => {
-      for (let c = 0; c < info.stream.channels; c++) hashes.push(createHash("sha256"));
-      return (block) => {
-        for (let c = 0; c < hashes.length; c++) {
-          const x = block.channels[c].subarray(0, block.frames);
-          hashes[c].update(new Uint8Array(x.buffer, x.byteOffset, x.byteLength));
-        }
-      };
-    },
-  });
-  return hashes.map((h) => h.digest("hex"));
 }
 
 describe.runIf(toolsPresent)("FLAC across its range measures as the WAV it was encoded from (Debian's sox and flac)", () => {
