@@ -6,32 +6,20 @@
  * Debian's `flac -d` does, and pass the STREAMINFO MD5 (RFC 9639, 8.2: MD5 of the samples at the stream's depth).
  */
 import { execFileSync, spawnSync } from "node:child_process";
-import { mkdtempSync, readFileSync, rmSync, writeFileSync } from "node:fs";
-import { tmpdir } from "node:os";
-import path from "node:path";
-import { afterAll, beforeAll, describe, expect, it } from "vitest";
-import { loadProfile } from "../../cli/src/profiles/loadProfile.ts";
-import { analyseFile, type ScanContext } from "../../cli/src/scan/analyseFile.ts";
+import { readFileSync, writeFileSync } from "node:fs";
+import { describe, expect, it } from "vitest";
 import { crc16, crc8 } from "../../shared/src/flac/flacFramer.ts";
-import { fileReportSchema, type FileReport } from "../../shared/src/types/report.ts";
+import type { FileReport } from "../../shared/src/types/report.ts";
 import { pinkNoise, seededRandom } from "../fixtures/synth.ts";
 import { encodeWav } from "../fixtures/wavWriter.ts";
 import { BLOCK, constant, fixed, frame, lpc, SIZE_CODE, verbatim, zeroEscape, type Sub } from "../helpers/flacFrameBuilder.ts";
 import { decodedSha } from "../helpers/decodedSha.ts";
+import { scanFolder } from "../helpers/scanFolder.ts";
 
 const has = (cmd: string, arg = "--version"): boolean => spawnSync(cmd, [arg], { stdio: "ignore" }).status === 0;
 const toolsPresent = has("flac") && has("metaflac");
 
-let dir: string;
-let context: ScanContext;
-const file = (name: string): string => path.join(dir, name);
-
-beforeAll(async () => {
-  dir = mkdtempSync(path.join(tmpdir(), "tidemark-flac-odd-"));
-  const loaded = await loadProfile("preservation-master", dir);
-  context = { profile: loaded.profile, settings: loaded.settings, spectrograms: null, fingerprint: false, closeups: false };
-});
-afterAll(() => rmSync(dir, { recursive: true, force: true }));
+const { file, scan } = scanFolder("flac-odd");
 
 const RATE = 48000;
 const SEG = 8192;
@@ -108,12 +96,6 @@ function analyse(flac: string): { offsets: number[]; assignments: Set<string>; t
     types: new Set([...text.matchAll(/\ttype=(\w+)/g)].map((m) => m[1])),
     wasted: new Set([...text.matchAll(/wasted_bits=(\d+)/g)].map((m) => m[1])),
   };
-}
-
-async function scan(name: string): Promise<FileReport> {
-  const { report } = await analyseFile({ absPath: file(name), relPath: name, sizeBytes: 0 }, context);
-  expect(fileReportSchema.safeParse(JSON.parse(JSON.stringify(report))).success).toBe(true);
-  return report;
 }
 
 function expectSameMeasurements(flac: FileReport, wav: FileReport): void {

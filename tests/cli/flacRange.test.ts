@@ -7,40 +7,21 @@
  * WAVEFORMATEXTENSIBLE_CHANNEL_MASK tag or, without one, by RFC 9639's fixed channel order (9.1.3).
  */
 import { execFileSync, spawnSync } from "node:child_process";
-import { mkdtempSync, readFileSync, rmSync, writeFileSync } from "node:fs";
-import { tmpdir } from "node:os";
-import path from "node:path";
-import { afterAll, beforeAll, describe, expect, it } from "vitest";
-import { loadProfile } from "../../cli/src/profiles/loadProfile.ts";
-import { analyseFile, type ScanContext } from "../../cli/src/scan/analyseFile.ts";
+import { readFileSync, writeFileSync } from "node:fs";
+import { describe, expect, it } from "vitest";
 import { crc16, crc8 } from "../../shared/src/flac/flacFramer.ts";
-import { fileReportSchema, type FileReport } from "../../shared/src/types/report.ts";
 import { decodedSha } from "../helpers/decodedSha.ts";
+import { scanFolder } from "../helpers/scanFolder.ts";
 
 const has = (cmd: string, arg = "--version"): boolean => spawnSync(cmd, [arg], { stdio: "ignore" }).status === 0;
 const toolsPresent = has("sox") && has("flac") && has("metaflac");
 
-let dir: string;
-let context: ScanContext;
-const file = (name: string): string => path.join(dir, name);
-
-beforeAll(async () => {
-  dir = mkdtempSync(path.join(tmpdir(), "tidemark-flac-range-"));
-  const loaded = await loadProfile("preservation-master", dir);
-  context = { profile: loaded.profile, settings: loaded.settings, spectrograms: null, fingerprint: false, closeups: false };
-});
-afterAll(() => rmSync(dir, { recursive: true, force: true }));
+const { file, scan } = scanFolder("flac-range");
 
 /** sox: a tone per channel at its own frequency, so every channel differs. */
 function makeWav(name: string, rate: number, bits: number, channels: number): void {
   const tones = Array.from({ length: channels }, (_, c) => ["sine", String(220 * (c + 1))]).flat();
   execFileSync("sox", ["-n", "-r", String(rate), "-b", String(bits), "-c", String(channels), file(name), "synth", "2", ...tones, "gain", "-3"]);
-}
-
-async function scan(name: string): Promise<FileReport> {
-  const { report } = await analyseFile({ absPath: file(name), relPath: name, sizeBytes: 0 }, context);
-  expect(fileReportSchema.safeParse(JSON.parse(JSON.stringify(report))).success).toBe(true);
-  return report;
 }
 
 describe.runIf(toolsPresent)("FLAC across its range measures as the WAV it was encoded from (Debian's sox and flac)", () => {

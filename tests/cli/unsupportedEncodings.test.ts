@@ -6,27 +6,16 @@
  * 6.10, 0x0055 MPEG Layer 3); each file is first checked to be what the tool says (`sox --i`, ffprobe).
  */
 import { execFileSync, spawnSync } from "node:child_process";
-import { mkdtempSync, rmSync } from "node:fs";
-import { tmpdir } from "node:os";
-import path from "node:path";
-import { afterAll, beforeAll, describe, expect, it } from "vitest";
-import { loadProfile } from "../../cli/src/profiles/loadProfile.ts";
-import { analyseFile, type ScanContext } from "../../cli/src/scan/analyseFile.ts";
+import { beforeAll, describe, expect, it } from "vitest";
+import { scanFolder } from "../helpers/scanFolder.ts";
 
 const tools = spawnSync("sox", ["--version"], { stdio: "ignore" }).status === 0 && spawnSync("ffmpeg", ["-version"], { stdio: "ignore" }).status === 0;
 const hasLame = tools && /libmp3lame/.test(spawnSync("ffmpeg", ["-hide_banner", "-encoders"], { encoding: "utf8" }).stdout ?? "");
 
-let dir: string;
-let context: ScanContext;
-const file = (name: string): string => path.join(dir, name);
-
-beforeAll(async () => {
-  dir = mkdtempSync(path.join(tmpdir(), "tidemark-unsupported-"));
-  const loaded = await loadProfile("preservation-master", dir);
-  context = { profile: loaded.profile, settings: loaded.settings, spectrograms: null, fingerprint: false, closeups: false };
+const { file, scan } = scanFolder("unsupported");
+beforeAll(() => {
   if (tools) execFileSync("sox", ["-n", "-r", "8000", "-b", "16", "-c", "1", file("src.wav"), "synth", "1", "sine", "440"]);
 });
-afterAll(() => rmSync(dir, { recursive: true, force: true }));
 
 const ffmpeg = (codec: string, out: string, format?: string): void => {
   execFileSync("ffmpeg", ["-loglevel", "error", "-y", "-i", file("src.wav"), "-c:a", codec, ...(format ? ["-f", format] : []), file(out)]);
@@ -44,7 +33,7 @@ describe.runIf(tools)("still-unsupported encodings name what they are", () => {
   it.each(cases)("%s → unsupported-encoding, naming it", async (name, make, codec, message) => {
     make();
     expect(probedCodec(name)).toBe(codec);
-    const { report } = await analyseFile({ absPath: file(name), relPath: name, sizeBytes: 0 }, context);
+    const report = await scan(name);
     expect(report.verdict).toBe("error");
     expect(report.error?.code).toBe("unsupported-encoding");
     expect(report.error?.message).toMatch(message);
@@ -53,7 +42,7 @@ describe.runIf(tools)("still-unsupported encodings name what they are", () => {
   it.runIf(hasLame)("MP3 inside WAV (ffmpeg -c:a libmp3lame -f wav) → unsupported-encoding, naming tag 0x0055", async () => {
     ffmpeg("libmp3lame", "mp3.wav", "wav");
     expect(probedCodec("mp3.wav")).toBe("mp3");
-    const { report } = await analyseFile({ absPath: file("mp3.wav"), relPath: "mp3.wav", sizeBytes: 0 }, context);
+    const report = await scan("mp3.wav");
     expect(report.error?.code).toBe("unsupported-encoding");
     expect(report.error?.message).toMatch(/format tag 0x0055 \(MPEG Layer 3\) is not supported/);
   });
