@@ -102,7 +102,7 @@ describe("one channel layout for loudness weights and the LFE", () => {
       const theirs = await ffmpegEbur128(file);
       // ffmpeg's meter reports to 0.1 LU; the same tolerance as the stereo cross-check in loudness.test.ts.
       expect(Math.abs(plain.metrics.integratedLufs! - theirs.integratedLufs)).toBeLessThanOrEqual(0.2);
-      // Every channel at 1.0 (the rule before; here by a mask of top speakers only, which BS.1770-4 weighs 1.0)
+      // Every channel at 1.0 (the rule before; here by a mask of top speakers only, none a surround or the LFE, so each weighs 1.0)
       // reads the loud LFE and the surrounds unweighted: measured 1.6 LU off ffmpeg (ours 0.04 LU off), 2026-12-05.
       const flat = await analyseWav(encodeWav(planar, { sampleRateHz: RATE, bitDepth: 24, extensible: true, channelMask: 0xff0000 }));
       expect(Math.abs(flat.metrics.integratedLufs! - theirs.integratedLufs)).toBeGreaterThan(0.5);
