@@ -6,7 +6,11 @@ import { join } from "node:path";
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import { WaveFile } from "wavefile";
 import { AudioFileError } from "../../cli/src/audio/errors.ts";
-import { readAudioFile } from "../../cli/src/audio/readAudioFile.ts";
+import { readAudioFile, withHead } from "../../cli/src/audio/readAudioFile.ts";
+import { readAiffLayout } from "../../shared/src/aiff/aiffLayout.ts";
+import { readFlacLayout } from "../../shared/src/flac/flacLayout.ts";
+import { byteSourceFromBytes, type ByteSource } from "../../shared/src/wav/byteSource.ts";
+import { readWavLayout } from "../../shared/src/wav/wavLayout.ts";
 import { WavFormatError } from "../../shared/src/wav/errors.ts";
 import { sine, whiteNoise } from "../fixtures/synth.ts";
 import { encodeWav } from "../fixtures/wavWriter.ts";
@@ -78,23 +82,64 @@ describe("readAudioFile", () => {
   });
 
   // Issue #22: the header is walked from the file's first read, and the read buffers go on to the next files.
-  it("keeps each file's header and metadata its own while its read buffers serve later files", async () => {
-    const flacPath = join(dir, "header.flac");
-    const wavPath = await writeWav("for-flac.wav", encodeWav([sine({ frequencyHz: 440, sampleRateHz: 44100, seconds: 0.5, peakDbfs: -6 })], { sampleRateHz: 44100, bitDepth: 16 }));
-    // Debian's flac (the reference encoder) writes the STREAMINFO header the FLAC reader keeps as bytes.
-    execFileSync("flac", ["--silent", "--force", "-o", flacPath, wavPath]);
-    const bwf = await writeWav("described.wav", encodeWav([whiteNoise({ sampleRateHz: 48000, seconds: 0.2, rmsDbfs: -20, seed: 3 })], { sampleRateHz: 48000, bitDepth: 24, bext: { description: "Harbourside reel 7, side A" } }));
-    const first = await readAudioFile(flacPath, { onOpen: () => () => undefined });
-    const header = Uint8Array.from((first.info.layout as unknown as { streamHeader: Uint8Array }).streamHeader);
-    const described = await readAudioFile(bwf, { onOpen: () => () => undefined });
-    const metadata = JSON.stringify(described.info.metadata);
-    // Other files through the same buffers, one of them at once with a second read.
-    for (let i = 0; i < 3; i++) await Promise.all([readAll(wavPath), readAll(bwf), readAll(wavPath)]);
-    expect(header.length).toBeGreaterThan(0);
-    expect(Array.from((first.info.layout as unknown as { streamHeader: Uint8Array }).streamHeader)).toEqual(Array.from(header));
-    expect(JSON.stringify(described.info.metadata)).toBe(metadata);
-    expect(metadata).toContain("Harbourside reel 7, side A");
-    expect(described.sha256).toBe(createHash("sha256").update(await readFile(bwf)).digest("hex"));
+  // Two guards keep a file's header its own: the reader hands the walkers copies (withHead), and the walkers
+  // copy what they keep. Each is checked alone below, so neither hides a break in the other.
+  describe("header bytes from reused read buffers", () => {
+    /** Inputs with every kind of header a walker keeps something of: STREAMINFO and Vorbis comments, bext and LIST INFO, AIFF text chunks. */
+    async function headerFiles(): Promise<{ name: string; bytes: Uint8Array; walk: (s: ByteSource) => Promise<unknown> }[]> {
+      const wavPath = await writeWav("for-headers.wav", encodeWav([sine({ frequencyHz: 440, sampleRateHz: 44100, seconds: 0.5, peakDbfs: -6 })], { sampleRateHz: 44100, bitDepth: 16 }));
+      // Debian's flac and ffmpeg (reference encoders) write the FLAC metadata blocks and the AIFF text chunks.
+      execFileSync("flac", ["--silent", "--force", "-T", "TITLE=Harbourside reel 7", "-T", "ARTIST=Harbourside Sound Archive", "-o", join(dir, "header.flac"), wavPath]);
+      execFileSync("ffmpeg", ["-loglevel", "error", "-y", "-i", wavPath, "-metadata", "title=Reel 7", "-metadata", "author=Harbourside Sound Archive", "-c:a", "pcm_s16be", "-f", "aiff", join(dir, "header.aiff")]);
+      const bwf = encodeWav([whiteNoise({ sampleRateHz: 48000, seconds: 0.2, rmsDbfs: -20, seed: 3 })], {
+        sampleRateHz: 48000, bitDepth: 24, bext: { description: "Harbourside reel 7, side A", codingHistory: "A=ANALOGUE,M=stereo,T=Studer A807\r\n" }, info: { INAM: "Reel 7", IART: "Harbourside" },
+      });
+      return [
+        { name: "FLAC", bytes: new Uint8Array(await readFile(join(dir, "header.flac"))), walk: readFlacLayout },
+        { name: "AIFF", bytes: new Uint8Array(await readFile(join(dir, "header.aiff"))), walk: readAiffLayout },
+        { name: "BWF", bytes: bwf, walk: readWavLayout },
+      ];
+    }
+
+    /** A walker's result as plain data, typed arrays as their bytes, so a comparison sees every field. */
+    const snapshot = (value: unknown): string => JSON.stringify(value, (_key, v: unknown) => (ArrayBuffer.isView(v) ? Array.from(new Uint8Array(v.buffer, v.byteOffset, v.byteLength)) : v));
+
+    it("the walkers keep nothing of the bytes they read: handed views into one buffer that is then overwritten, their results stay", async () => {
+      for (const { name, bytes, walk } of await headerFiles()) {
+        // The reference: the same walk over bytes nobody overwrites.
+        const expected = snapshot(await walk(byteSourceFromBytes(Uint8Array.from(bytes))));
+        // The worst reader: every read a view of one buffer, overwritten afterwards as the next file's read would.
+        const buffer = Uint8Array.from(bytes);
+        const layout = await walk({ sizeBytes: buffer.length, readAt: async (offset, length) => buffer.subarray(offset, Math.min(buffer.length, offset + length)) });
+        buffer.fill(0xa5);
+        expect(snapshot(layout), name).toBe(expected);
+        expect(expected, name).toMatch(/Harbourside|Reel 7/);
+      }
+    });
+
+    it("the reader hands the walkers copies of its read buffer: overwriting the buffer leaves what they got", async () => {
+      for (const { name, bytes } of await headerFiles()) {
+        const head = Uint8Array.from(bytes.subarray(0, 4096));
+        const source = withHead(byteSourceFromBytes(bytes), head);
+        const got = [await source.readAt(0, 12), await source.readAt(8, 64), await source.readAt(100, 400)];
+        const copies = got.map((b) => Array.from(b));
+        head.fill(0xa5);
+        expect(got.map((b) => Array.from(b)), name).toEqual(copies);
+        expect(copies[0], name).toEqual(Array.from(bytes.subarray(0, 12)));
+      }
+    });
+
+    it("end to end: each file's header and metadata stay its own while its read buffers serve later files", async () => {
+      const files = await headerFiles();
+      const paths = await Promise.all(files.map(({ name, bytes }) => writeWav(`kept-${name}`, bytes)));
+      const read = await Promise.all(paths.map((p) => readAudioFile(p, { onOpen: () => () => undefined })));
+      const before = read.map((r) => snapshot(r.info));
+      // Other files through the same buffers, two at once.
+      for (let i = 0; i < 3; i++) await Promise.all([readAll(paths[2]), readAll(paths[1]), readAll(paths[0])]);
+      expect(read.map((r) => snapshot(r.info))).toEqual(before);
+      expect(before.join()).toContain("Harbourside reel 7, side A");
+      expect(read[2].sha256).toBe(createHash("sha256").update(files[2].bytes).digest("hex"));
+    });
   });
 
   it("reuses the block arrays (flat memory)", async () => {

@@ -14,6 +14,7 @@ import { WavFormatError } from "@tidemark/shared/wav/errors";
 import { containerDepth } from "@tidemark/shared/flac/flacDepthWidening";
 import { createFlacRescale, type FlacRescale } from "@tidemark/shared/flac/flacRescale";
 import { createLibflacFrames, type LibflacFrames } from "./libflacFrames.ts";
+import { withExplicitHeaders } from "./explicitHeaderFrames.ts";
 import { wrapOddDepthFrames } from "./oddDepthFrames.ts";
 
 const FRAMER_SLICE_BYTES = 256 * 1024;
@@ -50,7 +51,8 @@ export async function createFlacStreamDecoder(
   if (containerDepth(bits) === null) {
     throw new WavFormatError("unsupported-encoding", `FLAC with ${bits}-bit samples is not decoded: 4 to 32 bits expected (RFC 9639, 8.2)`);
   }
-  const libflac = await createLibflacFrames();
+  // Frames reach libFLAC stating their own rate and depth: it is never given STREAMINFO (explicitHeaderFrames.ts).
+  const libflac = withExplicitHeaders(await createLibflacFrames(), layout.streamInfo, containerDepth(bits)!);
   const decoder = DECODABLE_BITS.has(bits) ? libflac : wrapOddDepthFrames(libflac, layout.streamInfo);
   return new FlacStream(layout, blockFrames, onBlock, decoder);
 }
@@ -79,8 +81,6 @@ class FlacStream implements FlacStreamDecoder {
   private afterGap = false;
   /** libFLAC must be restarted before the next frame (see restartLibflac). */
   private resync = false;
-  /** libFLAC has seen STREAMINFO (see restartLibflac): only once a frame leaves rate or depth to it. */
-  private primed = false;
   private overran = false;
   private dataStarted = false;
   private readonly libScale: number;
@@ -133,7 +133,7 @@ class FlacStream implements FlacStreamDecoder {
 
   /** `tentative`: the framer's guess at the last frame's end; turned down, unreported, unless libFLAC decodes it whole. */
   private frame(bytes: Uint8Array, header: FlacFrameHeader, tentative: boolean): boolean {
-    if (this.resync || (header.defersToStreamInfo && !this.primed)) this.restartLibflac(header.defersToStreamInfo);
+    if (this.resync) this.restartLibflac();
     const decoded = this.decoder.decode(bytes);
     const samples = Math.min(decoded.samples, header.blockSize);
     const error = decoded.error;
@@ -343,22 +343,17 @@ class FlacStream implements FlacStreamDecoder {
   }
 
   /**
-   * A fresh libFLAC decoder (primed with STREAMINFO where frames need it) for the frame after a gap or a failed frame, or for the first frame that leaves its rate or depth to STREAMINFO. Fed a frame whose
-   * number jumps, libFLAC 1.4 reports MISSING_FRAME and (as we read it) writes the missing samples as well; the
-   * package keeps one output pointer per call, and its module's heap is fixed at 16 MB. Measured 2026-12-05 on a
-   * 600 s 24-bit file with a byte flipped every 97 003: without the restart the free heap fell ≈ 2 MB per 60
-   * gaps until, after some 500 gaps, the scan spun forever inside the WebAssembly (or died out of bounds); with
-   * it the free heap stays flat and the scan ends. A decoder that has seen no frame takes any frame as it comes,
-   * and keeps no bytes of a frame it rejected to misread the next one with.
+   * A fresh libFLAC decoder for the frame after a gap or a failed frame. Fed a frame whose number jumps, libFLAC
+   * 1.4 reports MISSING_FRAME and (as we read it) writes the missing samples as well; the package keeps one output
+   * pointer per call, and its module's heap is fixed at 16 MB. Measured 2026-12-05 on a 600 s 24-bit file with a
+   * byte flipped every 97 003: without the restart the free heap fell ≈ 2 MB per 60 gaps until, after some 500
+   * gaps, the scan spun forever inside the WebAssembly (or died out of bounds); with it the free heap stays flat
+   * and the scan ends. A decoder that has seen no frame takes any frame as it comes, and keeps no bytes of a frame
+   * it rejected to misread the next one with. It is never given STREAMINFO (explicitHeaderFrames.ts).
    */
-  private restartLibflac(prime: boolean): void {
+  private restartLibflac(): void {
     this.resync = false;
     this.decoder.restart();
-    // STREAMINFO only for frames that need it (a rate or depth their header leaves to it): primed with it,
-    // libFLAC 1.4's WebAssembly build faulted (out-of-bounds access) on the third frame of every 8-channel file
-    // from Debian's flac tried (2026-12-05, 16- and 24-bit); without it, it decodes them whole.
-    this.primed = prime || this.primed;
-    if (this.primed) this.decoder.decode(this.layout.streamHeader);
   }
 
   private gap(sample: number, frames: number, why: string): void {

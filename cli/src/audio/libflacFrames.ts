@@ -22,11 +22,11 @@ export interface DecodedFrame {
 }
 
 export interface LibflacFrames {
-  /** Decodes one whole frame (or the stream header, to prime the decoder). The result is valid until the next call. */
+  /** Decodes one whole frame. The result is valid until the next call. */
   decode(frame: Uint8Array): DecodedFrame;
   /**
    * Replaces libFLAC's decoder by a fresh one in the same module (cheap: no new WebAssembly instance), forgetting
-   * the previous frame; prime it again with the stream header. Call it after frames were left out: see
+   * the previous frame. Call it after frames were left out: see
    * flacStreamDecoder.ts for why libFLAC must not see the sample numbers jump.
    */
   restart(): void;

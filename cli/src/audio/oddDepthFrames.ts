@@ -3,9 +3,10 @@
  * or 20-bit FLAC came out as ±Infinity, see flacStreamDecoder.ts). Each frame is rewritten at the next of those
  * depths by shared/src/flac/flacDepthWidening.ts (the samples come out shifted left by the difference), and the
  * output is put back on the stream's own depth in place, so the caller sees exactly what libFLAC hands out for a
- * native depth: samples divided by 2^(bps−1) − 1. Only odd-depth streams pay for this.
+ * native depth: samples divided by 2^(bps−1) − 1. Only odd-depth streams pay for this. A rewritten frame states its
+ * depth; one that leaves its rate to STREAMINFO gets a stated rate from explicitHeaderFrames.ts, which this wraps.
  */
-import { createFrameWidener, widenStreamHeader } from "@tidemark/shared/flac/flacDepthWidening";
+import { createFrameWidener } from "@tidemark/shared/flac/flacDepthWidening";
 import type { FlacStreamInfo } from "@tidemark/shared/flac/flacLayout";
 import type { DecodedFrame, LibflacFrames } from "./libflacFrames.ts";
 
@@ -24,11 +25,6 @@ export function wrapOddDepthFrames(inner: LibflacFrames, info: FlacStreamInfo): 
   // (mid/side frames are then off by up to half a step at the stream's depth, below float32's resolution).
   const factor = containerScale / (2 ** shift * (2 ** (bps - 1) - 1));
   const failed: DecodedFrame = { samples: 0, channels: info.channels, data: EMPTY, error: null };
-  let header: Uint8Array | null = null;
-  /** The caller primed libFLAC with STREAMINFO since its last restart, and no frame has been decoded since. */
-  let primePending = false;
-  let fresh = true;
-  const idle: DecodedFrame = { samples: 0, channels: info.channels, data: EMPTY, error: null };
 
   const restore = (data: Float32Array, length: number): void => {
     if (container > 24) {
@@ -45,33 +41,16 @@ export function wrapOddDepthFrames(inner: LibflacFrames, info: FlacStreamInfo): 
 
   return {
     decode(frame) {
-      const isStreamHeader = frame.length >= 4 && frame[0] === 0x66 && frame[1] === 0x4c && frame[2] === 0x61 && frame[3] === 0x43;
-      if (isStreamHeader) {
-        // Held back: a rewritten frame never leaves its depth to STREAMINFO, only perhaps its rate (code 0,
-        // RFC 9639, 9.1.2), and libFLAC primed with STREAMINFO faulted on 8-channel files (flacStreamDecoder.ts,
-        // restartLibflac; seen again here on a 23-bit 8-channel file from Debian's flac, whose frames defer
-        // their depth only).
-        header ??= widenStreamHeader(frame, container);
-        primePending = fresh;
-        return idle;
-      }
       const widened = widener.widen(frame);
       if (typeof widened === "string") {
         failed.error = `frame not rewritten from ${bps} to ${container} bits for the decoder: ${widened}`;
         return failed;
       }
-      if (primePending && header && (widened[2] & 0x0f) === 0) inner.decode(header);
-      primePending = false;
-      fresh = false;
       const decoded = inner.decode(widened);
       restore(decoded.data, Math.min(decoded.data.length, decoded.samples * decoded.channels));
       return decoded;
     },
-    restart: () => {
-      inner.restart();
-      fresh = true;
-      primePending = false;
-    },
+    restart: () => inner.restart(),
     free: () => inner.free(),
   };
 }

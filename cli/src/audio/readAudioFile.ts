@@ -175,7 +175,7 @@ export async function readAudioFile(path: string | Buffer, opts: ReadAudioFileOp
  * Reads inside `head` (the file's first bytes, already read) are served from it, as copies: the walkers may
  * keep what they get, and the buffer goes on to the next file. Everything else comes from the file.
  */
-function withHead(source: ByteSource, head: Uint8Array): ByteSource {
+export function withHead(source: ByteSource, head: Uint8Array): ByteSource {
   return {
     sizeBytes: source.sizeBytes,
     readAt: async (offset, length) => {

@@ -12,7 +12,10 @@
  * 2.5 % of 1 M paths often matched none of them, so it was taken for 100 rows, read through the trigram
  * index (every match from the table, then sorted: 0.25–0.37 s) and counted inline (as long again). So the
  * search's matches are estimated on a fixed sample of the table (searchEstimate), and a page whose walk
- * that estimate (or the exact count) puts within WALK_BUDGET entries is written so it can only walk.
+ * that estimate (or the exact count) puts within WALK_BUDGET entries is written so it can only walk. The
+ * other way round, a text counted as few (readsMatchesOnly) is read through the trigram index whatever the
+ * planner's estimate says: one histogram entry holding it put a 40-path text at 1 % of the rows, and the
+ * planner then walked the sort's whole index for matches that were not there.
  *
  * Two ways to ask for a page: `page` (an offset: cost grows with depth, ~0.5 µs a skipped row) or a cursor
  * (`after` / `before`, from a previous page's nextCursor / prevCursor: a seek, the same cost at any depth).
@@ -22,7 +25,7 @@ import type { z } from "zod";
 import { fileQuerySchema } from "@tidemark/shared/contracts/files";
 import { FILE_SORT_KEYS, type FileSortKey, type FindingSummaryDto, type ReviewState } from "@tidemark/shared/types/api";
 import type { AudioFormat, Verdict } from "@tidemark/shared/types/report";
-import type { ListTotals } from "./listTotals.ts";
+import { EXACT_COUNT_MAX, type ListTotals } from "./listTotals.ts";
 
 /** A position in one sort: the sort value as PostgreSQL prints it (exact, µs and all) and the row id. */
 export interface FileCursor {
@@ -210,6 +213,39 @@ export function walksSortIndex(query: FileListQuery, { offset, limit }: PageWind
   return ((offset + limit + 1) * rows) / matches <= WALK_BUDGET;
 }
 
+/**
+ * Whether a page is read from the search's matches alone: a search counted exactly, at most EXACT_COUNT_MAX
+ * matches, that is not walked. Its page comes from the trigram index (all its matches, then sorted), with
+ * the planner allowed only bitmap scans (MATCHES_ONLY_SETTINGS), so its own estimate cannot choose another
+ * plan. The planner's estimate comes from ~100 sampled histogram entries: a text in 40 of 100 000 paths that
+ * one of them holds is taken for 1 % of the rows, and the sort's index was then walked to its end for the
+ * 51 matches it expected within the first 5 000 entries: 45–80 ms a page at 100 000 rows (EXPLAIN ANALYZE,
+ * 2026-12-05; ten times that at 1 M), where the trigram index finds the 40 in under 2 ms.
+ */
+export function readsMatchesOnly(query: FileListQuery, walk: boolean, total: number, exact: boolean): boolean {
+  return query.q !== undefined && !walk && exact && total <= EXACT_COUNT_MAX;
+}
+
+/**
+ * Bitmap scans only, for this transaction: the trigram index is then the only way to the search's matches,
+ * and the page's row reads go through bitmaps on the primary keys. No plan node is switched off, so the cost
+ * stays that of the plan (no JIT: tests/server/filesAt100k.test.ts checks it).
+ */
+export const MATCHES_ONLY_SETTINGS = `select set_config('enable_seqscan', 'off', true), set_config('enable_indexscan', 'off', true),
+  set_config('enable_indexonlyscan', 'off', true)`;
+
+/**
+ * Runs a page's SQL as listFiles does: with `matchesOnly`, inside a transaction under MATCHES_ONLY_SETTINGS.
+ * `prefix` (e.g. "explain (format json) ") lets tests ask about exactly what is run.
+ */
+export async function runPageSql<T extends object>(sequelize: Sequelize, sql: string, bind: unknown[], matchesOnly: boolean, prefix = ""): Promise<T[]> {
+  if (!matchesOnly) return sequelize.query<T>(`${prefix}${sql}`, { bind, type: QueryTypes.SELECT });
+  return sequelize.transaction(async (transaction) => {
+    await sequelize.query(MATCHES_ONLY_SETTINGS, { transaction });
+    return sequelize.query<T>(`${prefix}${sql}`, { bind, type: QueryTypes.SELECT, transaction });
+  });
+}
+
 /** Where a page starts and which way it is read: what listFiles decides from the query and the total. */
 export interface PageWindow {
   offset: number;
@@ -306,7 +342,7 @@ export async function listFiles(sequelize: Sequelize, query: FileListQuery, tota
   const window = { offset, limit, flipped };
   const walk = query.q !== undefined && walksSortIndex(query, window, total, await tableRows(sequelize));
   const { sql, bind } = pageQuery(query, window, walk);
-  const fetched = await sequelize.query<Row>(sql, { bind, type: QueryTypes.SELECT });
+  const fetched = await runPageSql<Row>(sequelize, sql, bind, readsMatchesOnly(query, walk, total, exact));
   const more = fetched.length > limit;
   const rows = fetched.slice(0, limit);
   if (flipped) rows.reverse();

@@ -18,10 +18,11 @@ import { amplitudeToDb, dbOrNull } from "./decibels.ts";
 import { createDropoutDetector } from "./dropouts.ts";
 import { FindingCollector } from "./findings.ts";
 import { createLevelWindows, type LevelWindow } from "./levelWindows.ts";
-import { createLoudnessMeter, loudnessChannelWeights, type LoudnessHopListener } from "./loudness.ts";
+import { createLoudnessMeter, type LoudnessHopListener } from "./loudness.ts";
 import { createNoiseFloorEstimator } from "./noiseFloor.ts";
 import { createSilenceDetector } from "./silence.ts";
-import { lfeChannelIndex } from "./speakers.ts";
+// Loudness weights and the LFE silence leaves out come from one channel-layout rule (speakers.ts).
+import { lfeChannelIndex, loudnessChannelWeights } from "./speakers.ts";
 import { createStereoAnalyser } from "./stereo.ts";
 import { createStuckSampleDetector } from "./stuckSamples.ts";
 import { createTruePeakMeter } from "./truePeak.ts";

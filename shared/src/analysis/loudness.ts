@@ -13,6 +13,7 @@ import { FrameGrid, Float64Series } from "./frameGrid.ts";
 import { kWeightingHighPass, kWeightingShelf } from "./kWeighting.ts";
 import { createLevelKernels, type LevelKernels } from "./levelKernels.ts";
 import { integratedLoudnessLufs, loudnessRangeLu, powerToLufs } from "./loudnessGating.ts";
+import { loudnessChannelWeights } from "./speakers.ts";
 
 export interface LoudnessResult {
   integratedLufs: number;
@@ -63,31 +64,8 @@ const SLOT_SUM = 8;
 /** Frames copied into the kernel's memory at a time (32 KiB a channel). */
 const STAGE_FRAMES = 8192;
 
-/** WAVE_FORMAT_EXTENSIBLE speaker bits (Microsoft's KSAUDIO_SPEAKER definitions, from memory). */
-const SPEAKER_LFE = 0x8;
-/** Back left/right, side left/right: the surrounds of 5.1 files, flagged either way in practice. */
-const SPEAKER_SURROUNDS = 0x10 | 0x20 | 0x200 | 0x400;
-
-/**
- * Channel weights G_i of BS.1770-4, Annex 1, Table 3: surrounds 1.41, LFE excluded, every other
- * channel 1.0. With a WAVE_FORMAT_EXTENSIBLE speaker mask the channels feed its set bits in
- * ascending order, so the mask says which is which; channels beyond its bits weigh 1.0. Without
- * one, the WAVE default order is assumed (L R C LFE Ls Rs for six channels, L R C Ls Rs for five).
- */
-export function loudnessChannelWeights(channels: number, channelMask?: number | null): Float64Array {
-  if (channelMask !== undefined && channelMask !== null && channelMask !== 0) {
-    const weights = new Float64Array(channels).fill(1);
-    let c = 0;
-    for (let bit = 1; bit <= 0x80000000 && c < channels; bit *= 2) {
-      if ((channelMask & bit) === 0) continue;
-      weights[c++] = bit === SPEAKER_LFE ? 0 : (SPEAKER_SURROUNDS & bit) !== 0 ? 1.41 : 1;
-    }
-    return weights;
-  }
-  if (channels === 5) return Float64Array.from([1, 1, 1, 1.41, 1.41]);
-  if (channels === 6) return Float64Array.from([1, 1, 1, 0, 1.41, 1.41]);
-  return new Float64Array(channels).fill(1);
-}
+/** The weights follow the one channel-layout rule of speakers.ts, which silence's LFE follows too. */
+export { loudnessChannelWeights };
 
 /**
  * `filters`: "auto" runs channel pairs through the WebAssembly SIMD kernel where the runtime has one, "js"

@@ -23,25 +23,6 @@ export function containerDepth(bps: number): number | null {
 /** Sample-size codes of the frame header for the container depths (RFC 9639, 9.1.4). */
 const SIZE_CODE: Record<number, number> = { 8: 1, 16: 4, 24: 6, 32: 7 };
 
-/**
- * "fLaC" + a STREAMINFO block (as FlacLayout.streamHeader) saying `container` bits instead: for frames that
- * leave rate or depth to STREAMINFO. Frame sizes and MD5 are zeroed ("unknown", RFC 9639, 8.2): the rewritten
- * frames are a few bytes longer, and their samples are not the ones the MD5 was computed over.
- */
-export function widenStreamHeader(streamHeader: Uint8Array, container: number): Uint8Array {
-  if (streamHeader.length < 42 || streamHeader[0] !== 0x66 || streamHeader[1] !== 0x4c || streamHeader[2] !== 0x61 || streamHeader[3] !== 0x43) {
-    throw new Error(`expected "fLaC" and a 34-byte STREAMINFO (42 bytes), got ${streamHeader.length} bytes`);
-  }
-  const out = streamHeader.slice();
-  const s = 8; // STREAMINFO body: bits per sample − 1 is bit 0 of byte 12 and the top nibble of byte 13.
-  const code = container - 1;
-  out[s + 12] = (out[s + 12] & 0xfe) | (code >> 4);
-  out[s + 13] = (out[s + 13] & 0x0f) | ((code & 0x0f) << 4);
-  out.fill(0, s + 4, s + 10);
-  out.fill(0, s + 18, s + 34);
-  return out;
-}
-
 /** Thrown inside the walk; widen() turns it into its message. */
 class FrameShapeError extends Error {}
 

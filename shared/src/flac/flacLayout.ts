@@ -30,8 +30,6 @@ export interface FlacStreamInfo {
 
 export interface FlacLayout extends WavLayout {
   streamInfo: FlacStreamInfo;
-  /** The STREAMINFO block as a minimal metadata header ("fLaC" + the block flagged last), for the decoder. */
-  streamHeader: Uint8Array;
 }
 
 const HEAD_READ_BYTES = 64 * 1024;
@@ -191,9 +189,6 @@ export async function readFlacLayout(source: ByteSource): Promise<FlacLayout> {
   validate(streamInfo);
   // An encoder that streamed its output may leave the total unknown (0): the last frame's header says it.
   if (streamInfo.totalSamples === 0 && fileSize > at) streamInfo.totalSamples = await samplesFromLastFrame(reader, at, fileSize, streamInfo);
-  const streamHeader = new Uint8Array(4 + 4 + 34);
-  streamHeader.set([0x66, 0x4c, 0x61, 0x43, 0x80, 0, 0, 34]);
-  streamHeader.set(streamInfoBytes.subarray(0, 34), 8);
   const bitDepth = Math.ceil(streamInfo.bitsPerSample / 8) * 8;
   const blockAlign = streamInfo.channels * (bitDepth / 8);
   const metadata: FileMetadata = comments.length > 0 ? { text: comments } : {};
@@ -219,6 +214,5 @@ export async function readFlacLayout(source: ByteSource): Promise<FlacLayout> {
     trailingBytes: 0,
     audioMd5: null,
     streamInfo,
-    streamHeader,
   };
 }
