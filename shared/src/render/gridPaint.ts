@@ -6,6 +6,7 @@
  * (tests/shared/gridPaint.test.ts) and runs where WebAssembly does not.
  */
 import { kernelModule } from "../wasm/kernelModule.ts";
+import { imageMemoryOf, paintWorkBytes } from "./imageMemory.ts";
 import { WASM_MODULE_BYTES } from "./gridPaint.generated.ts";
 
 const instantiate = kernelModule(WASM_MODULE_BYTES);
@@ -39,16 +40,22 @@ export interface PlotPaint {
   noData: readonly [number, number, number];
 }
 
-/** Paints R, G and B of the plot's pixels (alpha as it is): each pixel's cell through the colour map. `useWasm: false` runs the JavaScript. */
+/**
+ * Paints R, G and B of the plot's pixels (alpha as it is): each pixel's cell through the colour map. `useWasm: false` runs the JavaScript.
+ * An image in an image memory (createImage, imageMemory.ts) is painted where it lies, with the grid and
+ * tables copied into the memory's work area; any other is copied into a memory made for the call and back.
+ */
 export function paintPlotCells(p: PlotPaint, useWasm = true): void {
   const top = p.lut.length / 3 - 1;
   const rowBytes = 4 * p.width;
-  const cellsAt = 0;
+  const inPlace = useWasm ? imageMemoryOf(p.data) : null;
+  const fits = inPlace !== null && inPlace.workBytes >= paintWorkBytes(p.db.length, p.width, p.height, p.lut.length);
+  const cellsAt = fits ? inPlace.workAt : 0;
   const cellOfAt = cellsAt + 4 * p.db.length;
   const rowOfAt = cellOfAt + 4 * p.width;
   const lutAt = rowOfAt + 4 * p.height;
   const rgbaAt = lutAt + p.lut.length;
-  const kernels = useWasm ? instantiate(rgbaAt + rowBytes * p.height) : null;
+  const kernels = !useWasm ? null : fits ? instantiate.on(inPlace.memory) : instantiate(rgbaAt + rowBytes * p.height);
   if (kernels) {
     const buffer = kernels.memory.buffer;
     new Float32Array(buffer, cellsAt, p.db.length).set(p.db);
@@ -57,10 +64,15 @@ export function paintPlotCells(p: PlotPaint, useWasm = true): void {
     const bytes = new Uint8Array(buffer);
     bytes.set(p.lut, lutAt);
     const plotRow = (y: number): number => ((p.top + y) * p.imageWidth + p.left) * 4;
-    // The plot's rows in and out as they are, so alpha (and nothing else) stays the image's.
-    for (let y = 0; y < p.height; y++) bytes.set(p.data.subarray(plotRow(y), plotRow(y) + rowBytes), rgbaAt + y * rowBytes);
     const noData = p.noData[0] | (p.noData[1] << 8) | (p.noData[2] << 16);
     const k = kernels.exports as unknown as GridPaintExports;
+    if (fits) {
+      // The image's rows are not contiguous in the plot's width: one call a row, straight into the pixels.
+      for (let y = 0; y < p.height; y++) k.paint(cellsAt, cellOfAt, rowOfAt + 4 * y, p.width, 1, plotRow(y), lutAt, p.minDb, p.indexPerDb, top, noData);
+      return;
+    }
+    // The plot's rows in and out as they are, so alpha (and nothing else) stays the image's.
+    for (let y = 0; y < p.height; y++) bytes.set(p.data.subarray(plotRow(y), plotRow(y) + rowBytes), rgbaAt + y * rowBytes);
     for (let y = 0; y < p.height; y += ROWS_A_CALL) {
       const rows = Math.min(ROWS_A_CALL, p.height - y);
       k.paint(cellsAt, cellOfAt, rowOfAt + 4 * y, p.width, rows, rgbaAt + y * rowBytes, lutAt, p.minDb, p.indexPerDb, top, noData);

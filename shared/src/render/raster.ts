@@ -3,6 +3,7 @@
  * Everything stays opaque (alpha 255), so the PNG is what a viewer shows on any background.
  */
 import type { RgbaImage } from "../types/analysis.ts";
+import { allocateImageData } from "./imageMemory.ts";
 
 export type Rgb = readonly [number, number, number];
 
@@ -10,7 +11,8 @@ export function createImage(width: number, height: number, background: Rgb): Rgb
   if (!Number.isInteger(width) || width < 1 || !Number.isInteger(height) || height < 1) {
     throw new Error(`image size must be positive whole pixels, got ${width}×${height}`);
   }
-  const data = new Uint8Array(width * height * 4);
+  // In an image memory: painted and filtered for PNG in place (imageMemory.ts).
+  const data = allocateImageData(width, height);
   data[0] = background[0];
   data[1] = background[1];
   data[2] = background[2];
