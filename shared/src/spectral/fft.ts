@@ -149,7 +149,7 @@ export function createSpectrumAnalyzer(fftSize: number, options: SpectrumAnalyze
   const fftJs = (): FFT => (fft ??= fftJsPlan(fftSize));
   // fft.js's transforms in WebAssembly, made on the first transform (null: fft.js itself runs).
   let kernel: FftJsKernel | null | undefined;
-  const fftJsKernel = (): FftJsKernel | null => (kernel === undefined ? (kernel = createFftJsKernel(fftJs())) : kernel);
+  const fftJsKernel = (): FftJsKernel | null => (kernel === undefined ? (kernel = createFftJsKernel(fftSize, window)) : kernel);
 
   function checkFrame(frame: SampleFrame): void {
     if (frame.length < fftSize) {
@@ -168,12 +168,7 @@ export function createSpectrumAnalyzer(fftSize: number, options: SpectrumAnalyze
   function transform(frame: SampleFrame, out: Float64Array | null): Float64Array {
     checkFrame(frame);
     const k = fftJsKernel();
-    if (k) {
-      const input = k.input;
-      for (let n = 0; n < fftSize; n++) input[n] = frame[n] * window[n];
-      k.realTransform();
-      return k.output;
-    }
+    if (k) return k.windowedRealTransform(frame);
     windowed ??= new Float64Array(fftSize);
     for (let n = 0; n < fftSize; n++) windowed[n] = frame[n] * window[n];
     const into = out ?? (scratch ??= new Float64Array(2 * fftSize));
@@ -387,17 +382,16 @@ export function createSpectrumAnalyzer(fftSize: number, options: SpectrumAnalyze
         throw new Error(`out must hold 2 × fftSize = ${2 * fftSize} values, got ${out.length}`);
       }
       const k = fftJsKernel();
-      const input = k ? k.input : (pairInput ??= new Float64Array(2 * fftSize));
-      for (let n = 0; n < fftSize; n++) {
-        input[2 * n] = a[n] * window[n];
-        input[2 * n + 1] = b[n] * window[n];
-      }
       if (k) {
-        k.transform();
-        out.set(k.output);
-      } else {
-        fftJs().transform(out, input);
+        out.set(k.windowedPairTransform(a, b));
+        return;
       }
+      pairInput ??= new Float64Array(2 * fftSize);
+      for (let n = 0; n < fftSize; n++) {
+        pairInput[2 * n] = a[n] * window[n];
+        pairInput[2 * n + 1] = b[n] * window[n];
+      }
+      fftJs().transform(out, pairInput);
     },
     amplitudeSquared,
     magnitudeDb(frame, out) {

@@ -8,10 +8,39 @@
 ;;
 ;; Arguments: out, data and table are byte offsets of f64 arrays, bitrev of an i32 array (fft.js's table,
 ;; _bitrev), size is fft.js's _csize (twice the points) and width its _width. Indices below count f64
-;; elements as fft.js's do; an address is base + 8 * index.
+;; elements as fft.js's do; an address is base + 8 * index. The windowing functions do fft.ts's loops
+;; (a float32 sample times its f64 window value, one IEEE multiplication, as JavaScript does it).
 (module
   ;; Made by the caller at its full size (shared/src/wasm/kernelModule.ts).
   (import "env" "memory" (memory 1))
+
+  ;; windowReal(frame, window, n, out): out[i] = frame[i] * window[i], frame float32, window and out f64.
+  (func (export "windowReal") (param $frame i32) (param $window i32) (param $n i32) (param $out i32)
+    (local $i i32)
+    (block $done
+      (loop $each
+        (br_if $done (i32.ge_u (local.get $i) (local.get $n)))
+        (f64.store (i32.add (local.get $out) (i32.shl (local.get $i) (i32.const 3)))
+          (f64.mul
+            (f64.promote_f32 (f32.load (i32.add (local.get $frame) (i32.shl (local.get $i) (i32.const 2)))))
+            (f64.load (i32.add (local.get $window) (i32.shl (local.get $i) (i32.const 3))))))
+        (local.set $i (i32.add (local.get $i) (i32.const 1)))
+        (br $each))))
+
+  ;; windowPair(a, b, window, n, out): out[2i] = a[i] * window[i], out[2i + 1] = b[i] * window[i] (a, b float32).
+  (func (export "windowPair") (param $a i32) (param $b i32) (param $window i32) (param $n i32) (param $out i32)
+    (local $i i32) (local $w f64) (local $o i32)
+    (block $done
+      (loop $each
+        (br_if $done (i32.ge_u (local.get $i) (local.get $n)))
+        (local.set $w (f64.load (i32.add (local.get $window) (i32.shl (local.get $i) (i32.const 3)))))
+        (local.set $o (i32.add (local.get $out) (i32.shl (local.get $i) (i32.const 4))))
+        (f64.store (local.get $o)
+          (f64.mul (f64.promote_f32 (f32.load (i32.add (local.get $a) (i32.shl (local.get $i) (i32.const 2))))) (local.get $w)))
+        (f64.store offset=8 (local.get $o)
+          (f64.mul (f64.promote_f32 (f32.load (i32.add (local.get $b) (i32.shl (local.get $i) (i32.const 2))))) (local.get $w)))
+        (local.set $i (i32.add (local.get $i) (i32.const 1)))
+        (br $each))))
 
   ;; transform(out, data, table, bitrev, size, width): fft.js's transform(out, data), data interleaved complex.
   (func (export "transform")
