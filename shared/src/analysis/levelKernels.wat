@@ -329,4 +329,65 @@
     (f64.store offset=48 (local.get $st) (local.get $peakY))
     (i32.store offset=56 (local.get $st) (local.get $atX))
     (i32.store offset=60 (local.get $st) (local.get $atY)))
+
+  ;; fir12x7(x, s0, s1, taps, g, centre, centreAbs, out): truePeak.ts's fir12x7, operation for operation: over
+  ;; outputs n in [s0, s1) of the float32 block at x, the bound around the output's own centre samples, then
+  ;; the one around the block's centre, and where both beat the running maximum the 7 phases' 12-tap FIR
+  ;; (taps: 84 f64, phase-major; g: g0...g5 then the slack, as for localBounds). out: f64 running maximum
+  ;; (read and written) and f64 the index n*8 + k + 1 of a new one (written only when one is found).
+  ;; The sums are added left to right as the JavaScript writes them; scalar, so the same bits.
+  (func (export "fir12x7") (param $x i32) (param $s0 i32) (param $s1 i32) (param $taps i32) (param $g i32)
+    (param $centre f64) (param $centreAbs f64) (param $out i32)
+    (local $n i32) (local $k i32) (local $o i32) (local $at i32)
+    (local $best f64) (local $m f64) (local $y f64) (local $slack f64)
+    (local $g0 f64) (local $g1 f64) (local $g2 f64) (local $g3 f64) (local $g4 f64) (local $g5 f64)
+    (local $x0 f64) (local $x1 f64) (local $x2 f64) (local $x3 f64) (local $x4 f64) (local $x5 f64) (local $x6 f64) (local $x7 f64) (local $x8 f64) (local $x9 f64) (local $x10 f64) (local $x11 f64)
+    (local.set $g0 (f64.load (local.get $g)))
+    (local.set $g1 (f64.load offset=8 (local.get $g)))
+    (local.set $g2 (f64.load offset=16 (local.get $g)))
+    (local.set $g3 (f64.load offset=24 (local.get $g)))
+    (local.set $g4 (f64.load offset=32 (local.get $g)))
+    (local.set $g5 (f64.load offset=40 (local.get $g)))
+    (local.set $slack (f64.load offset=48 (local.get $g)))
+    (local.set $best (f64.load (local.get $out)))
+    (local.set $at (i32.const -1))
+    (local.set $n (local.get $s0))
+    (block $done
+      (loop $outputs
+        (br_if $done (i32.ge_s (local.get $n) (local.get $s1)))
+        (block $next
+        (local.set $x0 (f64.promote_f32 (f32.load (i32.add (local.get $x) (i32.shl (i32.sub (local.get $n) (i32.const 0)) (i32.const 2))))))
+        (local.set $x1 (f64.promote_f32 (f32.load (i32.add (local.get $x) (i32.shl (i32.sub (local.get $n) (i32.const 1)) (i32.const 2))))))
+        (local.set $x2 (f64.promote_f32 (f32.load (i32.add (local.get $x) (i32.shl (i32.sub (local.get $n) (i32.const 2)) (i32.const 2))))))
+        (local.set $x3 (f64.promote_f32 (f32.load (i32.add (local.get $x) (i32.shl (i32.sub (local.get $n) (i32.const 3)) (i32.const 2))))))
+        (local.set $x4 (f64.promote_f32 (f32.load (i32.add (local.get $x) (i32.shl (i32.sub (local.get $n) (i32.const 4)) (i32.const 2))))))
+        (local.set $x5 (f64.promote_f32 (f32.load (i32.add (local.get $x) (i32.shl (i32.sub (local.get $n) (i32.const 5)) (i32.const 2))))))
+        (local.set $x6 (f64.promote_f32 (f32.load (i32.add (local.get $x) (i32.shl (i32.sub (local.get $n) (i32.const 6)) (i32.const 2))))))
+        (local.set $x7 (f64.promote_f32 (f32.load (i32.add (local.get $x) (i32.shl (i32.sub (local.get $n) (i32.const 7)) (i32.const 2))))))
+        (local.set $x8 (f64.promote_f32 (f32.load (i32.add (local.get $x) (i32.shl (i32.sub (local.get $n) (i32.const 8)) (i32.const 2))))))
+        (local.set $x9 (f64.promote_f32 (f32.load (i32.add (local.get $x) (i32.shl (i32.sub (local.get $n) (i32.const 9)) (i32.const 2))))))
+        (local.set $x10 (f64.promote_f32 (f32.load (i32.add (local.get $x) (i32.shl (i32.sub (local.get $n) (i32.const 10)) (i32.const 2))))))
+        (local.set $x11 (f64.promote_f32 (f32.load (i32.add (local.get $x) (i32.shl (i32.sub (local.get $n) (i32.const 11)) (i32.const 2))))))
+        (local.set $m (f64.mul (f64.const 0.5) (f64.add (local.get $x5) (local.get $x6))))
+        (br_if $next (f64.le (f64.add (f64.add (f64.add (f64.add (f64.add (f64.add (f64.mul (f64.abs (local.get $m)) (local.get $slack)) (f64.mul (local.get $g5) (f64.abs (f64.sub (local.get $x5) (local.get $x6))))) (f64.mul (local.get $g4) (f64.add (f64.abs (f64.sub (local.get $x4) (local.get $m))) (f64.abs (f64.sub (local.get $x7) (local.get $m)))))) (f64.mul (local.get $g3) (f64.add (f64.abs (f64.sub (local.get $x3) (local.get $m))) (f64.abs (f64.sub (local.get $x8) (local.get $m)))))) (f64.mul (local.get $g2) (f64.add (f64.abs (f64.sub (local.get $x2) (local.get $m))) (f64.abs (f64.sub (local.get $x9) (local.get $m)))))) (f64.mul (local.get $g1) (f64.add (f64.abs (f64.sub (local.get $x1) (local.get $m))) (f64.abs (f64.sub (local.get $x10) (local.get $m)))))) (f64.mul (local.get $g0) (f64.add (f64.abs (f64.sub (local.get $x0) (local.get $m))) (f64.abs (f64.sub (local.get $x11) (local.get $m)))))) (local.get $best)))
+        (br_if $next (f64.le (f64.add (f64.add (f64.add (f64.add (f64.add (f64.add (local.get $centreAbs) (f64.mul (local.get $g5) (f64.add (f64.abs (f64.sub (local.get $x5) (local.get $centre))) (f64.abs (f64.sub (local.get $x6) (local.get $centre)))))) (f64.mul (local.get $g4) (f64.add (f64.abs (f64.sub (local.get $x4) (local.get $centre))) (f64.abs (f64.sub (local.get $x7) (local.get $centre)))))) (f64.mul (local.get $g3) (f64.add (f64.abs (f64.sub (local.get $x3) (local.get $centre))) (f64.abs (f64.sub (local.get $x8) (local.get $centre)))))) (f64.mul (local.get $g2) (f64.add (f64.abs (f64.sub (local.get $x2) (local.get $centre))) (f64.abs (f64.sub (local.get $x9) (local.get $centre)))))) (f64.mul (local.get $g1) (f64.add (f64.abs (f64.sub (local.get $x1) (local.get $centre))) (f64.abs (f64.sub (local.get $x10) (local.get $centre)))))) (f64.mul (local.get $g0) (f64.add (f64.abs (f64.sub (local.get $x0) (local.get $centre))) (f64.abs (f64.sub (local.get $x11) (local.get $centre)))))) (local.get $best)))
+        (local.set $k (i32.const 0))
+        (local.set $o (local.get $taps))
+        (block $phasesDone
+          (loop $phases
+            (br_if $phasesDone (i32.ge_s (local.get $k) (i32.const 7)))
+            (local.set $y (f64.abs (f64.add (f64.add (f64.add (f64.add (f64.add (f64.add (f64.add (f64.add (f64.add (f64.add (f64.add (f64.mul (f64.load offset=0 (local.get $o)) (local.get $x0)) (f64.mul (f64.load offset=8 (local.get $o)) (local.get $x1))) (f64.mul (f64.load offset=16 (local.get $o)) (local.get $x2))) (f64.mul (f64.load offset=24 (local.get $o)) (local.get $x3))) (f64.mul (f64.load offset=32 (local.get $o)) (local.get $x4))) (f64.mul (f64.load offset=40 (local.get $o)) (local.get $x5))) (f64.mul (f64.load offset=48 (local.get $o)) (local.get $x6))) (f64.mul (f64.load offset=56 (local.get $o)) (local.get $x7))) (f64.mul (f64.load offset=64 (local.get $o)) (local.get $x8))) (f64.mul (f64.load offset=72 (local.get $o)) (local.get $x9))) (f64.mul (f64.load offset=80 (local.get $o)) (local.get $x10))) (f64.mul (f64.load offset=88 (local.get $o)) (local.get $x11)))))
+            (if (f64.gt (local.get $y) (local.get $best))
+              (then
+                (local.set $best (local.get $y))
+                (local.set $at (i32.add (i32.add (i32.shl (local.get $n) (i32.const 3)) (local.get $k)) (i32.const 1)))))
+            (local.set $k (i32.add (local.get $k) (i32.const 1)))
+            (local.set $o (i32.add (local.get $o) (i32.const 96)))
+            (br $phases))))
+        (local.set $n (i32.add (local.get $n) (i32.const 1)))
+        (br $outputs)))
+    (if (i32.ge_s (local.get $at) (i32.const 0))
+      (then
+        (f64.store (local.get $out) (local.get $best))
+        (f64.store offset=8 (local.get $out) (f64.convert_i32_s (local.get $at))))))
 )
