@@ -17,20 +17,29 @@ import { fontFilePaths, SUBSETS } from "./fontFiles.ts";
 
 
 /**
- * @napi-rs/canvas registers the machine's installed fonts when it loads unless DISABLE_SYSTEM_FONTS_LOAD
- * is set (its index.js). We draw only with the fonts we register and box what they lack ourselves, so that
- * scan of the font folders is skipped: ≈ 15–25 ms of every scan that draws an image (issue #22). Loaded
- * with require, after setting the variable: a static import would run the package before this module's body.
+ * Variables set while @napi-rs/canvas loads, then put back as they were:
+ * - DISABLE_SYSTEM_FONTS_LOAD: the package registers the machine's installed fonts when it loads unless it
+ *   is set (its index.js). We draw only with the fonts we register and box what they lack ourselves, so that
+ *   scan of the font folders is skipped: ≈ 15–25 ms of every scan that draws an image (issue #22).
+ * - MIMALLOC_ALLOW_THP=0: the native module's allocator (mimalloc 2.5, its own option) otherwise asks for
+ *   transparent huge pages, and on this project's machines about one load in three then spent 35–60 ms of
+ *   CPU zeroing 2 MB pages it barely used (seen with perf in the kernel's clear_page_erms; measured
+ *   2026-12-05, 22 loads without a slow one after). It changes how Skia's memory is mapped, nothing it
+ *   draws; a value the user set is left as it is.
+ * Loaded with require, after setting them: a static import would run the package before this module's body.
  */
 function loadCanvas(): typeof import("@napi-rs/canvas") {
-  const before = process.env.DISABLE_SYSTEM_FONTS_LOAD;
+  const before = { DISABLE_SYSTEM_FONTS_LOAD: process.env.DISABLE_SYSTEM_FONTS_LOAD, MIMALLOC_ALLOW_THP: process.env.MIMALLOC_ALLOW_THP };
   process.env.DISABLE_SYSTEM_FONTS_LOAD = "1";
+  process.env.MIMALLOC_ALLOW_THP ??= "0";
   try {
     const require = createRequire(import.meta.url);
     return require("@napi-rs/canvas") as typeof import("@napi-rs/canvas");
   } finally {
-    if (before === undefined) delete process.env.DISABLE_SYSTEM_FONTS_LOAD;
-    else process.env.DISABLE_SYSTEM_FONTS_LOAD = before;
+    for (const [name, value] of Object.entries(before)) {
+      if (value === undefined) delete process.env[name];
+      else process.env[name] = value;
+    }
   }
 }
 
