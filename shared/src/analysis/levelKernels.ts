@@ -18,6 +18,7 @@ export interface LevelKernels {
   findEqual(x: number, k: number, end: number): number;
   localBounds(x: number, ranges: number, count: number, r: number, n: number, best: number, g: number): number;
   fir12x7(x: number, s0: number, s1: number, taps: number, g: number, centre: number, centreAbs: number, out: number): void;
+  rangePeak(x: number, ranges: number, count: number, out: number): void;
   windowSums(x: number, from: number, n: number, st: number): void;
   windowSumsPair(x: number, y: number, from: number, n: number, st: number): void;
 }

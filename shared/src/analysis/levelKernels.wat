@@ -390,4 +390,29 @@
       (then
         (f64.store (local.get $out) (local.get $best))
         (f64.store offset=8 (local.get $out) (f64.convert_i32_s (local.get $at))))))
+
+  ;; rangePeak(x, ranges, count, out): truePeak.ts's phase 0 over the candidate ranges (the [start, end) i32
+  ;; pairs at `ranges`, `count` numbers) of the float32 block at x: the first |x[i]| above the f64 at out
+  ;; (read), in order; writes the new maximum there and its index as an i32 at out + 8 (-1 when none beat it).
+  (func (export "rangePeak") (param $x i32) (param $ranges i32) (param $count i32) (param $out i32)
+    (local $r i32) (local $i i32) (local $end i32) (local $a f64) (local $best f64) (local $at i32)
+    (local.set $best (f64.load (local.get $out)))
+    (local.set $at (i32.const -1))
+    (block $done
+      (loop $eachRange
+        (br_if $done (i32.ge_s (local.get $r) (local.get $count)))
+        (local.set $i (i32.load (i32.add (local.get $ranges) (i32.shl (local.get $r) (i32.const 2)))))
+        (local.set $end (i32.load offset=4 (i32.add (local.get $ranges) (i32.shl (local.get $r) (i32.const 2)))))
+        (block $rangeDone
+          (loop $each
+            (br_if $rangeDone (i32.ge_s (local.get $i) (local.get $end)))
+            (local.set $a (f64.abs (f64.promote_f32 (f32.load (i32.add (local.get $x) (i32.shl (local.get $i) (i32.const 2)))))))
+            (if (f64.gt (local.get $a) (local.get $best))
+              (then (local.set $best (local.get $a)) (local.set $at (local.get $i))))
+            (local.set $i (i32.add (local.get $i) (i32.const 1)))
+            (br $each)))
+        (local.set $r (i32.add (local.get $r) (i32.const 2)))
+        (br $eachRange)))
+    (f64.store (local.get $out) (local.get $best))
+    (i32.store offset=8 (local.get $out) (local.get $at)))
 )

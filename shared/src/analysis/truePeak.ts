@@ -229,6 +229,8 @@ class PolyphaseTruePeakMeter implements TruePeakMeter {
   private readonly tapsAt: number = 0;
   private readonly firOutAt: number = 0;
   private readonly firOut: Float64Array | null = null;
+  /** rangePeak's index, the i32 at firOutAt + 8. */
+  private readonly firOutAt8: Int32Array | null = null;
   private readonly peak: Float64Array;
   private readonly peakFrame: Float64Array;
   /** Flat taps, phase-major, for the unrolled kernels. */
@@ -285,6 +287,7 @@ class PolyphaseTruePeakMeter implements TruePeakMeter {
       bound[6] = BOUND_SLACK;
       new Float64Array(kernels.memory.buffer, this.tapsAt, this.taps.length).set(this.taps);
       this.firOut = new Float64Array(kernels.memory.buffer, this.firOutAt, 2);
+      this.firOutAt8 = new Int32Array(kernels.memory.buffer, this.firOutAt + 8, 1);
     }
   }
 
@@ -355,15 +358,23 @@ class PolyphaseTruePeakMeter implements TruePeakMeter {
         : flagByBits(this.extendedBits[c], h, end, taps, float32BitsAtMost(threshold), ranges);
     if (count === 0) return;
 
-    // (2a) Phase 0: the block's sample peak lies in the ranges if it beats the running maximum.
+    // (2a) Phase 0: the block's sample peak lies in the ranges if it beats the running maximum (in the
+    // kernels' rangePeak when there are: the same compares in the same order).
     let best = this.peak[c];
     let bestAt = -1;
-    for (let r = 0; r < count; r += 2) {
-      for (let i = ranges[r]; i < ranges[r + 1]; i++) {
-        const a = Math.abs(ext[i]);
-        if (a > best) {
-          best = a;
-          bestAt = i;
+    if (kernels && this.firOut) {
+      this.firOut[0] = best;
+      kernels.rangePeak(this.extendedAt[c], this.rangesAt, count, this.firOutAt);
+      best = this.firOut[0];
+      bestAt = (this.firOutAt8 as Int32Array)[0];
+    } else {
+      for (let r = 0; r < count; r += 2) {
+        for (let i = ranges[r]; i < ranges[r + 1]; i++) {
+          const a = Math.abs(ext[i]);
+          if (a > best) {
+            best = a;
+            bestAt = i;
+          }
         }
       }
     }
