@@ -19,6 +19,29 @@ const ROWS_A_CALL = 16;
 
 interface GridPaintExports {
   paint(db: number, cellOf: number, rowOf: number, width: number, height: number, rgba: number, lut: number, minDb: number, indexPerDb: number, top: number, noData: number): void;
+  fillRows(rgba: number, stride: number, x0: number, x1: number, y0: number, y1: number, colour: number): void;
+  blendRows(rgba: number, stride: number, x0: number, x1: number, y0: number, y1: number, colour: number, alpha: number): void;
+}
+
+const isByte = (v: number): boolean => Number.isInteger(v) && v >= 0 && v <= 255;
+
+/**
+ * raster.ts's fillRect over pixels [x0, x1) × [y0, y1) (already clipped), in gridPaint.wat's fillRows or
+ * blendRows, where the image's pixels lie in an image memory and the colour is whole bytes: the same bytes as
+ * its loops (tests/shared/raster.test.ts). False when it did nothing (the caller's loops then run). The
+ * waveform strip alone makes some 1600 fills; as JavaScript they ran unoptimised and then were compiled
+ * twice over on a 1 s file (issue #22).
+ */
+export function fillInPlace(data: Uint8Array, width: number, x0: number, x1: number, y0: number, y1: number, colour: readonly [number, number, number], alpha: number): boolean {
+  const inPlace = imageMemoryOf(data);
+  if (inPlace === null || !isByte(colour[0]) || !isByte(colour[1]) || !isByte(colour[2])) return false;
+  const kernels = instantiate.on(inPlace.memory);
+  if (kernels === null) return false;
+  const k = kernels.exports as unknown as GridPaintExports;
+  const packed = colour[0] | (colour[1] << 8) | (colour[2] << 16);
+  if (alpha >= 1) k.fillRows(0, 4 * width, x0, x1, y0, y1, packed);
+  else k.blendRows(0, 4 * width, x0, x1, y0, y1, packed, alpha);
+  return true;
 }
 
 export interface PlotPaint {
