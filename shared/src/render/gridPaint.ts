@@ -21,6 +21,7 @@ interface GridPaintExports {
   paint(db: number, cellOf: number, rowOf: number, width: number, height: number, rgba: number, lut: number, minDb: number, indexPerDb: number, top: number, noData: number): void;
   fillRows(rgba: number, stride: number, x0: number, x1: number, y0: number, y1: number, colour: number): void;
   blendRows(rgba: number, stride: number, x0: number, x1: number, y0: number, y1: number, colour: number, alpha: number): void;
+  blendMask(rgba: number, stride: number, left: number, top: number, mask: number, maskWidth: number, x0: number, x1: number, y0: number, y1: number, colour: number, k: number): void;
 }
 
 const isByte = (v: number): boolean => Number.isInteger(v) && v >= 0 && v <= 255;
@@ -139,4 +140,29 @@ function paintPlotCellsJs(p: PlotPaint, top: number): void {
       }
     }
   }
+}
+
+/**
+ * text.ts's blendCoverage of mask rows [y0, y1) and columns [x0, x1) (already clipped) placed at (left, top),
+ * in gridPaint.wat's blendMask, the mask staged in the image memory's work area (free while text is drawn:
+ * the plot's paint and the PNG filter use it before and after). False when it did nothing.
+ */
+export function blendMaskInPlace(
+  data: Uint8Array,
+  width: number,
+  mask: { width: number; height: number; alpha: Uint8Array },
+  left: number,
+  top: number,
+  clip: { x0: number; x1: number; y0: number; y1: number },
+  colour: readonly [number, number, number],
+  k: number,
+): boolean {
+  const inPlace = imageMemoryOf(data);
+  if (inPlace === null || mask.alpha.length > inPlace.workBytes || !isByte(colour[0]) || !isByte(colour[1]) || !isByte(colour[2])) return false;
+  const kernels = instantiate.on(inPlace.memory);
+  if (kernels === null) return false;
+  new Uint8Array(kernels.memory.buffer, inPlace.workAt, mask.alpha.length).set(mask.alpha);
+  const packed = colour[0] | (colour[1] << 8) | (colour[2] << 16);
+  (kernels.exports as unknown as GridPaintExports).blendMask(0, 4 * width, left, top, inPlace.workAt, mask.width, clip.x0, clip.x1, clip.y0, clip.y1, packed, k);
+  return true;
 }
