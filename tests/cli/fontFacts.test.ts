@@ -4,6 +4,7 @@
  * from the shipped files.
  */
 import { readFileSync } from "node:fs";
+import { createRequire } from "node:module";
 import { describe, expect, it } from "vitest";
 import { FONT_FACTS } from "../../cli/src/render/fontFacts.generated.ts";
 import { fontFactsFromFile, fontFactsModuleText, parseFont } from "../../cli/src/render/fontFactsFromFile.ts";
@@ -27,6 +28,12 @@ describe("generated font facts", () => {
       expect(disagree).toEqual([]);
       expect(ranges.length).toBeGreaterThan(0);
     }
+  });
+
+  it("are read from the files the package exports under ./files/ (found through its ./LICENSE export)", () => {
+    const require = createRequire(import.meta.url);
+    expect(files).toEqual(files.map((f) => require.resolve(`@fontsource/source-sans-3/files/${f.split(/[\\/]/).pop()}`)));
+    expect(files.map((f) => f.split(/[\\/]/).pop())).toEqual(["latin", "latin-ext", "greek", "cyrillic"].map((s) => `source-sans-3-${s}-500-normal.woff`));
   });
 
   it("are refused for a font file of another length", () => {

@@ -9,6 +9,7 @@ import { describe, expect, it } from "vitest";
 import { wracklineColourMap } from "../../shared/src/render/colourMap.ts";
 import { WASM_MODULE_BYTES } from "../../shared/src/render/gridPaint.generated.ts";
 import { paintPlotCells, type PlotPaint } from "../../shared/src/render/gridPaint.ts";
+import { allocateImageData, imageMemoryOf, paintWorkBytes } from "../../shared/src/render/imageMemory.ts";
 import { seededRandom } from "../fixtures/synth.ts";
 
 const MIN_DB = -130;
@@ -33,11 +34,11 @@ function cells(n: number, seed: number): Float32Array {
   return db;
 }
 
-function plot(columns: number, rows: number, width: number, height: number, seed: number): PlotPaint {
+function plot(columns: number, rows: number, width: number, height: number, seed: number, inImageMemory = false): PlotPaint {
   const left = 7;
   const top = 3;
   const imageWidth = width + left + 5;
-  const data = new Uint8Array(imageWidth * (height + top + 4) * 4);
+  const data = inImageMemory ? allocateImageData(imageWidth, height + top + 4) : new Uint8Array(imageWidth * (height + top + 4) * 4);
   const random = seededRandom(seed + 1);
   for (let i = 0; i < data.length; i++) data[i] = Math.floor(random() * 256);
   const rowOf = Int32Array.from({ length: height }, (_, y) => rows - 1 - Math.min(rows - 1, Math.floor((y * rows) / height)));
@@ -50,14 +51,23 @@ describe("plot painting", () => {
     expect(WebAssembly.validate(WASM_MODULE_BYTES)).toBe(true);
   });
 
+  // In an image memory (createImage's pixels, imageMemory.ts) a grid of at most a cell a pixel is painted in
+  // place; a larger one (1432×53 into 160×60) does not fit its work area and goes through a memory of its own.
+  for (const inImageMemory of [false, true])
   for (const [columns, rows, width, height] of [
     [40, 30, 40, 30],
     [1432, 53, 160, 60],
     [13, 7, 61, 29],
     [1, 1, 5, 3],
   ] as const) {
-    it(`paint ${columns}×${rows} cells into a ${width}×${height} plot: the same bytes, outside the plot untouched`, () => {
-      const wasm = plot(columns, rows, width, height, columns + rows);
+    it(`paint ${columns}×${rows} cells into a ${width}×${height} plot${inImageMemory ? " in an image memory" : ""}: the same bytes, outside the plot untouched`, () => {
+      const wasm = plot(columns, rows, width, height, columns + rows, inImageMemory);
+      if (inImageMemory) {
+        const memory = imageMemoryOf(wasm.data);
+        expect(memory).not.toBeNull();
+        // Which path runs: in place exactly when the grid and tables fit the work area.
+        expect(memory!.workBytes >= paintWorkBytes(columns * rows, width, height, wasm.lut.length)).toBe(columns * rows <= width * height);
+      }
       const js = { ...wasm, data: wasm.data.slice() };
       const before = wasm.data.slice();
       paintPlotCells(wasm);

@@ -9,6 +9,7 @@ import { createClickDetector } from "../../shared/src/analysis/clicks.ts";
 import { createLoudnessMeter, type LoudnessResult } from "../../shared/src/analysis/loudness.ts";
 import { createTruePeakMeter, designInterpolationFilter, flagByBits } from "../../shared/src/analysis/truePeak.ts";
 import { createValueRunTracker, type ValueRun } from "../../shared/src/analysis/valueRuns.ts";
+import { createLevelWindows } from "../../shared/src/analysis/levelWindows.ts";
 import { concat, pinkNoise, seededRandom, silence, sine, speechLike } from "../fixtures/synth.ts";
 
 describe("level kernels module", () => {
@@ -266,6 +267,41 @@ describe("equal-neighbour kernel", () => {
       const js = runs("js", block);
       expect(js.length).toBeGreaterThan(500);
       expect(runs("auto", block)).toEqual(js);
+    }
+  });
+});
+
+describe("level-window sums kernel", () => {
+  it("gives every window's sums, peaks and cross product bit for bit, mono to three channels, across block sizes", () => {
+    const random = seededRandom(22);
+    const n = 150000;
+    const noise = (scale: number) => Float32Array.from({ length: n }, () => (random() - 0.5) * scale);
+    const all = [noise(1.8), noise(0.01), noise(0.5)];
+    // Peaks to find: equal maxima (the first counts), a negative one, NaN (never a peak) and a silent stretch.
+    all[0][70000] = all[0][70010] = 0.99;
+    all[1][5000] = -0.75;
+    all[2][12345] = NaN;
+    all[1].fill(0, 90000, 95000);
+    for (const channels of [1, 2, 3]) {
+      const inputs = all.slice(0, channels);
+      const windows = (kernels: "auto" | "js", blocks: number[]) => {
+        const seen: unknown[] = [];
+        const acc = createLevelWindows(48000, channels, (w) => seen.push([w.index, w.startFrame, w.frames, [...w.sum], [...w.sumSquares], [...w.peakAbs], [...w.peakFrame], w.crossProduct]), kernels);
+        for (let at = 0, b = 0; at < n; b++) {
+          const size = Math.min(blocks[b % blocks.length], n - at);
+          acc.push(inputs.map((x) => x.subarray(at, at + size)), size);
+          at += size;
+        }
+        acc.finish();
+        return seen;
+      };
+      // The mixed sizes outgrow the kernel's memory twice (a new instance each time).
+      for (const blocks of [[65536], [4799], [100, 30000, 7, 70000]]) {
+        const js = windows("js", blocks);
+        expect(js.length).toBe(Math.ceil(n / 2400));
+        // toEqual tells NaN from a number and -0 from 0 (Object.is), so this is bit for bit for the sums.
+        expect(windows("auto", blocks)).toEqual(js);
+      }
     }
   });
 });

@@ -6,6 +6,7 @@
 import { inflateSync } from "node:zlib";
 import { PNG } from "pngjs";
 import { describe, expect, it } from "vitest";
+import { allocateImageData, imageMemoryOf } from "../../shared/src/render/imageMemory.ts";
 import { pngScanlines } from "../../shared/src/render/pngFilter.ts";
 import { WASM_MODULE_BYTES } from "../../shared/src/render/pngFilter.generated.ts";
 import { seededRandom } from "../fixtures/synth.ts";
@@ -53,6 +54,22 @@ describe("pngScanlines", () => {
         expect(Buffer.compare(Buffer.from(fromKernels), pngjsScanlines(rgba, width, height))).toBe(0);
       });
     }
+  }
+
+  // createImage's pixels live in an image memory (imageMemory.ts): filtered where they lie, the scanlines a
+  // view of that memory, and the very bytes of the JavaScript and of pngjs.
+  for (const [width, height] of [[1, 1], [17, 2], [37, 23], [1600, 3]] as const) {
+    it(`${width}×${height} in an image memory: filtered in place, the same bytes`, () => {
+      const rgba = allocateImageData(width, height);
+      expect(imageMemoryOf(rgba)).not.toBeNull();
+      rgba.set(image(width, height, width + height, 5));
+      const pixelsBefore = rgba.slice();
+      const inPlace = pngScanlines(rgba, width, height);
+      expect(inPlace.buffer).toBe(rgba.buffer);
+      expect(Buffer.compare(Buffer.from(rgba), Buffer.from(pixelsBefore))).toBe(0);
+      expect(Buffer.compare(Buffer.from(inPlace), Buffer.from(pngScanlines(pixelsBefore, width, height, false)))).toBe(0);
+      expect(Buffer.compare(Buffer.from(inPlace), pngjsScanlines(pixelsBefore, width, height))).toBe(0);
+    });
   }
 
   it("rounds a translucent pixel's blend over white as pngjs does", () => {

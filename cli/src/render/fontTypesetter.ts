@@ -17,20 +17,29 @@ import { fontFilePaths, SUBSETS } from "./fontFiles.ts";
 
 
 /**
- * @napi-rs/canvas registers the machine's installed fonts when it loads unless DISABLE_SYSTEM_FONTS_LOAD
- * is set (its index.js). We draw only with the fonts we register and box what they lack ourselves, so that
- * scan of the font folders is skipped: ≈ 15–25 ms of every scan that draws an image (issue #22). Loaded
- * with require, after setting the variable: a static import would run the package before this module's body.
+ * Variables set while @napi-rs/canvas loads, then put back as they were:
+ * - DISABLE_SYSTEM_FONTS_LOAD: the package registers the machine's installed fonts when it loads unless it
+ *   is set (its index.js). We draw only with the fonts we register and box what they lack ourselves, so that
+ *   scan of the font folders is skipped: ≈ 15–25 ms of every scan that draws an image (issue #22).
+ * - MIMALLOC_ALLOW_THP=0: the native module's allocator (mimalloc 2.5, its own option) otherwise asks for
+ *   transparent huge pages, and on this project's machines about one load in three then spent 35–60 ms of
+ *   CPU zeroing 2 MB pages it barely used (seen with perf in the kernel's clear_page_erms; measured
+ *   2026-12-05, 22 loads without a slow one after). It changes how Skia's memory is mapped, nothing it
+ *   draws; a value the user set is left as it is.
+ * Loaded with require, after setting them: a static import would run the package before this module's body.
  */
 function loadCanvas(): typeof import("@napi-rs/canvas") {
-  const before = process.env.DISABLE_SYSTEM_FONTS_LOAD;
+  const before = { DISABLE_SYSTEM_FONTS_LOAD: process.env.DISABLE_SYSTEM_FONTS_LOAD, MIMALLOC_ALLOW_THP: process.env.MIMALLOC_ALLOW_THP };
   process.env.DISABLE_SYSTEM_FONTS_LOAD = "1";
+  process.env.MIMALLOC_ALLOW_THP ??= "0";
   try {
     const require = createRequire(import.meta.url);
     return require("@napi-rs/canvas") as typeof import("@napi-rs/canvas");
   } finally {
-    if (before === undefined) delete process.env.DISABLE_SYSTEM_FONTS_LOAD;
-    else process.env.DISABLE_SYSTEM_FONTS_LOAD = before;
+    for (const [name, value] of Object.entries(before)) {
+      if (value === undefined) delete process.env[name];
+      else process.env[name] = value;
+    }
   }
 }
 
@@ -168,9 +177,7 @@ export function createFontTypesetter(fonts: readonly TypesetterFont[]): Typesett
       }
       pen += advance;
     }
-    const rgba = ctx.getImageData(0, 0, width, height).data;
-    const alpha = new Uint8Array(width * height);
-    for (let i = 0; i < alpha.length; i++) alpha[i] = rgba[4 * i + 3];
+    const alpha = alphaOf(ctx.getImageData(0, 0, width, height).data, width * height);
     const coverage = { width, height, left, top, alpha };
     if (alpha.length <= CACHED_MASK_MAX_PX) {
       if (coverages.size >= CACHE_LIMIT) coverages.clear();
@@ -184,6 +191,16 @@ export function createFontTypesetter(fonts: readonly TypesetterFont[]): Typesett
     capHeight: (sizePx) => (primary.capHeight / primary.unitsPerEm) * sizePx,
     rasterise,
   };
+}
+
+/**
+ * The alpha bytes of `pixels` RGBA pixels. A function of its own: a title's mask runs the loop long enough
+ * for V8 to optimise it, and it then compiles only this loop instead of the whole of rasterise (issue #22).
+ */
+function alphaOf(rgba: Uint8ClampedArray, pixels: number): Uint8Array {
+  const alpha = new Uint8Array(pixels);
+  for (let i = 0; i < pixels; i++) alpha[i] = rgba[4 * i + 3];
+  return alpha;
 }
 
 let installed = false;

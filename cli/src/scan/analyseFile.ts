@@ -157,11 +157,12 @@ async function writeImages(
   const grids = imagesOf(analysed);
   let closeups: CloseupFields | null;
   try {
+    // The largest PNG first: its deflating on the pool overlaps everything drawn after it (issue #22).
+    writePng(paths.png, () => renderSpectrogramImage(grids.spectrogram, { width, height, markers, title: task.relPath }));
     writePng(paths.waveform, () => renderWaveformImage(grids.waveform, { width, height: WAVEFORM_HEIGHT_PX, markers }));
     closeups = ctx.closeups
       ? await writeCloseups({ analysed, findings, format, target, relPath: task.relPath, settings, waveformHeightPx: WAVEFORM_HEIGHT_PX, png })
       : null;
-    writePng(paths.png, () => renderSpectrogramImage(grids.spectrogram, { width, height, markers, title: task.relPath }));
     for (const [c, grid] of (grids.channelSpectrograms ?? []).entries()) {
       writePng(channelPath(c), () => renderSpectrogramImage(grid, { width, height, markers, title: channelTitle(c) }));
     }

@@ -11,12 +11,13 @@
  * posted, before the reading thread draws the images (where a scan peaks), its result's arrays are moved
  * rather than copied, and its young generation is held small as the scan workers' is.
  */
-import { Worker } from "node:worker_threads";
 import type { AudioBlock, StreamFormat } from "@tidemark/shared/types/analysis";
 import type { AnalysisSettings } from "@tidemark/shared/types/settings";
 import { allocateBlockRing, createBlockRingWriter, RING_FAILED, RING_STATE_INDEX, ringSlotsFor, type BlockRingWriter } from "./blockRing.ts";
 import type { SecondThreadPart, SecondThreadResult, SpectralThreadData, SpectralThreadReply } from "./spectralThread.ts";
 import { WORKER_HEAP_LIMIT_MB } from "./workerPool.ts";
+import { workerThreads } from "./lazyWorkerThreads.ts";
+
 
 /**
  * The thread's young generation, MB: the scan workers' (workerPool.ts's callers), which bounds the garbage
@@ -65,7 +66,7 @@ export function startSpectralThread(format: StreamFormat, settings: AnalysisSett
   // Dropped after the last block, so the ring's memory goes as soon as the thread has ended too.
   let writer: BlockRingWriter | null = createBlockRingWriter(ring);
   const data: SpectralThreadData = { ring, format, settings, fingerprint: o.fingerprint, images: o.images, part: o.part };
-  const worker = new Worker(bootstrapCode(SCRIPT), {
+  const worker = new (workerThreads().Worker)(bootstrapCode(SCRIPT), {
     eval: true,
     workerData: data,
     resourceLimits: { maxOldGenerationSizeMb: WORKER_HEAP_LIMIT_MB, maxYoungGenerationSizeMb: SPECTRAL_THREAD_YOUNG_GENERATION_MB },

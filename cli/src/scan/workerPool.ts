@@ -11,7 +11,9 @@
  * (small) tasks has each tried again alone, so only the task that kills a worker fails. A worker that
  * cannot even start fails every task with the reason, instead of being respawned for ever.
  */
-import { Worker } from "node:worker_threads";
+import type { Worker as WorkerThread } from "node:worker_threads";
+import { workerThreads } from "./lazyWorkerThreads.ts";
+
 
 export class WorkerCrashError extends Error {
   constructor(message: string) {
@@ -86,7 +88,7 @@ export interface WorkerRequest<Task> {
 }
 
 interface Slot<Task, Result> {
-  worker: Worker;
+  worker: WorkerThread;
   /** Tasks sent to the worker, in the order it runs them: the first is running, the rest wait in its port. */
   jobs: Job<Task, Result>[];
   /** The script has loaded; only ready workers get tasks. */
@@ -113,7 +115,7 @@ export function createWorkerPool<Task, Result>(options: WorkerPoolOptions): Work
   let startFailure: Error | null = null;
 
   const spawn = (): Slot<Task, Result> => {
-    const worker = new Worker(bootstrapCode(options.script), {
+    const worker = new (workerThreads().Worker)(bootstrapCode(options.script), {
       eval: true,
       workerData: options.workerData,
       resourceLimits: { maxOldGenerationSizeMb: options.maxOldGenerationSizeMb, maxYoungGenerationSizeMb: options.maxYoungGenerationSizeMb },

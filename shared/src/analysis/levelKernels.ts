@@ -11,12 +11,16 @@ import { WASM_MODULE_BYTES } from "./levelKernels.generated.ts";
 export interface LevelKernels {
   /** At least the bytes asked for, never grown: views into it stay valid. */
   readonly memory: WasmMemory;
-  /** See levelKernels.wat. All arguments are byte offsets into `memory` except n (frames). */
+  /** See levelKernels.wat. Arguments are byte offsets into `memory` except counts, indices (n, from, s0, s1, r) and f64 values. */
   kweightPair(x: number, z: number, n: number, state: number, coefficients: number): void;
   diffChunks(x: number, count: number, chunk: number, sums: number, maxima: number): void;
   flagBits(x: number, h: number, end: number, taps: number, thresholdBits: number, ranges: number): number;
   findEqual(x: number, k: number, end: number): number;
   localBounds(x: number, ranges: number, count: number, r: number, n: number, best: number, g: number): number;
+  fir12x7(x: number, s0: number, s1: number, taps: number, g: number, centre: number, centreAbs: number, out: number): void;
+  rangePeak(x: number, ranges: number, count: number, out: number): void;
+  windowSums(x: number, from: number, n: number, st: number): void;
+  windowSumsPair(x: number, y: number, from: number, n: number, st: number): void;
 }
 
 const instantiate = kernelModule(WASM_MODULE_BYTES);

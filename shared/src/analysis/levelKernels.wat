@@ -254,4 +254,165 @@
           (then (local.set $n (i32.load (i32.add (local.get $ranges) (i32.shl (local.get $r) (i32.const 2)))))))
         (br $range)))
     (i32.const -1))
+
+  ;; windowSums(x, from, n, st): levelWindows.ts's accumulate for one channel over n float32 samples from
+  ;; index `from` of the block at byte offset x. st: f64 sum, sum of squares, peak |x| (read and written), and at offset
+  ;; 56 (as windowSumsPair's first) an i32, the index of the new peak or -1 when none beat it. Scalar: the
+  ;; additions are sequential.
+  (func (export "windowSums") (param $x i32) (param $from i32) (param $n i32) (param $st i32)
+    (local $i i32) (local $end i32) (local $v f64) (local $a f64)
+    (local $sum f64) (local $sq f64) (local $peak f64) (local $at i32)
+    (local.set $sum (f64.load (local.get $st)))
+    (local.set $sq (f64.load offset=8 (local.get $st)))
+    (local.set $peak (f64.load offset=16 (local.get $st)))
+    (local.set $at (i32.const -1))
+    (local.set $i (local.get $from))
+    (local.set $end (i32.add (local.get $from) (local.get $n)))
+    (block $done
+      (loop $each
+        (br_if $done (i32.ge_s (local.get $i) (local.get $end)))
+        (local.set $v (f64.promote_f32 (f32.load (i32.add (local.get $x) (i32.shl (local.get $i) (i32.const 2))))))
+        (local.set $sum (f64.add (local.get $sum) (local.get $v)))
+        (local.set $sq (f64.add (local.get $sq) (f64.mul (local.get $v) (local.get $v))))
+        (local.set $a (f64.abs (local.get $v)))
+        (if (f64.gt (local.get $a) (local.get $peak))
+          (then (local.set $peak (local.get $a)) (local.set $at (local.get $i))))
+        (local.set $i (i32.add (local.get $i) (i32.const 1)))
+        (br $each)))
+    (f64.store (local.get $st) (local.get $sum))
+    (f64.store offset=8 (local.get $st) (local.get $sq))
+    (f64.store offset=16 (local.get $st) (local.get $peak))
+    (i32.store offset=56 (local.get $st) (local.get $at)))
+
+  ;; windowSumsPair(x, y, from, n, st): levelWindows.ts's accumulatePair for the first channel pair (blocks
+  ;; at x and y). st: f64 sumX, sumY, sum x^2, sum y^2, sum xy, peakX, peakY (read and written), then i32 at offsets 56
+  ;; and 60 the indices of the new peaks, or -1.
+  (func (export "windowSumsPair") (param $x i32) (param $y i32) (param $from i32) (param $n i32) (param $st i32)
+    (local $i i32) (local $end i32) (local $u f64) (local $v f64) (local $a f64) (local $b f64)
+    (local $sumX f64) (local $sumY f64) (local $sqX f64) (local $sqY f64) (local $xy f64) (local $peakX f64) (local $peakY f64)
+    (local $atX i32) (local $atY i32)
+    (local.set $sumX (f64.load (local.get $st)))
+    (local.set $sumY (f64.load offset=8 (local.get $st)))
+    (local.set $sqX (f64.load offset=16 (local.get $st)))
+    (local.set $sqY (f64.load offset=24 (local.get $st)))
+    (local.set $xy (f64.load offset=32 (local.get $st)))
+    (local.set $peakX (f64.load offset=40 (local.get $st)))
+    (local.set $peakY (f64.load offset=48 (local.get $st)))
+    (local.set $atX (i32.const -1))
+    (local.set $atY (i32.const -1))
+    (local.set $i (local.get $from))
+    (local.set $end (i32.add (local.get $from) (local.get $n)))
+    (block $done
+      (loop $each
+        (br_if $done (i32.ge_s (local.get $i) (local.get $end)))
+        (local.set $u (f64.promote_f32 (f32.load (i32.add (local.get $x) (i32.shl (local.get $i) (i32.const 2))))))
+        (local.set $v (f64.promote_f32 (f32.load (i32.add (local.get $y) (i32.shl (local.get $i) (i32.const 2))))))
+        (local.set $sumX (f64.add (local.get $sumX) (local.get $u)))
+        (local.set $sumY (f64.add (local.get $sumY) (local.get $v)))
+        (local.set $sqX (f64.add (local.get $sqX) (f64.mul (local.get $u) (local.get $u))))
+        (local.set $sqY (f64.add (local.get $sqY) (f64.mul (local.get $v) (local.get $v))))
+        (local.set $xy (f64.add (local.get $xy) (f64.mul (local.get $u) (local.get $v))))
+        (local.set $a (f64.abs (local.get $u)))
+        (if (f64.gt (local.get $a) (local.get $peakX))
+          (then (local.set $peakX (local.get $a)) (local.set $atX (local.get $i))))
+        (local.set $b (f64.abs (local.get $v)))
+        (if (f64.gt (local.get $b) (local.get $peakY))
+          (then (local.set $peakY (local.get $b)) (local.set $atY (local.get $i))))
+        (local.set $i (i32.add (local.get $i) (i32.const 1)))
+        (br $each)))
+    (f64.store (local.get $st) (local.get $sumX))
+    (f64.store offset=8 (local.get $st) (local.get $sumY))
+    (f64.store offset=16 (local.get $st) (local.get $sqX))
+    (f64.store offset=24 (local.get $st) (local.get $sqY))
+    (f64.store offset=32 (local.get $st) (local.get $xy))
+    (f64.store offset=40 (local.get $st) (local.get $peakX))
+    (f64.store offset=48 (local.get $st) (local.get $peakY))
+    (i32.store offset=56 (local.get $st) (local.get $atX))
+    (i32.store offset=60 (local.get $st) (local.get $atY)))
+
+  ;; fir12x7(x, s0, s1, taps, g, centre, centreAbs, out): truePeak.ts's fir12x7, operation for operation: over
+  ;; outputs n in [s0, s1) of the float32 block at x, the bound around the output's own centre samples, then
+  ;; the one around the block's centre, and where both beat the running maximum the 7 phases' 12-tap FIR
+  ;; (taps: 84 f64, phase-major; g: g0...g5 then the slack, as for localBounds). out: f64 running maximum
+  ;; (read and written) and f64 the index n*8 + k + 1 of a new one (written only when one is found).
+  ;; The sums are added left to right as the JavaScript writes them; scalar, so the same bits.
+  (func (export "fir12x7") (param $x i32) (param $s0 i32) (param $s1 i32) (param $taps i32) (param $g i32)
+    (param $centre f64) (param $centreAbs f64) (param $out i32)
+    (local $n i32) (local $k i32) (local $o i32) (local $at i32)
+    (local $best f64) (local $m f64) (local $y f64) (local $slack f64)
+    (local $g0 f64) (local $g1 f64) (local $g2 f64) (local $g3 f64) (local $g4 f64) (local $g5 f64)
+    (local $x0 f64) (local $x1 f64) (local $x2 f64) (local $x3 f64) (local $x4 f64) (local $x5 f64) (local $x6 f64) (local $x7 f64) (local $x8 f64) (local $x9 f64) (local $x10 f64) (local $x11 f64)
+    (local.set $g0 (f64.load (local.get $g)))
+    (local.set $g1 (f64.load offset=8 (local.get $g)))
+    (local.set $g2 (f64.load offset=16 (local.get $g)))
+    (local.set $g3 (f64.load offset=24 (local.get $g)))
+    (local.set $g4 (f64.load offset=32 (local.get $g)))
+    (local.set $g5 (f64.load offset=40 (local.get $g)))
+    (local.set $slack (f64.load offset=48 (local.get $g)))
+    (local.set $best (f64.load (local.get $out)))
+    (local.set $at (i32.const -1))
+    (local.set $n (local.get $s0))
+    (block $done
+      (loop $outputs
+        (br_if $done (i32.ge_s (local.get $n) (local.get $s1)))
+        (block $next
+        (local.set $x0 (f64.promote_f32 (f32.load (i32.add (local.get $x) (i32.shl (i32.sub (local.get $n) (i32.const 0)) (i32.const 2))))))
+        (local.set $x1 (f64.promote_f32 (f32.load (i32.add (local.get $x) (i32.shl (i32.sub (local.get $n) (i32.const 1)) (i32.const 2))))))
+        (local.set $x2 (f64.promote_f32 (f32.load (i32.add (local.get $x) (i32.shl (i32.sub (local.get $n) (i32.const 2)) (i32.const 2))))))
+        (local.set $x3 (f64.promote_f32 (f32.load (i32.add (local.get $x) (i32.shl (i32.sub (local.get $n) (i32.const 3)) (i32.const 2))))))
+        (local.set $x4 (f64.promote_f32 (f32.load (i32.add (local.get $x) (i32.shl (i32.sub (local.get $n) (i32.const 4)) (i32.const 2))))))
+        (local.set $x5 (f64.promote_f32 (f32.load (i32.add (local.get $x) (i32.shl (i32.sub (local.get $n) (i32.const 5)) (i32.const 2))))))
+        (local.set $x6 (f64.promote_f32 (f32.load (i32.add (local.get $x) (i32.shl (i32.sub (local.get $n) (i32.const 6)) (i32.const 2))))))
+        (local.set $x7 (f64.promote_f32 (f32.load (i32.add (local.get $x) (i32.shl (i32.sub (local.get $n) (i32.const 7)) (i32.const 2))))))
+        (local.set $x8 (f64.promote_f32 (f32.load (i32.add (local.get $x) (i32.shl (i32.sub (local.get $n) (i32.const 8)) (i32.const 2))))))
+        (local.set $x9 (f64.promote_f32 (f32.load (i32.add (local.get $x) (i32.shl (i32.sub (local.get $n) (i32.const 9)) (i32.const 2))))))
+        (local.set $x10 (f64.promote_f32 (f32.load (i32.add (local.get $x) (i32.shl (i32.sub (local.get $n) (i32.const 10)) (i32.const 2))))))
+        (local.set $x11 (f64.promote_f32 (f32.load (i32.add (local.get $x) (i32.shl (i32.sub (local.get $n) (i32.const 11)) (i32.const 2))))))
+        (local.set $m (f64.mul (f64.const 0.5) (f64.add (local.get $x5) (local.get $x6))))
+        (br_if $next (f64.le (f64.add (f64.add (f64.add (f64.add (f64.add (f64.add (f64.mul (f64.abs (local.get $m)) (local.get $slack)) (f64.mul (local.get $g5) (f64.abs (f64.sub (local.get $x5) (local.get $x6))))) (f64.mul (local.get $g4) (f64.add (f64.abs (f64.sub (local.get $x4) (local.get $m))) (f64.abs (f64.sub (local.get $x7) (local.get $m)))))) (f64.mul (local.get $g3) (f64.add (f64.abs (f64.sub (local.get $x3) (local.get $m))) (f64.abs (f64.sub (local.get $x8) (local.get $m)))))) (f64.mul (local.get $g2) (f64.add (f64.abs (f64.sub (local.get $x2) (local.get $m))) (f64.abs (f64.sub (local.get $x9) (local.get $m)))))) (f64.mul (local.get $g1) (f64.add (f64.abs (f64.sub (local.get $x1) (local.get $m))) (f64.abs (f64.sub (local.get $x10) (local.get $m)))))) (f64.mul (local.get $g0) (f64.add (f64.abs (f64.sub (local.get $x0) (local.get $m))) (f64.abs (f64.sub (local.get $x11) (local.get $m)))))) (local.get $best)))
+        (br_if $next (f64.le (f64.add (f64.add (f64.add (f64.add (f64.add (f64.add (local.get $centreAbs) (f64.mul (local.get $g5) (f64.add (f64.abs (f64.sub (local.get $x5) (local.get $centre))) (f64.abs (f64.sub (local.get $x6) (local.get $centre)))))) (f64.mul (local.get $g4) (f64.add (f64.abs (f64.sub (local.get $x4) (local.get $centre))) (f64.abs (f64.sub (local.get $x7) (local.get $centre)))))) (f64.mul (local.get $g3) (f64.add (f64.abs (f64.sub (local.get $x3) (local.get $centre))) (f64.abs (f64.sub (local.get $x8) (local.get $centre)))))) (f64.mul (local.get $g2) (f64.add (f64.abs (f64.sub (local.get $x2) (local.get $centre))) (f64.abs (f64.sub (local.get $x9) (local.get $centre)))))) (f64.mul (local.get $g1) (f64.add (f64.abs (f64.sub (local.get $x1) (local.get $centre))) (f64.abs (f64.sub (local.get $x10) (local.get $centre)))))) (f64.mul (local.get $g0) (f64.add (f64.abs (f64.sub (local.get $x0) (local.get $centre))) (f64.abs (f64.sub (local.get $x11) (local.get $centre)))))) (local.get $best)))
+        (local.set $k (i32.const 0))
+        (local.set $o (local.get $taps))
+        (block $phasesDone
+          (loop $phases
+            (br_if $phasesDone (i32.ge_s (local.get $k) (i32.const 7)))
+            (local.set $y (f64.abs (f64.add (f64.add (f64.add (f64.add (f64.add (f64.add (f64.add (f64.add (f64.add (f64.add (f64.add (f64.mul (f64.load offset=0 (local.get $o)) (local.get $x0)) (f64.mul (f64.load offset=8 (local.get $o)) (local.get $x1))) (f64.mul (f64.load offset=16 (local.get $o)) (local.get $x2))) (f64.mul (f64.load offset=24 (local.get $o)) (local.get $x3))) (f64.mul (f64.load offset=32 (local.get $o)) (local.get $x4))) (f64.mul (f64.load offset=40 (local.get $o)) (local.get $x5))) (f64.mul (f64.load offset=48 (local.get $o)) (local.get $x6))) (f64.mul (f64.load offset=56 (local.get $o)) (local.get $x7))) (f64.mul (f64.load offset=64 (local.get $o)) (local.get $x8))) (f64.mul (f64.load offset=72 (local.get $o)) (local.get $x9))) (f64.mul (f64.load offset=80 (local.get $o)) (local.get $x10))) (f64.mul (f64.load offset=88 (local.get $o)) (local.get $x11)))))
+            (if (f64.gt (local.get $y) (local.get $best))
+              (then
+                (local.set $best (local.get $y))
+                (local.set $at (i32.add (i32.add (i32.shl (local.get $n) (i32.const 3)) (local.get $k)) (i32.const 1)))))
+            (local.set $k (i32.add (local.get $k) (i32.const 1)))
+            (local.set $o (i32.add (local.get $o) (i32.const 96)))
+            (br $phases))))
+        (local.set $n (i32.add (local.get $n) (i32.const 1)))
+        (br $outputs)))
+    (if (i32.ge_s (local.get $at) (i32.const 0))
+      (then
+        (f64.store (local.get $out) (local.get $best))
+        (f64.store offset=8 (local.get $out) (f64.convert_i32_s (local.get $at))))))
+
+  ;; rangePeak(x, ranges, count, out): truePeak.ts's phase 0 over the candidate ranges (the [start, end) i32
+  ;; pairs at `ranges`, `count` numbers) of the float32 block at x: the first |x[i]| above the f64 at out
+  ;; (read), in order; writes the new maximum there and its index as an i32 at out + 8 (-1 when none beat it).
+  (func (export "rangePeak") (param $x i32) (param $ranges i32) (param $count i32) (param $out i32)
+    (local $r i32) (local $i i32) (local $end i32) (local $a f64) (local $best f64) (local $at i32)
+    (local.set $best (f64.load (local.get $out)))
+    (local.set $at (i32.const -1))
+    (block $done
+      (loop $eachRange
+        (br_if $done (i32.ge_s (local.get $r) (local.get $count)))
+        (local.set $i (i32.load (i32.add (local.get $ranges) (i32.shl (local.get $r) (i32.const 2)))))
+        (local.set $end (i32.load offset=4 (i32.add (local.get $ranges) (i32.shl (local.get $r) (i32.const 2)))))
+        (block $rangeDone
+          (loop $each
+            (br_if $rangeDone (i32.ge_s (local.get $i) (local.get $end)))
+            (local.set $a (f64.abs (f64.promote_f32 (f32.load (i32.add (local.get $x) (i32.shl (local.get $i) (i32.const 2)))))))
+            (if (f64.gt (local.get $a) (local.get $best))
+              (then (local.set $best (local.get $a)) (local.set $at (local.get $i))))
+            (local.set $i (i32.add (local.get $i) (i32.const 1)))
+            (br $each)))
+        (local.set $r (i32.add (local.get $r) (i32.const 2)))
+        (br $eachRange)))
+    (f64.store (local.get $out) (local.get $best))
+    (i32.store offset=8 (local.get $out) (local.get $at)))
 )

@@ -4,6 +4,7 @@
  * correlation and the whole-file levels are all built from these, so the per-sample work is done once.
  */
 import { FrameGrid } from "./frameGrid.ts";
+import { createLevelKernels, type LevelKernels } from "./levelKernels.ts";
 
 /** Window length: short enough to place silences and dropouts, long enough to average (common practice). */
 export const LEVEL_WINDOW_SECONDS = 0.05;
@@ -27,9 +28,17 @@ export interface LevelWindowAccumulator {
   finish(): void;
 }
 
-export function createLevelWindows(sampleRateHz: number, channels: number, onWindow: (w: LevelWindow) => void): LevelWindowAccumulator {
-  return new WindowAccumulator(sampleRateHz, channels, onWindow);
+/**
+ * `kernels: "js"` runs the JavaScript loops even where levelKernels.wat's windowSums could (tests compare the
+ * two: the same sums in the same order, so the same bits). The kernels serve short files (issue #22), where
+ * V8 would run the loops unoptimised and then spend more compiling them than they take.
+ */
+export function createLevelWindows(sampleRateHz: number, channels: number, onWindow: (w: LevelWindow) => void, kernels: "auto" | "js" = "auto"): LevelWindowAccumulator {
+  return new WindowAccumulator(sampleRateHz, channels, onWindow, kernels === "auto");
 }
+
+/** The kernels' state area: seven f64 and two i32 (levelKernels.wat's windowSumsPair), before the staged block. */
+const STATE_BYTES = 64;
 
 class WindowAccumulator implements LevelWindowAccumulator {
   private readonly grid: FrameGrid;
@@ -37,10 +46,18 @@ class WindowAccumulator implements LevelWindowAccumulator {
   private position = 0;
   private windowEnd: number;
 
+  /** The block staged in the kernels' memory, channel after channel (null: the JavaScript loops run). */
+  private kernels: LevelKernels | null = null;
+  private stage: Float32Array | null = null;
+  private stageFrames = 0;
+  private stateF64: Float64Array | null = null;
+  private stateI32: Int32Array | null = null;
+
   constructor(
     sampleRateHz: number,
     private readonly channels: number,
     private readonly onWindow: (w: LevelWindow) => void,
+    private useKernels: boolean,
   ) {
     this.grid = new FrameGrid(sampleRateHz, LEVEL_WINDOW_SECONDS);
     this.windowEnd = this.grid.boundary(1);
@@ -56,20 +73,89 @@ class WindowAccumulator implements LevelWindowAccumulator {
     };
   }
 
+  /** Copies the block into the kernels' memory (a new instance when it outgrows the last); false without kernels. */
+  private staged(input: Float32Array[], frames: number): boolean {
+    if (!this.useKernels) return false;
+    if (this.kernels === null || frames > this.stageFrames) {
+      const kernels = createLevelKernels(STATE_BYTES + this.channels * frames * 4);
+      if (kernels === null) {
+        this.useKernels = false;
+        return false;
+      }
+      this.kernels = kernels;
+      this.stageFrames = Math.floor((kernels.memory.buffer.byteLength - STATE_BYTES) / (4 * this.channels));
+      this.stage = new Float32Array(kernels.memory.buffer, STATE_BYTES, this.channels * this.stageFrames);
+      this.stateF64 = new Float64Array(kernels.memory.buffer, 0, 7);
+      this.stateI32 = new Int32Array(kernels.memory.buffer, 56, 2);
+    }
+    for (let c = 0; c < this.channels; c++) (this.stage as Float32Array).set(input[c].subarray(0, frames), c * this.stageFrames);
+    return true;
+  }
+
   push(input: Float32Array[], frames: number): void {
+    const staged = this.staged(input, frames);
     let at = 0;
     while (at < frames) {
       const n = Math.min(frames - at, this.windowEnd - this.position);
       let c = 0;
       if (this.channels >= 2) {
         // The first pair in one loop with Σx₀x₁: independent sums overlap, and the data is read once.
-        this.accumulatePair(input[0], input[1], at, n);
+        if (staged) this.accumulatePairStaged(at, n);
+        else this.accumulatePair(input[0], input[1], at, n);
         c = 2;
       }
-      for (; c < this.channels; c++) this.accumulate(c, input[c], at, n);
+      for (; c < this.channels; c++) {
+        if (staged) this.accumulateStaged(c, at, n);
+        else this.accumulate(c, input[c], at, n);
+      }
       at += n;
       this.position += n;
       if (this.position === this.windowEnd) this.emit();
+    }
+  }
+
+  /** accumulate in levelKernels.wat's windowSums, on the staged block. */
+  private accumulateStaged(c: number, from: number, n: number): void {
+    const w = this.window;
+    const st = this.stateF64 as Float64Array;
+    const at = this.stateI32 as Int32Array;
+    st[0] = w.sum[c];
+    st[1] = w.sumSquares[c];
+    st[2] = w.peakAbs[c];
+    (this.kernels as LevelKernels).windowSums(STATE_BYTES + 4 * c * this.stageFrames, from, n, 0);
+    w.sum[c] = st[0];
+    w.sumSquares[c] = st[1];
+    if (at[0] >= 0) {
+      w.peakAbs[c] = st[2];
+      w.peakFrame[c] = this.position + (at[0] - from);
+    }
+  }
+
+  /** accumulatePair in levelKernels.wat's windowSumsPair, on the staged block. */
+  private accumulatePairStaged(from: number, n: number): void {
+    const w = this.window;
+    const st = this.stateF64 as Float64Array;
+    const at = this.stateI32 as Int32Array;
+    st[0] = w.sum[0];
+    st[1] = w.sum[1];
+    st[2] = w.sumSquares[0];
+    st[3] = w.sumSquares[1];
+    st[4] = w.crossProduct;
+    st[5] = w.peakAbs[0];
+    st[6] = w.peakAbs[1];
+    (this.kernels as LevelKernels).windowSumsPair(STATE_BYTES, STATE_BYTES + 4 * this.stageFrames, from, n, 0);
+    w.sum[0] = st[0];
+    w.sum[1] = st[1];
+    w.sumSquares[0] = st[2];
+    w.sumSquares[1] = st[3];
+    w.crossProduct = st[4];
+    if (at[0] >= 0) {
+      w.peakAbs[0] = st[5];
+      w.peakFrame[0] = this.position + (at[0] - from);
+    }
+    if (at[1] >= 0) {
+      w.peakAbs[1] = st[6];
+      w.peakFrame[1] = this.position + (at[1] - from);
     }
   }
 

@@ -225,6 +225,12 @@ class PolyphaseTruePeakMeter implements TruePeakMeter {
   private readonly extendedAt: number[] = [];
   private readonly rangesAt: number = 0;
   private readonly boundAt: number = 0;
+  /** The flat taps (84 f64) and fir12x7's running maximum and index (2 f64) in the kernels' memory. */
+  private readonly tapsAt: number = 0;
+  private readonly firOutAt: number = 0;
+  private readonly firOut: Float64Array | null = null;
+  /** rangePeak's index, the i32 at firOutAt + 8. */
+  private readonly firOutAt8: Int32Array | null = null;
   private readonly peak: Float64Array;
   private readonly peakFrame: Float64Array;
   /** Flat taps, phase-major, for the unrolled kernels. */
@@ -254,8 +260,10 @@ class PolyphaseTruePeakMeter implements TruePeakMeter {
     for (let c = 0; c < channels; c++, at += align(4 * extLength)) this.extendedAt.push(at);
     this.rangesAt = at;
     this.boundAt = align(at + 4 * rangesLength);
+    this.tapsAt = this.boundAt + 7 * 8;
+    this.firOutAt = this.tapsAt + 8 * filter.phases.length * filter.tapsPerPhase;
     // Input is taken BLOCK_FRAMES at a time, so the memory is made at its full size once.
-    const kernels = (this.kernels = useKernels ? createLevelKernels(this.boundAt + 7 * 8) : null);
+    const kernels = (this.kernels = useKernels ? createLevelKernels(this.firOutAt + 2 * 8) : null);
     if (kernels) {
       this.extended = this.extendedAt.map((b) => new Float32Array(kernels.memory.buffer, b, extLength));
       this.extendedBits = this.extendedAt.map((b) => new Int32Array(kernels.memory.buffer, b, extLength));
@@ -277,6 +285,9 @@ class PolyphaseTruePeakMeter implements TruePeakMeter {
       const bound = new Float64Array(kernels.memory.buffer, this.boundAt, 7);
       bound.set(this.foldedTapMax.subarray(0, 6));
       bound[6] = BOUND_SLACK;
+      new Float64Array(kernels.memory.buffer, this.tapsAt, this.taps.length).set(this.taps);
+      this.firOut = new Float64Array(kernels.memory.buffer, this.firOutAt, 2);
+      this.firOutAt8 = new Int32Array(kernels.memory.buffer, this.firOutAt + 8, 1);
     }
   }
 
@@ -347,15 +358,23 @@ class PolyphaseTruePeakMeter implements TruePeakMeter {
         : flagByBits(this.extendedBits[c], h, end, taps, float32BitsAtMost(threshold), ranges);
     if (count === 0) return;
 
-    // (2a) Phase 0: the block's sample peak lies in the ranges if it beats the running maximum.
+    // (2a) Phase 0: the block's sample peak lies in the ranges if it beats the running maximum (in the
+    // kernels' rangePeak when there are: the same compares in the same order).
     let best = this.peak[c];
     let bestAt = -1;
-    for (let r = 0; r < count; r += 2) {
-      for (let i = ranges[r]; i < ranges[r + 1]; i++) {
-        const a = Math.abs(ext[i]);
-        if (a > best) {
-          best = a;
-          bestAt = i;
+    if (kernels && this.firOut) {
+      this.firOut[0] = best;
+      kernels.rangePeak(this.extendedAt[c], this.rangesAt, count, this.firOutAt);
+      best = this.firOut[0];
+      bestAt = (this.firOutAt8 as Int32Array)[0];
+    } else {
+      for (let r = 0; r < count; r += 2) {
+        for (let i = ranges[r]; i < ranges[r + 1]; i++) {
+          const a = Math.abs(ext[i]);
+          if (a > best) {
+            best = a;
+            bestAt = i;
+          }
         }
       }
     }
@@ -385,12 +404,17 @@ class PolyphaseTruePeakMeter implements TruePeakMeter {
   }
 
   private computeOutputs(c: number, ext: Float32Array, s0: number, s1: number, centre: number, centreAbs: number): void {
-    const out = this.kernelOut;
+    const { factor, tapsPerPhase, phases } = this.filter;
+    const fast = tapsPerPhase === 12 && factor === 8;
+    // fir12x7 in the kernels when there are (the same operations; issue #22: run a few hundred times a
+    // short file, the JavaScript was optimised at more cost than its run).
+    const kernels = fast ? this.kernels : null;
+    const out = kernels ? (this.firOut as Float64Array) : this.kernelOut;
     out[0] = this.peak[c];
     out[1] = -1;
-    const { factor, tapsPerPhase, phases } = this.filter;
     const g = this.foldedTapMax;
-    if (tapsPerPhase === 12 && factor === 8) fir12x7(ext, s0, s1, this.taps, g, centre, centreAbs, out);
+    if (kernels) kernels.fir12x7(this.extendedAt[c], s0, s1, this.tapsAt, this.boundAt, centre, centreAbs, this.firOutAt);
+    else if (fast) fir12x7(ext, s0, s1, this.taps, g, centre, centreAbs, out);
     else firGeneric(ext, s0, s1, this.taps, g, centre, centreAbs, phases.length, tapsPerPhase, out);
     if (out[1] >= 0) {
       const n = Math.floor(out[1] / factor);

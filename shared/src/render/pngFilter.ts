@@ -6,14 +6,13 @@
  * JavaScript's loops would run unoptimised for most of it (≈ 35 ms of a one-file scan's start-up, issue #22);
  * the JavaScript below gives the same bytes (tests/shared/pngFilter.test.ts) and runs where WebAssembly does not.
  */
-import { kernelModule } from "../wasm/kernelModule.ts";
+import { kernelModule, type KernelInstance } from "../wasm/kernelModule.ts";
+import { imageMemoryOf, pngWorkBytes, RGB_STORE_SLACK } from "./imageMemory.ts";
 import { WASM_MODULE_BYTES } from "./pngFilter.generated.ts";
 
 /** The filter-type byte of a Paeth row. */
 export const PNG_FILTER_PAETH = 4;
 const BYTES_PER_PIXEL = 3;
-/** The SIMD RGB conversion writes 16 bytes for 12: room past the last pixel. */
-const STORE_SLACK = 16;
 
 const instantiate = kernelModule(WASM_MODULE_BYTES);
 
@@ -32,26 +31,37 @@ const ROWS_A_CALL = 16;
 /**
  * The filtered scanlines ((3·width + 1)·height bytes) of `rgba` (4·width·height bytes). `useWasm: false`
  * runs the JavaScript loops (tests compare the two).
+ *
+ * Pixels in an image memory (createImage, imageMemory.ts) are filtered where they lie, and the scanlines
+ * returned are a view of that memory's work area: valid until the image's memory is used again (painted or
+ * filtered anew), which nothing does once an image is encoded. Other pixels are copied into a memory made
+ * for the call, dropped with it (a worker keeps no 10 MB between files), and the scanlines copied out.
  */
 export function pngScanlines(rgba: Uint8Array, width: number, height: number, useWasm = true): Uint8Array {
   const pixels = width * height;
   if (rgba.length !== pixels * 4) throw new Error(`RGBA data for ${width}×${height} must hold ${pixels * 4} bytes, got ${rgba.length}`);
   const rowBytes = width * BYTES_PER_PIXEL;
   const outBytes = (rowBytes + 1) * height;
-  // A memory per image, dropped with it: a worker keeps no 10 MB between files.
-  const rgbAt = rgba.length;
-  const outAt = rgbAt + pixels * BYTES_PER_PIXEL + STORE_SLACK;
-  const kernels = useWasm ? instantiate(outAt + outBytes) : null;
+  const inPlace = useWasm ? imageMemoryOf(rgba) : null;
+  let kernels: KernelInstance | null = null;
+  let rgbAt = rgba.length;
+  if (inPlace && inPlace.workBytes >= pngWorkBytes(width, height)) {
+    kernels = instantiate.on(inPlace.memory);
+    rgbAt = inPlace.workAt;
+  }
+  const copied = kernels === null;
+  if (copied && useWasm) kernels = instantiate(rgbAt + pngWorkBytes(width, height));
   if (!kernels) return paethRows(toRgb(rgba, pixels), rowBytes, height);
+  const outAt = rgbAt + pixels * BYTES_PER_PIXEL + RGB_STORE_SLACK;
   const memory = new Uint8Array(kernels.memory.buffer);
-  memory.set(rgba, 0);
+  if (copied) memory.set(rgba, 0);
   const k = kernels.exports as unknown as PngFilterExports;
   for (let y = 0; y < height; y += ROWS_A_CALL) {
     const rows = Math.min(ROWS_A_CALL, height - y);
     k.rgb(4 * y * width, rows * width, rgbAt + rowBytes * y);
   }
   for (let y = 0; y < height; y += ROWS_A_CALL) k.paeth(rgbAt, rowBytes, y, Math.min(height, y + ROWS_A_CALL), outAt);
-  return memory.slice(outAt, outAt + outBytes);
+  return copied ? memory.slice(outAt, outAt + outBytes) : memory.subarray(outAt, outAt + outBytes);
 }
 
 /**

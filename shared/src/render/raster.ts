@@ -3,6 +3,8 @@
  * Everything stays opaque (alpha 255), so the PNG is what a viewer shows on any background.
  */
 import type { RgbaImage } from "../types/analysis.ts";
+import { fillInPlace } from "./gridPaint.ts";
+import { allocateImageData } from "./imageMemory.ts";
 
 export type Rgb = readonly [number, number, number];
 
@@ -10,7 +12,8 @@ export function createImage(width: number, height: number, background: Rgb): Rgb
   if (!Number.isInteger(width) || width < 1 || !Number.isInteger(height) || height < 1) {
     throw new Error(`image size must be positive whole pixels, got ${width}×${height}`);
   }
-  const data = new Uint8Array(width * height * 4);
+  // In an image memory: painted and filtered for PNG in place (imageMemory.ts).
+  const data = allocateImageData(width, height);
   data[0] = background[0];
   data[1] = background[1];
   data[2] = background[2];
@@ -46,6 +49,8 @@ export function fillRect(image: RgbaImage, x: number, y: number, w: number, h: n
   const y0 = Math.max(0, Math.round(y));
   const x1 = Math.min(image.width, Math.round(x + w));
   const y1 = Math.min(image.height, Math.round(y + h));
+  if (x1 <= x0 || y1 <= y0) return;
+  if (fillInPlace(image.data, image.width, x0, x1, y0, y1, colour, alpha)) return;
   const d = image.data;
   const [r, g, b] = colour;
   for (let py = y0; py < y1; py++) {

@@ -4,6 +4,7 @@
  * rasterised by Skia); shared/ stays free of I/O and native code, and only blends the coverage it is given.
  */
 import type { RgbaImage } from "../types/analysis.ts";
+import { blendMaskInPlace } from "./gridPaint.ts";
 import type { Rgb } from "./raster.ts";
 
 /** One line of text as anti-aliased coverage (0 … 255, row after row), placed relative to the pen. */
@@ -81,6 +82,9 @@ function blendCoverage(image: RgbaImage, mask: TextCoverage, left: number, top: 
   const y0 = Math.max(0, -top);
   const y1 = Math.min(mask.height, image.height - top);
   const k = alpha / 255;
+  if (x1 <= x0 || y1 <= y0) return;
+  // In gridPaint.wat where the pixels lie in an image memory: the same bytes (tests/shared/text.test.ts).
+  if (blendMaskInPlace(d, image.width, mask, left, top, { x0, x1, y0, y1 }, colour, k)) return;
   for (let my = y0; my < y1; my++) {
     let i = ((top + my) * image.width + left + x0) * 4;
     let m = my * mask.width + x0;

@@ -7,6 +7,7 @@
  * resamplers' anti-imaging filters (transition bands of a few percent) always do.
  */
 import type { LongTermSpectrum } from "./longTermSpectrum.ts";
+import { medianSmoothKernel } from "./medianKernels.ts";
 
 /** Bins below this power count as −200 dB: far under 32-bit float rounding (≈ −150 dB re FS), so digital silence is a finite floor. */
 const FLOOR_POWER = 1e-20;
@@ -157,8 +158,12 @@ const SMOOTHING_WIDEN = 2 ** (SMOOTHING_OCTAVES / 2) - 1;
  * are the same values as sorting each window (tests/shared/bandwidth.test.ts). A spectrum holding NaN
  * takes the sorting path, whose built-in sort puts NaN last.
  */
-export function medianSmooth(levelDb: Float64Array, top: number): Float64Array {
+export function medianSmooth(levelDb: Float64Array, top: number, kernels: "auto" | "js" = "auto"): Float64Array {
   for (let k = 0; k <= top; k++) if (levelDb[k] !== levelDb[k]) return medianSmoothSorting(levelDb, top);
+  // The same loop in medianKernels.wat where WebAssembly is (issue #22: a short file's few calls ran it
+  // unoptimised, then paid for optimising it twice).
+  const fromKernel = kernels === "auto" ? medianSmoothKernel(levelDb, top, SMOOTHING_WIDEN) : null;
+  if (fromKernel) return fromKernel;
   const out = new Float64Array(levelDb.length);
   out.set(levelDb);
   const sorted = new Float64Array(2 * 32 + 1);

@@ -10,9 +10,12 @@
  *   fft.js at 512 … 65536 points with the copies in and out; its rounding sits ≈ 135 dB below a frame's
  *   strongest bin, far under any level the analysis reports.
  * - `spectrum` / `pairSpectrum` (complex output: the fingerprint) stay on fft.js in double precision,
- *   which issue #4 checks against a naive DFT to 1e-9.
+ *   which issue #4 checks against a naive DFT to 1e-9, as does `engine: "fft.js"` (the fine spectrum). Its
+ *   transforms run as fftJsKernels.wat where WebAssembly is, fft.js's own code with the same bits
+ *   (tests/shared/fftJsKernels.test.ts): a short file's few transforms never got V8's optimised code.
  */
 import FFT from "fft.js";
+import { createFftJsKernel, type FftJsKernel } from "./fftJsKernels.ts";
 import { pffftRealPlan } from "./pffft.ts";
 import { createSpectrumKernels } from "./spectrumKernels.ts";
 
@@ -141,9 +144,12 @@ export function createSpectrumAnalyzer(fftSize: number, options: SpectrumAnalyze
   // fft.js and its buffers only once a caller needs them: the STFT path never does when PFFFT serves it.
   let fft: FFT | null = null;
   let windowed: Float64Array | null = null;
-  let complex: Float64Array | null = null;
+  let scratch: Float64Array | null = null;
   let pairInput: Float64Array | null = null;
   const fftJs = (): FFT => (fft ??= fftJsPlan(fftSize));
+  // fft.js's transforms in WebAssembly, made on the first transform (null: fft.js itself runs).
+  let kernel: FftJsKernel | null | undefined;
+  const fftJsKernel = (): FftJsKernel | null => (kernel === undefined ? (kernel = createFftJsKernel(fftSize, window)) : kernel);
 
   function checkFrame(frame: SampleFrame): void {
     if (frame.length < fftSize) {
@@ -155,17 +161,24 @@ export function createSpectrumAnalyzer(fftSize: number, options: SpectrumAnalyze
     if (out.length < binCount) throw new Error(`out must hold binCount = ${binCount} values, got ${out.length}`);
   }
 
-  function transform(frame: SampleFrame, out: Float64Array): void {
+  /**
+   * fft.js's realTransform of the windowed frame: the kernel's output, or `out` (2·fftSize values at least;
+   * null: a scratch array, made on first need).
+   */
+  function transform(frame: SampleFrame, out: Float64Array | null): Float64Array {
     checkFrame(frame);
+    const k = fftJsKernel();
+    if (k) return k.windowedRealTransform(frame);
     windowed ??= new Float64Array(fftSize);
     for (let n = 0; n < fftSize; n++) windowed[n] = frame[n] * window[n];
+    const into = out ?? (scratch ??= new Float64Array(2 * fftSize));
     // realTransform fills bins 0 … N/2 (the left half); the mirrored half is never needed here.
-    fftJs().realTransform(out, windowed);
+    fftJs().realTransform(into, windowed);
+    return into;
   }
 
   function amplitudeSquaredFftJs(frame: SampleFrame, out: Float32Array | Float64Array): void {
-    complex ??= new Float64Array(2 * fftSize);
-    transform(frame, complex);
+    const complex = transform(frame, null);
     const last = binCount - 1;
     out[0] = complex[0] * complex[0] * edgeScale;
     for (let k = 1; k < last; k++) {
@@ -359,13 +372,19 @@ export function createSpectrumAnalyzer(fftSize: number, options: SpectrumAnalyze
       if (out.length < 2 * fftSize) {
         throw new Error(`out must hold 2 × fftSize = ${2 * fftSize} values, got ${out.length}`);
       }
-      transform(frame, out);
+      const spectrum = transform(frame, out);
+      if (spectrum !== out) out.set(spectrum);
     },
     pairSpectrum(a, b, out) {
       checkFrame(a);
       checkFrame(b);
       if (out.length < 2 * fftSize) {
         throw new Error(`out must hold 2 × fftSize = ${2 * fftSize} values, got ${out.length}`);
+      }
+      const k = fftJsKernel();
+      if (k) {
+        out.set(k.windowedPairTransform(a, b));
+        return;
       }
       pairInput ??= new Float64Array(2 * fftSize);
       for (let n = 0; n < fftSize; n++) {

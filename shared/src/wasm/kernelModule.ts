@@ -33,8 +33,30 @@ export interface KernelInstance {
   readonly exports: Record<string, unknown>;
 }
 
-/** Instantiates the module with a fresh memory of at least `memoryBytes` (one page at least), or null. */
-export type KernelInstantiator = (memoryBytes: number) => KernelInstance | null;
+/**
+ * Instantiates the module with a fresh memory of at least `memoryBytes` (one page at least), or null.
+ * `on(memory)` instead instantiates it on a memory made elsewhere (createKernelMemory), which instances of
+ * other modules may share: an image's pixels, painted by one module and filtered for PNG by another, then
+ * stay in one memory and are never copied between them (issue #22). One instance per memory, kept with it.
+ */
+export interface KernelInstantiator {
+  (memoryBytes: number): KernelInstance | null;
+  on(memory: WasmMemory): KernelInstance | null;
+}
+
+/**
+ * A memory of at least `bytes` for kernel instances to share (`instantiator.on(memory)`), or null where
+ * this runtime has no WebAssembly or no address space left for it. Never grown, like every kernel memory.
+ */
+export function createKernelMemory(bytes: number): WasmMemory | null {
+  const api = (globalThis as { WebAssembly?: WasmApi }).WebAssembly;
+  if (!api) return null;
+  try {
+    return new api.Memory({ initial: Math.max(1, Math.ceil(bytes / WASM_PAGE_BYTES)) });
+  } catch {
+    return null;
+  }
+}
 
 /** Instances a module keeps for reuse, per memory size, and in all (bytes): a 1 s stereo file uses 1.7 MB in all modules, so this holds a worker's two files and more, and keeps a long scan's idle memories small. */
 const POOLED_PER_SIZE = 4;
@@ -101,18 +123,29 @@ export function createKernelArena(): KernelArena {
 export function kernelModule(bytes: Uint8Array): KernelInstantiator {
   let compiled: object | null | undefined;
   const pool: Pool = { free: new Map(), held: new Set(), bytes: 0 };
-  return (memoryBytes) => {
+  const onMemory = new WeakMap<WasmMemory, KernelInstance>();
+  const compile = (api: WasmApi): object | null => {
+    // No validate() first: compiling validates too, and throws for a module this runtime cannot run (no SIMD).
+    if (compiled === undefined) {
+      try {
+        compiled = new api.Module(bytes);
+      } catch {
+        compiled = null;
+      }
+    }
+    return compiled;
+  };
+  const instantiate = (memoryBytes: number): KernelInstance | null => {
     const api = (globalThis as { WebAssembly?: WasmApi }).WebAssembly;
     if (!api) return null;
     try {
-      // No validate() first: compiling validates too, and throws for a module this runtime cannot run (no SIMD).
-      if (compiled === undefined) compiled = new api.Module(bytes);
-      if (compiled === null) return null;
+      const module = compile(api);
+      if (module === null) return null;
       const pages = Math.max(1, Math.ceil(memoryBytes / WASM_PAGE_BYTES));
       const arena = currentArena;
       if (arena === null) {
         const memory = new api.Memory({ initial: pages });
-        return { memory, exports: new api.Instance(compiled, { env: { memory } }).exports };
+        return { memory, exports: new api.Instance(module, { env: { memory } }).exports };
       }
       let instance = pool.free.get(pages)?.pop();
       if (instance) {
@@ -122,15 +155,30 @@ export function kernelModule(bytes: Uint8Array): KernelInstantiator {
         new Uint8Array(instance.memory.buffer).fill(0);
       } else {
         const memory = new api.Memory({ initial: pages });
-        instance = { memory, exports: new api.Instance(compiled, { env: { memory } }).exports };
+        instance = { memory, exports: new api.Instance(module, { env: { memory } }).exports };
         poolOf.set(instance, pool);
       }
       arena.instances.push(instance);
       return instance;
     } catch {
-      // Compilation refused (policy) stays refused; an instance that found no address space may be retried.
-      if (compiled === undefined) compiled = null;
+      // Compilation refused (policy) stays refused (compile()); an instance that found no address space may be retried.
       return null;
     }
   };
+  const on = (memory: WasmMemory): KernelInstance | null => {
+    const known = onMemory.get(memory);
+    if (known) return known;
+    const api = (globalThis as { WebAssembly?: WasmApi }).WebAssembly;
+    if (!api) return null;
+    try {
+      const module = compile(api);
+      if (module === null) return null;
+      const instance = { memory, exports: new api.Instance(module, { env: { memory } }).exports };
+      onMemory.set(memory, instance);
+      return instance;
+    } catch {
+      return null;
+    }
+  };
+  return Object.assign(instantiate, { on });
 }
