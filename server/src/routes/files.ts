@@ -45,8 +45,7 @@ export function filesRouter(ctx: AppContext): Router {
 
   router.get("/files", requirePermission("view"), listQuery, async (_req, res) => {
     const query = listQuery.of(res);
-    // Counted as in flight, so a background count waits until the list is quiet.
-    const { rows, total, totalIsEstimate, nextCursor, prevCursor } = await totals.during(() => listFiles(ctx.sequelize, query, totals));
+    const { rows, total, totalIsEstimate, nextCursor, prevCursor } = await listFiles(ctx.sequelize, query, totals);
     // With a cursor, `page` is the caller's own label for where it is; the server reads from the cursor.
     const body: FilePage = {
       items: rows.map(toFileSummaryDtoFromRow),

@@ -25,7 +25,7 @@ import type { z } from "zod";
 import { fileQuerySchema } from "@tidemark/shared/contracts/files";
 import { FILE_SORT_KEYS, type FileSortKey, type FindingSummaryDto, type ReviewState } from "@tidemark/shared/types/api";
 import type { AudioFormat, Verdict } from "@tidemark/shared/types/report";
-import { EXACT_COUNT_MAX, type ListTotals } from "./listTotals.ts";
+import { EXACT_COUNT_MAX, type Counting, type ListTotals } from "./listTotals.ts";
 
 /** A position in one sort: the sort value as PostgreSQL prints it (exact, µs and all) and the row id. */
 export interface FileCursor {
@@ -318,18 +318,19 @@ export async function listFiles(sequelize: Sequelize, query: FileListQuery, tota
   const filters = listConditions(query);
   const filterKey = JSON.stringify([query.batch, query.collection, query.verdict, query.reviewState, query.finding, query.q, query.container]);
   const filterSql = whereSql(filters.conds);
-  const counting = {
+  const countSql = `select count(*) as n from file_results f ${filterSql}`;
+  const counting: Counting = {
     // On one core: a parallel count of a million rows would take every core from the pages being served.
     count: () =>
       sequelize.transaction(async (transaction) => {
         await sequelize.query(`set local max_parallel_workers_per_gather = 0`, { transaction });
-        const [row] = await sequelize.query<{ n: string }>(`select count(*) as n from file_results f ${filterSql}`, {
-          bind: filters.bind,
-          type: QueryTypes.SELECT,
-          transaction,
-        });
+        const [row] = await sequelize.query<{ n: string }>(countSql, { bind: filters.bind, type: QueryTypes.SELECT, transaction });
         return Number(row.n);
       }),
+    // A set of at most EXACT_COUNT_MAX expected rows is not counted in parallel anyway: one round trip
+    // instead of four (BEGIN, SET LOCAL, SELECT, COMMIT). A batch's first page (every batch view is a new
+    // filter) went from eight round trips to five; each costs the server ≈ 0.3 ms of CPU under load.
+    countInline: () => sequelize.query<{ n: string }>(countSql, { bind: filters.bind, type: QueryTypes.SELECT }).then(([row]) => Number(row.n)),
     estimate: () =>
       query.q !== undefined
         ? searchEstimate(sequelize, query)
