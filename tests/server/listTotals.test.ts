@@ -106,6 +106,38 @@ describe("list totals", () => {
     expect(await totals.count("verdict=fail", b.how)).toEqual({ total: 20_000, exact: true });
   });
 
+  it("uses a version the caller has read already instead of reading it again", async () => {
+    let reads = 0;
+    const sequelize = { query: async () => (reads++, [{ version: "1" }]) } as unknown as Sequelize;
+    const totals = createListTotals(sequelize);
+    const c = counter(480, 500);
+    expect(await totals.count("batch=3", c.how, "1")).toEqual({ total: 480, exact: true });
+    expect(await totals.count("batch=3", c.how, "1")).toEqual({ total: 480, exact: true });
+    expect(reads).toBe(0);
+    expect(c.calls.count).toBe(1);
+    // A newer version from the caller is a change: the total is counted again.
+    expect(await totals.count("batch=3", c.how, "2")).toEqual({ total: 480, exact: true });
+    expect(c.calls.count).toBe(2);
+    // Without one, the totals read it themselves.
+    await totals.count("batch=3", c.how);
+    expect(reads).toBe(1);
+  });
+
+  it("counts a small set with the inline count and a large one with the background count", async () => {
+    const { sequelize } = fakeDb();
+    const totals = createListTotals(sequelize);
+    const used: string[] = [];
+    const how = (estimate: number) => ({
+      count: async () => (used.push("background"), estimate + 1),
+      countInline: async () => (used.push("inline"), estimate - 1),
+      estimate: async () => estimate,
+    });
+    expect(await totals.count("batch=3", how(480))).toEqual({ total: 479, exact: true });
+    expect(await totals.count("finding=hum", how(47_900))).toEqual({ total: 47_900, exact: false });
+    await totals.settled();
+    expect(used).toEqual(["inline", "background"]);
+  });
+
   it("reports a failed background count and keeps answering with the estimate", async () => {
     const { sequelize } = fakeDb();
     const errors: string[] = [];

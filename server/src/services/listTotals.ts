@@ -14,8 +14,17 @@ const MAX_ENTRIES = 1000;
 /** Up to this many expected matches the exact count runs inline: it is cheap, and small totals are read closely. */
 export const EXACT_COUNT_MAX = 5_000;
 
+export interface Counting {
+  /** The exact count, as the background runs it. */
+  count: () => Promise<number>;
+  /** The same count for a small set, made inline (fewer round trips than `count` where that matters). */
+  countInline?: () => Promise<number>;
+  estimate: () => Promise<number>;
+}
+
 export interface ListTotals {
-  count(filterKey: string, how: { count: () => Promise<number>; estimate: () => Promise<number> }): Promise<{ total: number; exact: boolean }>;
+  /** `version`: file_list_version's version when the caller has read it already (in its page's statement). */
+  count(filterKey: string, how: Counting, version?: string): Promise<{ total: number; exact: boolean }>;
   /** Resolves once no background count (or its pause) is running. */
   settled(): Promise<void>;
 }
@@ -23,22 +32,25 @@ export interface ListTotals {
 export function createListTotals(sequelize: Sequelize, onError: (message: string) => void = () => undefined): ListTotals {
   const cache = new Map<string, { version: string; total: number; exact: boolean }>();
   let background: Promise<void> | null = null;
+  const readVersion = async (): Promise<string> => {
+    const [row] = await sequelize.query<{ version: string }>(`select version from file_list_version`, { type: QueryTypes.SELECT });
+    return row?.version ?? "none";
+  };
   const remember = (filterKey: string, version: string, total: number, exact = true): void => {
     if (cache.size >= MAX_ENTRIES && !cache.has(filterKey)) cache.delete(cache.keys().next().value!);
     cache.set(filterKey, { version, total, exact });
   };
   return {
-    async count(filterKey, how) {
+    async count(filterKey, how, known) {
       // Read before counting: a change committed in between gets a newer version, so no stale total survives it.
-      const [row] = await sequelize.query<{ version: string }>(`select version from file_list_version`, { type: QueryTypes.SELECT });
-      const version = row?.version ?? "none";
+      const version = known ?? (await readVersion());
       const hit = cache.get(filterKey);
       if (hit && hit.version === version && hit.exact) return { total: hit.total, exact: true };
       // A total counted before the latest change is usually closer than an estimate (and free); an
       // estimate already made for this version is not made again.
       const guess = hit ? hit.total : await how.estimate();
       if (guess <= EXACT_COUNT_MAX) {
-        const total = await how.count();
+        const total = await (how.countInline ?? how.count)();
         remember(filterKey, version, total);
         return { total, exact: true };
       }
