@@ -158,10 +158,13 @@ it("lets a healthy worker measure every file while a worker without the storage 
 
 it("exits within the grace period when stopped while the server is down, leaving its job to the heartbeat limit", { timeout: 90_000 }, async () => {
   const folder = path.join(dir, "outage");
-  writeTransferSet(folder, 1, 60);
+  writeTransferSet(folder, 1, 240);
   const runId = await enqueue(folder, "server outage");
   const worker = startWorker("stranded", ["--grace", "3"]);
   const held = await until("the worker to hold the job", () => ScanJobAttempt.findOne({ where: { worker: "stranded", endedAt: null } }));
+  // The claim's row is written just before its answer reaches the worker: give the answer a moment, so the
+  // server does not go down between the two (240 s of audio keeps the worker busy for well over that moment).
+  await new Promise((r) => setTimeout(r, 300));
   await server!.kill("SIGKILL");
   worker.child.kill("SIGTERM");
   const stoppedAt = Date.now();
