@@ -72,9 +72,11 @@ describe("session and user in one query", () => {
     const { agent, user } = await t.signIn("auditor");
     const sessionQueries = vi.spyOn(t.db.sessionPool, "query");
     const findByPk = vi.spyOn(User, "findByPk");
-    const logging = t.db.sequelize.options.logging;
+    // Sequelize reads its `logging` option on every query: a way to see each one it sends.
+    const options = (t.db.sequelize as unknown as { options: { logging: unknown } }).options;
+    const logging = options.logging;
     const sequelizeQueries: string[] = [];
-    t.db.sequelize.options.logging = (sql: string) => sequelizeQueries.push(sql);
+    options.logging = (sql: string) => sequelizeQueries.push(sql);
     try {
       const res = await agent.get("/api/session");
       expect(res.status).toBe(200);
@@ -83,7 +85,7 @@ describe("session and user in one query", () => {
       expect(findByPk).not.toHaveBeenCalled();
       expect(sequelizeQueries).toEqual([]);
     } finally {
-      t.db.sequelize.options.logging = logging;
+      options.logging = logging;
       sessionQueries.mockRestore();
       findByPk.mockRestore();
     }
