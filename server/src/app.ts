@@ -4,7 +4,6 @@
  */
 import { existsSync } from "node:fs";
 import path from "node:path";
-import connectPgSimple from "connect-pg-simple";
 import express, { Router, type Express } from "express";
 import session from "express-session";
 import helmet from "helmet";
@@ -18,6 +17,7 @@ import { csrfProtection } from "./middleware/csrf.ts";
 import { errorHandler, notFoundHandler } from "./middleware/errorHandler.ts";
 import { requestId } from "./middleware/requestId.ts";
 import { noStore } from "./middleware/noStore.ts";
+import { SessionUserStore } from "./middleware/sessionStore.ts";
 import { rejectBadText } from "./middleware/textGuard.ts";
 import { initModels } from "./models/index.ts";
 import { auditRouter } from "./routes/audit.ts";
@@ -48,11 +48,11 @@ export interface AppDeps {
 }
 
 function sessionMiddleware(deps: AppDeps, settings: AppSettings, logger: Logger): express.RequestHandler {
-  const PgStore = connectPgSimple(session);
   return session({
     name: SESSION_COOKIE,
     secret: settings.sessionSecret,
-    store: new PgStore({
+    // Loads the session and its user in one query (middleware/sessionStore.ts).
+    store: new SessionUserStore({
       pool: deps.db.sessionPool,
       tableName: "sessions",
       createTableIfMissing: false,

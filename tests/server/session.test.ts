@@ -1,8 +1,8 @@
 /** Sign-in, cookies, CSRF, rate limiting, password policy, tokens, disabled users. */
 import request from "supertest";
-import { afterAll, beforeAll, describe, expect, it } from "vitest";
+import { afterAll, beforeAll, describe, expect, it, vi } from "vitest";
 import { CSRF_HEADER } from "@tidemark/shared/types/api";
-import { AuditEntry } from "../../server/src/models/index.ts";
+import { AuditEntry, User } from "../../server/src/models/index.ts";
 import { startTestApp, TEST_PASSWORD, type TestApp } from "./helpers/testApp.ts";
 
 
@@ -63,6 +63,56 @@ describe("session cookie", () => {
     const { agent } = await t.signIn("technician");
     expect((await agent.get("/api/session")).status).toBe(200);
     expect((await agent.delete("/api/session").set(CSRF_HEADER, "1")).status).toBe(204);
+    expect((await agent.get("/api/session")).status).toBe(401);
+  });
+});
+
+describe("session and user in one query", () => {
+  it("loads a signed-in request's session and user in a single query, and no other", async () => {
+    const { agent, user } = await t.signIn("auditor");
+    const sessionQueries = vi.spyOn(t.db.sessionPool, "query");
+    const findByPk = vi.spyOn(User, "findByPk");
+    // Sequelize reads its `logging` option on every query: a way to see each one it sends.
+    const options = (t.db.sequelize as unknown as { options: { logging: unknown } }).options;
+    const logging = options.logging;
+    const sequelizeQueries: string[] = [];
+    options.logging = (sql: string) => sequelizeQueries.push(sql);
+    try {
+      const res = await agent.get("/api/session");
+      expect(res.status).toBe(200);
+      expect(res.body.user).toMatchObject({ id: user.id, email: user.email, role: "auditor" });
+      expect(sessionQueries).toHaveBeenCalledTimes(1);
+      expect(findByPk).not.toHaveBeenCalled();
+      expect(sequelizeQueries).toEqual([]);
+    } finally {
+      options.logging = logging;
+      sessionQueries.mockRestore();
+      findByPk.mockRestore();
+    }
+  });
+
+  it("sees a role change, a disabled account and a deleted account on the very next request", async () => {
+    const { agent, user } = await t.signIn("auditor");
+    expect((await agent.get("/api/session")).body.user.role).toBe("auditor");
+    await user.update({ role: "supervisor" });
+    expect((await agent.get("/api/session")).body.user.role).toBe("supervisor");
+    await user.update({ disabled: true });
+    expect((await agent.get("/api/session")).status).toBe(401);
+    // A disabled user's session forgets them: enabling the account again does not sign it back in.
+    await user.update({ disabled: false });
+    expect((await agent.get("/api/session")).status).toBe(401);
+    const again = await t.signInAs(user.email);
+    expect((await again.get("/api/session")).status).toBe(200);
+    await User.destroy({ where: { id: user.id } });
+    expect((await again.get("/api/session")).status).toBe(401);
+  });
+
+  it("does not honour a session past its expiry", async () => {
+    const { agent, user } = await t.signIn("technician");
+    expect((await agent.get("/api/session")).status).toBe(200);
+    await t.db.sequelize.query(`update sessions set expire = now() - interval '1 second' where (sess->>'userId') = :id`, {
+      replacements: { id: String(user.id) },
+    });
     expect((await agent.get("/api/session")).status).toBe(401);
   });
 });

@@ -9,6 +9,7 @@ import { forbidden, unauthorized } from "../errors.ts";
 import { User } from "../models/index.ts";
 import { can, type Permission } from "../permissions.ts";
 import { splitToken, verifyApiToken } from "../services/apiTokens.ts";
+import { sessionUserOf } from "./sessionStore.ts";
 
 type Credentials = { id: string; secret: string } | "malformed" | null;
 
@@ -33,7 +34,9 @@ export const authenticate: RequestHandler = async (req, res, next) => {
   }
   const userId = req.session?.userId;
   if (userId !== undefined) {
-    const user = await User.findByPk(userId);
+    // Loaded with the session in one query; read apart only when the store did not.
+    const loaded = sessionUserOf(req, userId);
+    const user = loaded === undefined ? await User.findByPk(userId) : loaded;
     if (user && !user.disabled) res.locals.auth = { user, via: "session", tokenId: null };
     else delete req.session.userId;
   }
