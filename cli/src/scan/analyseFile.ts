@@ -17,7 +17,7 @@ import type { AudioFormat, FileReport, Finding, ReportError } from "@tidemark/sh
 import type { AnalysisSettings } from "@tidemark/shared/types/settings";
 import { readerFindings } from "@tidemark/shared/wav/readerFindings";
 import { DEFAULT_BLOCK_FRAMES, readAudioFile, type AudioFileResult } from "../audio/readAudioFile.ts";
-import { encodePng, encodePngAsync } from "../render/encodePng.ts";
+import { encodePngAsync } from "../render/encodePng.ts";
 import { oneLine } from "../errors.ts";
 import { errorReport } from "./errorReport.ts";
 import { displayPath, type FsPath } from "./rawPath.ts";
@@ -127,17 +127,8 @@ async function writeImages(
   (await import("../render/fontTypesetter.ts")).installFontTypesetter();
   const { width, height } = settings.spectrogram;
   const markers = findings.filter((f) => f.startSeconds !== null && f.severity !== "info");
-  const png = (paint: () => RgbaImage): Buffer => {
-    const t0 = performance.now();
-    const image = paint();
-    const t1 = performance.now();
-    const bytes = encodePng(image);
-    timings.paint += t1 - t0;
-    timings.png += performance.now() - t1;
-    return bytes;
-  };
-  // The overview PNGs are deflated on the thread pool and written while this thread draws on (their
-  // bytes as encodePng's); every one is waited for before the file counts as done.
+  // Every PNG (overview and close-ups) is deflated on the thread pool and written while this thread draws
+  // on (their bytes as encodePng's); every write is waited for before the file counts as done.
   const writing: Promise<void>[] = [];
   const writePng = (file: string, paint: () => RgbaImage): void => {
     const t0 = performance.now();
@@ -161,7 +152,7 @@ async function writeImages(
     writePng(paths.png, () => renderSpectrogramImage(grids.spectrogram, { width, height, markers, title: task.relPath }));
     writePng(paths.waveform, () => renderWaveformImage(grids.waveform, { width, height: WAVEFORM_HEIGHT_PX, markers }));
     closeups = ctx.closeups
-      ? await writeCloseups({ analysed, findings, format, target, relPath: task.relPath, settings, waveformHeightPx: WAVEFORM_HEIGHT_PX, png })
+      ? writeCloseups({ analysed, findings, format, target, relPath: task.relPath, settings, waveformHeightPx: WAVEFORM_HEIGHT_PX, writePng, write: (file, bytes) => writing.push(writeFile(file, bytes)) })
       : null;
     for (const [c, grid] of (grids.channelSpectrograms ?? []).entries()) {
       writePng(channelPath(c), () => renderSpectrogramImage(grid, { width, height, markers, title: channelTitle(c) }));
