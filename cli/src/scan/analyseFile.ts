@@ -88,6 +88,7 @@ export interface AnalyseTimings {
   closeups: number;
   render: number;
   paint: number;
+  /** Wall time from the first PNG handed to the thread pool until the last one deflated (they overlap one another and the painting). */
   png: number;
   /** Time on a core of the thread that measured the file (opening to the images), and of its spectral thread (0 without one). */
   threadCpu: number;
@@ -130,14 +131,16 @@ async function writeImages(
   // Every PNG (overview and close-ups) is deflated on the thread pool and written while this thread draws
   // on (their bytes as encodePng's); every write is waited for before the file counts as done.
   const writing: Promise<void>[] = [];
+  let firstPng = NaN;
   const writePng = (file: string, paint: () => RgbaImage): void => {
     const t0 = performance.now();
     const image = paint();
     const t1 = performance.now();
     timings.paint += t1 - t0;
+    if (Number.isNaN(firstPng)) firstPng = t1;
     writing.push(
       encodePngAsync(image).then((bytes) => {
-        timings.png += performance.now() - t1;
+        timings.png = performance.now() - firstPng;
         return writeFile(file, bytes);
       }),
     );
