@@ -132,18 +132,26 @@ async function writeImages(
   // on (their bytes as encodePng's); every write is waited for before the file counts as done.
   const writing: Promise<void>[] = [];
   let firstPng = NaN;
-  const writePng = (file: string, paint: () => RgbaImage): void => {
+  const writePng = (file: string, paint: () => RgbaImage): Promise<void> => {
     const t0 = performance.now();
     const image = paint();
     const t1 = performance.now();
     timings.paint += t1 - t0;
     if (Number.isNaN(firstPng)) firstPng = t1;
-    writing.push(
-      encodePngAsync(image).then((bytes) => {
-        timings.png = performance.now() - firstPng;
-        return writeFile(file, bytes);
-      }),
-    );
+    const written = encodePngAsync(image).then((bytes) => {
+      timings.png = performance.now() - firstPng;
+      return writeFile(file, bytes);
+    });
+    // Handled here too: a write that fails while this thread still draws must not count as unhandled.
+    written.catch(() => undefined);
+    writing.push(written);
+    return written;
+  };
+  const write = (file: string, bytes: string | Uint8Array): Promise<void> => {
+    const written = writeFile(file, bytes);
+    written.catch(() => undefined);
+    writing.push(written);
+    return written;
   };
   await mkdir(path.dirname(paths.png), { recursive: true });
   const channelTitle = (c: number): string => `${task.relPath} (channel ${c + 1})`;
@@ -155,7 +163,7 @@ async function writeImages(
     writePng(paths.png, () => renderSpectrogramImage(grids.spectrogram, { width, height, markers, title: task.relPath }));
     writePng(paths.waveform, () => renderWaveformImage(grids.waveform, { width, height: WAVEFORM_HEIGHT_PX, markers }));
     closeups = ctx.closeups
-      ? writeCloseups({ analysed, findings, format, target, relPath: task.relPath, settings, waveformHeightPx: WAVEFORM_HEIGHT_PX, writePng, write: (file, bytes) => writing.push(writeFile(file, bytes)) })
+      ? await writeCloseups({ analysed, findings, format, target, relPath: task.relPath, settings, waveformHeightPx: WAVEFORM_HEIGHT_PX, writePng, write })
       : null;
     for (const [c, grid] of (grids.channelSpectrograms ?? []).entries()) {
       writePng(channelPath(c), () => renderSpectrogramImage(grid, { width, height, markers, title: channelTitle(c) }));
