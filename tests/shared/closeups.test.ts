@@ -5,7 +5,10 @@
  */
 import { describe, expect, it } from "vitest";
 import { createCloseupCapture, type CapturedSegment } from "../../shared/src/closeups/closeupCapture.ts";
-import { closeupColumns, closeupSpectrogramGrid, closeupWaveform } from "../../shared/src/closeups/closeupImages.ts";
+import { closeupColumns, closeupFftSize, closeupSpectrogramGrid, closeupWaveform } from "../../shared/src/closeups/closeupImages.ts";
+import { createSpectrumAnalyzer, type SpectrumAnalyzer } from "../../shared/src/spectral/fft.ts";
+import { assembleGrid, createSpectrogramAccumulator, spectrogramRowLayout } from "../../shared/src/spectral/spectrogramGrid.ts";
+import { evenSchedule, frameStart } from "../../shared/src/spectral/stftSchedule.ts";
 import { selectCloseups } from "../../shared/src/closeups/closeupSelection.ts";
 import { encodeWavExcerpt, excerptFormatFor } from "../../shared/src/closeups/wavExcerpt.ts";
 import type { Finding } from "../../shared/src/types/report.ts";
@@ -189,6 +192,66 @@ describe("close-up pictures and excerpt", () => {
     expect(Array.from(samples[0])).toEqual(Array.from(left, (v) => Math.round(v * 8388608)));
     expect(Array.from(samples[1])).toEqual(Array.from(right, (v) => Math.round(v * 8388608)));
     expect((wav.fmt as { sampleRate: number }).sampleRate).toBe(48000);
+  });
+
+  it("averages the channels' powers exactly: two or four copies of a channel draw the mono grid to the bit, three channels the per-channel mean", () => {
+    // closeupImages.ts sums the channels' powers in the transform and scales once when the share is a power
+    // of two (IEEE 754: scaling by 2^-k is exact), else adds the scaled powers: both must equal the mean
+    // computed the plain way, here from fft.ts's amplitudeSquared and the same accumulator.
+    const rate = 48000;
+    const frames = rate;
+    const noise = (seed: number): Float32Array => {
+      const x = new Float32Array(frames);
+      let s = seed;
+      for (let i = 0; i < frames; i++) {
+        s = (s * 1103515245 + 12345) >>> 0;
+        x[i] = Math.round((s / 2 ** 32 - 0.5) * 2 ** 23) / 2 ** 23;
+      }
+      return x;
+    };
+    const a = noise(1);
+    const mono = closeupSpectrogramGrid([a], rate, 100, 80, "log");
+    expect(Array.from(closeupSpectrogramGrid([a, a], rate, 100, 80, "log").db)).toEqual(Array.from(mono.db));
+    expect(Array.from(closeupSpectrogramGrid([a, a, a, a], rate, 100, 80, "log").db)).toEqual(Array.from(mono.db));
+    const three = [a, noise(2), noise(3)];
+    const fftSize = closeupFftSize(frames, rate);
+    const analyzer = createSpectrumAnalyzer(fftSize);
+    const layout = spectrogramRowLayout(80, "log", rate, fftSize);
+    const schedule = evenSchedule(frames, fftSize, Math.floor((frames - fftSize) / 100));
+    const accumulator = createSpectrogramAccumulator({ columns: 100, layout, rowFrom: 0, rowTo: 80, aggregate: "max", binHz: rate / fftSize, binCount: analyzer.binCount, powerScale: 1, schedule, totalFrames: frames });
+    const power = new Float64Array(analyzer.binCount);
+    const mean = new Float64Array(analyzer.binCount);
+    for (let k = 0; k < schedule.frameCount; k++) {
+      const start = frameStart(schedule, k);
+      mean.fill(0);
+      for (const x of three) {
+        analyzer.amplitudeSquared(x.subarray(start, start + fftSize), power);
+        for (let b = 0; b < power.length; b++) mean[b] += power[b] / 3;
+      }
+      accumulator.addFrame(mean, k);
+    }
+    const reference = assembleGrid([{ accumulator }], 100, layout, frames / rate, rate);
+    const shared = new Map<number, SpectrumAnalyzer>();
+    expect(Array.from(closeupSpectrogramGrid(three, rate, 100, 80, "log", shared).db)).toEqual(Array.from(reference.db));
+    // A second close-up with the analysers of the first draws the same grid.
+    expect(shared.size).toBe(1);
+    expect(Array.from(closeupSpectrogramGrid(three, rate, 100, 80, "log", shared).db)).toEqual(Array.from(reference.db));
+  });
+
+  it("interleaves three channels of 16-bit and of float excerpts as wavefile (npm) reads them back", () => {
+    const channels = [Float32Array.from([0, 1 / 32768, -1, 0.5]), Float32Array.from([-0.25, 32767 / 32768, 3 / 32768, 0]), Float32Array.from([0.125, -2 / 32768, 0, -0.5])];
+    const pcm = new WaveFile(encodeWavExcerpt(channels, 44100, { bitDepth: 16, float: false }));
+    const ints = pcm.getSamples(false, Int32Array) as unknown as Int32Array[];
+    for (let c = 0; c < 3; c++) expect(Array.from(ints[c])).toEqual(Array.from(channels[c], (v) => Math.round(v * 32768)));
+    // wavefile reads a WAVE_FORMAT_EXTENSIBLE float stream as 32-bit integers: their bits are the floats.
+    const float = new WaveFile(encodeWavExcerpt(channels, 44100, { bitDepth: 32, float: true }));
+    const bits = float.getSamples(false, Float64Array) as unknown as Float64Array[];
+    for (let c = 0; c < 3; c++) expect(Array.from(new Float32Array(Int32Array.from(bits[c]).buffer))).toEqual(Array.from(channels[c]));
+    expect((float.fmt as { numChannels: number }).numChannels).toBe(3);
+    // Two channels: a plain IEEE-float stream (format tag 3), which wavefile reads as floats.
+    const stereo = new WaveFile(encodeWavExcerpt(channels.slice(0, 2), 44100, { bitDepth: 32, float: true }));
+    const floats = stereo.getSamples(false, Float64Array) as unknown as Float64Array[];
+    for (let c = 0; c < 2; c++) expect(Array.from(floats[c])).toEqual(Array.from(channels[c]));
   });
 
   it("writes no excerpt above 96 kHz or 8 channels, float for float and 32-bit sources", () => {

@@ -17,7 +17,7 @@ import type { AudioFormat, FileReport, Finding, ReportError } from "@tidemark/sh
 import type { AnalysisSettings } from "@tidemark/shared/types/settings";
 import { readerFindings } from "@tidemark/shared/wav/readerFindings";
 import { DEFAULT_BLOCK_FRAMES, readAudioFile, type AudioFileResult } from "../audio/readAudioFile.ts";
-import { encodePng, encodePngAsync } from "../render/encodePng.ts";
+import { encodePngAsync } from "../render/encodePng.ts";
 import { oneLine } from "../errors.ts";
 import { errorReport } from "./errorReport.ts";
 import { displayPath, type FsPath } from "./rawPath.ts";
@@ -88,6 +88,7 @@ export interface AnalyseTimings {
   closeups: number;
   render: number;
   paint: number;
+  /** Wall time from the first PNG handed to the thread pool until the last one deflated (they overlap one another and the painting). */
   png: number;
   /** Time on a core of the thread that measured the file (opening to the images), and of its spectral thread (0 without one). */
   threadCpu: number;
@@ -127,29 +128,30 @@ async function writeImages(
   (await import("../render/fontTypesetter.ts")).installFontTypesetter();
   const { width, height } = settings.spectrogram;
   const markers = findings.filter((f) => f.startSeconds !== null && f.severity !== "info");
-  const png = (paint: () => RgbaImage): Buffer => {
-    const t0 = performance.now();
-    const image = paint();
-    const t1 = performance.now();
-    const bytes = encodePng(image);
-    timings.paint += t1 - t0;
-    timings.png += performance.now() - t1;
-    return bytes;
-  };
-  // The overview PNGs are deflated on the thread pool and written while this thread draws on (their
-  // bytes as encodePng's); every one is waited for before the file counts as done.
+  // Every PNG (overview and close-ups) is deflated on the thread pool and written while this thread draws
+  // on (their bytes as encodePng's); every write is waited for before the file counts as done.
   const writing: Promise<void>[] = [];
-  const writePng = (file: string, paint: () => RgbaImage): void => {
+  let firstPng = NaN;
+  const writePng = (file: string, paint: () => RgbaImage): Promise<void> => {
     const t0 = performance.now();
     const image = paint();
     const t1 = performance.now();
     timings.paint += t1 - t0;
-    writing.push(
-      encodePngAsync(image).then((bytes) => {
-        timings.png += performance.now() - t1;
-        return writeFile(file, bytes);
-      }),
-    );
+    if (Number.isNaN(firstPng)) firstPng = t1;
+    const written = encodePngAsync(image).then((bytes) => {
+      timings.png = performance.now() - firstPng;
+      return writeFile(file, bytes);
+    });
+    // Handled here too: a write that fails while this thread still draws must not count as unhandled.
+    written.catch(() => undefined);
+    writing.push(written);
+    return written;
+  };
+  const write = (file: string, bytes: string | Uint8Array): Promise<void> => {
+    const written = writeFile(file, bytes);
+    written.catch(() => undefined);
+    writing.push(written);
+    return written;
   };
   await mkdir(path.dirname(paths.png), { recursive: true });
   const channelTitle = (c: number): string => `${task.relPath} (channel ${c + 1})`;
@@ -161,7 +163,7 @@ async function writeImages(
     writePng(paths.png, () => renderSpectrogramImage(grids.spectrogram, { width, height, markers, title: task.relPath }));
     writePng(paths.waveform, () => renderWaveformImage(grids.waveform, { width, height: WAVEFORM_HEIGHT_PX, markers }));
     closeups = ctx.closeups
-      ? await writeCloseups({ analysed, findings, format, target, relPath: task.relPath, settings, waveformHeightPx: WAVEFORM_HEIGHT_PX, png })
+      ? await writeCloseups({ analysed, findings, format, target, relPath: task.relPath, settings, waveformHeightPx: WAVEFORM_HEIGHT_PX, writePng, write })
       : null;
     for (const [c, grid] of (grids.channelSpectrograms ?? []).entries()) {
       writePng(channelPath(c), () => renderSpectrogramImage(grid, { width, height, markers, title: channelTitle(c) }));
