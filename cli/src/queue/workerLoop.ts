@@ -98,6 +98,8 @@ interface Held {
   settled: boolean;
   /** The server said it took the job back (logged once). */
   lost?: boolean;
+  /** Its result is on its way: a heartbeat that crosses it finds the job already done, which is no loss. */
+  delivering?: boolean;
 }
 
 export function startWorkerLoop(o: WorkerLoopOptions): WorkerControl {
@@ -198,7 +200,7 @@ export function startWorkerLoop(o: WorkerLoopOptions): WorkerControl {
       contact();
       for (const id of body.lost) {
         const entry = held.get(id);
-        if (!entry || entry.lost) continue;
+        if (!entry || entry.lost || entry.settled || entry.delivering) continue;
         entry.lost = true;
         o.log(`job ${id} ${entry.job.path}: the server took it back (this worker was silent too long, or a supervisor sent it back); its result is still sent if it gets there first`);
       }
@@ -217,6 +219,7 @@ export function startWorkerLoop(o: WorkerLoopOptions): WorkerControl {
   const deliver = async (entry: Held, outcome: JobOutcome, startedAt: number): Promise<void> => {
     const { job } = entry;
     let backoffMs = 1_000;
+    entry.delivering = true;
     try {
       for (;;) {
         try {
