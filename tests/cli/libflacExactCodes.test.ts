@@ -10,6 +10,7 @@ import { mkdtempSync, readFileSync, rmSync } from "node:fs";
 import { tmpdir } from "node:os";
 import path from "node:path";
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
+import { createFlacStreamDecoder } from "../../cli/src/audio/flacStreamDecoder.ts";
 import { createLibflacFrames, LIBFLAC_DIVISORS_AT, useExactCodes } from "../../cli/src/audio/libflacFrames.ts";
 import { createFlacFramer } from "../../shared/src/flac/flacFramer.ts";
 import { readFlacLayout } from "../../shared/src/flac/flacLayout.ts";
@@ -97,5 +98,32 @@ describe.runIf(hasFlac)("libFLAC frames with exact codes, against Debian's flac 
     scaled.free();
     expect(checked).toBe(3 * 48000);
     expect(mismatches).toBe(0);
+  });
+
+  it("8-bit stereo from sox (the JavaScript rescaling, one MD5 byte a sample): samples as flac -d's, and flac's STREAMINFO MD5 holds", async () => {
+    const wav = path.join(dir, "s8.wav");
+    const flac = path.join(dir, "s8.flac");
+    const raw = path.join(dir, "s8.raw");
+    execFileSync("sox", ["-n", "-r", "48000", "-c", "2", "-b", "8", "-e", "unsigned-integer", wav, "synth", "2", "whitenoise", "vol", "0.7"]);
+    execFileSync("flac", ["-s", "-f", "-5", wav, "-o", flac]);
+    execFileSync("flac", ["-s", "-f", "-d", "--force-raw-format", "--endian=little", "--sign=signed", flac, "-o", raw]);
+    const pcm = new Int8Array(readFileSync(raw).buffer.slice(0));
+    const bytes = new Uint8Array(readFileSync(flac));
+    const layout = await readFlacLayout(byteSourceFromBytes(bytes));
+    expect(layout.streamInfo.bitsPerSample).toBe(8);
+    let frames = 0;
+    let mismatches = 0;
+    const decoder = await createFlacStreamDecoder(layout, 4096, (block) => {
+      for (let c = 0; c < 2; c++) {
+        for (let i = 0; i < block.frames; i++) if (block.channels[c][i] !== pcm[(block.startFrame + i) * 2 + c] / 128) mismatches++;
+      }
+      frames += block.frames;
+    });
+    for (let at = 0; at < bytes.length; at += 65536) await decoder.push(bytes.subarray(at, Math.min(bytes.length, at + 65536)), at);
+    await decoder.finish();
+    expect(frames).toBe(2 * 48000);
+    expect(mismatches).toBe(0);
+    // Checked (no unset finding) and equal (no mismatch): the MD5 input bytes are the codes flac hashed.
+    expect(decoder.findings.map((f) => f.code)).toEqual([]);
   });
 });
