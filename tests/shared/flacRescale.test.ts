@@ -61,4 +61,34 @@ describe.each([16, 24])("FLAC stereo rescaling, %i bits", (bits) => {
     expect(kernel.md5[md5At + n * 2 * width]).toBe(0xee);
     if (md5At > 0) expect(kernel.md5[md5At - 1]).toBe(0xee);
   });
+  it.each([
+    [0, 0, 0],
+    [8, 12, 3],
+    [100, 500, 1],
+  ])("stereoExact: the same samples and MD5 bytes from the codes themselves (from %i, into %i, MD5 at byte %i)", (from, to, md5At) => {
+    const kernel = k!;
+    const n = 400;
+    const left = codesFor(bits, capacity);
+    const right = codesFor(bits, capacity).reverse();
+    // libFLAC with its divisors set to 1 (cli/src/audio/libflacFrames.ts): float32(code), exact up to 24 bits.
+    for (let i = 0; i < capacity; i++) {
+      kernel.input[i] = left[i];
+      kernel.input[capacity + i] = right[i];
+    }
+    kernel.md5.fill(0xee);
+    kernel.left.fill(7);
+    kernel.stereoExact(from, n, to, md5At, width, 1 / full);
+    for (let i = 0; i < n; i++) {
+      expect(kernel.left[to + i]).toBe(left[from + i] / full);
+      expect(kernel.right[to + i]).toBe(right[from + i] / full);
+      for (let b = 0; b < width; b++) {
+        const at = md5At + i * 2 * width + b;
+        expect(kernel.md5[at], `frame ${i} left byte ${b}`).toBe((left[from + i] >> (8 * b)) & 0xff);
+        expect(kernel.md5[at + width], `frame ${i} right byte ${b}`).toBe((right[from + i] >> (8 * b)) & 0xff);
+      }
+    }
+    expect(kernel.md5[md5At + n * 2 * width]).toBe(0xee);
+    if (md5At > 0) expect(kernel.md5[md5At - 1]).toBe(0xee);
+    expect(kernel.left[to + n]).toBe(7);
+  });
 });

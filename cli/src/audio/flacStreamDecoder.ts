@@ -52,9 +52,12 @@ export async function createFlacStreamDecoder(
     throw new WavFormatError("unsupported-encoding", `FLAC with ${bits}-bit samples is not decoded: 4 to 32 bits expected (RFC 9639, 8.2)`);
   }
   // Frames reach libFLAC stating their own rate and depth: it is never given STREAMINFO (explicitHeaderFrames.ts).
-  const libflac = withExplicitHeaders(await createLibflacFrames(), layout.streamInfo, containerDepth(bits)!);
-  const decoder = DECODABLE_BITS.has(bits) ? libflac : wrapOddDepthFrames(libflac, layout.streamInfo);
-  return new FlacStream(layout, blockFrames, onBlock, decoder);
+  // Up to 24 bits at a depth libFLAC hands out, the codes themselves (libflacFrames.ts, useExactCodes).
+  const native = DECODABLE_BITS.has(bits);
+  const frames = await createLibflacFrames({ exactCodes: native && bits <= 24 });
+  const libflac = withExplicitHeaders(frames, layout.streamInfo, containerDepth(bits)!);
+  const decoder = native ? libflac : wrapOddDepthFrames(libflac, layout.streamInfo);
+  return new FlacStream(layout, blockFrames, onBlock, decoder, frames.exactCodes === true);
 }
 
 /**
@@ -93,6 +96,8 @@ class FlacStream implements FlacStreamDecoder {
     private readonly blockFrames: number,
     private readonly onBlock: (block: AudioBlock) => void,
     private readonly decoder: LibflacFrames,
+    /** libFLAC hands out the codes themselves (divisor 1) instead of code / (2^(bits−1) − 1). */
+    private readonly exactCodes: boolean,
   ) {
     const channels = layout.channels;
     this.framer = createFlacFramer(layout.streamInfo, layout.dataOffset, {
@@ -108,7 +113,8 @@ class FlacStream implements FlacStreamDecoder {
     this.planar = this.kernel ? [this.kernel.left, this.kernel.right] : Array.from({ length: channels }, () => new Float32Array(blockFrames));
     this.md5Buffer = this.kernel ? this.kernel.md5 : new Uint8Array(this.md5 ? MD5_BATCH_BYTES : 0);
     this.md5Words = new Uint32Array(this.md5Buffer.buffer, this.md5Buffer.byteOffset, this.md5Buffer.length >> 2);
-    this.libScale = 2 ** (bits - 1) - 1;
+    // The JavaScript loops recover the code as round(x · libScale) either way; the kernel skips that for exact codes.
+    this.libScale = exactCodes ? 1 : 2 ** (bits - 1) - 1;
     this.inverse = 1 / 2 ** (bits - 1);
   }
 
@@ -159,7 +165,7 @@ class FlacStream implements FlacStreamDecoder {
   }
 
   /**
-   * libFLAC's WebAssembly build divides by 2^(bits−1) − 1; the codes are recovered exactly (up to 24 bits) and
+   * libFLAC's WebAssembly build divides by 2^(bits−1) − 1 (by 1 with `exactCodes`); the codes are recovered exactly (up to 24 bits) and
    * put on the reader's common scale, 2^(bits−1), so a FLAC and the WAV it came from give identical samples.
    * The same pass writes the codes, interleaved little-endian in whole bytes, as STREAMINFO's MD5 input.
    * `data` is planar with `stride` samples a channel; the first `frames` of each are taken.
@@ -320,7 +326,8 @@ class FlacStream implements FlacStreamDecoder {
     this.filled += frames;
     this.md5Filled += frames * rowBytes;
     const n4 = frames & ~3;
-    kernel.stereo(from, n4, to, base, width, this.libScale, bias, offset, this.inverse);
+    if (this.exactCodes) kernel.stereoExact(from, n4, to, base, width, this.inverse);
+    else kernel.stereo(from, n4, to, base, width, this.libScale, bias, offset, this.inverse);
     const input = kernel.input;
     const capacity = this.layout.streamInfo.maxBlockSize;
     const out = this.md5Buffer;

@@ -18,6 +18,7 @@
  * the caller's truncated finding). tests/cli/flacStreamEnd.test.ts checks this on files made by Debian's flac.
  */
 import type { FlacStreamInfo } from "./flacLayout.ts";
+import { createFlacFrameScan, type FlacFrameScan } from "./flacFrameScan.ts";
 
 export interface FlacFrameHeader {
   /** First sample of the frame (frame number × nominal block size in fixed-blocksize streams). */
@@ -151,11 +152,16 @@ export interface FlacFramer {
   readonly nextSample: number;
 }
 
+export interface FlacFramerOptions {
+  /** Search and CRC-16 in WebAssembly (flacFrameScan.ts) where it runs (default); false: the JavaScript loops, same results. */
+  wasm?: boolean;
+}
+
 /**
  * `firstOffset` is the file offset of the first byte pushed; STREAMINFO's total (0 = unknown) bounds the gaps.
  */
-export function createFlacFramer(info: FlacStreamInfo, firstOffset: number, events: FlacFramerEvents): FlacFramer {
-  return new Framer(info, firstOffset, events);
+export function createFlacFramer(info: FlacStreamInfo, firstOffset: number, events: FlacFramerEvents, options: FlacFramerOptions = {}): FlacFramer {
+  return new Framer(info, firstOffset, events, options.wasm !== false);
 }
 
 /**
@@ -190,14 +196,39 @@ export function crc16(b: Uint8Array, from: number, to: number, crc: number): num
   return c;
 }
 
+/** The frame scan in JavaScript: where WebAssembly's SIMD is missing, or asked for (tests). */
+function javaScriptFrameScan(capacity: number): FlacFrameScan {
+  const bytes = new Uint8Array(capacity);
+  // indexOf on a view ending at `end`, so a search never runs on through stale bytes past it.
+  let view = bytes.subarray(0, 0);
+  return {
+    bytes,
+    sync(from, end) {
+      if (view.length !== end) view = bytes.subarray(0, end);
+      for (let q = from; q < end; q++) {
+        q = view.indexOf(0xff, q);
+        if (q < 0) return -1;
+        if (q + 1 === end || (bytes[q + 1] & 0xfe) === 0xf8) return q;
+      }
+      return -1;
+    },
+    crc16: (from, to, crc) => crc16(bytes, from, to, crc),
+  };
+}
+
+function frameScan(capacity: number, wasm: boolean): FlacFrameScan {
+  return (wasm ? createFlacFrameScan(capacity, CRC16_16) : null) ?? javaScriptFrameScan(capacity);
+}
+
 class Framer implements FlacFramer {
   nextSample = 0;
   /** A frame can hardly exceed its raw PCM size plus headers (RFC 9639, 10: the verbatim fallback). */
   private readonly maxFrameBytes: number;
+  /** The buffer and its sync search and CRC-16 (WebAssembly or JavaScript). */
+  private scanner: FlacFrameScan;
   private buf: Uint8Array;
-  /** buf[0, len): the bytes held; `view` is that range, for indexOf. */
+  /** buf[0, len): the bytes held. */
   private len = 0;
-  private view: Uint8Array;
   /** File offset of buf[0]. */
   private base: number;
   /** File offset just past the last frame settled (decoded, lost or cut off). */
@@ -223,10 +254,11 @@ class Framer implements FlacFramer {
     private readonly info: FlacStreamInfo,
     firstOffset: number,
     private readonly events: FlacFramerEvents,
+    private readonly wasm: boolean,
   ) {
     this.maxFrameBytes = Math.max(info.maxBlockSize * info.channels * Math.ceil((info.bitsPerSample + 1) / 8) + 1024, info.maxFrameSize) + 64;
-    this.buf = new Uint8Array(Math.max(1 << 20, 2 * this.maxFrameBytes));
-    this.view = this.buf.subarray(0, 0);
+    this.scanner = frameScan(Math.max(1 << 20, 2 * this.maxFrameBytes), wasm);
+    this.buf = this.scanner.bytes;
     this.base = firstOffset;
     this.endOffset = firstOffset;
   }
@@ -390,10 +422,13 @@ class Framer implements FlacFramer {
       // Drop what is done; grow only when one frame plus the new bytes need it.
       const keepFrom = this.cur ? this.curStart : Math.max(0, this.scan - 1);
       const kept = this.len - keepFrom;
-      const target = kept + bytes.length > this.buf.length ? new Uint8Array(Math.max(this.buf.length * 2, kept + bytes.length)) : this.buf;
-      if (target === this.buf) target.copyWithin(0, keepFrom, this.len);
-      else target.set(this.buf.subarray(keepFrom, this.len), 0);
-      this.buf = target;
+      if (kept + bytes.length > this.buf.length) {
+        // A new buffer (and kernel memory, which is never grown) for a frame longer than this one holds.
+        const grown = frameScan(Math.max(this.buf.length * 2, kept + bytes.length), this.wasm);
+        grown.bytes.set(this.buf.subarray(keepFrom, this.len), 0);
+        this.scanner = grown;
+        this.buf = grown.bytes;
+      } else this.buf.copyWithin(0, keepFrom, this.len);
       this.len = kept;
       this.base += keepFrom;
       this.curStart -= keepFrom;
@@ -404,7 +439,6 @@ class Framer implements FlacFramer {
     }
     this.buf.set(bytes, this.len);
     this.len += bytes.length;
-    this.view = this.buf.subarray(0, this.len);
   }
 
   private gapTo(sample: number, offset: number, why: string): void {
@@ -477,17 +511,14 @@ class Framer implements FlacFramer {
     for (;;) {
       const b = this.buf;
       const len = this.len;
-      const q = this.view.indexOf(0xff, this.scan);
+      // The next sync code, or a 0xFF in the last byte held that the next bytes may make one.
+      const q = this.scanner.sync(this.scan, len);
       if (q < 0 || q + 1 >= len) {
         if (q >= 0 && !isFinal) this.scan = q;
         else this.scan = Math.max(this.scan, len);
         // A frame that never ends within any real frame's length is given up; the search starts again.
         if (this.cur && len - this.curStart > this.maxFrameBytes) this.giveUp();
         else return;
-        continue;
-      }
-      if ((b[q + 1] & 0xfe) !== 0xf8) {
-        this.scan = q + 1;
         continue;
       }
       if (q + MAX_HEADER_BYTES > len && !isFinal) {
@@ -506,7 +537,7 @@ class Framer implements FlacFramer {
         this.giveUp();
         continue;
       }
-      this.crc = crc16(b, this.crcPos, q, this.crc);
+      this.crc = this.scanner.crc16(this.crcPos, q, this.crc);
       this.crcPos = q;
       if (this.crc === 0) this.lastZero = q;
       const expected = h.sampleNumber + h.blockSize;

@@ -28,10 +28,13 @@ export interface FlacRescale {
    * byte `md5At`, `width` (2 or 3) bytes a code; scale, bias, offset and inverse as in the reader's loop.
    */
   stereo(from: number, n: number, to: number, md5At: number, width: number, scale: number, bias: number, offset: number, inverse: number): void;
+  /** As `stereo` for an input that holds the codes themselves (integers of at most 24 bits): no rounding needed. */
+  stereoExact(from: number, n: number, to: number, md5At: number, width: number, inverse: number): void;
 }
 
 interface Exports {
   stereo(src: number, stride: number, n: number, left: number, right: number, md5: number, width: number, scale: number, bias: number, offset: number, inverse: number): void;
+  stereoExact(src: number, stride: number, n: number, left: number, right: number, md5: number, width: number, inverse: number): void;
 }
 
 const instantiate = kernelModule(WASM_MODULE_BYTES);
@@ -55,6 +58,9 @@ export function createFlacRescale(layout: FlacRescaleLayout): FlacRescale | null
     md5: new Uint8Array(buffer, md5At, layout.md5Bytes),
     stereo(from, n, to, md5Offset, width, scale, bias, offset, inverse) {
       k.stereo(inputAt + from * 4, stride, n, leftAt + to * 4, rightAt + to * 4, md5At + md5Offset, width, scale, bias, offset, inverse);
+    },
+    stereoExact(from, n, to, md5Offset, width, inverse) {
+      k.stereoExact(inputAt + from * 4, stride, n, leftAt + to * 4, rightAt + to * 4, md5At + md5Offset, width, inverse);
     },
   };
 }

@@ -66,4 +66,41 @@
         (local.set $left (i32.add (local.get $left) (i32.const 16)))
         (local.set $right (i32.add (local.get $right) (i32.const 16)))
         (br_if $next (i32.lt_u (local.get $src) (local.get $end))))))
+
+  ;; stereoExact(src, stride, n, left, right, md5, width, inverse): as stereo, for input floats that are the
+  ;; codes themselves (libFLAC with its divisors set to 1, cli/src/audio/libflacFrames.ts): each is an integer of
+  ;; at most 24 bits, so truncation gives the code exactly and times inverse (a power of 2) the sample exactly.
+  (func (export "stereoExact")
+    (param $src i32) (param $stride i32) (param $n i32) (param $left i32) (param $right i32) (param $md5 i32)
+    (param $width i32) (param $inverse f32)
+    (local $srcR i32) (local $end i32) (local $vi v128) (local $x v128) (local $y v128)
+    (local $l v128) (local $r v128) (local $t v128)
+    (local.set $srcR (i32.add (local.get $src) (i32.shl (local.get $stride) (i32.const 2))))
+    (local.set $end (i32.add (local.get $src) (i32.shl (local.get $n) (i32.const 2))))
+    (local.set $vi (f32x4.splat (local.get $inverse)))
+    (block $done
+      (br_if $done (i32.ge_u (local.get $src) (local.get $end)))
+      (loop $next
+        (local.set $x (v128.load (local.get $src)))
+        (local.set $y (v128.load (local.get $srcR)))
+        (local.set $l (i32x4.trunc_sat_f32x4_s (local.get $x)))
+        (local.set $r (i32x4.trunc_sat_f32x4_s (local.get $y)))
+        (v128.store (local.get $left) (f32x4.mul (local.get $x) (local.get $vi)))
+        (v128.store (local.get $right) (f32x4.mul (local.get $y) (local.get $vi)))
+        (if (i32.eq (local.get $width) (i32.const 3))
+          (then
+            (v128.store (local.get $md5)
+              (i8x16.shuffle 0 1 2 16 17 18 4 5 6 20 21 22 8 9 10 24 (local.get $l) (local.get $r)))
+            (local.set $t (i8x16.shuffle 25 26 12 13 14 28 29 30 0 0 0 0 0 0 0 0 (local.get $l) (local.get $r)))
+            (i64.store offset=16 (local.get $md5) (i64x2.extract_lane 0 (local.get $t)))
+            (local.set $md5 (i32.add (local.get $md5) (i32.const 24))))
+          (else
+            (v128.store (local.get $md5)
+              (i8x16.shuffle 0 1 16 17 4 5 20 21 8 9 24 25 12 13 28 29 (local.get $l) (local.get $r)))
+            (local.set $md5 (i32.add (local.get $md5) (i32.const 16)))))
+        (local.set $src (i32.add (local.get $src) (i32.const 16)))
+        (local.set $srcR (i32.add (local.get $srcR) (i32.const 16)))
+        (local.set $left (i32.add (local.get $left) (i32.const 16)))
+        (local.set $right (i32.add (local.get $right) (i32.const 16)))
+        (br_if $next (i32.lt_u (local.get $src) (local.get $end))))))
 )
