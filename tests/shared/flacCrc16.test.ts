@@ -1,21 +1,13 @@
 /**
  * The FLAC framer's table-driven CRC-16 (shared/src/flac/flacFramer.ts, slice-by-16) against the frame footer's
  * definition in RFC 9639, 9.3: polynomial x^16 + x^15 + x^2 + 1 (0x8005), MSB first, initial value 0, no final
- * XOR, computed here bit by bit. Every start alignment, length (including the tails shorter than one 16-byte
+ * XOR, computed bit by bit (tests/helpers/crc16Reference.ts). Every start alignment, length (including the tails shorter than one 16-byte
  * step) and carried-in register is compared; Debian's flac-made files in tests/cli/audioFormats.test.ts and
  * tests/cli/flacFraming.test.ts check the same function on real frames.
  */
 import { describe, expect, it } from "vitest";
 import { crc16 } from "../../shared/src/flac/flacFramer.ts";
-
-function crc16Bitwise(b: Uint8Array, from: number, to: number, crc: number): number {
-  let c = crc;
-  for (let i = from; i < to; i++) {
-    c ^= b[i] << 8;
-    for (let k = 0; k < 8; k++) c = c & 0x8000 ? ((c << 1) ^ 0x8005) & 0xffff : (c << 1) & 0xffff;
-  }
-  return c;
-}
+import { crc16Bitwise } from "../helpers/crc16Reference.ts";
 
 function randomBytes(n: number, seed: number): Uint8Array {
   const out = new Uint8Array(n);

@@ -2,21 +2,13 @@
  * The FLAC framer's WebAssembly sync search and CRC-16 (shared/src/flac/flacFrameScan.wat) against their
  * definitions: a frame sync code is 0xFF then 0xF8 or 0xF9 (RFC 9639, 9.1: fourteen 1 bits, a reserved 0 and the
  * blocking-strategy bit), and the frame footer's CRC-16 is polynomial 0x8005, MSB first, initial 0, no final XOR
- * (RFC 9639, 9.3), computed here bit by bit, with the catalogue check value 0xFEE8 for "123456789" (CRC-16/UMTS,
+ * (RFC 9639, 9.3), computed bit by bit (tests/helpers/crc16Reference.ts), with the catalogue check value 0xFEE8 for "123456789" (CRC-16/UMTS,
  * from memory; tests/shared/flacCrc16.test.ts checks the JavaScript form the same way).
  * tests/cli/flacFrameScanFramer.test.ts runs the whole framer with and without the kernel on Debian flac's files.
  */
 import { describe, expect, it } from "vitest";
 import { createFlacFrameScan } from "../../shared/src/flac/flacFrameScan.ts";
-
-function crc16Bitwise(b: Uint8Array, from: number, to: number, crc: number): number {
-  let c = crc;
-  for (let i = from; i < to; i++) {
-    c ^= b[i] << 8;
-    for (let k = 0; k < 8; k++) c = c & 0x8000 ? ((c << 1) ^ 0x8005) & 0xffff : (c << 1) & 0xffff;
-  }
-  return c;
-}
+import { crc16Bitwise } from "../helpers/crc16Reference.ts";
 
 /** The definition: first q in [from, end) with 0xFF then 0xF8/0xF9, or 0xFF as the last byte; else −1. */
 function syncByDefinition(b: Uint8Array, from: number, end: number): number {
