@@ -28,6 +28,20 @@ describe.each([16, 24])("FLAC stereo rescaling, %i bits", (bits) => {
   const blockFrames = 1000;
   const k = createFlacRescale({ frameCapacity: capacity, blockFrames, md5Bytes: 1 << 16 });
 
+  /** n frames on the reader's scale at `to`, their little-endian MD5 bytes at `md5At`, from the codes at `from`. */
+  function expectFrames(left: Int32Array, right: Int32Array, from: number, to: number, md5At: number, n: number): void {
+    const kernel = k!;
+    for (let i = 0; i < n; i++) {
+      expect(kernel.left[to + i]).toBe(left[from + i] / full);
+      expect(kernel.right[to + i]).toBe(right[from + i] / full);
+      for (let b = 0; b < width; b++) {
+        const at = md5At + i * 2 * width + b;
+        expect(kernel.md5[at], `frame ${i} left byte ${b}`).toBe((left[from + i] >> (8 * b)) & 0xff);
+        expect(kernel.md5[at + width], `frame ${i} right byte ${b}`).toBe((right[from + i] >> (8 * b)) & 0xff);
+      }
+    }
+  }
+
   it("runs here (WebAssembly SIMD)", () => {
     expect(k).not.toBeNull();
   });
@@ -48,15 +62,7 @@ describe.each([16, 24])("FLAC stereo rescaling, %i bits", (bits) => {
     }
     kernel.md5.fill(0xee);
     kernel.stereo(from, n, to, md5At, width, full - 1, full + 0.5, full, 1 / full);
-    for (let i = 0; i < n; i++) {
-      expect(kernel.left[to + i]).toBe(left[from + i] / full);
-      expect(kernel.right[to + i]).toBe(right[from + i] / full);
-      for (let b = 0; b < width; b++) {
-        const at = md5At + i * 2 * width + b;
-        expect(kernel.md5[at], `frame ${i} left byte ${b}`).toBe((left[from + i] >> (8 * b)) & 0xff);
-        expect(kernel.md5[at + width], `frame ${i} right byte ${b}`).toBe((right[from + i] >> (8 * b)) & 0xff);
-      }
-    }
+    expectFrames(left, right, from, to, md5At, n);
     // Nothing written past the n frames.
     expect(kernel.md5[md5At + n * 2 * width]).toBe(0xee);
     if (md5At > 0) expect(kernel.md5[md5At - 1]).toBe(0xee);
@@ -78,15 +84,7 @@ describe.each([16, 24])("FLAC stereo rescaling, %i bits", (bits) => {
     kernel.md5.fill(0xee);
     kernel.left.fill(7);
     kernel.stereoExact(from, n, to, md5At, width, 1 / full);
-    for (let i = 0; i < n; i++) {
-      expect(kernel.left[to + i]).toBe(left[from + i] / full);
-      expect(kernel.right[to + i]).toBe(right[from + i] / full);
-      for (let b = 0; b < width; b++) {
-        const at = md5At + i * 2 * width + b;
-        expect(kernel.md5[at], `frame ${i} left byte ${b}`).toBe((left[from + i] >> (8 * b)) & 0xff);
-        expect(kernel.md5[at + width], `frame ${i} right byte ${b}`).toBe((right[from + i] >> (8 * b)) & 0xff);
-      }
-    }
+    expectFrames(left, right, from, to, md5At, n);
     expect(kernel.md5[md5At + n * 2 * width]).toBe(0xee);
     if (md5At > 0) expect(kernel.md5[md5At - 1]).toBe(0xee);
     expect(kernel.left[to + n]).toBe(7);
