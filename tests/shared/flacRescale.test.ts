@@ -1,9 +1,7 @@
 /**
  * The FLAC reader's SIMD rescaling (shared/src/flac/flacRescale.wat) against the definitions it implements:
- * libFLAC's WebAssembly build hands out each code as float32(code) / float32(2^(bits−1) − 1) (the package's
- * src/flac_decoder.c, write_cb), the reader's scale is code / 2^(bits−1) (the WAV reader's, so a FLAC and its
- * WAV give the same samples), and STREAMINFO's MD5 input is the codes interleaved, little-endian, in whole
- * bytes (RFC 9639, 8.2). Every code at the extremes and a spread of others, 16 and 24 bits, any MD5 offset.
+ * the reader's scale is code / 2^(bits−1) (the WAV reader's, so a FLAC and its WAV give the same samples), and
+ * STREAMINFO's MD5 input is the codes interleaved, little-endian, in whole bytes (RFC 9639, 8.2). Every code at the extremes and a spread of others, 16 and 24 bits, any MD5 offset.
  * tests/cli/audioFormats.test.ts and tests/cli/flacFraming.test.ts check the same path on Debian flac's files.
  */
 import { describe, expect, it } from "vitest";
@@ -55,36 +53,14 @@ describe.each([16, 24])("FLAC stereo rescaling, %i bits", (bits) => {
     const n = 400;
     const left = codesFor(bits, capacity);
     const right = codesFor(bits, capacity).reverse();
-    const divisor = Math.fround(full - 1);
-    for (let i = 0; i < capacity; i++) {
-      kernel.input[i] = Math.fround(left[i]) / divisor;
-      kernel.input[capacity + i] = Math.fround(right[i]) / divisor;
-    }
-    kernel.md5.fill(0xee);
-    kernel.stereo(from, n, to, md5At, width, full - 1, full + 0.5, full, 1 / full);
-    expectFrames(left, right, from, to, md5At, n);
-    // Nothing written past the n frames.
-    expect(kernel.md5[md5At + n * 2 * width]).toBe(0xee);
-    if (md5At > 0) expect(kernel.md5[md5At - 1]).toBe(0xee);
-  });
-  it.each([
-    [0, 0, 0],
-    [8, 12, 3],
-    [100, 500, 1],
-  ])("stereoExact: the same samples and MD5 bytes from the codes themselves (from %i, into %i, MD5 at byte %i)", (from, to, md5At) => {
-    const kernel = k!;
-    const n = 400;
-    const left = codesFor(bits, capacity);
-    const right = codesFor(bits, capacity).reverse();
-    // libFLAC with its divisors set to 1 (cli/src/audio/libflacFrames.ts): float32(code), exact up to 24 bits.
-    for (let i = 0; i < capacity; i++) {
-      kernel.input[i] = left[i];
-      kernel.input[capacity + i] = right[i];
-    }
+    // libFLAC's int32 codes as cli/src/audio/libflacFrames.ts hands them out.
+    kernel.input.set(left, 0);
+    kernel.input.set(right, capacity);
     kernel.md5.fill(0xee);
     kernel.left.fill(7);
-    kernel.stereoExact(from, n, to, md5At, width, 1 / full);
+    kernel.stereo(from, n, to, md5At, width, 1 / full);
     expectFrames(left, right, from, to, md5At, n);
+    // Nothing written past the n frames.
     expect(kernel.md5[md5At + n * 2 * width]).toBe(0xee);
     if (md5At > 0) expect(kernel.md5[md5At - 1]).toBe(0xee);
     expect(kernel.left[to + n]).toBe(7);

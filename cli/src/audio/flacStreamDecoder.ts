@@ -3,7 +3,8 @@
  * sample numbers), libFLAC (the @wasm-audio-decoders/flac WebAssembly build) decodes the whole frames, lost ones
  * become silence of their exact length with a `decode-error` finding, and the decoded integers feed an MD5
  * compared with STREAMINFO's at the end (RFC 9639, 8.2: MD5 of the samples, interleaved, little-endian, in
- * whole bytes). Blocks reach the consumer in order with a fixed frame count, reusing their arrays.
+ * whole bytes), at every depth up to 32 bits. Blocks reach the consumer in order with a fixed frame count,
+ * reusing their arrays.
  */
 import { createHash, type Hash } from "node:crypto";
 import type { AudioBlock } from "@tidemark/shared/types/analysis";
@@ -13,7 +14,7 @@ import type { FlacLayout } from "@tidemark/shared/flac/flacLayout";
 import { WavFormatError } from "@tidemark/shared/wav/errors";
 import { containerDepth } from "@tidemark/shared/flac/flacDepthWidening";
 import { createFlacRescale, type FlacRescale } from "@tidemark/shared/flac/flacRescale";
-import { createLibflacFrames, type LibflacFrames } from "./libflacFrames.ts";
+import { createLibflacFrames, type DecodedFrame, type LibflacFrames } from "./libflacFrames.ts";
 import { withExplicitHeaders } from "./explicitHeaderFrames.ts";
 import { wrapOddDepthFrames } from "./oddDepthFrames.ts";
 
@@ -35,10 +36,9 @@ export interface FlacStreamDecoder {
 }
 
 /**
- * Sample depths libFLAC's WebAssembly build hands out: its write callback (@wasm-audio-decoders/flac 0.2.x,
- * src/flac_decoder.c) divides by 2^(bits−1) − 1 only for 8, 16, 24 and 32 bits and leaves the divisor unset
- * otherwise (a 12- or 20-bit FLAC came back as ±Infinity, measured 2026-12-05). Other depths (4–32 bits, RFC
- * 9639) go through oddDepthFrames.ts, which rewrites each frame at the next of these depths and scales back.
+ * Depths whose frames reach libFLAC as they are. libFLAC is never given STREAMINFO (explicitHeaderFrames.ts), so
+ * each frame must state its depth, and a frame header can state few (RFC 9639, 9.1.4): other depths (4–32 bits)
+ * go through oddDepthFrames.ts, which rewrites each frame at the next of these and shifts the codes back.
  */
 const DECODABLE_BITS: ReadonlySet<number> = new Set([8, 16, 24, 32]);
 
@@ -52,19 +52,16 @@ export async function createFlacStreamDecoder(
     throw new WavFormatError("unsupported-encoding", `FLAC with ${bits}-bit samples is not decoded: 4 to 32 bits expected (RFC 9639, 8.2)`);
   }
   // Frames reach libFLAC stating their own rate and depth: it is never given STREAMINFO (explicitHeaderFrames.ts).
-  // Up to 24 bits at a depth libFLAC hands out, the codes themselves (libflacFrames.ts, useExactCodes).
-  const native = DECODABLE_BITS.has(bits);
-  const frames = await createLibflacFrames({ exactCodes: native && bits <= 24 });
-  const libflac = withExplicitHeaders(frames, layout.streamInfo, containerDepth(bits)!);
-  const decoder = native ? libflac : wrapOddDepthFrames(libflac, layout.streamInfo);
-  return new FlacStream(layout, blockFrames, onBlock, decoder, frames.exactCodes === true);
+  const libflac = withExplicitHeaders(await createLibflacFrames(), layout.streamInfo, containerDepth(bits)!);
+  const decoder = DECODABLE_BITS.has(bits) ? libflac : wrapOddDepthFrames(libflac, layout.streamInfo);
+  return new FlacStream(layout, blockFrames, onBlock, decoder);
 }
 
 /**
- * Everything runs synchronously inside the framer's callbacks: a frame is copied once into the WebAssembly
- * heap, decoded, and its samples rescaled once from the heap into the current block (and, for the MD5, into
- * little-endian bytes). Memory per file: one block (blockFrames × channels float32), the framer's buffer
- * (about two frames), 1 MiB of MD5 input and libFLAC's heap, whatever the length.
+ * Everything runs synchronously inside the framer's callbacks: a frame is copied once into libFLAC's heap,
+ * decoded, and its codes scaled once from there into the current block (and, for the MD5, into little-endian
+ * bytes). Memory per file: one block (blockFrames × channels float32), the framer's buffer (about two frames),
+ * 1 MiB of MD5 input and libFLAC's heap, whatever the length.
  */
 class FlacStream implements FlacStreamDecoder {
   framesDecoded = 0;
@@ -86,7 +83,7 @@ class FlacStream implements FlacStreamDecoder {
   private resync = false;
   private overran = false;
   private dataStarted = false;
-  private readonly libScale: number;
+  /** The reader's common scale: code / 2^(bits−1), so a FLAC and the WAV it came from give identical samples. */
   private readonly inverse: number;
   /** Stereo with its MD5 (16 or 24 bits, most archive masters): the SIMD kernel, whose memory holds the block and MD5 input. */
   private readonly kernel: FlacRescale | null;
@@ -96,8 +93,6 @@ class FlacStream implements FlacStreamDecoder {
     private readonly blockFrames: number,
     private readonly onBlock: (block: AudioBlock) => void,
     private readonly decoder: LibflacFrames,
-    /** libFLAC hands out the codes themselves (divisor 1) instead of code / (2^(bits−1) − 1). */
-    private readonly exactCodes: boolean,
   ) {
     const channels = layout.channels;
     this.framer = createFlacFramer(layout.streamInfo, layout.dataOffset, {
@@ -105,16 +100,13 @@ class FlacStream implements FlacStreamDecoder {
       gap: (sample, frames, _offset, why) => this.gap(sample, frames, why),
     });
     const bits = layout.streamInfo.bitsPerSample;
-    // libFLAC hands out float32: exact for codes up to 24 bits, so the MD5 can be rebuilt only up to there.
-    this.md5 = layout.streamInfo.md5 !== null && bits <= 24 ? createHash("md5") : null;
+    this.md5 = layout.streamInfo.md5 !== null ? createHash("md5") : null;
     this.md5Bytes = Math.ceil(bits / 8);
-    const stereoKernel = this.md5 !== null && channels === 2 && this.md5Bytes >= 2 && LITTLE_ENDIAN;
+    const stereoKernel = this.md5 !== null && channels === 2 && (this.md5Bytes === 2 || this.md5Bytes === 3) && LITTLE_ENDIAN;
     this.kernel = stereoKernel ? createFlacRescale({ frameCapacity: layout.streamInfo.maxBlockSize, blockFrames, md5Bytes: MD5_BATCH_BYTES }) : null;
     this.planar = this.kernel ? [this.kernel.left, this.kernel.right] : Array.from({ length: channels }, () => new Float32Array(blockFrames));
     this.md5Buffer = this.kernel ? this.kernel.md5 : new Uint8Array(this.md5 ? MD5_BATCH_BYTES : 0);
     this.md5Words = new Uint32Array(this.md5Buffer.buffer, this.md5Buffer.byteOffset, this.md5Buffer.length >> 2);
-    // The JavaScript loops recover the code as round(x · libScale) either way; the kernel skips that for exact codes.
-    this.libScale = exactCodes ? 1 : 2 ** (bits - 1) - 1;
     this.inverse = 1 / 2 ** (bits - 1);
   }
 
@@ -158,25 +150,25 @@ class FlacStream implements FlacStreamDecoder {
     // libFLAC may have kept part of a frame it could not decode and would misread the next one with it.
     if (samples < header.blockSize || error !== null) this.resync = true;
     const kept = this.room(samples);
-    if (kept > 0) this.take(decoded.data, decoded.samples, kept);
+    if (kept > 0) this.take(decoded, kept);
     // A frame libFLAC gave back short keeps its length, as silence, so later times stay right.
     if (samples < header.blockSize) this.silence(header.blockSize - samples);
     return true;
   }
 
   /**
-   * libFLAC's WebAssembly build divides by 2^(bits−1) − 1 (by 1 with `exactCodes`); the codes are recovered exactly (up to 24 bits) and
-   * put on the reader's common scale, 2^(bits−1), so a FLAC and the WAV it came from give identical samples.
-   * The same pass writes the codes, interleaved little-endian in whole bytes, as STREAMINFO's MD5 input.
-   * `data` is planar with `stride` samples a channel; the first `frames` of each are taken.
+   * The frame's codes onto the reader's common scale (code / 2^(bits−1)) in the current block, and, in the same
+   * pass, interleaved little-endian in whole bytes as STREAMINFO's MD5 input. The first `frames` of each channel
+   * are taken.
    */
-  private take(data: Float32Array, stride: number, frames: number): void {
+  private take(decoded: DecodedFrame, frames: number): void {
     const rowBytes = this.planar.length * this.md5Bytes;
-    const kernel = this.kernel && stride <= this.layout.streamInfo.maxBlockSize ? this.kernel : null;
+    const kernel = this.kernel && decoded.samples <= this.layout.streamInfo.maxBlockSize ? this.kernel : null;
     if (kernel) {
       // Into the kernel's memory once; libFLAC's heap is another module's.
-      kernel.input.set(data.subarray(0, frames), 0);
-      kernel.input.set(data.subarray(stride, stride + frames), this.layout.streamInfo.maxBlockSize);
+      const [left, right] = decoded.offsets;
+      kernel.input.set(decoded.codes.subarray(left, left + frames), 0);
+      kernel.input.set(decoded.codes.subarray(right, right + frames), this.layout.streamInfo.maxBlockSize);
     }
     let at = 0;
     while (at < frames) {
@@ -186,108 +178,75 @@ class FlacStream implements FlacStreamDecoder {
         n = Math.min(n, Math.floor((this.md5Buffer.length - this.md5Filled) / rowBytes));
       }
       if (kernel) this.rescaleKernel(kernel, at, n);
-      else this.rescale(data, stride, at, n);
+      else this.rescale(decoded, at, n);
       at += n;
       if (this.filled === this.blockFrames) this.flushBlock();
     }
   }
 
-  private rescale(data: Float32Array, stride: number, from: number, frames: number): void {
+  private rescale(decoded: DecodedFrame, from: number, frames: number): void {
     const count = this.planar.length;
-    const libScale = this.libScale;
+    const { codes, offsets } = decoded;
     const inverse = this.inverse;
     const to = this.filled;
     this.filled += frames;
     if (!this.md5) {
-      if (this.md5Bytes > 3) {
-        const k = libScale * inverse;
-        for (let c = 0; c < count; c++) {
-          const x = this.planar[c];
-          for (let i = 0, s = c * stride + from; i < frames; i++, s++) x[to + i] = data[s] * k;
-        }
-        return;
-      }
-      // Rounding by a bias and |0 (exact here: every value is within 1e-6 of an integer code ≤ 2^23): Math.round in
-      // this loop measured about ten times slower on the project's machine (Node 20).
-      const offset = 2 ** (this.layout.streamInfo.bitsPerSample - 1);
-      const bias = offset + 0.5;
       for (let c = 0; c < count; c++) {
         const x = this.planar[c];
-        for (let i = 0, s = c * stride + from; i < frames; i++, s++) x[to + i] = (((data[s] * libScale + bias) | 0) - offset) * inverse;
+        for (let i = 0, s = offsets[c] + from; i < frames; i++, s++) x[to + i] = codes[s] * inverse;
       }
       return;
     }
-    const offset = 2 ** (this.layout.streamInfo.bitsPerSample - 1);
-    const bias = offset + 0.5;
     const width = this.md5Bytes;
     const rowBytes = count * width;
     const out = this.md5Buffer;
     const base = this.md5Filled;
     this.md5Filled += frames * rowBytes;
-    if (count === 2 && width >= 2 && (base & 3) === 0 && LITTLE_ENDIAN) {
-      this.rescaleStereo(data, stride, from, to, frames, base);
+    if (count === 2 && (width === 2 || width === 3) && (base & 3) === 0 && LITTLE_ENDIAN) {
+      this.rescaleStereo(codes, offsets[0] + from, offsets[1] + from, to, frames, base);
       return;
     }
     for (let c = 0; c < count; c++) {
       const x = this.planar[c];
       let j = base + c * width;
-      let s = c * stride + from;
-      if (width === 3) {
-        for (let i = 0; i < frames; i++, j += rowBytes, s++) {
-          const v = ((data[s] * libScale + bias) | 0) - offset;
-          x[to + i] = v * inverse;
-          out[j] = v;
-          out[j + 1] = v >> 8;
-          out[j + 2] = v >> 16;
-        }
-      } else if (width === 2) {
-        for (let i = 0; i < frames; i++, j += rowBytes, s++) {
-          const v = ((data[s] * libScale + bias) | 0) - offset;
-          x[to + i] = v * inverse;
-          out[j] = v;
-          out[j + 1] = v >> 8;
-        }
-      } else {
-        for (let i = 0; i < frames; i++, j += rowBytes, s++) {
-          const v = ((data[s] * libScale + bias) | 0) - offset;
-          x[to + i] = v * inverse;
-          out[j] = v;
-        }
+      for (let i = 0, s = offsets[c] + from; i < frames; i++, j += rowBytes, s++) {
+        const v = codes[s];
+        x[to + i] = v * inverse;
+        out[j] = v;
+        if (width > 1) out[j + 1] = v >> 8;
+        if (width > 2) out[j + 2] = v >> 16;
+        if (width > 3) out[j + 3] = v >> 24;
       }
     }
   }
 
   /**
-   * Stereo, 16 or 24 bits (most archive masters): frame by frame, and the MD5 bytes written a 32-bit word at a
-   * time (two 24-bit frames are three words, a 16-bit frame one) instead of byte by byte: ≈ 25 % less time
-   * than the per-channel loop in a stand-alone measurement on the project's machine (Node 20). `base` is a
-   * multiple of 4; the words are little-endian, so this runs only on such hosts.
+   * Stereo, 16 or 24 bits (most archive masters) where WebAssembly SIMD is missing: frame by frame, and the MD5
+   * bytes written a 32-bit word at a time (two 24-bit frames are three words, a 16-bit frame one) instead of byte
+   * by byte. `base` is a multiple of 4; the words are little-endian, so this runs only on such hosts.
    */
-  private rescaleStereo(data: Float32Array, stride: number, from: number, to: number, frames: number, base: number): void {
-    const libScale = this.libScale;
+  private rescaleStereo(codes: Int32Array, left: number, right: number, to: number, frames: number, base: number): void {
     const inverse = this.inverse;
-    const offset = 2 ** (this.layout.streamInfo.bitsPerSample - 1);
-    const bias = offset + 0.5;
     const l = this.planar[0];
     const r = this.planar[1];
     const words = this.md5Words;
     let w = base >> 2;
     let i = 0;
     if (this.md5Bytes === 2) {
-      for (let s = from; i < frames; i++, s++, w++) {
-        const a = ((data[s] * libScale + bias) | 0) - offset;
-        const b = ((data[s + stride] * libScale + bias) | 0) - offset;
+      for (; i < frames; i++, w++) {
+        const a = codes[left + i];
+        const b = codes[right + i];
         l[to + i] = a * inverse;
         r[to + i] = b * inverse;
         words[w] = (a & 0xffff) | (b << 16);
       }
       return;
     }
-    for (let s = from; i + 1 < frames; i += 2, s += 2, w += 3) {
-      const a0 = ((data[s] * libScale + bias) | 0) - offset;
-      const b0 = ((data[s + stride] * libScale + bias) | 0) - offset;
-      const a1 = ((data[s + 1] * libScale + bias) | 0) - offset;
-      const b1 = ((data[s + 1 + stride] * libScale + bias) | 0) - offset;
+    for (; i + 1 < frames; i += 2, w += 3) {
+      const a0 = codes[left + i];
+      const b0 = codes[right + i];
+      const a1 = codes[left + i + 1];
+      const b1 = codes[right + i + 1];
       l[to + i] = a0 * inverse;
       r[to + i] = b0 * inverse;
       l[to + i + 1] = a1 * inverse;
@@ -300,9 +259,8 @@ class FlacStream implements FlacStreamDecoder {
       // An odd last frame: its six bytes one by one.
       const out = this.md5Buffer;
       const j = w << 2;
-      const s = from + i;
-      const a = ((data[s] * libScale + bias) | 0) - offset;
-      const b = ((data[s + stride] * libScale + bias) | 0) - offset;
+      const a = codes[left + i];
+      const b = codes[right + i];
       l[to + i] = a * inverse;
       r[to + i] = b * inverse;
       out[j] = a;
@@ -316,9 +274,6 @@ class FlacStream implements FlacStreamDecoder {
 
   /** rescaleStereo's work on the frame in the kernel's memory: four frames a step there, the last few here. */
   private rescaleKernel(kernel: FlacRescale, from: number, frames: number): void {
-    const bits = this.layout.streamInfo.bitsPerSample;
-    const offset = 2 ** (bits - 1);
-    const bias = offset + 0.5;
     const width = this.md5Bytes;
     const to = this.filled;
     const base = this.md5Filled;
@@ -326,15 +281,14 @@ class FlacStream implements FlacStreamDecoder {
     this.filled += frames;
     this.md5Filled += frames * rowBytes;
     const n4 = frames & ~3;
-    if (this.exactCodes) kernel.stereoExact(from, n4, to, base, width, this.inverse);
-    else kernel.stereo(from, n4, to, base, width, this.libScale, bias, offset, this.inverse);
+    kernel.stereo(from, n4, to, base, width, this.inverse);
     const input = kernel.input;
     const capacity = this.layout.streamInfo.maxBlockSize;
     const out = this.md5Buffer;
     for (let c = 0; c < 2; c++) {
       const x = this.planar[c];
       for (let i = n4; i < frames; i++) {
-        const v = ((input[c * capacity + from + i] * this.libScale + bias) | 0) - offset;
+        const v = input[c * capacity + from + i];
         x[to + i] = v * this.inverse;
         const j = base + i * rowBytes + c * width;
         out[j] = v;
@@ -464,16 +418,7 @@ class FlacStream implements FlacStreamDecoder {
         endSeconds: null,
         message: "STREAMINFO holds no MD5 of the audio (the encoder did not compute one): the decoded audio cannot be checked against it",
       });
-    } else if (!this.md5) {
-      findingsPush(this.findings, {
-        code: "flac-md5-unset",
-        severity: "info",
-        channel: null,
-        startSeconds: null,
-        endSeconds: null,
-        message: `STREAMINFO MD5 not checked: the decoder gives ${info.bitsPerSample}-bit samples as float, exact only up to 24 bits`,
-      });
-    } else {
+    } else if (this.md5) {
       const digest = this.md5.digest("hex");
       if (digest !== info.md5) {
         findingsPush(this.findings, {

@@ -1,180 +1,230 @@
 /**
- * One FLAC frame at a time through libFLAC's WebAssembly build (@wasm-audio-decoders/flac, pinned), reading
- * the decoded samples straight from the WebAssembly heap. The package's public `decodeFrames` copies every
- * frame's output twice (a slice per channel, then a concatenation per call) and returns new arrays each time;
- * on a 600 s stereo file that was ≈ 0.15 s and 350 MB of garbage. Here the caller gets a view of the heap,
- * valid until the next call, and rescales it once into its own blocks.
+ * One FLAC frame at a time through libFLAC's WebAssembly build (@wasm-audio-decoders/flac, pinned), handing out
+ * the decoded codes as libFLAC holds them: 32-bit integers in its own memory, valid until the next call.
  *
- * This uses the package's internals (its `_decoder` and the C functions `decode_frame`, `create_decoder`, `destroy_decoder`, `malloc`, `free`, as
- * in its src/FLACDecoder.js and src/flac_decoder.c); `createLibflacFrames` checks they are there and says so
- * if an upgrade moved them (tests/cli/audioFormats.test.ts decodes through this module).
+ * The package's write callback converts every sample to float32 (code / (2^(bits−1) − 1), only for 8, 16, 24
+ * and 32 bits) into a buffer it allocates for each frame, which the reader then had to round back to codes for
+ * STREAMINFO's MD5: on the bench's 600 s 24-bit stereo FLAC that callback alone took ≈ 65 ms of the reading
+ * thread. So this module instantiates the package's compiled module itself, with the same answers to its
+ * imports as the package gives, and puts its own callback in the table slot of the package's: it only notes
+ * where libFLAC's channel buffers are. The codes are exact at every depth up to 32 bits.
+ *
+ * This relies on the package's internals (0.2.x: `_decoder._common.wasm.getModule`, the export and import names
+ * of its src/EmscriptenWasm.js, the arguments of `create_decoder` and `decode_frame` in its src/FLACDecoder.js,
+ * and its write callback being WebAssembly function 41); `createLibflacFrames` checks each and says so if an
+ * upgrade moved them (tests/cli/libflacFrames.test.ts decodes through this module against `flac -d`).
  */
 import { FLACDecoder } from "@wasm-audio-decoders/flac";
+import { WASM_MODULE_BYTES as WRITE_HOOK_BYTES } from "@tidemark/shared/flac/libflacWriteHook.generated";
 
 export interface DecodedFrame {
   /** Sample frames decoded (0 when libFLAC could not decode the frame). */
   samples: number;
   channels: number;
-  /** Planar float samples, channel c at [c·samples, (c+1)·samples), each divided by 2^(bits−1) − 1 by libFLAC (the codes themselves with `exactCodes`). */
-  data: Float32Array;
+  /** libFLAC's memory as 32-bit words: channel c's codes are codes[offsets[c]] onwards, `samples` of them. */
+  codes: Int32Array;
+  /** Word index of each channel's first code in `codes`. */
+  offsets: number[];
   /** libFLAC's error and state strings, or null. */
   error: string | null;
 }
 
 export interface LibflacFrames {
-  /**
-   * True when the decoded floats are the integer codes themselves (see `exactCodes` of createLibflacFrames),
-   * false when libFLAC divided each by 2^(bits−1) − 1 as the package ships it.
-   */
-  readonly exactCodes?: boolean;
-  /** Decodes one whole frame. The result is valid until the next call. */
+  /** Decodes one whole frame. The result, and the codes it points at, are valid until the next call. */
   decode(frame: Uint8Array): DecodedFrame;
   /**
-   * Replaces libFLAC's decoder by a fresh one in the same module (cheap: no new WebAssembly instance), forgetting
-   * the previous frame. Call it after frames were left out: see
-   * flacStreamDecoder.ts for why libFLAC must not see the sample numbers jump.
+   * Replaces libFLAC's decoder by a fresh one in the same instance, forgetting the previous frame. Call it after
+   * frames were left out: see flacStreamDecoder.ts for why libFLAC must not see the sample numbers jump.
    */
   restart(): void;
   free(): void;
 }
 
-interface WasmExports {
-  HEAP: ArrayBuffer;
-  malloc(bytes: number): number;
-  free(ptr: number): void;
-  decode_frame(decoder: number, input: number, length: number): number;
-  create_decoder(channels: number, sampleRate: number, bitsPerSample: number, samples: number, outPtr: number, outLen: number, error: number, state: number): number;
-  destroy_decoder(decoder: number): void;
+// The CLI is built without DOM typings: just what is used of the WebAssembly global.
+interface WasmTable {
+  readonly length: number;
+  get(index: number): unknown;
+  set(index: number, value: unknown): void;
+}
+interface WasmMemory {
+  readonly buffer: ArrayBuffer;
+}
+type WasmModule = object;
+interface WasmApi {
+  Module: {
+    new (bytes: Uint8Array): WasmModule;
+    exports(module: WasmModule): { name: string; kind: string }[];
+    imports(module: WasmModule): { module: string; name: string; kind: string }[];
+  };
+  Instance: new (module: WasmModule, imports?: object) => { exports: Record<string, unknown> };
+  instantiate(module: WasmModule, imports?: object): Promise<{ exports: Record<string, unknown> }>;
+}
+const wasmApi = (globalThis as unknown as { WebAssembly: WasmApi }).WebAssembly;
+
+interface LibflacExports {
+  /** Emscripten's constructors, run once an instance is made. */
+  k(): void;
+  l(ptr: number): void;
+  m(bytes: number): number;
+  n(channels: number, sampleRate: number, bitsPerSample: number, samples: number, outPtr: number, outLen: number, error: number, state: number): number;
+  o(decoder: number): void;
+  p(decoder: number, input: number, length: number): number;
+  j: WasmMemory;
+  q: WasmTable;
 }
 
-interface Cell {
-  ptr: number;
-}
+const PACKAGE_CHANGED = "@wasm-audio-decoders/flac: expected the 0.2.x build (see cli/src/audio/libflacFrames.ts)";
+/** The package's write callback: WebAssembly function 41 of the pinned build (0.2.11), a 4-argument function. */
+const PACKAGE_WRITE_CALLBACK = "41";
+/** Exports and imports of the pinned build, as its src/EmscriptenWasm.js names them. */
+const EXPORTS: Record<string, string> = { j: "memory", k: "function", l: "function", m: "function", n: "function", o: "function", p: "function", q: "table" };
+const IMPORTS = "abcdefghi";
+/** FLAC__STREAM_DECODER_WRITE_STATUS_CONTINUE. */
+const CONTINUE = 0;
+/** The package's cells, in create_decoder's order: channels, rate, bits, samples, output, its length, error, state. */
+const CELLS = 8;
 
-/** The fields of the package's inner decoder this module reads (src/FLACDecoder.js, 0.2.x). */
-interface InnerDecoder {
-  _common: { wasm: WasmExports; codeToString(ptr: number): string };
-  _decoder: number;
-  _channels: Cell;
-  _sampleRate: Cell;
-  _bitsPerSample: Cell;
-  _samplesDecoded: Cell;
-  _outputBufferPtr: Cell;
-  _outputBufferLen: Cell;
-  _errorStringPtr: Cell;
-  _stateStringPtr: Cell;
-}
+let libflacModule: Promise<WasmModule> | null = null;
+let writeHookModule: WasmModule | null = null;
 
-const EMPTY = new Float32Array(0);
+/** The package's compiled module, once per process: the package compiles it and keeps it; one decoder made to reach it. */
+function loadLibflacModule(): Promise<WasmModule> {
+  libflacModule ??= (async () => {
+    const outer = new FLACDecoder();
+    await outer.ready;
+    try {
+      const wasm = (outer as unknown as { _decoder?: { _common?: { wasm?: { getModule?: () => Promise<unknown> } } } })._decoder?._common?.wasm;
+      const module = typeof wasm?.getModule === "function" ? await wasm.getModule() : null;
+      if (typeof module !== "object" || module === null || Object.prototype.toString.call(module) !== "[object WebAssembly.Module]") throw new Error(`${PACKAGE_CHANGED}: no compiled module behind _decoder._common.wasm.getModule()`);
+      const exports = new Map(wasmApi.Module.exports(module).map((e) => [e.name, e.kind as string]));
+      const imports = wasmApi.Module.imports(module);
+      const shapeOk = Object.entries(EXPORTS).every(([name, kind]) => exports.get(name) === kind) &&
+        imports.length === IMPORTS.length && imports.every((i) => i.module === "a" && i.kind === "function" && IMPORTS.includes(i.name));
+      if (!shapeOk) throw new Error(`${PACKAGE_CHANGED}: its WebAssembly exports or imports differ`);
+      return module;
+    } finally {
+      outer.free();
+    }
+  })();
+  return libflacModule;
+}
 
 /**
- * Where the pinned build (0.2.11) keeps its write callback's divisors, one float32 each for 8, 16, 24 and 32 bits
- * (2^(bits−1) − 1, the last rounded to float32), in its read-only data: the callback (func 41 of its WebAssembly,
- * read with wabt's wasm2wat) loads the one for the frame's depth and divides every sample by it. Found by reading
- * that code, not documented by the package: `useExactCodes` checks the four values before it touches them.
+ * The package's answers to its imports (src/EmscriptenWasm.js), for a build without a file system or heap growth:
+ * exit and abort throw, file calls answer ENOSYS (52) or ESPIPE (70), the heap refuses to grow, timers are not set.
  */
-export const LIBFLAC_DIVISORS_AT = 6248;
-const LIBFLAC_DIVISORS = [127, 32767, 8388607, 2147483648];
-
-/**
- * Sets the build's divisors to 1 in `heap` (its memory) when the four floats at LIBFLAC_DIVISORS_AT are exactly
- * those the pinned build holds; the callback then hands out each code as a float32, exact up to 24 bits, which
- * the reader turns into samples and MD5 bytes without recovering the code by rounding (≈ 36 ms less CPU time on
- * the bench's 600 s 24-bit FLAC, in a stand-alone measurement of the rescaling kernel). False, and nothing
- * written, for any other contents: the package then divides as it ships.
- */
-export function useExactCodes(heap: ArrayBuffer): boolean {
-  if (heap.byteLength < LIBFLAC_DIVISORS_AT + 16) return false;
-  const divisors = new Float32Array(heap, LIBFLAC_DIVISORS_AT, 4);
-  if (!LIBFLAC_DIVISORS.every((v, i) => divisors[i] === v)) return false;
-  divisors.fill(1);
-  return true;
+function packageImports(): object {
+  return {
+    a: {
+      a: (code: number) => {
+        throw new Error(`libFLAC exited (${code})`);
+      },
+      b: () => undefined,
+      c: () => {
+        throw new Error("libFLAC aborted");
+      },
+      d: () => 0,
+      e: () => 0,
+      f: () => 70,
+      g: () => 52,
+      h: () => 52,
+      i: () => 52,
+    },
+  };
 }
 
-export interface LibflacFramesOptions {
-  /**
-   * Ask for the codes themselves instead of libFLAC's fractions (`useExactCodes`); the result's `exactCodes` says
-   * whether it took. For 8-, 16- and 24-bit streams decoded as they are: the callers of odd depths and of 32 bits
-   * expect the package's scale.
-   */
-  exactCodes?: boolean;
-}
+export async function createLibflacFrames(): Promise<LibflacFrames> {
+  const module = await loadLibflacModule();
+  const instance = await wasmApi.instantiate(module, packageImports());
+  const lib = instance.exports as unknown as LibflacExports;
+  lib.k();
+  const memory = lib.j;
+  let codes = new Int32Array(memory.buffer);
+  let words = new Uint32Array(memory.buffer);
+  const views = (): void => {
+    // The build's heap does not grow, but a grown one would have detached these.
+    if (codes.buffer !== memory.buffer) {
+      codes = new Int32Array(memory.buffer);
+      words = new Uint32Array(memory.buffer);
+    }
+  };
 
-export async function createLibflacFrames(options: LibflacFramesOptions = {}): Promise<LibflacFrames> {
-  const outer = new FLACDecoder();
-  await outer.ready;
-  const inner = (outer as unknown as { _decoder?: Partial<InnerDecoder> })._decoder;
-  const wasm = inner?._common?.wasm;
-  const cells = [inner?._channels, inner?._sampleRate, inner?._bitsPerSample, inner?._samplesDecoded, inner?._outputBufferPtr, inner?._outputBufferLen, inner?._errorStringPtr, inner?._stateStringPtr];
-  if (!inner || !wasm || typeof wasm.decode_frame !== "function" || typeof wasm.malloc !== "function" || typeof wasm.create_decoder !== "function" || typeof wasm.destroy_decoder !== "function" || typeof inner._decoder !== "number" || cells.some((c) => typeof c?.ptr !== "number")) {
-    outer.free();
-    throw new Error("@wasm-audio-decoders/flac: expected the 0.2.x internals (_decoder._common.wasm.decode_frame and the output cells); the package changed, see cli/src/audio/libflacFrames.ts");
+  const result: DecodedFrame = { samples: 0, channels: 0, codes, offsets: [], error: null };
+  let written = false;
+  // libFLAC's write callback (FLAC__StreamDecoderWriteCallback): the frame's header starts with its block size, then
+  // rate, then channels (FLAC__FrameHeader); `buffer` is an array of pointers to each channel's int32 codes.
+  const onWrite = (_decoder: number, frame: number, buffer: number, _client: number): number => {
+    views();
+    result.samples = words[frame >> 2];
+    result.channels = words[(frame + 8) >> 2];
+    for (let c = 0; c < result.channels; c++) result.offsets[c] = words[(buffer >> 2) + c] >> 2;
+    result.offsets.length = result.channels;
+    written = true;
+    return CONTINUE;
+  };
+  writeHookModule ??= new wasmApi.Module(WRITE_HOOK_BYTES);
+  const hook = new wasmApi.Instance(writeHookModule, { host: { write: onWrite } }).exports.write;
+  const table = lib.q;
+  const slots: number[] = [];
+  for (let i = 0; i < table.length; i++) {
+    const f = table.get(i) as ((...args: number[]) => number) | null;
+    // An exported WebAssembly function is named by its index (WebAssembly JavaScript interface, 4.4.3).
+    if (f !== null && f.name === PACKAGE_WRITE_CALLBACK && f.length === 4) slots.push(i);
   }
-  const d = inner as InnerDecoder;
-  let handle = d._decoder;
-  // Word indexes of the cells the C side writes (pointers into the heap, 4-byte aligned).
-  const channelsAt = d._channels.ptr >> 2;
-  const samplesAt = d._samplesDecoded.ptr >> 2;
-  const outPtrAt = d._outputBufferPtr.ptr >> 2;
-  const outLenAt = d._outputBufferLen.ptr >> 2;
-  const errorAt = d._errorStringPtr.ptr >> 2;
-  const stateAt = d._stateStringPtr.ptr >> 2;
-  let lastOut = 0;
-  const result: DecodedFrame = { samples: 0, channels: 0, data: EMPTY, error: null };
-  // Each FLACDecoder has its own instance and memory, so this touches this file's decoder only (and survives restart()).
-  const exactCodes = options.exactCodes === true && useExactCodes(wasm.HEAP);
+  if (slots.length !== 1) throw new Error(`${PACKAGE_CHANGED}: its write callback (function ${PACKAGE_WRITE_CALLBACK}) is in ${slots.length} table slots, not 1`);
+  table.set(slots[0], hook);
+
+  const cells = lib.m(CELLS * 4);
+  const cell = (i: number): number => cells + 4 * i;
+  const ERROR = 6;
+  const STATE = 7;
+  const create = (): number => lib.n(cell(0), cell(1), cell(2), cell(3), cell(4), cell(5), cell(6), cell(7));
+  let handle = create();
+  const text = (ptr: number): string => {
+    const bytes = new Uint8Array(memory.buffer);
+    let end = ptr;
+    while (end < bytes.length && bytes[end] !== 0) end++;
+    return String.fromCharCode(...bytes.subarray(ptr, end));
+  };
 
   return {
-    exactCodes,
     decode(frame) {
-      // The previous frame's output, kept alive for the caller until now.
-      if (lastOut !== 0) wasm.free(lastOut);
-      lastOut = 0;
-      // libFLAC's read callback frees the input once it has consumed it (flac_decoder.c), so each frame gets its own.
-      const input = wasm.malloc(frame.length);
-      new Uint8Array(wasm.HEAP, input, frame.length).set(frame);
-      wasm.decode_frame(handle, input, frame.length);
-      // Views are made after the call: the heap may have grown (and its old buffer detached) meanwhile.
-      const words = new Uint32Array(wasm.HEAP);
-      const errorPtr = words[errorAt];
-      const statePtr = words[stateAt];
-      const samples = words[samplesAt];
-      const out = words[outPtrAt];
-      const length = words[outLenAt];
+      views();
+      words[(cells >> 2) + ERROR] = 0;
+      words[(cells >> 2) + STATE] = 0;
+      written = false;
+      // libFLAC's read callback frees the input once it has consumed it (the package's flac_decoder.c), so each frame gets its own.
+      const input = lib.m(frame.length);
+      new Uint8Array(memory.buffer, input, frame.length).set(frame);
+      lib.p(handle, input, frame.length);
+      views();
+      const errorPtr = words[(cells >> 2) + ERROR];
+      const statePtr = words[(cells >> 2) + STATE];
       let error: string | null = null;
       if (errorPtr !== 0 || statePtr !== 0) {
         const parts: string[] = [];
-        const e = errorPtr !== 0 ? d._common.codeToString(errorPtr) : "";
-        const s = statePtr !== 0 ? d._common.codeToString(statePtr) : "";
+        const e = errorPtr !== 0 ? text(errorPtr) : "";
+        const s = statePtr !== 0 ? text(statePtr) : "";
         if (e) parts.push(`Error: ${e}`);
         if (s) parts.push(`State: ${s}`);
         if (parts.length > 0) error = parts.join("; ");
       }
-      words[samplesAt] = 0;
-      words[outLenAt] = 0;
-      words[outPtrAt] = 0;
-      lastOut = out;
       result.error = error;
-      result.channels = words[channelsAt];
-      result.samples = out !== 0 ? samples : 0;
-      result.data = out !== 0 ? new Float32Array(wasm.HEAP, out, length) : EMPTY;
+      result.codes = codes;
+      if (!written) {
+        result.samples = 0;
+        result.channels = 0;
+        result.offsets.length = 0;
+      }
       return result;
     },
     restart() {
-      if (lastOut !== 0) wasm.free(lastOut);
-      lastOut = 0;
-      wasm.destroy_decoder(handle);
-      handle = wasm.create_decoder(
-        d._channels.ptr, d._sampleRate.ptr, d._bitsPerSample.ptr, d._samplesDecoded.ptr,
-        d._outputBufferPtr.ptr, d._outputBufferLen.ptr, d._errorStringPtr.ptr, d._stateStringPtr.ptr,
-      );
-      // The package's own free() destroys whichever decoder it holds.
-      d._decoder = handle;
+      lib.o(handle);
+      handle = create();
     },
     free() {
-      if (lastOut !== 0) wasm.free(lastOut);
-      lastOut = 0;
-      outer.free();
+      lib.o(handle);
+      lib.l(cells);
     },
   };
 }

@@ -1,7 +1,7 @@
 /**
  * The FLAC reader's stereo rescaling in WebAssembly SIMD (flacRescale.wat, built into flacRescale.generated.ts),
  * loaded through shared/src/wasm/kernelModule.ts: one instance per file, its memory made at full size and
- * never grown, holding the decoded frame (copied in), the block's two planar channels and the MD5 input, so
+ * never grown, holding the decoded frame's codes (copied in), the block's two planar channels and the MD5 input, so
  * the reader hands out views into it. Null where WebAssembly or its SIMD is missing; the reader then runs its
  * JavaScript loops, which give the same results bit for bit (tests/shared/flacRescale.test.ts).
  */
@@ -18,23 +18,20 @@ export interface FlacRescaleLayout {
 }
 
 export interface FlacRescale {
-  /** The decoded frame goes here: channel 0 then channel 1, frameCapacity samples each. */
-  readonly input: Float32Array;
+  /** The decoded frame's codes go here: channel 0 then channel 1, frameCapacity samples each. */
+  readonly input: Int32Array;
   readonly left: Float32Array;
   readonly right: Float32Array;
   readonly md5: Uint8Array;
   /**
-   * `n` frames (a multiple of 4) from sample `from` of `input` into left and right from `to`, and into `md5` from
-   * byte `md5At`, `width` (2 or 3) bytes a code; scale, bias, offset and inverse as in the reader's loop.
+   * `n` frames (a multiple of 4) from sample `from` of `input` into left and right from `to` (each code times
+   * `inverse`), and into `md5` from byte `md5At`, `width` (2 or 3) bytes a code.
    */
-  stereo(from: number, n: number, to: number, md5At: number, width: number, scale: number, bias: number, offset: number, inverse: number): void;
-  /** As `stereo` for an input that holds the codes themselves (integers of at most 24 bits): no rounding needed. */
-  stereoExact(from: number, n: number, to: number, md5At: number, width: number, inverse: number): void;
+  stereo(from: number, n: number, to: number, md5At: number, width: number, inverse: number): void;
 }
 
 interface Exports {
-  stereo(src: number, stride: number, n: number, left: number, right: number, md5: number, width: number, scale: number, bias: number, offset: number, inverse: number): void;
-  stereoExact(src: number, stride: number, n: number, left: number, right: number, md5: number, width: number, inverse: number): void;
+  stereo(src: number, stride: number, n: number, left: number, right: number, md5: number, width: number, inverse: number): void;
 }
 
 const instantiate = kernelModule(WASM_MODULE_BYTES);
@@ -52,15 +49,12 @@ export function createFlacRescale(layout: FlacRescaleLayout): FlacRescale | null
   const k = instance.exports as unknown as Exports;
   const stride = layout.frameCapacity;
   return {
-    input: new Float32Array(buffer, inputAt, 2 * layout.frameCapacity),
+    input: new Int32Array(buffer, inputAt, 2 * layout.frameCapacity),
     left: new Float32Array(buffer, leftAt, layout.blockFrames),
     right: new Float32Array(buffer, rightAt, layout.blockFrames),
     md5: new Uint8Array(buffer, md5At, layout.md5Bytes),
-    stereo(from, n, to, md5Offset, width, scale, bias, offset, inverse) {
-      k.stereo(inputAt + from * 4, stride, n, leftAt + to * 4, rightAt + to * 4, md5At + md5Offset, width, scale, bias, offset, inverse);
-    },
-    stereoExact(from, n, to, md5Offset, width, inverse) {
-      k.stereoExact(inputAt + from * 4, stride, n, leftAt + to * 4, rightAt + to * 4, md5At + md5Offset, width, inverse);
+    stereo(from, n, to, md5Offset, width, inverse) {
+      k.stereo(inputAt + from * 4, stride, n, leftAt + to * 4, rightAt + to * 4, md5At + md5Offset, width, inverse);
     },
   };
 }

@@ -1,51 +1,30 @@
-;; WebAssembly SIMD kernels of the FLAC reader's rescaling (loaded by flacRescale.ts; rebuild
-;; flacRescale.generated.ts with `node --import tsx scripts/generate-wasm-kernels.ts`). libFLAC's WebAssembly
-;; build hands out each code divided by 2^(bits-1) - 1 as float32; these recover the codes, write them on the
-;; reader's scale (2^-(bits-1)) as planar float32, and interleave them little-endian in whole bytes for
-;; STREAMINFO's MD5 (RFC 9639, 8.2), four stereo frames a step. Every lane does the JavaScript loop's IEEE
-;; operations (cli/src/audio/flacStreamDecoder.ts, rescale): x promoted to f64, times scale plus bias, truncated,
-;; minus offset; the float out is code times inverse, exact in float32 for codes of up to 24 bits. So the results
-;; are bit for bit those of the JavaScript path (tests/shared/flacRescale.test.ts).
+;; WebAssembly SIMD kernel of the FLAC reader's rescaling (loaded by flacRescale.ts; rebuild
+;; flacRescale.generated.ts with `node --import tsx scripts/generate-wasm-kernels.ts`). libFLAC hands out each
+;; channel's codes as 32-bit integers (cli/src/audio/libflacFrames.ts); this writes them on the reader's scale
+;; (2^-(bits-1)) as planar float32 and interleaves them little-endian in whole bytes for STREAMINFO's MD5
+;; (RFC 9639, 8.2), four stereo frames a step. Each float is the code converted and times inverse (a power of
+;; 2), the JavaScript loop's operations (cli/src/audio/flacStreamDecoder.ts, rescaleStereo), so the results
+;; are bit for bit that loop's (tests/shared/flacRescale.test.ts).
 (module
   ;; Made by the caller at its full size (shared/src/wasm/kernelModule.ts): growing a memory would detach
   ;; its buffer.
   (import "env" "memory" (memory 1))
 
-  ;; The codes of four frames of one channel: four float32 at byte offset p.
-  (func $codes (param $p i32) (param $scale v128) (param $bias v128) (param $offset v128) (result v128)
-    (local $x v128)
-    (local.set $x (v128.load (local.get $p)))
-    (i32x4.sub
-      (i8x16.shuffle 0 1 2 3 4 5 6 7 16 17 18 19 20 21 22 23
-        (i32x4.trunc_sat_f64x2_s_zero
-          (f64x2.add (f64x2.mul (f64x2.promote_low_f32x4 (local.get $x)) (local.get $scale)) (local.get $bias)))
-        (i32x4.trunc_sat_f64x2_s_zero
-          (f64x2.add
-            (f64x2.mul
-              (f64x2.promote_low_f32x4 (i8x16.shuffle 8 9 10 11 12 13 14 15 0 1 2 3 4 5 6 7 (local.get $x) (local.get $x)))
-              (local.get $scale))
-            (local.get $bias))))
-      (local.get $offset)))
-
-  ;; stereo(src, stride, n, left, right, md5, width, scale, bias, offset, inverse): n frames (a multiple of
-  ;; 4) of two planar float32 channels at byte offsets src and src + 4*stride, into the float32 arrays at
-  ;; left and right and, `width` (2 or 3) bytes a code, the interleaved MD5 input at md5 (any alignment).
+  ;; stereo(src, stride, n, left, right, md5, width, inverse): n frames (a multiple of 4) of two planar int32
+  ;; channels at byte offsets src and src + 4*stride, into the float32 arrays at left and right and, `width`
+  ;; (2 or 3) bytes a code, the interleaved MD5 input at md5 (any alignment).
   (func (export "stereo")
     (param $src i32) (param $stride i32) (param $n i32) (param $left i32) (param $right i32) (param $md5 i32)
-    (param $width i32) (param $scale f64) (param $bias f64) (param $offset i32) (param $inverse f32)
-    (local $srcR i32) (local $end i32) (local $vs v128) (local $vb v128) (local $vo v128) (local $vi v128)
-    (local $l v128) (local $r v128) (local $t v128)
+    (param $width i32) (param $inverse f32)
+    (local $srcR i32) (local $end i32) (local $vi v128) (local $l v128) (local $r v128) (local $t v128)
     (local.set $srcR (i32.add (local.get $src) (i32.shl (local.get $stride) (i32.const 2))))
     (local.set $end (i32.add (local.get $src) (i32.shl (local.get $n) (i32.const 2))))
-    (local.set $vs (f64x2.splat (local.get $scale)))
-    (local.set $vb (f64x2.splat (local.get $bias)))
-    (local.set $vo (i32x4.splat (local.get $offset)))
     (local.set $vi (f32x4.splat (local.get $inverse)))
     (block $done
       (br_if $done (i32.ge_u (local.get $src) (local.get $end)))
       (loop $next
-        (local.set $l (call $codes (local.get $src) (local.get $vs) (local.get $vb) (local.get $vo)))
-        (local.set $r (call $codes (local.get $srcR) (local.get $vs) (local.get $vb) (local.get $vo)))
+        (local.set $l (v128.load (local.get $src)))
+        (local.set $r (v128.load (local.get $srcR)))
         (v128.store (local.get $left) (f32x4.mul (f32x4.convert_i32x4_s (local.get $l)) (local.get $vi)))
         (v128.store (local.get $right) (f32x4.mul (f32x4.convert_i32x4_s (local.get $r)) (local.get $vi)))
         (if (i32.eq (local.get $width) (i32.const 3))
@@ -58,43 +37,6 @@
             (local.set $md5 (i32.add (local.get $md5) (i32.const 24))))
           (else
             ;; Two bytes each: 16 bytes.
-            (v128.store (local.get $md5)
-              (i8x16.shuffle 0 1 16 17 4 5 20 21 8 9 24 25 12 13 28 29 (local.get $l) (local.get $r)))
-            (local.set $md5 (i32.add (local.get $md5) (i32.const 16)))))
-        (local.set $src (i32.add (local.get $src) (i32.const 16)))
-        (local.set $srcR (i32.add (local.get $srcR) (i32.const 16)))
-        (local.set $left (i32.add (local.get $left) (i32.const 16)))
-        (local.set $right (i32.add (local.get $right) (i32.const 16)))
-        (br_if $next (i32.lt_u (local.get $src) (local.get $end))))))
-
-  ;; stereoExact(src, stride, n, left, right, md5, width, inverse): as stereo, for input floats that are the
-  ;; codes themselves (libFLAC with its divisors set to 1, cli/src/audio/libflacFrames.ts): each is an integer of
-  ;; at most 24 bits, so truncation gives the code exactly and times inverse (a power of 2) the sample exactly.
-  (func (export "stereoExact")
-    (param $src i32) (param $stride i32) (param $n i32) (param $left i32) (param $right i32) (param $md5 i32)
-    (param $width i32) (param $inverse f32)
-    (local $srcR i32) (local $end i32) (local $vi v128) (local $x v128) (local $y v128)
-    (local $l v128) (local $r v128) (local $t v128)
-    (local.set $srcR (i32.add (local.get $src) (i32.shl (local.get $stride) (i32.const 2))))
-    (local.set $end (i32.add (local.get $src) (i32.shl (local.get $n) (i32.const 2))))
-    (local.set $vi (f32x4.splat (local.get $inverse)))
-    (block $done
-      (br_if $done (i32.ge_u (local.get $src) (local.get $end)))
-      (loop $next
-        (local.set $x (v128.load (local.get $src)))
-        (local.set $y (v128.load (local.get $srcR)))
-        (local.set $l (i32x4.trunc_sat_f32x4_s (local.get $x)))
-        (local.set $r (i32x4.trunc_sat_f32x4_s (local.get $y)))
-        (v128.store (local.get $left) (f32x4.mul (local.get $x) (local.get $vi)))
-        (v128.store (local.get $right) (f32x4.mul (local.get $y) (local.get $vi)))
-        (if (i32.eq (local.get $width) (i32.const 3))
-          (then
-            (v128.store (local.get $md5)
-              (i8x16.shuffle 0 1 2 16 17 18 4 5 6 20 21 22 8 9 10 24 (local.get $l) (local.get $r)))
-            (local.set $t (i8x16.shuffle 25 26 12 13 14 28 29 30 0 0 0 0 0 0 0 0 (local.get $l) (local.get $r)))
-            (i64.store offset=16 (local.get $md5) (i64x2.extract_lane 0 (local.get $t)))
-            (local.set $md5 (i32.add (local.get $md5) (i32.const 24))))
-          (else
             (v128.store (local.get $md5)
               (i8x16.shuffle 0 1 16 17 4 5 20 21 8 9 24 25 12 13 28 29 (local.get $l) (local.get $r)))
             (local.set $md5 (i32.add (local.get $md5) (i32.const 16)))))
