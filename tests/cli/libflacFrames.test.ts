@@ -65,6 +65,45 @@ describe.runIf(hasFlac)("libFLAC frames, against Debian's flac -d", () => {
     expect(mismatches).toBe(0);
   });
 
+  it("an instance freed after a clean file serves the next ones (pooled): 60 files in turn, every frame as flac -d's", async () => {
+    const flac = path.join(dir, "s16.flac");
+    const raw = path.join(dir, "s16.raw");
+    const pcm = readFileSync(raw);
+    const file = new Uint8Array(readFileSync(flac));
+    const layout = await readFlacLayout(byteSourceFromBytes(file));
+    let mismatches = 0;
+    let checked = 0;
+    for (let round = 0; round < 60; round++) {
+      const frames = await createLibflacFrames();
+      const framer = createFlacFramer(layout.streamInfo, layout.dataOffset, {
+        frame: (bytes, header) => {
+          const a = frames.decode(bytes);
+          for (let c = 0; c < 2; c++) {
+            for (let i = 0; i < a.samples; i += 7) if (a.codes[a.offsets[c] + i] !== pcm.readInt16LE(((header.sampleNumber + i) * 2 + c) * 2)) mismatches++;
+          }
+          checked += a.samples;
+          return true;
+        },
+        gap: () => {
+          throw new Error("unexpected gap");
+        },
+      });
+      framer.push(file.subarray(layout.dataOffset));
+      framer.finish();
+      frames.free();
+    }
+    expect(checked).toBe(60 * 3 * 48000);
+    expect(mismatches).toBe(0);
+  });
+
+  it("decode() after free() is refused (the instance may be another file's by then); free() twice is harmless", async () => {
+    const frames = await createLibflacFrames();
+    frames.free();
+    frames.free();
+    expect(() => frames.decode(new Uint8Array(16))).toThrow(/decode\(\) after free\(\)/);
+    expect(() => frames.restart()).toThrow(/restart\(\) after free\(\)/);
+  });
+
   it("32-bit stereo through the reader: STREAMINFO's MD5 is checked (it holds), and a changed MD5 is a mismatch", async () => {
     const flac = path.join(dir, "s32.flac");
     const bytes = new Uint8Array(readFileSync(flac));
