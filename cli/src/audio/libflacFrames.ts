@@ -64,7 +64,6 @@ const wasmApi = (globalThis as unknown as { WebAssembly: WasmApi }).WebAssembly;
 interface LibflacExports {
   /** Emscripten's constructors, run once an instance is made. */
   k(): void;
-  l(ptr: number): void;
   m(bytes: number): number;
   n(channels: number, sampleRate: number, bitsPerSample: number, samples: number, outPtr: number, outLen: number, error: number, state: number): number;
   o(decoder: number): void;
